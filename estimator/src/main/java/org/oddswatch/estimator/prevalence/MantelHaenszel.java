@@ -61,9 +61,10 @@ public final class MantelHaenszel {
                     + " strata carry no information on the odds ratio (ad = bc = 0) and were skipped");
         }
         if (sumR == 0 || sumS == 0) {
-            notes.add("Mantel-Haenszel odds ratio not computable: it would be "
-                    + (sumR == 0 && sumS == 0 ? "undefined" : sumR == 0 ? "0" : "infinite")
-                    + " (every informative stratum has " + (sumR == 0 ? "ad = 0" : "bc = 0") + ")");
+            notes.add(used == 0
+                    ? "Mantel-Haenszel odds ratio not computable: no stratum carries information"
+                    : "Mantel-Haenszel odds ratio not computable: it would be " + (sumR == 0 ? "0" : "infinite")
+                            + " (every informative stratum has " + (sumR == 0 ? "ad = 0" : "bc = 0") + ")");
             return OddsRatioEstimate.undefined(level, METHOD, strata.size(), used, notes);
         }
         double variance = sumPR / (2 * sumR * sumR) + sumPSQR / (2 * sumR * sumS) + sumQS / (2 * sumS * sumS);
