@@ -1,10 +1,22 @@
 package org.oddswatch.estimator;
 
 import java.time.Instant;
+import java.util.ArrayList;
+import java.util.List;
 import org.oddswatch.estimator.calibration.BaselineModel;
+import org.oddswatch.estimator.fit.FitResult;
+import org.oddswatch.estimator.fit.FitState;
+import org.oddswatch.estimator.prevalence.Prevalence;
+import org.oddswatch.estimator.result.CalibrationEstimate;
+import org.oddswatch.estimator.result.CoefficientEstimate;
+import org.oddswatch.estimator.result.PrevalenceEstimate;
+import org.oddswatch.estimator.result.StratumPrevalence;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.estimator.result.WindowStatus;
+import org.oddswatch.estimator.terms.CategoricalTerm;
+import org.oddswatch.estimator.terms.Column;
 import org.oddswatch.estimator.terms.DesignCoder;
+import org.oddswatch.estimator.terms.Term;
 import org.oddswatch.estimator.window.WindowData;
 
 /**
@@ -15,8 +27,34 @@ import org.oddswatch.estimator.window.WindowData;
  */
 public final class WindowEstimator {
 
+    private final DesignCoder coder;
+    private final EstimatorOptions options;
+    private final CategoricalTerm stratumTerm;
+
+    /**
+     * @throws IllegalArgumentException when {@code options.stratumTerm()} names no categorical term
+     *     of the coder
+     */
     public WindowEstimator(DesignCoder coder, EstimatorOptions options) {
-        throw new UnsupportedOperationException("not implemented yet");
+        this.coder = coder;
+        this.options = options;
+        this.stratumTerm = stratum(coder, options.stratumTerm());
+    }
+
+    private static CategoricalTerm stratum(DesignCoder coder, String name) {
+        if (name == null) {
+            return null;
+        }
+        int t = coder.termIndex(name);
+        if (t < 0 || !(coder.terms().get(t) instanceof CategoricalTerm c)) {
+            throw new IllegalArgumentException("stratum term '" + name + "' is not a categorical term of the model");
+        }
+        return c;
+    }
+
+    /** The stratifying term, or null; a {@code WindowStore} needs its number of levels. */
+    public CategoricalTerm stratumTerm() {
+        return stratumTerm;
     }
 
     /**
@@ -26,7 +64,23 @@ public final class WindowEstimator {
      */
     public WindowEstimate estimate(String stream, Instant windowStart, Instant windowEnd, WindowStatus status,
                                    WindowData data, double[] warmStart, BaselineModel baseline) {
-        throw new UnsupportedOperationException("not implemented yet");
+        if (data.columns() != coder.width()) {
+            throw new IllegalArgumentException("window data has " + data.columns() + " columns, the model "
+                    + coder.width());
+        }
+        List<String> notes = new ArrayList<>();
+        PrevalenceEstimate prevalence = Prevalence.of(data.events(), data.cases(), options, notes::add);
+        List<StratumPrevalence> strata = stratumTerm == null ? List.of()
+                : Prevalence.strata(stratumTerm.name(), stratumTerm.levels(), data.stratumEvents(),
+                data.stratumCases(), options);
+        ModelReport model = ModelReport.of(coder, options, data, warmStart, notes);
+        CalibrationEstimate calibration = baseline == null ? null : calibrate(data, baseline, notes);
+        return new WindowEstimate(stream, windowStart, windowEnd, status, data.events(), data.cases(), prevalence,
+                strata, model.summary, model.coefficients, calibration, notes);
+    }
+
+    private CalibrationEstimate calibrate(WindowData data, BaselineModel baseline, List<String> notes) {
+        return BaselineCalibration.assess(data, baseline, options, notes);
     }
 
     /**
@@ -37,7 +91,26 @@ public final class WindowEstimator {
      */
     public BaselineModel fitBaseline(WindowData data, String periodStart, String periodEnd,
                                      String definitionChecksum) {
-        throw new UnsupportedOperationException("not implemented yet");
+        List<String> notes = new ArrayList<>();
+        ModelReport model = ModelReport.of(coder, options, data, null, notes);
+        FitState state = model.summary.state();
+        if (state == FitState.NO_MODEL || state == FitState.NOT_CONVERGED) {
+            throw new IllegalArgumentException("cannot fit a baseline model on " + periodStart + " to " + periodEnd
+                    + ": " + String.join("; ", notes));
+        }
+        int p = coder.width();
+        FitResult fit = model.modelFit.fit();
+        int[] keep = model.modelFit.keep();
+        double[][] covariance = new double[p][p];
+        if (fit.covariance() != null) {
+            for (int a = 0; a < keep.length; a++) {
+                for (int b = 0; b < keep.length; b++) {
+                    covariance[keep[a]][keep[b]] = fit.covariance()[a][b];
+                }
+            }
+        }
+        return new BaselineModel(coder.columns(), model.modelFit.fullCoefficients(p), covariance, periodStart,
+                periodEnd, data.completeEvents(), data.completePositives(), definitionChecksum);
     }
 
     /**
@@ -45,6 +118,21 @@ public final class WindowEstimator {
      * for a warm start; null when the estimate has no model.
      */
     public double[] coefficientVector(WindowEstimate estimate) {
-        throw new UnsupportedOperationException("not implemented yet");
+        if (estimate == null || estimate.fit() == null || estimate.fit().state() == FitState.NO_MODEL
+                || estimate.coefficients().isEmpty()) {
+            return null;
+        }
+        List<Column> columns = coder.columns();
+        double[] beta = new double[columns.size()];
+        for (int j = 0; j < columns.size(); j++) {
+            CoefficientEstimate c = estimate.coefficient(columns.get(j).term(), columns.get(j).level());
+            beta[j] = c == null ? 0 : c.coef();
+        }
+        return beta;
+    }
+
+    /** The coder's terms, for callers that need them beside the estimator. */
+    public List<Term> terms() {
+        return coder.terms();
     }
 }

@@ -1,0 +1,48 @@
+package org.oddswatch.estimator.fit;
+
+/**
+ * The window model's fitting sequence: drop aliased columns ({@link RankCheck}); fit by Newton
+ * from the warm start (retrying cold); when that fit looks divergent ({@link SeparationCheck#suspicious})
+ * test for separation and, if separated, refit by Firth's penalized likelihood.
+ *
+ * <p>State: separation wins over non-convergence, which wins over rank deficiency; a Firth fit that
+ * does not converge is {@code NOT_CONVERGED}.
+ */
+public final class ModelFitter {
+
+    private ModelFitter() {
+    }
+
+    /**
+     * @param problem the window's problem (must have some positives and some negatives)
+     * @param warm start vector over all columns, or null
+     */
+    public static ModelFit fit(FitProblem problem, double[] warm, FitControl control) {
+        int[] dropped = RankCheck.aliased(problem);
+        int[] keep = RankCheck.kept(problem.columns(), dropped);
+        if (keep.length == 0) {
+            throw new IllegalArgumentException("no column of the design carries information");
+        }
+        FitProblem work = dropped.length == 0 ? problem : problem.selectColumns(keep);
+        double[] start = warm == null || warm.length != problem.columns() ? null : FitDriver.select(warm, keep);
+        FitResult newton = FitDriver.fitFullRank(work, start, null, control, false);
+        if (SeparationCheck.suspicious(newton)) {
+            SeparationCheck.Outcome outcome = SeparationCheck.check(work);
+            boolean byHeuristic = outcome.verdict() == SeparationCheck.Verdict.UNDECIDED;
+            boolean separated = outcome.verdict() == SeparationCheck.Verdict.SEPARATED
+                    || byHeuristic && SeparationCheck.heuristic(newton);
+            if (separated) {
+                FitResult firth = FitDriver.fitFullRank(work, start, null, control, true);
+                int[] involved = new int[outcome.involved().length];
+                for (int a = 0; a < involved.length; a++) {
+                    involved[a] = keep[outcome.involved()[a]];
+                }
+                FitState state = firth.converged() ? FitState.SEPARATION : FitState.NOT_CONVERGED;
+                return new ModelFit(state, work, keep, dropped, firth, involved, byHeuristic);
+            }
+        }
+        FitState state = !newton.converged() ? FitState.NOT_CONVERGED
+                : dropped.length > 0 ? FitState.RANK_DEFICIENT : FitState.CONVERGED;
+        return new ModelFit(state, work, keep, dropped, newton, new int[0], false);
+    }
+}

@@ -1,0 +1,157 @@
+package org.oddswatch.estimator.window;
+
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.HashMap;
+import java.util.List;
+import java.util.Map;
+
+/**
+ * One window step's events: prevalence counts for all accepted events, and the complete cases
+ * either as counts per covariate pattern or, past the pattern limit, as columnar rows (indicator
+ * words, numeric values, outcome bits) in growable primitive arrays.
+ */
+final class Bucket {
+
+    /** Trials and positives of one covariate pattern. */
+    static final class Counts {
+        long trials;
+        long positives;
+    }
+
+    private final RowLayout layout;
+    private final int patternLimit;
+    long events;
+    long cases;
+    final long[] stratumEvents;
+    final long[] stratumCases;
+
+    private Map<PatternKey, Counts> patterns = new HashMap<>();
+    private long[] rowWords;
+    private double[] rowNumerics;
+    private long[] rowOutcomes;
+    private int rowCount;
+
+    Bucket(RowLayout layout, int patternLimit, int strata) {
+        this.layout = layout;
+        this.patternLimit = patternLimit;
+        this.stratumEvents = new long[strata];
+        this.stratumCases = new long[strata];
+    }
+
+    void countEvent(boolean positive, int stratum) {
+        events++;
+        if (positive) {
+            cases++;
+        }
+        if (stratum >= 0) {
+            stratumEvents[stratum]++;
+            if (positive) {
+                stratumCases[stratum]++;
+            }
+        }
+    }
+
+    /** Adds one complete case given its encoded key (the key array is copied when kept). */
+    void addComplete(long[] key, boolean positive) {
+        if (patterns != null) {
+            PatternKey probe = new PatternKey(key);
+            Counts counts = patterns.get(probe);
+            if (counts == null && patterns.size() < patternLimit) {
+                counts = new Counts();
+                patterns.put(new PatternKey(key.clone()), counts);
+            }
+            if (counts != null) {
+                counts.trials++;
+                if (positive) {
+                    counts.positives++;
+                }
+                return;
+            }
+            switchToRows();
+        }
+        appendRow(key, positive);
+    }
+
+    /** Expands the pattern counts into rows, patterns in key order, positives first. */
+    private void switchToRows() {
+        long total = 0;
+        for (Counts c : patterns.values()) {
+            total += c.trials;
+        }
+        int capacity = (int) Math.max(16, Math.min(Integer.MAX_VALUE - 8, total * 2));
+        rowWords = new long[capacity * layout.words];
+        rowNumerics = new double[capacity * layout.numericColumns.length];
+        rowOutcomes = new long[(capacity + 63) / 64];
+        for (PatternKey key : sortedPatterns()) {
+            Counts c = patterns.get(key);
+            for (long k = 0; k < c.trials; k++) {
+                appendRow(key.bits, k < c.positives);
+            }
+        }
+        patterns = null;
+    }
+
+    private void appendRow(long[] key, boolean positive) {
+        int words = layout.words;
+        int numerics = layout.numericColumns.length;
+        if (rowCount == capacity()) {
+            int grown = Math.max(16, rowCount + (rowCount >> 1));
+            rowWords = Arrays.copyOf(rowWords, grown * words);
+            rowNumerics = Arrays.copyOf(rowNumerics, grown * numerics);
+            rowOutcomes = Arrays.copyOf(rowOutcomes, (grown + 63) / 64);
+        }
+        System.arraycopy(key, 0, rowWords, rowCount * words, words);
+        for (int b = 0; b < numerics; b++) {
+            rowNumerics[rowCount * numerics + b] = Double.longBitsToDouble(key[words + b]);
+        }
+        if (positive) {
+            rowOutcomes[rowCount >>> 6] |= 1L << (rowCount & 63);
+        }
+        rowCount++;
+    }
+
+    private int capacity() {
+        if (rowOutcomes == null) {
+            return 0;
+        }
+        return layout.words > 0 ? rowWords.length / layout.words
+                : layout.numericColumns.length > 0 ? rowNumerics.length / layout.numericColumns.length
+                : rowOutcomes.length * 64;
+    }
+
+    boolean inPatternMode() {
+        return patterns != null;
+    }
+
+    List<PatternKey> sortedPatterns() {
+        List<PatternKey> keys = new ArrayList<>(patterns.keySet());
+        keys.sort(null);
+        return keys;
+    }
+
+    Map<PatternKey, Counts> patterns() {
+        return patterns;
+    }
+
+    int rowCount() {
+        return rowCount;
+    }
+
+    /** Writes stored row r into the design at {@code xOffset}; returns its outcome. */
+    boolean decodeRow(int r, double[] x, int xOffset) {
+        layout.decode(rowWords, r * layout.words, rowNumerics, r * layout.numericColumns.length, x, xOffset);
+        return (rowOutcomes[r >>> 6] >>> (r & 63) & 1L) != 0;
+    }
+
+    /** Approximate heap bytes: arrays at capacity, or about 120 bytes per pattern entry plus its key. */
+    long approximateBytes() {
+        long bytes = 64 + 16L * stratumEvents.length;
+        if (patterns != null) {
+            bytes += 48 + patterns.size() * (120L + 8L * layout.keyLength());
+        } else {
+            bytes += 48 + 8L * rowWords.length + 8L * rowNumerics.length + 8L * rowOutcomes.length;
+        }
+        return bytes;
+    }
+}
