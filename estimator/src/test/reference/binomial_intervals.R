@@ -4,7 +4,8 @@
 # Clopper-Pearson: binom.test(x, n)$conf.int
 # Jeffreys:        qbeta(alpha/2, x + 1/2, n - x + 1/2), qbeta(1 - alpha/2, ...); lower 0 at x = 0, upper 1 at x = n
 #                  (Brown, Cai & DasGupta 2001, Statistical Science 16:101)
-out <- if (length(commandArgs(TRUE)) > 0) commandArgs(TRUE)[1] else "src/test/resources/reference/binomial-intervals.csv"
+dir <- if (length(commandArgs(TRUE)) > 0) commandArgs(TRUE)[1] else "src/test/resources/reference"
+out <- file.path(dir, "binomial-intervals.csv")
 grid <- list()
 for (n in c(1, 2, 3, 5, 10, 17, 30, 100, 263, 1000, 10000, 1000000)) {
   xs <- unique(c(0, 1, 2, floor(n / 10), floor(n / 3), floor(n / 2), n - 2, n - 1, n))
