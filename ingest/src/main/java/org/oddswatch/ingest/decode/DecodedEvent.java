@@ -1,0 +1,21 @@
+package org.oddswatch.ingest.decode;
+
+/**
+ * One event as a monitor sees it after decoding and term coding.
+ *
+ * @param id the event id in text form
+ * @param timeMillis event time, epoch milliseconds
+ * @param positive the outcome
+ * @param splitValue the split value in text form, or null without a split
+ * @param row the coded design row (intercept first), or null when a covariate is missing (the event
+ *     counts toward prevalence but is left out of the fit)
+ * @param stratum level index of the stratifying term, or -1
+ * @param missingDetail why the row is null ({@code term: detail}), or null
+ */
+public record DecodedEvent(String id, long timeMillis, boolean positive, String splitValue, double[] row,
+                           int stratum, String missingDetail) {
+
+    public boolean complete() {
+        return row != null;
+    }
+}

@@ -1,0 +1,83 @@
+package org.oddswatch.ingest.definition;
+
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
+import org.oddswatch.alerts.engine.AlertRulesConfig;
+import org.oddswatch.estimator.EstimatorOptions;
+import org.oddswatch.estimator.terms.CategoricalTerm;
+import org.oddswatch.estimator.terms.DesignCoder;
+import org.oddswatch.estimator.terms.Term;
+import org.oddswatch.estimator.window.WindowGeometry;
+
+/**
+ * One validated monitor of a definition file.
+ *
+ * @param name the monitor (and, without a split, stream) name
+ * @param topic the input topic
+ * @param split the split section, or null for one stream
+ * @param baseline the baseline section, or null
+ * @param rules the rule settings, bound from the {@code rules} mapping
+ * @param definitionDir directory of the definition file (relative baseline files resolve against it)
+ * @param checksum SHA-256 (hex) of the model part of the definition (outcome and terms), stored in
+ *     baselines so a baseline fitted under another model is recognised
+ */
+public record MonitorDefinition(String name, String topic, EventSpec event, SplitSpec split, List<TermSpec> terms,
+                                WindowSpec window, EstimateSpec estimates, BaselineSpec baseline,
+                                AlertRulesConfig rules, OutputSpec outputs, Path definitionDir, String checksum) {
+
+    public MonitorDefinition {
+        terms = List.copyOf(terms);
+    }
+
+    /** The estimator terms, in declaration order. */
+    public List<Term> modelTerms() {
+        List<Term> list = new ArrayList<>(terms.size());
+        for (TermSpec spec : terms) {
+            list.add(spec.term());
+        }
+        return list;
+    }
+
+    /** A new design coder for this monitor's terms. */
+    public DesignCoder designCoder() {
+        return new DesignCoder(modelTerms());
+    }
+
+    public WindowGeometry geometry() {
+        return window.geometry();
+    }
+
+    public EstimatorOptions estimatorOptions() {
+        return estimates.options();
+    }
+
+    /** Index of the stratifying term among the terms, or -1. */
+    public int stratumTermIndex() {
+        if (estimates.stratifyBy() == null) {
+            return -1;
+        }
+        for (int t = 0; t < terms.size(); t++) {
+            if (terms.get(t).name().equals(estimates.stratifyBy())) {
+                return t;
+            }
+        }
+        return -1;
+    }
+
+    /** Levels of the stratifying term, 0 for none. */
+    public int strata() {
+        int t = stratumTermIndex();
+        return t < 0 ? 0 : ((CategoricalTerm) terms.get(t).term()).levels().size();
+    }
+
+    /** Event time a stream must keep: one window width plus the allowed lateness, in milliseconds. */
+    public long retentionMillis() {
+        return window.width().toMillis() + window.lateness().toMillis();
+    }
+
+    /** The stream name of a split value: {@code name/value}, or {@code name} without a split. */
+    public String streamName(String splitValue) {
+        return splitValue == null ? name : name + "/" + splitValue;
+    }
+}

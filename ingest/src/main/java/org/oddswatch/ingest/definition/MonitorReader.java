@@ -1,0 +1,302 @@
+package org.oddswatch.ingest.definition;
+
+import com.fasterxml.jackson.databind.DeserializationFeature;
+import com.fasterxml.jackson.databind.JsonMappingException;
+import com.fasterxml.jackson.databind.JsonNode;
+import java.io.IOException;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.time.Duration;
+import java.time.Instant;
+import java.util.List;
+import java.util.Map;
+import java.util.Set;
+import java.util.regex.Pattern;
+import org.oddswatch.alerts.engine.AlertRulesConfig;
+import org.oddswatch.alerts.json.Json;
+import org.oddswatch.estimator.terms.CategoricalTerm;
+
+/** Reads and validates one element of {@code monitors}. */
+final class MonitorReader {
+
+    private static final Pattern NAME = Pattern.compile("[A-Za-z0-9][A-Za-z0-9._-]*");
+    private static final Set<String> PREVALENCE_METHODS = Set.of("wilson", "clopper-pearson", "jeffreys");
+
+    private final DefNode node;
+    private final Path definitionDir;
+
+    MonitorReader(DefNode node, Path definitionDir) {
+        this.node = node;
+        this.definitionDir = definitionDir;
+    }
+
+    MonitorDefinition read() throws DefinitionException {
+        node.mapping("name", "input", "event", "split", "terms", "window", "estimates", "baseline", "rules",
+                "outputs");
+        DefNode nameNode = node.require("name");
+        String name = nameNode.name();
+        if (!NAME.matcher(name).matches()) {
+            throw nameNode.error("'" + name + "' is not a valid monitor name (letters, digits, '.', '_', '-')");
+        }
+        DefNode input = node.require("input").mapping("topic");
+        String topic = input.require("topic").name();
+        EventSpec event = event(node.require("event"));
+        SplitSpec split = split(node.get("split"));
+        List<TermSpec> terms = new TermReader(node.get("terms")).read();
+        WindowSpec window = window(node.require("window"));
+        EstimateSpec estimates = estimates(node.get("estimates"), terms);
+        BaselineSpec baseline = baseline(node.get("baseline"), window);
+        AlertRulesConfig rules = rules(node.get("rules"), terms);
+        OutputSpec outputs = outputs(node.get("outputs"));
+        String checksum = DefinitionChecksum.of(event.outcome(), terms);
+        return new MonitorDefinition(name, topic, event, split, terms, window, estimates, baseline, rules, outputs,
+                definitionDir, checksum);
+    }
+
+    private static EventSpec event(DefNode event) throws DefinitionException {
+        event.mapping("id", "time", "maxFutureSkew", "outcome");
+        DefNode outcome = event.require("outcome").mapping("field", "positive", "negative");
+        List<String> positive = values(outcome.get("positive"), List.of("positive", "true", "1"));
+        List<String> negative = values(outcome.get("negative"), List.of("negative", "false", "0"));
+        for (String value : positive) {
+            if (negative.contains(value)) {
+                throw outcome.get("negative").error("'" + value + "' is listed as both positive and negative");
+            }
+        }
+        return new EventSpec(event.require("id").pointer(), event.require("time").pointer(),
+                DefinitionLoader.notNegative(event.get("maxFutureSkew"), Duration.ofDays(1)),
+                new OutcomeSpec(outcome.require("field").pointer(), positive, negative));
+    }
+
+    private static List<String> values(DefNode node, List<String> fallback) throws DefinitionException {
+        if (!node.present()) {
+            return fallback;
+        }
+        List<String> values = node.json().isArray() ? node.texts() : List.of(node.text());
+        if (values.isEmpty()) {
+            throw node.error("at least one value is needed");
+        }
+        return values;
+    }
+
+    private static SplitSpec split(DefNode split) throws DefinitionException {
+        if (!split.present()) {
+            return null;
+        }
+        split.mapping("field", "maxStreams");
+        int maxStreams = split.get("maxStreams").integer(64);
+        if (maxStreams < 1) {
+            throw split.get("maxStreams").error("must be at least 1");
+        }
+        return new SplitSpec(split.require("field").pointer(), maxStreams);
+    }
+
+    private static WindowSpec window(DefNode window) throws DefinitionException {
+        window.mapping("width", "step", "lateness", "align");
+        DefNode widthNode = window.require("width");
+        Duration width = DefinitionLoader.positive(widthNode, null);
+        Duration step = DefinitionLoader.positive(window.require("step"), null);
+        if (width.toMillis() % step.toMillis() != 0 || width.compareTo(step) < 0) {
+            throw widthNode.error("width " + width + " is not a whole multiple of step " + step);
+        }
+        Duration lateness = DefinitionLoader.notNegative(window.get("lateness"), Duration.ZERO);
+        Instant align = window.get("align").present() ? window.get("align").instant() : Instant.EPOCH;
+        return new WindowSpec(width, step, lateness, align);
+    }
+
+    private static EstimateSpec estimates(DefNode node, List<TermSpec> terms) throws DefinitionException {
+        if (node.present()) {
+            node.mapping("level", "prevalenceInterval", "stratifyBy", "minEventsPerParameter", "testAccuracy",
+                    "patternLimit", "profileIntervals");
+        }
+        DefNode levelNode = node.get("level");
+        double level = levelNode.number(0.95);
+        if (!(level > 0 && level < 1)) {
+            throw levelNode.error("must be between 0 and 1, for example 0.95");
+        }
+        DefNode methodNode = node.get("prevalenceInterval");
+        String method = methodNode.text("wilson");
+        if (!PREVALENCE_METHODS.contains(method)) {
+            throw methodNode.error("'" + method + "' is not one of clopper-pearson, jeffreys, wilson");
+        }
+        DefNode stratifyNode = node.get("stratifyBy");
+        String stratifyBy = stratifyNode.present() ? stratifyNode.name() : null;
+        if (stratifyBy != null) {
+            TermSpec term = terms.stream().filter(t -> t.name().equals(stratifyBy)).findFirst().orElse(null);
+            if (term == null) {
+                throw stratifyNode.error("'" + stratifyBy + "' is not a declared term");
+            }
+            if (!(term.term() instanceof CategoricalTerm)) {
+                throw stratifyNode.error("'" + stratifyBy + "' must be a categorical term");
+            }
+        }
+        DefNode epp = node.get("minEventsPerParameter");
+        double minEvents = epp.number(10);
+        if (!(minEvents > 0)) {
+            throw epp.error("must be positive");
+        }
+        Double sensitivity = null;
+        Double specificity = null;
+        DefNode accuracy = node.get("testAccuracy");
+        if (accuracy.present()) {
+            accuracy.mapping("sensitivity", "specificity");
+            sensitivity = probability(accuracy.require("sensitivity"));
+            specificity = probability(accuracy.require("specificity"));
+            if (sensitivity + specificity <= 1) {
+                throw accuracy.error("sensitivity + specificity must exceed 1 for the Rogan-Gladen adjustment");
+            }
+        }
+        DefNode limitNode = node.get("patternLimit");
+        int patternLimit = limitNode.integer(4096);
+        if (patternLimit < 1) {
+            throw limitNode.error("must be at least 1");
+        }
+        return new EstimateSpec(level, method, stratifyBy, minEvents, sensitivity, specificity, patternLimit,
+                node.get("profileIntervals").bool(true));
+    }
+
+    private static double probability(DefNode node) throws DefinitionException {
+        double value = node.number();
+        if (!(value > 0 && value <= 1)) {
+            throw node.error("must be a proportion in (0, 1]");
+        }
+        return value;
+    }
+
+    private BaselineSpec baseline(DefNode node, WindowSpec window) throws DefinitionException {
+        if (!node.present()) {
+            return null;
+        }
+        node.mapping("from", "to", "file");
+        DefNode file = node.get("file");
+        if (file.present()) {
+            if (node.get("from").present() || node.get("to").present()) {
+                throw file.error("give either a fixed period (from, to) or a frozen baseline file, not both");
+            }
+            BaselineSpec spec = new BaselineSpec(null, null, file.name());
+            if (!spec.file().contains("{split}")) {
+                Path path = spec.fileFor(definitionDir, null);
+                if (!Files.isRegularFile(path)) {
+                    throw file.error("baseline file " + path + " does not exist");
+                }
+            }
+            return spec;
+        }
+        DefNode fromNode = node.require("from");
+        DefNode toNode = node.require("to");
+        Instant from = fromNode.instant();
+        Instant to = toNode.instant();
+        if (!from.isBefore(to)) {
+            throw toNode.error("the baseline period must end after it starts (" + from + ")");
+        }
+        if (Duration.between(from, to).compareTo(window.step()) < 0) {
+            throw toNode.error("the baseline period is shorter than one window step (" + window.step() + ")");
+        }
+        return new BaselineSpec(from, to, null);
+    }
+
+    /**
+     * Binds {@code rules} into the alert engine's settings (unknown keys are errors), and checks that
+     * every {@code term}/{@code terms} value in it names a declared, watched term.
+     */
+    private static AlertRulesConfig rules(DefNode node, List<TermSpec> terms) throws DefinitionException {
+        if (!node.present()) {
+            return AlertRulesConfig.defaults();
+        }
+        JsonNode json = node.json();
+        if (!json.isObject()) {
+            throw node.error("expected a mapping of rule settings");
+        }
+        checkTermReferences(node, terms);
+        try {
+            return Json.mapper().readerFor(AlertRulesConfig.class)
+                    .with(DeserializationFeature.FAIL_ON_UNKNOWN_PROPERTIES)
+                    .readValue(json);
+        } catch (JsonMappingException e) {
+            StringBuilder path = new StringBuilder(node.path());
+            for (JsonMappingException.Reference ref : e.getPath()) {
+                if (ref.getFieldName() != null) {
+                    path.append('.').append(ref.getFieldName());
+                } else if (ref.getIndex() >= 0) {
+                    path.append('[').append(ref.getIndex()).append(']');
+                }
+            }
+            String problem = e instanceof com.fasterxml.jackson.databind.exc.UnrecognizedPropertyException
+                    ? "unknown rule setting" : e.getOriginalMessage();
+            throw node.tree().error(path.toString(), problem);
+        } catch (IOException e) {
+            throw node.error(e.getMessage());
+        }
+    }
+
+    private static void checkTermReferences(DefNode node, List<TermSpec> terms) throws DefinitionException {
+        JsonNode json = node.json();
+        if (json.isObject()) {
+            for (Map.Entry<String, JsonNode> field : (Iterable<Map.Entry<String, JsonNode>>) json::fields) {
+                DefNode child = node.get(field.getKey());
+                if (field.getKey().equals("term") && field.getValue().isTextual()) {
+                    checkWatched(child, child.text(), terms);
+                } else if (field.getKey().equals("terms") && field.getValue().isArray()) {
+                    for (DefNode element : child.elements()) {
+                        if (element.json().isTextual()) {
+                            checkWatched(element, element.text(), terms);
+                        } else {
+                            checkTermReferences(element, terms);
+                        }
+                    }
+                } else {
+                    checkTermReferences(child, terms);
+                }
+            }
+        } else if (json.isArray()) {
+            for (DefNode element : node.elements()) {
+                checkTermReferences(element, terms);
+            }
+        }
+    }
+
+    private static void checkWatched(DefNode where, String name, List<TermSpec> terms) throws DefinitionException {
+        for (TermSpec spec : terms) {
+            if (spec.name().equals(name)) {
+                if (!spec.term().watched()) {
+                    throw where.error("term '" + name + "' is not watched (set watched: true on it)");
+                }
+                return;
+            }
+        }
+        throw where.error("'" + name + "' is not a declared term");
+    }
+
+    private static OutputSpec outputs(DefNode node) throws DefinitionException {
+        if (node.present()) {
+            node.mapping("estimatesTopic", "rejectsTopic", "alertsTopic", "estimatesFile", "webhook");
+        }
+        WebhookSpec webhook = null;
+        DefNode hook = node.get("webhook");
+        if (hook.present()) {
+            hook.mapping("url", "timeout", "attempts");
+            DefNode urlNode = hook.require("url");
+            String url = urlNode.name();
+            if (!url.startsWith("http://") && !url.startsWith("https://")) {
+                throw urlNode.error("'" + url + "' is not an http:// or https:// address");
+            }
+            int attempts = hook.get("attempts").integer(4);
+            if (attempts < 1) {
+                throw hook.get("attempts").error("must be at least 1");
+            }
+            webhook = new WebhookSpec(url, DefinitionLoader.positive(hook.get("timeout"), Duration.ofSeconds(5)),
+                    attempts);
+        }
+        DefNode file = node.get("estimatesFile");
+        return new OutputSpec(node.get("estimatesTopic").text("oddswatch-estimates"),
+                node.get("rejectsTopic").text("oddswatch-rejects"), node.get("alertsTopic").text("oddswatch-alerts"),
+                file.present() ? file.name() : null, webhook);
+    }
+
+    /** Duplicate-name guard shared with {@link TermReader}. */
+    static void requireUnique(Set<String> seen, String name, DefNode where, String what) throws DefinitionException {
+        if (!seen.add(name)) {
+            throw where.error(what + " '" + name + "' is declared twice");
+        }
+    }
+}

@@ -1,0 +1,154 @@
+package org.oddswatch.ingest.definition;
+
+import java.util.ArrayList;
+import java.util.HashSet;
+import java.util.List;
+import java.util.Locale;
+import java.util.Set;
+import java.util.regex.Pattern;
+import org.oddswatch.estimator.terms.BinaryTerm;
+import org.oddswatch.estimator.terms.CategoricalTerm;
+import org.oddswatch.estimator.terms.Column;
+import org.oddswatch.estimator.terms.NumericTerm;
+import org.oddswatch.estimator.terms.Term;
+import org.oddswatch.estimator.terms.UndeclaredLevelPolicy;
+
+/** Reads the {@code terms} list of a monitor: structured terms, never a formula string. */
+final class TermReader {
+
+    private static final Pattern NAME = Pattern.compile("[A-Za-z_][A-Za-z0-9_]*");
+
+    private final DefNode node;
+
+    TermReader(DefNode node) {
+        this.node = node;
+    }
+
+    List<TermSpec> read() throws DefinitionException {
+        List<TermSpec> terms = new ArrayList<>();
+        if (!node.present()) {
+            return terms;
+        }
+        if (node.json().isTextual()) {
+            throw node.error("terms are a list of mappings (name, field, kind, ...), not a formula");
+        }
+        Set<String> names = new HashSet<>();
+        for (DefNode element : node.elements()) {
+            TermSpec term = term(element);
+            MonitorReader.requireUnique(names, term.name(), element.get("name"), "term");
+            terms.add(term);
+        }
+        return terms;
+    }
+
+    private static TermSpec term(DefNode element) throws DefinitionException {
+        if (!element.json().isObject()) {
+            throw element.error("expected a mapping with name, field and kind");
+        }
+        DefNode kindNode = element.require("kind");
+        String kind = kindNode.text().toLowerCase(Locale.ROOT);
+        switch (kind) {
+            case "binary":
+                element.mapping("name", "field", "kind", "level", "reference", "undeclared", "watched");
+                break;
+            case "categorical":
+                element.mapping("name", "field", "kind", "levels", "reference", "undeclared", "catchAll", "watched");
+                break;
+            case "numeric":
+                element.mapping("name", "field", "kind", "per", "watched");
+                break;
+            default:
+                throw kindNode.error("'" + kindNode.text() + "' is not one of binary, categorical, numeric");
+        }
+        DefNode nameNode = element.require("name");
+        String name = nameNode.name();
+        if (!NAME.matcher(name).matches()) {
+            throw nameNode.error("'" + name + "' is not a valid term name (letters, digits and '_', not starting with a digit)");
+        }
+        if (name.equals(Column.INTERCEPT)) {
+            throw nameNode.error("'intercept' is reserved for the constant term");
+        }
+        var field = element.require("field").pointer();
+        boolean watched = element.get("watched").bool(false);
+        Term term;
+        switch (kind) {
+            case "binary":
+                term = binary(element, name, watched);
+                break;
+            case "categorical":
+                term = categorical(element, name, watched);
+                break;
+            default:
+                DefNode per = element.get("per");
+                double unit = per.number(1.0);
+                if (!(unit > 0) || Double.isInfinite(unit)) {
+                    throw per.error("must be a positive number");
+                }
+                term = new NumericTerm(name, unit, watched);
+        }
+        return new TermSpec(field, term);
+    }
+
+    private static Term binary(DefNode element, String name, boolean watched) throws DefinitionException {
+        String level = element.get("level").text("yes");
+        DefNode referenceNode = element.get("reference");
+        String reference = referenceNode.text("no");
+        if (level.equals(reference)) {
+            throw referenceNode.present() ? referenceNode.error("reference must differ from level '" + level + "'")
+                    : element.get("level").error("level must differ from the reference 'no'");
+        }
+        UndeclaredLevelPolicy policy = policy(element.get("undeclared"));
+        if (policy == UndeclaredLevelPolicy.POOL) {
+            throw element.get("undeclared").error("pool is for categorical terms; use reject or missing");
+        }
+        return new BinaryTerm(name, level, reference, policy, watched);
+    }
+
+    private static Term categorical(DefNode element, String name, boolean watched) throws DefinitionException {
+        DefNode levelsNode = element.require("levels");
+        List<String> levels = new ArrayList<>();
+        Set<String> seen = new HashSet<>();
+        for (DefNode levelNode : levelsNode.elements()) {
+            String level = levelNode.text();
+            MonitorReader.requireUnique(seen, level, levelNode, "level");
+            levels.add(level);
+        }
+        if (levels.size() < 2) {
+            throw levelsNode.error("a categorical term needs at least two levels");
+        }
+        DefNode referenceNode = element.require("reference");
+        String reference = referenceNode.text();
+        if (!levels.contains(reference)) {
+            throw referenceNode.error("level '" + reference + "' is not one of the declared levels");
+        }
+        DefNode undeclaredNode = element.get("undeclared");
+        UndeclaredLevelPolicy policy = policy(undeclaredNode);
+        DefNode catchAllNode = element.get("catchAll");
+        String catchAll = catchAllNode.present() ? catchAllNode.text() : null;
+        if (policy == UndeclaredLevelPolicy.POOL) {
+            if (catchAll == null) {
+                throw undeclaredNode.error("pool needs a catchAll level");
+            }
+            if (!levels.contains(catchAll)) {
+                throw catchAllNode.error("level '" + catchAll + "' is not one of the declared levels");
+            }
+        } else if (catchAll != null) {
+            throw catchAllNode.error("catchAll is only used with undeclared: pool");
+        }
+        return new CategoricalTerm(name, levels, reference, policy, catchAll, watched);
+    }
+
+    private static UndeclaredLevelPolicy policy(DefNode node) throws DefinitionException {
+        String text = node.text("reject");
+        switch (text) {
+            case "reject":
+                return UndeclaredLevelPolicy.REJECT;
+            case "missing":
+                return UndeclaredLevelPolicy.MISSING;
+            case "pool":
+                return UndeclaredLevelPolicy.POOL;
+            default:
+                throw node.error("'" + text + "' is not one of reject, missing, pool");
+        }
+    }
+}

@@ -1,0 +1,12 @@
+package org.oddswatch.ingest.definition;
+
+import com.fasterxml.jackson.core.JsonPointer;
+import org.oddswatch.estimator.terms.Term;
+
+/** One model term: the estimator's term and the event field (JSON Pointer) it reads. */
+public record TermSpec(JsonPointer field, Term term) {
+
+    public String name() {
+        return term.name();
+    }
+}

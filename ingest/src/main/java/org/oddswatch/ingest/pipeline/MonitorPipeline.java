@@ -1,0 +1,319 @@
+package org.oddswatch.ingest.pipeline;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import java.io.IOException;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import io.micrometer.core.instrument.Gauge;
+import io.micrometer.core.instrument.MeterRegistry;
+import org.oddswatch.alerts.engine.ReplayHint;
+import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.estimator.WindowEstimator;
+import org.oddswatch.estimator.calibration.BaselineModel;
+import org.oddswatch.estimator.window.WindowStore;
+import org.oddswatch.ingest.decode.DecodedEvent;
+import org.oddswatch.ingest.decode.EventDecoder;
+import org.oddswatch.ingest.decode.RecordParser;
+import org.oddswatch.ingest.decode.RejectReason;
+import org.oddswatch.ingest.decode.Rejection;
+import org.oddswatch.ingest.definition.BaselineSpec;
+import org.oddswatch.ingest.definition.MonitorConfig;
+import org.oddswatch.ingest.definition.MonitorDefinition;
+
+/**
+ * The path of one input (topic or file): parse each record once, hand it to every monitor reading
+ * the input, route it to the stream of its split value, apply the time rules and dedupe, update the
+ * windows, close windows as the watermark passes them, run the alert rules, and report everything to
+ * a {@link PipelineListener}. Every record ends in exactly one counted outcome per monitor, and once in
+ * the record totals. Deterministic: the same records in the same order give the same output, byte for
+ * byte. Not thread-safe: one pipeline, one thread.
+ */
+public final class MonitorPipeline {
+
+    /** One monitor's decoder, estimator and streams. */
+    private static final class MonitorRoute {
+        final MonitorDefinition monitor;
+        final EventDecoder decoder;
+        final WindowEstimator estimator;
+        final BaselineModel sharedBaseline;
+        final Map<String, StreamState> streams = new LinkedHashMap<>();
+        final OutcomeCounts unrouted = new OutcomeCounts();
+
+        MonitorRoute(MonitorDefinition monitor, BaselineModel sharedBaseline) {
+            this.monitor = monitor;
+            this.decoder = new EventDecoder(monitor);
+            this.estimator = new WindowEstimator(decoder.coder(), monitor.estimatorOptions());
+            this.sharedBaseline = sharedBaseline;
+        }
+    }
+
+    private final String input;
+    private final List<MonitorRoute> routes = new ArrayList<>();
+    private final Map<String, StreamState> streamsByName = new LinkedHashMap<>();
+    private final PipelineListener listener;
+    private final PipelineSettings settings;
+    private final RecordParser parser;
+    private final OutcomeCounts totals = new OutcomeCounts();
+    private final Map<String, List<Alert>> pendingRestore = new LinkedHashMap<>();
+    private long rebuilt;
+
+    /**
+     * @param input the topic or file name, for status
+     * @param monitors the monitors reading this input, in definition order
+     * @throws IllegalArgumentException when a frozen baseline file (without {@code {split}}) cannot be read
+     */
+    public MonitorPipeline(String input, List<MonitorDefinition> monitors, PipelineListener listener,
+                           PipelineSettings settings) {
+        this.input = input;
+        this.listener = listener;
+        this.settings = settings;
+        this.parser = new RecordParser(settings.limits());
+        for (MonitorDefinition monitor : monitors) {
+            BaselineModel shared = null;
+            BaselineSpec spec = monitor.baseline();
+            if (spec != null && !spec.isFixedPeriod() && !spec.file().contains("{split}")) {
+                Path file = spec.fileFor(monitor.definitionDir(), null);
+                try {
+                    shared = settings.baselines().read(file, monitor);
+                } catch (IOException | RuntimeException e) {
+                    throw new IllegalArgumentException("monitor " + monitor.name() + ": cannot read baseline file "
+                            + file + ": " + e.getMessage(), e);
+                }
+            }
+            routes.add(new MonitorRoute(monitor, shared));
+        }
+    }
+
+    /**
+     * The pipeline of one Kafka partition: the monitors reading {@code topic}, the definition's record
+     * limits, baseline files in the alerts format, and replay hints naming the topic.
+     *
+     * @param registry meter registry for a gauge of this partition's streams, or null
+     */
+    public static MonitorPipeline forPartition(MonitorConfig config, String topic, int partition,
+                                               PipelineListener listener, MeterRegistry registry) {
+        PipelineSettings settings = PipelineSettings.defaults()
+                .withLimits(config.limits())
+                .withReplayHint(new ReplayHint(config.file(), null, topic));
+        MonitorPipeline pipeline = new MonitorPipeline(topic + "-" + partition, config.monitorsFor(topic), listener,
+                settings);
+        if (registry != null) {
+            Gauge.builder("oddswatch.pipeline.streams", pipeline, p -> p.streamsByName.size())
+                    .description("streams held by one partition's pipeline")
+                    .tag("topic", topic)
+                    .tag("partition", Integer.toString(partition))
+                    .register(registry);
+        }
+        return pipeline;
+    }
+
+    public String input() {
+        return input;
+    }
+
+    /** The watermark (largest event time) of a stream, or {@link Long#MIN_VALUE} when unknown. */
+    public long watermark(String stream) {
+        StreamState state = streamsByName.get(stream);
+        return state == null ? Long.MIN_VALUE : state.watermark();
+    }
+
+    /** The status of every stream, in monitor then creation order. */
+    public List<StreamStatus> streamStatus() {
+        return snapshot().streams();
+    }
+
+    /**
+     * Offers one record value.
+     *
+     * @param suppressOutput true while rebuilding state: state is updated, nothing is emitted and
+     *     nothing is counted (the record was handled before the restart)
+     * @return the record's outcome (accepted when any monitor accepted it)
+     */
+    public RecordOutcome offer(byte[] value, RecordOrigin origin, boolean suppressOutput) {
+        RecordParser.Parsed parsed = parser.parse(value);
+        if (!parsed.ok()) {
+            return offerUnreadable(value, origin, parsed.rejection().reason(), parsed.rejection().detail(),
+                    suppressOutput);
+        }
+        return offerTree(parsed.tree(), value, origin, suppressOutput);
+    }
+
+    /** Offers a record that is already a JSON tree (a CSV row); {@code original} is kept for rejects. */
+    public RecordOutcome offerTree(JsonNode tree, byte[] original, RecordOrigin origin, boolean suppressOutput) {
+        RecordOutcome overall = null;
+        for (MonitorRoute route : routes) {
+            RecordOutcome outcome = offerTo(route, tree, original, origin, suppressOutput);
+            if (overall == null || (outcome.accepted() && !overall.accepted())) {
+                overall = outcome;
+            }
+        }
+        if (overall == null) {
+            overall = RecordOutcome.rejected(RejectReason.MISSING_FIELD, "no monitor reads this input");
+        }
+        count(totals, overall, suppressOutput);
+        return overall;
+    }
+
+    /** Counts and reports a record that could not be read at all (before any monitor saw it). */
+    public RecordOutcome offerUnreadable(byte[] original, RecordOrigin origin, String reason, String detail,
+                                         boolean suppressOutput) {
+        RecordOutcome outcome = RecordOutcome.rejected(reason, detail);
+        for (MonitorRoute route : routes) {
+            count(route.unrouted, outcome, suppressOutput);
+        }
+        count(totals, outcome, suppressOutput);
+        if (!suppressOutput) {
+            listener.onReject(new RejectedRecord(null, null, Outcome.REJECTED, reason, detail, origin, original));
+        }
+        return outcome;
+    }
+
+    private RecordOutcome offerTo(MonitorRoute route, JsonNode tree, byte[] original, RecordOrigin origin,
+                                  boolean suppress) {
+        EventDecoder.Result decoded = route.decoder.decode(tree);
+        if (!decoded.ok()) {
+            return rejectUnrouted(route, null, decoded.rejection(), original, origin, suppress);
+        }
+        DecodedEvent event = decoded.event();
+        if (!settings.inRange(event.timeMillis())) {
+            RecordOutcome outcome = RecordOutcome.rejected(RejectReason.OUTSIDE_RANGE, "outside the replay range");
+            count(route.unrouted, outcome, suppress);
+            return outcome;
+        }
+        StreamState stream = route.streams.get(event.splitValue());
+        String streamName = route.monitor.streamName(event.splitValue());
+        if (stream == null) {
+            if (route.monitor.split() != null && route.streams.size() >= route.monitor.split().maxStreams()) {
+                return rejectUnrouted(route, streamName, new Rejection(RejectReason.TOO_MANY_STREAMS,
+                        "split value '" + event.splitValue() + "' would be stream " + (route.streams.size() + 1)
+                                + " of at most " + route.monitor.split().maxStreams()), original, origin, suppress);
+            }
+            stream = newStream(route, streamName, event.splitValue());
+        }
+        RecordOutcome outcome = stream.offer(event, suppress);
+        count(stream.counts(), outcome, suppress);
+        if (!suppress && (outcome.outcome() == Outcome.REJECTED || outcome.outcome() == Outcome.LATE)) {
+            listener.onReject(new RejectedRecord(route.monitor.name(), streamName, outcome.outcome(),
+                    outcome.reason(), outcome.detail(), origin, original));
+        }
+        return outcome;
+    }
+
+    private RecordOutcome rejectUnrouted(MonitorRoute route, String stream, Rejection rejection, byte[] original,
+                                         RecordOrigin origin, boolean suppress) {
+        RecordOutcome outcome = RecordOutcome.rejected(rejection.reason(), rejection.detail());
+        count(route.unrouted, outcome, suppress);
+        if (!suppress) {
+            listener.onReject(new RejectedRecord(route.monitor.name(), stream, Outcome.REJECTED, rejection.reason(),
+                    rejection.detail(), origin, original));
+        }
+        return outcome;
+    }
+
+    private StreamState newStream(MonitorRoute route, String name, String splitValue) {
+        MonitorDefinition monitor = route.monitor;
+        int strata = monitor.strata();
+        int patternLimit = monitor.estimates().patternLimit();
+        WindowStore store = new WindowStore(route.decoder.coder(), patternLimit, strata);
+        BaselineSpec spec = monitor.baseline();
+        WindowStore baselineStore = null;
+        BaselineModel fileBaseline = route.sharedBaseline;
+        String note = null;
+        if (spec != null && spec.isFixedPeriod()) {
+            baselineStore = new WindowStore(route.decoder.coder(), patternLimit, strata);
+        } else if (spec != null && fileBaseline == null) {
+            Path file = spec.fileFor(monitor.definitionDir(), splitValue);
+            try {
+                fileBaseline = settings.baselines().read(file, monitor);
+            } catch (IOException | RuntimeException e) {
+                note = "cannot read baseline file " + file + ": " + e.getMessage();
+            }
+        }
+        StreamState stream = new StreamState(name, monitor, route.estimator, store, baselineStore, fileBaseline, note,
+                listener, settings.replayHint());
+        List<Alert> restore = pendingRestore.remove(name);
+        if (restore != null) {
+            stream.restore(restore);
+        }
+        route.streams.put(splitValue, stream);
+        streamsByName.put(name, stream);
+        return stream;
+    }
+
+    private void count(OutcomeCounts counts, RecordOutcome outcome, boolean suppress) {
+        if (suppress) {
+            if (counts == totals) {
+                rebuilt++;
+            }
+        } else {
+            counts.add(outcome);
+        }
+    }
+
+    /** Emits an interim estimate of every stream's open window (live refresh tick). */
+    public void emitInterim() {
+        for (StreamState stream : streamsByName.values()) {
+            stream.emitInterim();
+        }
+    }
+
+    /** Moves a stream's watermark to {@code eventTime} if later (idle timeout, live only). */
+    public void advanceWatermark(String stream, long eventTime) {
+        StreamState state = streamsByName.get(stream);
+        if (state != null) {
+            state.advanceWatermark(eventTime, false);
+        }
+    }
+
+    /** End of input: closes every window that has received events, in stream creation order. */
+    public void closeAll() {
+        for (StreamState stream : streamsByName.values()) {
+            stream.closeAll();
+        }
+    }
+
+    /**
+     * Restores open alert episodes published before a restart; alerts of streams not seen yet are kept
+     * until the stream's first event.
+     */
+    public void restoreAlerts(List<Alert> published) {
+        Map<String, List<Alert>> byStream = new LinkedHashMap<>();
+        for (Alert alert : published) {
+            byStream.computeIfAbsent(alert.stream(), s -> new ArrayList<>()).add(alert);
+        }
+        for (Map.Entry<String, List<Alert>> entry : byStream.entrySet()) {
+            StreamState stream = streamsByName.get(entry.getKey());
+            if (stream != null) {
+                stream.restore(entry.getValue());
+            } else {
+                pendingRestore.computeIfAbsent(entry.getKey(), s -> new ArrayList<>()).addAll(entry.getValue());
+            }
+        }
+    }
+
+    /** Stream names in creation order. */
+    public List<String> streams() {
+        return new ArrayList<>(streamsByName.keySet());
+    }
+
+    /** The counts by record (one outcome per record). */
+    public OutcomeCounts.Snapshot totals() {
+        return totals.snapshot();
+    }
+
+    public PipelineSnapshot snapshot() {
+        List<PipelineSnapshot.MonitorStatus> monitors = new ArrayList<>();
+        List<StreamStatus> streams = new ArrayList<>();
+        for (MonitorRoute route : routes) {
+            monitors.add(new PipelineSnapshot.MonitorStatus(route.monitor.name(), route.streams.size(),
+                    route.unrouted.snapshot()));
+            for (StreamState stream : route.streams.values()) {
+                streams.add(stream.status());
+            }
+        }
+        return new PipelineSnapshot(input, totals.snapshot(), rebuilt, monitors, streams);
+    }
+}

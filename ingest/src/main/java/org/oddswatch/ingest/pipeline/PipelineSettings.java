@@ -1,0 +1,43 @@
+package org.oddswatch.ingest.pipeline;
+
+import org.oddswatch.alerts.engine.ReplayHint;
+import org.oddswatch.ingest.definition.RecordLimits;
+
+/**
+ * How a pipeline runs besides the monitor definitions.
+ *
+ * @param limits record caps
+ * @param replayHint how alerts phrase their replay command
+ * @param baselines reader of frozen baseline files
+ * @param fromMillis replay range start (inclusive, event time), or null
+ * @param toMillis replay range end (exclusive), or null; events outside the range are counted
+ *     {@code rejected/outside-range} but not sent to rejects
+ */
+public record PipelineSettings(RecordLimits limits, ReplayHint replayHint, BaselineSource baselines, Long fromMillis,
+                               Long toMillis) {
+
+    public static PipelineSettings defaults() {
+        return new PipelineSettings(RecordLimits.defaults(), new ReplayHint(null, null, null), BaselineSource.files(),
+                null, null);
+    }
+
+    public PipelineSettings withLimits(RecordLimits value) {
+        return new PipelineSettings(value, replayHint, baselines, fromMillis, toMillis);
+    }
+
+    public PipelineSettings withReplayHint(ReplayHint value) {
+        return new PipelineSettings(limits, value, baselines, fromMillis, toMillis);
+    }
+
+    public PipelineSettings withBaselines(BaselineSource value) {
+        return new PipelineSettings(limits, replayHint, value, fromMillis, toMillis);
+    }
+
+    public PipelineSettings withRange(Long from, Long to) {
+        return new PipelineSettings(limits, replayHint, baselines, from, to);
+    }
+
+    boolean inRange(long time) {
+        return (fromMillis == null || time >= fromMillis) && (toMillis == null || time < toMillis);
+    }
+}

@@ -1,0 +1,31 @@
+package org.oddswatch.ingest.pipeline;
+
+import org.oddswatch.ingest.decode.RejectReason;
+
+/**
+ * What happened to one record.
+ *
+ * @param reason null for accepted records; a {@link RejectReason} code for rejected ones;
+ *     {@code late} or {@code duplicate} otherwise
+ * @param detail a readable explanation, or null
+ */
+public record RecordOutcome(Outcome outcome, String reason, String detail) {
+
+    public static final RecordOutcome ACCEPTED = new RecordOutcome(Outcome.ACCEPTED, null, null);
+
+    public static RecordOutcome rejected(String reason, String detail) {
+        return new RecordOutcome(Outcome.REJECTED, reason, detail);
+    }
+
+    public static RecordOutcome late(String detail) {
+        return new RecordOutcome(Outcome.LATE, RejectReason.LATE, detail);
+    }
+
+    public static RecordOutcome duplicate(String detail) {
+        return new RecordOutcome(Outcome.DUPLICATE, RejectReason.DUPLICATE, detail);
+    }
+
+    public boolean accepted() {
+        return outcome == Outcome.ACCEPTED;
+    }
+}

@@ -1,0 +1,52 @@
+package org.oddswatch.ingest.pipeline;
+
+import java.nio.ByteBuffer;
+import java.nio.charset.CharacterCodingException;
+import java.nio.charset.CodingErrorAction;
+import java.nio.charset.StandardCharsets;
+import java.util.Base64;
+
+/**
+ * A rejected or late record, as sent to the rejects topic or file.
+ *
+ * @param monitor the monitor that rejected it, or null when no monitor could read it (malformed,
+ *     oversized, too deep: parsing comes before routing)
+ * @param stream the stream it was routed to, or null when routing did not happen
+ * @param outcome {@link Outcome#REJECTED} or {@link Outcome#LATE}
+ * @param value the original record bytes (never modified)
+ */
+public record RejectedRecord(String monitor, String stream, Outcome outcome, String reason, String detail,
+                             RecordOrigin origin, byte[] value) {
+
+    /** The JSON layout of a reject: field names are fixed. */
+    public record Json(String monitor, String stream, Outcome outcome, String reason, String detail, String topic,
+                       Integer partition, Long offset, Long line, String value, String valueBase64) {
+    }
+
+    /**
+     * The JSON view: reason, detail, source topic/partition/offset or line, the original bytes as
+     * base64 and, when they are valid UTF-8, as text.
+     */
+    public Json toJson() {
+        String text = null;
+        String base64 = null;
+        if (value != null) {
+            text = utf8(value);
+            base64 = Base64.getEncoder().encodeToString(value);
+        }
+        return new Json(monitor, stream, outcome, reason, detail, origin.topic(),
+                origin.partition() < 0 ? null : origin.partition(), origin.offset() < 0 ? null : origin.offset(),
+                origin.lineNumber() < 0 ? null : origin.lineNumber(), text, base64);
+    }
+
+    private static String utf8(byte[] bytes) {
+        try {
+            return StandardCharsets.UTF_8.newDecoder()
+                    .onMalformedInput(CodingErrorAction.REPORT)
+                    .onUnmappableCharacter(CodingErrorAction.REPORT)
+                    .decode(ByteBuffer.wrap(bytes)).toString();
+        } catch (CharacterCodingException e) {
+            return null;
+        }
+    }
+}

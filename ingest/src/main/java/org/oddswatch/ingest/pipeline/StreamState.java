@@ -1,0 +1,306 @@
+package org.oddswatch.ingest.pipeline;
+
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.HashMap;
+import java.util.Iterator;
+import java.util.List;
+import java.util.Map;
+import java.util.TreeMap;
+import org.oddswatch.alerts.engine.AlertEngine;
+import org.oddswatch.alerts.engine.ReplayHint;
+import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.estimator.WindowEstimator;
+import org.oddswatch.estimator.calibration.BaselineModel;
+import org.oddswatch.estimator.result.WindowEstimate;
+import org.oddswatch.estimator.result.WindowStatus;
+import org.oddswatch.estimator.window.WindowGeometry;
+import org.oddswatch.estimator.window.WindowStore;
+import org.oddswatch.ingest.decode.DecodedEvent;
+import org.oddswatch.ingest.decode.RejectReason;
+import org.oddswatch.ingest.definition.BaselineSpec;
+import org.oddswatch.ingest.definition.MonitorDefinition;
+
+/**
+ * One stream's state: its window store, watermark, the ids per held bucket (dedupe), its alert
+ * engine and, for a fixed-period baseline, the accumulation of the baseline period.
+ *
+ * <p>Time rules, with buckets of one step, {@code k = width/step} buckets per window and lateness
+ * {@code L}: the watermark {@code W} is the largest event time seen; window {@code e} (end bucket)
+ * is final when {@code W >= start(e) + L}, so every window with {@code e <= bucketOf(W - L)} is
+ * final. An event in bucket {@code b} is late when window {@code b+1} (its first window) is final.
+ * Buckets before {@code F + 1 - k} ({@code F} the newest final window) can no longer be part of a
+ * window and are dropped, with their ids. Only windows holding at least one event are estimated.
+ */
+final class StreamState {
+
+    private static final String BASELINE_NONE = "none";
+    private static final String BASELINE_FILE = "file";
+    private static final String BASELINE_ACCUMULATING = "accumulating";
+    private static final String BASELINE_FROZEN = "frozen";
+    private static final String BASELINE_FAILED = "failed";
+
+    /** A complete-case event waiting for the alert engine (fixed baseline not frozen yet). */
+    private record PendingEvent(long time, String id, double[] row, boolean positive) {
+    }
+
+    private final String name;
+    private final MonitorDefinition monitor;
+    private final WindowEstimator estimator;
+    private final WindowGeometry geometry;
+    private final int bucketsPerWindow;
+    private final long maxFutureSkewMillis;
+    private final PipelineListener listener;
+    private final ReplayHint replayHint;
+    private final WindowStore store;
+    private final TreeMap<Long, List<String>> idsByBucket = new TreeMap<>();
+    private final Map<String, Long> heldIds = new HashMap<>();
+    private final OutcomeCounts counts = new OutcomeCounts();
+
+    private long watermark = Long.MIN_VALUE;
+    private long finalThrough = Long.MIN_VALUE;
+    private WindowEstimate lastFinal;
+    private double[] warmStart;
+    private long finalWindows;
+
+    private AlertEngine engine;
+    private BaselineModel baseline;
+    private String baselineState;
+    private String baselineNote;
+    private WindowStore baselineStore;
+    private List<PendingEvent> pending;
+    private List<Alert> restored = List.of();
+
+    StreamState(String name, MonitorDefinition monitor, WindowEstimator estimator, WindowStore store,
+                WindowStore baselineStore, BaselineModel fileBaseline, String fileBaselineNote,
+                PipelineListener listener, ReplayHint replayHint) {
+        this.name = name;
+        this.monitor = monitor;
+        this.estimator = estimator;
+        this.geometry = monitor.geometry();
+        this.bucketsPerWindow = geometry.bucketsPerWindow();
+        this.maxFutureSkewMillis = monitor.event().maxFutureSkew().toMillis();
+        this.listener = listener;
+        this.replayHint = replayHint;
+        this.store = store;
+        BaselineSpec spec = monitor.baseline();
+        if (spec != null && spec.isFixedPeriod()) {
+            this.baselineStore = baselineStore;
+            this.pending = new ArrayList<>();
+            this.baselineState = BASELINE_ACCUMULATING;
+        } else {
+            this.baseline = fileBaseline;
+            this.baselineNote = fileBaselineNote;
+            this.baselineState = spec == null ? BASELINE_NONE : fileBaseline != null ? BASELINE_FILE : BASELINE_FAILED;
+            this.engine = new AlertEngine(name, monitor.rules(), baseline, replayHint);
+        }
+    }
+
+    String name() {
+        return name;
+    }
+
+    long watermark() {
+        return watermark;
+    }
+
+    OutcomeCounts counts() {
+        return counts;
+    }
+
+    /** Applies time rules and dedupe to one decoded event and, when accepted, stores it. */
+    RecordOutcome offer(DecodedEvent event, boolean suppress) {
+        long time = event.timeMillis();
+        long bucket = geometry.bucketOf(time);
+        if (watermark != Long.MIN_VALUE) {
+            if (time - watermark > maxFutureSkewMillis) {
+                return RecordOutcome.rejected(RejectReason.TOO_FAR_IN_FUTURE, Instant.ofEpochMilli(time)
+                        + " is more than " + monitor.event().maxFutureSkew() + " after the watermark "
+                        + Instant.ofEpochMilli(watermark));
+            }
+            if (geometry.isFinal(bucket + 1, watermark)) {
+                return RecordOutcome.late("the window ending " + geometry.windowEnd(bucket + 1)
+                        + " is final (watermark " + Instant.ofEpochMilli(watermark) + ")");
+            }
+        }
+        if (heldIds.containsKey(event.id())) {
+            return RecordOutcome.duplicate("id '" + event.id() + "' already seen");
+        }
+        store.add(bucket, event.row(), event.positive(), event.stratum());
+        heldIds.put(event.id(), bucket);
+        idsByBucket.computeIfAbsent(bucket, b -> new ArrayList<>()).add(event.id());
+        if (baselineStore != null && inBaselinePeriod(time)) {
+            baselineStore.add(0, event.row(), event.positive(), event.stratum());
+        }
+        if (event.complete()) {
+            if (engine != null) {
+                engine.onEvent(time, event.id(), event.row(), event.positive());
+            } else {
+                pending.add(new PendingEvent(time, event.id(), event.row(), event.positive()));
+            }
+        }
+        if (time > watermark) {
+            watermark = time;
+            finalizeThrough(geometry.bucketOf(watermark - geometry.latenessMillis()),
+                    watermark - geometry.latenessMillis(), suppress);
+        }
+        return RecordOutcome.ACCEPTED;
+    }
+
+    /** Moves the watermark on without an event (idle timeout, live only). */
+    void advanceWatermark(long time, boolean suppress) {
+        if (time > watermark) {
+            watermark = time;
+            finalizeThrough(geometry.bucketOf(watermark - geometry.latenessMillis()),
+                    watermark - geometry.latenessMillis(), suppress);
+        }
+    }
+
+    /** End of input: every window that holds events becomes final. */
+    void closeAll() {
+        if (idsByBucket.isEmpty() && engine != null) {
+            emitAlerts(engine.onEventsClosed(Long.MAX_VALUE), false);
+            return;
+        }
+        long newest = idsByBucket.isEmpty() ? finalThrough : idsByBucket.lastKey();
+        finalizeThrough(newest + bucketsPerWindow, Long.MAX_VALUE, false);
+    }
+
+    /** An interim estimate of the window holding the watermark, unless that window is final. */
+    void emitInterim() {
+        if (watermark == Long.MIN_VALUE) {
+            return;
+        }
+        long end = geometry.bucketOf(watermark) + 1;
+        if (end <= finalThrough) {
+            return;
+        }
+        WindowEstimate estimate = estimator.estimate(name, geometry.windowStart(end), geometry.windowEnd(end),
+                WindowStatus.INTERIM, store.window(end - bucketsPerWindow, end), warmStart, baseline);
+        listener.onEstimate(estimate);
+    }
+
+    /** Open episodes published before a restart; applied when the alert engine exists. */
+    void restore(List<Alert> alerts) {
+        if (engine != null) {
+            engine.restore(alerts);
+        } else {
+            restored = List.copyOf(alerts);
+        }
+    }
+
+    private void finalizeThrough(long newFinal, long eventsClosedBefore, boolean suppress) {
+        if (newFinal > finalThrough) {
+            if (baselineStore != null && engine == null && baselineComplete(newFinal)) {
+                freezeBaseline();
+            }
+            long end = finalThrough == Long.MIN_VALUE ? Long.MIN_VALUE : finalThrough + 1;
+            while (true) {
+                Long held = idsByBucket.ceilingKey(end == Long.MIN_VALUE ? Long.MIN_VALUE : end - bucketsPerWindow);
+                if (held == null) {
+                    break;
+                }
+                end = Math.max(end, held + 1);
+                if (end > newFinal) {
+                    break;
+                }
+                finalizeWindow(end, suppress);
+                end++;
+            }
+            finalThrough = newFinal;
+            expireBefore(newFinal + 1 - bucketsPerWindow);
+        }
+        if (engine != null) {
+            emitAlerts(engine.onEventsClosed(eventsClosedBefore), suppress);
+        }
+    }
+
+    private void finalizeWindow(long end, boolean suppress) {
+        Instant start = geometry.windowStart(end);
+        Instant stop = geometry.windowEnd(end);
+        WindowEstimate estimate = estimator.estimate(name, start, stop, WindowStatus.FINAL,
+                store.window(end - bucketsPerWindow, end), warmStart, baseline);
+        warmStart = estimator.coefficientVector(estimate);
+        lastFinal = estimate;
+        finalWindows++;
+        if (!suppress) {
+            listener.onEstimate(estimate);
+        }
+        if (engine != null && !overlapsBaselinePeriod(start, stop)) {
+            emitAlerts(engine.onFinalEstimate(estimate), suppress);
+        }
+    }
+
+    private void expireBefore(long bucket) {
+        store.expireBefore(bucket);
+        Iterator<Map.Entry<Long, List<String>>> it = idsByBucket.entrySet().iterator();
+        while (it.hasNext()) {
+            Map.Entry<Long, List<String>> entry = it.next();
+            if (entry.getKey() >= bucket) {
+                break;
+            }
+            for (String id : entry.getValue()) {
+                heldIds.remove(id, entry.getKey());
+            }
+            it.remove();
+        }
+    }
+
+    private boolean inBaselinePeriod(long time) {
+        BaselineSpec spec = monitor.baseline();
+        return time >= spec.from().toEpochMilli() && time < spec.to().toEpochMilli();
+    }
+
+    /** No event of the baseline period can still be accepted once its last bucket's first window is final. */
+    private boolean baselineComplete(long newFinal) {
+        long lastBucket = geometry.bucketOf(monitor.baseline().to().toEpochMilli() - 1);
+        return newFinal >= lastBucket + 1;
+    }
+
+    private boolean overlapsBaselinePeriod(Instant start, Instant stop) {
+        BaselineSpec spec = monitor.baseline();
+        return spec != null && spec.isFixedPeriod() && start.isBefore(spec.to()) && stop.isAfter(spec.from());
+    }
+
+    private void freezeBaseline() {
+        BaselineSpec spec = monitor.baseline();
+        try {
+            baseline = estimator.fitBaseline(baselineStore.window(0, 1), spec.from().toString(), spec.to().toString(),
+                    monitor.checksum());
+            baselineState = BASELINE_FROZEN;
+        } catch (IllegalArgumentException e) {
+            baselineState = BASELINE_FAILED;
+            baselineNote = e.getMessage();
+        }
+        baselineStore = null;
+        engine = new AlertEngine(name, monitor.rules(), baseline, replayHint);
+        if (!restored.isEmpty()) {
+            engine.restore(restored);
+            restored = List.of();
+        }
+        for (PendingEvent event : pending) {
+            engine.onEvent(event.time(), event.id(), event.row(), event.positive());
+        }
+        pending = null;
+    }
+
+    private void emitAlerts(List<Alert> alerts, boolean suppress) {
+        if (!suppress) {
+            for (Alert alert : alerts) {
+                listener.onAlert(alert);
+            }
+        }
+    }
+
+    /** The baseline in use (frozen file or fixed period), or null. */
+    BaselineModel baseline() {
+        return baseline;
+    }
+
+    StreamStatus status() {
+        return new StreamStatus(name, monitor.name(),
+                watermark == Long.MIN_VALUE ? null : Instant.ofEpochMilli(watermark),
+                lastFinal == null ? null : lastFinal.windowEnd(), finalWindows, baselineState, baselineNote,
+                idsByBucket.size(), store.approximateBytes(), counts.snapshot());
+    }
+}
