@@ -1,30 +1,111 @@
 package org.oddswatch.alerts.engine;
 
+import java.time.Instant;
+import java.time.format.DateTimeParseException;
+import java.util.ArrayList;
+import java.util.LinkedHashMap;
 import java.util.List;
+import java.util.Map;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.lifecycle.AlertState;
+import org.oddswatch.alerts.lifecycle.AlertText;
+import org.oddswatch.alerts.lifecycle.EpisodeTracker;
+import org.oddswatch.alerts.lifecycle.EpisodeTracker.Transition;
+import org.oddswatch.alerts.lifecycle.Evidence;
+import org.oddswatch.alerts.rules.BernoulliCusumRule;
+import org.oddswatch.alerts.rules.CalibrationRule;
+import org.oddswatch.alerts.rules.CusumReading;
+import org.oddswatch.alerts.rules.Format;
+import org.oddswatch.alerts.rules.InformationGuard;
+import org.oddswatch.alerts.rules.OddsRatioBoundsRule;
+import org.oddswatch.alerts.rules.OddsRatioDriftRule;
+import org.oddswatch.alerts.rules.Reading;
+import org.oddswatch.alerts.rules.WindowRule;
 import org.oddswatch.estimator.calibration.BaselineModel;
 import org.oddswatch.estimator.result.WindowEstimate;
+import org.oddswatch.estimator.result.WindowStatus;
 
 /**
  * Runs one stream's alert rules and keeps their episode lifecycle. Pure and deterministic: no clock,
  * no I/O, no randomness; the caller feeds final window estimates and scored events in event time.
  * One instance per stream; not thread-safe.
+ *
+ * <p>Rules needing the baseline (drift, calibration, CUSUM) stay silent without one; the bounds rule
+ * runs regardless. Interim estimates are ignored, and so is every window overlapping the baseline's
+ * own period (its events are not new information against it), as are CUSUM events inside it.
  */
 public final class AlertEngine {
 
+    private final String stream;
+    private final BaselineModel baseline;
+    private final ReplayHint replay;
+    private final List<WindowRule> windowRules = new ArrayList<>();
+    private final BernoulliCusumRule cusum;
+    private final EpisodeTracker tracker;
+    private final Map<String, Alert> lastByKey = new LinkedHashMap<>();
+    private final long baselineFrom;
+    private final long baselineTo;
+
     /**
      * @param stream the stream name
-     * @param rules the rule settings from the monitor definition
+     * @param rules the rule settings from the monitor definition (null: {@link AlertRulesConfig#defaults()})
      * @param baseline the frozen or trailing baseline model, or null (rules needing it stay silent)
-     * @param replay how to phrase the replay command in alert texts
+     * @param replay how to phrase the replay command in alert texts (null: placeholders)
      */
     public AlertEngine(String stream, AlertRulesConfig rules, BaselineModel baseline, ReplayHint replay) {
-        throw new UnsupportedOperationException("not implemented yet");
+        this.stream = stream;
+        this.baseline = baseline;
+        this.replay = replay == null ? new ReplayHint(null, null, null) : replay;
+        this.tracker = new EpisodeTracker(stream);
+        AlertRulesConfig r = rules == null ? AlertRulesConfig.defaults() : rules;
+        if (baseline != null && r.oddsRatioDrift() != null) {
+            windowRules.add(new OddsRatioDriftRule(r.oddsRatioDrift(),
+                    new InformationGuard(r.guardFor(r.oddsRatioDrift().guard())), baseline));
+        }
+        if (r.oddsRatioBounds() != null) {
+            windowRules.add(new OddsRatioBoundsRule(r.oddsRatioBounds(),
+                    new InformationGuard(r.guardFor(r.oddsRatioBounds().guard()))));
+        }
+        if (baseline != null && r.calibration() != null) {
+            windowRules.add(new CalibrationRule(r.calibration(),
+                    new InformationGuard(r.guardFor(r.calibration().guard()))));
+        }
+        cusum = baseline != null && r.cusum() != null
+                ? new BernoulliCusumRule(r.cusum(), new InformationGuard(r.guardFor(r.cusum().guard())), baseline)
+                : null;
+        baselineFrom = baseline == null ? Long.MAX_VALUE : parse(baseline.periodStart(), Long.MAX_VALUE);
+        baselineTo = baseline == null ? Long.MIN_VALUE : parse(baseline.periodEnd(), Long.MIN_VALUE);
+    }
+
+    private static long parse(String instant, long fallback) {
+        try {
+            return instant == null ? fallback : Instant.parse(instant).toEpochMilli();
+        } catch (DateTimeParseException e) {
+            return fallback;
+        }
+    }
+
+    public String stream() {
+        return stream;
     }
 
     /** Window rules (odds-ratio drift and bounds, calibration) on one final estimate. */
     public List<Alert> onFinalEstimate(WindowEstimate estimate) {
-        throw new UnsupportedOperationException("not implemented yet");
+        if (estimate.status() != WindowStatus.FINAL || !stream.equals(estimate.stream())
+                || overlapsBaseline(estimate.windowStart().toEpochMilli(), estimate.windowEnd().toEpochMilli())) {
+            return List.of();
+        }
+        List<Alert> out = new ArrayList<>();
+        for (WindowRule rule : windowRules) {
+            for (Reading reading : rule.evaluate(estimate)) {
+                publishable(reading, out);
+            }
+        }
+        return out;
+    }
+
+    private boolean overlapsBaseline(long from, long to) {
+        return from < baselineTo && to > baselineFrom;
     }
 
     /**
@@ -35,19 +116,82 @@ public final class AlertEngine {
      * @param row the coded design row (intercept first)
      */
     public void onEvent(long eventTimeMillis, String id, double[] row, boolean positive) {
-        throw new UnsupportedOperationException("not implemented yet");
+        if (cusum == null || (eventTimeMillis >= baselineFrom && eventTimeMillis < baselineTo)) {
+            return;
+        }
+        cusum.offer(eventTimeMillis, id, row, positive);
     }
 
     /** Runs the sequential rule over all buffered events with time before {@code closedBeforeMillis}. */
     public List<Alert> onEventsClosed(long closedBeforeMillis) {
-        throw new UnsupportedOperationException("not implemented yet");
+        if (cusum == null) {
+            return List.of();
+        }
+        List<Alert> out = new ArrayList<>();
+        for (Reading reading : cusum.close(closedBeforeMillis)) {
+            publishable(reading, out);
+        }
+        return out;
+    }
+
+    /** Current CUSUM chart values (empty without a CUSUM), for meters. */
+    public List<CusumReading> cusumReadings() {
+        return cusum == null ? List.of() : cusum.readings();
+    }
+
+    /** The latest message of every episode still open, in first-seen order (for gauges after a restart). */
+    public List<Alert> openEpisodes() {
+        return lastByKey.values().stream().filter(a -> a.state() != AlertState.CLEARED).toList();
     }
 
     /**
      * Restores open episodes from alerts previously published (read back from the alerts topic or
-     * file), so a restart neither forgets an open episode nor publishes it again.
+     * file), so a restart neither forgets an open episode nor publishes it again. Alerts of other
+     * streams are ignored; per rule and subject, the last alert in the list decides whether the
+     * episode is open. Afterwards, a reading ending at or before the last published window of its
+     * rule and subject is not published again.
      */
     public void restore(List<Alert> published) {
-        throw new UnsupportedOperationException("not implemented yet");
+        for (Alert a : published) {
+            if (!stream.equals(a.stream())) {
+                continue;
+            }
+            String key = Reading.key(a.rule(), a.subject());
+            boolean open = a.state() != AlertState.CLEARED;
+            tracker.restore(key, a.id(), open, a.windowEnd());
+            lastByKey.put(key, a);
+            if (cusum != null && open && (BernoulliCusumRule.UP.equals(a.rule()) || BernoulliCusumRule.DOWN.equals(a.rule()))) {
+                cusum.restoreOpen(a.rule(), a.subject());
+            }
+        }
+    }
+
+    private void publishable(Reading reading, List<Alert> out) {
+        Transition t = tracker.step(reading);
+        if (t == null || t.alreadyPublished()) {
+            return;
+        }
+        String command = replay.command(reading.windowStart(), reading.windowEnd(), "replay-" + t.id());
+        String message = AlertText.compose(stream, reading, t.state(), t.run(), baselineLabel(), command);
+        Double limit = t.state() == AlertState.CLEARED ? reading.clearLimit() : reading.limit();
+        Evidence e = reading.evidence();
+        Integer run = t.state() == AlertState.CLEARED ? null : t.run();
+        Evidence evidence = e == null ? new Evidence(null, null, null, null, run)
+                : new Evidence(e.z(), e.cusum(), e.lower(), e.upper(), run);
+        Alert alert = new Alert(t.id(), stream, reading.rule(), reading.subject(), t.state(), reading.windowStart(),
+                reading.windowEnd(), reading.observed(), reading.baseline(), limit, evidence, reading.events(), message,
+                command);
+        lastByKey.put(reading.key(), alert);
+        out.add(alert);
+    }
+
+    private String baselineLabel() {
+        if (baseline == null) {
+            return "none";
+        }
+        return "the model fitted on " + (baseline.periodStart() == null ? "?" : baseline.periodStart()) + " to "
+                + (baseline.periodEnd() == null ? "?" : baseline.periodEnd()) + " (" + Format.count(baseline.events())
+                + " events, " + Format.count(baseline.cases()) + " positives"
+                + (baseline.definitionChecksum() == null ? "" : ", definition " + baseline.definitionChecksum()) + ")";
     }
 }

@@ -1,8 +1,243 @@
 package org.oddswatch.alerts.engine;
 
+import com.fasterxml.jackson.annotation.JsonCreator;
+import java.util.List;
+import java.util.Objects;
+import org.oddswatch.estimator.fit.FitState;
+
 /**
  * Rule settings of one monitor, bound by Jackson from the {@code rules} mapping of a monitor
- * definition. Null sections mean the rule is off; defaults are documented per section.
+ * definition. A null (absent) section means that rule is off; inside a present section an omitted
+ * field takes the default documented here and in {@code alerts/README.md}. Invalid values raise an
+ * {@link IllegalArgumentException} naming the key (Jackson wraps it with the location).
+ *
+ * @param guard the minimum-information guard shared by all rules (a rule's own {@code guard} wins)
+ * @param oddsRatioDrift z-test of each watched coefficient against the baseline
+ * @param oddsRatioBounds interval of a watched odds ratio wholly beyond fixed bounds
+ * @param calibration observed/expected, calibration slope and Hosmer–Lemeshow of the baseline model
+ * @param cusum risk-adjusted Bernoulli CUSUM of each event against the baseline model
  */
-public record AlertRulesConfig() {
+public record AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsRatioBounds oddsRatioBounds,
+                               Calibration calibration, Cusum cusum) {
+
+    public AlertRulesConfig {
+        guard = guard == null ? new Guard(null, null, null) : guard;
+    }
+
+    /**
+     * What a monitor gets when its definition has no {@code rules} mapping: drift on every watched
+     * term, calibration and the CUSUM with their defaults; bounds need explicit limits and stay off.
+     */
+    public static AlertRulesConfig defaults() {
+        return new AlertRulesConfig(null, new OddsRatioDrift(null, null, null, null, null, null), null,
+                new Calibration(null, null, null, null, null, null, null), new Cusum(null, null, null, null, null, null));
+    }
+
+    /** The guard a rule uses: its own, else the shared one. */
+    public Guard guardFor(Guard own) {
+        return own != null ? own : guard;
+    }
+
+    /**
+     * Minimum-information guard: no window alert from a window whose fit is not usable.
+     *
+     * @param allowStates extra {@code fit.state} labels accepted besides {@code converged}
+     *     (for instance {@code too-few-events}); default none
+     * @param acceptFirth whether a Firth fit (state {@code separation}, method {@code firth}) counts
+     *     as fitted; default true
+     * @param minEvents minimum complete-case events in the window ({@code fit.events}, or the
+     *     calibration's events); for the CUSUM, events processed before it may signal; default 100
+     */
+    public record Guard(List<String> allowStates, Boolean acceptFirth, Long minEvents) {
+        public Guard {
+            allowStates = allowStates == null ? List.of() : List.copyOf(allowStates);
+            for (String state : allowStates) {
+                boolean known = false;
+                for (FitState s : FitState.values()) {
+                    known |= s.toString().equals(state);
+                }
+                if (!known) {
+                    throw new IllegalArgumentException("guard.allowStates: unknown fit state '" + state + "'");
+                }
+            }
+            acceptFirth = acceptFirth == null ? Boolean.TRUE : acceptFirth;
+            minEvents = minEvents == null ? 100L : minEvents;
+            requireAtLeast("guard.minEvents", minEvents, 0);
+        }
+    }
+
+    /**
+     * A watched term (and optionally one level) with optional per-term overrides of its section's
+     * limits. In YAML either a mapping or just the term name.
+     */
+    public record TermLimits(String term, String level, Double limit, Double clearLimit, Integer consecutive,
+                             Integer clearAfter) {
+        public TermLimits {
+            Objects.requireNonNull(term, "terms[].term is required");
+        }
+
+        @JsonCreator(mode = JsonCreator.Mode.DELEGATING)
+        public static TermLimits of(String term) {
+            return new TermLimits(term, null, null, null, null, null);
+        }
+
+        /** Whether this entry selects the column {@code term}/{@code level} (null level: every level). */
+        public boolean selects(String columnTerm, String columnLevel) {
+            return term.equals(columnTerm) && (level == null || level.equals(columnLevel));
+        }
+    }
+
+    /**
+     * Odds-ratio drift: {@code z = (b_now - b_base) / sqrt(se_now^2 + se_base^2)}.
+     *
+     * @param limit raise when {@code |z| >= limit} (default 3.0)
+     * @param clearLimit a window counts towards clearing when {@code |z| < clearLimit} (default 2.0)
+     * @param consecutive final windows beyond the limit, in a row and in the same direction, to raise (default 1)
+     * @param clearAfter windows in a row inside the clear limit to clear (default 2)
+     * @param terms which watched terms, with optional overrides; default every watched column of the baseline
+     * @param guard this rule's own guard, else the shared one
+     */
+    public record OddsRatioDrift(Double limit, Double clearLimit, Integer consecutive, Integer clearAfter,
+                                 List<TermLimits> terms, Guard guard) {
+        public OddsRatioDrift {
+            limit = limit == null ? 3.0 : limit;
+            clearLimit = clearLimit == null ? Math.min(2.0, limit) : clearLimit;
+            consecutive = consecutive == null ? 1 : consecutive;
+            clearAfter = clearAfter == null ? 2 : clearAfter;
+            terms = terms == null ? List.of() : List.copyOf(terms);
+            requirePositive("oddsRatioDrift.limit", limit);
+            if (!(clearLimit > 0 && clearLimit <= limit)) {
+                throw new IllegalArgumentException("oddsRatioDrift.clearLimit must be in (0, limit]");
+            }
+            requireAtLeast("oddsRatioDrift.consecutive", consecutive, 1);
+            requireAtLeast("oddsRatioDrift.clearAfter", clearAfter, 1);
+        }
+    }
+
+    /**
+     * One watched odds ratio's fixed bounds.
+     *
+     * @param above raise when the whole interval lies above this odds ratio (optional)
+     * @param below raise when the whole interval lies below this odds ratio (optional)
+     */
+    public record TermBounds(String term, String level, Double above, Double below) {
+        public TermBounds {
+            Objects.requireNonNull(term, "oddsRatioBounds.terms[].term is required");
+            if (above == null && below == null) {
+                throw new IllegalArgumentException("oddsRatioBounds.terms[" + term + "]: set above, below or both");
+            }
+            if (above != null) {
+                requirePositive("oddsRatioBounds.terms[" + term + "].above", above);
+            }
+            if (below != null) {
+                requirePositive("oddsRatioBounds.terms[" + term + "].below", below);
+            }
+            if (above != null && below != null && below > above) {
+                throw new IllegalArgumentException("oddsRatioBounds.terms[" + term + "]: below must not exceed above");
+            }
+        }
+    }
+
+    /**
+     * Odds-ratio bounds: the watched odds ratio's interval lies wholly above {@code above} or wholly
+     * below {@code below}; it counts towards clearing once the point estimate is back within the
+     * bounds.
+     *
+     * @param terms the bounded terms (required, at least one)
+     * @param consecutive windows in a row beyond a bound to raise (default 1)
+     * @param clearAfter windows in a row back within the bounds to clear (default 2)
+     */
+    public record OddsRatioBounds(List<TermBounds> terms, Integer consecutive, Integer clearAfter, Guard guard) {
+        public OddsRatioBounds {
+            if (terms == null || terms.isEmpty()) {
+                throw new IllegalArgumentException("oddsRatioBounds.terms: at least one bounded term is required");
+            }
+            terms = List.copyOf(terms);
+            consecutive = consecutive == null ? 1 : consecutive;
+            clearAfter = clearAfter == null ? 2 : clearAfter;
+            requireAtLeast("oddsRatioBounds.consecutive", consecutive, 1);
+            requireAtLeast("oddsRatioBounds.clearAfter", clearAfter, 1);
+        }
+    }
+
+    /** A band {@code [min, max]} of a calibration figure; omitted ends take the section defaults. */
+    public record Band(Double min, Double max) {
+        Band withDefaults(double defaultMin, double defaultMax, String key) {
+            double lo = min == null ? defaultMin : min;
+            double hi = max == null ? defaultMax : max;
+            if (!(lo < hi)) {
+                throw new IllegalArgumentException(key + ": min must be below max");
+            }
+            return new Band(lo, hi);
+        }
+    }
+
+    /**
+     * Calibration of the baseline model on each final window. Raised when any figure is clearly
+     * outside its band: the O/E interval wholly outside {@code observedExpected} (default
+     * [0.8, 1.25]); the slope's Wald interval ({@code slope ± slopeZ·se}) wholly outside
+     * {@code slope} (default [0.7, 1.3], slopeZ 1.96); the Hosmer–Lemeshow p-value below
+     * {@code hosmerLemeshowP} (default 0.001). A window counts towards clearing when the O/E and
+     * slope point estimates are inside their bands and the HL p-value is at least ten times its limit.
+     */
+    public record Calibration(Band observedExpected, Band slope, Double slopeZ, Double hosmerLemeshowP,
+                              Integer consecutive, Integer clearAfter, Guard guard) {
+        public Calibration {
+            observedExpected = (observedExpected == null ? new Band(null, null) : observedExpected)
+                    .withDefaults(0.8, 1.25, "calibration.observedExpected");
+            slope = (slope == null ? new Band(null, null) : slope).withDefaults(0.7, 1.3, "calibration.slope");
+            slopeZ = slopeZ == null ? 1.96 : slopeZ;
+            hosmerLemeshowP = hosmerLemeshowP == null ? 0.001 : hosmerLemeshowP;
+            consecutive = consecutive == null ? 1 : consecutive;
+            clearAfter = clearAfter == null ? 2 : clearAfter;
+            requirePositive("calibration.slopeZ", slopeZ);
+            if (!(hosmerLemeshowP >= 0 && hosmerLemeshowP < 0.1)) {
+                throw new IllegalArgumentException("calibration.hosmerLemeshowP must be in [0, 0.1)");
+            }
+            requireAtLeast("calibration.consecutive", consecutive, 1);
+            requireAtLeast("calibration.clearAfter", clearAfter, 1);
+        }
+    }
+
+    /**
+     * Risk-adjusted Bernoulli CUSUM (Steiner et al. 2000) against the baseline model.
+     *
+     * @param up odds multiplier the upper chart is tuned to detect, &gt; 1 (default 1.5)
+     * @param down odds multiplier of the lower chart, &lt; 1 (default 1/1.5)
+     * @param limit decision limit h of both charts (default 8.0)
+     * @param clearAfterEvents an open episode clears after this many events without a new signal (default 2000)
+     * @param terms watched terms that get their own pair of charts over the events with that
+     *     indicator set (default none: only the overall pair)
+     * @param guard {@code minEvents}: events a chart must have processed before it may signal
+     */
+    public record Cusum(Double up, Double down, Double limit, Long clearAfterEvents, List<TermLimits> terms,
+                        Guard guard) {
+        public Cusum {
+            up = up == null ? 1.5 : up;
+            down = down == null ? 1.0 / 1.5 : down;
+            limit = limit == null ? 8.0 : limit;
+            clearAfterEvents = clearAfterEvents == null ? 2000L : clearAfterEvents;
+            terms = terms == null ? List.of() : List.copyOf(terms);
+            if (!(up > 1) || Double.isInfinite(up)) {
+                throw new IllegalArgumentException("cusum.up must be a finite odds multiplier above 1");
+            }
+            if (!(down > 0 && down < 1)) {
+                throw new IllegalArgumentException("cusum.down must be an odds multiplier in (0, 1)");
+            }
+            requirePositive("cusum.limit", limit);
+            requireAtLeast("cusum.clearAfterEvents", clearAfterEvents, 1);
+        }
+    }
+
+    private static void requirePositive(String key, double value) {
+        if (!(value > 0) || Double.isInfinite(value)) {
+            throw new IllegalArgumentException(key + " must be a positive finite number, got " + value);
+        }
+    }
+
+    private static void requireAtLeast(String key, long value, long min) {
+        if (value < min) {
+            throw new IllegalArgumentException(key + " must be at least " + min + ", got " + value);
+        }
+    }
 }

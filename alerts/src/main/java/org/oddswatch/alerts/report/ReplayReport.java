@@ -1,0 +1,161 @@
+package org.oddswatch.alerts.report;
+
+import java.io.IOException;
+import java.io.UncheckedIOException;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.Comparator;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.lifecycle.AlertText;
+import org.oddswatch.alerts.rules.Format;
+import org.oddswatch.estimator.result.CoefficientEstimate;
+import org.oddswatch.estimator.result.PrevalenceEstimate;
+import org.oddswatch.estimator.result.WindowEstimate;
+import org.oddswatch.estimator.result.WindowStatus;
+
+/**
+ * Writes {@code report.md} for a replay folder: per stream, one table row per final window (events,
+ * positives, prevalence with interval, watched odds ratios with intervals, alerts whose window ends
+ * there), then the alerts in order. Deterministic: the same inputs give a byte-identical file.
+ *
+ * <p>Small counts: a count from 1 to 4 is withheld and shown as {@code <5}; positives are also
+ * withheld when the negatives are 1 to 4 (else they could be worked out), and a prevalence or odds
+ * ratio resting on withheld positives is withheld too. This follows the common small-cell practice
+ * (some agencies use 11); local disclosure rules govern.
+ */
+public final class ReplayReport {
+
+    /** Counts below this (and above 0) are withheld. */
+    public static final int SMALL_COUNT = 5;
+
+    static final String WITHHELD = "<5";
+
+    private ReplayReport() {
+    }
+
+    /** Writes {@code dir/report.md} (creating {@code dir}) and returns its path. */
+    public static Path write(Path dir, List<WindowEstimate> estimates, List<Alert> alerts, String title) {
+        Path file = dir.resolve("report.md");
+        try {
+            Files.createDirectories(dir);
+            Files.writeString(file, render(estimates, alerts, title), StandardCharsets.UTF_8);
+        } catch (IOException e) {
+            throw new UncheckedIOException("cannot write " + file, e);
+        }
+        return file;
+    }
+
+    /** The report text. */
+    public static String render(List<WindowEstimate> estimates, List<Alert> alerts, String title) {
+        StringBuilder b = new StringBuilder();
+        b.append("# ").append(title == null || title.isBlank() ? "oddswatch replay" : title).append("\n\n");
+        b.append(AlertText.CAUTION).append(" Figures describe the events in the replayed input only.\n\n");
+        b.append("Counts from 1 to ").append(SMALL_COUNT - 1).append(" are withheld and shown as `").append(WITHHELD)
+                .append("`, and so are figures resting on them (common small-cell practice; local disclosure rules govern).")
+                .append(" Windows are half-open, start included and end excluded; intervals are those of the estimates.\n");
+        Map<String, List<WindowEstimate>> byStream = new LinkedHashMap<>();
+        estimates.stream().filter(e -> e.status() == WindowStatus.FINAL)
+                .sorted(Comparator.comparing(WindowEstimate::stream).thenComparing(WindowEstimate::windowEnd))
+                .forEach(e -> byStream.computeIfAbsent(e.stream(), k -> new ArrayList<>()).add(e));
+        List<Alert> sortedAlerts = alerts.stream()
+                .sorted(Comparator.comparing(Alert::stream).thenComparing(Alert::windowEnd).thenComparing(Alert::rule)
+                        .thenComparing(a -> a.subject().label()).thenComparing(a -> a.state().ordinal()))
+                .toList();
+        for (String stream : sortedAlerts.stream().map(Alert::stream).distinct().toList()) {
+            byStream.putIfAbsent(stream, new ArrayList<>());
+        }
+        if (byStream.isEmpty()) {
+            b.append("\nNo final windows and no alerts in this replay.\n");
+        }
+        for (Map.Entry<String, List<WindowEstimate>> s : byStream.entrySet()) {
+            b.append("\n## Stream ").append(s.getKey()).append("\n\n");
+            List<Alert> streamAlerts = sortedAlerts.stream().filter(a -> a.stream().equals(s.getKey())).toList();
+            windows(b, s.getValue(), streamAlerts);
+            alertList(b, streamAlerts);
+        }
+        return b.toString();
+    }
+
+    private static void windows(StringBuilder b, List<WindowEstimate> windows, List<Alert> alerts) {
+        if (windows.isEmpty()) {
+            b.append("No final windows.\n");
+            return;
+        }
+        b.append("| window start | window end | events | positives | prevalence (interval) | fit | odds ratios (interval) | alerts |\n");
+        b.append("|---|---|---:|---:|---|---|---|---|\n");
+        for (WindowEstimate e : windows) {
+            boolean casesWithheld = small(e.cases()) || small(e.events() - e.cases());
+            b.append("| ").append(e.windowStart()).append(" | ").append(e.windowEnd()).append(" | ")
+                    .append(count(e.events())).append(" | ").append(casesWithheld ? WITHHELD : Format.count(e.cases()))
+                    .append(" | ").append(casesWithheld || small(e.events()) ? "withheld" : prevalence(e.prevalence()))
+                    .append(" | ").append(e.fit() == null ? "none" : e.fit().state() + " (" + e.fit().method() + ")")
+                    .append(" | ").append(casesWithheld ? "withheld" : oddsRatios(e)).append(" | ")
+                    .append(alertsAt(alerts, e.windowEnd())).append(" |\n");
+        }
+    }
+
+    private static void alertList(StringBuilder b, List<Alert> alerts) {
+        b.append("\n### Alerts\n\n");
+        if (alerts.isEmpty()) {
+            b.append("None.\n");
+            return;
+        }
+        for (Alert a : alerts) {
+            b.append("- ").append(a.state()).append(" `").append(a.id()).append("` ").append(a.rule()).append(", ")
+                    .append(a.subject().label()).append(", window ").append(a.windowStart()).append(" to ")
+                    .append(a.windowEnd()).append(": observed ").append(Format.num(a.observed()));
+            if (a.baseline() != null) {
+                b.append(", baseline ").append(Format.num(a.baseline()));
+            }
+            if (a.limit() != null) {
+                b.append(", limit ").append(Format.num(a.limit()));
+            }
+            if (a.evidence() != null && a.evidence().z() != null) {
+                b.append(", z ").append(Format.stat(a.evidence().z()));
+            }
+            b.append(", on ").append(count(a.events())).append(" events. Reproduce: `").append(a.replayCommand())
+                    .append("`\n");
+        }
+    }
+
+    private static String alertsAt(List<Alert> alerts, Instant windowEnd) {
+        List<String> here = alerts.stream().filter(a -> a.windowEnd().equals(windowEnd))
+                .map(a -> a.state() + " " + a.rule() + " " + a.subject().label()).toList();
+        return here.isEmpty() ? "" : String.join("; ", here);
+    }
+
+    private static String prevalence(PrevalenceEstimate p) {
+        if (p == null || p.value() == null) {
+            return "n/a";
+        }
+        return Format.percent(p.value()) + " (" + Format.percent(p.lower()) + " to " + Format.percent(p.upper())
+                + (p.method() == null ? "" : ", " + p.method()) + ")";
+    }
+
+    private static String oddsRatios(WindowEstimate e) {
+        List<CoefficientEstimate> coefficients = e.coefficients().stream().filter(c -> c.oddsRatio() != null).toList();
+        List<CoefficientEstimate> watched = coefficients.stream()
+                .filter(c -> c.lrP() != null || c.profileLower() != null || c.profileUpper() != null).toList();
+        List<String> parts = new ArrayList<>();
+        for (CoefficientEstimate c : watched.isEmpty() ? coefficients : watched) {
+            String label = c.level() == null ? c.term() : c.term() + "=" + c.level();
+            parts.add(label + " " + Format.num(c.oddsRatio()) + " (" + Format.num(c.lower()) + " to "
+                    + Format.num(c.upper()) + ")");
+        }
+        return parts.isEmpty() ? "none" : String.join("; ", parts);
+    }
+
+    private static boolean small(long n) {
+        return n > 0 && n < SMALL_COUNT;
+    }
+
+    private static String count(long n) {
+        return small(n) ? WITHHELD : Format.count(n);
+    }
+}

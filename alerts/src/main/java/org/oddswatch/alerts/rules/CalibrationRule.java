@@ -1,0 +1,109 @@
+package org.oddswatch.alerts.rules;
+
+import java.util.ArrayList;
+import java.util.List;
+import org.oddswatch.alerts.engine.AlertRulesConfig.Calibration;
+import org.oddswatch.alerts.lifecycle.AlertSubject;
+import org.oddswatch.alerts.lifecycle.Evidence;
+import org.oddswatch.estimator.result.CalibrationEstimate;
+import org.oddswatch.estimator.result.WindowEstimate;
+
+/**
+ * Calibration of the baseline model on each final window ({@link WindowEstimate#calibration()}).
+ * {@link Zone#BEYOND} when any of these holds, checked in this order (the first decides the
+ * reported value and direction):
+ * <ol>
+ *   <li>the O/E interval {@code [oeLower, oeUpper]} lies wholly above or wholly below the band;</li>
+ *   <li>the slope's Wald interval {@code slope ± slopeZ·slopeSe} lies wholly outside the slope band;</li>
+ *   <li>the Hosmer–Lemeshow p-value is below its limit (direction +1).</li>
+ * </ol>
+ * {@link Zone#INSIDE} when the O/E and slope point estimates are inside their bands and the HL
+ * p-value is at least ten times its limit (figures that are absent do not block); otherwise
+ * {@link Zone#BETWEEN}. Without a calibration estimate, or when the guard refuses (the guard's
+ * {@code minEvents} is compared with the calibration's events), {@link Zone#UNKNOWN}.
+ */
+public final class CalibrationRule implements WindowRule {
+
+    public static final String NAME = "calibration";
+
+    private final Calibration settings;
+    private final InformationGuard guard;
+
+    public CalibrationRule(Calibration settings, InformationGuard guard) {
+        this.settings = settings;
+        this.guard = guard;
+    }
+
+    @Override
+    public String name() {
+        return NAME;
+    }
+
+    @Override
+    public List<Reading> evaluate(WindowEstimate e) {
+        CalibrationEstimate c = e.calibration();
+        AlertSubject subject = AlertSubject.calibration();
+        double oeMin = settings.observedExpected().min();
+        double oeMax = settings.observedExpected().max();
+        if (c == null) {
+            return List.of(reading(e, Zone.UNKNOWN, 0, null, null, 0, "no calibration estimate"));
+        }
+        String refusal = guard.refusal(e.fit(), c.events());
+        if (refusal != null) {
+            return List.of(reading(e, Zone.UNKNOWN, 0, c.observedExpected(), oeMax, c.events(), refusal));
+        }
+        double slopeMin = settings.slope().min();
+        double slopeMax = settings.slope().max();
+        Double slopeLow = c.slope() != null && c.slopeSe() != null ? c.slope() - settings.slopeZ() * c.slopeSe() : null;
+        Double slopeHigh = c.slope() != null && c.slopeSe() != null ? c.slope() + settings.slopeZ() * c.slopeSe() : null;
+        List<String> beyond = new ArrayList<>();
+        Figure decided = null;
+        if (c.oeLower() != null && c.oeLower() > oeMax) {
+            beyond.add("observed/expected interval wholly above " + Format.num(oeMax));
+            decided = decided == null ? new Figure(1, c.observedExpected(), oeMax, c.oeLower(), c.oeUpper(), 1.0) : decided;
+        } else if (c.oeUpper() != null && c.oeUpper() < oeMin) {
+            beyond.add("observed/expected interval wholly below " + Format.num(oeMin));
+            decided = decided == null ? new Figure(-1, c.observedExpected(), oeMin, c.oeLower(), c.oeUpper(), 1.0) : decided;
+        }
+        if (slopeLow != null && slopeLow > slopeMax) {
+            beyond.add("slope interval wholly above " + Format.num(slopeMax));
+            decided = decided == null ? new Figure(1, c.slope(), slopeMax, slopeLow, slopeHigh, 1.0) : decided;
+        } else if (slopeHigh != null && slopeHigh < slopeMin) {
+            beyond.add("slope interval wholly below " + Format.num(slopeMin));
+            decided = decided == null ? new Figure(-1, c.slope(), slopeMin, slopeLow, slopeHigh, 1.0) : decided;
+        }
+        if (c.hosmerLemeshowP() != null && c.hosmerLemeshowP() < settings.hosmerLemeshowP()) {
+            beyond.add("Hosmer-Lemeshow p below " + Format.num(settings.hosmerLemeshowP()));
+            decided = decided == null
+                    ? new Figure(1, c.hosmerLemeshowP(), settings.hosmerLemeshowP(), null, null, null) : decided;
+        }
+        boolean oeInside = c.observedExpected() == null
+                || (c.observedExpected() >= oeMin && c.observedExpected() <= oeMax);
+        boolean slopeInside = c.slope() == null || (c.slope() >= slopeMin && c.slope() <= slopeMax);
+        boolean hlInside = c.hosmerLemeshowP() == null || c.hosmerLemeshowP() >= 10 * settings.hosmerLemeshowP();
+        Zone zone = decided != null ? Zone.BEYOND : oeInside && slopeInside && hlInside ? Zone.INSIDE : Zone.BETWEEN;
+        String detail = "the baseline model's calibration: " + Format.count(c.observed()) + " positives observed against "
+                + Format.num(c.expected()) + " expected, observed/expected " + Format.num(c.observedExpected())
+                + " (interval " + Format.num(c.oeLower()) + " to " + Format.num(c.oeUpper()) + ", band "
+                + Format.num(oeMin) + " to " + Format.num(oeMax) + "), calibration slope " + Format.num(c.slope())
+                + " (band " + Format.num(slopeMin) + " to " + Format.num(slopeMax) + "), Hosmer-Lemeshow p "
+                + Format.num(c.hosmerLemeshowP()) + (beyond.isEmpty() ? "" : "; " + String.join(", ", beyond));
+        if (decided == null) {
+            decided = new Figure(0, c.observedExpected(), oeMax, c.oeLower(), c.oeUpper(), 1.0);
+        }
+        return List.of(new Reading(NAME, subject, zone, decided.direction(), settings.consecutive(),
+                settings.clearAfter(), e.windowStart(), e.windowEnd(), decided.value(), decided.baseline(),
+                decided.limit(), decided.limit(), new Evidence(null, null, decided.lower(), decided.upper(), null),
+                c.events(), detail));
+    }
+
+    /** The figure that decided a reading: its value, the limit it crossed, its interval and baseline value. */
+    private record Figure(int direction, Double value, Double limit, Double lower, Double upper, Double baseline) {
+    }
+
+    private Reading reading(WindowEstimate e, Zone zone, int direction, Double observed, Double limit, long events,
+                            String detail) {
+        return new Reading(NAME, AlertSubject.calibration(), zone, direction, settings.consecutive(),
+                settings.clearAfter(), e.windowStart(), e.windowEnd(), observed, 1.0, limit, limit, null, events, detail);
+    }
+}
