@@ -92,9 +92,9 @@ public final class Scenario implements Iterable<ScenarioEvent> {
         return changes;
     }
 
-    /** Prefix of event ids: the first three letters of the scenario name and a dash. */
+    /** Prefix of event ids: {@code rsp-} (respiratory) or {@code std-} (steady). */
     public String idPrefix() {
-        return name.substring(0, Math.min(3, name.length())) + "-";
+        return name.equals(STEADY) ? "std-" : "rsp-";
     }
 
     /** Simulated time at which a change takes effect. */

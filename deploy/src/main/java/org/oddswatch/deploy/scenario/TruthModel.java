@@ -27,7 +27,7 @@ import java.util.Map;
  *   <tr><td>clinic=eastgate</td><td>1.051</td><td>0.05</td></tr>
  *   <tr><td>clinic=stonebridge</td><td>0.887</td><td>-0.12</td></tr>
  * </table>
- * Over the {@link Population}, this gives a marginal prevalence of 0.0500 (exact sum over the 160
+ * Over the {@link Population}, this gives a marginal prevalence of 0.0501 (exact sum over the 160
  * attribute combinations, see {@link Scenario#expectedPrevalence}).
  */
 public final class TruthModel {

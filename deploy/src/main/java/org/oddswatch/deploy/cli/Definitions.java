@@ -1,0 +1,32 @@
+package org.oddswatch.deploy.cli;
+
+import java.nio.file.Files;
+import java.nio.file.Path;
+import org.oddswatch.ingest.definition.DefinitionException;
+import org.oddswatch.ingest.definition.DefinitionLoader;
+import org.oddswatch.ingest.definition.MonitorConfig;
+
+/** Loading a monitor definition named by {@code --config}, with errors as configuration errors (exit 2). */
+final class Definitions {
+
+    private Definitions() {
+    }
+
+    static MonitorConfig load(Path config) {
+        if (!Files.isRegularFile(config)) {
+            throw UserError.config("no such definition file: " + config);
+        }
+        try {
+            return DefinitionLoader.load(config);
+        } catch (DefinitionException e) {
+            throw UserError.config(e.getMessage(), e);
+        }
+    }
+
+    static Path requireFile(Path file, String option) {
+        if (!Files.isRegularFile(file)) {
+            throw UserError.config(option + ": no such file: " + file);
+        }
+        return file;
+    }
+}

@@ -1,0 +1,131 @@
+package org.oddswatch.deploy.cli;
+
+import java.io.BufferedWriter;
+import java.io.IOException;
+import java.io.OutputStreamWriter;
+import java.io.PrintWriter;
+import java.io.Writer;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.time.Duration;
+import java.util.Iterator;
+import java.util.concurrent.Callable;
+import org.oddswatch.deploy.feed.SimulatedClock;
+import org.oddswatch.deploy.feed.TopicPublisher;
+import org.oddswatch.deploy.scenario.Scenario;
+import org.oddswatch.deploy.scenario.ScenarioEvent;
+import picocli.CommandLine.ArgGroup;
+import picocli.CommandLine.Command;
+import picocli.CommandLine.Mixin;
+import picocli.CommandLine.Option;
+import picocli.CommandLine.Spec;
+import picocli.CommandLine.Model.CommandSpec;
+
+/** {@code oddswatch simulate}: scenario records to a JSON Lines file or a Kafka topic. */
+@Command(name = "simulate", mixinStandardHelpOptions = true,
+        description = {
+            "Write simulated scenario records to a JSON Lines file or a Kafka topic.",
+            "The scenarios and their true parameters are described in deploy/SCENARIOS.md. Records sent to a topic "
+            + "are keyed by region and carry their event time as the record timestamp; give such a topic "
+            + "unlimited time retention (retention.ms=-1) when the simulated dates lie in the past."})
+final class SimulateCommand implements Callable<Integer> {
+
+    @Mixin
+    ScenarioArgs scenario = new ScenarioArgs();
+
+    @Option(names = {"--duration", "--span"}, paramLabel = "DURATION", defaultValue = "P280D",
+            description = "Simulated span (ISO-8601 or 40w, 90d, ...). Default: ${DEFAULT-VALUE} (40 weeks).")
+    Duration span;
+
+    @ArgGroup(exclusive = true, multiplicity = "1")
+    Target target;
+
+    static final class Target {
+        @Option(names = "--out", paramLabel = "FILE", description = "JSON Lines file to write ('-' for standard output).")
+        String out;
+
+        @Option(names = "--topic", paramLabel = "TOPIC", description = "Kafka topic to send to.")
+        String topic;
+
+        @Option(names = "--describe", description = "Only print the scenario, its true parameters' script and expected prevalence.")
+        boolean describe;
+    }
+
+    @Mixin
+    KafkaOptions kafka = new KafkaOptions();
+
+    @Option(names = "--speed", paramLabel = "FACTOR", defaultValue = "0",
+            description = "With --topic: simulated time runs this many times faster than real time (0 = as fast as possible). Default: ${DEFAULT-VALUE}.")
+    double speed;
+
+    @Spec
+    CommandSpec spec;
+
+    @Override
+    public Integer call() throws Exception {
+        Scenario s = scenario.build(span);
+        PrintWriter out = spec.commandLine().getOut();
+        if (target.describe) {
+            out.print(s.describe());
+            out.flush();
+            return 0;
+        }
+        if (target.topic != null) {
+            return toTopic(s, out);
+        }
+        long n = toFile(s, target.out, out);
+        if (!"-".equals(target.out)) {
+            out.println("wrote " + n + " records of scenario " + s.name() + " to " + target.out);
+        }
+        return 0;
+    }
+
+    private static long toFile(Scenario s, String file, PrintWriter console) throws IOException {
+        if ("-".equals(file)) {
+            Writer w = new BufferedWriter(new OutputStreamWriter(System.out, StandardCharsets.UTF_8));
+            long n = write(s.iterator(), w);
+            w.flush();
+            return n;
+        }
+        Path path = Path.of(file);
+        Path parent = path.toAbsolutePath().getParent();
+        if (parent != null && !Files.isDirectory(parent)) {
+            throw UserError.config("cannot write " + file + ": directory " + parent + " does not exist");
+        }
+        try (Writer w = Files.newBufferedWriter(path, StandardCharsets.UTF_8)) {
+            return write(s.iterator(), w);
+        }
+    }
+
+    private static long write(Iterator<ScenarioEvent> events, Writer w) throws IOException {
+        long n = 0;
+        while (events.hasNext()) {
+            w.write(events.next().toJson());
+            w.write('\n');
+            n++;
+        }
+        return n;
+    }
+
+    private int toTopic(Scenario s, PrintWriter out) throws InterruptedException {
+        if (speed < 0) {
+            throw UserError.config("--speed must be 0 or positive, got " + speed);
+        }
+        SimulatedClock clock = new SimulatedClock(s.options().start(), speed);
+        StopSignals signals = StopSignals.install();
+        try (TopicPublisher publisher = new TopicPublisher(kafka.clientProps(System.getenv()), target.topic)) {
+            if (clock.paced()) {
+                out.println("sending scenario " + s.name() + " to " + target.topic + " at " + speed
+                        + "x real time (the span takes about " + clock.realTimeOf(span).toSeconds() + " s)");
+                out.flush();
+            }
+            long n = publisher.publish(s.iterator(), clock, signals::stopRequested);
+            out.println("sent " + n + " records of scenario " + s.name() + " to " + target.topic
+                    + (signals.stopRequested() ? " (stopped early)" : ""));
+        } finally {
+            signals.finished();
+        }
+        return 0;
+    }
+}
