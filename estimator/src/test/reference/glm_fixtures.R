@@ -88,3 +88,16 @@ writeLines(c(paste0("# Source: ", src, "; brglm2 ", as.character(packageVersion(
                     " glm(positive ~ contact + I(age / 10), binomial, method = \"brglmFit\", type = \"MPL_Jeffreys\")"),
              "column,coef,se", paste(rownames(sm), f(sm[, 1]), f(sm[, 2]), sep = ",")),
            file.path(dir, "separated-firth-fit.csv"))
+
+# 5. Likelihood-ratio tests (stats::drop1, test = "LRT") and profile-likelihood intervals
+#    (MASS::confint.glm, which profiles the deviance and interpolates) for the individual dataset.
+fit <- glm(positive ~ age10 + travel + clinic, family = binomial, data = d, control = tight)
+lrt <- drop1(fit, test = "LRT")
+ci <- suppressMessages(MASS:::confint.glm(fit, level = 0.95))
+writeLines(c(paste0("# Source: ", src, "; stats::drop1(glm(positive ~ I(age / 10) + travel + clinic), test = \"LRT\");",
+                    " MASS ", as.character(packageVersion("MASS")), " confint.glm(level = 0.95) (profile likelihood)"),
+             "term,chisq,df,p",
+             paste(rownames(lrt)[-1], f(lrt$LRT[-1]), lrt$Df[-1], f(lrt[["Pr(>Chi)"]][-1]), sep = ","),
+             "column,profileLower,profileUpper",
+             paste(rownames(ci), f(ci[, 1]), f(ci[, 2]), sep = ",")),
+           file.path(dir, "individual-lrt-profile.csv"))

@@ -4,6 +4,7 @@ import java.time.Instant;
 import java.util.ArrayList;
 import java.util.List;
 import org.oddswatch.estimator.calibration.BaselineModel;
+import org.oddswatch.estimator.calibration.CalibrationStatistics;
 import org.oddswatch.estimator.fit.FitResult;
 import org.oddswatch.estimator.fit.FitState;
 import org.oddswatch.estimator.prevalence.Prevalence;
@@ -80,7 +81,7 @@ public final class WindowEstimator {
     }
 
     private CalibrationEstimate calibrate(WindowData data, BaselineModel baseline, List<String> notes) {
-        return BaselineCalibration.assess(data, baseline, options, notes);
+        return CalibrationStatistics.compute(data, baseline, options, notes::add);
     }
 
     /**
