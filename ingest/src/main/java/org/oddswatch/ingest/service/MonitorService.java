@@ -1,0 +1,159 @@
+package org.oddswatch.ingest.service;
+
+import io.micrometer.core.instrument.MeterRegistry;
+import io.micrometer.core.instrument.Tag;
+import io.micrometer.core.instrument.binder.kafka.KafkaClientMetrics;
+import java.time.Duration;
+import java.util.List;
+import java.util.Locale;
+import java.util.Properties;
+import java.util.concurrent.CountDownLatch;
+import java.util.concurrent.TimeUnit;
+import java.util.function.LongSupplier;
+import org.apache.kafka.clients.consumer.CloseOptions;
+import org.apache.kafka.clients.consumer.ConsumerConfig;
+import org.apache.kafka.clients.consumer.CooperativeStickyAssignor;
+import org.apache.kafka.clients.consumer.KafkaConsumer;
+import org.apache.kafka.common.serialization.ByteArrayDeserializer;
+import org.oddswatch.ingest.definition.MonitorConfig;
+import org.oddswatch.ingest.kafka.KafkaClientSettings;
+import org.oddswatch.ingest.kafka.KafkaOutputPublisher;
+import org.oddswatch.ingest.pipeline.MonitorPipeline;
+import org.oddswatch.ingest.pipeline.PipelineSettings;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
+
+/**
+ * The live service: one Kafka consumer in the configured group, subscribed to the input topics of
+ * all monitors, with its poll loop on one thread ({@link PollLoop}), one idempotent producer for
+ * estimates, rejects and alerts, and one pipeline per assigned partition.
+ *
+ * <p>Delivery: at least once. Input offsets are committed synchronously only after every output
+ * caused by the records before them is acknowledged, so after a crash the records after the last
+ * commit are processed again and their outputs sent again, with the same keys and (for final
+ * estimates and alerts) the same content: consumers that keep the latest value per estimate key
+ * ({@code <stream>|<windowEnd>}) or per alert id see each one once. A clean stop ({@link #close()})
+ * commits everything, so nothing is sent twice.
+ *
+ * <p>Lifecycle: {@link #start()} starts the loop; the service is {@linkplain #ready() ready} after
+ * its partitions are assigned and their state rebuilt; {@link #close()} (also from a SIGTERM hook)
+ * wakes the loop up, commits, leaves the group and closes the clients.
+ */
+public final class MonitorService implements AutoCloseable {
+
+    private static final Logger LOG = LoggerFactory.getLogger(MonitorService.class);
+
+    private final KafkaConsumer<byte[], byte[]> consumer;
+    private final KafkaConsumer<byte[], byte[]> lookup;
+    private final KafkaOutputPublisher publisher;
+    private final List<KafkaClientMetrics> clientMetrics;
+    private final PollLoop loop;
+    private final Thread thread;
+    private final CountDownLatch stopped = new CountDownLatch(1);
+    private volatile Throwable failure;
+
+    /**
+     * @param config the loaded definition (Kafka settings, service settings, monitors)
+     * @param registry where the service, pipeline and Kafka client meters go
+     * @param instance a name for this instance (client ids, thread name, meter tag)
+     */
+    public MonitorService(MonitorConfig config, MeterRegistry registry, String instance) {
+        this(config, PipelineSettings.defaults().withLimits(config.limits()), registry, instance, Duration.ofMillis(500),
+                System::currentTimeMillis);
+    }
+
+    /**
+     * @param pipelineSettings record limits, baseline reader and replay hint for the pipelines
+     * @param commitInterval how often outputs are flushed and offsets committed (also on revoke and stop)
+     * @param wallClockMillis the wall clock, used only for the idle timeout and an empty-group start at "latest"
+     */
+    public MonitorService(MonitorConfig config, PipelineSettings pipelineSettings, MeterRegistry registry,
+                          String instance, Duration commitInterval, LongSupplier wallClockMillis) {
+        KafkaClientSettings settings = new KafkaClientSettings(config.kafka());
+        Properties consumerProps = settings.consumer(config.service().groupId(), "oddswatch-" + instance);
+        consumerProps.putIfAbsent(ConsumerConfig.PARTITION_ASSIGNMENT_STRATEGY_CONFIG,
+                CooperativeStickyAssignor.class.getName());
+        consumerProps.putIfAbsent(ConsumerConfig.MAX_POLL_RECORDS_CONFIG, "2000");
+        boolean latest = "latest".equals(String.valueOf(consumerProps.get(ConsumerConfig.AUTO_OFFSET_RESET_CONFIG))
+                .toLowerCase(Locale.ROOT));
+        this.consumer = new KafkaConsumer<>(consumerProps, new ByteArrayDeserializer(), new ByteArrayDeserializer());
+        this.lookup = new KafkaConsumer<>(settings.reader("oddswatch-" + instance + "-lookup"),
+                new ByteArrayDeserializer(), new ByteArrayDeserializer());
+        this.publisher = new KafkaOutputPublisher(settings.producer("oddswatch-" + instance + "-out"), config.monitors());
+        List<Tag> tags = List.of(Tag.of("instance", instance));
+        this.clientMetrics = List.of(new KafkaClientMetrics(consumer, tags), new KafkaClientMetrics(publisher.producer(), tags));
+        clientMetrics.forEach(m -> m.bindTo(registry));
+        AlertArchive archive = new AlertArchive(settings.reader("oddswatch-" + instance + "-alerts"), Duration.ofSeconds(30));
+        PollLoop.PipelineFactory factory = tp -> new MonitorPipeline(tp.toString(), config.monitorsFor(tp.topic()),
+                publisher, pipelineSettings);
+        this.loop = new PollLoop(config, consumer, lookup, publisher, factory, archive,
+                new ServiceMeters(registry, instance), commitInterval, latest, wallClockMillis);
+        this.thread = new Thread(this::runLoop, "oddswatch-poll-" + instance);
+    }
+
+    /** Starts the poll loop thread. */
+    public MonitorService start() {
+        thread.start();
+        return this;
+    }
+
+    private void runLoop() {
+        try {
+            loop.run();
+        } catch (Throwable t) {
+            failure = t;
+            LOG.error("the poll loop stopped on an error", t);
+        } finally {
+            closeClients();
+            stopped.countDown();
+        }
+    }
+
+    /** True once every assigned partition's state is rebuilt and the loop is live. */
+    public boolean ready() {
+        return "ready".equals(loop.snapshot().state());
+    }
+
+    /** The latest status snapshot (thread-safe). */
+    public ServiceStatus status() {
+        return loop.snapshot();
+    }
+
+    /** The error that stopped the loop, or null. */
+    public Throwable failure() {
+        return failure;
+    }
+
+    /** Waits until the loop has stopped (after {@link #close()} or an error); true if it did in time. */
+    public boolean awaitStopped(Duration timeout) throws InterruptedException {
+        return stopped.await(timeout.toMillis(), TimeUnit.MILLISECONDS);
+    }
+
+    /** Stops the loop (outputs flushed, offsets committed, group left) and waits for it. */
+    @Override
+    public void close() {
+        loop.stop();
+        if (thread.isAlive()) {
+            try {
+                if (!stopped.await(60, TimeUnit.SECONDS)) {
+                    LOG.warn("the poll loop did not stop within 60 s");
+                }
+            } catch (InterruptedException e) {
+                Thread.currentThread().interrupt();
+            }
+        } else if (thread.getState() == Thread.State.NEW) {
+            closeClients();
+        }
+    }
+
+    private void closeClients() {
+        clientMetrics.forEach(KafkaClientMetrics::close);
+        try {
+            consumer.close(CloseOptions.timeout(Duration.ofSeconds(10)));
+        } catch (RuntimeException e) {
+            LOG.warn("closing the consumer: {}", e.getMessage());
+        }
+        lookup.close(CloseOptions.timeout(Duration.ofSeconds(5)));
+        publisher.close();
+    }
+}

@@ -1,0 +1,33 @@
+package org.oddswatch.ingest.service;
+
+import org.apache.kafka.common.TopicPartition;
+import org.oddswatch.ingest.pipeline.MonitorPipeline;
+
+/**
+ * What the service holds for one assigned input partition: its own pipeline (the streams keyed to
+ * this partition), how far the suppressed re-read must go, and the next offset to commit.
+ * Confined to the poll-loop thread.
+ */
+final class PartitionState {
+
+    final TopicPartition partition;
+    final MonitorPipeline pipeline;
+    /** Records below this offset were processed before (by this or another instance): state only. */
+    long rebuildUntil = -1;
+    /** True from assignment until the seek-back position is set. */
+    boolean planned;
+    /** Offset after the last live record processed, or -1 when none since assignment. */
+    long nextCommit = -1;
+    long lastCommitted = -1;
+    long rebuildStartedNanos;
+    long rebuiltRecords;
+
+    PartitionState(TopicPartition partition, MonitorPipeline pipeline) {
+        this.partition = partition;
+        this.pipeline = pipeline;
+    }
+
+    boolean rebuilding(long position) {
+        return !planned || position < rebuildUntil;
+    }
+}

@@ -1,0 +1,444 @@
+package org.oddswatch.ingest.service;
+
+import java.time.Duration;
+import java.util.ArrayList;
+import java.util.Collection;
+import java.util.HashMap;
+import java.util.HashSet;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.OptionalLong;
+import java.util.Set;
+import java.util.function.LongSupplier;
+import org.apache.kafka.clients.consumer.ConsumerRebalanceListener;
+import org.apache.kafka.clients.consumer.ConsumerRecord;
+import org.apache.kafka.clients.consumer.ConsumerRecords;
+import org.apache.kafka.clients.consumer.KafkaConsumer;
+import org.apache.kafka.clients.consumer.OffsetAndMetadata;
+import org.apache.kafka.clients.consumer.OffsetAndTimestamp;
+import org.apache.kafka.common.TopicPartition;
+import org.apache.kafka.common.errors.WakeupException;
+import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.ingest.definition.MonitorConfig;
+import org.oddswatch.ingest.definition.MonitorDefinition;
+import org.oddswatch.ingest.kafka.KafkaOutputPublisher;
+import org.oddswatch.ingest.pipeline.MonitorPipeline;
+import org.oddswatch.ingest.pipeline.OutcomeCounts;
+import org.oddswatch.ingest.pipeline.RecordOrigin;
+import org.oddswatch.ingest.pipeline.PipelineSnapshot;
+import org.oddswatch.ingest.pipeline.RecordOutcome;
+import org.oddswatch.ingest.pipeline.StreamStatus;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
+
+/**
+ * The one poll-loop thread of one consumer. All pipeline state is confined to this thread; other
+ * threads see only the {@link ServiceStatus} snapshot it publishes.
+ *
+ * <p>Per iteration: poll; feed every record to its partition's pipeline (suppressed below the
+ * rebuild offset); at most every {@code commitInterval}, flush the producer and then commit the
+ * offsets after the last live record of each partition synchronously; emit interim estimates on the
+ * refresh interval; move quiet streams' watermarks on after the idle timeout.
+ *
+ * <p>Rebalances: on revoke the producer is flushed and the revoked partitions' offsets committed,
+ * then their pipelines are dropped. On assign a fresh pipeline is created per partition and the
+ * partition paused; the blocking look-ups of the rebuild (committed offsets, the committed record's
+ * timestamp, offsets for times, the published alerts) run in the loop, not in the callback; then the
+ * partition is sought back and resumed.
+ */
+final class PollLoop implements Runnable, ConsumerRebalanceListener {
+
+    private static final Logger LOG = LoggerFactory.getLogger(PollLoop.class);
+    private static final Duration POLL = Duration.ofMillis(100);
+    private static final long SNAPSHOT_NANOS = 200_000_000L;
+    private static final long IDLE_CHECK_NANOS = 1_000_000_000L;
+
+    private final MonitorConfig config;
+    private final KafkaConsumer<byte[], byte[]> consumer;
+    private final KafkaConsumer<byte[], byte[]> lookup;
+    private final KafkaOutputPublisher publisher;
+    private final PipelineFactory pipelines;
+    private final AlertArchive archive;
+    private final ServiceMeters meters;
+    private final Duration timeout;
+    private final long commitIntervalNanos;
+    private final boolean resetToLatest;
+    private final LongSupplier wallClockMillis;
+    private final Map<String, RebuildSpan> spans = new HashMap<>();
+
+    private final Map<TopicPartition, PartitionState> states = new LinkedHashMap<>();
+    private final Map<String, long[]> streamActivity = new HashMap<>();
+    private final OutcomeCounts counts = new OutcomeCounts();
+    private boolean assignedOnce;
+    private long lastCommitNanos = System.nanoTime();
+    private long lastRefreshNanos = System.nanoTime();
+    private long lastSnapshotNanos;
+    private long lastIdleCheckNanos;
+    private volatile boolean closing;
+    private volatile ServiceStatus snapshot = ServiceStatus.starting();
+
+    /** Creates a partition's pipeline; the service passes the publisher as listener. */
+    interface PipelineFactory {
+        MonitorPipeline create(TopicPartition partition);
+    }
+
+    PollLoop(MonitorConfig config, KafkaConsumer<byte[], byte[]> consumer, KafkaConsumer<byte[], byte[]> lookup,
+             KafkaOutputPublisher publisher, PipelineFactory pipelines, AlertArchive archive, ServiceMeters meters,
+             Duration commitInterval, boolean resetToLatest, LongSupplier wallClockMillis) {
+        this.config = config;
+        this.consumer = consumer;
+        this.lookup = lookup;
+        this.publisher = publisher;
+        this.pipelines = pipelines;
+        this.archive = archive;
+        this.meters = meters;
+        this.timeout = Duration.ofSeconds(30);
+        this.commitIntervalNanos = commitInterval.toNanos();
+        this.resetToLatest = resetToLatest;
+        this.wallClockMillis = wallClockMillis;
+        for (String topic : config.topics()) {
+            spans.put(topic, RebuildSpan.of(config.monitorsFor(topic), config.service().rebuildMargin()));
+        }
+    }
+
+    ServiceStatus snapshot() {
+        return snapshot;
+    }
+
+    /** Asks the loop to stop: it leaves poll at once, commits what is flushed and closes. */
+    void stop() {
+        closing = true;
+        consumer.wakeup();
+    }
+
+    @Override
+    public void run() {
+        try {
+            consumer.subscribe(new ArrayList<>(config.topics()), this);
+            while (!closing) {
+                ConsumerRecords<byte[], byte[]> records = consumer.poll(POLL);
+                planPendingRebuilds();
+                process(records);
+                finishRebuilds();
+                if (System.nanoTime() - lastCommitNanos >= commitIntervalNanos) {
+                    flushAndCommit(states.keySet());
+                }
+                tick();
+            }
+        } catch (WakeupException e) {
+            if (!closing) {
+                throw e;
+            }
+        } finally {
+            try {
+                if (!states.isEmpty()) {
+                    flushAndCommit(states.keySet());
+                }
+            } finally {
+                snapshot = snapshot.stopped();
+            }
+        }
+    }
+
+    // ---- records ---------------------------------------------------------------------------
+
+    private void process(ConsumerRecords<byte[], byte[]> records) {
+        for (TopicPartition tp : records.partitions()) {
+            PartitionState state = states.get(tp);
+            if (state == null || !state.planned) {
+                continue;
+            }
+            for (ConsumerRecord<byte[], byte[]> record : records.records(tp)) {
+                boolean suppress = record.offset() < state.rebuildUntil;
+                byte[] value = record.value() == null ? new byte[0] : record.value();
+                RecordOutcome outcome = state.pipeline.offer(value,
+                        new RecordOrigin(tp.topic(), tp.partition(), record.offset(), -1), suppress);
+                if (suppress) {
+                    state.rebuiltRecords++;
+                    meters.rebuildRecord();
+                } else {
+                    counts.add(outcome);
+                    meters.liveRecord();
+                    state.nextCommit = record.offset() + 1;
+                }
+            }
+        }
+    }
+
+    private void flushAndCommit(Collection<TopicPartition> partitions) {
+        publisher.flush();
+        Map<TopicPartition, OffsetAndMetadata> offsets = new HashMap<>();
+        for (TopicPartition tp : partitions) {
+            PartitionState state = states.get(tp);
+            if (state != null && state.nextCommit > state.lastCommitted) {
+                offsets.put(tp, new OffsetAndMetadata(state.nextCommit));
+            }
+        }
+        if (!offsets.isEmpty()) {
+            consumer.commitSync(offsets, timeout);
+            offsets.forEach((tp, om) -> states.get(tp).lastCommitted = om.offset());
+        }
+        lastCommitNanos = System.nanoTime();
+    }
+
+    // ---- rebalance -------------------------------------------------------------------------
+
+    @Override
+    public void onPartitionsRevoked(Collection<TopicPartition> partitions) {
+        try {
+            flushAndCommit(partitions);
+        } finally {
+            drop(partitions);
+        }
+    }
+
+    @Override
+    public void onPartitionsLost(Collection<TopicPartition> partitions) {
+        LOG.warn("partitions lost without a clean hand-over (their outputs since the last commit will be "
+                + "produced again by the new owner): {}", partitions);
+        drop(partitions);
+    }
+
+    @Override
+    public void onPartitionsAssigned(Collection<TopicPartition> partitions) {
+        assignedOnce = true;
+        for (TopicPartition tp : partitions) {
+            states.put(tp, new PartitionState(tp, pipelines.create(tp)));
+        }
+        // No records for these until their rebuild position is set in the loop.
+        consumer.pause(partitions);
+        snapshot = buildSnapshot();
+    }
+
+    private void drop(Collection<TopicPartition> partitions) {
+        for (TopicPartition tp : partitions) {
+            PartitionState state = states.remove(tp);
+            if (state != null) {
+                for (String stream : state.pipeline.streams()) {
+                    streamActivity.remove(stream);
+                }
+            }
+        }
+        snapshot = buildSnapshot();
+    }
+
+    // ---- rebuild ---------------------------------------------------------------------------
+
+    private void planPendingRebuilds() {
+        List<PartitionState> pending = new ArrayList<>();
+        for (PartitionState state : states.values()) {
+            if (!state.planned) {
+                pending.add(state);
+            }
+        }
+        if (pending.isEmpty()) {
+            return;
+        }
+        long started = System.nanoTime();
+        Set<TopicPartition> tps = new HashSet<>();
+        pending.forEach(s -> tps.add(s.partition));
+        restoreAlerts(pending);
+
+        Map<TopicPartition, OffsetAndMetadata> committed = consumer.committed(tps, timeout);
+        Map<TopicPartition, Long> beginning = consumer.beginningOffsets(tps, timeout);
+        Map<TopicPartition, Long> end = consumer.endOffsets(tps, timeout);
+        Map<TopicPartition, Long> startTimes = new HashMap<>();
+        for (PartitionState state : pending) {
+            TopicPartition tp = state.partition;
+            OffsetAndMetadata c = committed.get(tp);
+            long until;
+            Long recordMillis;
+            if (c != null) {
+                until = c.offset();
+                recordMillis = recordTimestamp(tp, until, beginning.get(tp), end.get(tp));
+            } else if (resetToLatest) {
+                until = end.get(tp);
+                recordMillis = wallClockMillis.getAsLong();
+            } else {
+                until = beginning.get(tp);
+                recordMillis = null;
+            }
+            state.rebuildUntil = until;
+            state.rebuildStartedNanos = started;
+            if (recordMillis == null || until <= beginning.get(tp)) {
+                consumer.seek(tp, until);
+            } else {
+                startTimes.put(tp, Math.max(0, spans.get(tp.topic()).startMillis(recordMillis)));
+            }
+        }
+        if (!startTimes.isEmpty()) {
+            Map<TopicPartition, OffsetAndTimestamp> found = consumer.offsetsForTimes(startTimes, timeout);
+            for (Map.Entry<TopicPartition, Long> e : startTimes.entrySet()) {
+                TopicPartition tp = e.getKey();
+                PartitionState state = states.get(tp);
+                OffsetAndTimestamp at = found.get(tp);
+                long from = at == null ? state.rebuildUntil : Math.min(at.offset(), state.rebuildUntil);
+                consumer.seek(tp, Math.max(from, beginning.get(tp)));
+                LOG.info("rebuilding {} from offset {} to {} ({})", tp, from, state.rebuildUntil, spans.get(tp.topic()));
+            }
+        }
+        for (PartitionState state : pending) {
+            state.planned = true;
+        }
+        consumer.resume(tps);
+        meters.rebuildStarted(pending.size());
+        snapshot = buildSnapshot();
+    }
+
+    /**
+     * Timestamp of the record at {@code offset}, or of the one before it when {@code offset} is the
+     * end of the partition; null when the partition holds neither.
+     */
+    private Long recordTimestamp(TopicPartition tp, long offset, long beginning, long end) {
+        long target = offset < end ? offset : offset - 1;
+        if (target < beginning || target >= end) {
+            return null;
+        }
+        lookup.assign(List.of(tp));
+        lookup.seek(tp, target);
+        long deadline = System.nanoTime() + timeout.toNanos();
+        while (System.nanoTime() < deadline) {
+            for (ConsumerRecord<byte[], byte[]> r : lookup.poll(POLL).records(tp)) {
+                if (r.offset() >= target) {
+                    return r.timestamp();
+                }
+            }
+            if (lookup.position(tp) >= end) {
+                return null;
+            }
+        }
+        throw new IllegalStateException("could not read the record at " + tp + "@" + target + " within " + timeout);
+    }
+
+    private void restoreAlerts(List<PartitionState> pending) {
+        Set<String> alertTopics = new HashSet<>();
+        for (PartitionState state : pending) {
+            for (MonitorDefinition monitor : config.monitorsFor(state.partition.topic())) {
+                alertTopics.add(monitor.outputs().alertsTopic());
+            }
+        }
+        List<Alert> published = archive.read(alertTopics);
+        for (PartitionState state : pending) {
+            List<Alert> mine = new ArrayList<>();
+            for (Alert alert : published) {
+                if (belongsTo(alert.stream(), config.monitorsFor(state.partition.topic()))) {
+                    mine.add(alert);
+                }
+            }
+            state.pipeline.restoreAlerts(mine);
+        }
+    }
+
+    private static boolean belongsTo(String stream, List<MonitorDefinition> monitors) {
+        for (MonitorDefinition monitor : monitors) {
+            if (stream.equals(monitor.name()) || stream.startsWith(monitor.name() + "/")) {
+                return true;
+            }
+        }
+        return false;
+    }
+
+    private void finishRebuilds() {
+        for (PartitionState state : states.values()) {
+            if (state.planned && state.rebuildStartedNanos != 0 && consumer.position(state.partition) >= state.rebuildUntil) {
+                long nanos = System.nanoTime() - state.rebuildStartedNanos;
+                LOG.info("{} rebuilt: {} records re-read in {} ms", state.partition, state.rebuiltRecords, nanos / 1_000_000);
+                meters.rebuildFinished(nanos);
+                state.rebuildStartedNanos = 0;
+            }
+        }
+    }
+
+    private boolean ready() {
+        if (!assignedOnce || closing) {
+            return false;
+        }
+        for (PartitionState state : states.values()) {
+            if (!state.planned || state.rebuildStartedNanos != 0) {
+                return false;
+            }
+        }
+        return true;
+    }
+
+    // ---- timers ----------------------------------------------------------------------------
+
+    private void tick() {
+        long now = System.nanoTime();
+        Duration refresh = config.service().refresh();
+        if (refresh != null && !refresh.isZero() && now - lastRefreshNanos >= refresh.toNanos()) {
+            for (PartitionState state : states.values()) {
+                if (live(state)) {
+                    state.pipeline.emitInterim();
+                }
+            }
+            lastRefreshNanos = now;
+        }
+        moveQuietStreams(now);
+        meters.ready(ready());
+        if (now - lastSnapshotNanos >= SNAPSHOT_NANOS) {
+            snapshot = buildSnapshot();
+            lastSnapshotNanos = now;
+        }
+    }
+
+    private boolean live(PartitionState state) {
+        return state.planned && state.rebuildStartedNanos == 0;
+    }
+
+    /**
+     * Idle timeout (live only): a stream whose watermark has not moved for {@code idleTimeout} of
+     * wall-clock time gets its watermark moved to the wall clock, closing its windows up to there.
+     */
+    private void moveQuietStreams(long nowNanos) {
+        Duration idle = config.service().idleTimeout();
+        if (idle == null || idle.isZero() || nowNanos - lastIdleCheckNanos < IDLE_CHECK_NANOS) {
+            return;
+        }
+        lastIdleCheckNanos = nowNanos;
+        for (PartitionState state : states.values()) {
+            if (!live(state)) {
+                continue;
+            }
+            for (StreamStatus stream : state.pipeline.snapshot().streams()) {
+                if (stream.watermark() == null) {
+                    continue;
+                }
+                long watermark = stream.watermark().toEpochMilli();
+                long[] activity = streamActivity.computeIfAbsent(stream.stream(), s -> new long[] {watermark, nowNanos});
+                if (activity[0] != watermark) {
+                    activity[0] = watermark;
+                    activity[1] = nowNanos;
+                } else if (nowNanos - activity[1] >= idle.toNanos()) {
+                    long wall = wallClockMillis.getAsLong();
+                    if (wall > watermark) {
+                        LOG.info("stream {} idle for {}: watermark moved to the wall clock", stream.stream(), idle);
+                        state.pipeline.advanceWatermark(stream.stream(), wall);
+                        activity[0] = wall;
+                    }
+                    activity[1] = nowNanos;
+                }
+            }
+        }
+    }
+
+    // ---- status ----------------------------------------------------------------------------
+
+    private ServiceStatus buildSnapshot() {
+        List<ServiceStatus.PartitionStatus> partitions = new ArrayList<>();
+        List<PipelineSnapshot> inputs = new ArrayList<>();
+        for (PartitionState state : states.values()) {
+            Long lag = null;
+            if (state.planned) {
+                OptionalLong l = consumer.currentLag(state.partition);
+                lag = l.isPresent() ? l.getAsLong() : null;
+            }
+            partitions.add(new ServiceStatus.PartitionStatus(state.partition.topic(), state.partition.partition(),
+                    !live(state), state.lastCommitted < 0 ? null : state.lastCommitted, lag));
+            inputs.add(state.pipeline.snapshot());
+        }
+        return new ServiceStatus(ready() ? "ready" : (closing ? "stopped" : "rebuilding"), counts.snapshot(),
+                partitions, inputs);
+    }
+}

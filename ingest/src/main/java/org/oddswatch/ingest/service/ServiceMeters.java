@@ -1,0 +1,56 @@
+package org.oddswatch.ingest.service;
+
+import io.micrometer.core.instrument.Counter;
+import io.micrometer.core.instrument.Gauge;
+import io.micrometer.core.instrument.MeterRegistry;
+import io.micrometer.core.instrument.Timer;
+import java.util.concurrent.TimeUnit;
+import java.util.concurrent.atomic.AtomicInteger;
+
+/**
+ * The service's own meters (the pipeline registers the per-stream ones; the Kafka clients' metrics
+ * are bound separately): {@code oddswatch.service.records} by {@code phase} (live or rebuild),
+ * {@code oddswatch.service.rebuilds} (partitions rebuilt), {@code oddswatch.service.rebuild.duration}
+ * and the {@code oddswatch.service.ready} gauge (1 when ready).
+ */
+final class ServiceMeters {
+
+    private final Counter live;
+    private final Counter rebuild;
+    private final Counter rebuilds;
+    private final Timer rebuildDuration;
+    private final AtomicInteger ready = new AtomicInteger();
+
+    ServiceMeters(MeterRegistry registry, String instance) {
+        live = Counter.builder("oddswatch.service.records").tag("phase", "live").tag("instance", instance)
+                .description("input records consumed").register(registry);
+        rebuild = Counter.builder("oddswatch.service.records").tag("phase", "rebuild").tag("instance", instance)
+                .description("input records consumed").register(registry);
+        rebuilds = Counter.builder("oddswatch.service.rebuilds").tag("instance", instance)
+                .description("partitions whose state was rebuilt").register(registry);
+        rebuildDuration = Timer.builder("oddswatch.service.rebuild.duration").tag("instance", instance)
+                .description("time to rebuild one partition's state").register(registry);
+        Gauge.builder("oddswatch.service.ready", ready, AtomicInteger::get).tag("instance", instance)
+                .description("1 once state is rebuilt and the service is live").register(registry);
+    }
+
+    void liveRecord() {
+        live.increment();
+    }
+
+    void rebuildRecord() {
+        rebuild.increment();
+    }
+
+    void rebuildStarted(int partitions) {
+        rebuilds.increment(partitions);
+    }
+
+    void rebuildFinished(long nanos) {
+        rebuildDuration.record(nanos, TimeUnit.NANOSECONDS);
+    }
+
+    void ready(boolean isReady) {
+        ready.set(isReady ? 1 : 0);
+    }
+}

@@ -1,0 +1,55 @@
+package org.oddswatch.ingest.service;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import io.micrometer.core.instrument.simple.SimpleMeterRegistry;
+import java.time.Duration;
+import java.time.Instant;
+import java.util.List;
+import java.util.Map;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.extension.RegisterExtension;
+import org.oddswatch.ingest.definition.MonitorConfig;
+import org.oddswatch.ingest.kafka.EmbeddedKafka;
+import org.oddswatch.ingest.pipeline.Outcome;
+
+/**
+ * Live service against a real broker versus a file replay of the same events: the final estimates
+ * must be the same JSON, byte for byte.
+ */
+class ServiceEndToEndTest {
+
+    @RegisterExtension
+    static final EmbeddedKafka KAFKA = new EmbeddedKafka();
+
+    @Test
+    void finalEstimatesOnTheTopicEqualThoseOfAFileReplay() throws Exception {
+        // Three regions over three partitions, keyed by region: one stream per region.
+        String prefix = "e2e";
+        KAFKA.createTopic(prefix + "-tests", 3);
+        for (String out : List.of("-estimates", "-rejects", "-alerts")) {
+            KAFKA.createTopic(prefix + out, 1);
+        }
+        List<TestFeed.Event> events = TestFeed.events(11, 3000, Instant.parse("2026-01-05T00:00:00Z"),
+                Duration.ofDays(140), Duration.ofHours(30), "north", "south", "west");
+        ServiceTestSupport.produce(KAFKA, prefix + "-tests", events, true);
+        // A short idle timeout: once the feed is consumed, quiet streams close their windows, as the
+        // end of a replay does.
+        MonitorConfig config = TestDefinitions.config(
+                TestDefinitions.yaml(KAFKA.bootstrapServers(), prefix, "e2e-group", true, "PT2S"));
+        Map<String, String> expected = ServiceTestSupport.replayFinals(config, prefix + "-tests", events);
+        assertTrue(expected.size() > 40, "replay gives windows for three streams: " + expected.size());
+
+        try (MonitorService service = new MonitorService(config, new SimpleMeterRegistry(), "e2e").start()) {
+            ServiceTestSupport.awaitTrue("all final estimates", Duration.ofSeconds(90),
+                    () -> ServiceTestSupport.finals(KAFKA, prefix + "-estimates").size() >= expected.size());
+            assertTrue(service.ready());
+            var counts = service.status().counts();
+            assertEquals(3000, counts.consumed());
+            assertEquals(counts.consumed(), counts.outcome(Outcome.ACCEPTED) + counts.outcome(Outcome.REJECTED)
+                    + counts.outcome(Outcome.LATE) + counts.outcome(Outcome.DUPLICATE));
+        }
+        ServiceTestSupport.assertSameEstimates(expected, ServiceTestSupport.finals(KAFKA, prefix + "-estimates"));
+    }
+}

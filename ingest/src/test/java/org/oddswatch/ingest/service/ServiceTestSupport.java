@@ -1,0 +1,154 @@
+package org.oddswatch.ingest.service;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.fail;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import java.io.IOException;
+import java.io.UncheckedIOException;
+import java.nio.charset.StandardCharsets;
+import java.time.Duration;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Map;
+import java.util.TreeMap;
+import java.util.function.BooleanSupplier;
+import org.apache.kafka.clients.admin.Admin;
+import org.apache.kafka.clients.admin.OffsetSpec;
+import org.apache.kafka.clients.consumer.ConsumerRecord;
+import org.apache.kafka.clients.consumer.OffsetAndMetadata;
+import org.apache.kafka.common.TopicPartition;
+import org.oddswatch.alerts.json.Json;
+import org.oddswatch.estimator.result.WindowEstimate;
+import org.oddswatch.ingest.definition.MonitorConfig;
+import org.oddswatch.ingest.kafka.EmbeddedKafka;
+import org.oddswatch.ingest.kafka.KafkaOutputPublisher;
+import org.oddswatch.ingest.pipeline.MonitorPipeline;
+import org.oddswatch.ingest.pipeline.PipelineListener;
+import org.oddswatch.ingest.pipeline.PipelineSettings;
+import org.oddswatch.ingest.pipeline.RecordOrigin;
+
+/** Shared steps of the service tests: produce, wait, read outputs, and the file-replay reference. */
+final class ServiceTestSupport {
+
+    private ServiceTestSupport() {
+    }
+
+    /** Produces the events, keyed by region when {@code keyed}, and waits for every ack. */
+    static void produce(EmbeddedKafka kafka, String topic, List<TestFeed.Event> events, boolean keyed) {
+        List<String> keys = new ArrayList<>();
+        List<byte[]> values = new ArrayList<>();
+        for (TestFeed.Event e : events) {
+            keys.add(keyed ? e.region() : null);
+            values.add(e.json());
+        }
+        kafka.produce(topic, keys, values);
+    }
+
+    /** The final estimates on a topic, by key; fails on two different finals for one key. */
+    static Map<String, String> finals(EmbeddedKafka kafka, String topic) {
+        Map<String, String> out = new TreeMap<>();
+        for (ConsumerRecord<String, byte[]> r : kafka.readAll(topic, Duration.ofSeconds(30))) {
+            String json = new String(r.value(), StandardCharsets.UTF_8);
+            if (tree(json).path("status").asText().equals("final")) {
+                String previous = out.put(r.key(), json);
+                if (previous != null) {
+                    fail("two final estimates for " + r.key() + (previous.equals(json) ? " (identical)" : ""));
+                }
+            }
+        }
+        return out;
+    }
+
+    /** Values of a topic as JSON trees, in read order. */
+    static List<JsonNode> values(EmbeddedKafka kafka, String topic) {
+        List<JsonNode> out = new ArrayList<>();
+        for (ConsumerRecord<String, byte[]> r : kafka.readAll(topic, Duration.ofSeconds(30))) {
+            out.add(tree(new String(r.value(), StandardCharsets.UTF_8)));
+        }
+        return out;
+    }
+
+    static JsonNode tree(String json) {
+        try {
+            return Json.mapper().readTree(json);
+        } catch (IOException e) {
+            throw new UncheckedIOException(e);
+        }
+    }
+
+    /**
+     * The reference: the same events through one pipeline in file order (as {@code oddswatch replay}
+     * does), every window closed at the end; final estimates by topic key.
+     */
+    static Map<String, String> replayFinals(MonitorConfig config, String topic, List<TestFeed.Event> events) {
+        Map<String, String> out = new TreeMap<>();
+        PipelineListener listener = new PipelineListener() {
+            @Override
+            public void onEstimate(WindowEstimate estimate) {
+                if (estimate.status().toString().equals("final")) {
+                    out.put(KafkaOutputPublisher.estimateKey(estimate), Json.write(estimate));
+                }
+            }
+        };
+        MonitorPipeline pipeline = new MonitorPipeline("file", config.monitorsFor(topic), listener,
+                PipelineSettings.defaults().withLimits(config.limits()));
+        long line = 0;
+        for (TestFeed.Event e : events) {
+            pipeline.offer(e.json(), RecordOrigin.line(++line), false);
+        }
+        pipeline.closeAll();
+        return out;
+    }
+
+    /** Waits until the group has committed the end offset of every partition of {@code topic}. */
+    static void awaitCommitted(EmbeddedKafka kafka, String group, String topic, Duration timeout) {
+        awaitTrue("group " + group + " to commit the end of " + topic, timeout, () -> caughtUp(kafka, group, topic));
+    }
+
+    static boolean caughtUp(EmbeddedKafka kafka, String group, String topic) {
+        try (Admin admin = kafka.admin()) {
+            Map<TopicPartition, OffsetAndMetadata> committed =
+                    admin.listConsumerGroupOffsets(group).partitionsToOffsetAndMetadata().get();
+            Map<TopicPartition, OffsetSpec> query = new TreeMap<>((a, b) -> Integer.compare(a.partition(), b.partition()));
+            int partitions = admin.describeTopics(List.of(topic)).allTopicNames().get().get(topic).partitions().size();
+            for (int p = 0; p < partitions; p++) {
+                query.put(new TopicPartition(topic, p), OffsetSpec.latest());
+            }
+            var ends = admin.listOffsets(query).all().get();
+            for (var e : ends.entrySet()) {
+                OffsetAndMetadata c = committed.get(e.getKey());
+                long end = e.getValue().offset();
+                if (end > 0 && (c == null || c.offset() < end)) {
+                    return false;
+                }
+            }
+            return true;
+        } catch (Exception e) {
+            return false;
+        }
+    }
+
+    static void awaitTrue(String what, Duration timeout, BooleanSupplier condition) {
+        long deadline = System.nanoTime() + timeout.toNanos();
+        while (!condition.getAsBoolean()) {
+            if (System.nanoTime() > deadline) {
+                fail("timed out waiting for " + what);
+            }
+            try {
+                Thread.sleep(100);
+            } catch (InterruptedException e) {
+                Thread.currentThread().interrupt();
+                fail("interrupted waiting for " + what);
+            }
+        }
+    }
+
+    /** Asserts the two maps of key to JSON are equal, naming the first difference. */
+    static void assertSameEstimates(Map<String, String> expected, Map<String, String> actual) {
+        assertEquals(expected.keySet(), actual.keySet(), "estimate keys");
+        for (Map.Entry<String, String> e : expected.entrySet()) {
+            assertEquals(e.getValue(), actual.get(e.getKey()), "estimate " + e.getKey());
+        }
+    }
+}

@@ -1,0 +1,67 @@
+package org.oddswatch.ingest.service;
+
+import java.util.Map;
+import org.oddswatch.ingest.definition.DefinitionException;
+import org.oddswatch.ingest.definition.DefinitionLoader;
+import org.oddswatch.ingest.definition.MonitorConfig;
+
+/** Monitor definitions for the Kafka tests, one set of topics per test. */
+final class TestDefinitions {
+
+    private TestDefinitions() {
+    }
+
+    /**
+     * A definition with one monitor, split by region when {@code split}, windows of 28 days every
+     * 7 days with 2 days' lateness.
+     *
+     * @param prefix prefix of the input and output topic names
+     * @param idleTimeout ISO-8601 idle timeout (a very long one keeps windows open until the
+     *     watermark closes them)
+     */
+    static String yaml(String bootstrap, String prefix, String group, boolean split, String idleTimeout) {
+        return """
+                kafka:
+                  bootstrap.servers: %s
+                service:
+                  http: 127.0.0.1:0
+                  groupId: %s
+                  refresh: PT1H
+                  idleTimeout: %s
+                  rebuildMargin: PT1H
+                monitors:
+                  - name: resp
+                    input: {topic: %s-tests}
+                    event:
+                      id: /id
+                      time: /collectedAt
+                      maxFutureSkew: P1D
+                      outcome: {field: /result, positive: ["positive"], negative: ["negative"]}
+                %s
+                    terms:
+                      - {name: household_contact, field: /exposure/household, kind: binary, level: "yes", reference: "no", watched: true}
+                      - {name: recent_travel, field: /exposure/travel, kind: binary, level: "yes", reference: "no", watched: true}
+                      - name: age_band
+                        field: /ageBand
+                        kind: categorical
+                        levels: ["0-17", "18-39", "40-64", "65+"]
+                        reference: "18-39"
+                        undeclared: reject
+                    window: {width: P28D, step: P7D, lateness: P2D, align: 2026-01-05T00:00:00Z}
+                    estimates: {level: 0.95, prevalenceInterval: wilson}
+                    outputs:
+                      estimatesTopic: %s-estimates
+                      rejectsTopic: %s-rejects
+                      alertsTopic: %s-alerts
+                """.formatted(bootstrap, group, idleTimeout, prefix,
+                split ? "    split: {field: /region, maxStreams: 3}" : "", prefix, prefix, prefix);
+    }
+
+    static MonitorConfig config(String yaml) {
+        try {
+            return DefinitionLoader.parse("test.yaml", yaml, Map.of(), null);
+        } catch (DefinitionException e) {
+            throw new IllegalStateException(e.getMessage(), e);
+        }
+    }
+}
