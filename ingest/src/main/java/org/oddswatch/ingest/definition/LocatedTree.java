@@ -49,7 +49,7 @@ final class LocatedTree {
         } catch (JsonProcessingException e) {
             JsonLocation where = e.getLocation();
             throw new DefinitionException(file, where == null ? 0 : line(where), "",
-                    "not valid YAML: " + e.getOriginalMessage());
+                    "not valid YAML: " + String.valueOf(e.getOriginalMessage()).replace("\n", "; "));
         } catch (IOException e) {
             throw new DefinitionException(file, 0, "", "cannot read: " + e.getMessage());
         }

@@ -1,0 +1,242 @@
+package org.oddswatch.ingest.definition;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertNotEquals;
+import static org.junit.jupiter.api.Assertions.assertNull;
+import static org.junit.jupiter.api.Assertions.assertThrows;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import java.net.URISyntaxException;
+import java.nio.file.Path;
+import java.time.Duration;
+import java.util.List;
+import java.util.Map;
+import org.junit.jupiter.api.Test;
+import org.oddswatch.estimator.terms.BinaryTerm;
+import org.oddswatch.estimator.terms.CategoricalTerm;
+import org.oddswatch.estimator.terms.NumericTerm;
+import org.oddswatch.estimator.terms.UndeclaredLevelPolicy;
+
+class DefinitionLoaderTest {
+
+    /** A valid two-monitor definition; tests break one line of it at a time. */
+    static final String VALID = String.join("\n",
+            "monitors:",                                                       // 1
+            "  - name: north",                                                  // 2
+            "    input: {topic: clinic-tests}",                                 // 3
+            "    event:",                                                       // 4
+            "      id: /id",                                                    // 5
+            "      time: /collectedAt",                                         // 6
+            "      outcome: {field: /result, positive: [positive], negative: [negative]}", // 7
+            "    terms:",                                                       // 8
+            "      - {name: household_contact, field: /exposure/household, kind: binary, watched: true}", // 9
+            "      - {name: age_years, field: /age, kind: numeric, per: 10}",   // 10
+            "      - name: age_band",                                           // 11
+            "        field: /ageBand",                                          // 12
+            "        kind: categorical",                                        // 13
+            "        levels: ['0-17', '18-39', '40-64', '65+']",                // 14
+            "        reference: '18-39'",                                       // 15
+            "    window: {width: P28D, step: P7D, lateness: P2D}",              // 16
+            "  - name: south",                                                  // 17
+            "    input: {topic: clinic-tests}",                                 // 18
+            "    event: {id: /id, time: /t, outcome: {field: /r}}",             // 19
+            "    window:",                                                      // 20
+            "      width: P14D",                                                // 21
+            "      step: P7D",                                                  // 22
+            "");
+
+    private static MonitorConfig parse(String text) throws DefinitionException {
+        return DefinitionLoader.parse("monitors.yaml", text, Map.of(), null);
+    }
+
+    private static DefinitionException error(String text) {
+        return assertThrows(DefinitionException.class, () -> parse(text));
+    }
+
+    @Test
+    void loadsSeveralMonitorsWithDefaults() throws Exception {
+        MonitorConfig config = parse(VALID);
+        assertEquals(2, config.monitors().size());
+        MonitorDefinition north = config.monitor("north");
+        assertEquals("clinic-tests", north.topic());
+        assertEquals("/exposure/household", north.terms().get(0).field().toString());
+        BinaryTerm household = (BinaryTerm) north.terms().get(0).term();
+        assertEquals("yes", household.level());
+        assertEquals("no", household.reference());
+        assertTrue(household.watched());
+        assertEquals(10.0, ((NumericTerm) north.terms().get(1).term()).per());
+        CategoricalTerm band = (CategoricalTerm) north.terms().get(2).term();
+        assertEquals(List.of("0-17", "18-39", "40-64", "65+"), band.levels());
+        assertEquals(UndeclaredLevelPolicy.REJECT, band.undeclared());
+        assertEquals(Duration.ofDays(2), north.window().lateness());
+        assertEquals(4, north.geometry().bucketsPerWindow());
+        assertEquals(Duration.ofDays(1), north.event().maxFutureSkew());
+        assertEquals(0.95, north.estimates().level());
+        assertEquals("wilson", north.estimates().prevalenceInterval());
+        assertEquals(4096, north.estimates().patternLimit());
+        assertEquals("oddswatch-estimates", north.outputs().estimatesTopic());
+        assertNull(north.split());
+        MonitorDefinition south = config.monitor("south");
+        assertEquals(List.of("positive", "true", "1"), south.event().outcome().positive());
+        assertEquals(Duration.ZERO, south.window().lateness());
+        assertEquals(List.of(north, south), config.monitorsFor("clinic-tests"));
+        assertEquals("127.0.0.1:8470", config.service().http());
+    }
+
+    @Test
+    void referenceLevelMustBeDeclared() {
+        DefinitionException e = error(VALID.replace("reference: '18-39'", "reference: '30-39'"));
+        assertEquals("monitors.yaml:15: monitors[0].terms[2].reference: level '30-39' is not one of the declared levels",
+                e.getMessage());
+    }
+
+    @Test
+    void widthMustBeAMultipleOfStep() {
+        DefinitionException e = error(VALID.replace("width: P14D", "width: P10D"));
+        assertEquals(21, e.line());
+        assertEquals("monitors[1].window.width", e.key());
+        assertTrue(e.problem().contains("multiple of step"), e.problem());
+    }
+
+    @Test
+    void durationsMustParse() {
+        DefinitionException e = error(VALID.replace("step: P7D\n", "step: 7 days\n"));
+        assertEquals(22, e.line());
+        assertEquals("monitors[1].window.step", e.key());
+        assertTrue(e.problem().contains("ISO-8601"), e.problem());
+    }
+
+    @Test
+    void pointersMustBeWellFormed() {
+        DefinitionException e = error(VALID.replace("field: /ageBand", "field: ageBand"));
+        assertEquals("monitors.yaml:12: monitors[0].terms[2].field: 'ageBand' is not a JSON Pointer: it must start"
+                + " with '/' (for example /exposure/household)", e.getMessage());
+        DefinitionException tilde = error(VALID.replace("time: /collectedAt", "time: /collected~2At"));
+        assertEquals(6, tilde.line());
+        assertEquals("monitors[0].event.time", tilde.key());
+    }
+
+    @Test
+    void unknownKeysAreNamed() {
+        DefinitionException e = error(VALID.replace("lateness: P2D", "latenes: P2D"));
+        assertEquals(16, e.line());
+        assertEquals("monitors[0].window.latenes", e.key());
+        assertTrue(e.problem().startsWith("unknown key"), e.problem());
+    }
+
+    @Test
+    void missingKeysNameTheirParent() {
+        DefinitionException e = error(VALID.replace("      id: /id\n", ""));
+        assertEquals("monitors[0].event", e.key());
+        assertEquals(4, e.line());
+        assertEquals("missing required key 'id'", e.problem());
+    }
+
+    @Test
+    void stratifyByMustBeCategorical() {
+        DefinitionException e = error(VALID.replace("    window: {width: P28D",
+                "    estimates: {stratifyBy: age_years}\n    window: {width: P28D"));
+        assertEquals("monitors.yaml:16: monitors[0].estimates.stratifyBy: 'age_years' must be a categorical term",
+                e.getMessage());
+    }
+
+    @Test
+    void baselinePeriodMustEndAfterItStarts() {
+        DefinitionException e = error(VALID + "    baseline: {from: 2026-03-01T00:00:00Z, to: 2026-02-01T00:00:00Z}\n");
+        assertEquals(23, e.line());
+        assertEquals("monitors[1].baseline.to", e.key());
+    }
+
+    @Test
+    void ruleTermsMustBeDeclaredAndWatched() {
+        String rules = "    rules:\n      oddsRatioDrift:\n        terms: [age_years]\n";
+        DefinitionException notWatched = error(VALID.replace("  - name: south", rules + "  - name: south"));
+        assertEquals("monitors.yaml:19: monitors[0].rules.oddsRatioDrift.terms[0]: term 'age_years' is not watched"
+                + " (set watched: true on it)", notWatched.getMessage());
+        DefinitionException undeclared = error(VALID.replace("  - name: south",
+                rules.replace("age_years", "travel") + "  - name: south"));
+        assertTrue(undeclared.getMessage().endsWith("'travel' is not a declared term"), undeclared.getMessage());
+    }
+
+    @Test
+    void duplicateNamesAreErrors() {
+        DefinitionException monitor = error(VALID.replace("name: south", "name: north"));
+        assertEquals(17, monitor.line());
+        assertEquals("monitors[1].name", monitor.key());
+        DefinitionException term = error(VALID.replace("name: age_years", "name: household_contact"));
+        assertEquals(10, term.line());
+    }
+
+    @Test
+    void aFormulaStringIsNotAcceptedForTerms() {
+        String terms = VALID.substring(VALID.indexOf("    terms:\n"), VALID.indexOf("    window: {width: P28D"));
+        DefinitionException e = error(VALID.replace(terms, "    terms: \"result ~ household_contact + age\"\n"));
+        assertEquals("monitors.yaml:8: monitors[0].terms: terms are a list of mappings (name, field, kind, ...),"
+                + " not a formula", e.getMessage());
+    }
+
+    @Test
+    void invalidYamlNamesTheLine() {
+        DefinitionException e = error("monitors:\n  - name: [unclosed\n");
+        assertEquals("monitors.yaml", e.file());
+        assertTrue(e.line() >= 2, "line " + e.line());
+        assertTrue(e.problem().startsWith("not valid YAML"), e.problem());
+    }
+
+    @Test
+    void kafkaPropertiesComeFromFileAndEnvironment() throws Exception {
+        String text = "kafka:\n  bootstrap.servers: broker:9092\n  sasl:\n    mechanism: PLAIN\n" + VALID;
+        MonitorConfig config = DefinitionLoader.parse("monitors.yaml", text,
+                Map.of("ODDSWATCH_KAFKA_BOOTSTRAP_SERVERS", "other:9093", "ODDSWATCH_KAFKA_SECURITY_PROTOCOL", "SSL",
+                        "UNRELATED", "x"), null);
+        assertEquals(Map.of("bootstrap.servers", "other:9093", "sasl.mechanism", "PLAIN", "security.protocol", "SSL"),
+                config.kafka());
+    }
+
+    @Test
+    void checksumFollowsTheModelOnly() throws Exception {
+        MonitorConfig config = parse(VALID);
+        String north = config.monitor("north").checksum();
+        assertEquals(64, north.length());
+        String renamedWindow = parse(VALID.replace("width: P28D", "width: P21D")).monitor("north").checksum();
+        assertEquals(north, renamedWindow);
+        String otherReference = parse(VALID.replace("reference: '18-39'", "reference: '0-17'"))
+                .monitor("north").checksum();
+        assertNotEquals(north, otherReference);
+    }
+
+    @Test
+    void yesAndNoStayText() throws Exception {
+        MonitorConfig config = parse(VALID.replace("kind: binary, watched: true",
+                "kind: binary, level: yes, reference: no, watched: yes"));
+        BinaryTerm term = (BinaryTerm) config.monitor("north").terms().get(0).term();
+        assertEquals("yes", term.level());
+        assertEquals("no", term.reference());
+        assertTrue(term.watched());
+    }
+
+    @Test
+    void loadsTheHouseScenarioFile() throws Exception {
+        Path file = resource("/definitions/respiratory.yaml");
+        MonitorConfig config = DefinitionLoader.load(file, Map.of());
+        MonitorDefinition monitor = config.monitors().get(0);
+        assertEquals("respiratory", monitor.name());
+        assertEquals(8, monitor.split().maxStreams());
+        assertEquals("respiratory/east", monitor.streamName("east"));
+        assertEquals(4, monitor.strata());
+        assertEquals("PLAINTEXT", config.kafka().get("security.protocol"));
+        assertEquals(file.toString(), config.file());
+    }
+
+    @Test
+    void unreadableFileIsADefinitionError() {
+        DefinitionException e = assertThrows(DefinitionException.class,
+                () -> DefinitionLoader.load(Path.of("does-not-exist.yaml"), Map.of()));
+        assertEquals("does-not-exist.yaml", e.file());
+        assertEquals(0, e.line());
+    }
+
+    static Path resource(String name) throws URISyntaxException {
+        return Path.of(DefinitionLoaderTest.class.getResource(name).toURI());
+    }
+}
