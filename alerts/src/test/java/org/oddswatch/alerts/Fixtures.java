@@ -1,0 +1,85 @@
+package org.oddswatch.alerts;
+
+import java.time.Duration;
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.List;
+import org.oddswatch.estimator.calibration.BaselineModel;
+import org.oddswatch.estimator.fit.FitMethod;
+import org.oddswatch.estimator.fit.FitState;
+import org.oddswatch.estimator.result.CalibrationEstimate;
+import org.oddswatch.estimator.result.CoefficientEstimate;
+import org.oddswatch.estimator.result.FitSummary;
+import org.oddswatch.estimator.result.PrevalenceEstimate;
+import org.oddswatch.estimator.result.WindowEstimate;
+import org.oddswatch.estimator.result.WindowStatus;
+import org.oddswatch.estimator.terms.Column;
+
+/**
+ * Hand-built estimates and baselines for rule tests (house scenario: respiratory testing, exposure
+ * household contact). Weekly windows starting 2026-04-06 (after the baseline period).
+ */
+public final class Fixtures {
+
+    public static final String STREAM = "respiratory-north";
+    public static final Instant FIRST_WINDOW = Instant.parse("2026-04-06T00:00:00Z");
+    public static final Duration WEEK = Duration.ofDays(7);
+
+    private Fixtures() {
+    }
+
+    public static List<Column> columns() {
+        return List.of(Column.intercept(), new Column("household_contact", "yes", "no", null, true, true),
+                new Column("age_years", null, null, 10.0, false, false));
+    }
+
+    /** Baseline: intercept -3.0 (se 0.05), household_contact 0.7 (se 0.08), age 0.1 (se 0.02). */
+    public static BaselineModel baseline() {
+        double[][] cov = {{0.0025, 0, 0}, {0, 0.0064, 0}, {0, 0, 0.0004}};
+        return new BaselineModel(columns(), new double[] {-3.0, 0.7, 0.1}, cov, "2026-01-05T00:00:00Z",
+                "2026-03-30T00:00:00Z", 24000, 1210, "sha256:test");
+    }
+
+    public static Instant start(int week) {
+        return FIRST_WINDOW.plus(WEEK.multipliedBy(week));
+    }
+
+    public static FitSummary fit(FitState state, FitMethod method, long events) {
+        return new FitSummary(state, method, events, 3, true, -400.0, -420.0, List.of());
+    }
+
+    /** A final window whose household_contact coefficient is {@code coef} with standard error {@code se}. */
+    public static WindowEstimate window(int week, double coef, double se) {
+        return window(week, coef, se, fit(FitState.CONVERGED, FitMethod.NEWTON, 2000), null);
+    }
+
+    public static WindowEstimate window(int week, double coef, double se, FitSummary fit, CalibrationEstimate cal) {
+        List<CoefficientEstimate> coefs = new ArrayList<>();
+        coefs.add(new CoefficientEstimate("intercept", null, null, null, -3.0, 0.1, -30.0, 0.0, null, null, null,
+                "wald", null, null, null, null, null));
+        coefs.add(new CoefficientEstimate("household_contact", "yes", "no", null, coef, se, coef / se, 0.001,
+                Math.exp(coef), Math.exp(coef - 1.959964 * se), Math.exp(coef + 1.959964 * se), "wald",
+                null, null, 12.0, 1, 0.001));
+        coefs.add(new CoefficientEstimate("age_years", null, null, 10.0, 0.1, 0.03, 3.3, 0.001, Math.exp(0.1),
+                Math.exp(0.1 - 0.0588), Math.exp(0.1 + 0.0588), "wald", null, null, null, null, null));
+        return new WindowEstimate(STREAM, start(week), start(week).plus(WEEK), WindowStatus.FINAL, 2010, 101,
+                new PrevalenceEstimate(101 / 2010.0, 0.0415, 0.0607, "wilson", null), List.of(), fit, coefs, cal,
+                List.of());
+    }
+
+    /**
+     * A window whose household_contact drift z against {@link #baseline()} is exactly {@code z}
+     * (with se_now = 0.15).
+     */
+    public static WindowEstimate windowWithZ(int week, double z) {
+        double se = 0.15;
+        double coef = 0.7 + z * Math.sqrt(se * se + 0.0064);
+        return window(week, coef, se);
+    }
+
+    public static CalibrationEstimate calibration(double oe, double oeLower, double oeUpper, double slope,
+                                                  double slopeSe, double hlP) {
+        return new CalibrationEstimate(2000, Math.round(100 * oe), 100.0, oe, oeLower, oeUpper, 0.0, 0.1, slope,
+                slopeSe, 8.0, 10, hlP, 0.04, 0.7);
+    }
+}

@@ -1,0 +1,102 @@
+package org.oddswatch.alerts.rules;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertNull;
+
+import java.util.List;
+import org.junit.jupiter.api.Test;
+import org.oddswatch.alerts.Fixtures;
+import org.oddswatch.alerts.engine.AlertEngine;
+import org.oddswatch.alerts.engine.AlertRulesConfig;
+import org.oddswatch.alerts.engine.AlertRulesConfig.Band;
+import org.oddswatch.alerts.engine.AlertRulesConfig.Calibration;
+import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.estimator.fit.FitMethod;
+import org.oddswatch.estimator.fit.FitState;
+import org.oddswatch.estimator.result.CalibrationEstimate;
+import org.oddswatch.estimator.result.WindowEstimate;
+
+class CalibrationRuleTest {
+
+    private static AlertEngine engine() {
+        Calibration c = new Calibration(null, null, null, null, null, null, null);
+        return new AlertEngine(Fixtures.STREAM, new AlertRulesConfig(null, null, null, c, null), Fixtures.baseline(), null);
+    }
+
+    private static WindowEstimate w(int week, CalibrationEstimate c) {
+        return Fixtures.window(week, 0.7, 0.15, Fixtures.fit(FitState.CONVERGED, FitMethod.NEWTON, 2000), c);
+    }
+
+    private static CalibrationEstimate fine() {
+        return Fixtures.calibration(1.0, 0.82, 1.2, 1.0, 0.1, 0.5);
+    }
+
+    private static String state(AlertEngine e, WindowEstimate w) {
+        List<Alert> a = e.onFinalEstimate(w);
+        return a.isEmpty() ? "-" : a.get(0).state().toString().substring(0, 2);
+    }
+
+    @Test
+    void observedExpectedIntervalWhollyOutsideTheBand() {
+        // default band [0.8, 1.25]
+        assertEquals("ra", state(engine(), w(0, Fixtures.calibration(1.5, 1.25 + 1e-9, 1.8, 1.0, 0.1, 0.5))));
+        assertEquals("-", state(engine(), w(0, Fixtures.calibration(1.5, 1.25, 1.8, 1.0, 0.1, 0.5))));
+        assertEquals("ra", state(engine(), w(0, Fixtures.calibration(0.6, 0.5, 0.8 - 1e-9, 1.0, 0.1, 0.5))));
+        assertEquals("-", state(engine(), w(0, Fixtures.calibration(0.6, 0.5, 0.8, 1.0, 0.1, 0.5))));
+        Alert a = engine().onFinalEstimate(w(0, Fixtures.calibration(0.6, 0.5, 0.7, 1.0, 0.1, 0.5))).get(0);
+        assertEquals(0.6, a.observed());
+        assertEquals(0.8, a.limit());
+        assertEquals(1.0, a.baseline());
+        assertEquals(0.7, a.evidence().upper());
+    }
+
+    @Test
+    void slopeWaldIntervalWhollyOutsideItsBand() {
+        // default band [0.7, 1.3], z 1.96: slope 1.6 with se 0.15 -> lower 1.306 > 1.3
+        assertEquals("ra", state(engine(), w(0, Fixtures.calibration(1.0, 0.9, 1.1, 1.6, 0.15, 0.5))));
+        assertEquals("-", state(engine(), w(0, Fixtures.calibration(1.0, 0.9, 1.1, 1.6, 0.16, 0.5))));
+        // 0.3 + 1.96 * 0.2 = 0.692 < 0.7
+        Alert a = engine().onFinalEstimate(w(0, Fixtures.calibration(1.0, 0.9, 1.1, 0.3, 0.2, 0.5))).get(0);
+        assertEquals(0.3, a.observed());
+        assertEquals(0.7, a.limit());
+        assertEquals(0.3 + 1.96 * 0.2, a.evidence().upper(), 1e-12);
+    }
+
+    @Test
+    void hosmerLemeshowBelowItsLimit() {
+        assertEquals("ra", state(engine(), w(0, Fixtures.calibration(1.0, 0.9, 1.1, 1.0, 0.1, 0.00099))));
+        assertEquals("-", state(engine(), w(0, Fixtures.calibration(1.0, 0.9, 1.1, 1.0, 0.1, 0.001))));
+        Alert a = engine().onFinalEstimate(w(0, Fixtures.calibration(1.0, 0.9, 1.1, 1.0, 0.1, 0.0001))).get(0);
+        assertEquals(0.0001, a.observed());
+        assertNull(a.baseline());
+    }
+
+    @Test
+    void clearsWhenPointsAreInsideAndHlIsWellAboveItsLimit() {
+        AlertEngine e = engine();
+        assertEquals("ra", state(e, w(0, Fixtures.calibration(1.5, 1.3, 1.7, 1.0, 0.1, 0.5))));
+        // O/E point 1.3 outside band, interval touching: between
+        assertEquals("-", state(e, w(1, Fixtures.calibration(1.3, 1.1, 1.5, 1.0, 0.1, 0.5))));
+        assertEquals("-", state(e, w(2, fine())));
+        // HL p 0.005 < 10 x 0.001: not yet inside
+        assertEquals("-", state(e, w(3, Fixtures.calibration(1.0, 0.82, 1.2, 1.0, 0.1, 0.005))));
+        assertEquals("-", state(e, w(4, fine())));
+        assertEquals("cl", state(e, w(5, fine())));
+    }
+
+    @Test
+    void customBandsAndGuard() {
+        Calibration c = new Calibration(new Band(0.9, null), new Band(null, 1.1), null, 0.01, 2, 1, null);
+        AlertEngine e = new AlertEngine(Fixtures.STREAM, new AlertRulesConfig(null, null, null, c, null),
+                Fixtures.baseline(), null);
+        CalibrationEstimate low = Fixtures.calibration(0.8, 0.7, 0.89, 1.0, 0.1, 0.5);
+        assertEquals("-", state(e, w(0, low)));
+        assertEquals("ra", state(e, w(1, low)));
+        assertEquals("cl", state(e, w(2, fine())));
+        // no calibration estimate, or too few events: nothing
+        assertEquals("-", state(engine(), w(0, null)));
+        CalibrationEstimate few = new CalibrationEstimate(99, 99, 50.0, 1.98, 1.6, 2.4, 0.0, 0.1, 1.0, 0.1, 3.0, 10,
+                0.9, 0.05, 0.7);
+        assertEquals("-", state(engine(), w(0, few)));
+    }
+}
