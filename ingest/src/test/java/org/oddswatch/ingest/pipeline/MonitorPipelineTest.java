@@ -1,0 +1,317 @@
+package org.oddswatch.ingest.pipeline;
+
+import static org.junit.jupiter.api.Assertions.assertArrayEquals;
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertNull;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import java.nio.charset.StandardCharsets;
+import java.time.Duration;
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Map;
+import org.junit.jupiter.api.Test;
+import org.oddswatch.estimator.result.WindowEstimate;
+import org.oddswatch.estimator.result.WindowStatus;
+import org.oddswatch.ingest.decode.RejectReason;
+import org.oddswatch.ingest.definition.DefinitionLoader;
+import org.oddswatch.ingest.definition.MonitorConfig;
+
+class MonitorPipelineTest {
+
+    /** Daily buckets, two-day windows, six hours of allowed lateness, at most two regions. */
+    static final String DEFINITION = String.join("\n",
+            "monitors:",
+            "  - name: resp",
+            "    input: {topic: clinic-tests}",
+            "    event:",
+            "      id: /id",
+            "      time: /collectedAt",
+            "      maxFutureSkew: P1D",
+            "      outcome: {field: /result, positive: [positive], negative: [negative]}",
+            "    split: {field: /region, maxStreams: 2}",
+            "    terms:",
+            "      - {name: household_contact, field: /exposure/household, kind: binary, watched: true}",
+            "      - {name: recent_travel, field: /exposure/travel, kind: binary}",
+            "      - name: age_band",
+            "        field: /ageBand",
+            "        kind: categorical",
+            "        levels: ['0-17', '18-39', '40-64', '65+']",
+            "        reference: '18-39'",
+            "        undeclared: missing",
+            "    window: {width: P2D, step: P1D, lateness: PT6H}",
+            "    estimates: {minEventsPerParameter: 1, profileIntervals: false}",
+            "    rules: {}",
+            "");
+
+    static final Instant D0 = Instant.parse("2026-02-02T00:00:00Z");
+
+    private final CollectingListener out = new CollectingListener();
+    private final MonitorPipeline pipeline = pipeline(DEFINITION, out);
+    private long line;
+
+    static MonitorPipeline pipeline(String definition, PipelineListener listener) {
+        try {
+            MonitorConfig config = DefinitionLoader.parse("test.yaml", definition, Map.of(), null);
+            return new MonitorPipeline("clinic-tests", config.monitors(), listener, PipelineSettings.defaults());
+        } catch (Exception e) {
+            throw new AssertionError(e);
+        }
+    }
+
+    private static Instant at(double days) {
+        return D0.plusMillis((long) (days * 86_400_000L));
+    }
+
+    private RecordOutcome send(String id, double days, String region) {
+        return send(HouseEvents.json(id, at(days), region, id.hashCode() % 2 == 0, false, "40-64", "female",
+                id.hashCode() % 3 == 0));
+    }
+
+    private RecordOutcome send(String json) {
+        return pipeline.offer(json.getBytes(StandardCharsets.UTF_8), RecordOrigin.line(++line), false);
+    }
+
+    private static String window(WindowEstimate e) {
+        return e.windowStart() + "/" + e.windowEnd() + " " + e.status() + " " + e.events();
+    }
+
+    @Test
+    void windowsCloseWhenTheWatermarkPassesEndPlusLateness() {
+        for (int i = 0; i < 6; i++) {
+            assertEquals(Outcome.ACCEPTED, send("a" + i, 0.1 + i * 0.1, "north").outcome());
+        }
+        for (int i = 0; i < 6; i++) {
+            assertEquals(Outcome.ACCEPTED, send("b" + i, 1.1 + i * 0.1, "north").outcome());
+        }
+        // Watermark 1.6 days: the window ending at day 1 needs 1.25.
+        assertEquals(1, out.estimates.size());
+        assertEquals(at(-1) + "/" + at(1) + " final 6", window(out.estimates.get(0)));
+
+        // An event of day 1 at 2.24 days is not yet late for the window ending at day 2 (final at 2.25).
+        assertEquals(Outcome.ACCEPTED, send("c0", 2.24, "north").outcome());
+        assertEquals(1, out.estimates.size());
+        assertEquals(Outcome.ACCEPTED, send("c1", 1.9, "north").outcome());
+        assertEquals(Outcome.ACCEPTED, send("c2", 2.25, "north").outcome());
+        assertEquals(2, out.estimates.size());
+        assertEquals(at(0) + "/" + at(2) + " final 13", window(out.estimates.get(1)));
+
+        RecordOutcome late = send("c3", 1.95, "north");
+        assertEquals(Outcome.LATE, late.outcome());
+        assertEquals(RejectReason.LATE, late.reason());
+        assertEquals(Outcome.ACCEPTED, send("c4", 2.01, "north").outcome());
+
+        pipeline.closeAll();
+        List<String> windows = new ArrayList<>();
+        for (WindowEstimate e : out.estimates) {
+            windows.add(window(e));
+        }
+        assertEquals(List.of(at(-1) + "/" + at(1) + " final 6", at(0) + "/" + at(2) + " final 13",
+                at(1) + "/" + at(3) + " final 10", at(2) + "/" + at(4) + " final 3"), windows);
+        for (WindowEstimate e : out.estimates) {
+            assertEquals(WindowStatus.FINAL, e.status());
+            assertEquals("resp/north", e.stream());
+        }
+        // Only late records go to rejects here.
+        assertEquals(1, out.rejects.size());
+        assertEquals(Outcome.LATE, out.rejects.get(0).outcome());
+        assertEquals(16, out.rejects.get(0).origin().lineNumber());
+    }
+
+    @Test
+    void duplicatesWhileTheirBucketIsHeld() {
+        assertEquals(Outcome.ACCEPTED, send("x", 0.5, "north").outcome());
+        RecordOutcome again = send("x", 0.5, "north");
+        assertEquals(Outcome.DUPLICATE, again.outcome());
+        assertEquals(RejectReason.DUPLICATE, again.reason());
+        // The same id in another stream is a different event.
+        assertEquals(RecordOutcome.ACCEPTED, send("x", 0.5, "south"));
+        // Once the bucket's windows are final the same id is late, not duplicate.
+        assertEquals(Outcome.ACCEPTED, send("y", 1.4, "north").outcome());
+        assertEquals(Outcome.LATE, send("x", 0.5, "north").outcome());
+        assertEquals(0, out.rejects.stream().filter(r -> r.reason().equals(RejectReason.DUPLICATE)).count());
+    }
+
+    @Test
+    void eventsTooFarAheadOfTheWatermarkAreRejected() {
+        assertEquals(Outcome.ACCEPTED, send("a", 1.0, "north").outcome());
+        RecordOutcome future = send("b", 2.01, "north");
+        assertEquals(Outcome.REJECTED, future.outcome());
+        assertEquals(RejectReason.TOO_FAR_IN_FUTURE, future.reason());
+        assertEquals(Outcome.ACCEPTED, send("c", 2.0, "north").outcome());
+        assertEquals(Instant.parse("2026-02-04T00:00:00Z").toEpochMilli(), pipeline.watermark("resp/north"));
+    }
+
+    @Test
+    void splitValuesMakeStreamsUpToTheCap() {
+        assertEquals(Outcome.ACCEPTED, send("a", 0.1, "north").outcome());
+        assertEquals(Outcome.ACCEPTED, send("b", 0.2, "south").outcome());
+        RecordOutcome third = send("c", 0.3, "east");
+        assertEquals(Outcome.REJECTED, third.outcome());
+        assertEquals(RejectReason.TOO_MANY_STREAMS, third.reason());
+        assertEquals(Outcome.ACCEPTED, send("d", 0.4, "north").outcome());
+        assertEquals(List.of("resp/north", "resp/south"), pipeline.streams());
+        RejectedRecord reject = out.rejects.get(0);
+        assertEquals("resp", reject.monitor());
+        assertEquals("resp/east", reject.stream());
+        assertEquals(3, reject.origin().lineNumber());
+
+        PipelineSnapshot snapshot = pipeline.snapshot();
+        assertEquals(2, snapshot.streams().size());
+        assertEquals(2, snapshot.streams().get(0).counts().outcome(Outcome.ACCEPTED));
+        assertEquals(1, snapshot.monitors().get(0).unrouted().reasons().get(RejectReason.TOO_MANY_STREAMS));
+
+        pipeline.closeAll();
+        assertEquals(List.of("resp/north", "resp/north", "resp/south", "resp/south"),
+                out.estimates.stream().map(WindowEstimate::stream).toList());
+    }
+
+    @Test
+    void everyRecordEndsInExactlyOneCountedOutcome() {
+        List<String> records = new ArrayList<>(HouseEvents.generate(7, 600, D0, 5 * 86_400_000L, 12 * 3_600_000L,
+                "north", "south", "east"));
+        records.add(5, "{not json");
+        records.add(50, "[1,2,3]");
+        records.add(70, records.get(60));
+        records.add(90, records.get(89).replace("\"negative\"", "\"unclear\"").replace("\"positive\"", "\"unclear\""));
+        records.add(91, "{\"id\":\"z\",\"result\":\"positive\",\"region\":\"north\"}");
+        for (String record : records) {
+            send(record);
+        }
+        pipeline.closeAll();
+        OutcomeCounts.Snapshot totals = pipeline.totals();
+        assertEquals(records.size(), totals.consumed());
+        long sum = 0;
+        for (Outcome outcome : Outcome.values()) {
+            sum += totals.outcome(outcome);
+        }
+        assertEquals(records.size(), sum);
+        assertTrue(totals.outcome(Outcome.LATE) > 0, "the jitter makes some events late: " + totals);
+        assertTrue(totals.outcome(Outcome.DUPLICATE) >= 1, totals.toString());
+        assertEquals(1, totals.reasons().get(RejectReason.MALFORMED_JSON));
+        assertEquals(1, totals.reasons().get(RejectReason.NOT_AN_OBJECT));
+        assertEquals(1, totals.reasons().get(RejectReason.BAD_OUTCOME));
+        assertEquals(1, totals.reasons().get(RejectReason.MISSING_FIELD));
+        assertTrue(totals.reasons().get(RejectReason.TOO_MANY_STREAMS) > 100);
+        // Per monitor: unrouted plus streams add up to the same records.
+        PipelineSnapshot snapshot = pipeline.snapshot();
+        long monitorTotal = snapshot.monitors().get(0).unrouted().consumed();
+        for (StreamStatus stream : snapshot.streams()) {
+            monitorTotal += stream.counts().consumed();
+        }
+        assertEquals(records.size(), monitorTotal);
+        // Rejects = rejected + late records, each once.
+        assertEquals(totals.outcome(Outcome.REJECTED) + totals.outcome(Outcome.LATE), out.rejects.size());
+        // Each accepted event is in exactly the windows covering it: width/step = 2 windows.
+        long inWindows = out.estimates.stream().mapToLong(WindowEstimate::events).sum();
+        assertEquals(2 * totals.outcome(Outcome.ACCEPTED), inWindows);
+    }
+
+    /** DESIGN.md section 5: missing covariates count toward prevalence and are left out of the fit. */
+    @Test
+    void missingCovariatesCountForPrevalenceButNotTheFit() {
+        List<String> records = HouseEvents.generate(11, 400, D0, 86_400_000L, 0, "north");
+        int missing = 0;
+        for (String record : records) {
+            if (!record.contains("ageBand")) {
+                missing++;
+            }
+            send(record);
+        }
+        send(HouseEvents.json("u1", at(0.5), "north", true, false, "unknown-band", "male", true));
+        missing++;
+        pipeline.closeAll();
+        assertTrue(missing > 5, "generator leaves out some age bands: " + missing);
+        WindowEstimate first = out.estimates.get(0);
+        assertEquals(401, first.events());
+        assertEquals(401 - missing, first.fit().events());
+        long cases = records.stream().filter(r -> r.contains("\"positive\"")).count() + 1;
+        assertEquals(cases, first.cases());
+        assertEquals((double) cases / 401, first.prevalence().value(), 1e-12);
+    }
+
+    @Test
+    void interimEstimatesOfTheOpenWindow() {
+        send("a", 0.2, "north");
+        send("b", 0.4, "north");
+        pipeline.emitInterim();
+        assertEquals(1, out.estimates.size());
+        WindowEstimate interim = out.estimates.get(0);
+        assertEquals(WindowStatus.INTERIM, interim.status());
+        assertEquals(at(1), interim.windowEnd());
+        assertEquals(2, interim.events());
+        pipeline.closeAll();
+        assertEquals(3, out.estimates.size());
+        assertEquals(WindowStatus.FINAL, out.estimates.get(1).status());
+    }
+
+    @Test
+    void idleTimeoutMovesTheWatermark() {
+        send("a", 0.2, "north");
+        pipeline.advanceWatermark("resp/north", at(1.25).toEpochMilli());
+        assertEquals(1, out.estimates.size());
+        assertEquals(at(1), out.estimates.get(0).windowEnd());
+        assertEquals(Outcome.LATE, send("b", 0.9, "north").outcome());
+    }
+
+    @Test
+    void suppressedRecordsUpdateStateButEmitAndCountNothing() {
+        CollectingListener quiet = new CollectingListener();
+        MonitorPipeline rebuilt = pipeline(DEFINITION, quiet);
+        List<String> records = HouseEvents.generate(3, 200, D0, 3 * 86_400_000L, 0, "north");
+        for (int i = 0; i < records.size(); i++) {
+            rebuilt.offer(records.get(i).getBytes(StandardCharsets.UTF_8), RecordOrigin.kafka("t", 0, i), i < 150);
+            send(records.get(i));
+        }
+        rebuilt.offer("{bad".getBytes(StandardCharsets.UTF_8), RecordOrigin.kafka("t", 0, 0), true);
+        assertEquals(151, rebuilt.snapshot().rebuilt());
+        assertEquals(50, rebuilt.totals().consumed());
+        assertTrue(quiet.rejects.isEmpty());
+        rebuilt.closeAll();
+        pipeline.closeAll();
+        // The windows finalised after the rebuild equal those of an uninterrupted run.
+        List<String> expected = new ArrayList<>();
+        for (WindowEstimate e : out.estimates.subList(out.estimates.size() - quiet.estimates.size(),
+                out.estimates.size())) {
+            expected.add(org.oddswatch.alerts.json.Json.write(e));
+        }
+        List<String> actual = new ArrayList<>();
+        for (WindowEstimate e : quiet.estimates) {
+            actual.add(org.oddswatch.alerts.json.Json.write(e));
+        }
+        assertTrue(quiet.estimates.size() >= 2);
+        assertEquals(expected, actual);
+    }
+
+    @Test
+    void rejectsCarryTheOriginalBytesAndTheirText() {
+        byte[] bytes = {'{', '"', 'i', (byte) 0xFF, '}'};
+        pipeline.offer(bytes, RecordOrigin.kafka("clinic-tests", 3, 42), false);
+        RejectedRecord reject = out.rejects.get(0);
+        assertNull(reject.monitor());
+        RejectedRecord.Json json = reject.toJson();
+        assertEquals("clinic-tests", json.topic());
+        assertEquals(3, json.partition());
+        assertEquals(42L, json.offset());
+        assertNull(json.line());
+        assertNull(json.value(), "not valid UTF-8, so no text");
+        assertArrayEquals(bytes, java.util.Base64.getDecoder().decode(json.valueBase64()));
+        send("{\"id\":1}");
+        assertEquals("{\"id\":1}", out.rejects.get(1).toJson().value());
+        assertEquals(1L, out.rejects.get(1).toJson().line());
+        assertEquals(Duration.ofDays(2).toMillis() + Duration.ofHours(6).toMillis(),
+                DefinitionLoaderAccess.retention(DEFINITION));
+    }
+
+    /** Small bridge so the retention figure the Kafka rebuild uses is checked here too. */
+    static final class DefinitionLoaderAccess {
+        static long retention(String definition) {
+            try {
+                return DefinitionLoader.parse("t.yaml", definition, Map.of(), null).monitors().get(0).retentionMillis();
+            } catch (Exception e) {
+                throw new AssertionError(e);
+            }
+        }
+    }
+}
