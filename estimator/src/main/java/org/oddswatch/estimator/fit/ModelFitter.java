@@ -5,7 +5,7 @@ package org.oddswatch.estimator.fit;
  * from the warm start (retrying cold); when that fit looks divergent ({@link SeparationCheck#suspicious})
  * test for separation and, if separated, refit by Firth's penalized likelihood.
  *
- * <p>State: separation wins over non-convergence, which wins over rank deficiency; a Firth fit that
+ * <p>The Firth refit gets a larger iteration cap ({@link #firthControl}). State: separation wins over non-convergence, which wins over rank deficiency; a Firth fit that
  * does not converge is {@code NOT_CONVERGED}.
  */
 public final class ModelFitter {
@@ -32,7 +32,7 @@ public final class ModelFitter {
             boolean separated = outcome.verdict() == SeparationCheck.Verdict.SEPARATED
                     || byHeuristic && SeparationCheck.heuristic(newton);
             if (separated) {
-                FitResult firth = FitDriver.fitFullRank(work, start, null, control, true);
+                FitResult firth = FitDriver.fitFullRank(work, start, null, firthControl(control), true);
                 int[] involved = new int[outcome.involved().length];
                 for (int a = 0; a < involved.length; a++) {
                     involved[a] = keep[outcome.involved()[a]];
@@ -44,5 +44,14 @@ public final class ModelFitter {
         FitState state = !newton.converged() ? FitState.NOT_CONVERGED
                 : dropped.length > 0 ? FitState.RANK_DEFICIENT : FitState.CONVERGED;
         return new ModelFit(state, work, keep, dropped, newton, new int[0], false);
+    }
+
+    /**
+     * Firth's step {@code I^-1 U*} ignores the derivative of the hat-value correction, so it converges
+     * linearly rather than quadratically; on strongly separated data it needs more steps (each as
+     * cheap as a Newton step). Cap: four times the Newton cap, at least 100.
+     */
+    static FitControl firthControl(FitControl control) {
+        return control.withMaxIterations(Math.max(100, 4 * control.maxIterations()));
     }
 }
