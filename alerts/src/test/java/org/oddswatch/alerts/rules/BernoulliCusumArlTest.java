@@ -1,0 +1,137 @@
+package org.oddswatch.alerts.rules;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import java.util.List;
+import java.util.SplittableRandom;
+import org.junit.jupiter.api.Test;
+import org.oddswatch.alerts.engine.AlertRulesConfig.Cusum;
+import org.oddswatch.alerts.engine.AlertRulesConfig.Guard;
+import org.oddswatch.estimator.calibration.BaselineModel;
+import org.oddswatch.estimator.terms.Column;
+
+/**
+ * Run lengths of {@link BernoulliCusumRule} against the Brook–Evans Markov chain and against a
+ * fixed-seed simulation of the same chart code. Scenario: 30% exposed, baseline risk 4% unexposed
+ * and odds ratio e (coefficient 1.0) for the exposed.
+ */
+class BernoulliCusumArlTest {
+
+    private static final double B0 = Math.log(0.04 / 0.96);
+    private static final double B1 = 1.0;
+    private static final double[] SHARE = {0.7, 0.3};
+    private static final double[] RISK = {expit(B0), expit(B0 + B1)};
+
+    private static double expit(double x) {
+        return 1 / (1 + Math.exp(-x));
+    }
+
+    /** Event times are distinct, so the id never decides the order. */
+    private static final String ID = "e";
+
+    private static BaselineModel baseline() {
+        List<Column> cols = List.of(Column.intercept(), new Column("household_contact", "yes", "no", null, true, true));
+        return new BaselineModel(cols, new double[] {B0, B1}, new double[][] {{0.01, 0}, {0, 0.01}}, null, null, 1, 1,
+                null);
+    }
+
+    /**
+     * Simulated run lengths (events until the first signal of {@code rule}) of fresh charts, events
+     * drawn with odds = baseline odds times {@code trueMultiplier}.
+     */
+    private static double[] simulate(String rule, double h, double r, double trueMultiplier, int runs, long seed) {
+        SplittableRandom rng = new SplittableRandom(seed);
+        double[] lengths = new double[runs];
+        double[] unexposed = {1, 0};
+        double[] exposed = {1, 1};
+        for (int run = 0; run < runs; run++) {
+            Cusum settings = new Cusum(r > 1 ? r : null, r < 1 ? r : null, h, null, null, null);
+            BernoulliCusumRule chart = new BernoulliCusumRule(settings, new InformationGuard(new Guard(null, null, 0L)),
+                    baseline());
+            long t = 0;
+            long signal = -1;
+            while (signal < 0) {
+                for (int i = 0; i < 256; i++, t++) {
+                    boolean isExposed = rng.nextDouble() < SHARE[1];
+                    double p = RISK[isExposed ? 1 : 0];
+                    double odds = p / (1 - p) * trueMultiplier;
+                    chart.offer(t, ID, isExposed ? exposed : unexposed,
+                            rng.nextDouble() < odds / (1 + odds));
+                }
+                for (Reading reading : chart.close(t)) {
+                    if (reading.rule().equals(rule) && reading.zone() == Zone.BEYOND) {
+                        signal = reading.windowEnd().toEpochMilli(); // event index + 1 = run length
+                        break;
+                    }
+                }
+            }
+            lengths[run] = signal;
+        }
+        return lengths;
+    }
+
+    private static void assertAgrees(double markov, double[] lengths, String what) {
+        double mean = 0;
+        for (double l : lengths) {
+            mean += l;
+        }
+        mean /= lengths.length;
+        double var = 0;
+        for (double l : lengths) {
+            var += (l - mean) * (l - mean);
+        }
+        double se = Math.sqrt(var / (lengths.length - 1) / lengths.length);
+        // simulation error (4 standard errors) plus 1% for the discretisation of the chain
+        assertEquals(markov, mean, 4 * se + 0.01 * markov,
+                what + ": Markov " + markov + ", simulated " + mean + " (se " + se + ")");
+    }
+
+    @Test
+    void markovChainConvergesWithTheGrid() {
+        // Source: Brook & Evans 1972; the chain's answer must not depend on the grid once it is fine.
+        double coarse = BrookEvans.bernoulli(3, 2, SHARE, RISK, 1, 500);
+        double fine = BrookEvans.bernoulli(3, 2, SHARE, RISK, 1, 1000);
+        assertEquals(fine, coarse, 0.005 * fine);
+    }
+
+    @Test
+    void inControlRunLengthOfTheUpperChart() {
+        // Source: Brook & Evans (1972) Markov chain (written in BrookEvans, independent of the chart code)
+        double markov = BrookEvans.bernoulli(3, 2, SHARE, RISK, 1, 1000);
+        assertTrue(markov > 1000 && markov < 2000, "sanity: " + markov);
+        assertAgrees(markov, simulate(BernoulliCusumRule.UP, 3, 2, 1, 400, 20260401L), "ARL0 up, h=3, R=2");
+    }
+
+    @Test
+    void shiftedRunLengthOfTheUpperChart() {
+        double markov = BrookEvans.bernoulli(3, 2, SHARE, RISK, 2, 1000);
+        assertAgrees(markov, simulate(BernoulliCusumRule.UP, 3, 2, 2, 1500, 20260402L), "ARL1 up, odds doubled");
+    }
+
+    @Test
+    void runLengthsOfTheLowerChart() {
+        double inControl = BrookEvans.bernoulli(3, 0.5, SHARE, RISK, 1, 1000);
+        assertAgrees(inControl, simulate(BernoulliCusumRule.DOWN, 3, 0.5, 1, 300, 20260403L), "ARL0 down");
+        double halved = BrookEvans.bernoulli(3, 0.5, SHARE, RISK, 0.5, 1000);
+        assertAgrees(halved, simulate(BernoulliCusumRule.DOWN, 3, 0.5, 0.5, 1500, 20260404L), "ARL1 down, odds halved");
+    }
+
+    @Test
+    void defaultLimitsKeepFalseAlarmsRareAtTheReferenceLoad() {
+        // Issue 4's reference load: 2000 events a week, 5% prevalence. Defaults: R_up 1.5, R_down 1/1.5, h 8.
+        Cusum d = new Cusum(null, null, null, null, null, null);
+        double[] share = {1.0};
+        double[] risk = {0.05};
+        double up = BrookEvans.bernoulli(d.limit(), d.up(), share, risk, 1, 1000);
+        double down = BrookEvans.bernoulli(d.limit(), d.down(), share, risk, 1, 1000);
+        double falseAlarmsPerYear = 2000 * 52 * (1 / up + 1 / down);
+        System.out.printf("defaults: ARL0 up %.0f, down %.0f events; %.3f false alarms a year at 104,000 events%n", up, down,
+                falseAlarmsPerYear);
+        assertTrue(falseAlarmsPerYear < 0.5, "CUSUM false alarms per year at defaults: " + falseAlarmsPerYear);
+        // A 30% rise in prevalence (5% -> 6.5%, odds x 1.32) is signalled within about two weeks on average.
+        double shifted = BrookEvans.bernoulli(d.limit(), d.up(), share, risk, (0.065 / 0.935) / (0.05 / 0.95), 1000);
+        System.out.printf("defaults: ARL after a 30%% prevalence rise %.0f events%n", shifted);
+        assertTrue(shifted < 2 * 2000, "ARL after a 30% prevalence rise: " + shifted);
+    }
+}

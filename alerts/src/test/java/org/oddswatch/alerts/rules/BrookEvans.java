@@ -1,0 +1,120 @@
+package org.oddswatch.alerts.rules;
+
+import org.apache.commons.math3.distribution.NormalDistribution;
+
+/**
+ * Average run lengths of one-sided CUSUM charts by the Markov-chain method of Brook &amp; Evans (1972,
+ * <i>Biometrika</i> 59:539): the interval [0, h] is cut into states, the chart's transition
+ * probabilities between states are written down, and the ARL from state 0 solves
+ * {@code (I - Q) L = 1}, Q being the transitions among non-absorbing states. Written for the
+ * tests, independently of the chart code.
+ */
+final class BrookEvans {
+
+    private BrookEvans() {
+    }
+
+    /**
+     * Risk-adjusted Bernoulli CUSUM tuned to odds multiplier {@code r}, events drawn from risk
+     * classes (probability {@code share[c]}, baseline risk {@code risk[c]}), true odds = baseline odds
+     * times {@code trueMultiplier}. States are the grid points {@code i h / n}, i = 0..n; because the
+     * increments are a few fixed values not on the grid, an increment landing between two grid
+     * points is split between them in proportion to the distance, which keeps the mean drift exact
+     * (plain rounding to the nearest point, the textbook variant, biases the drift).
+     */
+    static double bernoulli(double h, double r, double[] share, double[] risk, double trueMultiplier, int n) {
+        double w = h / n;
+        double[][] q = new double[n + 1][n + 1];
+        for (int i = 0; i <= n; i++) {
+            double s = i * w;
+            for (int c = 0; c < share.length; c++) {
+                double p = risk[c];
+                double odds = p / (1 - p) * trueMultiplier;
+                double pTrue = odds / (1 + odds);
+                for (int y = 0; y <= 1; y++) {
+                    double prob = share[c] * (y == 1 ? pTrue : 1 - pTrue);
+                    double inc = (y == 1 ? Math.log(r) : 0) - Math.log(1 - p + r * p);
+                    double t = Math.max(0, s + inc);
+                    if (t > h) {
+                        continue;
+                    }
+                    double x = t / w;
+                    int j = (int) Math.floor(x);
+                    double f = x - j;
+                    q[i][Math.min(j, n)] += prob * (1 - f);
+                    if (f > 0) {
+                        q[i][Math.min(j + 1, n)] += prob * f;
+                    }
+                }
+            }
+        }
+        return solveFromZero(q);
+    }
+
+    /**
+     * One-sided normal-mean CUSUM {@code C = max(0, C + x - k)}, x ~ N(mu, 1), signal when C &gt; h;
+     * the textbook discretisation: state 0 is [0, w/2), state j the interval of width w centred on
+     * j w, with w = 2h / (2n - 1), transitions from the centre.
+     */
+    static double normalOneSided(double h, double k, double mu, int n) {
+        NormalDistribution z = new NormalDistribution(null, mu, 1.0);
+        double w = 2 * h / (2 * n - 1);
+        double[][] q = new double[n][n];
+        for (int i = 0; i < n; i++) {
+            double s = i * w;
+            q[i][0] = z.cumulativeProbability(w / 2 - s + k);
+            for (int j = 1; j < n; j++) {
+                q[i][j] = z.cumulativeProbability((j + 0.5) * w - s + k) - z.cumulativeProbability((j - 0.5) * w - s + k);
+            }
+        }
+        return solveFromZero(q);
+    }
+
+    /** Two-sided ARL from the one-sided ones, 1/L = 1/L+ + 1/L- (exact enough when k &gt; 0, Siegmund 1985). */
+    static double normalTwoSided(double h, double k, double mu, int n) {
+        return 1 / (1 / normalOneSided(h, k, mu, n) + 1 / normalOneSided(h, k, -mu, n));
+    }
+
+    /** L_0 of (I - Q) L = 1 by Gaussian elimination with partial pivoting. */
+    private static double solveFromZero(double[][] q) {
+        int n = q.length;
+        double[][] a = new double[n][n + 1];
+        for (int i = 0; i < n; i++) {
+            for (int j = 0; j < n; j++) {
+                a[i][j] = (i == j ? 1 : 0) - q[i][j];
+            }
+            a[i][n] = 1;
+        }
+        for (int col = 0; col < n; col++) {
+            int piv = col;
+            for (int i = col + 1; i < n; i++) {
+                if (Math.abs(a[i][col]) > Math.abs(a[piv][col])) {
+                    piv = i;
+                }
+            }
+            double[] tmp = a[col];
+            a[col] = a[piv];
+            a[piv] = tmp;
+            double d = a[col][col];
+            for (int i = col + 1; i < n; i++) {
+                double f = a[i][col] / d;
+                if (f != 0) {
+                    double[] ri = a[i];
+                    double[] rc = a[col];
+                    for (int j = col; j <= n; j++) {
+                        ri[j] -= f * rc[j];
+                    }
+                }
+            }
+        }
+        double[] x = new double[n];
+        for (int i = n - 1; i >= 0; i--) {
+            double s = a[i][n];
+            for (int j = i + 1; j < n; j++) {
+                s -= a[i][j] * x[j];
+            }
+            x[i] = s / a[i][i];
+        }
+        return x[0];
+    }
+}
