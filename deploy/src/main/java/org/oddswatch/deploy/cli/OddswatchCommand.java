@@ -1,6 +1,9 @@
 package org.oddswatch.deploy.cli;
 
 import java.io.PrintWriter;
+import java.util.Arrays;
+import java.util.List;
+import java.util.Set;
 import picocli.CommandLine;
 import picocli.CommandLine.Command;
 import picocli.CommandLine.Option;
@@ -17,7 +20,7 @@ import picocli.CommandLine.ScopeType;
             "Streaming prevalence and odds-ratio monitor for public-health surveillance.",
             "A signal calls for investigation; it is not a diagnosis or proof of cause."},
         subcommands = {
-            CheckCommand.class, SimulateCommand.class, CommandLine.HelpCommand.class},
+            SandboxCommand.class, CheckCommand.class, SimulateCommand.class, CommandLine.HelpCommand.class},
         footer = {"", "Start with: oddswatch sandbox"})
 public final class OddswatchCommand implements Runnable {
 
@@ -38,11 +41,34 @@ public final class OddswatchCommand implements Runnable {
     }
 
     public static void main(String[] args) {
-        if (java.util.Arrays.asList(args).contains("--verbose")) {
-            // before the first logger exists; overrides simplelogger.properties
-            System.setProperty("org.slf4j.simpleLogger.defaultLogLevel", "info");
+        configureLogging(args);
+        PrintWriter err = new PrintWriter(System.err, true);
+        int status;
+        try {
+            status = execute(args, new PrintWriter(System.out, true), err);
+        } catch (Throwable t) {
+            // an Error (out of memory, a class missing from a broken build) that picocli does not handle
+            err.println("oddswatch: " + t + (Arrays.asList(args).contains("--verbose") ? "" : " (--verbose shows details)"));
+            if (Arrays.asList(args).contains("--verbose")) {
+                t.printStackTrace(err);
+            }
+            status = UserError.RUNTIME;
         }
-        System.exit(execute(args, new PrintWriter(System.out, true), new PrintWriter(System.err, true)));
+        System.exit(status);
+    }
+
+    /** Log levels before the first logger exists (system properties override simplelogger.properties). */
+    private static void configureLogging(String[] args) {
+        List<String> list = Arrays.asList(args);
+        if (list.contains("--verbose")) {
+            System.setProperty("org.slf4j.simpleLogger.defaultLogLevel", "info");
+            System.setProperty("org.slf4j.simpleLogger.log.org.apache.kafka", "info");
+            System.setProperty("org.slf4j.simpleLogger.log.kafka", "info");
+        } else if (list.stream().filter(a -> !a.startsWith("-")).findFirst().filter(Set.of("run", "replay", "baseline")::contains)
+                .isPresent()) {
+            // a real cluster: connection problems of the Kafka clients matter
+            System.setProperty("org.slf4j.simpleLogger.log.org.apache.kafka", "warn");
+        }
     }
 
     /** Runs one command line with the given output streams and returns its exit status. */

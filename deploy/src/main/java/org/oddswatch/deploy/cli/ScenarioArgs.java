@@ -21,16 +21,8 @@ final class ScenarioArgs {
             description = "Mean events per simulated week. Default: ${DEFAULT-VALUE}.")
     double rate;
 
-    @Option(names = "--start", paramLabel = "TIME", defaultValue = "2026-01-05T00:00:00Z",
-            description = "Simulated start (RFC 3339 or a date). Default: ${DEFAULT-VALUE}.")
-    Instant start;
-
-    @Option(names = "--defects", paramLabel = "SHARE", defaultValue = "0",
-            description = "Share of extra malformed, late and duplicate records (0 to 1). Default: ${DEFAULT-VALUE}.")
-    double defects;
-
-    /** Builds the scenario for a simulated span. */
-    Scenario build(Duration span) {
+    /** Builds the scenario for a simulated span from {@code start}, with a share of defective records. */
+    Scenario build(Instant start, Duration span, double defects) {
         try {
             ScenarioOptions options = ScenarioOptions.defaults().withSeed(seed).withEventsPerWeek(rate)
                     .withStart(start).withDuration(span).withDefectShare(defects);

@@ -9,6 +9,7 @@ import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Duration;
+import java.time.Instant;
 import java.util.Iterator;
 import java.util.concurrent.Callable;
 import org.oddswatch.deploy.feed.SimulatedClock;
@@ -33,6 +34,14 @@ final class SimulateCommand implements Callable<Integer> {
 
     @Mixin
     ScenarioArgs scenario = new ScenarioArgs();
+
+    @Option(names = "--start", paramLabel = "TIME", defaultValue = "2026-01-05T00:00:00Z",
+            description = "Simulated start (RFC 3339 or a date). Default: ${DEFAULT-VALUE}.")
+    Instant start;
+
+    @Option(names = "--defects", paramLabel = "SHARE", defaultValue = "0",
+            description = "Share of extra malformed, late and duplicate records (0 to 1). Default: ${DEFAULT-VALUE}.")
+    double defects;
 
     @Option(names = {"--duration", "--span"}, paramLabel = "DURATION", defaultValue = "P280D",
             description = "Simulated span (ISO-8601 or 40w, 90d, ...). Default: ${DEFAULT-VALUE} (40 weeks).")
@@ -64,7 +73,7 @@ final class SimulateCommand implements Callable<Integer> {
 
     @Override
     public Integer call() throws Exception {
-        Scenario s = scenario.build(span);
+        Scenario s = scenario.build(start, span, defects);
         PrintWriter out = spec.commandLine().getOut();
         if (target.describe) {
             out.print(s.describe());

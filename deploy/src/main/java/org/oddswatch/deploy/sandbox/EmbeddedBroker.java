@@ -51,6 +51,9 @@ public final class EmbeddedBroker implements AutoCloseable {
                 .setConfigProp("auto.create.topics.enable", "false")
                 .setConfigProp("num.partitions", "1")
                 .build();
+        // format() reports on System.out; keep the command's own output clean
+        java.io.PrintStream stdout = System.out;
+        System.setOut(new java.io.PrintStream(java.io.OutputStream.nullOutputStream()));
         try {
             cluster.format();
             cluster.startup();
@@ -58,6 +61,8 @@ public final class EmbeddedBroker implements AutoCloseable {
         } catch (Exception e) {
             cluster.close();
             throw e;
+        } finally {
+            System.setOut(stdout);
         }
         return new EmbeddedBroker(cluster);
     }

@@ -1,0 +1,274 @@
+package org.oddswatch.deploy.sandbox;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import io.micrometer.prometheusmetrics.PrometheusConfig;
+import io.micrometer.prometheusmetrics.PrometheusMeterRegistry;
+import java.io.PrintWriter;
+import java.nio.file.Path;
+import java.time.Duration;
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.HashMap;
+import java.util.HashSet;
+import java.util.LinkedHashSet;
+import java.util.List;
+import java.util.Map;
+import java.util.Set;
+import java.util.concurrent.atomic.AtomicBoolean;
+import java.util.concurrent.atomic.AtomicLong;
+import java.util.concurrent.atomic.AtomicReference;
+import java.util.function.BooleanSupplier;
+import java.util.function.Predicate;
+import org.oddswatch.deploy.feed.SimulatedClock;
+import org.oddswatch.deploy.feed.TopicPublisher;
+import org.oddswatch.deploy.scenario.Scenario;
+import org.oddswatch.deploy.scenario.ScenarioEvent;
+import org.oddswatch.ingest.definition.MonitorConfig;
+import org.oddswatch.ingest.definition.MonitorDefinition;
+import org.oddswatch.ingest.definition.TermSpec;
+import org.oddswatch.ingest.http.HttpEndpoints;
+import org.oddswatch.ingest.service.MonitorService;
+import org.oddswatch.ingest.service.ServiceStatus;
+
+/**
+ * Everything of {@code oddswatch sandbox} in one process: an embedded single-node KRaft broker on
+ * 127.0.0.1, the definition's topics (with unlimited time retention, because simulated dates lie in
+ * the past), the monitor service with {@code /metrics}, {@code /health} and {@code /status}, a
+ * simulated feed paced faster than real time, and a live summary read from the output topics.
+ *
+ * <p>{@link #run} returns when {@code stop} says so (Ctrl-C, SIGTERM, the time limit or the first
+ * matching alert), after closing the feed, the service, the endpoints and the broker in that order.
+ */
+public final class Sandbox {
+
+    /**
+     * @param definition the user's definition, or null for the packaged respiratory example
+     * @param kafkaPort client port of the broker on 127.0.0.1 (0: any free port)
+     * @param http HTTP address, {@code host:port} (port 0: any free port)
+     * @param speed simulated seconds per real second (0: unpaced)
+     * @param feed whether to run the simulated feed (false: wait for external producers)
+     * @param refresh how often the summary is redrawn and interim estimates are made
+     * @param redraw true to redraw a terminal screen, false for plain lines
+     * @param partitions partitions of the input topics
+     */
+    public record Settings(Path definition, int kafkaPort, String http, Scenario scenario, double speed, boolean feed,
+                           Duration refresh, boolean redraw, int partitions) {
+    }
+
+    /** Progress the caller can watch (tests and the command). */
+    public interface Stopper {
+        /** Called about every refresh; return true to stop. */
+        boolean shouldStop(Progress progress);
+    }
+
+    /** @param raisedAlerts alert messages with state {@code raised} so far */
+    public record Progress(boolean ready, long sent, List<JsonNode> raisedAlerts) {
+    }
+
+    private final Settings settings;
+    private final PrintWriter out;
+
+    public Sandbox(Settings settings, PrintWriter out) {
+        this.settings = settings;
+        this.out = out;
+    }
+
+    /** Runs until the stopper says so; returns the number of raised alerts seen. */
+    public long run(Stopper stopper, BooleanSupplier interrupted) throws Exception {
+        out.println("starting the embedded Kafka broker (single node, KRaft) ...");
+        out.flush();
+        try (EmbeddedBroker broker = EmbeddedBroker.start(settings.kafkaPort())) {
+            MonitorConfig config = SandboxDefinition.load(settings.definition(), broker.bootstrapServers(),
+                    settings.http(), settings.refresh());
+            Set<String> inputs = config.topics();
+            Set<String> outputs = new LinkedHashSet<>(SandboxDefinition.topics(config));
+            outputs.removeAll(inputs);
+            Map<String, String> keepForever = Map.of("retention.ms", "-1");
+            broker.createTopics(List.copyOf(inputs), settings.partitions(), keepForever);
+            broker.createTopics(List.copyOf(outputs), 1, keepForever);
+            String inputTopic = inputs.iterator().next();
+            return serve(broker, config, inputTopic, stopper, interrupted);
+        }
+    }
+
+    private long serve(EmbeddedBroker broker, MonitorConfig config, String inputTopic, Stopper stopper,
+                       BooleanSupplier interrupted) throws Exception {
+        PrometheusMeterRegistry registry = new PrometheusMeterRegistry(PrometheusConfig.DEFAULT);
+        SandboxView view = new SandboxView(settings.scenario(), settings.speed(), watchedTerms(config));
+        List<JsonNode> raised = new ArrayList<>();
+        Set<String> estimateTopics = new HashSet<>();
+        Set<String> alertTopics = new HashSet<>();
+        for (MonitorDefinition m : config.monitors()) {
+            estimateTopics.add(m.outputs().estimatesTopic());
+            alertTopics.add(m.outputs().alertsTopic());
+        }
+        boolean plain = !settings.redraw();
+        try (MonitorService service = new MonitorService(config, registry, "sandbox").start();
+             HttpEndpoints http = HttpEndpoints.start(HttpEndpoints.parseAddress(config.service().http()), registry,
+                     service::ready, service::status);
+             OutputWatcher watcher = new OutputWatcher(broker.clientProps(), estimateTopics, alertTopics,
+                     e -> {
+                         if (plain) {
+                             println(view.finalLine(e));
+                         }
+                     },
+                     a -> {
+                         if ("raised".equals(a.path("state").asText())) {
+                             synchronized (raised) {
+                                 raised.add(a);
+                             }
+                         }
+                         if (plain && !"continuing".equals(a.path("state").asText())) {
+                             println("alert    " + view.alert(a));
+                         }
+                     }).start()) {
+            String httpAddress = http.address().getHostString() + ":" + http.port();
+            view.banner(broker.bootstrapServers(), httpAddress).forEach(this::println);
+            println("  input topic:     " + inputTopic + "   definition: " + config.file());
+            Feed feed = new Feed(broker, inputTopic);
+            if (settings.feed()) {
+                feed.start();
+            } else {
+                println("  no simulated feed (--no-feed): produce JSON events to " + inputTopic + " yourself");
+            }
+            long lastCounts = 0;
+            while (true) {
+                ServiceStatus status = service.status();
+                List<JsonNode> raisedNow;
+                synchronized (raised) {
+                    raisedNow = List.copyOf(raised);
+                }
+                if (service.failure() != null) {
+                    throw new IllegalStateException("the monitor service stopped: " + service.failure().getMessage(),
+                            service.failure());
+                }
+                if (feed.failure.get() != null) {
+                    throw new IllegalStateException("the simulated feed stopped: " + feed.failure.get().getMessage(),
+                            feed.failure.get());
+                }
+                if (settings.redraw()) {
+                    SandboxView.Frame frame = new SandboxView.Frame(broker.bootstrapServers(), httpAddress,
+                            status.state(), feed.simulatedNow.get(), feed.sent.get(), feed.done.get(),
+                            status.counts(), watcher.streams(), watcher.alerts());
+                    redraw(view.screen(frame));
+                } else if (System.nanoTime() - lastCounts > 10_000_000_000L) {
+                    lastCounts = System.nanoTime();
+                    Instant now = feed.simulatedNow.get();
+                    println("status   " + status.state() + ", simulated time " + (now == null ? "-" : now)
+                            + ", sent " + feed.sent.get() + "; " + view.counts(status.counts()));
+                }
+                if (interrupted.getAsBoolean()
+                        || stopper.shouldStop(new Progress(service.ready(), feed.sent.get(), raisedNow))) {
+                    break;
+                }
+                sleepOrStop(interrupted);
+            }
+            println("stopping: feed, service, endpoints, broker ...");
+            feed.stop();
+            return raised.size();
+        }
+    }
+
+    private void sleepOrStop(BooleanSupplier interrupted) throws InterruptedException {
+        long until = System.nanoTime() + settings.refresh().toNanos();
+        while (System.nanoTime() < until && !interrupted.getAsBoolean()) {
+            Thread.sleep(50);
+        }
+    }
+
+    private void redraw(List<String> lines) {
+        StringBuilder b = new StringBuilder("\033[H\033[2J");
+        for (String line : lines) {
+            b.append(line).append('\n');
+        }
+        out.print(b);
+        out.flush();
+    }
+
+    private void println(String line) {
+        synchronized (out) {
+            out.println(line);
+            out.flush();
+        }
+    }
+
+    private static Map<String, Set<String>> watchedTerms(MonitorConfig config) {
+        Map<String, Set<String>> watched = new HashMap<>();
+        for (MonitorDefinition m : config.monitors()) {
+            Set<String> names = new HashSet<>();
+            for (TermSpec t : m.terms()) {
+                if (t.term().watched()) {
+                    names.add(t.name());
+                }
+            }
+            watched.put(m.name(), names);
+        }
+        return watched;
+    }
+
+    /** The simulated feed on its own thread. */
+    private final class Feed {
+        private final EmbeddedBroker broker;
+        private final String topic;
+        private final AtomicBoolean stop = new AtomicBoolean();
+        private final AtomicBoolean done = new AtomicBoolean();
+        private final AtomicLong sent = new AtomicLong();
+        private final AtomicReference<Instant> simulatedNow = new AtomicReference<>();
+        private final AtomicReference<Throwable> failure = new AtomicReference<>();
+        private Thread thread;
+
+        Feed(EmbeddedBroker broker, String topic) {
+            this.broker = broker;
+            this.topic = topic;
+        }
+
+        void start() {
+            thread = new Thread(this::run, "oddswatch-sandbox-feed");
+            thread.setDaemon(true);
+            thread.start();
+        }
+
+        private void run() {
+            Scenario scenario = settings.scenario();
+            SimulatedClock clock = new SimulatedClock(scenario.options().start(), settings.speed());
+            java.util.Iterator<ScenarioEvent> events = scenario.iterator();
+            java.util.Iterator<ScenarioEvent> counted = new java.util.Iterator<>() {
+                @Override
+                public boolean hasNext() {
+                    return events.hasNext();
+                }
+
+                @Override
+                public ScenarioEvent next() {
+                    ScenarioEvent e = events.next();
+                    sent.incrementAndGet();
+                    simulatedNow.set(e.emittedAt());
+                    return e;
+                }
+            };
+            try (TopicPublisher publisher = new TopicPublisher(broker.clientProps(), topic)) {
+                publisher.publish(counted, clock, stop::get);
+            } catch (InterruptedException e) {
+                Thread.currentThread().interrupt();
+            } catch (Throwable t) {
+                if (!stop.get()) {
+                    failure.set(t);
+                }
+            } finally {
+                done.set(true);
+            }
+        }
+
+        void stop() throws InterruptedException {
+            stop.set(true);
+            if (thread != null) {
+                thread.join(15_000);
+            }
+        }
+    }
+
+    /** A stopper that stops at the first raised alert matching {@code which}. */
+    public static Stopper untilAlert(Predicate<JsonNode> which) {
+        return p -> p.raisedAlerts().stream().anyMatch(which);
+    }
+}
