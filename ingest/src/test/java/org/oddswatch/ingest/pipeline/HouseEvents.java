@@ -32,15 +32,33 @@ public final class HouseEvents {
         return b.append(",\"sex\":\"").append(sex).append("\"}").toString();
     }
 
+    /** One generated event with its true values. */
+    public record HouseEvent(String id, Instant time, String region, boolean household, boolean travel, String band,
+                             String sex, boolean positive) {
+
+        public String json() {
+            return HouseEvents.json(id, time, region, household, travel, band, sex, positive);
+        }
+
+        /** A CSV row matching {@link #CSV_HEADER}; a missing band is an empty cell. */
+        public String csv() {
+            return String.join(",", id, time.toString(), positive ? "positive" : "negative", region,
+                    household ? "yes" : "no", Boolean.toString(travel), band == null ? "" : band, sex);
+        }
+    }
+
+    /** CSV header whose nested names give the same JSON Pointers as the JSON events. */
+    public static final String CSV_HEADER = "id,collectedAt,result,region,exposure/household,exposure/travel,ageBand,sex";
+
     /**
      * {@code n} events with times spread evenly over {@code [start, start + spanMillis)} in
      * arrival order, each shifted back by up to {@code jitterMillis} (so arrival is slightly out of
      * order), regions taken in turn.
      */
-    public static List<String> generate(long seed, int n, Instant start, long spanMillis, long jitterMillis,
-                                        String... regions) {
+    public static List<HouseEvent> events(long seed, int n, Instant start, long spanMillis, long jitterMillis,
+                                          String... regions) {
         Random random = new Random(seed);
-        List<String> lines = new ArrayList<>(n);
+        List<HouseEvent> events = new ArrayList<>(n);
         for (int i = 0; i < n; i++) {
             long offset = spanMillis * i / n - (jitterMillis == 0 ? 0 : (long) (random.nextDouble() * jitterMillis));
             Instant time = start.plusMillis(Math.max(0, offset));
@@ -51,7 +69,18 @@ public final class HouseEvents {
             double eta = -2.2 + (household ? 0.9 : 0) + (travel ? 0.5 : 0)
                     + ("65+".equals(band) ? 0.4 : 0) + ("0-17".equals(band) ? -0.3 : 0);
             boolean positive = random.nextDouble() < 1 / (1 + Math.exp(-eta));
-            lines.add(json("ev-" + i, time, regions[i % regions.length], household, travel, band, sex, positive));
+            events.add(new HouseEvent("ev-" + i, time, regions[i % regions.length], household, travel, band, sex,
+                    positive));
+        }
+        return events;
+    }
+
+    /** {@link #events} as JSON lines. */
+    public static List<String> generate(long seed, int n, Instant start, long spanMillis, long jitterMillis,
+                                        String... regions) {
+        List<String> lines = new ArrayList<>(n);
+        for (HouseEvent event : events(seed, n, start, spanMillis, jitterMillis, regions)) {
+            lines.add(event.json());
         }
         return lines;
     }

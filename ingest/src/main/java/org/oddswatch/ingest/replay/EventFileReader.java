@@ -1,0 +1,216 @@
+package org.oddswatch.ingest.replay;
+
+import com.fasterxml.jackson.databind.MappingIterator;
+import com.fasterxml.jackson.databind.ObjectReader;
+import com.fasterxml.jackson.databind.node.JsonNodeFactory;
+import com.fasterxml.jackson.databind.node.ObjectNode;
+import com.fasterxml.jackson.dataformat.csv.CsvMapper;
+import com.fasterxml.jackson.dataformat.csv.CsvParser;
+import java.io.ByteArrayOutputStream;
+import java.io.IOException;
+import java.io.InputStream;
+import java.nio.ByteBuffer;
+import java.nio.charset.CharacterCodingException;
+import java.nio.charset.CodingErrorAction;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
+import org.oddswatch.ingest.decode.RejectReason;
+
+/**
+ * Reads an event file record by record, never stopping at a bad record.
+ *
+ * <p>JSON Lines: every non-blank line is one record, passed on as its raw bytes (a trailing CR is
+ * dropped). CSV (jackson-dataformat-csv): the first non-blank row is the header; each later row
+ * becomes a JSON object of text values, so fields are read with JSON Pointers such as
+ * {@code /result}. A header name containing {@code /} makes nested objects ({@code exposure/household}
+ * is read by {@code /exposure/household}), so one definition can serve both formats. Empty cells are
+ * left out (absent). A quoted value may span lines; a row with a different number of cells than the
+ * header, broken quoting or invalid UTF-8 is reported as {@code malformed-csv} with its line.
+ */
+public final class EventFileReader {
+
+    private static final ObjectReader CSV_ROW = new CsvMapper()
+            .enable(CsvParser.Feature.WRAP_AS_ARRAY)
+            .readerFor(String[].class);
+
+    private EventFileReader() {
+    }
+
+    public static void read(Path file, InputFormat format, RecordSink sink) throws IOException {
+        try (InputStream in = Files.newInputStream(file)) {
+            if (format == InputFormat.CSV) {
+                readCsv(in, sink);
+            } else {
+                readJsonLines(in, sink);
+            }
+        }
+    }
+
+    private static void readJsonLines(InputStream in, RecordSink sink) throws IOException {
+        LineReader lines = new LineReader(in);
+        byte[] line;
+        while ((line = lines.next()) != null) {
+            if (!blank(line)) {
+                sink.json(line, lines.number());
+            }
+        }
+    }
+
+    private static void readCsv(InputStream in, RecordSink sink) throws IOException {
+        LineReader lines = new LineReader(in);
+        String[] header = null;
+        byte[] line;
+        while ((line = lines.next()) != null) {
+            if (blank(line)) {
+                continue;
+            }
+            long first = lines.number();
+            ByteArrayOutputStream record = new ByteArrayOutputStream(line.length + 16);
+            record.write(line);
+            while (quotes(record.toByteArray()) % 2 == 1) {
+                byte[] more = lines.next();
+                if (more == null) {
+                    break;
+                }
+                record.write('\n');
+                record.write(more);
+            }
+            byte[] bytes = record.toByteArray();
+            String[] cells;
+            try {
+                cells = cells(bytes);
+            } catch (IOException e) {
+                if (header == null) {
+                    throw new IOException("line " + first + ": the CSV header cannot be read: " + e.getMessage(), e);
+                }
+                sink.unreadable(bytes, first, RejectReason.MALFORMED_CSV, e.getMessage());
+                continue;
+            }
+            if (header == null) {
+                header = cells;
+                continue;
+            }
+            if (cells.length != header.length) {
+                sink.unreadable(bytes, first, RejectReason.MALFORMED_CSV,
+                        cells.length + " cells where the header has " + header.length);
+                continue;
+            }
+            sink.tree(row(header, cells), bytes, first);
+        }
+    }
+
+    private static String[] cells(byte[] bytes) throws IOException {
+        String text;
+        try {
+            text = StandardCharsets.UTF_8.newDecoder()
+                    .onMalformedInput(CodingErrorAction.REPORT)
+                    .onUnmappableCharacter(CodingErrorAction.REPORT)
+                    .decode(ByteBuffer.wrap(bytes)).toString();
+        } catch (CharacterCodingException e) {
+            throw new IOException("not valid UTF-8");
+        }
+        try (MappingIterator<String[]> rows = CSV_ROW.readValues(text)) {
+            List<String[]> all = new ArrayList<>(1);
+            while (rows.hasNextValue()) {
+                all.add(rows.nextValue());
+            }
+            if (all.size() != 1) {
+                throw new IOException("expected one CSV row, found " + all.size());
+            }
+            return all.get(0);
+        } catch (RuntimeException e) {
+            throw new IOException(e.getMessage(), e);
+        }
+    }
+
+    private static ObjectNode row(String[] header, String[] cells) {
+        ObjectNode row = JsonNodeFactory.instance.objectNode();
+        for (int i = 0; i < header.length; i++) {
+            if (cells[i] == null || cells[i].isEmpty()) {
+                continue;
+            }
+            String[] path = header[i].split("/", -1);
+            ObjectNode parent = row;
+            for (int p = 0; p < path.length - 1; p++) {
+                com.fasterxml.jackson.databind.JsonNode child = parent.get(path[p]);
+                parent = child instanceof ObjectNode o ? o : parent.putObject(path[p]);
+            }
+            parent.put(path[path.length - 1], cells[i]);
+        }
+        return row;
+    }
+
+    private static int quotes(byte[] bytes) {
+        int count = 0;
+        for (byte b : bytes) {
+            if (b == '"') {
+                count++;
+            }
+        }
+        return count;
+    }
+
+    private static boolean blank(byte[] line) {
+        for (byte b : line) {
+            if (b != ' ' && b != '\t' && b != '\r') {
+                return false;
+            }
+        }
+        return true;
+    }
+
+    /** Splits a byte stream at LF, dropping one trailing CR; counts lines from 1. */
+    private static final class LineReader {
+        private final InputStream in;
+        private final byte[] chunk = new byte[1 << 16];
+        private int position;
+        private int limit;
+        private final ByteArrayOutputStream buffer = new ByteArrayOutputStream(256);
+        private long number;
+
+        LineReader(InputStream in) {
+            this.in = in;
+        }
+
+        byte[] next() throws IOException {
+            buffer.reset();
+            boolean any = false;
+            while (true) {
+                if (position == limit) {
+                    limit = in.read(chunk, 0, chunk.length);
+                    position = 0;
+                    if (limit <= 0) {
+                        limit = 0;
+                        if (!any) {
+                            return null;
+                        }
+                        break;
+                    }
+                }
+                any = true;
+                int start = position;
+                while (position < limit && chunk[position] != '\n') {
+                    position++;
+                }
+                buffer.write(chunk, start, position - start);
+                if (position < limit) {
+                    position++;
+                    break;
+                }
+            }
+            number++;
+            byte[] line = buffer.toByteArray();
+            if (line.length > 0 && line[line.length - 1] == '\r') {
+                return java.util.Arrays.copyOf(line, line.length - 1);
+            }
+            return line;
+        }
+
+        long number() {
+            return number;
+        }
+    }
+}

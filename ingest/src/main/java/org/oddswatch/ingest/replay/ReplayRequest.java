@@ -1,0 +1,39 @@
+package org.oddswatch.ingest.replay;
+
+import java.nio.file.Path;
+import java.time.Instant;
+
+/**
+ * What to replay.
+ *
+ * @param config the monitor definition file
+ * @param input the event file
+ * @param out the output folder (created if needed; files in it are replaced)
+ * @param format the input format, or null to tell by the file name ({@code .csv} is CSV)
+ * @param from first event time replayed (inclusive), or null
+ * @param to end of the replayed event times (exclusive), or null
+ * @param topic replay only the monitors reading this topic, or null for every monitor
+ */
+public record ReplayRequest(Path config, Path input, Path out, InputFormat format, Instant from, Instant to,
+                            String topic) {
+
+    public static ReplayRequest of(Path config, Path input, Path out) {
+        return new ReplayRequest(config, input, out, null, null, null, null);
+    }
+
+    public ReplayRequest withRange(Instant start, Instant end) {
+        return new ReplayRequest(config, input, out, format, start, end, topic);
+    }
+
+    public ReplayRequest withFormat(InputFormat value) {
+        return new ReplayRequest(config, input, out, value, from, to, topic);
+    }
+
+    public ReplayRequest withTopic(String value) {
+        return new ReplayRequest(config, input, out, format, from, to, value);
+    }
+
+    public InputFormat effectiveFormat() {
+        return format != null ? format : InputFormat.of(input);
+    }
+}

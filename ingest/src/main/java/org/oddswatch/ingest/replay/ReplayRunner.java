@@ -1,0 +1,217 @@
+package org.oddswatch.ingest.replay;
+
+import com.fasterxml.jackson.databind.node.ObjectNode;
+import java.io.BufferedWriter;
+import java.io.IOException;
+import java.io.UncheckedIOException;
+import java.io.Writer;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import org.oddswatch.alerts.engine.ReplayHint;
+import org.oddswatch.alerts.json.Json;
+import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.report.ReplayReport;
+import org.oddswatch.estimator.result.WindowEstimate;
+import org.oddswatch.ingest.decode.RejectReason;
+import org.oddswatch.ingest.definition.DefinitionException;
+import org.oddswatch.ingest.definition.DefinitionLoader;
+import org.oddswatch.ingest.definition.MonitorConfig;
+import org.oddswatch.ingest.definition.MonitorDefinition;
+import org.oddswatch.ingest.pipeline.MonitorPipeline;
+import org.oddswatch.ingest.pipeline.PipelineListener;
+import org.oddswatch.ingest.pipeline.PipelineSettings;
+import org.oddswatch.ingest.pipeline.PipelineSnapshot;
+import org.oddswatch.ingest.pipeline.RecordOrigin;
+import org.oddswatch.ingest.pipeline.RejectedRecord;
+import org.oddswatch.ingest.pipeline.StreamStatus;
+
+/**
+ * Replays an event file through the same {@link MonitorPipeline} as the live service, time driven by
+ * the events, and writes into the output folder:
+ * <ul>
+ *   <li>{@code estimates.jsonl}: every final window estimate, one JSON object per line;</li>
+ *   <li>{@code rejects.jsonl}: rejected and late records with their line number, reason and bytes
+ *       (records outside {@code --from/--to} are only counted);</li>
+ *   <li>{@code alerts.jsonl}: alert messages in the order raised;</li>
+ *   <li>{@code summary.json}: counts by outcome and reason, windows per stream;</li>
+ *   <li>{@code report.md}: the readable report of the alerts module.</li>
+ * </ul>
+ * At the end of the file every window that has received events is closed. The same definition and
+ * file give byte-identical output.
+ */
+public final class ReplayRunner {
+
+    public static final String ESTIMATES = "estimates.jsonl";
+    public static final String REJECTS = "rejects.jsonl";
+    public static final String ALERTS = "alerts.jsonl";
+    public static final String SUMMARY = "summary.json";
+
+    private ReplayRunner() {
+    }
+
+    /**
+     * @throws DefinitionException for an invalid definition (a usage/configuration error)
+     * @throws IllegalArgumentException when a frozen baseline file cannot be used (configuration)
+     * @throws IOException when the input cannot be read or the output written
+     */
+    public static ReplaySummary run(ReplayRequest request) throws DefinitionException, IOException {
+        MonitorConfig config = DefinitionLoader.load(request.config());
+        return run(config, request);
+    }
+
+    /** Runs with an already loaded definition. */
+    public static ReplaySummary run(MonitorConfig config, ReplayRequest request) throws IOException {
+        if (!Files.isRegularFile(request.input())) {
+            throw new IOException("input file " + request.input() + " does not exist");
+        }
+        List<MonitorDefinition> monitors = request.topic() == null ? config.monitors()
+                : config.monitorsFor(request.topic());
+        if (monitors.isEmpty()) {
+            throw new IllegalArgumentException("no monitor reads topic '" + request.topic() + "'");
+        }
+        Files.createDirectories(request.out());
+        PipelineSettings settings = PipelineSettings.defaults()
+                .withLimits(config.limits())
+                .withReplayHint(new ReplayHint(request.config() == null ? config.file() : request.config().toString(),
+                        request.input().toString(), null))
+                .withRange(request.from() == null ? null : request.from().toEpochMilli(),
+                        request.to() == null ? null : request.to().toEpochMilli());
+        InputFormat format = request.effectiveFormat();
+        try (FileOutputs outputs = new FileOutputs(request.out())) {
+            MonitorPipeline pipeline = new MonitorPipeline(request.input().toString(), monitors, outputs, settings);
+            try {
+                EventFileReader.read(request.input(), format, new PipelineFeed(pipeline));
+                pipeline.closeAll();
+            } catch (UncheckedIOException e) {
+                throw e.getCause();
+            }
+            ReplaySummary summary = summary(request, format, pipeline.snapshot(), outputs);
+            Files.writeString(request.out().resolve(SUMMARY),
+                    Json.mapper().writerWithDefaultPrettyPrinter().writeValueAsString(summary) + "\n",
+                    StandardCharsets.UTF_8);
+            outputs.close();
+            ReplayReport.write(request.out(), outputs.estimates, outputs.alerts, title(monitors, request));
+            return summary;
+        }
+    }
+
+    private static String title(List<MonitorDefinition> monitors, ReplayRequest request) {
+        StringBuilder names = new StringBuilder();
+        for (MonitorDefinition monitor : monitors) {
+            names.append(names.length() == 0 ? "" : ", ").append(monitor.name());
+        }
+        return "Replay of " + request.input().getFileName() + " (" + names + ")";
+    }
+
+    private static ReplaySummary summary(ReplayRequest request, InputFormat format, PipelineSnapshot snapshot,
+                                         FileOutputs outputs) {
+        List<ReplaySummary.Monitor> monitors = new ArrayList<>();
+        for (PipelineSnapshot.MonitorStatus monitor : snapshot.monitors()) {
+            monitors.add(new ReplaySummary.Monitor(monitor.monitor(), monitor.streams(), monitor.unrouted()));
+        }
+        List<ReplaySummary.Stream> streams = new ArrayList<>();
+        for (StreamStatus stream : snapshot.streams()) {
+            WindowEstimate[] span = outputs.windowSpan.get(stream.stream());
+            streams.add(new ReplaySummary.Stream(stream.stream(), stream.finalWindows(),
+                    span == null ? null : span[0].windowEnd(), span == null ? null : span[1].windowEnd(),
+                    stream.baseline(), stream.counts()));
+        }
+        return new ReplaySummary(request.input().toString(), format.name().toLowerCase(java.util.Locale.ROOT),
+                request.from(), request.to(), snapshot.totals(), outputs.estimates.size(), outputs.rejects,
+                outputs.alerts.size(), monitors, streams);
+    }
+
+    /** Feeds file records to the pipeline with their line numbers. */
+    private static final class PipelineFeed implements RecordSink {
+        private final MonitorPipeline pipeline;
+
+        PipelineFeed(MonitorPipeline pipeline) {
+            this.pipeline = pipeline;
+        }
+
+        @Override
+        public void json(byte[] value, long line) {
+            pipeline.offer(value, RecordOrigin.line(line), false);
+        }
+
+        @Override
+        public void tree(ObjectNode row, byte[] original, long line) {
+            pipeline.offerTree(row, original, RecordOrigin.line(line), false);
+        }
+
+        @Override
+        public void unreadable(byte[] original, long line, String reason, String detail) {
+            pipeline.offerUnreadable(original, RecordOrigin.line(line), reason, detail, false);
+        }
+    }
+
+    /** Writes the three JSON Lines files and keeps estimates and alerts for the report. */
+    private static final class FileOutputs implements PipelineListener, AutoCloseable {
+        private final Writer estimatesFile;
+        private final Writer rejectsFile;
+        private final Writer alertsFile;
+        final List<WindowEstimate> estimates = new ArrayList<>();
+        final List<Alert> alerts = new ArrayList<>();
+        final Map<String, WindowEstimate[]> windowSpan = new LinkedHashMap<>();
+        long rejects;
+        private boolean closed;
+
+        FileOutputs(Path dir) throws IOException {
+            estimatesFile = writer(dir.resolve(ESTIMATES));
+            rejectsFile = writer(dir.resolve(REJECTS));
+            alertsFile = writer(dir.resolve(ALERTS));
+        }
+
+        private static Writer writer(Path file) throws IOException {
+            return new BufferedWriter(Files.newBufferedWriter(file, StandardCharsets.UTF_8), 1 << 16);
+        }
+
+        @Override
+        public void onEstimate(WindowEstimate estimate) {
+            estimates.add(estimate);
+            windowSpan.computeIfAbsent(estimate.stream(), s -> new WindowEstimate[] {estimate, estimate})[1] = estimate;
+            line(estimatesFile, Json.write(estimate));
+        }
+
+        @Override
+        public void onReject(RejectedRecord record) {
+            if (RejectReason.OUTSIDE_RANGE.equals(record.reason())) {
+                return;
+            }
+            rejects++;
+            line(rejectsFile, Json.write(record.toJson()));
+        }
+
+        @Override
+        public void onAlert(Alert alert) {
+            alerts.add(alert);
+            line(alertsFile, Json.write(alert));
+        }
+
+        private static void line(Writer writer, String json) {
+            try {
+                writer.write(json);
+                writer.write('\n');
+            } catch (IOException e) {
+                throw new UncheckedIOException(e);
+            }
+        }
+
+        @Override
+        public void close() throws IOException {
+            if (!closed) {
+                closed = true;
+                try (Writer a = estimatesFile; Writer b = rejectsFile; Writer c = alertsFile) {
+                    a.flush();
+                    b.flush();
+                    c.flush();
+                }
+            }
+        }
+    }
+}

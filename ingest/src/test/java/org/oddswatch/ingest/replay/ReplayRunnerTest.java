@@ -1,0 +1,219 @@
+package org.oddswatch.ingest.replay;
+
+import static org.junit.jupiter.api.Assertions.assertArrayEquals;
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import java.io.IOException;
+import java.net.URISyntaxException;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.time.Duration;
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.List;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+import org.oddswatch.alerts.json.Json;
+import org.oddswatch.estimator.EstimatorOptions;
+import org.oddswatch.estimator.WindowEstimator;
+import org.oddswatch.estimator.calibration.BaselineModel;
+import org.oddswatch.estimator.result.WindowEstimate;
+import org.oddswatch.estimator.result.WindowStatus;
+import org.oddswatch.estimator.terms.BinaryTerm;
+import org.oddswatch.estimator.terms.CategoricalTerm;
+import org.oddswatch.estimator.terms.DesignCoder;
+import org.oddswatch.estimator.terms.UndeclaredLevelPolicy;
+import org.oddswatch.estimator.window.WindowGeometry;
+import org.oddswatch.estimator.window.WindowStore;
+import org.oddswatch.ingest.decode.RejectReason;
+import org.oddswatch.ingest.pipeline.HouseEvents;
+import org.oddswatch.ingest.pipeline.HouseEvents.HouseEvent;
+import org.oddswatch.ingest.pipeline.Outcome;
+
+class ReplayRunnerTest {
+
+    static final Instant START = Instant.parse("2026-01-05T00:00:00Z");
+    static final Instant BASELINE_END = Instant.parse("2026-02-02T00:00:00Z");
+    static final long WEEK = Duration.ofDays(7).toMillis();
+    static final List<String> BANDS = List.of("0-17", "18-39", "40-64", "65+");
+
+    @TempDir
+    Path dir;
+
+    static Path definition() throws URISyntaxException {
+        return Path.of(ReplayRunnerTest.class.getResource("/replay/replay.yaml").toURI());
+    }
+
+    /** Ten weeks of in-order events in two regions. */
+    static List<HouseEvent> tenWeeks() {
+        return HouseEvents.events(20260105, 6000, START, 10 * WEEK, 0, "north", "south");
+    }
+
+    private Path jsonl(String name, List<String> lines) throws IOException {
+        Path file = dir.resolve(name);
+        Files.write(file, lines, StandardCharsets.UTF_8);
+        return file;
+    }
+
+    private static List<String> json(List<HouseEvent> events) {
+        List<String> lines = new ArrayList<>();
+        for (HouseEvent event : events) {
+            lines.add(event.json());
+        }
+        return lines;
+    }
+
+    private ReplaySummary replay(Path input, String out) throws Exception {
+        return ReplayRunner.run(ReplayRequest.of(definition(), input, dir.resolve(out)));
+    }
+
+    private List<String> lines(String out, String file) throws IOException {
+        return Files.readAllLines(dir.resolve(out).resolve(file), StandardCharsets.UTF_8);
+    }
+
+    @Test
+    void sameInputGivesByteIdenticalOutput() throws Exception {
+        List<String> lines = json(tenWeeks());
+        lines.add(100, "{broken");
+        Path input = jsonl("events.jsonl", lines);
+        replay(input, "one");
+        replay(input, "two");
+        for (String file : List.of(ReplayRunner.ESTIMATES, ReplayRunner.REJECTS, ReplayRunner.ALERTS,
+                ReplayRunner.SUMMARY)) {
+            assertArrayEquals(Files.readAllBytes(dir.resolve("one").resolve(file)),
+                    Files.readAllBytes(dir.resolve("two").resolve(file)), file);
+        }
+        assertFalse(lines("one", ReplayRunner.ESTIMATES).isEmpty());
+        assertTrue(Files.exists(dir.resolve("one").resolve("report.md")));
+    }
+
+    /**
+     * The independent path: the same events coded straight from their values (no JSON, no decoder,
+     * no pipeline), bucketed by WindowGeometry and estimated with WindowEstimator, warm-started from
+     * the previous final window, with the baseline fitted on [from, to) directly.
+     */
+    @Test
+    void estimatesEqualADirectComputation() throws Exception {
+        List<HouseEvent> events = tenWeeks();
+        replay(jsonl("events.jsonl", json(events)), "out");
+        List<String> written = lines("out", ReplayRunner.ESTIMATES);
+
+        DesignCoder coder = new DesignCoder(List.of(
+                new BinaryTerm("household_contact", "yes", "no", UndeclaredLevelPolicy.REJECT, true),
+                new BinaryTerm("recent_travel", "yes", "no", UndeclaredLevelPolicy.REJECT, true),
+                new CategoricalTerm("age_band", BANDS, "18-39", UndeclaredLevelPolicy.MISSING, null, false),
+                new CategoricalTerm("sex", List.of("female", "male"), "female", UndeclaredLevelPolicy.REJECT, null,
+                        false)));
+        WindowEstimator estimator = new WindowEstimator(coder, EstimatorOptions.defaults().withStratumTerm("age_band"));
+        WindowGeometry geometry = new WindowGeometry(4 * WEEK, WEEK, START.toEpochMilli(), Duration.ofDays(1).toMillis());
+        List<String> expected = new ArrayList<>();
+        for (String region : List.of("north", "south")) {
+            WindowStore store = new WindowStore(coder, 4096, 4);
+            WindowStore baselineStore = new WindowStore(coder, 4096, 4);
+            long first = Long.MAX_VALUE;
+            long last = Long.MIN_VALUE;
+            for (HouseEvent e : events) {
+                if (!e.region().equals(region)) {
+                    continue;
+                }
+                double[] row = new double[coder.width()];
+                boolean complete = coder.code(new Object[] {e.household() ? "yes" : "no", e.travel(), e.band(),
+                        e.sex()}, row).isOk();
+                int stratum = e.band() == null ? -1 : BANDS.indexOf(e.band());
+                long bucket = geometry.bucketOf(e.time().toEpochMilli());
+                store.add(bucket, complete ? row : null, e.positive(), stratum);
+                if (e.time().isBefore(BASELINE_END)) {
+                    baselineStore.add(0, complete ? row : null, e.positive(), stratum);
+                }
+                first = Math.min(first, bucket);
+                last = Math.max(last, bucket);
+            }
+            BaselineModel baseline = estimator.fitBaseline(baselineStore.window(0, 1), START.toString(),
+                    BASELINE_END.toString(), definitionChecksum());
+            long baselineFrom = geometry.bucketOf(BASELINE_END.toEpochMilli() - 1) + 1;
+            double[] warm = null;
+            for (long end = first + 1; end <= last + 4; end++) {
+                WindowEstimate estimate = estimator.estimate("respiratory/" + region, geometry.windowStart(end),
+                        geometry.windowEnd(end), WindowStatus.FINAL, store.window(end - 4, end), warm,
+                        end >= baselineFrom ? baseline : null);
+                warm = estimator.coefficientVector(estimate);
+                expected.add(Json.write(estimate));
+            }
+        }
+        assertEquals(13 * 2, expected.size());
+        List<String> sorted = new ArrayList<>(written);
+        sorted.sort(java.util.Comparator.comparing(s -> s.contains("respiratory/north") ? 0 : 1));
+        assertEquals(expected, sorted);
+        JsonNode firstWithBaseline = Json.mapper().readTree(written.stream()
+                .filter(s -> s.contains("\"windowEnd\":\"2026-02-09T00:00:00Z\"")).findFirst().orElseThrow());
+        assertTrue(firstWithBaseline.get("calibration").isObject(), "calibration after the baseline period");
+    }
+
+    private static String definitionChecksum() throws Exception {
+        return org.oddswatch.ingest.definition.DefinitionLoader.load(definition()).monitors().get(0).checksum();
+    }
+
+    @Test
+    void csvAndJsonLinesGiveEqualEstimates() throws Exception {
+        List<HouseEvent> events = tenWeeks();
+        Path jsonInput = jsonl("events.jsonl", json(events));
+        List<String> csv = new ArrayList<>();
+        csv.add(HouseEvents.CSV_HEADER);
+        for (HouseEvent event : events) {
+            csv.add(event.csv());
+        }
+        Path csvInput = jsonl("events.csv", csv);
+        replay(jsonInput, "json");
+        ReplaySummary summary = replay(csvInput, "csv");
+        assertEquals("csv", summary.format());
+        assertEquals(events.size(), summary.records().outcome(Outcome.ACCEPTED));
+        assertArrayEquals(Files.readAllBytes(dir.resolve("json").resolve(ReplayRunner.ESTIMATES)),
+                Files.readAllBytes(dir.resolve("csv").resolve(ReplayRunner.ESTIMATES)));
+    }
+
+    @Test
+    void malformedLinesAreReportedWithTheirLineAndNeverStopTheReplay() throws Exception {
+        List<String> lines = json(tenWeeks().subList(0, 2000));
+        lines.add(10, "{\"id\": \"x\", ");
+        lines.add(20, "");
+        lines.add(30, "[\"not\", \"an object\"]");
+        lines.add(40, lines.get(35));
+        Path input = jsonl("events.jsonl", lines);
+        ReplaySummary summary = replay(input, "out");
+        assertEquals(2003, summary.records().consumed(), "blank lines are not records");
+        assertEquals(1, summary.records().reasons().get(RejectReason.MALFORMED_JSON));
+        assertEquals(1, summary.records().reasons().get(RejectReason.NOT_AN_OBJECT));
+        assertEquals(1, summary.records().outcome(Outcome.DUPLICATE));
+        assertEquals(2000, summary.records().outcome(Outcome.ACCEPTED));
+        List<String> rejects = lines("out", ReplayRunner.REJECTS);
+        assertEquals(2, rejects.size());
+        assertEquals(11, Json.mapper().readTree(rejects.get(0)).get("line").asInt());
+        assertEquals("malformed-json", Json.mapper().readTree(rejects.get(0)).get("reason").asText());
+        assertEquals(31, Json.mapper().readTree(rejects.get(1)).get("line").asInt());
+        assertEquals("[\"not\", \"an object\"]", Json.mapper().readTree(rejects.get(1)).get("value").asText());
+        assertEquals(2, summary.streams().size());
+        assertTrue(summary.streams().get(0).windows() > 0);
+    }
+
+    @Test
+    void aTimeRangeReplaysOnlyItsEvents() throws Exception {
+        List<HouseEvent> events = tenWeeks();
+        Instant from = START.plusMillis(4 * WEEK);
+        Instant to = START.plusMillis(6 * WEEK);
+        long inside = events.stream().filter(e -> !e.time().isBefore(from) && e.time().isBefore(to)).count();
+        ReplaySummary summary = ReplayRunner.run(ReplayRequest.of(definition(), jsonl("events.jsonl", json(events)),
+                dir.resolve("out")).withRange(from, to));
+        assertEquals(inside, summary.records().outcome(Outcome.ACCEPTED));
+        assertEquals(events.size() - inside, summary.records().reasons().get(RejectReason.OUTSIDE_RANGE));
+        assertTrue(lines("out", ReplayRunner.REJECTS).isEmpty(), "out-of-range events are only counted");
+        for (String line : lines("out", ReplayRunner.ESTIMATES)) {
+            JsonNode estimate = Json.mapper().readTree(line);
+            Instant end = Instant.parse(estimate.get("windowEnd").asText());
+            assertTrue(end.isAfter(from) && !end.isAfter(to.plusMillis(4 * WEEK)), line);
+        }
+    }
+}
