@@ -1,0 +1,150 @@
+package org.oddswatch.alerts.sinks;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertTimeoutPreemptively;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import com.sun.net.httpserver.HttpServer;
+import io.micrometer.core.instrument.simple.SimpleMeterRegistry;
+import java.net.InetSocketAddress;
+import java.net.URI;
+import java.nio.charset.StandardCharsets;
+import java.time.Duration;
+import java.util.List;
+import java.util.concurrent.CopyOnWriteArrayList;
+import java.util.concurrent.CountDownLatch;
+import java.util.concurrent.TimeUnit;
+import java.util.concurrent.atomic.AtomicInteger;
+import org.junit.jupiter.api.AfterEach;
+import org.junit.jupiter.api.Test;
+import org.oddswatch.alerts.Fixtures;
+import org.oddswatch.alerts.engine.AlertEngine;
+import org.oddswatch.alerts.engine.AlertRulesConfig;
+import org.oddswatch.alerts.json.Json;
+import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.metrics.OddswatchMeters;
+
+/** The webhook against a real HTTP server on the loopback interface. */
+class WebhookAlertSinkTest {
+
+    private HttpServer server;
+    private final CountDownLatch release = new CountDownLatch(1);
+
+    @AfterEach
+    void stop() {
+        release.countDown();
+        if (server != null) {
+            server.stop(0);
+        }
+    }
+
+    private static Alert alert() {
+        return new AlertEngine(Fixtures.STREAM, AlertRulesConfig.defaults(), Fixtures.baseline(), null)
+                .onFinalEstimate(Fixtures.windowWithZ(0, 4)).get(0);
+    }
+
+    private URI start(com.sun.net.httpserver.HttpHandler handler) throws Exception {
+        server = HttpServer.create(new InetSocketAddress("127.0.0.1", 0), 0);
+        server.createContext("/hook", handler);
+        server.setExecutor(java.util.concurrent.Executors.newFixedThreadPool(4));
+        server.start();
+        return URI.create("http://127.0.0.1:" + server.getAddress().getPort() + "/hook");
+    }
+
+    private static double count(SimpleMeterRegistry r, String name, String tag, String value) {
+        var c = r.find(name).tag(tag, value).counter();
+        return c == null ? 0 : c.count();
+    }
+
+    @Test
+    void failingFirstAttemptsAreRetriedWithBackoffThenDelivered() throws Exception {
+        AtomicInteger calls = new AtomicInteger();
+        List<String> bodies = new CopyOnWriteArrayList<>();
+        List<String> keys = new CopyOnWriteArrayList<>();
+        URI url = start(exchange -> {
+            bodies.add(new String(exchange.getRequestBody().readAllBytes(), StandardCharsets.UTF_8));
+            keys.add(exchange.getRequestHeaders().getFirst("Idempotency-Key"));
+            int status = calls.incrementAndGet() <= 2 ? 503 : 204;
+            exchange.sendResponseHeaders(status, -1);
+            exchange.close();
+        });
+        SimpleMeterRegistry registry = new SimpleMeterRegistry();
+        OddswatchMeters meters = new OddswatchMeters();
+        meters.bindTo(registry);
+        Alert a = alert();
+        try (WebhookAlertSink sink = new WebhookAlertSink(url, Duration.ofSeconds(5), 4, Duration.ofMillis(20), 10,
+                meters)) {
+            sink.publish(a);
+            assertTrue(sink.awaitIdle(Duration.ofSeconds(30)));
+            assertEquals(1, sink.delivered());
+            assertEquals(2, sink.failedAttempts());
+            assertEquals(2, sink.retries());
+            assertEquals(0, sink.failures());
+        }
+        assertEquals(3, calls.get());
+        JsonNode sent = Json.mapper().readTree(bodies.get(2));
+        assertEquals(a.id(), sent.get("id").asText());
+        assertEquals(Json.write(a), bodies.get(0), "the body is the alert JSON");
+        assertEquals(a.id() + ":raised:" + a.windowEnd(), keys.get(0));
+        assertEquals(2.0, count(registry, OddswatchMeters.WEBHOOK_ATTEMPTS, "outcome", "status"));
+        assertEquals(1.0, count(registry, OddswatchMeters.WEBHOOK_ATTEMPTS, "outcome", "success"));
+    }
+
+    @Test
+    void exhaustedAttemptsAreCountedAsAFailure() throws Exception {
+        URI url = start(exchange -> {
+            exchange.sendResponseHeaders(500, -1);
+            exchange.close();
+        });
+        SimpleMeterRegistry registry = new SimpleMeterRegistry();
+        OddswatchMeters meters = new OddswatchMeters();
+        meters.bindTo(registry);
+        try (WebhookAlertSink sink = new WebhookAlertSink(url, Duration.ofSeconds(5), 3, Duration.ofMillis(5), 10,
+                meters)) {
+            sink.publish(alert());
+            assertTrue(sink.awaitIdle(Duration.ofSeconds(30)));
+            assertEquals(0, sink.delivered());
+            assertEquals(3, sink.failedAttempts());
+            assertEquals(1, sink.failures());
+        }
+        assertEquals(1.0, count(registry, OddswatchMeters.WEBHOOK_FAILURES, "reason", "attempts-exhausted"));
+    }
+
+    @Test
+    void aHangingServerTimesOutWithoutHoldingUpThePublisher() throws Exception {
+        CountDownLatch entered = new CountDownLatch(1);
+        URI url = start(exchange -> {
+            entered.countDown();
+            try {
+                release.await(60, TimeUnit.SECONDS);
+            } catch (InterruptedException e) {
+                Thread.currentThread().interrupt();
+            }
+            exchange.close();
+        });
+        SimpleMeterRegistry registry = new SimpleMeterRegistry();
+        OddswatchMeters meters = new OddswatchMeters();
+        meters.bindTo(registry);
+        try (WebhookAlertSink sink = new WebhookAlertSink(url, Duration.ofMillis(300), 2, Duration.ofMillis(10), 1,
+                meters)) {
+            // publish must return while the server still holds the request: the server is released
+            // only after every publish call below has returned (a deadlock guard, not a timing check)
+            assertTimeoutPreemptively(Duration.ofSeconds(30), () -> {
+                sink.publish(alert());
+                assertTrue(entered.await(30, TimeUnit.SECONDS), "the request reached the server");
+                assertEquals(1, release.getCount(), "the server has not answered");
+                sink.publish(alert()); // queued (capacity 1)
+                sink.publish(alert()); // queue full: dropped and counted
+            });
+            assertEquals(1, sink.dropped());
+            assertTrue(sink.awaitIdle(Duration.ofSeconds(30)));
+            // both accepted alerts time out on each of their 2 attempts
+            assertEquals(4, sink.failedAttempts());
+            assertEquals(3, sink.failures(), "two exhausted, one dropped");
+        }
+        assertEquals(4.0, count(registry, OddswatchMeters.WEBHOOK_ATTEMPTS, "outcome", "timeout"));
+        assertEquals(1.0, count(registry, OddswatchMeters.WEBHOOK_FAILURES, "reason", "queue-full"));
+        assertEquals(2.0, count(registry, OddswatchMeters.WEBHOOK_FAILURES, "reason", "attempts-exhausted"));
+    }
+}
