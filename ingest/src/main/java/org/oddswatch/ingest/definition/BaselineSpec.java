@@ -16,8 +16,13 @@ public record BaselineSpec(Instant from, Instant to, String file) {
 
     /** The baseline file of one stream: {@code {split}} replaced by the split value (or removed). */
     public Path fileFor(Path definitionDir, String splitValue) {
-        String name = file.replace("{split}", splitValue == null ? "" : splitValue);
+        String name = file.replace("{split}", splitValue == null ? "" : fileSafe(splitValue));
         Path path = Path.of(name);
         return path.isAbsolute() || definitionDir == null ? path : definitionDir.resolve(path);
+    }
+
+    /** A name made safe for a file: {@code /} becomes {@code -}, other unusual characters {@code _}. */
+    public static String fileSafe(String name) {
+        return name.replace('/', '-').replaceAll("[^A-Za-z0-9._-]", "_");
     }
 }

@@ -49,7 +49,7 @@ final class LocatedTree {
         } catch (JsonProcessingException e) {
             JsonLocation where = e.getLocation();
             throw new DefinitionException(file, where == null ? 0 : line(where), "",
-                    "not valid YAML: " + String.valueOf(e.getOriginalMessage()).replace("\n", "; "));
+                    "not valid YAML: " + yamlProblem(e.getOriginalMessage()));
         } catch (IOException e) {
             throw new DefinitionException(file, 0, "", "cannot read: " + e.getMessage());
         }
@@ -102,6 +102,17 @@ final class LocatedTree {
                 throw new DefinitionException(file, line(parser.currentTokenLocation()), path,
                         "unsupported YAML content " + token);
         }
+    }
+
+    /** SnakeYAML's message without its position lines and source excerpt (the line is reported anyway). */
+    private static String yamlProblem(String message) {
+        StringBuilder problem = new StringBuilder();
+        for (String part : String.valueOf(message).split("\n")) {
+            if (!part.isBlank() && !Character.isWhitespace(part.charAt(0))) {
+                problem.append(problem.length() == 0 ? "" : ": ").append(part.strip());
+            }
+        }
+        return problem.toString();
     }
 
     private static int line(JsonLocation location) {

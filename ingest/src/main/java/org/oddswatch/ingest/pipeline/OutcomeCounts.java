@@ -60,5 +60,14 @@ public final class OutcomeCounts {
         public long outcome(Outcome outcome) {
             return outcomes.getOrDefault(outcome.toString(), 0L);
         }
+
+        /** The sum of this and {@code other}. */
+        public Snapshot plus(Snapshot other) {
+            Map<String, Long> byOutcome = new LinkedHashMap<>(outcomes);
+            other.outcomes.forEach((k, v) -> byOutcome.merge(k, v, Long::sum));
+            Map<String, Long> byReason = new TreeMap<>(reasons);
+            other.reasons.forEach((k, v) -> byReason.merge(k, v, Long::sum));
+            return new Snapshot(consumed + other.consumed, byOutcome, byReason);
+        }
     }
 }

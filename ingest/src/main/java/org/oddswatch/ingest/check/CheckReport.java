@@ -1,0 +1,77 @@
+package org.oddswatch.ingest.check;
+
+import java.util.List;
+import java.util.Map;
+import org.oddswatch.ingest.pipeline.OutcomeCounts;
+
+/**
+ * The result of checking a definition, and optionally sample events against it.
+ *
+ * @param file the definition file
+ * @param monitors one line of facts per monitor
+ * @param events what the sample events did, or null without events
+ */
+public record CheckReport(String file, List<MonitorFacts> monitors, EventCheck events) {
+
+    /** What a monitor reads and fits. */
+    public record MonitorFacts(String monitor, String topic, int terms, List<String> watched, int designColumns,
+                               String checksum) {
+    }
+
+    /**
+     * @param records one outcome per record (accepted when any monitor accepted it)
+     * @param monitors per monitor: every record's outcome for that monitor, streams included
+     * @param examples the first record of each reason: its line and detail
+     */
+    public record EventCheck(String input, OutcomeCounts.Snapshot records, List<MonitorCounts> monitors,
+                             Map<String, Example> examples) {
+    }
+
+    /** One monitor's counts over the sample. */
+    public record MonitorCounts(String monitor, int streams, OutcomeCounts.Snapshot counts) {
+    }
+
+    /** The first record seen with a reason. */
+    public record Example(long line, String monitor, String detail) {
+    }
+
+    /** A plain-text rendering, one fact per line, for the command line. */
+    public String describe() {
+        StringBuilder text = new StringBuilder();
+        text.append(file).append(": valid, ").append(monitors.size()).append(" monitor(s)\n");
+        for (MonitorFacts m : monitors) {
+            text.append("  ").append(m.monitor()).append(": topic ").append(m.topic()).append(", ").append(m.terms())
+                    .append(" terms, ").append(m.designColumns()).append(" design columns, watched: ")
+                    .append(m.watched().isEmpty() ? "none" : String.join(", ", m.watched())).append('\n');
+        }
+        if (events != null) {
+            OutcomeCounts.Snapshot r = events.records();
+            text.append(events.input()).append(": ").append(r.consumed()).append(" record(s): ");
+            appendOutcomes(text, r);
+            text.append('\n');
+            for (MonitorCounts m : events.monitors()) {
+                text.append("  ").append(m.monitor()).append(" (").append(m.streams()).append(" stream(s)): ");
+                appendOutcomes(text, m.counts());
+                text.append('\n');
+                for (Map.Entry<String, Long> reason : m.counts().reasons().entrySet()) {
+                    text.append("    ").append(reason.getKey()).append(": ").append(reason.getValue());
+                    Example example = events.examples().get(reason.getKey());
+                    if (example != null && example.line() > 0) {
+                        text.append(" (first at line ").append(example.line()).append(": ").append(example.detail())
+                                .append(')');
+                    }
+                    text.append('\n');
+                }
+            }
+        }
+        return text.toString();
+    }
+
+    private static void appendOutcomes(StringBuilder text, OutcomeCounts.Snapshot counts) {
+        boolean first = true;
+        for (Map.Entry<String, Long> outcome : counts.outcomes().entrySet()) {
+            text.append(first ? "" : ", ").append(outcome.getValue()).append(' ').append(outcome.getKey());
+            first = false;
+        }
+    }
+}

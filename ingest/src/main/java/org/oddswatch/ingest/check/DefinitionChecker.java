@@ -1,0 +1,124 @@
+package org.oddswatch.ingest.check;
+
+import com.fasterxml.jackson.databind.node.ObjectNode;
+import java.io.IOException;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Map;
+import java.util.TreeMap;
+import org.oddswatch.estimator.terms.Term;
+import org.oddswatch.ingest.definition.DefinitionException;
+import org.oddswatch.ingest.definition.DefinitionLoader;
+import org.oddswatch.ingest.definition.MonitorConfig;
+import org.oddswatch.ingest.definition.MonitorDefinition;
+import org.oddswatch.ingest.definition.TermSpec;
+import org.oddswatch.ingest.pipeline.MonitorPipeline;
+import org.oddswatch.ingest.pipeline.OutcomeCounts;
+import org.oddswatch.ingest.pipeline.PipelineListener;
+import org.oddswatch.ingest.pipeline.PipelineSettings;
+import org.oddswatch.ingest.pipeline.PipelineSnapshot;
+import org.oddswatch.ingest.pipeline.RecordOrigin;
+import org.oddswatch.ingest.pipeline.RecordOutcome;
+import org.oddswatch.ingest.pipeline.RejectedRecord;
+import org.oddswatch.ingest.pipeline.StreamStatus;
+import org.oddswatch.ingest.replay.EventFileReader;
+import org.oddswatch.ingest.replay.InputFormat;
+import org.oddswatch.ingest.replay.RecordSink;
+
+/**
+ * Validates a monitor definition and, given sample events, runs them through the real pipeline
+ * (decoding, routing, time rules, dedupe: the same code as replay and the service, estimates
+ * discarded) and reports how many each monitor would accept or reject, by reason.
+ */
+public final class DefinitionChecker {
+
+    private DefinitionChecker() {
+    }
+
+    /** Validates the definition only. */
+    public static CheckReport check(Path config) throws DefinitionException {
+        MonitorConfig loaded = DefinitionLoader.load(config);
+        return new CheckReport(loaded.file(), facts(loaded), null);
+    }
+
+    /**
+     * Validates the definition and checks sample events.
+     *
+     * @param format the events' format, or null to tell by the file name
+     */
+    public static CheckReport check(Path config, Path events, InputFormat format) throws DefinitionException,
+            IOException {
+        MonitorConfig loaded = DefinitionLoader.load(config);
+        return check(loaded, events, format);
+    }
+
+    public static CheckReport check(MonitorConfig config, Path events, InputFormat format) throws IOException {
+        if (!Files.isRegularFile(events)) {
+            throw new IOException("events file " + events + " does not exist");
+        }
+        Map<String, CheckReport.Example> examples = new TreeMap<>();
+        PipelineListener listener = new PipelineListener() {
+            @Override
+            public void onReject(RejectedRecord record) {
+                examples.putIfAbsent(record.reason(),
+                        new CheckReport.Example(record.origin().lineNumber(), record.monitor(), record.detail()));
+            }
+        };
+        MonitorPipeline pipeline = new MonitorPipeline(events.toString(), config.monitors(), listener,
+                PipelineSettings.defaults().withLimits(config.limits()));
+        EventFileReader.read(events, format == null ? InputFormat.of(events) : format, new RecordSink() {
+            @Override
+            public void json(byte[] value, long line) {
+                noteDuplicate(pipeline.offer(value, RecordOrigin.line(line), false), line, examples);
+            }
+
+            @Override
+            public void tree(ObjectNode row, byte[] original, long line) {
+                noteDuplicate(pipeline.offerTree(row, original, RecordOrigin.line(line), false), line, examples);
+            }
+
+            @Override
+            public void unreadable(byte[] original, long line, String reason, String detail) {
+                pipeline.offerUnreadable(original, RecordOrigin.line(line), reason, detail, false);
+            }
+        });
+        PipelineSnapshot snapshot = pipeline.snapshot();
+        List<CheckReport.MonitorCounts> monitors = new ArrayList<>();
+        for (PipelineSnapshot.MonitorStatus monitor : snapshot.monitors()) {
+            OutcomeCounts.Snapshot counts = monitor.unrouted();
+            for (StreamStatus stream : snapshot.streams()) {
+                if (stream.monitor().equals(monitor.monitor())) {
+                    counts = counts.plus(stream.counts());
+                }
+            }
+            monitors.add(new CheckReport.MonitorCounts(monitor.monitor(), monitor.streams(), counts));
+        }
+        return new CheckReport(config.file(), facts(config),
+                new CheckReport.EventCheck(events.toString(), snapshot.totals(), monitors, examples));
+    }
+
+    /** Duplicates are not sent to rejects; keep their first line as an example too. */
+    private static void noteDuplicate(RecordOutcome outcome, long line, Map<String, CheckReport.Example> examples) {
+        if (outcome.reason() != null && !examples.containsKey(outcome.reason())) {
+            examples.put(outcome.reason(), new CheckReport.Example(line, null, outcome.detail()));
+        }
+    }
+
+    private static List<CheckReport.MonitorFacts> facts(MonitorConfig config) {
+        List<CheckReport.MonitorFacts> facts = new ArrayList<>();
+        for (MonitorDefinition monitor : config.monitors()) {
+            List<String> watched = new ArrayList<>();
+            for (TermSpec spec : monitor.terms()) {
+                Term term = spec.term();
+                if (term.watched()) {
+                    watched.add(term.name());
+                }
+            }
+            facts.add(new CheckReport.MonitorFacts(monitor.name(), monitor.topic(), monitor.terms().size(), watched,
+                    monitor.designCoder().width(), monitor.checksum()));
+        }
+        return facts;
+    }
+}

@@ -1,0 +1,77 @@
+package org.oddswatch.ingest.check;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertNull;
+import static org.junit.jupiter.api.Assertions.assertThrows;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.List;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+import org.oddswatch.ingest.decode.RejectReason;
+import org.oddswatch.ingest.definition.DefinitionException;
+import org.oddswatch.ingest.pipeline.HouseEvents;
+import org.oddswatch.ingest.pipeline.Outcome;
+
+class DefinitionCheckerTest {
+
+    @TempDir
+    Path dir;
+
+    private static Path definition() throws Exception {
+        return Path.of(DefinitionCheckerTest.class.getResource("/definitions/respiratory.yaml").toURI());
+    }
+
+    @Test
+    void definitionOnly() throws Exception {
+        CheckReport report = DefinitionChecker.check(definition());
+        assertNull(report.events());
+        assertEquals(List.of("household_contact", "recent_travel"), report.monitors().get(0).watched());
+        // intercept + 2 binary + 3 age-band indicators + 1 sex indicator
+        assertEquals(7, report.monitors().get(0).designColumns());
+        assertTrue(report.describe().contains("respiratory: topic clinic-tests"), report.describe());
+    }
+
+    @Test
+    void sampleEventsAreCountedByReason() throws Exception {
+        List<String> lines = new ArrayList<>(HouseEvents.generate(5, 200, Instant.parse("2026-03-02T00:00:00Z"),
+                14 * 86_400_000L, 0, "north", "south"));
+        lines.add("{\"id\": 1");
+        lines.add(lines.get(199));
+        lines.add(lines.get(198).replace("\"female\"", "\"unknown\"").replace("\"male\"", "\"unknown\""));
+        lines.add(lines.get(197).replace("\"collectedAt\":\"", "\"collectedAt\":\"x"));
+        Path events = dir.resolve("sample.jsonl");
+        Files.write(events, lines, StandardCharsets.UTF_8);
+        CheckReport report = DefinitionChecker.check(definition(), events, null);
+        CheckReport.EventCheck check = report.events();
+        assertEquals(204, check.records().consumed());
+        assertEquals(200, check.records().outcome(Outcome.ACCEPTED));
+        assertEquals(1, check.records().outcome(Outcome.DUPLICATE));
+        assertEquals(1, check.records().reasons().get(RejectReason.MALFORMED_JSON));
+        assertEquals(1, check.records().reasons().get(RejectReason.UNKNOWN_LEVEL));
+        assertEquals(1, check.records().reasons().get(RejectReason.BAD_TIME));
+        assertEquals(201, check.examples().get(RejectReason.MALFORMED_JSON).line());
+        assertEquals(203, check.examples().get(RejectReason.UNKNOWN_LEVEL).line());
+        CheckReport.MonitorCounts monitor = check.monitors().get(0);
+        assertEquals(2, monitor.streams());
+        assertEquals(204, monitor.counts().consumed());
+        String text = report.describe();
+        assertTrue(text.contains("204 record(s): 200 accepted, 3 rejected, 0 late, 1 duplicate"), text);
+        assertTrue(text.contains("unknown-level: 1 (first at line 203: sex: 'unknown' is not a declared level of sex)"),
+                text);
+    }
+
+    @Test
+    void anInvalidDefinitionIsReportedWithItsLine() throws Exception {
+        Path bad = dir.resolve("bad.yaml");
+        Files.writeString(bad, Files.readString(definition()).replace("step: P7D", "step: P5D"));
+        DefinitionException e = assertThrows(DefinitionException.class, () -> DefinitionChecker.check(bad));
+        assertEquals(24, e.line());
+        assertEquals("monitors[0].window.width", e.key());
+    }
+}
