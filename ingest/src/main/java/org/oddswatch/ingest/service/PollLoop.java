@@ -178,6 +178,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
         if (!offsets.isEmpty()) {
             consumer.commitSync(offsets, timeout);
             offsets.forEach((tp, om) -> states.get(tp).lastCommitted = om.offset());
+            snapshot = buildSnapshot();
         }
         lastCommitNanos = System.nanoTime();
     }
@@ -261,6 +262,8 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
             }
             state.rebuildUntil = until;
             state.rebuildStartedNanos = started;
+            LOG.info("rebuild plan {}: committed {}, partition [{}, {}), record time {}", tp, c == null ? null : c.offset(),
+                    beginning.get(tp), end.get(tp), recordMillis == null ? null : java.time.Instant.ofEpochMilli(recordMillis));
             if (recordMillis == null || until <= beginning.get(tp)) {
                 consumer.seek(tp, until);
             } else {
@@ -303,9 +306,6 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
                 if (r.offset() >= target) {
                     return r.timestamp();
                 }
-            }
-            if (lookup.position(tp) >= end) {
-                return null;
             }
         }
         throw new IllegalStateException("could not read the record at " + tp + "@" + target + " within " + timeout);

@@ -12,8 +12,10 @@ import org.oddswatch.ingest.definition.MonitorDefinition;
  *
  * <p>With {@code T} the timestamp of the record at the committed offset, the re-read starts at
  * <pre>
- *   min( T - max over monitors (width + lateness) - margin ,  min over fixed baselines (from) )
+ *   min( T - max over monitors (width + step + lateness) - margin ,  min over fixed baselines (from) )
  * </pre>
+ * The extra step makes the window before the first one emitted after the rebuild complete as well:
+ * its coefficients are the warm start of the next fit, so they must be those of an uninterrupted run.
  * The events of windows still open at the committed offset have event times at or after
  * {@code W - width - lateness}, where {@code W} is the stream's watermark there. As long as records
  * are stamped at or after their event time, and {@code T - W} (how far record time runs ahead of
@@ -27,7 +29,7 @@ public record RebuildSpan(long lookBackMillis, Long baselineFromMillis) {
         long lookBack = 0;
         Long baselineFrom = null;
         for (MonitorDefinition monitor : monitors) {
-            lookBack = Math.max(lookBack, monitor.retentionMillis());
+            lookBack = Math.max(lookBack, monitor.retentionMillis() + monitor.window().step().toMillis());
             if (monitor.baseline() != null && monitor.baseline().isFixedPeriod()) {
                 long from = monitor.baseline().from().toEpochMilli();
                 baselineFrom = baselineFrom == null ? from : Math.min(baselineFrom, from);

@@ -78,6 +78,9 @@ public final class EmbeddedKafka implements AutoCloseable, BeforeAllCallback, Af
                     .setConfigProp("transaction.state.log.min.isr", "1")
                     .setConfigProp("group.initial.rebalance.delay.ms", "0")
                     .setConfigProp("auto.create.topics.enable", "false")
+                    // Tests stamp records with past event times; time-based retention would delete
+                    // them within minutes of the broker's start.
+                    .setConfigProp("log.retention.ms", "-1")
                     .setConfigProp("num.partitions", "1");
             extraBrokerProps.forEach(builder::setConfigProp);
             KafkaClusterTestKit started = builder.build();
@@ -138,11 +141,29 @@ public final class EmbeddedKafka implements AutoCloseable, BeforeAllCallback, Af
 
     /** Sends values to a topic (with the given keys; a null key list means no keys) and waits for all acks. */
     public void produce(String topic, List<String> keys, List<byte[]> values) {
+        produce(topic, keys, values, null);
+    }
+
+    /**
+     * Sends values with explicit record timestamps (null list: the producer's clock) and waits for
+     * every ack; fails if any send failed.
+     */
+    public void produce(String topic, List<String> keys, List<byte[]> values, List<Long> timestamps) {
+        List<java.util.concurrent.Future<?>> acks = new ArrayList<>();
         try (KafkaProducer<String, byte[]> producer = producer()) {
             for (int i = 0; i < values.size(); i++) {
-                producer.send(new ProducerRecord<>(topic, keys == null ? null : keys.get(i), values.get(i)));
+                acks.add(producer.send(new ProducerRecord<>(topic, null, timestamps == null ? null : timestamps.get(i),
+                        keys == null ? null : keys.get(i), values.get(i))));
             }
             producer.flush();
+            for (var ack : acks) {
+                ack.get();
+            }
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+            throw new IllegalStateException(e);
+        } catch (ExecutionException e) {
+            throw new IllegalStateException("could not produce to " + topic + ": " + e.getCause(), e.getCause());
         }
     }
 

@@ -20,6 +20,14 @@ final class TestDefinitions {
      *     watermark closes them)
      */
     static String yaml(String bootstrap, String prefix, String group, boolean split, String idleTimeout) {
+        return yaml(bootstrap, prefix + "-tests", prefix, group, split ? 8 : 0, idleTimeout);
+    }
+
+    /**
+     * @param input the input topic
+     * @param maxStreams cap of the region split, 0 for no split
+     */
+    static String yaml(String bootstrap, String input, String prefix, String group, int maxStreams, String idleTimeout) {
         return """
                 kafka:
                   bootstrap.servers: %s
@@ -31,7 +39,7 @@ final class TestDefinitions {
                   rebuildMargin: PT1H
                 monitors:
                   - name: resp
-                    input: {topic: %s-tests}
+                    input: {topic: %s}
                     event:
                       id: /id
                       time: /collectedAt
@@ -53,8 +61,8 @@ final class TestDefinitions {
                       estimatesTopic: %s-estimates
                       rejectsTopic: %s-rejects
                       alertsTopic: %s-alerts
-                """.formatted(bootstrap, group, idleTimeout, prefix,
-                split ? "    split: {field: /region, maxStreams: 3}" : "", prefix, prefix, prefix);
+                """.formatted(bootstrap, group, idleTimeout, input,
+                maxStreams > 0 ? "    split: {field: /region, maxStreams: " + maxStreams + "}" : "", prefix, prefix, prefix);
     }
 
     static MonitorConfig config(String yaml) {

@@ -12,7 +12,8 @@ import java.util.Random;
  * result, household contact, recent travel, age band, region. Positives are more likely with
  * household contact (log-odds +1.0) and travel (+0.5) over a base of -2.0; times advance through
  * the period with a small shuffle inside {@code jitter}, so some arrive out of order (within the
- * allowed lateness of the test definitions).
+ * allowed lateness of the test definitions). Regions take turns, so no stream has a gap longer than
+ * {@code regions * span / count + jitter} (kept under the one-day future-skew limit).
  */
 final class TestFeed {
 
@@ -35,7 +36,7 @@ final class TestFeed {
         for (int i = 0; i < count; i++) {
             long shift = jitter.isZero() ? 0 : (long) (random.nextDouble() * jitter.toMillis());
             Instant time = start.plusMillis(i * step - shift);
-            String region = regions[random.nextInt(regions.length)];
+            String region = regions[i % regions.length];
             boolean household = random.nextDouble() < 0.3;
             boolean travel = random.nextDouble() < 0.2;
             String age = AGE_BANDS[random.nextInt(AGE_BANDS.length)];

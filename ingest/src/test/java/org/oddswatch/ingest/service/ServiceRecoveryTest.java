@@ -1,0 +1,152 @@
+package org.oddswatch.ingest.service;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertNull;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import io.micrometer.core.instrument.MeterRegistry;
+import io.micrometer.core.instrument.simple.SimpleMeterRegistry;
+import java.time.Duration;
+import java.time.Instant;
+import java.util.List;
+import java.util.Map;
+import java.util.Set;
+import java.util.TreeSet;
+import org.junit.jupiter.api.BeforeAll;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.extension.RegisterExtension;
+import org.oddswatch.ingest.definition.MonitorConfig;
+import org.oddswatch.ingest.kafka.EmbeddedKafka;
+import org.oddswatch.ingest.pipeline.Outcome;
+
+/**
+ * Restarts and hand-overs: the final estimates after a stop and start, or after one of two
+ * instances leaves the group, equal those of one uninterrupted run over the same events. Idle
+ * timeouts are set far out, so windows close only by the event-time watermark.
+ */
+class ServiceRecoveryTest {
+
+    @RegisterExtension
+    static final EmbeddedKafka KAFKA = new EmbeddedKafka();
+
+    private static final String NEVER = "P3650D";
+    private static final Duration WAIT = Duration.ofSeconds(90);
+    private static final String[] REGIONS = {"north", "south", "east", "west", "central", "coast"};
+    private static List<TestFeed.Event> events;
+
+    @BeforeAll
+    static void feed() {
+        events = TestFeed.events(23, 4000, Instant.parse("2026-01-05T00:00:00Z"), Duration.ofDays(150),
+                Duration.ofHours(12), REGIONS);
+    }
+
+    /** One uninterrupted run over all events on a fresh input topic: the reference finals. */
+    private static Map<String, String> uninterrupted(String prefix, int partitions) {
+        String input = prefix + "-tests";
+        createTopics(prefix, input, partitions);
+        ServiceTestSupport.produce(KAFKA, input, events, true, true);
+        MonitorConfig config = config(input, prefix, prefix + "-group");
+        MonitorService service = new MonitorService(config, new SimpleMeterRegistry(), prefix).start();
+        try (service) {
+            ServiceTestSupport.awaitCommitted(KAFKA, prefix + "-group", input, WAIT);
+        }
+        // After close the status keeps the final counts.
+        assertEquals(events.size(), service.status().counts().outcome(Outcome.ACCEPTED), "all accepted");
+        Map<String, String> finals = ServiceTestSupport.finals(KAFKA, prefix + "-estimates");
+        assertTrue(finals.size() > 60, "the reference run closed windows of several streams: " + finals.size());
+        return finals;
+    }
+
+    @Test
+    void stopAndStartMidStreamGivesTheFinalsOfAnUninterruptedRun() throws Exception {
+        Map<String, String> expected = uninterrupted("restart-ref", 3);
+
+        String prefix = "restart";
+        String input = prefix + "-tests";
+        createTopics(prefix, input, 3);
+        MonitorConfig config = config(input, prefix, prefix + "-group");
+        int half = events.size() / 2;
+        // Record timestamps are the event times, so the rebuild's offsets-for-times look-up has to
+        // find the right place instead of falling back to the beginning.
+        ServiceTestSupport.produce(KAFKA, input, events.subList(0, half), true, true);
+        try (MonitorService first = new MonitorService(config, new SimpleMeterRegistry(), "first").start()) {
+            ServiceTestSupport.awaitCommitted(KAFKA, prefix + "-group", input, WAIT);
+        }
+        ServiceTestSupport.produce(KAFKA, input, events.subList(half, events.size()), true, true);
+        MeterRegistry registry = new SimpleMeterRegistry();
+        MonitorService second = new MonitorService(config, registry, "second").start();
+        try (second) {
+            ServiceTestSupport.awaitCommitted(KAFKA, prefix + "-group", input, WAIT);
+        }
+        assertNull(second.failure());
+        assertEquals(events.size() - half, second.status().counts().consumed(), "live records after restart");
+        double reread = registry.get("oddswatch.service.records").tag("phase", "rebuild").counter().count();
+        // Source: common practice, no source — the span (28 d width + 2 d lateness + 1 h margin) is
+        // far shorter than the 75 days before the restart, so only part of the first half is re-read.
+        assertTrue(reread > 0 && reread < half, "records re-read to rebuild state: " + reread);
+
+        assertSameFinals(expected, ServiceTestSupport.finals(KAFKA, prefix + "-estimates"));
+    }
+
+    @Test
+    void whenOneOfTwoInstancesStopsTheOtherTakesOverWithTheSameResults() throws Exception {
+        Map<String, String> expected = uninterrupted("pair-ref", 4);
+
+        String prefix = "pair";
+        String input = prefix + "-tests";
+        createTopics(prefix, input, 4);
+        MonitorConfig config = config(input, prefix, prefix + "-group");
+        int half = events.size() / 2;
+        ServiceTestSupport.produce(KAFKA, input, events.subList(0, half), true, true);
+        try (MonitorService a = new MonitorService(config, new SimpleMeterRegistry(), "a").start()) {
+            try (MonitorService b = new MonitorService(config, new SimpleMeterRegistry(), "b").start()) {
+                ServiceTestSupport.awaitTrue("both instances to own partitions and be ready", WAIT,
+                        () -> a.ready() && b.ready() && !a.status().partitions().isEmpty()
+                                && !b.status().partitions().isEmpty());
+                ServiceTestSupport.awaitCommitted(KAFKA, prefix + "-group", input, WAIT);
+                Set<Integer> ofA = partitions(a);
+                Set<Integer> ofB = partitions(b);
+                assertFalse(ofA.stream().anyMatch(ofB::contains), "no partition owned twice: " + ofA + " " + ofB);
+                assertEquals(4, ofA.size() + ofB.size());
+            }
+            // b has left the group; a takes over b's partitions, rebuilds them and goes on.
+            ServiceTestSupport.produce(KAFKA, input, events.subList(half, events.size()), true, true);
+            ServiceTestSupport.awaitTrue("a to own all partitions", WAIT, () -> a.ready() && partitions(a).size() == 4);
+            ServiceTestSupport.awaitCommitted(KAFKA, prefix + "-group", input, WAIT);
+            assertNull(a.failure());
+        }
+        Map<String, String> actual = ServiceTestSupport.finals(KAFKA, prefix + "-estimates");
+        Set<String> streams = new TreeSet<>();
+        actual.keySet().forEach(k -> streams.add(k.substring(0, k.indexOf('|'))));
+        assertEquals(REGIONS.length, streams.size(), "every stream estimated: " + streams);
+        assertSameFinals(expected, actual);
+    }
+
+    /**
+     * Same windows, same counts, same texts; numbers equal to 1e-9 (relative, or absolute below 1). Not byte-exact yet:
+     * each fit starts from the previous window's coefficients, and after a rebuild that chain starts
+     * at another window, which moves converged values in the last bits (see the pipeline note on
+     * rounding warm starts).
+     */
+    private static void assertSameFinals(Map<String, String> expected, Map<String, String> actual) {
+        ServiceTestSupport.assertSameEstimatesWithin(expected, actual, 1e-9);
+    }
+
+    private static Set<Integer> partitions(MonitorService service) {
+        Set<Integer> out = new TreeSet<>();
+        service.status().partitions().forEach(p -> out.add(p.partition()));
+        return out;
+    }
+
+    private static MonitorConfig config(String input, String prefix, String group) {
+        return TestDefinitions.config(TestDefinitions.yaml(KAFKA.bootstrapServers(), input, prefix, group, 8, NEVER));
+    }
+
+    private static void createTopics(String prefix, String input, int partitions) {
+        KAFKA.createTopic(input, partitions);
+        for (String out : List.of("-estimates", "-rejects", "-alerts")) {
+            KAFKA.createTopic(prefix + out, 1);
+        }
+    }
+}
