@@ -97,7 +97,8 @@ final class MonitorReader {
         Duration width = DefinitionLoader.positive(widthNode, null);
         Duration step = DefinitionLoader.positive(window.require("step"), null);
         if (width.toMillis() % step.toMillis() != 0 || width.compareTo(step) < 0) {
-            throw widthNode.error("width " + width + " is not a whole multiple of step " + step);
+            throw widthNode.error("width " + widthNode.text() + " is not a whole multiple of step "
+                    + window.get("step").text());
         }
         Duration lateness = DefinitionLoader.notNegative(window.get("lateness"), Duration.ZERO);
         Instant align = window.get("align").present() ? window.get("align").instant() : Instant.EPOCH;
