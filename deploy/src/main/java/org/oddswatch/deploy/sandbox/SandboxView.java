@@ -159,7 +159,8 @@ public final class SandboxView {
         String stream = e.path("stream").asText();
         int slash = stream.indexOf('/');
         Set<String> watched = watchedByMonitor.getOrDefault(slash < 0 ? stream : stream.substring(0, slash), Set.of());
-        Instant end = Instant.parse(e.path("windowEnd").asText());
+        // the truth in force at the window's last instant (windows are half-open)
+        Instant end = Instant.parse(e.path("windowEnd").asText()).minusMillis(1);
         for (JsonNode c : e.path("coefficients")) {
             String term = c.path("term").asText();
             if (!watched.contains(term) || !c.hasNonNull("oddsRatio")) {
@@ -170,7 +171,7 @@ public final class SandboxView {
             String interval = c.hasNonNull("lower") && c.hasNonNull("upper")
                     ? String.format(Locale.ROOT, "(%.2f-%.2f)", c.path("lower").asDouble(), c.path("upper").asDouble())
                     : "(no interval)";
-            lines.add(String.format(Locale.ROOT, "%s%-28s odds ratio %6.2f %-13s  truth at window end %.2f", indent,
+            lines.add(String.format(Locale.ROOT, "%s%-28s odds ratio %6.2f %-13s  true value at window end %.2f", indent,
                     label, c.path("oddsRatio").asDouble(), interval, scenario.trueOddsRatio(term, level, end)));
         }
         String fit = e.path("fit").path("state").asText("");
