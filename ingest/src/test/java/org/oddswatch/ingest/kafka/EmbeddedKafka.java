@@ -1,26 +1,6 @@
 package org.oddswatch.ingest.kafka;
 
-import java.time.Duration;
-import java.util.ArrayList;
-import java.util.List;
 import java.util.Map;
-import java.util.Properties;
-import java.util.concurrent.ExecutionException;
-import org.apache.kafka.clients.admin.Admin;
-import org.apache.kafka.clients.admin.AdminClientConfig;
-import org.apache.kafka.clients.admin.NewTopic;
-import org.apache.kafka.clients.consumer.ConsumerConfig;
-import org.apache.kafka.clients.consumer.ConsumerRecord;
-import org.apache.kafka.clients.consumer.KafkaConsumer;
-import org.apache.kafka.clients.producer.KafkaProducer;
-import org.apache.kafka.clients.producer.ProducerConfig;
-import org.apache.kafka.clients.producer.ProducerRecord;
-import org.apache.kafka.common.TopicPartition;
-import org.apache.kafka.common.errors.TopicExistsException;
-import org.apache.kafka.common.serialization.ByteArrayDeserializer;
-import org.apache.kafka.common.serialization.ByteArraySerializer;
-import org.apache.kafka.common.serialization.StringDeserializer;
-import org.apache.kafka.common.serialization.StringSerializer;
 import org.apache.kafka.common.test.KafkaClusterTestKit;
 import org.apache.kafka.common.test.TestKitNodes;
 import org.junit.jupiter.api.extension.AfterAllCallback;
@@ -42,7 +22,7 @@ import org.junit.jupiter.api.extension.ExtensionContext;
  * <p>Gotcha: the test kit pre-binds the controller's quorum port itself (on the wildcard address);
  * only the broker listener that clients use can be pinned to 127.0.0.1 through {@code listeners}.
  */
-public final class EmbeddedKafka implements AutoCloseable, BeforeAllCallback, AfterAllCallback {
+public final class EmbeddedKafka implements TestBroker, AutoCloseable, BeforeAllCallback, AfterAllCallback {
 
     private static final String BROKER_LISTENER = "EXTERNAL";
     private static final String CONTROLLER_LISTENER = "CONTROLLER";
@@ -98,109 +78,10 @@ public final class EmbeddedKafka implements AutoCloseable, BeforeAllCallback, Af
     }
 
     /** The {@code bootstrap.servers} value for clients. */
+    @Override
     public String bootstrapServers() {
         // The test kit names the bound port as localhost:<port>; the listener itself is on 127.0.0.1.
         return running().bootstrapServers().replace("localhost:", "127.0.0.1:");
-    }
-
-    /** Creates topics (ignoring ones that already exist) and waits for their metadata. */
-    public void createTopic(String name, int partitions) {
-        try (Admin admin = admin()) {
-            admin.createTopics(List.of(new NewTopic(name, partitions, (short) 1))).all().get();
-        } catch (ExecutionException e) {
-            if (!(e.getCause() instanceof TopicExistsException)) {
-                throw new IllegalStateException("could not create topic " + name, e.getCause());
-            }
-        } catch (InterruptedException e) {
-            Thread.currentThread().interrupt();
-            throw new IllegalStateException(e);
-        }
-    }
-
-    public Admin admin() {
-        Properties props = new Properties();
-        props.put(AdminClientConfig.BOOTSTRAP_SERVERS_CONFIG, bootstrapServers());
-        return Admin.create(props);
-    }
-
-    /** Base client settings: bootstrap servers only. */
-    public Properties clientProps() {
-        Properties props = new Properties();
-        props.put(ProducerConfig.BOOTSTRAP_SERVERS_CONFIG, bootstrapServers());
-        return props;
-    }
-
-    /** A producer of string keys and byte values with acks=all and idempotence. */
-    public KafkaProducer<String, byte[]> producer() {
-        Properties props = clientProps();
-        props.put(ProducerConfig.ACKS_CONFIG, "all");
-        props.put(ProducerConfig.ENABLE_IDEMPOTENCE_CONFIG, "true");
-        props.put(ProducerConfig.LINGER_MS_CONFIG, "5");
-        return new KafkaProducer<>(props, new StringSerializer(), new ByteArraySerializer());
-    }
-
-    /** Sends values to a topic (with the given keys; a null key list means no keys) and waits for all acks. */
-    public void produce(String topic, List<String> keys, List<byte[]> values) {
-        produce(topic, keys, values, null);
-    }
-
-    /**
-     * Sends values with explicit record timestamps (null list: the producer's clock) and waits for
-     * every ack; fails if any send failed.
-     */
-    public void produce(String topic, List<String> keys, List<byte[]> values, List<Long> timestamps) {
-        List<java.util.concurrent.Future<?>> acks = new ArrayList<>();
-        try (KafkaProducer<String, byte[]> producer = producer()) {
-            for (int i = 0; i < values.size(); i++) {
-                acks.add(producer.send(new ProducerRecord<>(topic, null, timestamps == null ? null : timestamps.get(i),
-                        keys == null ? null : keys.get(i), values.get(i))));
-            }
-            producer.flush();
-            for (var ack : acks) {
-                ack.get();
-            }
-        } catch (InterruptedException e) {
-            Thread.currentThread().interrupt();
-            throw new IllegalStateException(e);
-        } catch (ExecutionException e) {
-            throw new IllegalStateException("could not produce to " + topic + ": " + e.getCause(), e.getCause());
-        }
-    }
-
-    /**
-     * Reads every record of every partition of {@code topic} from the beginning up to the end offsets
-     * seen at the call, without a consumer group.
-     */
-    public List<ConsumerRecord<String, byte[]>> readAll(String topic, Duration timeout) {
-        Properties props = clientProps();
-        props.put(ConsumerConfig.ENABLE_AUTO_COMMIT_CONFIG, "false");
-        props.put(ConsumerConfig.ISOLATION_LEVEL_CONFIG, "read_committed");
-        List<ConsumerRecord<String, byte[]>> out = new ArrayList<>();
-        try (KafkaConsumer<String, byte[]> consumer =
-                     new KafkaConsumer<>(props, new StringDeserializer(), new ByteArrayDeserializer())) {
-            List<TopicPartition> partitions = consumer.partitionsFor(topic, timeout).stream()
-                    .map(p -> new TopicPartition(topic, p.partition())).toList();
-            consumer.assign(partitions);
-            consumer.seekToBeginning(partitions);
-            Map<TopicPartition, Long> end = consumer.endOffsets(partitions, timeout);
-            long deadline = System.nanoTime() + timeout.toNanos();
-            while (!reached(consumer, end)) {
-                if (System.nanoTime() > deadline) {
-                    throw new IllegalStateException("timed out reading " + topic + " to " + end);
-                }
-                consumer.poll(Duration.ofMillis(100)).forEach(out::add);
-            }
-        }
-        return out;
-    }
-
-    private static boolean reached(KafkaConsumer<?, ?> consumer, Map<TopicPartition, Long> end) {
-        for (Map.Entry<TopicPartition, Long> e : end.entrySet()) {
-            if (consumer.position(e.getKey()) < e.getValue()) {
-                return false;
-            }
-        }
-        return true;
     }
 
     private KafkaClusterTestKit running() {

@@ -12,6 +12,7 @@ import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.extension.RegisterExtension;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.kafka.EmbeddedKafka;
+import org.oddswatch.ingest.kafka.TestBroker;
 import org.oddswatch.ingest.pipeline.Outcome;
 
 /**
@@ -25,31 +26,35 @@ class ServiceEndToEndTest {
 
     @Test
     void finalEstimatesOnTheTopicEqualThoseOfAFileReplay() throws Exception {
+        runAgainst(KAFKA, "e2e");
+    }
+
+    /** The whole check against any broker (also used by the container variant). */
+    static void runAgainst(TestBroker broker, String prefix) {
         // Three regions over three partitions, keyed by region: one stream per region.
-        String prefix = "e2e";
-        KAFKA.createTopic(prefix + "-tests", 3);
+        broker.createTopic(prefix + "-tests", 3);
         for (String out : List.of("-estimates", "-rejects", "-alerts")) {
-            KAFKA.createTopic(prefix + out, 1);
+            broker.createTopic(prefix + out, 1);
         }
         List<TestFeed.Event> events = TestFeed.events(11, 3000, Instant.parse("2026-01-05T00:00:00Z"),
                 Duration.ofDays(140), Duration.ofHours(12), "north", "south", "west");
-        ServiceTestSupport.produce(KAFKA, prefix + "-tests", events, true);
+        ServiceTestSupport.produce(broker, prefix + "-tests", events, true);
         // A short idle timeout: once the feed is consumed, quiet streams close their windows, as the
         // end of a replay does.
         MonitorConfig config = TestDefinitions.config(
-                TestDefinitions.yaml(KAFKA.bootstrapServers(), prefix, "e2e-group", true, "PT2S"));
+                TestDefinitions.yaml(broker.bootstrapServers(), prefix, prefix + "-group", true, "PT2S"));
         Map<String, String> expected = ServiceTestSupport.replayFinals(config, prefix + "-tests", events);
         assertTrue(expected.size() > 40, "replay gives windows for three streams: " + expected.size());
 
-        MonitorService service = new MonitorService(config, new SimpleMeterRegistry(), "e2e").start();
+        MonitorService service = new MonitorService(config, new SimpleMeterRegistry(), prefix).start();
         try (service) {
             ServiceTestSupport.awaitTrue("all final estimates", Duration.ofSeconds(90),
-                    () -> ServiceTestSupport.finals(KAFKA, prefix + "-estimates").size() >= expected.size());
+                    () -> ServiceTestSupport.finals(broker, prefix + "-estimates").size() >= expected.size());
             assertTrue(service.ready());
         }
         var counts = service.status().counts();
         assertEquals(3000, counts.consumed());
         assertEquals(3000, counts.outcome(Outcome.ACCEPTED), "every event valid and in time");
-        ServiceTestSupport.assertSameEstimates(expected, ServiceTestSupport.finals(KAFKA, prefix + "-estimates"));
+        ServiceTestSupport.assertSameEstimates(expected, ServiceTestSupport.finals(broker, prefix + "-estimates"));
     }
 }

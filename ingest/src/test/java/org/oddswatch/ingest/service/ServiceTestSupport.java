@@ -21,7 +21,7 @@ import org.apache.kafka.common.TopicPartition;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.ingest.definition.MonitorConfig;
-import org.oddswatch.ingest.kafka.EmbeddedKafka;
+import org.oddswatch.ingest.kafka.TestBroker;
 import org.oddswatch.ingest.kafka.KafkaOutputPublisher;
 import org.oddswatch.ingest.pipeline.MonitorPipeline;
 import org.oddswatch.ingest.pipeline.PipelineListener;
@@ -35,12 +35,12 @@ final class ServiceTestSupport {
     }
 
     /** Produces the events, keyed by region when {@code keyed}, and waits for every ack. */
-    static void produce(EmbeddedKafka kafka, String topic, List<TestFeed.Event> events, boolean keyed) {
+    static void produce(TestBroker kafka, String topic, List<TestFeed.Event> events, boolean keyed) {
         produce(kafka, topic, events, keyed, false);
     }
 
     /** As above; with {@code eventTimestamps} each record's timestamp is its event time. */
-    static void produce(EmbeddedKafka kafka, String topic, List<TestFeed.Event> events, boolean keyed,
+    static void produce(TestBroker kafka, String topic, List<TestFeed.Event> events, boolean keyed,
                         boolean eventTimestamps) {
         List<String> keys = new ArrayList<>();
         List<byte[]> values = new ArrayList<>();
@@ -54,7 +54,7 @@ final class ServiceTestSupport {
     }
 
     /** The final estimates on a topic, by key; fails on two different finals for one key. */
-    static Map<String, String> finals(EmbeddedKafka kafka, String topic) {
+    static Map<String, String> finals(TestBroker kafka, String topic) {
         Map<String, String> out = new TreeMap<>();
         for (ConsumerRecord<String, byte[]> r : kafka.readAll(topic, Duration.ofSeconds(30))) {
             String json = new String(r.value(), StandardCharsets.UTF_8);
@@ -69,7 +69,7 @@ final class ServiceTestSupport {
     }
 
     /** Values of a topic as JSON trees, in read order. */
-    static List<JsonNode> values(EmbeddedKafka kafka, String topic) {
+    static List<JsonNode> values(TestBroker kafka, String topic) {
         List<JsonNode> out = new ArrayList<>();
         for (ConsumerRecord<String, byte[]> r : kafka.readAll(topic, Duration.ofSeconds(30))) {
             out.add(tree(new String(r.value(), StandardCharsets.UTF_8)));
@@ -110,11 +110,11 @@ final class ServiceTestSupport {
     }
 
     /** Waits until the group has committed the end offset of every partition of {@code topic}. */
-    static void awaitCommitted(EmbeddedKafka kafka, String group, String topic, Duration timeout) {
+    static void awaitCommitted(TestBroker kafka, String group, String topic, Duration timeout) {
         awaitTrue("group " + group + " to commit the end of " + topic, timeout, () -> caughtUp(kafka, group, topic));
     }
 
-    static boolean caughtUp(EmbeddedKafka kafka, String group, String topic) {
+    static boolean caughtUp(TestBroker kafka, String group, String topic) {
         try (Admin admin = kafka.admin()) {
             Map<TopicPartition, OffsetAndMetadata> committed =
                     admin.listConsumerGroupOffsets(group).partitionsToOffsetAndMetadata().get();
