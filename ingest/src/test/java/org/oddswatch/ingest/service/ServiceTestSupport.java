@@ -7,6 +7,8 @@ import com.fasterxml.jackson.databind.JsonNode;
 import java.io.IOException;
 import java.io.UncheckedIOException;
 import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
 import java.time.Duration;
 import java.util.ArrayList;
 import java.util.List;
@@ -23,10 +25,8 @@ import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.kafka.TestBroker;
 import org.oddswatch.ingest.kafka.KafkaOutputPublisher;
-import org.oddswatch.ingest.pipeline.MonitorPipeline;
-import org.oddswatch.ingest.pipeline.PipelineListener;
-import org.oddswatch.ingest.pipeline.PipelineSettings;
-import org.oddswatch.ingest.pipeline.RecordOrigin;
+import org.oddswatch.ingest.replay.ReplayRequest;
+import org.oddswatch.ingest.replay.ReplayRunner;
 
 /** Shared steps of the service tests: produce, wait, read outputs, and the file-replay reference. */
 final class ServiceTestSupport {
@@ -86,27 +86,28 @@ final class ServiceTestSupport {
     }
 
     /**
-     * The reference: the same events through one pipeline in file order (as {@code oddswatch replay}
-     * does), every window closed at the end; final estimates by topic key.
+     * The reference: the same events written to a JSON Lines file and replayed with
+     * {@link ReplayRunner} (every window closed at the end); its final estimates by topic key.
      */
     static Map<String, String> replayFinals(MonitorConfig config, String topic, List<TestFeed.Event> events) {
-        Map<String, String> out = new TreeMap<>();
-        PipelineListener listener = new PipelineListener() {
-            @Override
-            public void onEstimate(WindowEstimate estimate) {
-                if (estimate.status().toString().equals("final")) {
-                    out.put(KafkaOutputPublisher.estimateKey(estimate), Json.write(estimate));
+        try {
+            Path dir = Files.createTempDirectory("oddswatch-replay");
+            Path input = dir.resolve("events.jsonl");
+            StringBuilder lines = new StringBuilder();
+            events.forEach(e -> lines.append(e.text()).append('\n'));
+            Files.writeString(input, lines, StandardCharsets.UTF_8);
+            ReplayRunner.run(config, ReplayRequest.of(null, input, dir.resolve("out")).withTopic(topic));
+            Map<String, String> out = new TreeMap<>();
+            for (String json : Files.readAllLines(dir.resolve("out").resolve(ReplayRunner.ESTIMATES))) {
+                WindowEstimate estimate = Json.mapper().readValue(json, WindowEstimate.class);
+                if (out.put(KafkaOutputPublisher.estimateKey(estimate), json) != null) {
+                    fail("replay wrote two estimates for " + KafkaOutputPublisher.estimateKey(estimate));
                 }
             }
-        };
-        MonitorPipeline pipeline = new MonitorPipeline("file", config.monitorsFor(topic), listener,
-                PipelineSettings.defaults().withLimits(config.limits()));
-        long line = 0;
-        for (TestFeed.Event e : events) {
-            pipeline.offer(e.json(), RecordOrigin.line(++line), false);
+            return out;
+        } catch (IOException e) {
+            throw new UncheckedIOException(e);
         }
-        pipeline.closeAll();
-        return out;
     }
 
     /** Waits until the group has committed the end offset of every partition of {@code topic}. */
