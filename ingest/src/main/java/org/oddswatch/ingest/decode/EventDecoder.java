@@ -2,11 +2,8 @@ package org.oddswatch.ingest.decode;
 
 import com.fasterxml.jackson.core.JsonPointer;
 import com.fasterxml.jackson.databind.JsonNode;
-import java.time.OffsetDateTime;
-import java.time.format.DateTimeFormatter;
 import java.time.format.DateTimeParseException;
 import java.util.List;
-import java.util.Locale;
 import org.oddswatch.estimator.terms.CategoricalTerm;
 import org.oddswatch.estimator.terms.CodingOutcome;
 import org.oddswatch.estimator.terms.DesignCoder;
@@ -178,8 +175,7 @@ public final class EventDecoder {
             }
         }
         try {
-            return OffsetDateTime.parse(trimmed.toUpperCase(Locale.ROOT), DateTimeFormatter.ISO_OFFSET_DATE_TIME)
-                    .toInstant().toEpochMilli();
+            return Rfc3339.toEpochMillis(trimmed);
         } catch (DateTimeParseException | ArithmeticException e) {
             throw new IllegalArgumentException("'" + text + "' is not an RFC 3339 time with an offset"
                     + " (for example 2026-02-03T09:30:00Z) or epoch milliseconds");

@@ -135,14 +135,15 @@ final class StreamState {
         if (event.complete()) {
             if (engine != null) {
                 engine.onEvent(time, event.id(), event.row(), event.positive());
-            } else {
+            } else if (time >= monitor.baseline().to().toEpochMilli()) {
+                // After the period, before the freeze (at most the lateness): the sequential rule
+                // will need these. Events of the period itself are never scored against it.
                 pending.add(new PendingEvent(time, event.id(), event.row(), event.positive()));
             }
         }
         if (time > watermark) {
             watermark = time;
-            finalizeThrough(geometry.bucketOf(watermark - geometry.latenessMillis()),
-                    watermark - geometry.latenessMillis(), suppress);
+            finalizeThrough(geometry.bucketOf(watermark - geometry.latenessMillis()), suppress);
         }
         return RecordOutcome.ACCEPTED;
     }
@@ -151,19 +152,17 @@ final class StreamState {
     void advanceWatermark(long time, boolean suppress) {
         if (time > watermark) {
             watermark = time;
-            finalizeThrough(geometry.bucketOf(watermark - geometry.latenessMillis()),
-                    watermark - geometry.latenessMillis(), suppress);
+            finalizeThrough(geometry.bucketOf(watermark - geometry.latenessMillis()), suppress);
         }
     }
 
     /** End of input: every window that holds events becomes final. */
     void closeAll() {
-        if (idsByBucket.isEmpty() && engine != null) {
-            emitAlerts(engine.onEventsClosed(Long.MAX_VALUE), false);
-            return;
-        }
         long newest = idsByBucket.isEmpty() ? finalThrough : idsByBucket.lastKey();
-        finalizeThrough(newest + bucketsPerWindow, Long.MAX_VALUE, false);
+        finalizeThrough(newest + bucketsPerWindow, false);
+        if (engine != null) {
+            emitAlerts(engine.onEventsClosed(Long.MAX_VALUE), false);
+        }
     }
 
     /** An interim estimate of the window holding the watermark, unless that window is final. */
@@ -189,7 +188,13 @@ final class StreamState {
         }
     }
 
-    private void finalizeThrough(long newFinal, long eventsClosedBefore, boolean suppress) {
+    /**
+     * Makes every window ending at or before bucket {@code newFinal} final. Events before the start
+     * of bucket {@code newFinal} can no longer be accepted (their buckets' first windows are final),
+     * so the sequential rule may process them: it sees the same events in the same order whatever
+     * the arrival order within the allowed lateness.
+     */
+    private void finalizeThrough(long newFinal, boolean suppress) {
         if (newFinal > finalThrough) {
             if (baselineStore != null && engine == null && baselineComplete(newFinal)) {
                 freezeBaseline();
@@ -209,9 +214,9 @@ final class StreamState {
             }
             finalThrough = newFinal;
             expireBefore(newFinal + 1 - bucketsPerWindow);
-        }
-        if (engine != null) {
-            emitAlerts(engine.onEventsClosed(eventsClosedBefore), suppress);
+            if (engine != null) {
+                emitAlerts(engine.onEventsClosed(geometry.bucketStart(newFinal)), suppress);
+            }
         }
     }
 
