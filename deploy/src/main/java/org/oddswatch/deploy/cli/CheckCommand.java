@@ -3,9 +3,12 @@ package org.oddswatch.deploy.cli;
 import java.io.PrintWriter;
 import java.nio.file.Path;
 import java.util.concurrent.Callable;
+import org.oddswatch.ingest.check.CheckReport;
+import org.oddswatch.ingest.check.DefinitionChecker;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 import org.oddswatch.ingest.definition.TermSpec;
+import org.oddswatch.ingest.replay.InputFormat;
 import picocli.CommandLine.Command;
 import picocli.CommandLine.Option;
 import picocli.CommandLine.Spec;
@@ -27,11 +30,32 @@ final class CheckCommand implements Callable<Integer> {
     @Spec
     CommandSpec spec;
 
+    @Option(names = "--format", paramLabel = "FORMAT", description = "Format of --events: jsonl or csv (default: by the file name).")
+    String format;
+
     @Override
     public Integer call() throws Exception {
         MonitorConfig definition = Definitions.load(config);
         PrintWriter out = spec.commandLine().getOut();
-        out.println(config + ": valid, " + definition.monitors().size() + " monitor(s)");
+        if (events == null) {
+            out.print(describe(definition));
+        } else {
+            Definitions.requireFile(events, "--events");
+            InputFormat inputFormat = format == null ? null : ReplayCommand.parseFormat(format);
+            CheckReport report = DefinitionChecker.check(definition, events, inputFormat);
+            out.print(describe(definition));
+            String text = report.describe();
+            // the report's own first lines repeat the definition facts: keep the event part
+            int at = text.indexOf(events.toString() + ": ");
+            out.print(at >= 0 ? text.substring(at) : text);
+        }
+        out.flush();
+        return 0;
+    }
+
+    private String describe(MonitorConfig definition) {
+        StringBuilder b = new StringBuilder();
+        b.append(config).append(": valid, ").append(definition.monitors().size()).append(" monitor(s)\n");
         for (MonitorDefinition m : definition.monitors()) {
             StringBuilder watched = new StringBuilder();
             for (TermSpec t : m.terms()) {
@@ -39,19 +63,16 @@ final class CheckCommand implements Callable<Integer> {
                     watched.append(watched.length() == 0 ? "" : ", ").append(t.name());
                 }
             }
-            out.println("  " + m.name() + ": topic " + m.topic() + ", " + m.terms().size() + " terms (watched: "
-                    + (watched.length() == 0 ? "none" : watched) + "), window " + Texts.duration(m.window().width())
-                    + " every " + Texts.duration(m.window().step()) + ", lateness " + Texts.duration(m.window().lateness())
-                    + (m.split() == null ? "" : ", split by " + m.split().field())
-                    + (m.baseline() == null ? ", no baseline" : m.baseline().isFixedPeriod()
-                        ? ", baseline " + m.baseline().from() + " to " + m.baseline().to()
-                        : ", baseline file " + m.baseline().file()));
+            b.append("  ").append(m.name()).append(": topic ").append(m.topic()).append(", ").append(m.terms().size())
+                    .append(" terms (watched: ").append(watched.length() == 0 ? "none" : watched).append("), window ")
+                    .append(Texts.duration(m.window().width())).append(" every ").append(Texts.duration(m.window().step()))
+                    .append(", lateness ").append(Texts.duration(m.window().lateness()))
+                    .append(m.split() == null ? "" : ", split by " + m.split().field())
+                    .append(m.baseline() == null ? ", no baseline" : m.baseline().isFixedPeriod()
+                            ? ", baseline " + m.baseline().from() + " to " + m.baseline().to()
+                            : ", baseline file " + m.baseline().file())
+                    .append('\n');
         }
-        if (events != null) {
-            Definitions.requireFile(events, "--events");
-            throw UserError.runtime("checking sample events is not available in this build yet", null);
-        }
-        out.flush();
-        return 0;
+        return b.toString();
     }
 }

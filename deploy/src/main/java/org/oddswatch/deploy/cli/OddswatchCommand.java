@@ -20,7 +20,8 @@ import picocli.CommandLine.ScopeType;
             "Streaming prevalence and odds-ratio monitor for public-health surveillance.",
             "A signal calls for investigation; it is not a diagnosis or proof of cause."},
         subcommands = {
-            SandboxCommand.class, CheckCommand.class, SimulateCommand.class, CommandLine.HelpCommand.class},
+            SandboxCommand.class, RunCommand.class, ReplayCommand.class, BaselineCommand.class,
+            CheckCommand.class, SimulateCommand.class, CommandLine.HelpCommand.class},
         footer = {"", "Start with: oddswatch sandbox"})
 public final class OddswatchCommand implements Runnable {
 

@@ -1,0 +1,95 @@
+package org.oddswatch.deploy.cli;
+
+import java.io.PrintWriter;
+import java.nio.file.Path;
+import java.time.Instant;
+import java.util.List;
+import java.util.Locale;
+import java.util.concurrent.Callable;
+import org.oddswatch.ingest.baseline.BaselineBuilder;
+import org.oddswatch.ingest.baseline.BaselineRequest;
+import org.oddswatch.ingest.baseline.BuiltBaseline;
+import org.oddswatch.ingest.definition.MonitorConfig;
+import org.oddswatch.ingest.replay.InputFormat;
+import picocli.CommandLine.ArgGroup;
+import picocli.CommandLine.Command;
+import picocli.CommandLine.Option;
+import picocli.CommandLine.Spec;
+import picocli.CommandLine.Model.CommandSpec;
+
+/** {@code oddswatch baseline}: fit and freeze baseline models from a period of events. */
+@Command(name = "baseline", mixinStandardHelpOptions = true,
+        description = {
+            "Fit and freeze baseline models from the events of a period.",
+            "Writes one file per stream into --out: <monitor>.json, or <monitor>-<split value>.json for a split "
+            + "monitor (one file per monitor with --pooled). Point a definition at them with "
+            + "baseline: {file: DIR/<monitor>-{split}.json}. Each file records the coefficients, covariance, term "
+            + "coding, period, event counts and a checksum of the definition's model."})
+final class BaselineCommand implements Callable<Integer> {
+
+    @Option(names = "--config", required = true, paramLabel = "FILE", description = "Monitor definition (YAML).")
+    Path config;
+
+    @ArgGroup(exclusive = true, multiplicity = "1")
+    InputArgs input;
+
+    @Option(names = "--from", required = true, paramLabel = "TIME", description = "Start of the baseline period (inclusive event time).")
+    Instant from;
+
+    @Option(names = "--to", required = true, paramLabel = "TIME", description = "End of the baseline period (exclusive).")
+    Instant to;
+
+    @Option(names = "--out", required = true, paramLabel = "DIR", description = "Folder for the baseline files (created).")
+    Path out;
+
+    @Option(names = "--monitor", paramLabel = "NAME", description = "Only this monitor (default: every monitor).")
+    String monitor;
+
+    @Option(names = "--pooled", description = "One baseline per monitor over all split values.")
+    boolean pooled;
+
+    @Option(names = "--format", paramLabel = "FORMAT", description = "Input format: jsonl or csv (default: by the file name).")
+    String format;
+
+    @Spec
+    CommandSpec spec;
+
+    @Override
+    public Integer call() throws Exception {
+        if (!from.isBefore(to)) {
+            throw UserError.config("--from must lie before --to");
+        }
+        MonitorConfig definition = Definitions.load(config);
+        if (monitor != null && definition.monitor(monitor) == null) {
+            throw UserError.config("no monitor named '" + monitor + "' in " + config);
+        }
+        InputFormat inputFormat = format == null ? null : ReplayCommand.parseFormat(format);
+        List<BuiltBaseline> built;
+        if (input.file != null) {
+            Definitions.requireFile(input.file, "--input");
+            built = BaselineBuilder.build(definition, new BaselineRequest(input.file, inputFormat, from, to, out,
+                    monitor, pooled));
+        } else {
+            try (TopicSnapshot snapshot = TopicSnapshot.read(definition.kafka(), input.topic, null)) {
+                built = BaselineBuilder.build(definition, new BaselineRequest(snapshot.file(), InputFormat.JSONL, from,
+                        to, out, monitor, pooled));
+            }
+        }
+        PrintWriter w = spec.commandLine().getOut();
+        int failed = 0;
+        for (BuiltBaseline b : built) {
+            if (b.ok()) {
+                w.println(String.format(Locale.ROOT, "%s: %d events from %s to %s -> %s", b.stream(), b.events(), from,
+                        to, b.file()));
+            } else {
+                failed++;
+                w.println(b.stream() + ": no baseline: " + b.problem());
+            }
+        }
+        w.flush();
+        if (failed > 0) {
+            throw UserError.runtime(failed + " of " + built.size() + " baseline(s) could not be fitted", null);
+        }
+        return 0;
+    }
+}
