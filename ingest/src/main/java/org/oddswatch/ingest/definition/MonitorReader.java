@@ -20,6 +20,8 @@ import org.oddswatch.estimator.terms.CategoricalTerm;
 final class MonitorReader {
 
     private static final Pattern NAME = Pattern.compile("[A-Za-z0-9][A-Za-z0-9._-]*");
+    /** Kafka's legal topic names. */
+    private static final Pattern TOPIC = Pattern.compile("[A-Za-z0-9._-]{1,249}");
     private static final Set<String> PREVALENCE_METHODS = Set.of("wilson", "clopper-pearson", "jeffreys");
 
     private final DefNode node;
@@ -39,7 +41,7 @@ final class MonitorReader {
             throw nameNode.error("'" + name + "' is not a valid monitor name (letters, digits, '.', '_', '-')");
         }
         DefNode input = node.require("input").mapping("topic");
-        String topic = input.require("topic").name();
+        String topic = topic(input.require("topic"));
         EventSpec event = event(node.require("event"));
         SplitSpec split = split(node.get("split"));
         List<TermSpec> terms = new TermReader(node.get("terms")).read();
@@ -289,9 +291,21 @@ final class MonitorReader {
                     attempts);
         }
         DefNode file = node.get("estimatesFile");
-        return new OutputSpec(node.get("estimatesTopic").text("oddswatch-estimates"),
-                node.get("rejectsTopic").text("oddswatch-rejects"), node.get("alertsTopic").text("oddswatch-alerts"),
+        return new OutputSpec(topic(node.get("estimatesTopic"), "oddswatch-estimates"),
+                topic(node.get("rejectsTopic"), "oddswatch-rejects"), topic(node.get("alertsTopic"), "oddswatch-alerts"),
                 file.present() ? file.name() : null, webhook);
+    }
+
+    private static String topic(DefNode node, String fallback) throws DefinitionException {
+        return node.present() ? topic(node) : fallback;
+    }
+
+    private static String topic(DefNode node) throws DefinitionException {
+        String topic = node.name();
+        if (!TOPIC.matcher(topic).matches() || topic.equals(".") || topic.equals("..")) {
+            throw node.error("'" + topic + "' is not a valid Kafka topic name (letters, digits, '.', '_', '-')");
+        }
+        return topic;
     }
 
     /** Duplicate-name guard shared with {@link TermReader}. */

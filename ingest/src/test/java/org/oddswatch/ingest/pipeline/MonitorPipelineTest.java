@@ -285,6 +285,39 @@ class MonitorPipelineTest {
     }
 
     @Test
+    void severalMonitorsOnOneInputCountEachRecordOnce() {
+        String second = String.join("\n",
+                "  - name: by-sex",
+                "    input: {topic: clinic-tests}",
+                "    event: {id: /id, time: /collectedAt, outcome: {field: /result}}",
+                "    terms:",
+                "      - {name: sex, field: /sex, kind: categorical, levels: [female, other], reference: female}",
+                "    window: {width: P2D, step: P1D}",
+                "    rules: {}",
+                "");
+        CollectingListener both = new CollectingListener();
+        MonitorPipeline two = pipeline(DEFINITION + second, both);
+        RecordOutcome male = two.offer(HouseEvents.json("m1", at(0.1), "north", true, false, "40-64", "male", true)
+                .getBytes(StandardCharsets.UTF_8), RecordOrigin.line(1), false);
+        assertEquals(Outcome.ACCEPTED, male.outcome(), "the first monitor accepts it");
+        RecordOutcome neither = two.offer("{\"id\":\"x\"}".getBytes(StandardCharsets.UTF_8), RecordOrigin.line(2),
+                false);
+        assertEquals(RejectReason.MISSING_FIELD, neither.reason());
+        two.offer("{oops".getBytes(StandardCharsets.UTF_8), RecordOrigin.line(3), false);
+        assertEquals(3, two.totals().consumed());
+        assertEquals(1, two.totals().outcome(Outcome.ACCEPTED));
+        PipelineSnapshot snapshot = two.snapshot();
+        assertEquals(List.of("resp", "by-sex"), snapshot.monitors().stream().map(m -> m.monitor()).toList());
+        // by-sex rejected the male record (unknown level) and the id-only record; both saw the broken one.
+        assertEquals(3, snapshot.monitors().get(1).unrouted().consumed());
+        assertEquals(1, snapshot.monitors().get(1).unrouted().reasons().get(RejectReason.UNKNOWN_LEVEL));
+        assertEquals(2, snapshot.monitors().get(0).unrouted().consumed());
+        // One reject per monitor that rejected, and one for the unreadable record.
+        assertEquals(List.of("by-sex", "resp", "by-sex", "null"),
+                both.rejects.stream().map(r -> String.valueOf(r.monitor())).toList());
+    }
+
+    @Test
     void rejectsCarryTheOriginalBytesAndTheirText() {
         byte[] bytes = {'{', '"', 'i', (byte) 0xFF, '}'};
         pipeline.offer(bytes, RecordOrigin.kafka("clinic-tests", 3, 42), false);
