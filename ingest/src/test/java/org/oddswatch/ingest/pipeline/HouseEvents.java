@@ -57,6 +57,15 @@ public final class HouseEvents {
      */
     public static List<HouseEvent> events(long seed, int n, Instant start, long spanMillis, long jitterMillis,
                                           String... regions) {
+        return events(seed, n, start, spanMillis, jitterMillis, null, 0, regions);
+    }
+
+    /**
+     * As {@link #events(long, int, Instant, long, long, String...)}, with the household-contact
+     * log-odds ratio raised by {@code householdShift} for events from {@code shiftFrom} on (drift).
+     */
+    public static List<HouseEvent> events(long seed, int n, Instant start, long spanMillis, long jitterMillis,
+                                          Instant shiftFrom, double householdShift, String... regions) {
         Random random = new Random(seed);
         List<HouseEvent> events = new ArrayList<>(n);
         for (int i = 0; i < n; i++) {
@@ -66,7 +75,8 @@ public final class HouseEvents {
             boolean travel = random.nextDouble() < 0.2;
             String band = random.nextDouble() < 0.03 ? null : BANDS[random.nextInt(BANDS.length)];
             String sex = random.nextBoolean() ? "female" : "male";
-            double eta = -2.2 + (household ? 0.9 : 0) + (travel ? 0.5 : 0)
+            double shift = shiftFrom != null && !time.isBefore(shiftFrom) ? householdShift : 0;
+            double eta = -2.2 + (household ? 0.9 + shift : 0) + (travel ? 0.5 : 0)
                     + ("65+".equals(band) ? 0.4 : 0) + ("0-17".equals(band) ? -0.3 : 0);
             boolean positive = random.nextDouble() < 1 / (1 + Math.exp(-eta));
             events.add(new HouseEvent("ev-" + i, time, regions[i % regions.length], household, travel, band, sex,
