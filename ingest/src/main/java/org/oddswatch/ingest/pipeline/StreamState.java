@@ -225,7 +225,7 @@ final class StreamState {
         Instant stop = geometry.windowEnd(end);
         WindowEstimate estimate = estimator.estimate(name, start, stop, WindowStatus.FINAL,
                 store.window(end - bucketsPerWindow, end), warmStart, baseline);
-        warmStart = estimator.coefficientVector(estimate);
+        warmStart = reproducibleStart(estimator.coefficientVector(estimate));
         lastFinal = estimate;
         finalWindows++;
         if (!suppress) {
@@ -234,6 +234,25 @@ final class StreamState {
         if (engine != null && !overlapsBaselinePeriod(start, stop)) {
             emitAlerts(engine.onFinalEstimate(estimate), suppress);
         }
+    }
+
+    /**
+     * The warm start for the next window: the coefficients rounded to single precision. A stream
+     * rebuilt after a restart re-estimates its older windows from partly re-read data, so their
+     * coefficients can differ from the uninterrupted run's in the last bits; rounding makes the next
+     * window start from exactly the same point (unless a coefficient sits within about 1e-16 of a
+     * rounding boundary), so its estimate is bit for bit the same. Newton converges from there in
+     * the same few steps.
+     */
+    static double[] reproducibleStart(double[] coefficients) {
+        if (coefficients == null) {
+            return null;
+        }
+        double[] start = new double[coefficients.length];
+        for (int j = 0; j < start.length; j++) {
+            start[j] = (float) coefficients[j];
+        }
+        return start;
     }
 
     private void expireBefore(long bucket) {
