@@ -1,0 +1,180 @@
+package org.oddswatch.ingest.service;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+
+import io.micrometer.core.instrument.MeterRegistry;
+import io.micrometer.core.instrument.simple.SimpleMeterRegistry;
+import java.io.BufferedWriter;
+import java.io.IOException;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.time.Duration;
+import java.time.Instant;
+import java.util.List;
+import java.util.Locale;
+import java.util.Properties;
+import org.apache.kafka.clients.consumer.ConsumerConfig;
+import org.apache.kafka.clients.consumer.ConsumerRecords;
+import org.apache.kafka.clients.consumer.KafkaConsumer;
+import org.apache.kafka.clients.producer.KafkaProducer;
+import org.apache.kafka.clients.producer.ProducerConfig;
+import org.apache.kafka.clients.producer.ProducerRecord;
+import org.apache.kafka.common.TopicPartition;
+import org.apache.kafka.common.serialization.ByteArrayDeserializer;
+import org.apache.kafka.common.serialization.StringSerializer;
+import org.apache.kafka.common.serialization.ByteArraySerializer;
+import org.junit.jupiter.api.Tag;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.extension.RegisterExtension;
+import org.oddswatch.ingest.definition.MonitorConfig;
+import org.oddswatch.ingest.kafka.EmbeddedKafka;
+import org.oddswatch.ingest.pipeline.Outcome;
+import org.oddswatch.ingest.replay.ReplayRequest;
+import org.oddswatch.ingest.replay.ReplayRunner;
+import org.oddswatch.ingest.replay.ReplaySummary;
+
+/**
+ * Sustained ingest rate on this machine ({@code mvn -B -Pbench -pl ingest verify}): the same topic
+ * read by (1) a bare consumer that only counts records and (2) the service (decode, validation,
+ * dedupe, window update, window fits as the watermark passes, estimate output, offset commits);
+ * their ratio; and (3) the file replay rate of the same events as JSON Lines. Writes
+ * {@code target/benchmark-ingest.md}. Broker, producer and consumer share the machine's cores.
+ */
+@Tag("benchmark")
+class IngestThroughputBenchmark {
+
+    @RegisterExtension
+    static final EmbeddedKafka KAFKA = new EmbeddedKafka();
+
+    private static final int EVENTS = Integer.getInteger("oddswatch.bench.events", 1_000_000);
+
+    @Test
+    void eventsPerSecond() throws Exception {
+        String topic = "bench-tests";
+        KAFKA.createTopic(topic, 1);
+        for (String out : List.of("bench-estimates", "bench-rejects", "bench-alerts")) {
+            KAFKA.createTopic(out, 1);
+        }
+        List<TestFeed.Event> events = TestFeed.events(3, EVENTS, Instant.parse("2026-01-05T00:00:00Z"),
+                Duration.ofDays(140), Duration.ofHours(6), "north", "south", "west");
+        long bytes = produce(topic, events);
+
+        Path dir = Files.createTempDirectory("oddswatch-bench");
+        Path file = dir.resolve("events.jsonl");
+        try (BufferedWriter writer = Files.newBufferedWriter(file, StandardCharsets.UTF_8)) {
+            for (TestFeed.Event e : events) {
+                writer.write(e.text());
+                writer.write('\n');
+            }
+        }
+        // Warm-up passes first (JIT, page cache): replay twice, the bare consumer once.
+        MonitorConfig config = TestDefinitions.config(TestDefinitions.yaml(KAFKA.bootstrapServers(), topic, "bench",
+                "bench-group", 8, "P3650D"));
+        ReplayRunner.run(config, ReplayRequest.of(null, file, dir.resolve("warm1")));
+        ReplayRunner.run(config, ReplayRequest.of(null, file, dir.resolve("warm2")));
+        bareConsumerRate(topic);
+        double bare = bareConsumerRate(topic);
+
+        MeterRegistry registry = new SimpleMeterRegistry();
+        double service;
+        // -Doddswatch.bench.jfr=FILE records a flight recording of the service pass.
+        String jfr = System.getProperty("oddswatch.bench.jfr");
+        jdk.jfr.Recording recording = null;
+        if (jfr != null) {
+            recording = new jdk.jfr.Recording(jdk.jfr.Configuration.getConfiguration("profile"));
+            recording.start();
+        }
+        MonitorService running = new MonitorService(config, registry, "bench").start();
+        try (running) {
+            service = serviceRate(registry);
+        }
+        if (recording != null) {
+            recording.dump(Path.of(jfr));
+            recording.close();
+        }
+        assertEquals(EVENTS, running.status().counts().outcome(Outcome.ACCEPTED), "every event accepted");
+
+        long start = System.nanoTime();
+        ReplaySummary summary = ReplayRunner.run(config, ReplayRequest.of(null, file, dir.resolve("out")));
+        double replay = EVENTS / ((System.nanoTime() - start) / 1e9);
+
+        String report = String.format(Locale.ROOT, """
+                # Ingest benchmark
+
+                %d events (%.0f bytes each on average), one partition, three streams (split by region),
+                three terms, windows of 28 days every 7 days; embedded single-node KRaft broker in the same
+                JVM; %d available processors. Each path is measured after warm-up passes (JIT); the service
+                rate runs from its first live record to its last, the consumers use 4 MiB partition fetches.
+
+                | path | events/s |
+                |---|---:|
+                | bare consumer (poll and count) | %.0f |
+                | service (decode, validate, dedupe, windows, fits, outputs, commits) | %.0f |
+                | ratio service / bare consumer | %.2f |
+                | replay from a JSON Lines file | %.0f |
+
+                Replay wrote %d final estimates. Figures vary with the load of the shared machine.
+                """, EVENTS, (double) bytes / EVENTS, Runtime.getRuntime().availableProcessors(), bare, service,
+                service / bare, replay, summary.finalWindows());
+        Files.writeString(Path.of("target", "benchmark-ingest.md"), report, StandardCharsets.UTF_8);
+        System.out.println(report);
+    }
+
+    private static long produce(String topic, List<TestFeed.Event> events) {
+        Properties props = KAFKA.clientProps();
+        props.put(ProducerConfig.ACKS_CONFIG, "all");
+        props.put(ProducerConfig.LINGER_MS_CONFIG, "20");
+        props.put(ProducerConfig.BATCH_SIZE_CONFIG, Integer.toString(512 * 1024));
+        props.put(ProducerConfig.BUFFER_MEMORY_CONFIG, Long.toString(256L << 20));
+        long bytes = 0;
+        try (KafkaProducer<String, byte[]> producer =
+                     new KafkaProducer<>(props, new StringSerializer(), new ByteArraySerializer())) {
+            for (TestFeed.Event e : events) {
+                producer.send(new ProducerRecord<>(topic, e.region(), e.json()));
+                bytes += e.json().length;
+            }
+            producer.flush();
+        }
+        return bytes;
+    }
+
+    private static double bareConsumerRate(String topic) {
+        Properties props = KAFKA.clientProps();
+        props.put(ConsumerConfig.ENABLE_AUTO_COMMIT_CONFIG, "false");
+        props.put(ConsumerConfig.MAX_POLL_RECORDS_CONFIG, "2000");
+        props.put(ConsumerConfig.MAX_PARTITION_FETCH_BYTES_CONFIG, Integer.toString(4 << 20));
+        TopicPartition tp = new TopicPartition(topic, 0);
+        try (KafkaConsumer<byte[], byte[]> consumer =
+                     new KafkaConsumer<>(props, new ByteArrayDeserializer(), new ByteArrayDeserializer())) {
+            consumer.assign(List.of(tp));
+            consumer.seekToBeginning(List.of(tp));
+            consumer.position(tp);
+            long count = 0;
+            long start = System.nanoTime();
+            while (count < EVENTS) {
+                ConsumerRecords<byte[], byte[]> records = consumer.poll(Duration.ofMillis(200));
+                count += records.count();
+            }
+            return count / ((System.nanoTime() - start) / 1e9);
+        }
+    }
+
+    /** From the first live record counted to the last, sampled every 5 ms. */
+    private static double serviceRate(MeterRegistry registry) throws InterruptedException {
+        long deadline = System.nanoTime() + Duration.ofMinutes(10).toNanos();
+        long first = 0;
+        while (System.nanoTime() < deadline) {
+            double count = registry.find("oddswatch.service.records").tag("phase", "live").counter() == null ? 0
+                    : registry.get("oddswatch.service.records").tag("phase", "live").counter().count();
+            if (count > 0 && first == 0) {
+                first = System.nanoTime();
+            }
+            if (count >= EVENTS) {
+                return (EVENTS - 1) / ((System.nanoTime() - first) / 1e9);
+            }
+            Thread.sleep(5);
+        }
+        throw new IllegalStateException("the service did not consume the topic within 10 minutes");
+    }
+}
