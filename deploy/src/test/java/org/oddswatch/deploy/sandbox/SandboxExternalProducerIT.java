@@ -17,6 +17,7 @@ import org.apache.kafka.clients.producer.ProducerConfig;
 import org.apache.kafka.clients.producer.ProducerRecord;
 import org.apache.kafka.common.serialization.StringSerializer;
 import org.junit.jupiter.api.Test;
+import org.oddswatch.deploy.JarProcess;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.deploy.scenario.Scenario;
 import org.oddswatch.deploy.scenario.ScenarioEvent;
@@ -37,7 +38,7 @@ class SandboxExternalProducerIT {
                 .limit(40).map(ScenarioEvent::toJson).toList();
         List<String> bad = List.of("{\"id\":\"x1\",\"collectedAt\":", "not json at all",
                 "{\"id\":\"x2\",\"collectedAt\":\"2026-01-05T10:00:00Z\",\"result\":\"unclear\"}");
-        try (SandboxProcess sandbox = SandboxProcess.start("--plain", "--no-feed", "--http", "127.0.0.1:0")) {
+        try (JarProcess sandbox = JarProcess.start("sandbox", "--plain", "--no-feed", "--http", "127.0.0.1:0")) {
             String bootstrap = sandbox.bootstrap();
             Properties props = new Properties();
             props.put(ProducerConfig.BOOTSTRAP_SERVERS_CONFIG, bootstrap);
@@ -79,7 +80,7 @@ class SandboxExternalProducerIT {
         }
     }
 
-    private static JsonNode awaitConsumed(SandboxProcess sandbox, long expected) throws IOException, InterruptedException {
+    private static JsonNode awaitConsumed(JarProcess sandbox, long expected) throws IOException, InterruptedException {
         long deadline = System.nanoTime() + Duration.ofSeconds(60).toNanos();
         JsonNode counts = null;
         while (System.nanoTime() < deadline) {

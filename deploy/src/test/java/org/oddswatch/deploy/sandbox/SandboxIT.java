@@ -11,6 +11,7 @@ import java.time.LocalDate;
 import java.util.regex.Matcher;
 import java.util.regex.Pattern;
 import org.junit.jupiter.api.Test;
+import org.oddswatch.deploy.JarProcess;
 import org.oddswatch.alerts.json.Json;
 
 /**
@@ -27,7 +28,7 @@ class SandboxIT {
 
     @Test
     void reachesTheScriptedDriftAlertServesMetricsAndStopsCleanly() throws Exception {
-        try (SandboxProcess sandbox = SandboxProcess.start("--plain", "--http", "127.0.0.1:0", "--speed", SPEED)) {
+        try (JarProcess sandbox = JarProcess.start("sandbox", "--plain", "--http", "127.0.0.1:0", "--speed", SPEED)) {
             String alert = sandbox.awaitLine(l -> l.startsWith("alert") && l.contains("RAISED")
                             && l.contains("odds-ratio-drift household_contact=yes"), ALERT_BUDGET,
                     "raised odds-ratio drift alert on household contact");

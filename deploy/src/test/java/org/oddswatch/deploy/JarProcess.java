@@ -1,4 +1,4 @@
-package org.oddswatch.deploy.sandbox;
+package org.oddswatch.deploy;
 
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
@@ -15,6 +15,7 @@ import java.nio.file.Path;
 import java.time.Duration;
 import java.util.ArrayList;
 import java.util.List;
+import java.util.Map;
 import java.util.concurrent.TimeUnit;
 import java.util.function.Predicate;
 import java.util.regex.Matcher;
@@ -22,35 +23,52 @@ import java.util.regex.Pattern;
 import org.junit.jupiter.api.Assumptions;
 
 /**
- * The packaged jar ({@code target/oddswatch.jar}) running {@code sandbox} as a separate process, with
+ * The packaged jar ({@code target/oddswatch.jar}) running one command as a separate process, with
  * its output lines collected for the test. Only for the integration tests (failsafe, after package).
  */
-final class SandboxProcess implements AutoCloseable {
+public final class JarProcess implements AutoCloseable {
 
     private static final Pattern BOOTSTRAP = Pattern.compile("Kafka bootstrap: (\\S+)");
-    private static final Pattern HTTP = Pattern.compile("HTTP: +http://(\\S+)/status");
+    private static final Pattern HTTP = Pattern.compile("http://(\\S+)/status");
 
     private final Process process;
     private final List<String> lines = new ArrayList<>();
     private final Thread reader;
     private final HttpClient http = HttpClient.newBuilder().connectTimeout(Duration.ofSeconds(5)).build();
 
-    private SandboxProcess(Process process) {
+    private JarProcess(Process process) {
         this.process = process;
         this.reader = new Thread(this::read, "sandbox-output");
         reader.setDaemon(true);
         reader.start();
     }
 
-    /** Starts {@code java -jar oddswatch.jar sandbox ARGS} with its standard error merged into its output. */
-    static SandboxProcess start(String... args) throws IOException {
+    /** Starts {@code java -jar oddswatch.jar ARGS} with its standard error merged into its output. */
+    public static JarProcess start(String... args) throws IOException {
+        return start(Map.of(), args);
+    }
+
+    /** The same, with extra environment variables. */
+    public static JarProcess start(Map<String, String> environment, String... args) throws IOException {
         Path jar = Path.of(System.getProperty("oddswatch.jar", "target/oddswatch.jar"));
         Assumptions.assumeTrue(Files.isRegularFile(jar), "the packaged jar is missing: run mvn verify");
         List<String> command = new ArrayList<>(List.of(
                 Path.of(System.getProperty("java.home"), "bin", "java").toString(), "-Xmx768m", "-jar",
-                jar.toString(), "sandbox"));
+                jar.toString()));
         command.addAll(List.of(args));
-        return new SandboxProcess(new ProcessBuilder(command).redirectErrorStream(true).start());
+        ProcessBuilder builder = new ProcessBuilder(command).redirectErrorStream(true);
+        builder.environment().putAll(environment);
+        return new JarProcess(builder.start());
+    }
+
+    /** Waits for the process to end by itself and returns its exit status. */
+    public int awaitExit(Duration timeout) throws InterruptedException {
+        if (!process.waitFor(timeout.toMillis(), TimeUnit.MILLISECONDS)) {
+            process.destroyForcibly();
+            throw new AssertionError("not finished within " + timeout + "; output:\n" + output());
+        }
+        reader.join(5000);
+        return process.exitValue();
     }
 
     private void read() {
@@ -68,7 +86,7 @@ final class SandboxProcess implements AutoCloseable {
     }
 
     /** Waits for the first output line matching {@code which}; fails with the output so far after the timeout. */
-    String awaitLine(Predicate<String> which, Duration timeout, String what) throws InterruptedException {
+    public String awaitLine(Predicate<String> which, Duration timeout, String what) throws InterruptedException {
         long deadline = System.nanoTime() + timeout.toNanos();
         int seen = 0;
         synchronized (lines) {
@@ -87,11 +105,11 @@ final class SandboxProcess implements AutoCloseable {
         }
     }
 
-    String bootstrap() throws InterruptedException {
+    public String bootstrap() throws InterruptedException {
         return group(BOOTSTRAP, awaitLine(l -> BOOTSTRAP.matcher(l).find(), Duration.ofSeconds(60), "bootstrap line"));
     }
 
-    String httpAddress() throws InterruptedException {
+    public String httpAddress() throws InterruptedException {
         return group(HTTP, awaitLine(l -> HTTP.matcher(l).find(), Duration.ofSeconds(60), "HTTP line"));
     }
 
@@ -101,7 +119,7 @@ final class SandboxProcess implements AutoCloseable {
         return m.group(1);
     }
 
-    HttpResponse<String> get(String path) throws IOException, InterruptedException {
+    public HttpResponse<String> get(String path) throws IOException, InterruptedException {
         HttpRequest request = HttpRequest.newBuilder(URI.create("http://" + httpAddress() + path))
                 .timeout(Duration.ofSeconds(10)).GET().build();
         return http.send(request, HttpResponse.BodyHandlers.ofString());
@@ -111,7 +129,7 @@ final class SandboxProcess implements AutoCloseable {
      * Sends SIGTERM and waits for the exit status. Through the process handle, because
      * {@link Process#destroy()} also closes our ends of the pipes and the last lines would be lost.
      */
-    int terminate(Duration timeout) throws InterruptedException {
+    public int terminate(Duration timeout) throws InterruptedException {
         process.toHandle().destroy();
         if (!process.waitFor(timeout.toMillis(), TimeUnit.MILLISECONDS)) {
             process.destroyForcibly();
@@ -121,7 +139,7 @@ final class SandboxProcess implements AutoCloseable {
         return process.exitValue();
     }
 
-    String output() {
+    public String output() {
         synchronized (lines) {
             return String.join("\n", lines);
         }
