@@ -4,6 +4,7 @@ import java.time.Duration;
 import java.time.Instant;
 import java.util.ArrayList;
 import java.util.List;
+import org.apache.commons.math3.distribution.ChiSquaredDistribution;
 import org.oddswatch.estimator.calibration.BaselineModel;
 import org.oddswatch.estimator.fit.FitMethod;
 import org.oddswatch.estimator.fit.FitState;
@@ -77,9 +78,16 @@ public final class Fixtures {
         return window(week, coef, se);
     }
 
+    /**
+     * A calibration estimate over 10 risk groups whose Hosmer–Lemeshow statistic has the tail
+     * probability {@code hlP} on 10 degrees of freedom (the frozen-model p-value the rule uses); the
+     * estimate's own p-value is the 8-degree one.
+     */
     public static CalibrationEstimate calibration(double oe, double oeLower, double oeUpper, double slope,
                                                   double slopeSe, double hlP) {
+        double statistic = new ChiSquaredDistribution(null, 10).inverseCumulativeProbability(1 - hlP);
+        double ownP = 1 - new ChiSquaredDistribution(null, 8).cumulativeProbability(statistic);
         return new CalibrationEstimate(2000, Math.round(100 * oe), 100.0, oe, oeLower, oeUpper, 0.0, 0.1, slope,
-                slopeSe, 8.0, 10, hlP, 0.04, 0.7);
+                slopeSe, statistic, 10, ownP, 0.04, 0.7);
     }
 }

@@ -176,8 +176,10 @@ public record AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsR
      * Calibration of the baseline model on each final window. Raised when any figure is clearly
      * outside its band: the O/E interval wholly outside {@code observedExpected} (default
      * [0.8, 1.25]); the slope's Wald interval ({@code slope ± slopeZ·se}) wholly outside
-     * {@code slope} (default [0.7, 1.3], slopeZ 1.96); the Hosmer–Lemeshow p-value below
-     * {@code hosmerLemeshowP} (default 0.001). A window counts towards clearing when the O/E and
+     * {@code slope} (default [0.7, 1.3], slopeZ 1.96); the Hosmer–Lemeshow p-value (g degrees of
+     * freedom, see {@code CalibrationRule}) below {@code hosmerLemeshowP} (default 0.0001: against a
+     * frozen model the statistic also picks up the baseline's own estimation error, which grows with
+     * the window's size; 0.001 gave about 0.2-0.4 false alarms a year with 28-day windows). A window counts towards clearing when the O/E and
      * slope point estimates are inside their bands and the HL p-value is at least ten times its limit.
      */
     public record Calibration(Band observedExpected, Band slope, Double slopeZ, Double hosmerLemeshowP,
@@ -187,7 +189,7 @@ public record AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsR
                     .withDefaults(0.8, 1.25, "calibration.observedExpected");
             slope = (slope == null ? new Band(null, null) : slope).withDefaults(0.7, 1.3, "calibration.slope");
             slopeZ = slopeZ == null ? 1.96 : slopeZ;
-            hosmerLemeshowP = hosmerLemeshowP == null ? 0.001 : hosmerLemeshowP;
+            hosmerLemeshowP = hosmerLemeshowP == null ? 0.0001 : hosmerLemeshowP;
             consecutive = consecutive == null ? 1 : consecutive;
             clearAfter = clearAfter == null ? 2 : clearAfter;
             requirePositive("calibration.slopeZ", slopeZ);

@@ -2,6 +2,7 @@ package org.oddswatch.alerts.rules;
 
 import java.util.ArrayList;
 import java.util.List;
+import org.apache.commons.math3.distribution.ChiSquaredDistribution;
 import org.oddswatch.alerts.engine.AlertRulesConfig.Calibration;
 import org.oddswatch.alerts.lifecycle.AlertSubject;
 import org.oddswatch.alerts.lifecycle.Evidence;
@@ -56,6 +57,7 @@ public final class CalibrationRule implements WindowRule {
         double slopeMax = settings.slope().max();
         Double slopeLow = c.slope() != null && c.slopeSe() != null ? c.slope() - settings.slopeZ() * c.slopeSe() : null;
         Double slopeHigh = c.slope() != null && c.slopeSe() != null ? c.slope() + settings.slopeZ() * c.slopeSe() : null;
+        Double hlP = externalP(c);
         List<String> beyond = new ArrayList<>();
         Figure decided = null;
         if (c.oeLower() != null && c.oeLower() > oeMax) {
@@ -72,22 +74,23 @@ public final class CalibrationRule implements WindowRule {
             beyond.add("slope interval wholly below " + Format.num(slopeMin));
             decided = decided == null ? new Figure(-1, c.slope(), slopeMin, slopeLow, slopeHigh, 1.0) : decided;
         }
-        if (c.hosmerLemeshowP() != null && c.hosmerLemeshowP() < settings.hosmerLemeshowP()) {
+        if (hlP != null && hlP < settings.hosmerLemeshowP()) {
             beyond.add("Hosmer-Lemeshow p below " + Format.num(settings.hosmerLemeshowP()));
             decided = decided == null
-                    ? new Figure(1, c.hosmerLemeshowP(), settings.hosmerLemeshowP(), null, null, null) : decided;
+                    ? new Figure(1, hlP, settings.hosmerLemeshowP(), null, null, null) : decided;
         }
         boolean oeInside = c.observedExpected() == null
                 || (c.observedExpected() >= oeMin && c.observedExpected() <= oeMax);
         boolean slopeInside = c.slope() == null || (c.slope() >= slopeMin && c.slope() <= slopeMax);
-        boolean hlInside = c.hosmerLemeshowP() == null || c.hosmerLemeshowP() >= 10 * settings.hosmerLemeshowP();
+        boolean hlInside = hlP == null || hlP >= 10 * settings.hosmerLemeshowP();
         Zone zone = decided != null ? Zone.BEYOND : oeInside && slopeInside && hlInside ? Zone.INSIDE : Zone.BETWEEN;
         String detail = "the baseline model's calibration: " + Format.count(c.observed()) + " positives observed against "
                 + Format.num(c.expected()) + " expected, observed/expected " + Format.num(c.observedExpected())
                 + " (interval " + Format.num(c.oeLower()) + " to " + Format.num(c.oeUpper()) + ", band "
                 + Format.num(oeMin) + " to " + Format.num(oeMax) + "), calibration slope " + Format.num(c.slope())
                 + " (band " + Format.num(slopeMin) + " to " + Format.num(slopeMax) + "), Hosmer-Lemeshow p "
-                + Format.num(c.hosmerLemeshowP()) + (beyond.isEmpty() ? "" : "; " + String.join(", ", beyond));
+                + Format.num(hlP) + " (" + (c.hosmerLemeshowGroups() == null ? "?" : c.hosmerLemeshowGroups())
+                + " degrees of freedom)" + (beyond.isEmpty() ? "" : "; " + String.join(", ", beyond));
         if (decided == null) {
             decided = new Figure(0, c.observedExpected(), oeMax, c.oeLower(), c.oeUpper(), 1.0);
         }
@@ -95,6 +98,21 @@ public final class CalibrationRule implements WindowRule {
                 settings.clearAfter(), e.windowStart(), e.windowEnd(), decided.value(), decided.baseline(),
                 decided.limit(), decided.limit(), new Evidence(null, null, decided.lower(), decided.upper(), null),
                 c.events(), detail));
+    }
+
+    /**
+     * Hosmer–Lemeshow p-value for a frozen model on new data: the chi-square statistic against g
+     * degrees of freedom (g = groups formed), because no parameter was estimated on this window
+     * (Hosmer &amp; Lemeshow, <i>Applied Logistic Regression</i>, 2nd ed., on external validation; the
+     * g - 2 of the estimate's own p-value applies to the development sample). Falls back to the
+     * estimate's p-value when the statistic or the group count is missing.
+     */
+    static Double externalP(CalibrationEstimate c) {
+        if (c.hosmerLemeshow() == null || c.hosmerLemeshowGroups() == null || c.hosmerLemeshowGroups() < 1
+                || !Double.isFinite(c.hosmerLemeshow())) {
+            return c.hosmerLemeshowP();
+        }
+        return 1.0 - new ChiSquaredDistribution(null, c.hosmerLemeshowGroups()).cumulativeProbability(c.hosmerLemeshow());
     }
 
     /** The figure that decided a reading: its value, the limit it crossed, its interval and baseline value. */

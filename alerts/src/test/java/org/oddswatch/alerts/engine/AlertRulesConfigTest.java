@@ -37,7 +37,7 @@ class AlertRulesConfigTest {
         assertEquals(0.8, c.calibration().observedExpected().min());
         assertEquals(1.5, c.calibration().observedExpected().max());
         assertEquals(0.7, c.calibration().slope().min());
-        assertEquals(0.001, c.calibration().hosmerLemeshowP());
+        assertEquals(0.0001, c.calibration().hosmerLemeshowP());
         assertNull(c.oddsRatioBounds());
         assertNull(c.cusum());
         assertNotNull(c.guard());

@@ -64,11 +64,36 @@ class CalibrationRuleTest {
 
     @Test
     void hosmerLemeshowBelowItsLimit() {
-        assertEquals("ra", state(engine(), w(0, Fixtures.calibration(1.0, 0.9, 1.1, 1.0, 0.1, 0.00099))));
-        assertEquals("-", state(engine(), w(0, Fixtures.calibration(1.0, 0.9, 1.1, 1.0, 0.1, 0.001))));
-        Alert a = engine().onFinalEstimate(w(0, Fixtures.calibration(1.0, 0.9, 1.1, 1.0, 0.1, 0.0001))).get(0);
-        assertEquals(0.0001, a.observed());
+        // default limit 1e-4
+        assertEquals("ra", state(engine(), w(0, Fixtures.calibration(1.0, 0.9, 1.1, 1.0, 0.1, 0.000099))));
+        // the limit is exclusive; 1.000001e-4 stays clear of the round trip through the chi-square quantile
+        assertEquals("-", state(engine(), w(0, Fixtures.calibration(1.0, 0.9, 1.1, 1.0, 0.1, 0.0001000001))));
+        Alert a = engine().onFinalEstimate(w(0, Fixtures.calibration(1.0, 0.9, 1.1, 1.0, 0.1, 0.00001))).get(0);
+        assertEquals(0.00001, a.observed(), 1e-11);
         assertNull(a.baseline());
+    }
+
+    @Test
+    void hosmerLemeshowOfAFrozenModelUsesGDegreesOfFreedom() {
+        // Source: chi-square tail probabilities, R 4.x pchisq(27, 8, lower.tail = FALSE) = 0.000707 and
+        // pchisq(27, 10, lower.tail = FALSE) = 0.002604; pchisq(31, 10, lower.tail = FALSE) = 0.000587.
+        CalibrationEstimate at27 = new CalibrationEstimate(2000, 100, 100.0, 1.0, 0.9, 1.1, 0.0, 0.1, 1.0, 0.1, 27.0, 10,
+                0.000707, 0.04, 0.7);
+        assertEquals(0.002604, CalibrationRule.externalP(at27), 1e-6);
+        Calibration limit001 = new Calibration(null, null, null, 0.001, null, null, null);
+        AlertEngine e27 = new AlertEngine(Fixtures.STREAM, new AlertRulesConfig(null, null, null, limit001, null),
+                Fixtures.baseline(), null);
+        assertEquals("-", state(e27, w(0, at27)), "the 8-degree p would raise at 0.001, the 10-degree one does not");
+        CalibrationEstimate at31 = new CalibrationEstimate(2000, 100, 100.0, 1.0, 0.9, 1.1, 0.0, 0.1, 1.0, 0.1, 31.0, 10,
+                0.0001, 0.04, 0.7);
+        assertEquals(0.000587, CalibrationRule.externalP(at31), 1e-6);
+        AlertEngine e31 = new AlertEngine(Fixtures.STREAM, new AlertRulesConfig(null, null, null, limit001, null),
+                Fixtures.baseline(), null);
+        assertEquals("ra", state(e31, w(0, at31)));
+        // without the statistic the estimate's own p-value is used
+        CalibrationEstimate noStat = new CalibrationEstimate(2000, 100, 100.0, 1.0, 0.9, 1.1, 0.0, 0.1, 1.0, 0.1, null,
+                null, 0.0005, 0.04, 0.7);
+        assertEquals(0.0005, CalibrationRule.externalP(noStat));
     }
 
     @Test
@@ -78,8 +103,8 @@ class CalibrationRuleTest {
         // O/E point 1.3 outside band, interval touching: between
         assertEquals("-", state(e, w(1, Fixtures.calibration(1.3, 1.1, 1.5, 1.0, 0.1, 0.5))));
         assertEquals("-", state(e, w(2, fine())));
-        // HL p 0.005 < 10 x 0.001: not yet inside
-        assertEquals("-", state(e, w(3, Fixtures.calibration(1.0, 0.82, 1.2, 1.0, 0.1, 0.005))));
+        // HL p 0.0005 < 10 x 0.0001: not yet inside
+        assertEquals("-", state(e, w(3, Fixtures.calibration(1.0, 0.82, 1.2, 1.0, 0.1, 0.0005))));
         assertEquals("-", state(e, w(4, fine())));
         assertEquals("cl", state(e, w(5, fine())));
     }
