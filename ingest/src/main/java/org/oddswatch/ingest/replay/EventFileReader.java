@@ -28,7 +28,8 @@ import org.oddswatch.ingest.decode.RejectReason;
  * {@code /result}. A header name containing {@code /} makes nested objects ({@code exposure/household}
  * is read by {@code /exposure/household}), so one definition can serve both formats. Empty cells are
  * left out (absent). A quoted value may span lines; a row with a different number of cells than the
- * header, broken quoting or invalid UTF-8 is reported as {@code malformed-csv} with its line.
+ * header, broken quoting or invalid UTF-8 is reported as {@code malformed-csv} with its line. A
+ * UTF-8 byte order mark before the header is ignored.
  */
 public final class EventFileReader {
 
@@ -79,6 +80,10 @@ public final class EventFileReader {
                 record.write(more);
             }
             byte[] bytes = record.toByteArray();
+            if (header == null && bytes.length >= 3 && (bytes[0] & 0xFF) == 0xEF && (bytes[1] & 0xFF) == 0xBB
+                    && (bytes[2] & 0xFF) == 0xBF) {
+                bytes = java.util.Arrays.copyOfRange(bytes, 3, bytes.length); // a UTF-8 byte order mark
+            }
             String[] cells;
             try {
                 cells = cells(bytes);

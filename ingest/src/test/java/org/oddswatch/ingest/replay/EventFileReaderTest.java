@@ -92,6 +92,18 @@ class EventFileReaderTest {
     }
 
     @Test
+    void aByteOrderMarkBeforeTheHeaderIsIgnored() throws Exception {
+        ByteArrayOutputStream bytes = new ByteArrayOutputStream();
+        bytes.write(0xEF);
+        bytes.write(0xBB);
+        bytes.write(0xBF);
+        bytes.writeBytes("id,result\r\ne1,positive\r\n".getBytes(StandardCharsets.UTF_8));
+        Recorder recorder = new Recorder();
+        EventFileReader.read(file("bom.csv", bytes.toByteArray()), InputFormat.CSV, recorder);
+        assertEquals(List.of("row 2 {\"id\":\"e1\",\"result\":\"positive\"}"), recorder.seen);
+    }
+
+    @Test
     void formats() {
         assertEquals(InputFormat.CSV, InputFormat.of(Path.of("tests.CSV")));
         assertEquals(InputFormat.JSONL, InputFormat.of(Path.of("tests.jsonl")));
