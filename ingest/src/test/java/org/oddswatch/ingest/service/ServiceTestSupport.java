@@ -160,47 +160,4 @@ final class ServiceTestSupport {
             assertEquals(e.getValue(), actual.get(e.getKey()), "estimate " + e.getKey());
         }
     }
-
-    /**
-     * Asserts equal keys and equal estimates, where numbers may differ by {@code relative} times max(1, |value|) (text,
-     * integers, booleans and structure must be identical). Used where a fit's warm start may come
-     * from a different window than in the reference run, which moves results in the last bits.
-     */
-    static void assertSameEstimatesWithin(Map<String, String> expected, Map<String, String> actual, double relative) {
-        assertEquals(expected.keySet(), actual.keySet(), "estimate keys");
-        for (Map.Entry<String, String> e : expected.entrySet()) {
-            String where = "estimate " + e.getKey();
-            assertSameTree(tree(e.getValue()), tree(actual.get(e.getKey())), relative, where);
-        }
-    }
-
-    private static void assertSameTree(JsonNode expected, JsonNode actual, double relative, String where) {
-        if (expected.isFloatingPointNumber() && actual.isNumber()) {
-            double x = expected.doubleValue();
-            double y = actual.doubleValue();
-            if (Math.abs(x - y) > relative * Math.max(1, Math.max(Math.abs(x), Math.abs(y)))) {
-                fail(where + ": " + x + " vs " + y);
-            }
-            return;
-        }
-        assertEquals(expected.getNodeType(), actual.getNodeType(), where);
-        if (expected.isObject()) {
-            assertEquals(iteratorToList(expected.fieldNames()), iteratorToList(actual.fieldNames()), where);
-            expected.fields().forEachRemaining(f ->
-                    assertSameTree(f.getValue(), actual.get(f.getKey()), relative, where + "/" + f.getKey()));
-        } else if (expected.isArray()) {
-            assertEquals(expected.size(), actual.size(), where);
-            for (int i = 0; i < expected.size(); i++) {
-                assertSameTree(expected.get(i), actual.get(i), relative, where + "/" + i);
-            }
-        } else {
-            assertEquals(expected, actual, where);
-        }
-    }
-
-    private static List<String> iteratorToList(java.util.Iterator<String> it) {
-        List<String> out = new ArrayList<>();
-        it.forEachRemaining(out::add);
-        return out;
-    }
 }
