@@ -159,6 +159,24 @@ class DefinitionLoaderTest {
     }
 
     @Test
+    void ruleSettingsAreBoundWithTheirLines() throws Exception {
+        String rules = "    rules:\n      oddsRatioDrift:\n        limt: 3\n";
+        DefinitionException unknown = error(VALID.replace("  - name: south", rules + "  - name: south"));
+        assertEquals("monitors.yaml:19: monitors[0].rules.oddsRatioDrift.limt: unknown rule setting",
+                unknown.getMessage());
+        DefinitionException invalid = error(VALID.replace("  - name: south",
+                "    rules:\n      guard: {minEvents: -5}\n  - name: south"));
+        assertEquals(18, invalid.line());
+        assertTrue(invalid.key().startsWith("monitors[0].rules.guard"), invalid.key());
+        assertTrue(invalid.problem().contains("minEvents"), invalid.problem());
+        MonitorConfig bound = parse(VALID.replace("  - name: south",
+                "    rules:\n      oddsRatioDrift: {limit: 3.5, terms: [household_contact]}\n  - name: south"));
+        assertEquals(3.5, bound.monitor("north").rules().oddsRatioDrift().limit());
+        assertNull(bound.monitor("north").rules().cusum(), "sections left out are off");
+        assertTrue(parse(VALID).monitor("north").rules().cusum() != null, "no rules key: the defaults");
+    }
+
+    @Test
     void duplicateNamesAreErrors() {
         DefinitionException monitor = error(VALID.replace("name: south", "name: north"));
         assertEquals(17, monitor.line());
