@@ -10,6 +10,7 @@ import org.oddswatch.ingest.replay.InputFormat;
 import org.oddswatch.ingest.replay.ReplayRequest;
 import org.oddswatch.ingest.replay.ReplayRunner;
 import org.oddswatch.ingest.replay.ReplaySummary;
+import org.oddswatch.ingest.service.RebuildSpan;
 import picocli.CommandLine.ArgGroup;
 import picocli.CommandLine.Command;
 import picocli.CommandLine.Option;
@@ -61,7 +62,11 @@ final class ReplayCommand implements Callable<Integer> {
             if (definition.monitorsFor(input.topic).isEmpty()) {
                 throw UserError.config("no monitor in " + config + " reads topic '" + input.topic + "'");
             }
-            try (TopicSnapshot snapshot = TopicSnapshot.read(definition.kafka(), input.topic, from)) {
+            // read back far enough for the windows around --from and any fixed baseline period
+            Instant readFrom = from == null ? null : Instant.ofEpochMilli(RebuildSpan.of(
+                    definition.monitorsFor(input.topic), definition.service().rebuildMargin())
+                    .startMillis(from.toEpochMilli()));
+            try (TopicSnapshot snapshot = TopicSnapshot.read(definition.kafka(), input.topic, readFrom)) {
                 summary = replay(definition, new ReplayRequest(config, snapshot.file(), out, InputFormat.JSONL, from,
                         to, input.topic));
             }

@@ -120,6 +120,9 @@ public final class Sandbox {
                          }
                          if (plain && !"continuing".equals(a.path("state").asText())) {
                              println("alert    " + view.alert(a));
+                             if ("raised".equals(a.path("state").asText()) && a.hasNonNull("replayCommand")) {
+                                 println("         reproduce: " + a.path("replayCommand").asText());
+                             }
                          }
                      }).start()) {
             String httpAddress = http.address().getHostString() + ":" + http.port();

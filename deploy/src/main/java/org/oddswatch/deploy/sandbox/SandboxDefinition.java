@@ -51,7 +51,8 @@ public final class SandboxDefinition {
             throws DefinitionException, IOException {
         Map<String, String> env = Map.of(DefinitionLoader.KAFKA_ENV_PREFIX + "BOOTSTRAP_SERVERS", bootstrap);
         MonitorConfig loaded = file == null
-                ? DefinitionLoader.parse("examples/" + BUILT_IN, example(BUILT_IN), env, null)
+                // named as from the repository root, so the replay command in alert messages works there
+                ? DefinitionLoader.parse("deploy/examples/" + BUILT_IN, example(BUILT_IN), env, null)
                 : DefinitionLoader.parse(file.toString(), Files.readString(file, StandardCharsets.UTF_8), env,
                         file.toAbsolutePath().getParent());
         ServiceSettings s = loaded.service();

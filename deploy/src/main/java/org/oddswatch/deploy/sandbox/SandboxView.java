@@ -122,6 +122,8 @@ public final class SandboxView {
         }
         if (a.hasNonNull("baseline")) {
             b.append(String.format(Locale.ROOT, " vs baseline %.3g", a.path("baseline").asDouble()));
+        } else if (a.hasNonNull("limit")) {
+            b.append(String.format(Locale.ROOT, " (limit %.3g)", a.path("limit").asDouble()));
         }
         JsonNode ev = a.path("evidence");
         if (ev.hasNonNull("z")) {
