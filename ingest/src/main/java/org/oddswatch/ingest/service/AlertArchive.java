@@ -16,7 +16,7 @@ import org.slf4j.LoggerFactory;
 /**
  * Reads back the alerts already published, so the alert lifecycle survives a restart or a move to
  * another instance: every alerts topic from the beginning up to its end offsets at the time of the
- * read (bounded; a compacted alerts topic keeps this short). Records that are not alert JSON are
+ * read (bounded). Records that are not alert JSON are
  * skipped with a warning.
  */
 final class AlertArchive {

@@ -69,6 +69,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
 
     private final Map<TopicPartition, PartitionState> states = new LinkedHashMap<>();
     private final Map<String, long[]> streamActivity = new HashMap<>();
+    private final Set<String> splitStreamsWarned = new HashSet<>();
     private final OutcomeCounts counts = new OutcomeCounts();
     private boolean assignedOnce;
     private long lastCommitNanos = System.nanoTime();
@@ -428,6 +429,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
     private ServiceStatus buildSnapshot() {
         List<ServiceStatus.PartitionStatus> partitions = new ArrayList<>();
         List<PipelineSnapshot> inputs = new ArrayList<>();
+        Map<String, TopicPartition> owners = new HashMap<>();
         for (PartitionState state : states.values()) {
             Long lag = null;
             if (state.planned) {
@@ -436,7 +438,16 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
             }
             partitions.add(new ServiceStatus.PartitionStatus(state.partition.topic(), state.partition.partition(),
                     !live(state), state.lastCommitted < 0 ? null : state.lastCommitted, lag));
-            inputs.add(state.pipeline.snapshot());
+            PipelineSnapshot pipeline = state.pipeline.snapshot();
+            inputs.add(pipeline);
+            for (StreamStatus stream : pipeline.streams()) {
+                TopicPartition other = owners.putIfAbsent(stream.stream(), state.partition);
+                if (other != null && splitStreamsWarned.add(stream.stream())) {
+                    LOG.warn("stream {} receives events from {} and {}: each partition estimates it separately. "
+                            + "Key the records by the split value (or use one partition) so a stream lives on one "
+                            + "partition.", stream.stream(), other, state.partition);
+                }
+            }
         }
         return new ServiceStatus(ready() ? "ready" : (closing ? "stopped" : "rebuilding"), counts.snapshot(),
                 partitions, inputs);
