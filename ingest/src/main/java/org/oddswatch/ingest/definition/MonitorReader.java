@@ -235,7 +235,7 @@ final class MonitorReader {
     private static void checkTermReferences(DefNode node, List<TermSpec> terms) throws DefinitionException {
         JsonNode json = node.json();
         if (json.isObject()) {
-            for (Map.Entry<String, JsonNode> field : (Iterable<Map.Entry<String, JsonNode>>) json::fields) {
+            for (Map.Entry<String, JsonNode> field : json.properties()) {
                 DefNode child = node.get(field.getKey());
                 if (field.getKey().equals("term") && field.getValue().isTextual()) {
                     checkWatched(child, child.text(), terms);

@@ -82,22 +82,21 @@ public final class ReplayRunner {
                 .withRange(request.from() == null ? null : request.from().toEpochMilli(),
                         request.to() == null ? null : request.to().toEpochMilli());
         InputFormat format = request.effectiveFormat();
-        try (FileOutputs outputs = new FileOutputs(request.out())) {
-            MonitorPipeline pipeline = new MonitorPipeline(request.input().toString(), monitors, outputs, settings);
-            try {
-                EventFileReader.read(request.input(), format, new PipelineFeed(pipeline));
-                pipeline.closeAll();
-            } catch (UncheckedIOException e) {
-                throw e.getCause();
-            }
-            ReplaySummary summary = summary(request, format, pipeline.snapshot(), outputs);
-            Files.writeString(request.out().resolve(SUMMARY),
-                    Json.mapper().writerWithDefaultPrettyPrinter().writeValueAsString(summary) + "\n",
-                    StandardCharsets.UTF_8);
-            outputs.close();
-            ReplayReport.write(request.out(), outputs.estimates, outputs.alerts, title(monitors, request));
-            return summary;
+        FileOutputs outputs = new FileOutputs(request.out());
+        MonitorPipeline pipeline;
+        try (outputs) {
+            pipeline = new MonitorPipeline(request.input().toString(), monitors, outputs, settings);
+            EventFileReader.read(request.input(), format, new PipelineFeed(pipeline));
+            pipeline.closeAll();
+        } catch (UncheckedIOException e) {
+            throw e.getCause();
         }
+        ReplaySummary summary = summary(request, format, pipeline.snapshot(), outputs);
+        Files.writeString(request.out().resolve(SUMMARY),
+                Json.mapper().writerWithDefaultPrettyPrinter().writeValueAsString(summary) + "\n",
+                StandardCharsets.UTF_8);
+        ReplayReport.write(request.out(), outputs.estimates, outputs.alerts, title(monitors, request));
+        return summary;
     }
 
     private static String title(List<MonitorDefinition> monitors, ReplayRequest request) {
@@ -159,7 +158,6 @@ public final class ReplayRunner {
         final List<Alert> alerts = new ArrayList<>();
         final Map<String, WindowEstimate[]> windowSpan = new LinkedHashMap<>();
         long rejects;
-        private boolean closed;
 
         FileOutputs(Path dir) throws IOException {
             estimatesFile = writer(dir.resolve(ESTIMATES));
@@ -204,13 +202,10 @@ public final class ReplayRunner {
 
         @Override
         public void close() throws IOException {
-            if (!closed) {
-                closed = true;
-                try (Writer a = estimatesFile; Writer b = rejectsFile; Writer c = alertsFile) {
-                    a.flush();
-                    b.flush();
-                    c.flush();
-                }
+            try (Writer a = estimatesFile; Writer b = rejectsFile; Writer c = alertsFile) {
+                a.flush();
+                b.flush();
+                c.flush();
             }
         }
     }

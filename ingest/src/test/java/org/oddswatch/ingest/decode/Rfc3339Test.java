@@ -36,7 +36,7 @@ class Rfc3339Test {
         Random random = new Random(3339);
         String[] zones = {"Z", "z", "+00:00", "+01:00", "-05:30", "+14:00", "-18:00", "+18:00", "+19:00", "+01:60",
                 "+0100", "", "+01", "-00:00"};
-        for (int i = 0; i < 50_000; i++) {
+        for (int i = 0; i < 20_000; i++) {
             int year = random.nextInt(10) == 0 ? random.nextInt(10_000) : 1960 + random.nextInt(120);
             String text = String.format(Locale.ROOT, "%04d-%02d-%02d%s%02d:%02d:%02d%s%s", year, 1 + random.nextInt(13),
                     random.nextInt(33), random.nextInt(20) == 0 ? "t" : "T", random.nextInt(25), random.nextInt(61),
