@@ -132,6 +132,71 @@ class ServiceRecoveryTest {
         ServiceTestSupport.assertSameEstimates(expected, actual);
     }
 
+    @Test
+    void aRestartDuringAnOpenAlertEpisodeNeitherForgetsNorRepeatsIt() throws Exception {
+        // One stream; fixed baseline period of eight weeks; from April the household-contact odds
+        // ratio rises by exp(1.5), about 4.5 times, and stays up.
+        List<TestFeed.Event> drifting = TestFeed.events(31, 5000, Instant.parse("2026-01-05T00:00:00Z"),
+                Duration.ofDays(175), Duration.ofHours(6), Instant.parse("2026-04-06T00:00:00Z"), 1.5, "north");
+        List<String> expected = alertsOfRun("alerts-ref", drifting, -1);
+        assertTrue(expected.size() >= 2, "the drift raises an episode that continues: " + expected);
+        assertTrue(expected.get(0).contains("\"state\":\"raised\""), expected.get(0));
+
+        // Stop after the episode was raised (mid-June), start again.
+        int cut = (int) (drifting.size() * 0.9);
+        List<String> restarted = alertsOfRun("alerts-restart", drifting, cut);
+        assertEquals(expected, restarted, "same alert messages, none repeated, none missing");
+    }
+
+    /** Runs the service over the events (stopping and starting again at {@code cut} when >= 0); the alerts topic. */
+    private static List<String> alertsOfRun(String prefix, List<TestFeed.Event> feed, int cut) {
+        String input = prefix + "-tests";
+        createTopics(prefix, input, 1);
+        String yaml = """
+                kafka:
+                  bootstrap.servers: %s
+                service: {groupId: %s-group, refresh: PT1H, idleTimeout: P3650D}
+                monitors:
+                  - name: resp
+                    input: {topic: %s}
+                    event:
+                      id: /id
+                      time: /collectedAt
+                      outcome: {field: /result, positive: ["positive"], negative: ["negative"]}
+                    terms:
+                      - {name: household_contact, field: /exposure/household, kind: binary, level: "yes", reference: "no", watched: true}
+                      - {name: recent_travel, field: /exposure/travel, kind: binary, level: "yes", reference: "no"}
+                    window: {width: P28D, step: P7D, lateness: P2D, align: 2026-01-05T00:00:00Z}
+                    baseline: {from: 2026-01-05T00:00:00Z, to: 2026-03-02T00:00:00Z}
+                    rules:
+                      guard: {minEvents: 200}
+                      oddsRatioDrift: {limit: 3.0, clearLimit: 2.0, consecutive: 1, clearAfter: 2, terms: [household_contact]}
+                    outputs: {estimatesTopic: %s-estimates, rejectsTopic: %s-rejects, alertsTopic: %s-alerts}
+                """.formatted(KAFKA.bootstrapServers(), prefix, input, prefix, prefix, prefix);
+        MonitorConfig config = TestDefinitions.config(yaml);
+        int first = cut < 0 ? feed.size() : cut;
+        ServiceTestSupport.produce(KAFKA, input, feed.subList(0, first), false, true);
+        try (MonitorService service = new MonitorService(config, new SimpleMeterRegistry(), prefix + "-1").start()) {
+            ServiceTestSupport.awaitCommitted(KAFKA, prefix + "-group", input, WAIT);
+        }
+        if (cut >= 0) {
+            List<String> before = new java.util.ArrayList<>();
+            KAFKA.readAll(prefix + "-alerts", Duration.ofSeconds(30)).forEach(r -> before.add(new String(r.value(),
+                    java.nio.charset.StandardCharsets.UTF_8)));
+            assertFalse(before.isEmpty(), "an episode was raised before the stop");
+            assertFalse(before.get(before.size() - 1).contains("\"state\":\"cleared\""), "and is still open");
+            ServiceTestSupport.produce(KAFKA, input, feed.subList(cut, feed.size()), false, true);
+            try (MonitorService service = new MonitorService(config, new SimpleMeterRegistry(), prefix + "-2").start()) {
+                ServiceTestSupport.awaitCommitted(KAFKA, prefix + "-group", input, WAIT);
+            }
+        }
+        List<String> alerts = new java.util.ArrayList<>();
+        for (var record : KAFKA.readAll(prefix + "-alerts", Duration.ofSeconds(30))) {
+            alerts.add(new String(record.value(), java.nio.charset.StandardCharsets.UTF_8));
+        }
+        return alerts;
+    }
+
     private static Set<Integer> partitions(MonitorService service) {
         Set<Integer> out = new TreeSet<>();
         service.status().partitions().forEach(p -> out.add(p.partition()));

@@ -30,6 +30,15 @@ final class TestFeed {
     }
 
     static List<Event> events(long seed, int count, Instant start, Duration span, Duration jitter, String... regions) {
+        return events(seed, count, start, span, jitter, null, 0, regions);
+    }
+
+    /**
+     * As above, with a drift: from {@code driftFrom} on, household contact adds {@code extraLogOdds}
+     * to the log-odds of a positive result (so its odds ratio moves by exp(extraLogOdds)).
+     */
+    static List<Event> events(long seed, int count, Instant start, Duration span, Duration jitter, Instant driftFrom,
+                              double extraLogOdds, String... regions) {
         Random random = new Random(seed);
         List<Event> events = new ArrayList<>(count);
         long step = span.toMillis() / count;
@@ -40,7 +49,9 @@ final class TestFeed {
             boolean household = random.nextDouble() < 0.3;
             boolean travel = random.nextDouble() < 0.2;
             String age = AGE_BANDS[random.nextInt(AGE_BANDS.length)];
-            double logit = -2.0 + (household ? 1.0 : 0) + (travel ? 0.5 : 0) + (age.equals("65+") ? 0.4 : 0);
+            boolean drifted = driftFrom != null && !time.isBefore(driftFrom);
+            double logit = -2.0 + (household ? 1.0 + (drifted ? extraLogOdds : 0) : 0) + (travel ? 0.5 : 0)
+                    + (age.equals("65+") ? 0.4 : 0);
             boolean positive = random.nextDouble() < 1 / (1 + Math.exp(-logit));
             String json = "{\"id\":\"t-" + seed + "-" + i + "\",\"collectedAt\":\"" + time + "\",\"result\":\""
                     + (positive ? "positive" : "negative") + "\",\"region\":\"" + region
