@@ -317,6 +317,50 @@ class MonitorPipelineTest {
                 both.rejects.stream().map(r -> String.valueOf(r.monitor())).toList());
     }
 
+    /** Fixed-period baseline: accumulated over [from, to), frozen once no event of it can arrive. */
+    @Test
+    void fixedPeriodBaselineFreezesWhenThePeriodCanTakeNoMoreEvents() {
+        String withBaseline = DEFINITION.replace("    rules: {}",
+                "    baseline: {from: 2026-02-02T00:00:00Z, to: 2026-02-05T00:00:00Z}\n    rules: {}");
+        CollectingListener listener = new CollectingListener();
+        MonitorPipeline withPeriod = pipeline(withBaseline, listener);
+        List<String> records = HouseEvents.generate(21, 2000, D0, 6 * 86_400_000L, 0, "north");
+        int i = 0;
+        int beforeFreeze = 0;
+        for (; i < records.size(); i++) {
+            beforeFreeze = listener.estimates.size();
+            withPeriod.offer(records.get(i).getBytes(StandardCharsets.UTF_8), RecordOrigin.line(i + 1), false);
+            if (withPeriod.snapshot().streams().get(0).baseline().equals("frozen")) {
+                break;
+            }
+        }
+        // Frozen by the first event at or after 2026-02-05T06:00Z (period end + lateness, day buckets).
+        long frozenAt = Instant.parse(records.get(i).substring(records.get(i).indexOf("collectedAt") + 14,
+                records.get(i).indexOf("collectedAt") + 14 + 24)).toEpochMilli();
+        assertTrue(frozenAt >= at(3.25).toEpochMilli(), Instant.ofEpochMilli(frozenAt).toString());
+        assertTrue(frozenAt < at(3.26).toEpochMilli(), Instant.ofEpochMilli(frozenAt).toString());
+        assertTrue(beforeFreeze > 0);
+        for (WindowEstimate e : listener.estimates.subList(0, beforeFreeze)) {
+            assertNull(e.calibration(), "windows final before the freeze have no baseline");
+        }
+        for (i++; i < records.size(); i++) {
+            withPeriod.offer(records.get(i).getBytes(StandardCharsets.UTF_8), RecordOrigin.line(i + 1), false);
+        }
+        withPeriod.closeAll();
+        WindowEstimate last = listener.estimates.get(listener.estimates.size() - 1);
+        assertTrue(last.calibration() != null, "windows after the freeze are compared with the baseline");
+
+        // A period without positives cannot give a model: the stream says so and runs on without one.
+        MonitorPipeline noPositives = pipeline(withBaseline, new CollectingListener());
+        for (int j = 0; j < 300; j++) {
+            noPositives.offer(HouseEvents.json("n" + j, at(j * 0.02), "north", j % 2 == 0, false, "40-64", "male", false)
+                    .getBytes(StandardCharsets.UTF_8), RecordOrigin.line(j + 1), false);
+        }
+        StreamStatus status = noPositives.snapshot().streams().get(0);
+        assertEquals("failed", status.baseline());
+        assertTrue(status.baselineNote() != null && !status.baselineNote().isEmpty());
+    }
+
     @Test
     void rejectsCarryTheOriginalBytesAndTheirText() {
         byte[] bytes = {'{', '"', 'i', (byte) 0xFF, '}'};
