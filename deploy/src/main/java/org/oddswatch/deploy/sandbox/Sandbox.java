@@ -128,6 +128,9 @@ public final class Sandbox {
             String httpAddress = http.address().getHostString() + ":" + http.port();
             view.banner(broker.bootstrapServers(), httpAddress).forEach(this::println);
             println("  input topic:     " + inputTopic + "   definition: " + config.file());
+            println("  replay it:       ODDSWATCH_KAFKA_BOOTSTRAP_SERVERS=" + broker.bootstrapServers()
+                    + " deploy/oddswatch replay --config " + config.file() + " --topic " + inputTopic
+                    + " --out sandbox-report");
             Feed feed = new Feed(broker, inputTopic);
             if (settings.feed()) {
                 feed.start();
