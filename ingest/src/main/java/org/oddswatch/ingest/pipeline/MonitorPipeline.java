@@ -184,8 +184,8 @@ public final class MonitorPipeline {
             return outcome;
         }
         StreamState stream = route.streams.get(event.splitValue());
-        String streamName = route.monitor.streamName(event.splitValue());
         if (stream == null) {
+            String streamName = route.monitor.streamName(event.splitValue());
             if (route.monitor.split() != null && route.streams.size() >= route.monitor.split().maxStreams()) {
                 return rejectUnrouted(route, streamName, new Rejection(RejectReason.TOO_MANY_STREAMS,
                         "split value '" + event.splitValue() + "' would be stream " + (route.streams.size() + 1)
@@ -196,7 +196,7 @@ public final class MonitorPipeline {
         RecordOutcome outcome = stream.offer(event, suppress);
         count(stream.counts(), outcome, suppress);
         if (!suppress && (outcome.outcome() == Outcome.REJECTED || outcome.outcome() == Outcome.LATE)) {
-            listener.onReject(new RejectedRecord(route.monitor.name(), streamName, outcome.outcome(),
+            listener.onReject(new RejectedRecord(route.monitor.name(), stream.name(), outcome.outcome(),
                     outcome.reason(), outcome.detail(), origin, original));
         }
         return outcome;
