@@ -5,7 +5,10 @@ package org.oddswatch.estimator.fit;
  * {@code U = X'(y - n mu)} and the information {@code I = X' diag(n mu (1-mu)) X}; for Firth fits a
  * second pass adds the hat-value correction {@code sum_i x_i h_i (1/2 - mu_i)} to the score, with
  * {@code h_i = w_i x_i' I^-1 x_i}. This is the hot loop: flat arrays, indexed loops, zero design
- * entries skipped, one {@code exp} and one {@code log1p} per row.
+ * entries skipped, one {@code exp} and one {@code log} per row. With {@code e = exp(-|eta|)} in
+ * (0, 1], {@code log(1 + e^eta) = max(eta, 0) + log(1 + e)}; {@code Math.log(1 + e)} is used rather
+ * than {@code Math.log(1 + e)} (which has no JIT intrinsic and is several times slower); its absolute
+ * error is below 2.3e-16 per row.
  */
 final class BinomialPass {
 
@@ -61,6 +64,7 @@ final class BinomialPass {
         final double[] u = score;
         final double[] info = information;
         final int[] nz = new int[p];
+        final double[] v = new double[p];
         double ll = 0;
         double etaMax = 0;
         for (int i = 0; i < n; i++) {
@@ -72,30 +76,29 @@ final class BinomialPass {
             double eta = offset == null ? 0 : offset[i];
             int m = 0;
             for (int j = 0; j < p; j++) {
-                double v = x[base + j];
-                if (v != 0) {
-                    eta += v * beta[j];
-                    nz[m++] = j;
+                final double xj = x[base + j];
+                if (xj != 0) {
+                    eta += xj * beta[j];
+                    nz[m] = j;
+                    v[m++] = xj;
                 }
             }
             final double e = Math.exp(-Math.abs(eta));
             final double mu = eta >= 0 ? 1 / (1 + e) : e / (1 + e);
             final double y = positives[i];
-            ll += y * eta - t * (Math.max(eta, 0) + Math.log1p(e));
+            ll += y * eta - t * (Math.max(eta, 0) + Math.log(1 + e));
             final double w = t * e / ((1 + e) * (1 + e));
             final double r = y - t * mu;
             if (Math.abs(eta) > etaMax) {
                 etaMax = Math.abs(eta);
             }
             for (int a = 0; a < m; a++) {
-                final int j = nz[a];
-                final double xj = x[base + j];
-                u[j] += xj * r;
-                final double wx = w * xj;
-                final int row = j * p;
+                final double va = v[a];
+                u[nz[a]] += va * r;
+                final double wx = w * va;
+                final int row = nz[a] * p;
                 for (int b = a; b < m; b++) {
-                    final int k = nz[b];
-                    info[row + k] += wx * x[base + k];
+                    info[row + nz[b]] += wx * v[b];
                 }
             }
         }

@@ -124,7 +124,12 @@ final class FitDriver {
                 }
             }
         }
+        double[] score = new double[p];
+        for (int a = 0; a < keep.length; a++) {
+            score[keep[a]] = r.score()[a];
+        }
         return new FitResult(beta, cov, r.logLikelihood(), r.penalizedLogLikelihood(), r.iterations(), r.converged(),
-                r.warmStartUsed(), r.method(), dropped.clone(), r.maxAbsScore(), r.maxAbsLinearPredictor(), r.trace());
+                r.warmStartUsed(), r.method(), dropped.clone(), r.maxAbsScore(), r.maxAbsLinearPredictor(), r.trace(),
+                score);
     }
 }

@@ -21,11 +21,13 @@ package org.oddswatch.estimator.fit;
  * @param maxAbsLinearPredictor largest |eta| over rows with trials (a divergence symptom when large)
  * @param trace objective (log-likelihood, or penalized for Firth) at the start and after each
  *     accepted iteration, for tests and diagnostics
+ * @param score gradient of the objective at the estimates, one per column (Firth: the modified
+ *     score); on held-fixed coordinates this is the slope of the profile
  */
 public record FitResult(double[] coefficients, double[][] covariance, double logLikelihood,
                         double penalizedLogLikelihood, int iterations, boolean converged, boolean warmStartUsed,
                         FitMethod method, int[] dropped, double maxAbsScore, double maxAbsLinearPredictor,
-                        double[] trace) {
+                        double[] trace, double[] score) {
 
     /** Standard error of column j, or NaN when the covariance is absent or the column was dropped. */
     public double standardError(int j) {

@@ -14,7 +14,8 @@ import org.apache.commons.math3.linear.RealMatrix;
  * {@code t = 1, 1/2, 1/4, ...} (at most 30 halvings) whose objective is not lower than the current
  * one; so the objective never decreases across accepted iterations. After convergence one more
  * Newton step (the polishing step) is taken, so that the result no longer depends on the start in
- * its last digits.
+ * its last digits; constrained fits (profile and LR evaluations, which only need the objective)
+ * skip it.
  */
 final class NewtonEngine {
 
@@ -62,7 +63,7 @@ final class NewtonEngine {
                 break;
             }
         }
-        if (converged) {
+        if (converged && fixed == null) {
             current = polish(problem, current, fixed, penalized);
         }
         return result(problem, current, iterations, converged, warm, penalized, fixed, trace, iterations + 1);
@@ -151,7 +152,7 @@ final class NewtonEngine {
         double[][] covariance = fixed == null ? covariance(pass) : null;
         return new FitResult(pass.beta.clone(), covariance, pass.logLikelihood, pass.objective, iterations, converged,
                 warm, penalized ? FitMethod.FIRTH : FitMethod.NEWTON, new int[0], pass.maxScaledScore(fixed),
-                pass.maxAbsEta, Arrays.copyOf(trace, traceLength));
+                pass.maxAbsEta, Arrays.copyOf(trace, traceLength), pass.score.clone());
     }
 
     /** Inverse information by Commons Math's Cholesky decomposition, or null when not positive definite. */

@@ -1,8 +1,5 @@
 package org.oddswatch.estimator.fit;
 
-import org.apache.commons.math3.analysis.UnivariateFunction;
-import org.apache.commons.math3.analysis.solvers.BrentSolver;
-import org.apache.commons.math3.exception.MathIllegalStateException;
 import org.apache.commons.math3.special.Erf;
 
 /**
@@ -11,16 +8,25 @@ import org.apache.commons.math3.special.Erf;
  * Firth fits the penalized log-likelihood is profiled, the penalty always taken from the full
  * model's information matrix (Heinze &amp; Schemper 2002, as in {@code logistf}).
  *
- * <p>Each bound is bracketed by stepping out from the estimate in doubling multiples of its
- * standard error, then located by Brent's method (Commons Math) to 1e-8 absolute. Every constrained
- * fit starts from the previous one, in a fixed sequence, so the result is deterministic. A bound is
- * NaN when the profile never falls by the required amount within 64 standard errors (or 100 units),
- * as happens when the likelihood is flat on that side, or when a constrained fit does not converge.
+ * <p>Each bound solves {@code f(c) = drop(c) - chi2_1(level)/2 = 0}, where {@code drop(c)} is the fall
+ * of the profile from its maximum. By the envelope theorem {@code drop'(c) = -U_j(beta~(c))}, the
+ * score of coefficient j at the constrained maximum, so a safeguarded Newton iteration applies:
+ * start at the Wald bound, step {@code c - f/f'}, keep a bracket once the sign of f changes and
+ * bisect when a Newton step would leave it; before bracketing, steps go outward and at most double
+ * the distance from the estimate. Stop when {@code |f| < 1e-9} or the step is below
+ * {@code 1e-10 (1 + |c|)}. Each constrained fit starts from the previous one, in a fixed sequence,
+ * so the result is deterministic; typically 3 to 5 constrained fits per bound.
+ *
+ * <p>A bound is NaN when the profile does not fall far enough within 100 units of the estimate (the
+ * likelihood is flat on that side, as under separation with plain maximum likelihood), when a
+ * constrained fit does not converge, or after 60 evaluations.
  */
 public final class ProfileLikelihood {
 
-    private static final double ACCURACY = 1e-8;
-    private static final int MAX_EVALUATIONS = 200;
+    private static final double F_TOLERANCE = 1e-9;
+    private static final double STEP_TOLERANCE = 1e-10;
+    private static final double LIMIT = 100;
+    private static final int MAX_EVALUATIONS = 60;
 
     private ProfileLikelihood() {
     }
@@ -38,43 +44,58 @@ public final class ProfileLikelihood {
      * @return {lower, upper}, either NaN when not found
      */
     public static double[] interval(FitProblem problem, FitResult fit, int j, double level, FitControl control) {
-        double half = chiSquareOneQuantile(level) / 2;
+        double q = chiSquareOneQuantile(level);
         Profile profile = new Profile(problem, fit, j, control);
-        double estimate = fit.coefficients()[j];
         double se = fit.standardError(j);
-        double unit = Double.isFinite(se) && se > 0 ? se : 1;
-        return new double[] {bound(profile, estimate, -unit, half), bound(profile, estimate, unit, half)};
+        double wald = Math.sqrt(q) * (Double.isFinite(se) && se > 0 ? se : 1);
+        return new double[] {bound(profile, -1, wald, q / 2), bound(profile, 1, wald, q / 2)};
     }
 
-    private static double bound(Profile profile, double estimate, double unit, double half) {
+    private static double bound(Profile profile, int side, double wald, double half) {
         profile.reset();
-        UnivariateFunction excess = c -> profile.drop(c) - half;
+        double estimate = profile.estimate();
         double inner = estimate;
-        for (int k = 0; k <= 6; k++) {
-            double outer = estimate + unit * (1 << k);
-            if (Math.abs(outer - estimate) > 100) {
+        double outer = Double.NaN;
+        double c = estimate + side * wald;
+        for (int k = 0; k < MAX_EVALUATIONS; k++) {
+            if (Math.abs(c - estimate) > LIMIT) {
                 return Double.NaN;
             }
-            double value = excess.value(outer);
-            if (Double.isNaN(value)) {
+            double f = profile.drop(c) - half;
+            if (Double.isNaN(f)) {
                 return Double.NaN;
             }
-            if (value > 0) {
-                try {
-                    double lo = Math.min(inner, outer);
-                    double hi = Math.max(inner, outer);
-                    double root = new BrentSolver(ACCURACY).solve(MAX_EVALUATIONS, excess, lo, hi);
-                    return profile.failed ? Double.NaN : root;
-                } catch (MathIllegalStateException | IllegalArgumentException e) {
-                    return Double.NaN;
+            if (Math.abs(f) < F_TOLERANCE) {
+                return c;
+            }
+            double slope = profile.slope();
+            if (f < 0) {
+                inner = c;
+            } else {
+                outer = c;
+            }
+            double next = c - f / slope;
+            if (!Double.isNaN(outer)) {
+                double lo = Math.min(inner, outer);
+                double hi = Math.max(inner, outer);
+                if (!(next > lo && next < hi)) {
+                    next = 0.5 * (inner + outer);
+                }
+            } else {
+                double reach = 2 * Math.abs(c - estimate);
+                if (!(side * (next - c) > 0) || Math.abs(next - estimate) > reach) {
+                    next = estimate + side * reach;
                 }
             }
-            inner = outer;
+            if (Math.abs(next - c) < STEP_TOLERANCE * (1 + Math.abs(c))) {
+                return next;
+            }
+            c = next;
         }
         return Double.NaN;
     }
 
-    /** The profile objective of column j, fitted from the last solution found. */
+    /** The profile of column j, each constrained fit started from the last solution found. */
     private static final class Profile {
         private final FitProblem problem;
         private final FitResult fit;
@@ -83,7 +104,7 @@ public final class ProfileLikelihood {
         private final boolean penalized;
         private final boolean[] fixed;
         private double[] start;
-        boolean failed;
+        private double slope;
 
         Profile(FitProblem problem, FitResult fit, int j, FitControl control) {
             this.problem = problem;
@@ -95,9 +116,12 @@ public final class ProfileLikelihood {
             this.fixed[j] = true;
         }
 
+        double estimate() {
+            return fit.coefficients()[j];
+        }
+
         void reset() {
             start = fit.coefficients().clone();
-            failed = false;
         }
 
         /** {@code objective(beta_hat) - max objective with beta_j = c}, NaN when the constrained fit fails. */
@@ -106,11 +130,16 @@ public final class ProfileLikelihood {
             s[j] = c;
             FitResult constrained = FitDriver.fitFullRank(problem, s, fixed, control, penalized);
             if (!constrained.converged()) {
-                failed = true;
                 return Double.NaN;
             }
             start = constrained.coefficients();
+            slope = -constrained.score()[j];
             return fit.objective() - constrained.objective();
+        }
+
+        /** {@code drop'(c)} at the last evaluated c. */
+        double slope() {
+            return slope;
         }
     }
 }
