@@ -15,6 +15,7 @@ import org.apache.kafka.clients.consumer.ConsumerConfig;
 import org.apache.kafka.clients.consumer.CooperativeStickyAssignor;
 import org.apache.kafka.clients.consumer.KafkaConsumer;
 import org.apache.kafka.common.serialization.ByteArrayDeserializer;
+import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.kafka.KafkaClientSettings;
 import org.oddswatch.ingest.kafka.KafkaOutputPublisher;
@@ -88,10 +89,22 @@ public final class MonitorService implements AutoCloseable {
         clientMetrics.forEach(m -> m.bindTo(registry));
         AlertArchive archive = new AlertArchive(settings.reader("oddswatch-" + instance + "-alerts"), Duration.ofSeconds(30));
         PollLoop.PipelineFactory factory = tp -> new MonitorPipeline(tp.toString(), config.monitorsFor(tp.topic()),
-                publisher, pipelineSettings);
+                publisher, withTopicHint(pipelineSettings, config, tp.topic()));
         this.loop = new PollLoop(config, consumer, lookup, publisher, factory, archive,
                 new ServiceMeters(registry, instance), commitInterval, latest, wallClockMillis);
         this.thread = new Thread(this::runLoop, "oddswatch-poll-" + instance);
+    }
+
+    /**
+     * Alerts of the live service name the replay that reproduces them from the topic
+     * ({@code oddswatch replay --config DEF --topic T ...}), unless the caller set a hint.
+     */
+    private static PipelineSettings withTopicHint(PipelineSettings settings, MonitorConfig config, String topic) {
+        ReplayHint hint = settings.replayHint();
+        if (hint != null && (hint.configPath() != null || hint.inputFile() != null || hint.topic() != null)) {
+            return settings;
+        }
+        return settings.withReplayHint(new ReplayHint(config.file(), null, topic));
     }
 
     /** Starts the poll loop thread. */
