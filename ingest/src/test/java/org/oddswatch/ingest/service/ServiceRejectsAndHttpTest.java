@@ -204,6 +204,33 @@ class ServiceRejectsAndHttpTest {
         }
     }
 
+    @Test
+    void interimEstimatesOfOpenWindowsAppearOnTheRefreshInterval() throws Exception {
+        String prefix = "interim";
+        createTopics(prefix);
+        List<TestFeed.Event> events = TestFeed.events(9, 400, Instant.parse("2026-01-05T00:00:00Z"),
+                Duration.ofDays(50), Duration.ofHours(6), "north", "south");
+        ServiceTestSupport.produce(KAFKA, prefix + "-tests", events, false);
+        MonitorConfig config = TestDefinitions.config(definition(prefix).replace("refresh: PT1H", "refresh: PT1S"));
+        try (MonitorService service = new MonitorService(config, new PrometheusMeterRegistry(PrometheusConfig.DEFAULT),
+                "interim").start()) {
+            ServiceTestSupport.awaitTrue("interim estimates of both streams", WAIT, () -> {
+                long streams = ServiceTestSupport.values(KAFKA, prefix + "-estimates").stream()
+                        .filter(e -> e.path("status").asText().equals("interim"))
+                        .map(e -> e.path("stream").asText()).distinct().count();
+                return streams == 2;
+            });
+        }
+        Instant last = events.get(events.size() - 1).time();
+        for (JsonNode e : ServiceTestSupport.values(KAFKA, prefix + "-estimates")) {
+            if (e.path("status").asText().equals("interim")) {
+                // The open window: it ends after the newest event (minus the allowed lateness).
+                assertTrue(Instant.parse(e.path("windowEnd").asText()).isAfter(last.minus(Duration.ofDays(2))), e.toString());
+                assertTrue(e.path("events").asLong() > 0);
+            }
+        }
+    }
+
     // Source: Prometheus text exposition format 0.0.4 (prometheus.io/docs/instrumenting/exposition_formats/):
     // "# HELP"/"# TYPE" comment lines, and samples "name{label="value",...} number" (from memory).
     private static final Pattern SAMPLE = Pattern.compile(
