@@ -88,6 +88,9 @@ public final class OddsRatioDriftRule implements WindowRule {
         if (refusal == null && (now == null || now.se() == null || !Double.isFinite(now.se()) || !(now.se() > 0))) {
             refusal = "no standard error for " + w.subject().label();
         }
+        if (refusal == null && !(Double.isFinite(bBase) && Double.isFinite(seBase))) {
+            refusal = "the baseline has no usable coefficient for " + w.subject().label();
+        }
         if (refusal != null) {
             return new Reading(NAME, w.subject(), Zone.UNKNOWN, 0, w.consecutive(), w.clearAfter(), e.windowStart(),
                     e.windowEnd(), null, Math.exp(bBase), w.limit(), w.clearLimit(), null, events, refusal);

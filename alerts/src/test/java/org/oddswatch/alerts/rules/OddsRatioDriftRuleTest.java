@@ -147,6 +147,20 @@ class OddsRatioDriftRuleTest {
     }
 
     @Test
+    void droppedColumnsSayNothing() {
+        AlertEngine e = engine(drift(null, null, null, null), null);
+        // the window dropped the column (no standard error)
+        assertEquals("-", stateOf(e, Fixtures.window(0, 3.0, Double.NaN)));
+        // the baseline has a NaN variance for it
+        var broken = new org.oddswatch.estimator.calibration.BaselineModel(Fixtures.columns(),
+                new double[] {-3.0, 0.7, 0.1}, new double[][] {{0.0025, 0, 0}, {0, Double.NaN, 0}, {0, 0, 0.0004}},
+                "2026-01-05T00:00:00Z", "2026-03-30T00:00:00Z", 24000, 1210, null);
+        AlertEngine b = new AlertEngine(Fixtures.STREAM, new AlertRulesConfig(null, drift(null, null, null, null), null,
+                null, null), broken, null);
+        assertEquals("-", stateOf(b, windowWithZ(0, 8.0)));
+    }
+
+    @Test
     void interimAndBaselinePeriodWindowsAreIgnored() {
         AlertEngine e = engine(drift(null, null, null, null), null);
         var w = windowWithZ(0, 5.0);
