@@ -117,13 +117,39 @@ final class SimulateCommand implements Callable<Integer> {
         return n;
     }
 
+    /** Fails with one clear line when the broker cannot be reached or the topic does not exist. */
+    private static void requireTopic(java.util.Properties props, String topic) throws InterruptedException {
+        java.util.Properties adminProps = new java.util.Properties();
+        adminProps.putAll(props);
+        adminProps.putIfAbsent("default.api.timeout.ms", "15000");
+        adminProps.putIfAbsent("request.timeout.ms", "10000");
+        org.apache.kafka.clients.admin.Admin admin = org.apache.kafka.clients.admin.Admin.create(adminProps);
+        try {
+            java.util.Set<String> names = admin.listTopics().names().get(20, java.util.concurrent.TimeUnit.SECONDS);
+            if (!names.contains(topic)) {
+                throw UserError.config("topic '" + topic + "' does not exist at " + props.get("bootstrap.servers")
+                        + "; create it first (see deploy/OPERATIONS.md, section 1)");
+            }
+        } catch (java.util.concurrent.ExecutionException e) {
+            throw UserError.runtime("cannot reach Kafka at " + props.get("bootstrap.servers") + " ("
+                    + e.getCause().getMessage() + ")", e);
+        } catch (java.util.concurrent.TimeoutException e) {
+            throw UserError.runtime("cannot reach Kafka at " + props.get("bootstrap.servers")
+                    + " (no answer within 20 s)", e);
+        } finally {
+            admin.close(java.time.Duration.ZERO);
+        }
+    }
+
     private int toTopic(Scenario s, PrintWriter out) throws InterruptedException {
         if (speed < 0) {
             throw UserError.config("--speed must be 0 or positive, got " + speed);
         }
+        java.util.Properties props = kafka.clientProps(System.getenv());
+        requireTopic(props, target.topic);
         SimulatedClock clock = new SimulatedClock(s.options().start(), speed);
         StopSignals signals = StopSignals.install();
-        try (TopicPublisher publisher = new TopicPublisher(kafka.clientProps(System.getenv()), target.topic)) {
+        try (TopicPublisher publisher = new TopicPublisher(props, target.topic)) {
             if (clock.paced()) {
                 out.println("sending scenario " + s.name() + " to " + target.topic + " at " + speed
                         + "x real time (the span takes about " + clock.realTimeOf(span).toSeconds() + " s)");

@@ -45,6 +45,11 @@ class RunCommandIT {
         }
         Map<String, String> env = Map.of("ODDSWATCH_KAFKA_BOOTSTRAP_SERVERS", KAFKA.bootstrapServers());
 
+        JarProcess missing = JarProcess.start("simulate", "--topic", "no-such-topic", "--bootstrap",
+                KAFKA.bootstrapServers(), "--duration", "1w");
+        assertEquals(2, missing.awaitExit(Duration.ofSeconds(60)), missing.output());
+        assertTrue(missing.output().contains("topic 'no-such-topic' does not exist"), missing.output());
+
         JarProcess simulate = JarProcess.start("simulate", "--topic", INPUT, "--bootstrap", KAFKA.bootstrapServers(),
                 "--duration", "20w", "--defects", "0.01");
         assertEquals(0, simulate.awaitExit(Duration.ofSeconds(90)), simulate.output());
