@@ -11,7 +11,13 @@ import java.nio.file.Path;
 import java.time.Duration;
 import java.time.Instant;
 import java.util.Iterator;
+import java.util.Properties;
+import java.util.Set;
 import java.util.concurrent.Callable;
+import java.util.concurrent.ExecutionException;
+import java.util.concurrent.TimeUnit;
+import java.util.concurrent.TimeoutException;
+import org.apache.kafka.clients.admin.Admin;
 import org.oddswatch.deploy.feed.SimulatedClock;
 import org.oddswatch.deploy.feed.TopicPublisher;
 import org.oddswatch.deploy.scenario.Scenario;
@@ -118,26 +124,26 @@ final class SimulateCommand implements Callable<Integer> {
     }
 
     /** Fails with one clear line when the broker cannot be reached or the topic does not exist. */
-    private static void requireTopic(java.util.Properties props, String topic) throws InterruptedException {
-        java.util.Properties adminProps = new java.util.Properties();
+    private static void requireTopic(Properties props, String topic) throws InterruptedException {
+        Properties adminProps = new Properties();
         adminProps.putAll(props);
         adminProps.putIfAbsent("default.api.timeout.ms", "15000");
         adminProps.putIfAbsent("request.timeout.ms", "10000");
-        org.apache.kafka.clients.admin.Admin admin = org.apache.kafka.clients.admin.Admin.create(adminProps);
+        Admin admin = Admin.create(adminProps);
         try {
-            java.util.Set<String> names = admin.listTopics().names().get(20, java.util.concurrent.TimeUnit.SECONDS);
+            Set<String> names = admin.listTopics().names().get(20, TimeUnit.SECONDS);
             if (!names.contains(topic)) {
                 throw UserError.config("topic '" + topic + "' does not exist at " + props.get("bootstrap.servers")
                         + "; create it first (see deploy/OPERATIONS.md, section 1)");
             }
-        } catch (java.util.concurrent.ExecutionException e) {
+        } catch (ExecutionException e) {
             throw UserError.runtime("cannot reach Kafka at " + props.get("bootstrap.servers") + " ("
                     + e.getCause().getMessage() + ")", e);
-        } catch (java.util.concurrent.TimeoutException e) {
+        } catch (TimeoutException e) {
             throw UserError.runtime("cannot reach Kafka at " + props.get("bootstrap.servers")
                     + " (no answer within 20 s)", e);
         } finally {
-            admin.close(java.time.Duration.ZERO);
+            admin.close(Duration.ZERO);
         }
     }
 
@@ -145,7 +151,7 @@ final class SimulateCommand implements Callable<Integer> {
         if (speed < 0) {
             throw UserError.config("--speed must be 0 or positive, got " + speed);
         }
-        java.util.Properties props = kafka.clientProps(System.getenv());
+        Properties props = kafka.clientProps(System.getenv());
         requireTopic(props, target.topic);
         SimulatedClock clock = new SimulatedClock(s.options().start(), speed);
         StopSignals signals = StopSignals.install();

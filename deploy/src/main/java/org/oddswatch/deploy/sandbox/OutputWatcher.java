@@ -18,6 +18,7 @@ import org.apache.kafka.clients.consumer.KafkaConsumer;
 import org.apache.kafka.common.TopicPartition;
 import org.apache.kafka.common.errors.WakeupException;
 import org.apache.kafka.common.serialization.ByteArrayDeserializer;
+import org.apache.kafka.common.serialization.StringDeserializer;
 import org.oddswatch.alerts.json.Json;
 
 /**
@@ -55,7 +56,7 @@ public final class OutputWatcher implements AutoCloseable {
         props.putAll(clientProps);
         props.put(ConsumerConfig.ENABLE_AUTO_COMMIT_CONFIG, "false");
         props.put(ConsumerConfig.CLIENT_ID_CONFIG, "oddswatch-sandbox-view");
-        this.consumer = new KafkaConsumer<>(props, new org.apache.kafka.common.serialization.StringDeserializer(),
+        this.consumer = new KafkaConsumer<>(props, new StringDeserializer(),
                 new ByteArrayDeserializer());
         this.estimateTopics = Set.copyOf(estimateTopics);
         this.alertTopics = Set.copyOf(alertTopics);

@@ -10,6 +10,7 @@ import java.time.Instant;
 import java.util.ArrayList;
 import java.util.HashMap;
 import java.util.HashSet;
+import java.util.Iterator;
 import java.util.LinkedHashSet;
 import java.util.List;
 import java.util.Map;
@@ -18,7 +19,6 @@ import java.util.concurrent.atomic.AtomicBoolean;
 import java.util.concurrent.atomic.AtomicLong;
 import java.util.concurrent.atomic.AtomicReference;
 import java.util.function.BooleanSupplier;
-import java.util.function.Predicate;
 import org.oddswatch.deploy.feed.SimulatedClock;
 import org.oddswatch.deploy.feed.TopicPublisher;
 import org.oddswatch.deploy.scenario.Scenario;
@@ -237,8 +237,8 @@ public final class Sandbox {
         private void run() {
             Scenario scenario = settings.scenario();
             SimulatedClock clock = new SimulatedClock(scenario.options().start(), settings.speed());
-            java.util.Iterator<ScenarioEvent> events = scenario.iterator();
-            java.util.Iterator<ScenarioEvent> counted = new java.util.Iterator<>() {
+            Iterator<ScenarioEvent> events = scenario.iterator();
+            Iterator<ScenarioEvent> counted = new Iterator<>() {
                 @Override
                 public boolean hasNext() {
                     return events.hasNext();
@@ -271,10 +271,5 @@ public final class Sandbox {
                 thread.join(15_000);
             }
         }
-    }
-
-    /** A stopper that stops at the first raised alert matching {@code which}. */
-    public static Stopper untilAlert(Predicate<JsonNode> which) {
-        return p -> p.raisedAlerts().stream().anyMatch(which);
     }
 }
