@@ -90,7 +90,12 @@ public final class KafkaOutputPublisher implements PipelineListener, AutoCloseab
         if (failure != null) {
             throw new OutputFailedException("an output record could not be stored: " + failure.getMessage(), failure);
         }
-        producer.send(new ProducerRecord<>(topic, key, json.getBytes(StandardCharsets.UTF_8)), onSent);
+        try {
+            producer.send(new ProducerRecord<>(topic, key, json.getBytes(StandardCharsets.UTF_8)), onSent);
+        } catch (RuntimeException e) {
+            // For instance a missing output topic (metadata wait timed out) or a closed producer.
+            throw new OutputFailedException("could not send to " + topic + ": " + e.getMessage(), e);
+        }
     }
 
     private String rejectsTopic(RejectedRecord rejected) {

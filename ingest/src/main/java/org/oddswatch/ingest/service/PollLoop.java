@@ -24,10 +24,12 @@ import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 import org.oddswatch.ingest.kafka.KafkaOutputPublisher;
 import org.oddswatch.ingest.pipeline.MonitorPipeline;
+import org.oddswatch.ingest.pipeline.Outcome;
 import org.oddswatch.ingest.pipeline.OutcomeCounts;
 import org.oddswatch.ingest.pipeline.RecordOrigin;
 import org.oddswatch.ingest.pipeline.PipelineSnapshot;
 import org.oddswatch.ingest.pipeline.RecordOutcome;
+import org.oddswatch.ingest.pipeline.RejectedRecord;
 import org.oddswatch.ingest.pipeline.StreamStatus;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
@@ -53,6 +55,8 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
     private static final Duration POLL = Duration.ofMillis(100);
     private static final long SNAPSHOT_NANOS = 200_000_000L;
     private static final long IDLE_CHECK_NANOS = 1_000_000_000L;
+    /** Reason code of records the pipeline failed on (see {@link #pipelineFailed}). */
+    static final String PIPELINE_ERROR = "pipeline-error";
 
     private final MonitorConfig config;
     private final KafkaConsumer<byte[], byte[]> consumer;
@@ -110,7 +114,11 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
     /** Asks the loop to stop: it leaves poll at once, commits what is flushed and closes. */
     void stop() {
         closing = true;
-        consumer.wakeup();
+        try {
+            consumer.wakeup();
+        } catch (RuntimeException e) {
+            LOG.debug("wakeup after the consumer closed: {}", e.getMessage());
+        }
     }
 
     @Override
@@ -132,6 +140,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
                 throw e;
             }
         } finally {
+            closing = true;
             try {
                 if (!states.isEmpty()) {
                     flushAndCommit(states.keySet());
@@ -153,8 +162,15 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
             for (ConsumerRecord<byte[], byte[]> record : records.records(tp)) {
                 boolean suppress = record.offset() < state.rebuildUntil;
                 byte[] value = record.value() == null ? new byte[0] : record.value();
-                RecordOutcome outcome = state.pipeline.offer(value,
-                        new RecordOrigin(tp.topic(), tp.partition(), record.offset(), -1), suppress);
+                RecordOrigin origin = RecordOrigin.kafka(tp.topic(), tp.partition(), record.offset());
+                RecordOutcome outcome;
+                try {
+                    outcome = state.pipeline.offer(value, origin, suppress);
+                } catch (KafkaOutputPublisher.OutputFailedException e) {
+                    throw e;
+                } catch (RuntimeException e) {
+                    outcome = pipelineFailed(state, value, origin, suppress, e);
+                }
                 if (suppress) {
                     state.rebuiltRecords++;
                     meters.rebuildRecord();
@@ -165,6 +181,23 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
                 }
             }
         }
+    }
+
+    /**
+     * A record the pipeline failed on (a defect, not bad input: bad input has its reason codes) is
+     * logged, sent to rejects as {@code pipeline-error} and counted, so one record cannot stop the
+     * service or, after a restart, stop it again.
+     */
+    private RecordOutcome pipelineFailed(PartitionState state, byte[] value, RecordOrigin origin, boolean suppress,
+                                         RuntimeException e) {
+        LOG.error("the pipeline failed on {}-{}@{}; the record goes to rejects as {}", origin.topic(),
+                origin.partition(), origin.offset(), PIPELINE_ERROR, e);
+        RecordOutcome outcome = RecordOutcome.rejected(PIPELINE_ERROR, String.valueOf(e));
+        if (!suppress) {
+            publisher.onReject(new RejectedRecord(null, null, Outcome.REJECTED, PIPELINE_ERROR, String.valueOf(e),
+                    origin, value));
+        }
+        return outcome;
     }
 
     private void flushAndCommit(Collection<TopicPartition> partitions) {

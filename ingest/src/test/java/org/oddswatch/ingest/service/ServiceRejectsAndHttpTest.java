@@ -205,6 +205,36 @@ class ServiceRejectsAndHttpTest {
     }
 
     @Test
+    void whenAnOutputCannotBeStoredTheServiceStopsWithoutCommittingTheInputsBehindIt() throws Exception {
+        String prefix = "nooutput";
+        // The estimates topic is missing (and topics are not created automatically).
+        for (String t : List.of("-tests", "-rejects", "-alerts")) {
+            KAFKA.createTopic(prefix + t, 1);
+        }
+        List<TestFeed.Event> events = TestFeed.events(13, 300, Instant.parse("2026-01-05T00:00:00Z"),
+                Duration.ofDays(60), Duration.ofHours(6), "north", "south");
+        ServiceTestSupport.produce(KAFKA, prefix + "-tests", events, false);
+        MonitorConfig config = TestDefinitions.config(definition(prefix)
+                .replace("kafka:\n", "kafka:\n  max.block.ms: 2000\n"));
+        MonitorService service = new MonitorService(config, new PrometheusMeterRegistry(PrometheusConfig.DEFAULT),
+                "nooutput").start();
+        try (service) {
+            assertTrue(service.awaitStopped(WAIT), "the loop stops on the failed output");
+        }
+        assertTrue(service.failure() instanceof org.oddswatch.ingest.kafka.KafkaOutputPublisher.OutputFailedException,
+                String.valueOf(service.failure()));
+        assertFalse(service.ready());
+        try (var admin = KAFKA.admin()) {
+            var committed = admin.listConsumerGroupOffsets(prefix + "-group").partitionsToOffsetAndMetadata().get()
+                    .get(new org.apache.kafka.common.TopicPartition(prefix + "-tests", 0));
+            long done = committed == null ? 0 : committed.offset();
+            // The first final estimate comes once the watermark passes the first window end plus
+            // lateness, well before the last record: everything from its record on stays uncommitted.
+            assertTrue(done < events.size() / 2, "committed " + done + " of " + events.size());
+        }
+    }
+
+    @Test
     void interimEstimatesOfOpenWindowsAppearOnTheRefreshInterval() throws Exception {
         String prefix = "interim";
         createTopics(prefix);
