@@ -12,7 +12,8 @@ import org.apache.commons.math3.linear.RealMatrix;
  * <p>Each iteration solves {@code I_ff d = g_f} over the free coordinates f, where g is the score
  * (Firth-modified when penalized), and accepts {@code beta + t d} for the largest
  * {@code t = 1, 1/2, 1/4, ...} (at most 30 halvings) whose objective is not lower than the current
- * one; so the objective never decreases across accepted iterations. After convergence one more
+ * one; so the objective never decreases across accepted iterations. When a trial is lower only by
+ * rounding noise (relative 1e-12) halving stops, and the fit has converged if the score is small. After convergence one more
  * Newton step (the polishing step) is taken, so that the result no longer depends on the start in
  * its last digits; constrained fits (profile and LR evaluations, which only need the objective)
  * skip it.
@@ -20,6 +21,11 @@ import org.apache.commons.math3.linear.RealMatrix;
 final class NewtonEngine {
 
     private static final int MAX_HALVINGS = 30;
+    /**
+     * Relative size of rounding noise in a summed objective: a trial that is lower by less than
+     * {@code ROUNDING (|l| + 1)} counts as no change, which ends step-halving at once.
+     */
+    private static final double ROUNDING = 1e-12;
 
     private NewtonEngine() {
     }
@@ -42,10 +48,15 @@ final class NewtonEngine {
             }
             BinomialPass accepted = null;
             double t = 1;
+            double noise = ROUNDING * (Math.abs(current.objective) + 1);
             for (int h = 0; h <= MAX_HALVINGS; h++, t *= 0.5) {
                 BinomialPass trial = evaluate(problem, move(current.beta, delta, t), penalized, false);
                 if (trial.objective >= current.objective) {
                     accepted = trial;
+                    break;
+                }
+                if (current.objective - trial.objective <= noise) {
+                    // Flat to rounding: halving cannot help (and each halving costs a pass).
                     break;
                 }
             }
