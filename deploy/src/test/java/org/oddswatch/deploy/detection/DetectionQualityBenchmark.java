@@ -53,7 +53,8 @@ import org.oddswatch.ingest.pipeline.RecordOrigin;
  * ({@code oddsRatioDrift: {}}, {@code calibration: {}}, {@code cusum: {}}) with drift on the two
  * watched terms. Events: 2,000 a week (30 % household contact, about 5 % prevalence).
  *
- * <p>Replicates: {@code -Ddetection.years=N} (default 20) and {@code -Ddetection.runs=N} (default 50).
+ * <p>Replicates: {@code -Ddetection.years=N} (default 50) and {@code -Ddetection.runs=N} (default 100); the seeds are fixed, so the defaults
+ * reproduce the figures in alerts/README.md exactly.
  * Results go to {@code deploy/target/detection.md}. Run with {@code mvn -B -Pbench -pl deploy verify}.
  */
 @Tag("benchmark")
@@ -64,8 +65,8 @@ class DetectionQualityBenchmark {
     private static final int BASELINE_WEEKS = Scenario.BASELINE_WEEKS;
     private static final int CHANGE_WEEK = BASELINE_WEEKS + 8;
     private static final int FOLLOW_WEEKS = 8;
-    private static final int YEARS = Integer.getInteger("detection.years", 20);
-    private static final int RUNS = Integer.getInteger("detection.runs", 50);
+    private static final int YEARS = Integer.getInteger("detection.years", 50);
+    private static final int RUNS = Integer.getInteger("detection.runs", 100);
     private static final Map<String, String> RESULTS = new TreeMap<>();
     private static final Map<String, Map<String, Integer>> FIT_STATES = new TreeMap<>();
 
