@@ -53,8 +53,9 @@ import org.oddswatch.ingest.pipeline.RecordOrigin;
  * ({@code oddsRatioDrift: {}}, {@code calibration: {}}, {@code cusum: {}}) with drift on the two
  * watched terms. Events: 2,000 a week (30 % household contact, about 5 % prevalence).
  *
- * <p>Replicates: {@code -Ddetection.years=N} (default 50) and {@code -Ddetection.runs=N} (default 100); the seeds are fixed, so the defaults
- * reproduce the figures in alerts/README.md exactly.
+ * <p>Replicates: {@code -Ddetection.years=N} (default 50) and {@code -Ddetection.runs=N} (default 100).
+ * The seeds are fixed, so with unchanged estimator and pipeline code the defaults reproduce the
+ * figures in alerts/README.md.
  * Results go to {@code deploy/target/detection.md}. Run with {@code mvn -B -Pbench -pl deploy verify}.
  */
 @Tag("benchmark")
