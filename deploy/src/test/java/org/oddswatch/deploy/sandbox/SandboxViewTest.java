@@ -1,0 +1,82 @@
+package org.oddswatch.deploy.sandbox;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import java.io.IOException;
+import java.time.Instant;
+import java.util.List;
+import java.util.Map;
+import java.util.Set;
+import org.junit.jupiter.api.Test;
+import org.oddswatch.alerts.json.Json;
+import org.oddswatch.deploy.scenario.Scenario;
+import org.oddswatch.deploy.scenario.ScenarioOptions;
+import org.oddswatch.ingest.pipeline.OutcomeCounts;
+
+/** The sandbox's text from published JSON: estimates, the true values beside them, alerts, counts. */
+class SandboxViewTest {
+
+    private final SandboxView view = new SandboxView(Scenario.respiratory(ScenarioOptions.defaults()), 300000,
+            Map.of("respiratory", Set.of("household_contact")));
+
+    private static JsonNode estimate(String end, String status) throws IOException {
+        return Json.mapper().readTree("{\"stream\":\"respiratory\",\"windowStart\":\"2026-03-30T00:00:00Z\","
+                + "\"windowEnd\":\"" + end + "\",\"status\":\"" + status + "\",\"events\":8033,\"cases\":419,"
+                + "\"prevalence\":{\"value\":0.0522,\"lower\":0.0475,\"upper\":0.0572,\"method\":\"wilson\"},"
+                + "\"fit\":{\"state\":\"converged\",\"method\":\"newton\"},\"coefficients\":["
+                + "{\"term\":\"intercept\",\"coef\":-3.1},"
+                + "{\"term\":\"household_contact\",\"level\":\"yes\",\"reference\":\"no\",\"coef\":0.875,"
+                + "\"oddsRatio\":2.40,\"lower\":1.97,\"upper\":2.93,\"interval\":\"wald\"},"
+                + "{\"term\":\"recent_travel\",\"level\":\"yes\",\"coef\":0.6,\"oddsRatio\":1.86,\"lower\":1.4,\"upper\":2.4}]}");
+    }
+
+    @Test
+    void finalLineShowsPrevalenceAndWatchedOddsRatiosWithTheTruthInForceAtTheWindowsLastInstant() throws IOException {
+        // the doubling takes effect at 2026-04-27T00:00Z, the exclusive end of this window: truth still 2.5
+        String line = view.finalLine(estimate("2026-04-27T00:00:00Z", "final"));
+        assertEquals("final    respiratory 2026-03-30 to 04-27 final events 8033 cases 419 prevalence 0.0522 (0.0475-0.0572)"
+                + " | household_contact=yes odds ratio 2.40 (1.97-2.93) true value at window end 2.50", line);
+        // a week later the window's last instant lies after the change: truth 5.0; unwatched terms are not shown
+        String later = view.finalLine(estimate("2026-05-04T00:00:00Z", "final"));
+        assertTrue(later.endsWith("true value at window end 5.00"), later);
+        assertTrue(!later.contains("recent_travel"), later);
+    }
+
+    @Test
+    void alertLinesNameStateStreamRuleSubjectWindowAndEvidence() throws IOException {
+        JsonNode drift = Json.mapper().readTree("{\"id\":\"a1\",\"stream\":\"respiratory\",\"rule\":\"odds-ratio-drift\","
+                + "\"subject\":{\"term\":\"household_contact\",\"level\":\"yes\"},\"state\":\"raised\","
+                + "\"windowStart\":\"2026-04-06T00:00:00Z\",\"windowEnd\":\"2026-05-04T00:00:00Z\",\"observed\":3.32,"
+                + "\"baseline\":2.32,\"limit\":3.0,\"evidence\":{\"z\":3.14},\"events\":8038}");
+        assertEquals("RAISED     respiratory odds-ratio-drift household_contact=yes, window ending 2026-05-04: "
+                + "observed 3.32 vs baseline 2.32, z 3.14", view.alert(drift));
+        JsonNode calibration = Json.mapper().readTree("{\"stream\":\"respiratory\",\"rule\":\"calibration\","
+                + "\"subject\":{\"term\":\"calibration\"},\"state\":\"cleared\",\"windowEnd\":\"2026-06-01T00:00:00Z\","
+                + "\"observed\":0.2,\"limit\":0.0001,\"evidence\":{}}");
+        assertEquals("CLEARED    respiratory calibration, window ending 2026-06-01: observed 0.200 (limit 0.000100)",
+                view.alert(calibration));
+    }
+
+    @Test
+    void screenHasCountsStreamsAlertsAndTheCaution() throws IOException {
+        OutcomeCounts.Snapshot counts = new OutcomeCounts.Snapshot(110,
+                Map.of("accepted", 100L, "rejected", 6L, "late", 3L, "duplicate", 1L),
+                Map.of("bad-time", 6L, "late", 3L, "duplicate", 1L));
+        SandboxView.Frame frame = new SandboxView.Frame("127.0.0.1:9", "127.0.0.1:8470", "ready",
+                Instant.parse("2026-05-06T12:00:00Z"), 110, false, counts,
+                List.of(new OutputWatcher.StreamView("respiratory", estimate("2026-04-27T00:00:00Z", "final"),
+                        estimate("2026-05-04T00:00:00Z", "interim"))), List.of());
+        List<String> lines = view.screen(frame);
+        String text = String.join("\n", lines);
+        assertTrue(text.contains("simulated time 2026-05-06 (week 17)"), text);
+        assertTrue(text.contains("records  consumed 110: accepted 100, rejected 6, late 3, duplicate 1"), text);
+        assertTrue(text.contains("by reason: bad-time 6, duplicate 1, late 3"), text);
+        assertTrue(text.contains("2026-03-30 to 04-27 final"), text);
+        assertTrue(text.contains("2026-03-30 to 05-04 open"), text);
+        assertTrue(text.contains("ALERTS (newest first): none so far"), text);
+        assertTrue(lines.get(lines.size() - 1).startsWith("A signal calls for investigation; it is not a diagnosis"),
+                text);
+    }
+}
