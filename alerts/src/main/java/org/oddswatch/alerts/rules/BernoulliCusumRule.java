@@ -4,6 +4,7 @@ import java.time.Instant;
 import java.util.ArrayList;
 import java.util.Comparator;
 import java.util.List;
+import java.util.PriorityQueue;
 import org.oddswatch.alerts.engine.AlertRulesConfig.Cusum;
 import org.oddswatch.alerts.engine.AlertRulesConfig.TermLimits;
 import org.oddswatch.alerts.lifecycle.AlertSubject;
@@ -44,7 +45,8 @@ public final class BernoulliCusumRule {
     private final long clearAfterEvents;
     private final long minEvents;
     private final List<Chart> charts = new ArrayList<>();
-    private final List<Pending> pending = new ArrayList<>();
+    private final PriorityQueue<Pending> pending = new PriorityQueue<>(
+            Comparator.comparingLong(Pending::time).thenComparing(Pending::id));
 
     public BernoulliCusumRule(Cusum settings, InformationGuard guard, BaselineModel baseline) {
         this.baseline = baseline;
@@ -83,16 +85,9 @@ public final class BernoulliCusumRule {
 
     /** Processes every buffered event with time before {@code closedBeforeMillis}; readings in event order. */
     public List<Reading> close(long closedBeforeMillis) {
-        List<Pending> ready = new ArrayList<>();
-        List<Pending> keep = new ArrayList<>();
-        for (Pending p : pending) {
-            (p.time < closedBeforeMillis ? ready : keep).add(p);
-        }
-        pending.clear();
-        pending.addAll(keep);
-        ready.sort(Comparator.comparingLong(Pending::time).thenComparing(Pending::id));
         List<Reading> out = new ArrayList<>();
-        for (Pending p : ready) {
+        while (!pending.isEmpty() && pending.peek().time < closedBeforeMillis) {
+            Pending p = pending.poll();
             double risk = baseline.risk(p.row);
             if (!(risk > 0 && risk < 1)) {
                 continue;
