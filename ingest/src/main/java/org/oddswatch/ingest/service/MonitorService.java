@@ -72,8 +72,13 @@ public final class MonitorService implements AutoCloseable {
                           String instance, Duration commitInterval, LongSupplier wallClockMillis) {
         KafkaClientSettings settings = new KafkaClientSettings(config.kafka());
         Properties consumerProps = settings.consumer(config.service().groupId(), "oddswatch-" + instance);
-        consumerProps.putIfAbsent(ConsumerConfig.PARTITION_ASSIGNMENT_STRATEGY_CONFIG,
-                CooperativeStickyAssignor.class.getName());
+        boolean classicProtocol = !"consumer".equalsIgnoreCase(
+                String.valueOf(consumerProps.getOrDefault(ConsumerConfig.GROUP_PROTOCOL_CONFIG, "classic")));
+        if (classicProtocol) {
+            // (With group.protocol=consumer the broker assigns partitions; no client-side assignor.)
+            consumerProps.putIfAbsent(ConsumerConfig.PARTITION_ASSIGNMENT_STRATEGY_CONFIG,
+                    CooperativeStickyAssignor.class.getName());
+        }
         consumerProps.putIfAbsent(ConsumerConfig.MAX_POLL_RECORDS_CONFIG, "2000");
         // Larger fetches per partition: one stream's events come from one partition, so fewer round
         // trips while the poll thread is busy decoding (measured in IngestThroughputBenchmark).

@@ -16,6 +16,8 @@ import java.util.TreeSet;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.extension.RegisterExtension;
+import org.junit.jupiter.params.ParameterizedTest;
+import org.junit.jupiter.params.provider.ValueSource;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.kafka.EmbeddedKafka;
 import org.oddswatch.ingest.pipeline.Outcome;
@@ -89,14 +91,18 @@ class ServiceRecoveryTest {
         assertSameFinals(expected, ServiceTestSupport.finals(KAFKA, prefix + "-estimates"));
     }
 
-    @Test
-    void whenOneOfTwoInstancesStopsTheOtherTakesOverWithTheSameResults() throws Exception {
-        Map<String, String> expected = uninterrupted("pair-ref", 4);
+    /** Under the classic group protocol (cooperative-sticky assignor) and the KIP-848 consumer protocol. */
+    @ParameterizedTest
+    @ValueSource(strings = {"classic", "consumer"})
+    void whenOneOfTwoInstancesStopsTheOtherTakesOverWithTheSameResults(String protocol) throws Exception {
+        Map<String, String> expected = uninterrupted("pair-ref-" + protocol, 4);
 
-        String prefix = "pair";
+        String prefix = "pair-" + protocol;
         String input = prefix + "-tests";
         createTopics(prefix, input, 4);
-        MonitorConfig config = config(input, prefix, prefix + "-group");
+        MonitorConfig config = TestDefinitions.config(TestDefinitions.yaml(KAFKA.bootstrapServers(), input, prefix,
+                prefix + "-group", 8, NEVER).replace("  bootstrap.servers:", "  group.protocol: " + protocol
+                + "\n  bootstrap.servers:"));
         int half = events.size() / 2;
         ServiceTestSupport.produce(KAFKA, input, events.subList(0, half), true, true);
         try (MonitorService a = new MonitorService(config, new SimpleMeterRegistry(), "a").start()) {
