@@ -81,7 +81,7 @@ public final class MonitorService implements AutoCloseable {
         }
         consumerProps.putIfAbsent(ConsumerConfig.MAX_POLL_RECORDS_CONFIG, "2000");
         // Larger fetches per partition: one stream's events come from one partition, so fewer round
-        // trips while the poll thread is busy decoding (measured in IngestThroughputBenchmark).
+        // trips while the poll thread is busy decoding (measured in IngestThroughputBenchmarkTest).
         consumerProps.putIfAbsent(ConsumerConfig.MAX_PARTITION_FETCH_BYTES_CONFIG, Integer.toString(4 << 20));
         boolean latest = "latest".equals(String.valueOf(consumerProps.get(ConsumerConfig.AUTO_OFFSET_RESET_CONFIG))
                 .toLowerCase(Locale.ROOT));

@@ -42,7 +42,7 @@ import org.oddswatch.ingest.replay.ReplaySummary;
  * {@code target/benchmark-ingest.md}. Broker, producer and consumer share the machine's cores.
  */
 @Tag("benchmark")
-class IngestThroughputBenchmark {
+class IngestThroughputBenchmarkTest {
 
     @RegisterExtension
     static final EmbeddedKafka KAFKA = new EmbeddedKafka();
