@@ -139,6 +139,35 @@ class ServiceRecoveryTest {
     }
 
     @Test
+    void aNewGroupStartingAtTheLatestOffsetRebuildsFromTheWallClockAndEmitsOnlyNewFinals() throws Exception {
+        Map<String, String> reference = uninterrupted("latest-ref", 3);
+
+        String prefix = "latest";
+        String input = prefix + "-tests";
+        createTopics(prefix, input, 3);
+        int half = events.size() / 2;
+        // Stamped now (producer clock): the wall-clock look-back reaches every record of the first half.
+        ServiceTestSupport.produce(KAFKA, input, events.subList(0, half), true, false);
+        MonitorConfig config = TestDefinitions.config(TestDefinitions.yaml(KAFKA.bootstrapServers(), input, prefix,
+                prefix + "-group", 8, NEVER).replace("  bootstrap.servers:", "  auto.offset.reset: latest\n  bootstrap.servers:"));
+        MeterRegistry registry = new SimpleMeterRegistry();
+        MonitorService service = new MonitorService(config, registry, "latest").start();
+        try (service) {
+            ServiceTestSupport.awaitTrue("ready", WAIT, service::ready);
+            assertEquals(half, registry.get("oddswatch.service.records").tag("phase", "rebuild").counter().count(),
+                    "the first half is re-read as state only");
+            ServiceTestSupport.produce(KAFKA, input, events.subList(half, events.size()), true, false);
+            ServiceTestSupport.awaitCommitted(KAFKA, prefix + "-group", input, WAIT);
+        }
+        assertEquals(events.size() - half, service.status().counts().consumed(), "only the second half is live");
+        Map<String, String> finals = ServiceTestSupport.finals(KAFKA, prefix + "-estimates");
+        assertTrue(finals.size() > 20 && finals.size() < reference.size(), "finals after the start only: " + finals.size());
+        for (Map.Entry<String, String> e : finals.entrySet()) {
+            assertEquals(reference.get(e.getKey()), e.getValue(), "estimate " + e.getKey());
+        }
+    }
+
+    @Test
     void aRestartDuringAnOpenAlertEpisodeNeitherForgetsNorRepeatsIt() throws Exception {
         // One stream; fixed baseline period of eight weeks; from April the household-contact odds
         // ratio rises by exp(1.5), about 4.5 times, and stays up.
