@@ -1,7 +1,8 @@
 package org.oddswatch.estimator.fit;
 
 /**
- * One pass over the grouped rows at a coefficient vector: the binomial log-likelihood, the score
+ * One pass over the grouped rows at a coefficient vector (row by row, or summed per
+ * {@link IndicatorGroups indicator group} when the design allows): the binomial log-likelihood, the score
  * {@code U = X'(y - n mu)} and the information {@code I = X' diag(n mu (1-mu)) X}; for Firth fits a
  * second pass adds the hat-value correction {@code sum_i x_i h_i (1/2 - mu_i)} to the score, with
  * {@code h_i = w_i x_i' I^-1 x_i}. This is the hot loop: flat arrays, indexed loops, zero design
@@ -34,10 +35,14 @@ final class BinomialPass {
     }
 
     /** Evaluates the likelihood quantities at {@code beta} (kept, not copied). */
-    static BinomialPass at(FitProblem problem, double[] beta, boolean penalized) {
+    static BinomialPass at(FitProblem problem, IndicatorGroups groups, double[] beta, boolean penalized) {
         int p = problem.columns();
         BinomialPass pass = new BinomialPass(p, beta);
-        pass.accumulate(problem);
+        if (groups == null) {
+            pass.accumulate(problem);
+        } else {
+            pass.accumulateGrouped(problem, groups);
+        }
         double[] f = pass.information.clone();
         if (DenseCholesky.decompose(f, p)) {
             pass.factor = f;
@@ -109,6 +114,104 @@ final class BinomialPass {
         }
         logLikelihood = ll;
         maxAbsEta = etaMax;
+    }
+
+    /** The same quantities as {@link #accumulate}, summed per indicator group first. */
+    private void accumulateGrouped(FitProblem problem, IndicatorGroups groups) {
+        final int n = problem.rows();
+        final int q = groups.q;
+        final int gCount = groups.groupCount;
+        final int[] group = groups.group;
+        final double[] z = groups.z;
+        final double[] trials = problem.trials();
+        final double[] positives = problem.positives();
+        final double[] offset = problem.offset();
+        final double[] etaGroup = new double[gCount];
+        for (int g = 0; g < gCount; g++) {
+            double s = 0;
+            for (int j : groups.members[g]) {
+                s += beta[j];
+            }
+            etaGroup[g] = s;
+        }
+        final double[] bq = new double[q];
+        for (int a = 0; a < q; a++) {
+            bq[a] = beta[groups.numericColumns[a]];
+        }
+        final double[] sw = new double[gCount];
+        final double[] sr = new double[gCount];
+        final double[] swz = new double[gCount * q];
+        final double[] srz = new double[gCount * q];
+        final double[] swzz = new double[gCount * q * q];
+        double ll = 0;
+        double etaMax = 0;
+        for (int i = 0; i < n; i++) {
+            final double t = trials[i];
+            if (t == 0) {
+                continue;
+            }
+            final int g = group[i];
+            final int zb = i * q;
+            double eta = (offset == null ? 0 : offset[i]) + etaGroup[g];
+            for (int a = 0; a < q; a++) {
+                eta += z[zb + a] * bq[a];
+            }
+            final double e = Math.exp(-Math.abs(eta));
+            final double mu = eta >= 0 ? 1 / (1 + e) : e / (1 + e);
+            final double y = positives[i];
+            ll += y * eta - t * (Math.max(eta, 0) + Math.log(1 + e));
+            final double w = t * e / ((1 + e) * (1 + e));
+            final double r = y - t * mu;
+            if (Math.abs(eta) > etaMax) {
+                etaMax = Math.abs(eta);
+            }
+            sw[g] += w;
+            sr[g] += r;
+            final int gb = g * q;
+            for (int a = 0; a < q; a++) {
+                final double za = z[zb + a];
+                swz[gb + a] += w * za;
+                srz[gb + a] += r * za;
+                final double wz = w * za;
+                final int zz = (gb + a) * q;
+                for (int b = a; b < q; b++) {
+                    swzz[zz + b] += wz * z[zb + b];
+                }
+            }
+        }
+        final double[] u = score;
+        final double[] info = information;
+        final int[] num = groups.numericColumns;
+        for (int g = 0; g < gCount; g++) {
+            final int[] m = groups.members[g];
+            final int gb = g * q;
+            for (int a = 0; a < m.length; a++) {
+                u[m[a]] += sr[g];
+                for (int b = a; b < m.length; b++) {
+                    info[m[a] * p + m[b]] += sw[g];
+                }
+                for (int c = 0; c < q; c++) {
+                    addUpper(info, m[a], num[c], swz[gb + c]);
+                }
+            }
+            for (int c = 0; c < q; c++) {
+                u[num[c]] += srz[gb + c];
+                for (int d = c; d < q; d++) {
+                    addUpper(info, num[c], num[d], swzz[(gb + c) * q + d]);
+                }
+            }
+        }
+        for (int j = 0; j < p; j++) {
+            for (int k = 0; k < j; k++) {
+                info[j * p + k] = info[k * p + j];
+            }
+        }
+        logLikelihood = ll;
+        maxAbsEta = etaMax;
+    }
+
+    private void addUpper(double[] info, int j, int k, double v) {
+        info[Math.min(j, k) * p + Math.max(j, k)] += v;
     }
 
     /** Adds Firth's correction to the score: {@code sum_i x_i h_i (1/2 - mu_i)}. Needs the factor. */

@@ -31,24 +31,32 @@ final class FitDriver {
      */
     static FitResult fitFullRank(FitProblem work, double[] warm, boolean[] fixed, FitControl control,
                                  boolean penalized) {
+        return fitFullRank(work, IndicatorGroups.of(work), warm, fixed, control, penalized);
+    }
+
+    /** As above, with the problem's indicator grouping (or null) already computed. */
+    static FitResult fitFullRank(FitProblem work, IndicatorGroups groups, double[] warm, boolean[] fixed,
+                                 FitControl control, boolean penalized) {
         boolean usable = warm != null && allFinite(warm);
         if (usable && fixed == null) {
-            FitResult first = NewtonEngine.run(work, warm, null, penalized, control, true);
+            FitResult first = NewtonEngine.run(work, groups, warm, null, penalized, control, true);
             if (first.converged()) {
                 return first;
             }
-            FitResult cold = NewtonEngine.run(work, coldStart(work, null, null), null, penalized, control, false);
+            FitResult cold = NewtonEngine.run(work, groups, coldStart(work, null, null), null, penalized, control,
+                    false);
             return cold.converged() || cold.objective() > first.objective() ? cold : first;
         }
         if (fixed != null) {
-            FitResult first = NewtonEngine.run(work, warm, fixed, penalized, control, true);
+            FitResult first = NewtonEngine.run(work, groups, warm, fixed, penalized, control, true);
             if (first.converged()) {
                 return first;
             }
-            FitResult cold = NewtonEngine.run(work, coldStart(work, fixed, warm), fixed, penalized, control, false);
+            FitResult cold = NewtonEngine.run(work, groups, coldStart(work, fixed, warm), fixed, penalized, control,
+                    false);
             return cold.converged() || cold.objective() > first.objective() ? cold : first;
         }
-        return NewtonEngine.run(work, coldStart(work, null, null), null, penalized, control, false);
+        return NewtonEngine.run(work, groups, coldStart(work, null, null), null, penalized, control, false);
     }
 
     /**

@@ -32,9 +32,14 @@ final class NewtonEngine {
 
     static FitResult run(FitProblem problem, double[] start, boolean[] fixed, boolean penalized, FitControl control,
                          boolean warm) {
+        return run(problem, IndicatorGroups.of(problem), start, fixed, penalized, control, warm);
+    }
+
+    static FitResult run(FitProblem problem, IndicatorGroups groups, double[] start, boolean[] fixed,
+                         boolean penalized, FitControl control, boolean warm) {
         final int p = problem.columns();
         double[] trace = new double[control.maxIterations() + 1];
-        BinomialPass current = evaluate(problem, start.clone(), penalized, true);
+        BinomialPass current = evaluate(problem, groups, start.clone(), penalized, true);
         trace[0] = current.objective;
         int iterations = 0;
         boolean converged = false;
@@ -50,7 +55,7 @@ final class NewtonEngine {
             double t = 1;
             double noise = ROUNDING * (Math.abs(current.objective) + 1);
             for (int h = 0; h <= MAX_HALVINGS; h++, t *= 0.5) {
-                BinomialPass trial = evaluate(problem, move(current.beta, delta, t), penalized, false);
+                BinomialPass trial = evaluate(problem, groups, move(current.beta, delta, t), penalized, false);
                 if (trial.objective >= current.objective) {
                     accepted = trial;
                     break;
@@ -75,23 +80,25 @@ final class NewtonEngine {
             }
         }
         if (converged && fixed == null) {
-            current = polish(problem, current, fixed, penalized);
+            current = polish(problem, groups, current, fixed, penalized);
         }
         return result(problem, current, iterations, converged, warm, penalized, fixed, trace, iterations + 1);
     }
 
-    private static BinomialPass polish(FitProblem problem, BinomialPass current, boolean[] fixed, boolean penalized) {
+    private static BinomialPass polish(FitProblem problem, IndicatorGroups groups, BinomialPass current,
+                                       boolean[] fixed, boolean penalized) {
         double[] delta = step(current, fixed);
         if (delta == null) {
             return current;
         }
-        BinomialPass polished = evaluate(problem, move(current.beta, delta, 1), penalized, true);
+        BinomialPass polished = evaluate(problem, groups, move(current.beta, delta, 1), penalized, true);
         double slack = 1e-10 * (Math.abs(current.objective) + 1);
         return polished.objective >= current.objective - slack ? polished : current;
     }
 
-    private static BinomialPass evaluate(FitProblem problem, double[] beta, boolean penalized, boolean complete) {
-        BinomialPass pass = BinomialPass.at(problem, beta, penalized);
+    private static BinomialPass evaluate(FitProblem problem, IndicatorGroups groups, double[] beta, boolean penalized,
+                                         boolean complete) {
+        BinomialPass pass = BinomialPass.at(problem, groups, beta, penalized);
         if (complete) {
             finish(problem, pass, penalized);
         }

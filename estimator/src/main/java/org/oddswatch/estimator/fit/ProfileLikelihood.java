@@ -103,6 +103,7 @@ public final class ProfileLikelihood {
         private final FitControl control;
         private final boolean penalized;
         private final boolean[] fixed;
+        private final IndicatorGroups groups;
         private double[] start;
         private double slope;
 
@@ -114,6 +115,7 @@ public final class ProfileLikelihood {
             this.penalized = fit.method() == FitMethod.FIRTH;
             this.fixed = new boolean[problem.columns()];
             this.fixed[j] = true;
+            this.groups = IndicatorGroups.of(problem);
         }
 
         double estimate() {
@@ -128,7 +130,7 @@ public final class ProfileLikelihood {
         double drop(double c) {
             double[] s = start.clone();
             s[j] = c;
-            FitResult constrained = FitDriver.fitFullRank(problem, s, fixed, control, penalized);
+            FitResult constrained = FitDriver.fitFullRank(problem, groups, s, fixed, control, penalized);
             if (!constrained.converged()) {
                 return Double.NaN;
             }

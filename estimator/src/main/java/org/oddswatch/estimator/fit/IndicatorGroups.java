@@ -1,0 +1,108 @@
+package org.oddswatch.estimator.fit;
+
+import java.util.HashMap;
+import java.util.Map;
+
+/**
+ * The rows of a problem grouped by their pattern of 0/1 columns, with the remaining (numeric)
+ * columns kept per row. Within a group every 0/1 column is constant, so the information matrix
+ * needs per row only {@code sum w}, {@code sum w z_a} and {@code sum w z_a z_b} over the q numeric
+ * columns, and the score only {@code sum r} and {@code sum r z_a}; the pattern part is added once
+ * per group. This turns the per-row cost from p(p+1)/2 products into (q+1)(q+2)/2.
+ *
+ * <p>Used when every column but at most {@link #MAX_NUMERIC} holds only 0 and 1 (the intercept
+ * counts as such a column), there are at most 64 such columns and at most {@link #MAX_GROUPS}
+ * groups. Group numbers follow first appearance in row order, so the decision and the arithmetic
+ * depend only on the data.
+ */
+final class IndicatorGroups {
+
+    static final int MAX_NUMERIC = 4;
+    static final int MAX_GROUPS = 4096;
+
+    final int q;
+    final int groupCount;
+    final int[] numericColumns;
+    final int[] group;
+    final double[] z;
+    final int[][] members;
+
+    private IndicatorGroups(int q, int groupCount, int[] numericColumns, int[] group, double[] z, int[][] members) {
+        this.q = q;
+        this.groupCount = groupCount;
+        this.numericColumns = numericColumns;
+        this.group = group;
+        this.z = z;
+        this.members = members;
+    }
+
+    /** The grouping of {@code problem}, or null when the problem does not qualify. */
+    static IndicatorGroups of(FitProblem problem) {
+        int p = problem.columns();
+        int n = problem.rows();
+        double[] x = problem.x();
+        boolean[] binary = new boolean[p];
+        java.util.Arrays.fill(binary, true);
+        for (int k = 0; k < x.length; k++) {
+            double v = x[k];
+            if (v != 0 && v != 1) {
+                binary[k % p] = false;
+            }
+        }
+        int q = 0;
+        for (boolean b : binary) {
+            if (!b) {
+                q++;
+            }
+        }
+        if (q > MAX_NUMERIC || p - q > 64) {
+            return null;
+        }
+        int[] numericColumns = new int[q];
+        int[] binaryColumns = new int[p - q];
+        for (int j = 0, a = 0, c = 0; j < p; j++) {
+            if (binary[j]) {
+                binaryColumns[c++] = j;
+            } else {
+                numericColumns[a++] = j;
+            }
+        }
+        Map<Long, Integer> ids = new HashMap<>();
+        java.util.List<Long> keys = new java.util.ArrayList<>();
+        int[] group = new int[n];
+        double[] z = new double[n * q];
+        for (int i = 0; i < n; i++) {
+            int base = i * p;
+            long key = 0;
+            for (int c = 0; c < binaryColumns.length; c++) {
+                if (x[base + binaryColumns[c]] != 0) {
+                    key |= 1L << c;
+                }
+            }
+            Integer id = ids.get(key);
+            if (id == null) {
+                if (ids.size() == MAX_GROUPS) {
+                    return null;
+                }
+                id = ids.size();
+                ids.put(key, id);
+                keys.add(key);
+            }
+            group[i] = id;
+            for (int a = 0; a < q; a++) {
+                z[i * q + a] = x[base + numericColumns[a]];
+            }
+        }
+        int[][] members = new int[keys.size()][];
+        for (int g = 0; g < keys.size(); g++) {
+            long key = keys.get(g);
+            members[g] = new int[Long.bitCount(key)];
+            for (int c = 0, m = 0; c < binaryColumns.length; c++) {
+                if ((key >>> c & 1L) != 0) {
+                    members[g][m++] = binaryColumns[c];
+                }
+            }
+        }
+        return new IndicatorGroups(q, keys.size(), numericColumns, group, z, members);
+    }
+}
