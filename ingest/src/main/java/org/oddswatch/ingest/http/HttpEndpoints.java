@@ -22,7 +22,8 @@ import org.slf4j.LoggerFactory;
  * <ul>
  *   <li>{@code GET /metrics}: Prometheus text exposition of the meter registry;</li>
  *   <li>{@code GET /health}: 200 {@code {"status":"ready"}} once state is rebuilt, otherwise 503
- *       {@code {"status":"rebuilding"}} (or {@code "stopped"} after shutdown began);</li>
+ *       {@code {"status":"rebuilding"}} (also while starting and once stopping; {@code /status}
+ *       tells these apart);</li>
  *   <li>{@code GET /status}: the JSON of the status supplier (streams, last final windows, counts, lag).</li>
  * </ul>
  * Other paths answer 404, other methods 405.
