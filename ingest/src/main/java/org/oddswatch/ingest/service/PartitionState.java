@@ -14,20 +14,17 @@ final class PartitionState {
     final MonitorPipeline pipeline;
     /** Records below this offset were processed before (by this or another instance): state only. */
     long rebuildUntil = -1;
-    /** True from assignment until the seek-back position is set. */
+    /** False from assignment until the seek-back position is set (the partition is paused meanwhile). */
     boolean planned;
     /** Offset after the last live record processed, or -1 when none since assignment. */
     long nextCommit = -1;
     long lastCommitted = -1;
+    /** When the rebuild was planned; 0 once the partition is live. */
     long rebuildStartedNanos;
     long rebuiltRecords;
 
     PartitionState(TopicPartition partition, MonitorPipeline pipeline) {
         this.partition = partition;
         this.pipeline = pipeline;
-    }
-
-    boolean rebuilding(long position) {
-        return !planned || position < rebuildUntil;
     }
 }
