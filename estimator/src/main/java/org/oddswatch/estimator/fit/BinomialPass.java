@@ -211,7 +211,7 @@ final class BinomialPass {
     }
 
     private void addUpper(double[] info, int j, int k, double v) {
-        info[Math.min(j, k) * p + Math.max(j, k)] += v;
+        IndicatorGroups.addUpper(info, p, j, k, v);
     }
 
     /** Adds Firth's correction to the score: {@code sum_i x_i h_i (1/2 - mu_i)}. Needs the factor. */

@@ -14,14 +14,16 @@ final class FitDriver {
             throw new IllegalArgumentException("start vector has " + start.length + " values for "
                     + problem.columns() + " columns");
         }
-        int[] dropped = RankCheck.aliased(problem);
+        IndicatorGroups groups = IndicatorGroups.of(problem);
+        int[] dropped = RankCheck.aliased(problem, groups);
         int[] keep = RankCheck.kept(problem.columns(), dropped);
         if (keep.length == 0) {
             throw new IllegalArgumentException("no column of the design carries information (all aliased or empty)");
         }
         FitProblem work = dropped.length == 0 ? problem : problem.selectColumns(keep);
         double[] warm = start == null ? null : select(start, keep);
-        FitResult reduced = fitFullRank(work, warm, null, control, penalized);
+        FitResult reduced = fitFullRank(work, dropped.length == 0 ? groups : IndicatorGroups.of(work), warm, null,
+                control, penalized);
         return dropped.length == 0 ? reduced : expand(reduced, problem.columns(), keep, dropped);
     }
 

@@ -36,6 +36,61 @@ final class IndicatorGroups {
         this.members = members;
     }
 
+    /**
+     * {@code C = X' diag(n) X} (full symmetric, row-major), summed per group: the rank check's
+     * cross-product at the cost of (q+1)(q+2)/2 products per row.
+     */
+    double[] weightedCrossProduct(FitProblem problem) {
+        int p = problem.columns();
+        double[] t = problem.trials();
+        double[] st = new double[groupCount];
+        double[] stz = new double[groupCount * q];
+        double[] stzz = new double[groupCount * q * q];
+        for (int i = 0; i < problem.rows(); i++) {
+            double ti = t[i];
+            if (ti == 0) {
+                continue;
+            }
+            int g = group[i];
+            st[g] += ti;
+            for (int a = 0; a < q; a++) {
+                double tz = ti * z[i * q + a];
+                stz[g * q + a] += tz;
+                for (int b = a; b < q; b++) {
+                    stzz[(g * q + a) * q + b] += tz * z[i * q + b];
+                }
+            }
+        }
+        double[] c = new double[p * p];
+        for (int g = 0; g < groupCount; g++) {
+            int[] m = members[g];
+            for (int a = 0; a < m.length; a++) {
+                for (int b = a; b < m.length; b++) {
+                    c[m[a] * p + m[b]] += st[g];
+                }
+                for (int d = 0; d < q; d++) {
+                    addUpper(c, p, m[a], numericColumns[d], stz[g * q + d]);
+                }
+            }
+            for (int d = 0; d < q; d++) {
+                for (int e = d; e < q; e++) {
+                    addUpper(c, p, numericColumns[d], numericColumns[e], stzz[(g * q + d) * q + e]);
+                }
+            }
+        }
+        for (int j = 0; j < p; j++) {
+            for (int k = 0; k < j; k++) {
+                c[j * p + k] = c[k * p + j];
+            }
+        }
+        return c;
+    }
+
+    /** Adds v at (min(j,k), max(j,k)) of a row-major p x p matrix. */
+    static void addUpper(double[] m, int p, int j, int k, double v) {
+        m[Math.min(j, k) * p + Math.max(j, k)] += v;
+    }
+
     /** The grouping of {@code problem}, or null when the problem does not qualify. */
     static IndicatorGroups of(FitProblem problem) {
         int p = problem.columns();
@@ -43,10 +98,13 @@ final class IndicatorGroups {
         double[] x = problem.x();
         boolean[] binary = new boolean[p];
         java.util.Arrays.fill(binary, true);
-        for (int k = 0; k < x.length; k++) {
-            double v = x[k];
-            if (v != 0 && v != 1) {
-                binary[k % p] = false;
+        for (int i = 0; i < n; i++) {
+            int base = i * p;
+            for (int j = 0; j < p; j++) {
+                double v = x[base + j];
+                if (v != 0 && v != 1) {
+                    binary[j] = false;
+                }
             }
         }
         int q = 0;
@@ -67,6 +125,8 @@ final class IndicatorGroups {
                 numericColumns[a++] = j;
             }
         }
+        // Up to 16 binary columns: a direct table from pattern bits to group number + 1.
+        int[] table = binaryColumns.length <= 16 ? new int[1 << binaryColumns.length] : null;
         Map<Long, Integer> ids = new HashMap<>();
         java.util.List<Long> keys = new java.util.ArrayList<>();
         int[] group = new int[n];
@@ -79,14 +139,28 @@ final class IndicatorGroups {
                     key |= 1L << c;
                 }
             }
-            Integer id = ids.get(key);
-            if (id == null) {
-                if (ids.size() == MAX_GROUPS) {
-                    return null;
+            int id;
+            if (table != null) {
+                id = table[(int) key] - 1;
+                if (id < 0) {
+                    if (keys.size() == MAX_GROUPS) {
+                        return null;
+                    }
+                    id = keys.size();
+                    table[(int) key] = id + 1;
+                    keys.add(key);
                 }
-                id = ids.size();
-                ids.put(key, id);
-                keys.add(key);
+            } else {
+                Integer known = ids.get(key);
+                if (known == null) {
+                    if (keys.size() == MAX_GROUPS) {
+                        return null;
+                    }
+                    known = keys.size();
+                    ids.put(key, known);
+                    keys.add(key);
+                }
+                id = known;
             }
             group[i] = id;
             for (int a = 0; a < q; a++) {

@@ -18,21 +18,23 @@ public final class ModelFitter {
      * @param warm start vector over all columns, or null
      */
     public static ModelFit fit(FitProblem problem, double[] warm, FitControl control) {
-        int[] dropped = RankCheck.aliased(problem);
+        IndicatorGroups groups = IndicatorGroups.of(problem);
+        int[] dropped = RankCheck.aliased(problem, groups);
         int[] keep = RankCheck.kept(problem.columns(), dropped);
         if (keep.length == 0) {
             throw new IllegalArgumentException("no column of the design carries information");
         }
         FitProblem work = dropped.length == 0 ? problem : problem.selectColumns(keep);
         double[] start = warm == null || warm.length != problem.columns() ? null : FitDriver.select(warm, keep);
-        FitResult newton = FitDriver.fitFullRank(work, start, null, control, false);
+        IndicatorGroups workGroups = dropped.length == 0 ? groups : IndicatorGroups.of(work);
+        FitResult newton = FitDriver.fitFullRank(work, workGroups, start, null, control, false);
         if (SeparationCheck.suspicious(newton)) {
             SeparationCheck.Outcome outcome = SeparationCheck.check(work);
             boolean byHeuristic = outcome.verdict() == SeparationCheck.Verdict.UNDECIDED;
             boolean separated = outcome.verdict() == SeparationCheck.Verdict.SEPARATED
                     || byHeuristic && SeparationCheck.heuristic(newton);
             if (separated) {
-                FitResult firth = FitDriver.fitFullRank(work, start, null, firthControl(control), true);
+                FitResult firth = FitDriver.fitFullRank(work, workGroups, start, null, firthControl(control), true);
                 int[] involved = new int[outcome.involved().length];
                 for (int a = 0; a < involved.length; a++) {
                     involved[a] = keep[outcome.involved()[a]];

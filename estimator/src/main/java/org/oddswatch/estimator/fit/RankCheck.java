@@ -18,6 +18,15 @@ public final class RankCheck {
 
     /** Indices of aliased columns, ascending; empty when the design has full column rank. */
     public static int[] aliased(FitProblem problem) {
+        return aliased(problem, IndicatorGroups.of(problem));
+    }
+
+    /** As {@link #aliased(FitProblem)}, the cross-product summed per indicator group when given. */
+    static int[] aliased(FitProblem problem, IndicatorGroups groups) {
+        return aliased(problem.columns(), groups == null ? crossProduct(problem) : groups.weightedCrossProduct(problem));
+    }
+
+    private static double[] crossProduct(FitProblem problem) {
         int p = problem.columns();
         int n = problem.rows();
         double[] x = problem.x();
@@ -39,6 +48,10 @@ public final class RankCheck {
                 }
             }
         }
+        return c;
+    }
+
+    private static int[] aliased(int p, double[] c) {
         double[] l = new double[p * p];
         boolean[] kept = new boolean[p];
         int dropped = 0;

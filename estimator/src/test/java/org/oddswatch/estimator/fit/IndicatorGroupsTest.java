@@ -32,6 +32,17 @@ class IndicatorGroupsTest {
         for (int j = 0; j < beta.length; j++) {
             assertEquals(plain.score[j], grouped.score[j], 1e-9 * (1 + Math.abs(plain.score[j])));
         }
+        int p = problem.columns();
+        double[] c = groups.weightedCrossProduct(problem);
+        for (int j = 0; j < p; j++) {
+            for (int k = 0; k < p; k++) {
+                double expected = 0;
+                for (int i = 0; i < problem.rows(); i++) {
+                    expected += problem.trials()[i] * problem.x()[i * p + j] * problem.x()[i * p + k];
+                }
+                assertEquals(expected, c[j * p + k], 1e-10 * (1 + Math.abs(expected)));
+            }
+        }
     }
 
     @ParameterizedTest
