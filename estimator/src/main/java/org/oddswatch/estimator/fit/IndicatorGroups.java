@@ -91,31 +91,42 @@ final class IndicatorGroups {
         m[Math.min(j, k) * p + Math.max(j, k)] += v;
     }
 
-    /** The grouping of {@code problem}, or null when the problem does not qualify. */
+    /**
+     * The grouping of {@code problem}, or null when the problem does not qualify. One pass in the
+     * usual case: every column starts as a 0/1 candidate, and a column found to hold another value
+     * becomes numeric and the grouping restarts (at most {@link #MAX_NUMERIC} + 1 restarts; a
+     * continuous column usually shows itself in its first rows).
+     */
     static IndicatorGroups of(FitProblem problem) {
+        int p = problem.columns();
+        boolean[] binary = new boolean[p];
+        java.util.Arrays.fill(binary, true);
+        while (true) {
+            int q = 0;
+            for (boolean b : binary) {
+                if (!b) {
+                    q++;
+                }
+            }
+            if (q > MAX_NUMERIC || p - q > 64) {
+                return null;
+            }
+            Attempt attempt = attempt(problem, binary, q);
+            if (attempt.nonBinaryColumn() < 0) {
+                return attempt.groups();
+            }
+            binary[attempt.nonBinaryColumn()] = false;
+        }
+    }
+
+    /** A grouping (null past the group limit), or the first candidate column found not to be 0/1. */
+    private record Attempt(IndicatorGroups groups, int nonBinaryColumn) {
+    }
+
+    private static Attempt attempt(FitProblem problem, boolean[] binary, int q) {
         int p = problem.columns();
         int n = problem.rows();
         double[] x = problem.x();
-        boolean[] binary = new boolean[p];
-        java.util.Arrays.fill(binary, true);
-        for (int i = 0; i < n; i++) {
-            int base = i * p;
-            for (int j = 0; j < p; j++) {
-                double v = x[base + j];
-                if (v != 0 && v != 1) {
-                    binary[j] = false;
-                }
-            }
-        }
-        int q = 0;
-        for (boolean b : binary) {
-            if (!b) {
-                q++;
-            }
-        }
-        if (q > MAX_NUMERIC || p - q > 64) {
-            return null;
-        }
         int[] numericColumns = new int[q];
         int[] binaryColumns = new int[p - q];
         for (int j = 0, a = 0, c = 0; j < p; j++) {
@@ -135,8 +146,11 @@ final class IndicatorGroups {
             int base = i * p;
             long key = 0;
             for (int c = 0; c < binaryColumns.length; c++) {
-                if (x[base + binaryColumns[c]] != 0) {
+                double v = x[base + binaryColumns[c]];
+                if (v == 1) {
                     key |= 1L << c;
+                } else if (v != 0) {
+                    return new Attempt(null, binaryColumns[c]);
                 }
             }
             int id;
@@ -144,7 +158,7 @@ final class IndicatorGroups {
                 id = table[(int) key] - 1;
                 if (id < 0) {
                     if (keys.size() == MAX_GROUPS) {
-                        return null;
+                        return new Attempt(null, -1);
                     }
                     id = keys.size();
                     table[(int) key] = id + 1;
@@ -154,7 +168,7 @@ final class IndicatorGroups {
                 Integer known = ids.get(key);
                 if (known == null) {
                     if (keys.size() == MAX_GROUPS) {
-                        return null;
+                        return new Attempt(null, -1);
                     }
                     known = keys.size();
                     ids.put(key, known);
@@ -177,6 +191,6 @@ final class IndicatorGroups {
                 }
             }
         }
-        return new IndicatorGroups(q, keys.size(), numericColumns, group, z, members);
+        return new Attempt(new IndicatorGroups(q, keys.size(), numericColumns, group, z, members), -1);
     }
 }
