@@ -107,11 +107,7 @@ final class BinomialPass {
                 }
             }
         }
-        for (int j = 0; j < p; j++) {
-            for (int k = 0; k < j; k++) {
-                info[j * p + k] = info[k * p + j];
-            }
-        }
+        mirrorUpper(info, p);
         logLikelihood = ll;
         maxAbsEta = etaMax;
     }
@@ -201,17 +197,22 @@ final class BinomialPass {
                 }
             }
         }
-        for (int j = 0; j < p; j++) {
-            for (int k = 0; k < j; k++) {
-                info[j * p + k] = info[k * p + j];
-            }
-        }
+        mirrorUpper(info, p);
         logLikelihood = ll;
         maxAbsEta = etaMax;
     }
 
     private void addUpper(double[] info, int j, int k, double v) {
         IndicatorGroups.addUpper(info, p, j, k, v);
+    }
+
+    /** Copies the upper triangle of a row-major p x p matrix into its lower triangle. */
+    static void mirrorUpper(double[] m, int p) {
+        for (int j = 0; j < p; j++) {
+            for (int k = 0; k < j; k++) {
+                m[j * p + k] = m[k * p + j];
+            }
+        }
     }
 
     /** Adds Firth's correction to the score: {@code sum_i x_i h_i (1/2 - mu_i)}. Needs the factor. */

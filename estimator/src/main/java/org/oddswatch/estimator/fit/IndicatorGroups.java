@@ -78,11 +78,7 @@ final class IndicatorGroups {
                 }
             }
         }
-        for (int j = 0; j < p; j++) {
-            for (int k = 0; k < j; k++) {
-                c[j * p + k] = c[k * p + j];
-            }
-        }
+        BinomialPass.mirrorUpper(c, p);
         return c;
     }
 
