@@ -11,6 +11,7 @@ import io.micrometer.core.instrument.Gauge;
 import io.micrometer.core.instrument.MeterRegistry;
 import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.lifecycle.AlertState;
 import org.oddswatch.estimator.WindowEstimator;
 import org.oddswatch.estimator.calibration.BaselineModel;
 import org.oddswatch.estimator.window.WindowStore;
@@ -163,6 +164,9 @@ public final class MonitorPipeline {
         RecordOutcome outcome = RecordOutcome.rejected(reason, detail);
         for (MonitorRoute route : routes) {
             count(route.unrouted, outcome, suppressOutput);
+            if (!suppressOutput) {
+                listener.onOutcome(route.monitor.name(), null, outcome);
+            }
         }
         count(totals, outcome, suppressOutput);
         if (!suppressOutput) {
@@ -181,6 +185,9 @@ public final class MonitorPipeline {
         if (!settings.inRange(event.timeMillis())) {
             RecordOutcome outcome = RecordOutcome.rejected(RejectReason.OUTSIDE_RANGE, "outside the replay range");
             count(route.unrouted, outcome, suppress);
+            if (!suppress) {
+                listener.onOutcome(route.monitor.name(), null, outcome);
+            }
             return outcome;
         }
         StreamState stream = route.streams.get(event.splitValue());
@@ -195,6 +202,9 @@ public final class MonitorPipeline {
         }
         RecordOutcome outcome = stream.offer(event, suppress);
         count(stream.counts(), outcome, suppress);
+        if (!suppress) {
+            listener.onOutcome(route.monitor.name(), stream.name(), outcome);
+        }
         if (!suppress && (outcome.outcome() == Outcome.REJECTED || outcome.outcome() == Outcome.LATE)) {
             listener.onReject(new RejectedRecord(route.monitor.name(), stream.name(), outcome.outcome(),
                     outcome.reason(), outcome.detail(), origin, original));
@@ -207,6 +217,7 @@ public final class MonitorPipeline {
         RecordOutcome outcome = RecordOutcome.rejected(rejection.reason(), rejection.detail());
         count(route.unrouted, outcome, suppress);
         if (!suppress) {
+            listener.onOutcome(route.monitor.name(), stream, outcome);
             listener.onReject(new RejectedRecord(route.monitor.name(), stream, Outcome.REJECTED, rejection.reason(),
                     rejection.detail(), origin, original));
         }
@@ -277,12 +288,21 @@ public final class MonitorPipeline {
 
     /**
      * Restores open alert episodes published before a restart; alerts of streams not seen yet are kept
-     * until the stream's first event.
+     * until the stream's first event. The latest message of each episode still open goes to
+     * {@link PipelineListener#onAlertRestored} (for the alert-state gauge).
      */
     public void restoreAlerts(List<Alert> published) {
         Map<String, List<Alert>> byStream = new LinkedHashMap<>();
+        Map<List<String>, Alert> latestByEpisode = new LinkedHashMap<>();
         for (Alert alert : published) {
             byStream.computeIfAbsent(alert.stream(), s -> new ArrayList<>()).add(alert);
+            latestByEpisode.put(List.of(alert.stream(), alert.rule(), alert.subject().term(),
+                    String.valueOf(alert.subject().level())), alert);
+        }
+        for (Alert latest : latestByEpisode.values()) {
+            if (latest.state() != AlertState.CLEARED) {
+                listener.onAlertRestored(latest);
+            }
         }
         for (Map.Entry<String, List<Alert>> entry : byStream.entrySet()) {
             StreamState stream = streamsByName.get(entry.getKey());

@@ -1,6 +1,8 @@
 package org.oddswatch.ingest.pipeline;
 
+import java.util.List;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.rules.CusumReading;
 import org.oddswatch.estimator.result.WindowEstimate;
 
 /**
@@ -19,5 +21,29 @@ public interface PipelineListener {
 
     /** An alert message (raised, continuing or cleared). */
     default void onAlert(Alert alert) {
+    }
+
+    // ---- for meters: none of these is called while rebuilding (suppressed output) ---------------
+
+    /**
+     * One record's outcome in one monitor: {@code stream} is null when no stream could be determined
+     * (the record was rejected before routing), {@code monitor} is null when no monitor could read it.
+     */
+    default void onOutcome(String monitor, String stream, RecordOutcome outcome) {
+    }
+
+    /** A final window was estimated, taking {@code fitNanos} of wall-clock time (measured for meters only). */
+    default void onFinalFit(WindowEstimate estimate, long fitNanos) {
+    }
+
+    /** A stream's CUSUM chart values after events were closed (empty list: no CUSUM rule). */
+    default void onCusum(String stream, List<CusumReading> readings) {
+    }
+
+    /**
+     * An alert episode still open after a restart (the latest published message of its rule and
+     * subject), from {@link MonitorPipeline#restoreAlerts}; it is not published again.
+     */
+    default void onAlertRestored(Alert alert) {
     }
 }

@@ -162,6 +162,7 @@ final class StreamState {
         finalizeThrough(newest + bucketsPerWindow, false);
         if (engine != null) {
             emitAlerts(engine.onEventsClosed(Long.MAX_VALUE), false);
+            listener.onCusum(name, engine.cusumReadings());
         }
     }
 
@@ -216,6 +217,9 @@ final class StreamState {
             expireBefore(newFinal + 1 - bucketsPerWindow);
             if (engine != null) {
                 emitAlerts(engine.onEventsClosed(geometry.bucketStart(newFinal)), suppress);
+                if (!suppress) {
+                    listener.onCusum(name, engine.cusumReadings());
+                }
             }
         }
     }
@@ -223,13 +227,16 @@ final class StreamState {
     private void finalizeWindow(long end, boolean suppress) {
         Instant start = geometry.windowStart(end);
         Instant stop = geometry.windowEnd(end);
+        long fitStart = System.nanoTime(); // for the fit-duration meter only; never part of the output
         WindowEstimate estimate = estimator.estimate(name, start, stop, WindowStatus.FINAL,
                 store.window(end - bucketsPerWindow, end), warmStart, baseline);
+        long fitNanos = System.nanoTime() - fitStart;
         warmStart = reproducibleStart(estimator.coefficientVector(estimate));
         lastFinal = estimate;
         finalWindows++;
         if (!suppress) {
             listener.onEstimate(estimate);
+            listener.onFinalFit(estimate, fitNanos);
         }
         if (engine != null && !overlapsBaselinePeriod(start, stop)) {
             emitAlerts(engine.onFinalEstimate(estimate), suppress);

@@ -16,6 +16,7 @@ import org.apache.kafka.clients.consumer.CooperativeStickyAssignor;
 import org.apache.kafka.clients.consumer.KafkaConsumer;
 import org.apache.kafka.common.serialization.ByteArrayDeserializer;
 import org.oddswatch.alerts.engine.ReplayHint;
+import org.oddswatch.alerts.sinks.WebhookAlertSink;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.kafka.KafkaClientSettings;
 import org.oddswatch.ingest.kafka.KafkaOutputPublisher;
@@ -27,7 +28,9 @@ import org.slf4j.LoggerFactory;
 /**
  * The live service: one Kafka consumer in the configured group, subscribed to the input topics of
  * all monitors, with its poll loop on one thread ({@link PollLoop}), one idempotent producer for
- * estimates, rejects and alerts, and one pipeline per assigned partition.
+ * estimates, rejects and alerts, and one pipeline per assigned partition. Alerts also go to the log
+ * and the monitor's webhook; estimates, alerts and record outcomes feed the
+ * {@link org.oddswatch.alerts.metrics.OddswatchMeters} of the registry ({@link AlertMetersListener}).
  *
  * <p>Delivery: at least once. Input offsets are committed synchronously only after every output
  * caused by the records before them is acknowledged, so after a crash the records after the last
@@ -47,6 +50,7 @@ public final class MonitorService implements AutoCloseable {
     private final KafkaConsumer<byte[], byte[]> consumer;
     private final KafkaConsumer<byte[], byte[]> lookup;
     private final KafkaOutputPublisher publisher;
+    private final AlertMetersListener outputs;
     private final List<KafkaClientMetrics> clientMetrics;
     private final PollLoop loop;
     private final Thread thread;
@@ -93,8 +97,11 @@ public final class MonitorService implements AutoCloseable {
         this.clientMetrics = List.of(new KafkaClientMetrics(consumer, tags), new KafkaClientMetrics(publisher.producer(), tags));
         clientMetrics.forEach(m -> m.bindTo(registry));
         AlertArchive archive = new AlertArchive(settings.reader("oddswatch-" + instance + "-alerts"), Duration.ofSeconds(30));
+        // Alerts and final estimates also feed the alert meters (bound once per registry), the log
+        // and each monitor's webhook.
+        this.outputs = new AlertMetersListener(publisher, registry, config.monitors());
         PollLoop.PipelineFactory factory = tp -> new MonitorPipeline(tp.toString(), config.monitorsFor(tp.topic()),
-                publisher, withTopicHint(pipelineSettings, config, tp.topic()));
+                outputs, withTopicHint(pipelineSettings, config, tp.topic()));
         this.loop = new PollLoop(config, consumer, lookup, publisher, factory, archive,
                 new ServiceMeters(registry, instance), commitInterval, latest, wallClockMillis);
         this.thread = new Thread(this::runLoop, "oddswatch-poll-" + instance);
@@ -167,8 +174,14 @@ public final class MonitorService implements AutoCloseable {
         }
     }
 
+    /** The webhook sink of a monitor, or null when it has none. */
+    WebhookAlertSink webhook(String monitor) {
+        return outputs.webhook(monitor);
+    }
+
     private void closeClients() {
         clientMetrics.forEach(KafkaClientMetrics::close);
+        outputs.close();
         try {
             consumer.close(CloseOptions.timeout(Duration.ofSeconds(10)));
         } catch (RuntimeException e) {

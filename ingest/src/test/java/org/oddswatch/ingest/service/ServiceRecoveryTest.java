@@ -191,27 +191,7 @@ class ServiceRecoveryTest {
     private static List<String> alertsOfRun(String prefix, List<TestFeed.Event> feed, int cut) {
         String input = prefix + "-tests";
         createTopics(prefix, input, 1);
-        String yaml = """
-                kafka:
-                  bootstrap.servers: %s
-                service: {groupId: %s-group, refresh: PT1H, idleTimeout: P3650D}
-                monitors:
-                  - name: resp
-                    input: {topic: %s}
-                    event:
-                      id: /id
-                      time: /collectedAt
-                      outcome: {field: /result, positive: ["positive"], negative: ["negative"]}
-                    terms:
-                      - {name: household_contact, field: /exposure/household, kind: binary, level: "yes", reference: "no", watched: true}
-                      - {name: recent_travel, field: /exposure/travel, kind: binary, level: "yes", reference: "no"}
-                    window: {width: P28D, step: P7D, lateness: P2D, align: 2026-01-05T00:00:00Z}
-                    baseline: {from: 2026-01-05T00:00:00Z, to: 2026-03-02T00:00:00Z}
-                    rules:
-                      guard: {minEvents: 200}
-                      oddsRatioDrift: {limit: 3.0, clearLimit: 2.0, consecutive: 1, clearAfter: 2, terms: [household_contact]}
-                    outputs: {estimatesTopic: %s-estimates, rejectsTopic: %s-rejects, alertsTopic: %s-alerts}
-                """.formatted(KAFKA.bootstrapServers(), prefix, input, prefix, prefix, prefix);
+        String yaml = TestDefinitions.driftYaml(KAFKA.bootstrapServers(), prefix, input, null);
         MonitorConfig config = TestDefinitions.config(yaml);
         int first = cut < 0 ? feed.size() : cut;
         ServiceTestSupport.produce(KAFKA, input, feed.subList(0, first), false, true);

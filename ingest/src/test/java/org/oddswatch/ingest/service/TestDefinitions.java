@@ -65,6 +65,41 @@ final class TestDefinitions {
                 maxStreams > 0 ? "    split: {field: /region, maxStreams: " + maxStreams + "}" : "", prefix, prefix, prefix);
     }
 
+    /**
+     * One unsplit monitor with a fixed baseline period of eight weeks from 2026-01-05 and an
+     * odds-ratio drift rule on household contact (limit 3, clear below 2), for the alert tests.
+     *
+     * @param webhookUrl the monitor's {@code outputs.webhook} url, or null for none
+     */
+    static String driftYaml(String bootstrap, String prefix, String input, String webhookUrl) {
+        return """
+                kafka:
+                  bootstrap.servers: %s
+                service: {groupId: %s-group, refresh: PT1H, idleTimeout: P3650D}
+                monitors:
+                  - name: resp
+                    input: {topic: %s}
+                    event:
+                      id: /id
+                      time: /collectedAt
+                      outcome: {field: /result, positive: ["positive"], negative: ["negative"]}
+                    terms:
+                      - {name: household_contact, field: /exposure/household, kind: binary, level: "yes", reference: "no", watched: true}
+                      - {name: recent_travel, field: /exposure/travel, kind: binary, level: "yes", reference: "no"}
+                    window: {width: P28D, step: P7D, lateness: P2D, align: 2026-01-05T00:00:00Z}
+                    baseline: {from: 2026-01-05T00:00:00Z, to: 2026-03-02T00:00:00Z}
+                    rules:
+                      guard: {minEvents: 200}
+                      oddsRatioDrift: {limit: 3.0, clearLimit: 2.0, consecutive: 1, clearAfter: 2, terms: [household_contact]}
+                    outputs:
+                      estimatesTopic: %s-estimates
+                      rejectsTopic: %s-rejects
+                      alertsTopic: %s-alerts
+                %s
+                """.formatted(bootstrap, prefix, input, prefix, prefix, prefix,
+                webhookUrl == null ? "" : "      webhook: {url: \"" + webhookUrl + "\", timeout: PT5S, attempts: 2}");
+    }
+
     static MonitorConfig config(String yaml) {
         try {
             return DefinitionLoader.parse("test.yaml", yaml, Map.of(), null);

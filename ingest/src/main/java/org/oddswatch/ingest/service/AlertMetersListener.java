@@ -1,0 +1,145 @@
+package org.oddswatch.ingest.service;
+
+import io.micrometer.core.instrument.Counter;
+import io.micrometer.core.instrument.MeterRegistry;
+import java.net.URI;
+import java.time.Duration;
+import java.util.ArrayList;
+import java.util.HashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.WeakHashMap;
+import java.util.concurrent.ConcurrentHashMap;
+import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.metrics.OddswatchMeters;
+import org.oddswatch.alerts.rules.CusumReading;
+import org.oddswatch.alerts.sinks.AlertSink;
+import org.oddswatch.alerts.sinks.LogAlertSink;
+import org.oddswatch.alerts.sinks.WebhookAlertSink;
+import org.oddswatch.estimator.result.WindowEstimate;
+import org.oddswatch.estimator.result.WindowStatus;
+import org.oddswatch.ingest.definition.MonitorDefinition;
+import org.oddswatch.ingest.definition.WebhookSpec;
+import org.oddswatch.ingest.pipeline.PipelineListener;
+import org.oddswatch.ingest.pipeline.RecordOutcome;
+import org.oddswatch.ingest.pipeline.RejectedRecord;
+
+/**
+ * The listener of the live service's pipelines: every output goes to the Kafka publisher first;
+ * then final estimates, alerts, fits, CUSUM values and record outcomes feed the
+ * {@link OddswatchMeters} of the service's registry, and every alert also goes to the log and, when
+ * its monitor has {@code outputs.webhook}, to that webhook (delivered on the sink's own thread, so
+ * the poll loop never waits for it).
+ *
+ * <p>Meter updates happen per final window (and per CUSUM close), except the event counter, which is
+ * one cached {@link Counter} increment per record. Pipelines call none of these while rebuilding,
+ * except {@link #onAlertRestored}, which sets the alert-state gauge of an episode still open.
+ */
+final class AlertMetersListener implements PipelineListener, AutoCloseable {
+
+    /** One binder per registry, so several services (or restarts) in one JVM share the gauges. */
+    private static final Map<MeterRegistry, OddswatchMeters> BOUND = new WeakHashMap<>();
+
+    private final PipelineListener publisher;
+    private final OddswatchMeters meters;
+    private final MeterRegistry registry;
+    private final AlertSink log = new LogAlertSink();
+    private final Map<String, WebhookAlertSink> webhooks = new HashMap<>();
+    private final Map<List<String>, Counter> eventCounters = new ConcurrentHashMap<>();
+
+    AlertMetersListener(PipelineListener publisher, MeterRegistry registry, List<MonitorDefinition> monitors) {
+        this.publisher = publisher;
+        this.registry = registry;
+        this.meters = metersOf(registry);
+        for (MonitorDefinition monitor : monitors) {
+            WebhookSpec hook = monitor.outputs().webhook();
+            if (hook != null) {
+                webhooks.put(monitor.name(), new WebhookAlertSink(URI.create(hook.url()), hook.timeout(),
+                        hook.attempts(), Duration.ofMillis(500), 1000, meters));
+            }
+        }
+    }
+
+    /** The registry's {@link OddswatchMeters}, bound on first use. */
+    static OddswatchMeters metersOf(MeterRegistry registry) {
+        synchronized (BOUND) {
+            return BOUND.computeIfAbsent(registry, r -> {
+                OddswatchMeters m = new OddswatchMeters();
+                m.bindTo(r);
+                return m;
+            });
+        }
+    }
+
+    /** The webhook sink of a monitor, or null (for tests and status). */
+    WebhookAlertSink webhook(String monitor) {
+        return webhooks.get(monitor);
+    }
+
+    @Override
+    public void onEstimate(WindowEstimate estimate) {
+        publisher.onEstimate(estimate);
+        if (estimate.status() == WindowStatus.FINAL) {
+            meters.onEstimate(estimate);
+        }
+    }
+
+    @Override
+    public void onReject(RejectedRecord record) {
+        publisher.onReject(record);
+    }
+
+    @Override
+    public void onAlert(Alert alert) {
+        publisher.onAlert(alert);
+        meters.onAlert(alert);
+        log.publish(alert);
+        WebhookAlertSink hook = webhooks.get(monitorOf(alert.stream()));
+        if (hook != null) {
+            hook.publish(alert);
+        }
+    }
+
+    @Override
+    public void onOutcome(String monitor, String stream, RecordOutcome outcome) {
+        String streamTag = stream != null ? stream : OddswatchMeters.NONE;
+        String reason = outcome.reason() == null ? OddswatchMeters.NONE : outcome.reason();
+        eventCounters.computeIfAbsent(List.of(streamTag, outcome.outcome().toString(), reason),
+                        key -> Counter.builder(OddswatchMeters.EVENTS).description("Consumed records by outcome")
+                                .baseUnit("events").tags("stream", key.get(0), "outcome", key.get(1), "reason", key.get(2))
+                                .register(registry))
+                .increment();
+    }
+
+    @Override
+    public void onFinalFit(WindowEstimate estimate, long fitNanos) {
+        meters.recordFit(estimate.stream(), fitNanos, estimate.fit() == null ? 0 : estimate.fit().iterations());
+    }
+
+    @Override
+    public void onCusum(String stream, List<CusumReading> readings) {
+        if (!readings.isEmpty()) {
+            meters.onCusum(stream, readings);
+        }
+    }
+
+    @Override
+    public void onAlertRestored(Alert alert) {
+        meters.onAlert(alert);
+    }
+
+    /** Stream names are {@code monitor} or {@code monitor/split value}; monitor names hold no '/'. */
+    private static String monitorOf(String stream) {
+        int slash = stream.indexOf('/');
+        return slash < 0 ? stream : stream.substring(0, slash);
+    }
+
+    /** Stops the webhook threads, giving queued deliveries up to one timeout. */
+    @Override
+    public void close() {
+        for (WebhookAlertSink hook : new ArrayList<>(webhooks.values())) {
+            hook.close();
+        }
+        log.close();
+    }
+}
