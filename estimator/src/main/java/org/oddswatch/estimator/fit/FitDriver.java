@@ -45,7 +45,7 @@ final class FitDriver {
             if (first.converged()) {
                 return first;
             }
-            FitResult cold = NewtonEngine.run(work, groups, coldStart(work, null, null), null, penalized, control,
+            FitResult cold = NewtonEngine.run(work, groups, coldStart(work, groups, null, null), null, penalized, control,
                     false);
             return cold.converged() || cold.objective() > first.objective() ? cold : first;
         }
@@ -54,11 +54,11 @@ final class FitDriver {
             if (first.converged()) {
                 return first;
             }
-            FitResult cold = NewtonEngine.run(work, groups, coldStart(work, fixed, warm), fixed, penalized, control,
+            FitResult cold = NewtonEngine.run(work, groups, coldStart(work, groups, fixed, warm), fixed, penalized, control,
                     false);
             return cold.converged() || cold.objective() > first.objective() ? cold : first;
         }
-        return NewtonEngine.run(work, groups, coldStart(work, null, null), null, penalized, control, false);
+        return NewtonEngine.run(work, groups, coldStart(work, groups, null, null), null, penalized, control, false);
     }
 
     /**
@@ -66,6 +66,11 @@ final class FitDriver {
      * the trials-weighted mean offset; fixed coordinates keep their given values.
      */
     static double[] coldStart(FitProblem problem, boolean[] fixed, double[] fixedValues) {
+        return coldStart(problem, null, fixed, fixedValues);
+    }
+
+    /** As above, the intercept test answered by the problem's grouping when there is one. */
+    static double[] coldStart(FitProblem problem, IndicatorGroups groups, boolean[] fixed, double[] fixedValues) {
         int p = problem.columns();
         double[] beta = new double[p];
         if (fixed != null) {
@@ -75,7 +80,8 @@ final class FitDriver {
                 }
             }
         }
-        if ((fixed == null || !fixed[0]) && isConstantOne(problem, 0)) {
+        if ((fixed == null || !fixed[0])
+                && (groups != null ? groups.isConstantOne(0) : isConstantOne(problem, 0))) {
             double n = problem.totalTrials();
             double y = problem.totalPositives();
             double ybar = n > 0 ? y / n : 0.5;

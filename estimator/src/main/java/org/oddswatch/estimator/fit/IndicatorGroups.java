@@ -26,8 +26,16 @@ final class IndicatorGroups {
     final int[] group;
     final double[] z;
     final int[][] members;
+    /** Per group: sum t, sum t z_a and sum t z_a z_b (upper), summed in row order while grouping. */
+    private final double[] st;
+    private final double[] stz;
+    private final double[] stzz;
 
-    private IndicatorGroups(int q, int groupCount, int[] numericColumns, int[] group, double[] z, int[][] members) {
+    private IndicatorGroups(int q, int groupCount, int[] numericColumns, int[] group, double[] z, int[][] members,
+                            double[] st, double[] stz, double[] stzz) {
+        this.st = st;
+        this.stz = stz;
+        this.stzz = stzz;
         this.q = q;
         this.groupCount = groupCount;
         this.numericColumns = numericColumns;
@@ -38,29 +46,10 @@ final class IndicatorGroups {
 
     /**
      * {@code C = X' diag(n) X} (full symmetric, row-major), summed per group: the rank check's
-     * cross-product at the cost of (q+1)(q+2)/2 products per row.
+     * cross-product, from the per-group sums taken while grouping (no further pass over the rows).
      */
     double[] weightedCrossProduct(FitProblem problem) {
         int p = problem.columns();
-        double[] t = problem.trials();
-        double[] st = new double[groupCount];
-        double[] stz = new double[groupCount * q];
-        double[] stzz = new double[groupCount * q * q];
-        for (int i = 0; i < problem.rows(); i++) {
-            double ti = t[i];
-            if (ti == 0) {
-                continue;
-            }
-            int g = group[i];
-            st[g] += ti;
-            for (int a = 0; a < q; a++) {
-                double tz = ti * z[i * q + a];
-                stz[g * q + a] += tz;
-                for (int b = a; b < q; b++) {
-                    stzz[(g * q + a) * q + b] += tz * z[i * q + b];
-                }
-            }
-        }
         double[] c = new double[p * p];
         for (int g = 0; g < groupCount; g++) {
             int[] m = members[g];
@@ -80,6 +69,16 @@ final class IndicatorGroups {
         }
         BinomialPass.mirrorUpper(c, p);
         return c;
+    }
+
+    /** Whether column j is 1 in every row (a binary column present in every group). */
+    boolean isConstantOne(int j) {
+        for (int[] m : members) {
+            if (java.util.Arrays.binarySearch(m, j) < 0) {
+                return false;
+            }
+        }
+        return true;
     }
 
     /** Adds v at (min(j,k), max(j,k)) of a row-major p x p matrix. */
@@ -138,15 +137,25 @@ final class IndicatorGroups {
         java.util.List<Long> keys = new java.util.ArrayList<>();
         int[] group = new int[n];
         double[] z = new double[n * q];
+        double[] trials = problem.trials();
+        double[] st = new double[MAX_GROUPS];
+        double[] stz = new double[MAX_GROUPS * q];
+        double[] stzz = new double[MAX_GROUPS * q * q];
         for (int i = 0; i < n; i++) {
             int base = i * p;
             long key = 0;
+            boolean other = false;
             for (int c = 0; c < binaryColumns.length; c++) {
                 double v = x[base + binaryColumns[c]];
-                if (v == 1) {
-                    key |= 1L << c;
-                } else if (v != 0) {
-                    return new Attempt(null, binaryColumns[c]);
+                key |= (v == 1 ? 1L : 0L) << c;
+                other |= v != 0 & v != 1;
+            }
+            if (other) {
+                for (int c = 0; ; c++) {
+                    double v = x[base + binaryColumns[c]];
+                    if (v != 0 && v != 1) {
+                        return new Attempt(null, binaryColumns[c]);
+                    }
                 }
             }
             int id;
@@ -176,6 +185,18 @@ final class IndicatorGroups {
             for (int a = 0; a < q; a++) {
                 z[i * q + a] = x[base + numericColumns[a]];
             }
+            // The rank check's trials-weighted sums, in row order.
+            double ti = trials[i];
+            if (ti != 0) {
+                st[id] += ti;
+                for (int a = 0; a < q; a++) {
+                    double tz = ti * z[i * q + a];
+                    stz[id * q + a] += tz;
+                    for (int b = a; b < q; b++) {
+                        stzz[(id * q + a) * q + b] += tz * z[i * q + b];
+                    }
+                }
+            }
         }
         int[][] members = new int[keys.size()][];
         for (int g = 0; g < keys.size(); g++) {
@@ -187,6 +208,6 @@ final class IndicatorGroups {
                 }
             }
         }
-        return new Attempt(new IndicatorGroups(q, keys.size(), numericColumns, group, z, members), -1);
+        return new Attempt(new IndicatorGroups(q, keys.size(), numericColumns, group, z, members, st, stz, stzz), -1);
     }
 }
