@@ -9,9 +9,11 @@ import org.oddswatch.ingest.definition.RecordLimits;
  * @param limits record caps
  * @param replayHint how alerts phrase their replay command
  * @param baselines reader of frozen baseline files
- * @param fromMillis replay range start (inclusive, event time), or null
- * @param toMillis replay range end (exclusive), or null; events outside the range are counted
- *     {@code rejected/outside-range} but not sent to rejects
+ * @param fromMillis event-time filter start (inclusive), or null
+ * @param toMillis event-time filter end (exclusive), or null; events outside are counted
+ *     {@code rejected/outside-range} but not sent to rejects. (A replay range does not use this
+ *     filter: {@code ReplayRunner} feeds every event and reports only the windows in its range,
+ *     since windows depend on earlier and later events.)
  */
 public record PipelineSettings(RecordLimits limits, ReplayHint replayHint, BaselineSource baselines, Long fromMillis,
                                Long toMillis) {

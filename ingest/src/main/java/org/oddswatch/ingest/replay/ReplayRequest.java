@@ -10,8 +10,8 @@ import java.time.Instant;
  * @param input the event file
  * @param out the output folder (created if needed; files in it are replaced)
  * @param format the input format, or null to tell by the file name ({@code .csv} is CSV)
- * @param from first event time replayed (inclusive), or null
- * @param to end of the replayed event times (exclusive), or null
+ * @param from windows reported start at or after this, or null (every event is still replayed)
+ * @param to windows reported end at or before this, or null
  * @param topic replay only the monitors reading this topic, or null for every monitor
  */
 public record ReplayRequest(Path config, Path input, Path out, InputFormat format, Instant from, Instant to,

@@ -8,6 +8,7 @@ import java.io.Writer;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.time.Instant;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
 import java.util.List;
@@ -17,7 +18,6 @@ import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.report.ReplayReport;
 import org.oddswatch.estimator.result.WindowEstimate;
-import org.oddswatch.ingest.decode.RejectReason;
 import org.oddswatch.ingest.definition.DefinitionException;
 import org.oddswatch.ingest.definition.DefinitionLoader;
 import org.oddswatch.ingest.definition.MonitorConfig;
@@ -35,14 +35,21 @@ import org.oddswatch.ingest.pipeline.StreamStatus;
  * the events, and writes into the output folder:
  * <ul>
  *   <li>{@code estimates.jsonl}: every final window estimate, one JSON object per line;</li>
- *   <li>{@code rejects.jsonl}: rejected and late records with their line number, reason and bytes
- *       (records outside {@code --from/--to} are only counted);</li>
+ *   <li>{@code rejects.jsonl}: rejected and late records with their line number, reason and bytes;</li>
  *   <li>{@code alerts.jsonl}: alert messages in the order raised;</li>
  *   <li>{@code summary.json}: counts by outcome and reason, windows per stream;</li>
  *   <li>{@code report.md}: the readable report of the alerts module.</li>
  * </ul>
  * At the end of the file every window that has received events is closed. The same definition and
  * file give byte-identical output.
+ *
+ * <p>A range ({@code --from/--to}) chooses which windows are reported: estimates and alerts of windows
+ * with {@code windowStart >= from} and {@code windowEnd <= to}. The whole file is still fed, because
+ * a window's estimate and alerts depend on events outside it: the fixed baseline period, the warm
+ * start chained from earlier windows, the CUSUM history since the baseline, alert episodes opened
+ * earlier, and later events that make the range's last windows final or its late events late. So a
+ * range replay writes exactly the full replay's estimates and alerts of those windows, byte for
+ * byte, and an alert's own replay command reproduces it. Rejects and counts cover the whole file.
  */
 public final class ReplayRunner {
 
@@ -78,11 +85,9 @@ public final class ReplayRunner {
         PipelineSettings settings = PipelineSettings.defaults()
                 .withLimits(config.limits())
                 .withReplayHint(new ReplayHint(request.config() == null ? config.file() : request.config().toString(),
-                        request.input().toString(), null))
-                .withRange(request.from() == null ? null : request.from().toEpochMilli(),
-                        request.to() == null ? null : request.to().toEpochMilli());
+                        request.input().toString(), null));
         InputFormat format = request.effectiveFormat();
-        FileOutputs outputs = new FileOutputs(request.out());
+        FileOutputs outputs = new FileOutputs(request.out(), new WindowRange(request.from(), request.to()));
         MonitorPipeline pipeline;
         try (outputs) {
             pipeline = new MonitorPipeline(request.input().toString(), monitors, outputs, settings);
@@ -149,8 +154,16 @@ public final class ReplayRunner {
         }
     }
 
-    /** Writes the three JSON Lines files and keeps estimates and alerts for the report. */
+    /** The windows a replay reports: start at or after {@code from}, end at or before {@code to} (null: open). */
+    private record WindowRange(Instant from, Instant to) {
+        boolean contains(Instant windowStart, Instant windowEnd) {
+            return (from == null || !windowStart.isBefore(from)) && (to == null || !windowEnd.isAfter(to));
+        }
+    }
+
+    /** Writes the three JSON Lines files and keeps estimates and alerts (of the range) for the report. */
     private static final class FileOutputs implements PipelineListener, AutoCloseable {
+        private final WindowRange range;
         private final Writer estimatesFile;
         private final Writer rejectsFile;
         private final Writer alertsFile;
@@ -159,7 +172,8 @@ public final class ReplayRunner {
         final Map<String, WindowEstimate[]> windowSpan = new LinkedHashMap<>();
         long rejects;
 
-        FileOutputs(Path dir) throws IOException {
+        FileOutputs(Path dir, WindowRange range) throws IOException {
+            this.range = range;
             estimatesFile = writer(dir.resolve(ESTIMATES));
             rejectsFile = writer(dir.resolve(REJECTS));
             alertsFile = writer(dir.resolve(ALERTS));
@@ -171,6 +185,9 @@ public final class ReplayRunner {
 
         @Override
         public void onEstimate(WindowEstimate estimate) {
+            if (!range.contains(estimate.windowStart(), estimate.windowEnd())) {
+                return;
+            }
             estimates.add(estimate);
             windowSpan.computeIfAbsent(estimate.stream(), s -> new WindowEstimate[] {estimate, estimate})[1] = estimate;
             line(estimatesFile, Json.write(estimate));
@@ -178,15 +195,15 @@ public final class ReplayRunner {
 
         @Override
         public void onReject(RejectedRecord record) {
-            if (RejectReason.OUTSIDE_RANGE.equals(record.reason())) {
-                return;
-            }
             rejects++;
             line(rejectsFile, Json.write(record.toJson()));
         }
 
         @Override
         public void onAlert(Alert alert) {
+            if (!range.contains(alert.windowStart(), alert.windowEnd())) {
+                return;
+            }
             alerts.add(alert);
             line(alertsFile, Json.write(alert));
         }

@@ -270,21 +270,69 @@ class ReplayRunnerTest {
         assertTrue(summary.streams().get(0).windows() > 0);
     }
 
+    /**
+     * Twenty weeks, two regions, events up to two days out of order (some late); from week 9 the
+     * household-contact log-odds ratio rises by 1.6, so the default rules raise alerts.
+     */
+    private Path driftingFile() throws IOException {
+        return jsonl("drift.jsonl", json(HouseEvents.events(20260203, 12000, START, 20 * WEEK,
+                Duration.ofDays(2).toMillis(), START.plusMillis(9 * WEEK), 1.6, "north", "south")));
+    }
+
+    /** The lines of {@code file} in {@code out} whose window lies in [from, to]. */
+    private List<String> inRange(String out, String file, Instant from, Instant to) throws IOException {
+        List<String> kept = new ArrayList<>();
+        for (String line : lines(out, file)) {
+            JsonNode node = Json.mapper().readTree(line);
+            if (!Instant.parse(node.get("windowStart").asText()).isBefore(from)
+                    && !Instant.parse(node.get("windowEnd").asText()).isAfter(to)) {
+                kept.add(line);
+            }
+        }
+        return kept;
+    }
+
     @Test
-    void aTimeRangeReplaysOnlyItsEvents() throws Exception {
-        List<HouseEvent> events = tenWeeks();
-        Instant from = START.plusMillis(4 * WEEK);
-        Instant to = START.plusMillis(6 * WEEK);
-        long inside = events.stream().filter(e -> !e.time().isBefore(from) && e.time().isBefore(to)).count();
-        ReplaySummary summary = ReplayRunner.run(ReplayRequest.of(definition(), jsonl("events.jsonl", json(events)),
-                dir.resolve("out")).withRange(from, to));
-        assertEquals(inside, summary.records().outcome(Outcome.ACCEPTED));
-        assertEquals(events.size() - inside, summary.records().reasons().get(RejectReason.OUTSIDE_RANGE));
-        assertTrue(lines("out", ReplayRunner.REJECTS).isEmpty(), "out-of-range events are only counted");
-        for (String line : lines("out", ReplayRunner.ESTIMATES)) {
-            JsonNode estimate = Json.mapper().readTree(line);
-            Instant end = Instant.parse(estimate.get("windowEnd").asText());
-            assertTrue(end.isAfter(from) && !end.isAfter(to.plusMillis(4 * WEEK)), line);
+    void aRangeReplayWritesTheFullReplaysWindowsOfTheRangeByteForByte() throws Exception {
+        Path input = driftingFile();
+        ReplaySummary full = replay(input, "full");
+        Instant from = START.plusMillis(7 * WEEK);
+        Instant to = START.plusMillis(15 * WEEK);
+        ReplaySummary ranged = ReplayRunner.run(ReplayRequest.of(definition(), input, dir.resolve("range"))
+                .withRange(from, to));
+        List<String> estimates = lines("range", ReplayRunner.ESTIMATES);
+        List<String> alerts = lines("range", ReplayRunner.ALERTS);
+        assertFalse(estimates.isEmpty());
+        assertFalse(alerts.isEmpty(), "the drift raises alerts inside the range");
+        assertTrue(lines("full", ReplayRunner.ESTIMATES).size() > estimates.size(), "windows outside are left out");
+        assertEquals(inRange("full", ReplayRunner.ESTIMATES, from, to), estimates);
+        assertEquals(inRange("full", ReplayRunner.ALERTS, from, to), alerts);
+        // The range starts after the fixed baseline period, which is still fitted.
+        for (ReplaySummary.Stream stream : ranged.streams()) {
+            assertEquals("frozen", stream.baseline(), stream.stream());
+        }
+        assertEquals(full.records(), ranged.records(), "every record is still read and counted");
+        assertFalse(full.records().reasons().containsKey(RejectReason.OUTSIDE_RANGE));
+    }
+
+    @Test
+    void everyAlertsOwnReplayCommandReproducesIt() throws Exception {
+        Path input = driftingFile();
+        replay(input, "full");
+        List<String> alerts = lines("full", ReplayRunner.ALERTS);
+        assertTrue(alerts.size() >= 2, "raised and continuing or cleared: " + alerts.size());
+        for (String alert : alerts) {
+            String command = Json.mapper().readTree(alert).get("replayCommand").asText();
+            List<String> args = List.of(command.split(" "));
+            assertEquals(List.of("oddswatch", "replay"), args.subList(0, 2), command);
+            Path config = Path.of(args.get(args.indexOf("--config") + 1));
+            Path file = Path.of(args.get(args.indexOf("--input") + 1));
+            Instant from = Instant.parse(args.get(args.indexOf("--from") + 1));
+            Instant to = Instant.parse(args.get(args.indexOf("--to") + 1));
+            assertEquals(input, file, "the command names the replayed file");
+            ReplayRunner.run(ReplayRequest.of(config, file, dir.resolve("again")).withRange(from, to));
+            assertTrue(lines("again", ReplayRunner.ALERTS).contains(alert), "reproduced by " + command);
+            assertEquals(inRange("full", ReplayRunner.ALERTS, from, to), lines("again", ReplayRunner.ALERTS));
         }
     }
 }
