@@ -3,6 +3,7 @@ package org.oddswatch.ingest.decode;
 import com.fasterxml.jackson.core.JsonPointer;
 import com.fasterxml.jackson.databind.JsonNode;
 import java.time.format.DateTimeParseException;
+import java.util.ArrayList;
 import java.util.List;
 import org.oddswatch.estimator.terms.CategoricalTerm;
 import org.oddswatch.estimator.terms.CodingOutcome;
@@ -17,12 +18,29 @@ import org.oddswatch.ingest.definition.TermSpec;
  * first failure decides the reason: id, time, outcome (missing-field, bad-id, bad-time, bad-outcome),
  * split value, then terms (unknown-level, bad-value). A term value that is absent, null or empty text
  * (or an undeclared level under {@code undeclared: missing}) is not a rejection: the event is accepted
- * with a null row. Thread-safe after construction.
+ * with a null row. The fields come either from a tree ({@link #decode(JsonNode)}: {@link JsonNode#at}) or
+ * from one streaming pass of a {@link RecordScanner} ({@link #decode(EventRecord)}); both give the same
+ * result. Thread-safe after construction.
  */
 public final class EventDecoder {
 
+    private static final int ID = 0;
+    private static final int TIME = 1;
+    private static final int OUTCOME = 2;
+    private static final int SPLIT = 3;
+
+    /** The slots of a scanner's layout this decoder's fields sit in (cached per layout). */
+    private record Binding(PointerTrie layout, int[] slots) {
+    }
+
     private final MonitorDefinition monitor;
     private final DesignCoder coder;
+    /** Every field read, in {@link #fieldsRead} order; the terms start at {@link #firstTerm}. */
+    private final JsonPointer[] fields;
+    private final int[] identity;
+    private final boolean hasSplit;
+    private final int firstTerm;
+    private volatile Binding binding;
     private final JsonPointer[] termFields;
     private final String[] termNames;
     private final int stratumTerm;
@@ -40,6 +58,10 @@ public final class EventDecoder {
         }
         stratumTerm = monitor.stratumTermIndex();
         stratumCoding = stratumTerm < 0 ? null : (CategoricalTerm) terms.get(stratumTerm).term();
+        fields = fieldsRead(monitor).toArray(new JsonPointer[0]);
+        identity = java.util.stream.IntStream.range(0, fields.length).toArray();
+        hasSplit = monitor.split() != null;
+        firstTerm = hasSplit ? SPLIT + 1 : SPLIT;
     }
 
     public MonitorDefinition monitor() {
@@ -57,35 +79,84 @@ public final class EventDecoder {
         }
     }
 
+    /** Decodes a tree (a CSV row, or a record parsed by {@link RecordParser}). */
     public Result decode(JsonNode tree) {
-        JsonPointer idField = monitor.event().id();
-        JsonNode idNode = tree.at(idField);
-        if (absent(idNode)) {
+        FieldValues values = new FieldValues(fields.length);
+        for (int f = 0; f < fields.length; f++) {
+            values.setNode(f, tree.at(fields[f]));
+        }
+        return decode(values, identity);
+    }
+
+    /**
+     * Decodes a record read by a {@link RecordScanner} (built with this decoder's monitor among its
+     * monitors), or given as a tree; the same record gives the same result either way.
+     */
+    public Result decode(EventRecord record) {
+        if (record.tree() != null) {
+            return decode(record.tree());
+        }
+        Binding binding = this.binding;
+        if (binding == null || binding.layout != record.layout()) {
+            binding = bind(record.layout());
+            this.binding = binding;
+        }
+        return decode(record.values(), binding.slots);
+    }
+
+    private Binding bind(PointerTrie layout) {
+        int[] slots = new int[fields.length];
+        for (int f = 0; f < fields.length; f++) {
+            slots[f] = layout.slotOf(fields[f]);
+        }
+        return new Binding(layout, slots);
+    }
+
+    /** The fields this monitor reads: id, time, outcome, the split field if any, then every term's field. */
+    public static List<JsonPointer> fieldsRead(MonitorDefinition monitor) {
+        List<JsonPointer> fields = new ArrayList<>();
+        fields.add(monitor.event().id());
+        fields.add(monitor.event().time());
+        fields.add(monitor.event().outcome().field());
+        if (monitor.split() != null) {
+            fields.add(monitor.split().field());
+        }
+        for (TermSpec term : monitor.terms()) {
+            fields.add(term.field());
+        }
+        return fields;
+    }
+
+    /** The decision itself, on the values of this monitor's fields ({@code slots[f]}: field f's slot). */
+    private Result decode(FieldValues values, int[] slots) {
+        JsonPointer idField = fields[ID];
+        int idSlot = slots[ID];
+        if (values.absent(idSlot)) {
             return reject(RejectReason.MISSING_FIELD, "no event id at " + idField);
         }
-        if (!idNode.isValueNode()) {
+        if (!values.isValue(idSlot)) {
             return reject(RejectReason.BAD_ID, "the event id at " + idField + " must be text or a number");
         }
-        String id = idNode.asText();
+        String id = values.asText(idSlot);
 
-        JsonPointer timeField = monitor.event().time();
-        JsonNode timeNode = tree.at(timeField);
-        if (absent(timeNode)) {
+        JsonPointer timeField = fields[TIME];
+        int timeSlot = slots[TIME];
+        if (values.absent(timeSlot)) {
             return reject(RejectReason.MISSING_FIELD, "no event time at " + timeField);
         }
         long time;
         try {
-            time = parseTime(timeNode);
+            time = parseTime(values, timeSlot);
         } catch (IllegalArgumentException e) {
             return reject(RejectReason.BAD_TIME, e.getMessage());
         }
 
         OutcomeSpec outcomeSpec = monitor.event().outcome();
-        JsonNode outcomeNode = tree.at(outcomeSpec.field());
-        if (absent(outcomeNode)) {
+        int outcomeSlot = slots[OUTCOME];
+        if (values.absent(outcomeSlot)) {
             return reject(RejectReason.MISSING_FIELD, "no outcome at " + outcomeSpec.field());
         }
-        String outcomeText = outcomeNode.isValueNode() ? scalarText(outcomeNode) : null;
+        String outcomeText = values.isValue(outcomeSlot) ? scalarText(values, outcomeSlot) : null;
         boolean positive;
         if (outcomeText != null && outcomeSpec.positive().contains(outcomeText)) {
             positive = true;
@@ -98,26 +169,26 @@ public final class EventDecoder {
         }
 
         String splitValue = null;
-        if (monitor.split() != null) {
-            JsonPointer splitField = monitor.split().field();
-            JsonNode splitNode = tree.at(splitField);
-            if (absent(splitNode)) {
+        if (hasSplit) {
+            JsonPointer splitField = fields[SPLIT];
+            int splitSlot = slots[SPLIT];
+            if (values.absent(splitSlot)) {
                 return reject(RejectReason.MISSING_FIELD, "no split value at " + splitField);
             }
-            if (!splitNode.isValueNode()) {
+            if (!values.isValue(splitSlot)) {
                 return reject(RejectReason.BAD_ID, "the split value at " + splitField + " must be text or a number");
             }
-            splitValue = scalarText(splitNode);
+            splitValue = scalarText(values, splitSlot);
         }
 
         Object[] raw = new Object[termFields.length];
         for (int t = 0; t < termFields.length; t++) {
-            JsonNode value = tree.at(termFields[t]);
-            if (value.isContainerNode()) {
+            int slot = slots[firstTerm + t];
+            if (values.isContainer(slot)) {
                 return reject(RejectReason.BAD_VALUE, termNames[t] + ": expected a single value at " + termFields[t]
-                        + ", found " + (value.isArray() ? "a list" : "an object"));
+                        + ", found " + (values.kinds[slot] == FieldValues.ARRAY ? "a list" : "an object"));
             }
-            raw[t] = plain(value);
+            raw[t] = plain(values, slot);
         }
         double[] row = new double[coder.width()];
         CodingOutcome coding = coder.code(raw, row);
@@ -134,8 +205,25 @@ public final class EventDecoder {
         return new Result(null, new Rejection(reason, detail));
     }
 
-    private static boolean absent(JsonNode node) {
-        return node.isMissingNode() || node.isNull() || (node.isTextual() && node.textValue().isEmpty());
+    /** {@link #parseTime(JsonNode)} on a field value. */
+    private static long parseTime(FieldValues values, int slot) {
+        switch (values.kinds[slot]) {
+            case FieldValues.INTEGER:
+                return values.longs[slot];
+            case FieldValues.BIG_INTEGER:
+                throw new IllegalArgumentException("time " + values.asText(slot) + " is out of range");
+            case FieldValues.FLOAT: {
+                double value = values.doubles[slot];
+                if (value == Math.rint(value) && Math.abs(value) < 9.0e15) {
+                    return (long) value;
+                }
+                throw new IllegalArgumentException("time " + values.asText(slot) + " is not whole epoch milliseconds");
+            }
+            case FieldValues.TEXT:
+                return parseTime(values.texts[slot]);
+            default:
+                throw new IllegalArgumentException("time must be RFC 3339 text or epoch milliseconds");
+        }
     }
 
     /**
@@ -196,32 +284,24 @@ public final class EventDecoder {
     }
 
     /** The text form outcomes and split values are compared in. */
-    private static String scalarText(JsonNode node) {
-        if (node.isIntegralNumber()) {
-            return node.bigIntegerValue().toString();
+    private static String scalarText(FieldValues values, int slot) {
+        if (values.kinds[slot] == FieldValues.FLOAT) {
+            double value = values.doubles[slot];
+            return value == Math.rint(value) && Math.abs(value) < 1e15 ? Long.toString((long) value) : values.asText(slot);
         }
-        if (node.isNumber()) {
-            double value = node.doubleValue();
-            return value == Math.rint(value) && Math.abs(value) < 1e15 ? Long.toString((long) value) : node.asText();
-        }
-        return node.asText();
+        return values.asText(slot);
     }
 
     /** A JSON scalar as the plain Java value {@link DesignCoder#code} expects; null when absent. */
-    private static Object plain(JsonNode node) {
-        if (node.isMissingNode() || node.isNull()) {
-            return null;
-        }
-        if (node.isTextual()) {
-            String text = node.textValue();
-            return text.isEmpty() ? null : text;
-        }
-        if (node.isBoolean()) {
-            return node.booleanValue();
-        }
-        if (node.isIntegralNumber() && node.canConvertToLong()) {
-            return node.longValue();
-        }
-        return node.doubleValue();
+    private static Object plain(FieldValues values, int slot) {
+        return switch (values.kinds[slot]) {
+            case FieldValues.MISSING, FieldValues.NULL -> null;
+            case FieldValues.TEXT -> values.texts[slot].isEmpty() ? null : values.texts[slot];
+            case FieldValues.TRUE -> Boolean.TRUE;
+            case FieldValues.FALSE -> Boolean.FALSE;
+            case FieldValues.INTEGER -> values.longs[slot];
+            case FieldValues.BIG_INTEGER -> values.bigs[slot].doubleValue();
+            default -> values.doubles[slot];
+        };
     }
 }

@@ -24,16 +24,20 @@ public final class RecordParser {
 
     public RecordParser(RecordLimits limits) {
         this.limits = limits;
-        JsonFactory factory = JsonFactory.builder()
+        this.reader = JsonMapper.builder(factory(limits))
+                .enable(DeserializationFeature.FAIL_ON_TRAILING_TOKENS)
+                .build()
+                .reader();
+    }
+
+    /** A JSON factory whose parsers apply the caps of {@code limits} (shared with {@link RecordScanner}). */
+    static JsonFactory factory(RecordLimits limits) {
+        return JsonFactory.builder()
                 .streamReadConstraints(StreamReadConstraints.builder()
                         .maxNestingDepth(limits.maxDepth())
                         .maxStringLength(Math.max(limits.maxRecordBytes(), 1))
                         .build())
                 .build();
-        this.reader = JsonMapper.builder(factory)
-                .enable(DeserializationFeature.FAIL_ON_TRAILING_TOKENS)
-                .build()
-                .reader();
     }
 
     /** The outcome of parsing: a tree, or a rejection. */

@@ -1,0 +1,141 @@
+package org.oddswatch.ingest.decode;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import java.math.BigInteger;
+import java.util.Arrays;
+
+/**
+ * The values found at a fixed list of JSON Pointers (one slot each), in the form the decoder needs:
+ * the kind of JSON value, and for scalars the value itself. A slot of a pointer that matched nothing
+ * is {@link #MISSING}, like {@link JsonNode#at} giving a missing node. Not thread-safe; reused record
+ * after record.
+ */
+final class FieldValues {
+
+    static final byte MISSING = 0;
+    static final byte NULL = 1;
+    static final byte TEXT = 2;
+    static final byte TRUE = 3;
+    static final byte FALSE = 4;
+    /** A whole number that fits a long. */
+    static final byte INTEGER = 5;
+    /** A whole number beyond the range of a long. */
+    static final byte BIG_INTEGER = 6;
+    /** A number with a fraction or an exponent. */
+    static final byte FLOAT = 7;
+    static final byte OBJECT = 8;
+    static final byte ARRAY = 9;
+
+    final byte[] kinds;
+    /** Text of TEXT slots; for FLOAT slots filled from a tree, the node's own text form (else null). */
+    final String[] texts;
+    final long[] longs;
+    final double[] doubles;
+    final BigInteger[] bigs;
+
+    FieldValues(int slots) {
+        kinds = new byte[slots];
+        texts = new String[slots];
+        longs = new long[slots];
+        doubles = new double[slots];
+        bigs = new BigInteger[slots];
+    }
+
+    int size() {
+        return kinds.length;
+    }
+
+    void reset() {
+        Arrays.fill(kinds, MISSING);
+        Arrays.fill(texts, null);
+        Arrays.fill(bigs, null);
+    }
+
+    void clear(int slot) {
+        kinds[slot] = MISSING;
+        texts[slot] = null;
+        bigs[slot] = null;
+    }
+
+    void setText(int slot, String text) {
+        kinds[slot] = TEXT;
+        texts[slot] = text;
+    }
+
+    void setLong(int slot, long value) {
+        kinds[slot] = INTEGER;
+        longs[slot] = value;
+    }
+
+    void setBig(int slot, BigInteger value) {
+        kinds[slot] = BIG_INTEGER;
+        bigs[slot] = value;
+    }
+
+    void setDouble(int slot, double value, String text) {
+        kinds[slot] = FLOAT;
+        doubles[slot] = value;
+        texts[slot] = text;
+    }
+
+    /** Copies a tree node (as returned by {@link JsonNode#at}) into a slot. */
+    void setNode(int slot, JsonNode node) {
+        clear(slot);
+        if (node.isMissingNode()) {
+            return;
+        }
+        if (node.isNull()) {
+            kinds[slot] = NULL;
+        } else if (node.isTextual()) {
+            setText(slot, node.textValue());
+        } else if (node.isBoolean()) {
+            kinds[slot] = node.booleanValue() ? TRUE : FALSE;
+        } else if (node.isIntegralNumber()) {
+            if (node.canConvertToLong()) {
+                setLong(slot, node.longValue());
+            } else {
+                setBig(slot, node.bigIntegerValue());
+            }
+        } else if (node.isNumber()) {
+            setDouble(slot, node.doubleValue(), node.asText());
+        } else if (node.isArray()) {
+            kinds[slot] = ARRAY;
+        } else if (node.isObject()) {
+            kinds[slot] = OBJECT;
+        } else {
+            // binary or POJO nodes never come out of parsing; treat them as text like asText() does
+            setText(slot, node.asText());
+        }
+    }
+
+    /** Absent in the sense of the decoder: missing, null or empty text. */
+    boolean absent(int slot) {
+        byte kind = kinds[slot];
+        return kind == MISSING || kind == NULL || (kind == TEXT && texts[slot].isEmpty());
+    }
+
+    /** A scalar (text, number, boolean or null), not an object, array or nothing. */
+    boolean isValue(int slot) {
+        byte kind = kinds[slot];
+        return kind != MISSING && kind != OBJECT && kind != ARRAY;
+    }
+
+    boolean isContainer(int slot) {
+        byte kind = kinds[slot];
+        return kind == OBJECT || kind == ARRAY;
+    }
+
+    /** The text form {@link JsonNode#asText()} gives the same value. */
+    String asText(int slot) {
+        return switch (kinds[slot]) {
+            case TEXT -> texts[slot];
+            case TRUE -> "true";
+            case FALSE -> "false";
+            case NULL -> "null";
+            case INTEGER -> Long.toString(longs[slot]);
+            case BIG_INTEGER -> bigs[slot].toString();
+            case FLOAT -> texts[slot] != null ? texts[slot] : Double.toString(doubles[slot]);
+            default -> "";
+        };
+    }
+}

@@ -1,0 +1,228 @@
+package org.oddswatch.ingest.decode;
+
+import com.fasterxml.jackson.core.JsonFactory;
+import com.fasterxml.jackson.core.JsonParser;
+import com.fasterxml.jackson.core.JsonPointer;
+import com.fasterxml.jackson.core.JsonToken;
+import java.io.IOException;
+import java.util.ArrayList;
+import java.util.List;
+import org.oddswatch.ingest.definition.MonitorDefinition;
+import org.oddswatch.ingest.definition.RecordLimits;
+
+/**
+ * Reads a record value once for all monitors of an input, without building a JSON tree: a single
+ * streaming pass that checks the whole value (well-formed, one object, nothing after it, nesting
+ * within {@code maxDepth}) and keeps only the values at the JSON Pointers the monitors read (a
+ * {@link PointerTrie}); other members are stepped over. Strings are still decoded (without making
+ * Java strings) so that the checks are exactly those of {@link RecordParser}.
+ *
+ * <p>Anything out of the ordinary — a record that is not an object, an error of any kind, trailing
+ * content — is handed to {@link RecordParser}, so rejection reasons and detail texts stay exactly
+ * those of the tree parser; such a record comes back as a tree (or a rejection). Duplicate members:
+ * the last one wins, as in the tree. Not thread-safe (it reuses one set of values): one scanner per
+ * pipeline thread.
+ */
+public final class RecordScanner {
+
+    /** The outcome of a scan: a record, or a rejection. The record is valid until the next scan. */
+    public record Scanned(EventRecord record, Rejection rejection) {
+        public boolean ok() {
+            return rejection == null;
+        }
+    }
+
+    private final RecordLimits limits;
+    private final RecordParser treeParser;
+    private final JsonFactory factory;
+    private final PointerTrie trie;
+    private final FieldValues values;
+    private final Scanned scanned;
+
+    /** A scanner for the fields the given monitors read. */
+    public RecordScanner(RecordLimits limits, List<MonitorDefinition> monitors) {
+        this(limits, new PointerTrie(pointersOf(monitors)));
+    }
+
+    /** A scanner for the given pointers (tests and tools). */
+    static RecordScanner forPointers(RecordLimits limits, List<JsonPointer> pointers) {
+        return new RecordScanner(limits, new PointerTrie(pointers));
+    }
+
+    private RecordScanner(RecordLimits limits, PointerTrie trie) {
+        this.limits = limits;
+        this.treeParser = new RecordParser(limits);
+        this.factory = RecordParser.factory(limits);
+        this.trie = trie;
+        this.values = new FieldValues(trie.size());
+        this.scanned = new Scanned(EventRecord.scanned(values, trie), null);
+    }
+
+    private static List<JsonPointer> pointersOf(List<MonitorDefinition> monitors) {
+        List<JsonPointer> pointers = new ArrayList<>();
+        for (MonitorDefinition monitor : monitors) {
+            pointers.addAll(EventDecoder.fieldsRead(monitor));
+        }
+        return pointers;
+    }
+
+    public Scanned scan(byte[] value) {
+        if (value == null || value.length > limits.maxRecordBytes()) {
+            return byTree(value);
+        }
+        values.reset();
+        try (JsonParser parser = factory.createParser(value)) {
+            if (parser.nextToken() != JsonToken.START_OBJECT) {
+                return byTree(value);
+            }
+            PointerTrie.Node root = trie.root();
+            if (root.slot >= 0) {
+                values.kinds[root.slot] = FieldValues.OBJECT;
+            }
+            readObject(parser, root);
+            if (parser.nextToken() != null) {
+                return byTree(value);
+            }
+        } catch (IOException | RuntimeException e) {
+            return byTree(value);
+        }
+        return scanned;
+    }
+
+    private Scanned byTree(byte[] value) {
+        RecordParser.Parsed parsed = treeParser.parse(value);
+        return parsed.ok() ? new Scanned(EventRecord.of(parsed.tree()), null) : new Scanned(null, parsed.rejection());
+    }
+
+    /** Reads the members of an object whose START_OBJECT is the current token. */
+    private void readObject(JsonParser parser, PointerTrie.Node node) throws IOException {
+        JsonToken token;
+        while ((token = parser.nextToken()) == JsonToken.FIELD_NAME) {
+            PointerTrie.Node child = node.member(parser.currentName());
+            token = parser.nextToken();
+            if (child == null) {
+                skip(parser, token);
+            } else {
+                for (int slot : child.subtreeSlots) {
+                    values.clear(slot); // a later duplicate member replaces an earlier one
+                }
+                readValue(parser, token, child);
+            }
+        }
+        if (token != JsonToken.END_OBJECT) {
+            throw new IOException("unexpected " + token + " in an object");
+        }
+    }
+
+    /** Reads the elements of an array whose START_ARRAY is the current token. */
+    private void readArray(JsonParser parser, PointerTrie.Node node) throws IOException {
+        JsonToken token;
+        int index = 0;
+        while ((token = parser.nextToken()) != JsonToken.END_ARRAY) {
+            if (token == null) {
+                throw new IOException("unexpected end of an array");
+            }
+            PointerTrie.Node child = node.element(index++);
+            if (child == null) {
+                skip(parser, token);
+            } else {
+                readValue(parser, token, child);
+            }
+        }
+    }
+
+    private void readValue(JsonParser parser, JsonToken token, PointerTrie.Node node) throws IOException {
+        int slot = node.slot;
+        switch (token) {
+            case START_OBJECT -> {
+                if (slot >= 0) {
+                    values.kinds[slot] = FieldValues.OBJECT;
+                }
+                if (node.hasMembers()) {
+                    readObject(parser, node);
+                } else {
+                    skip(parser, token);
+                }
+            }
+            case START_ARRAY -> {
+                if (slot >= 0) {
+                    values.kinds[slot] = FieldValues.ARRAY;
+                }
+                if (node.hasElements()) {
+                    readArray(parser, node);
+                } else {
+                    skip(parser, token);
+                }
+            }
+            case VALUE_STRING -> {
+                if (slot >= 0) {
+                    values.setText(slot, parser.getText());
+                } else {
+                    parser.getTextLength();
+                }
+            }
+            case VALUE_NUMBER_INT -> {
+                if (slot >= 0) {
+                    JsonParser.NumberType type = parser.getNumberType();
+                    if (type == JsonParser.NumberType.BIG_INTEGER) {
+                        values.setBig(slot, parser.getBigIntegerValue());
+                    } else {
+                        values.setLong(slot, parser.getLongValue());
+                    }
+                }
+            }
+            case VALUE_NUMBER_FLOAT -> {
+                if (slot >= 0) {
+                    values.setDouble(slot, parser.getDoubleValue(), null);
+                }
+            }
+            case VALUE_TRUE -> {
+                if (slot >= 0) {
+                    values.kinds[slot] = FieldValues.TRUE;
+                }
+            }
+            case VALUE_FALSE -> {
+                if (slot >= 0) {
+                    values.kinds[slot] = FieldValues.FALSE;
+                }
+            }
+            case VALUE_NULL -> {
+                if (slot >= 0) {
+                    values.kinds[slot] = FieldValues.NULL;
+                }
+            }
+            default -> throw new IOException("unexpected " + token);
+        }
+    }
+
+    /**
+     * Steps over the value starting at the current token. Strings are decoded into the parser's own
+     * buffer (no Java string) so that their encoding is checked as the tree parser checks it.
+     */
+    private static void skip(JsonParser parser, JsonToken token) throws IOException {
+        if (token == JsonToken.VALUE_STRING) {
+            parser.getTextLength();
+            return;
+        }
+        if (token != JsonToken.START_OBJECT && token != JsonToken.START_ARRAY) {
+            if (token == null) {
+                throw new IOException("unexpected end of input");
+            }
+            return;
+        }
+        int depth = 1;
+        while (depth > 0) {
+            JsonToken next = parser.nextToken();
+            if (next == null) {
+                throw new IOException("unexpected end of input");
+            }
+            switch (next) {
+                case START_OBJECT, START_ARRAY -> depth++;
+                case END_OBJECT, END_ARRAY -> depth--;
+                case VALUE_STRING -> parser.getTextLength();
+                default -> {
+                }
+            }
+        }
+    }
+}
