@@ -56,7 +56,7 @@ final class MonitorReader {
     }
 
     private static EventSpec event(DefNode event) throws DefinitionException {
-        event.mapping("id", "time", "maxFutureSkew", "outcome");
+        event.mapping("id", "time", "maxFutureSkew", "futureConfirm", "outcome");
         DefNode outcome = event.require("outcome").mapping("field", "positive", "negative");
         List<String> positive = values(outcome.get("positive"), List.of("positive", "true", "1"));
         List<String> negative = values(outcome.get("negative"), List.of("negative", "false", "0"));
@@ -65,8 +65,12 @@ final class MonitorReader {
                 throw outcome.get("negative").error("'" + value + "' is listed as both positive and negative");
             }
         }
+        int futureConfirm = event.get("futureConfirm").integer(EventSpec.DEFAULT_FUTURE_CONFIRM);
+        if (futureConfirm < 1) {
+            throw event.get("futureConfirm").error("must be at least 1");
+        }
         return new EventSpec(event.require("id").pointer(), event.require("time").pointer(),
-                DefinitionLoader.notNegative(event.get("maxFutureSkew"), Duration.ofDays(1)),
+                DefinitionLoader.notNegative(event.get("maxFutureSkew"), Duration.ofDays(1)), futureConfirm,
                 new OutcomeSpec(outcome.require("field").pointer(), positive, negative));
     }
 

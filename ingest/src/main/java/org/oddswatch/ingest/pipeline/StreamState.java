@@ -31,6 +31,11 @@ import org.oddswatch.ingest.definition.MonitorDefinition;
  * final. An event in bucket {@code b} is late when window {@code b+1} (its first window) is final.
  * Buckets before {@code F + 1 - k} ({@code F} the newest final window) can no longer be part of a
  * window and are dropped, with their ids. Only windows holding at least one event are estimated.
+ *
+ * <p>An event later than {@code W + maxFutureSkew} is rejected {@code too-far-in-future} and leaves
+ * {@code W} alone, unless it completes a run of {@code futureConfirm} consecutive such events
+ * spanning at most {@code maxFutureSkew} (a new time frontier after a quiet spell, not a typo): it
+ * is then accepted and moves {@code W}. An event within the horizon ends the run.
  */
 final class StreamState {
 
@@ -50,6 +55,7 @@ final class StreamState {
     private final WindowGeometry geometry;
     private final int bucketsPerWindow;
     private final long maxFutureSkewMillis;
+    private final int futureConfirm;
     private final PipelineListener listener;
     private final ReplayHint replayHint;
     private final WindowStore store;
@@ -58,6 +64,10 @@ final class StreamState {
     private final OutcomeCounts counts = new OutcomeCounts();
 
     private long watermark = Long.MIN_VALUE;
+    /** The run of consecutive events beyond the horizon: how many, and their earliest and latest time. */
+    private int futureRun;
+    private long futureRunMin;
+    private long futureRunMax;
     private long finalThrough = Long.MIN_VALUE;
     private WindowEstimate lastFinal;
     private double[] warmStart;
@@ -80,6 +90,7 @@ final class StreamState {
         this.geometry = monitor.geometry();
         this.bucketsPerWindow = geometry.bucketsPerWindow();
         this.maxFutureSkewMillis = monitor.event().maxFutureSkew().toMillis();
+        this.futureConfirm = monitor.event().futureConfirm();
         this.listener = listener;
         this.replayHint = replayHint;
         this.store = store;
@@ -114,9 +125,14 @@ final class StreamState {
         long bucket = geometry.bucketOf(time);
         if (watermark != Long.MIN_VALUE) {
             if (time - watermark > maxFutureSkewMillis) {
-                return RecordOutcome.rejected(RejectReason.TOO_FAR_IN_FUTURE, Instant.ofEpochMilli(time)
-                        + " is more than " + monitor.event().maxFutureSkew() + " after the watermark "
-                        + Instant.ofEpochMilli(watermark));
+                if (!confirmsNewFrontier(time)) {
+                    return RecordOutcome.rejected(RejectReason.TOO_FAR_IN_FUTURE, Instant.ofEpochMilli(time)
+                            + " is more than " + monitor.event().maxFutureSkew() + " after the watermark "
+                            + Instant.ofEpochMilli(watermark) + " (event " + futureRun + " of the " + futureConfirm
+                            + " within " + monitor.event().maxFutureSkew() + " of each other that resume the stream)");
+                }
+            } else {
+                futureRun = 0;
             }
             if (geometry.isFinal(bucket + 1, watermark)) {
                 return RecordOutcome.late("the window ending " + geometry.windowEnd(bucket + 1)
@@ -146,6 +162,29 @@ final class StreamState {
             finalizeThrough(geometry.bucketOf(watermark - geometry.latenessMillis()), suppress);
         }
         return RecordOutcome.ACCEPTED;
+    }
+
+    /**
+     * One more event beyond {@code watermark + maxFutureSkew}: it joins the current run when the run
+     * stays within {@code maxFutureSkew} from its earliest to its latest event, else starts a new
+     * run. True when the run reaches {@code futureConfirm} events (a consistent new time frontier,
+     * not a lone typo such as a wrong year): this event is then accepted and moves the watermark.
+     */
+    private boolean confirmsNewFrontier(long time) {
+        if (futureRun > 0 && Math.max(futureRunMax, time) - Math.min(futureRunMin, time) <= maxFutureSkewMillis) {
+            futureRun++;
+            futureRunMin = Math.min(futureRunMin, time);
+            futureRunMax = Math.max(futureRunMax, time);
+        } else {
+            futureRun = 1;
+            futureRunMin = time;
+            futureRunMax = time;
+        }
+        if (futureRun >= futureConfirm) {
+            futureRun = 0;
+            return true;
+        }
+        return false;
     }
 
     /** Moves the watermark on without an event (idle timeout, live only). */

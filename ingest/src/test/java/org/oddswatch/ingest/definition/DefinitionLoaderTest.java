@@ -71,6 +71,7 @@ class DefinitionLoaderTest {
         assertEquals(Duration.ofDays(2), north.window().lateness());
         assertEquals(4, north.geometry().bucketsPerWindow());
         assertEquals(Duration.ofDays(1), north.event().maxFutureSkew());
+        assertEquals(3, north.event().futureConfirm());
         assertEquals(0.95, north.estimates().level());
         assertEquals("wilson", north.estimates().prevalenceInterval());
         assertEquals(4096, north.estimates().patternLimit());
@@ -96,6 +97,14 @@ class DefinitionLoaderTest {
         assertEquals(21, e.line());
         assertEquals("monitors[1].window.width", e.key());
         assertTrue(e.problem().contains("multiple of step"), e.problem());
+    }
+
+    @Test
+    void futureConfirmIsAtLeastOne() throws Exception {
+        String base = VALID.replace("      time: /collectedAt\n", "      time: /collectedAt\n      futureConfirm: %s\n");
+        assertEquals(5, parse(base.formatted("5")).monitor("north").event().futureConfirm());
+        DefinitionException e = error(base.formatted("0"));
+        assertEquals("monitors.yaml:7: monitors[0].event.futureConfirm: must be at least 1", e.getMessage());
     }
 
     @Test

@@ -144,6 +144,68 @@ class MonitorPipelineTest {
     }
 
     @Test
+    void aStreamResumesAfterAGapLongerThanTheSkewOnceTheNewFrontierIsConfirmed() {
+        for (int i = 0; i < 5; i++) {
+            assertEquals(Outcome.ACCEPTED, send("a" + i, 0.1 + i * 0.2, "north").outcome());
+        }
+        // Three quiet days (beyond maxFutureSkew P1D): the first event after the gap starts a run...
+        assertEquals(RejectReason.TOO_FAR_IN_FUTURE, send("b0", 4.0, "north").reason());
+        // ...which an event within the horizon resets.
+        assertEquals(Outcome.ACCEPTED, send("a5", 0.95, "north").outcome());
+        // A consistent new frontier: events within one day of each other; the third (futureConfirm,
+        // default 3) is accepted and moves the watermark, the earlier two stay rejected.
+        assertEquals(RejectReason.TOO_FAR_IN_FUTURE, send("b1", 4.1, "north").reason());
+        RecordOutcome second = send("b2", 4.3, "north");
+        assertEquals(RejectReason.TOO_FAR_IN_FUTURE, second.reason());
+        assertTrue(second.detail().contains("event 2 of the 3"), second.detail());
+        assertEquals(at(0.95).toEpochMilli(), pipeline.watermark("resp/north"));
+        assertEquals(Outcome.ACCEPTED, send("b3", 4.2, "north").outcome());
+        assertEquals(at(4.2).toEpochMilli(), pipeline.watermark("resp/north"));
+        for (int i = 4; i < 10; i++) {
+            assertEquals(Outcome.ACCEPTED, send("b" + i, 4.0 + i * 0.1, "north").outcome(), "b" + i);
+        }
+        // The other stream is judged against its own watermark only.
+        assertEquals(Outcome.ACCEPTED, send("s0", 0.5, "south").outcome());
+
+        var counts = pipeline.snapshot().streams().get(0).counts();
+        assertEquals(5 + 1 + 1 + 6, counts.outcome(Outcome.ACCEPTED));
+        assertEquals(3, counts.outcome(Outcome.REJECTED), "b0 alone, then futureConfirm - 1 = 2");
+        assertEquals(3L, counts.reasons().get(RejectReason.TOO_FAR_IN_FUTURE));
+        assertEquals(counts.consumed(), counts.outcome(Outcome.ACCEPTED) + counts.outcome(Outcome.REJECTED));
+        assertEquals(List.of("b0", "b1", "b2"), out.rejects.stream().map(r -> idOf(r)).toList(),
+                "every rejected event is on the rejects output");
+        assertEquals(pipeline.totals().consumed(), line, "every record counted once");
+    }
+
+    @Test
+    void aLoneFarFutureEventIsRejectedAndDoesNotMoveTheWatermark() {
+        assertEquals(Outcome.ACCEPTED, send("a0", 1.0, "north").outcome());
+        long before = pipeline.watermark("resp/north");
+        // A typo in the year; and two more far-future events that are not within a day of each other.
+        String typo = HouseEvents.json("t0", Instant.parse("2062-02-03T10:00:00Z"), "north", true, false, "40-64",
+                "female", false);
+        assertEquals(RejectReason.TOO_FAR_IN_FUTURE, send(typo).reason());
+        assertEquals(before, pipeline.watermark("resp/north"));
+        assertEquals(RejectReason.TOO_FAR_IN_FUTURE, send("t1", 300, "north").reason());
+        assertEquals(RejectReason.TOO_FAR_IN_FUTURE, send("t2", 310, "north").reason());
+        assertEquals(before, pipeline.watermark("resp/north"), "three runs of one, none confirmed");
+        assertEquals(Outcome.ACCEPTED, send("a1", 1.2, "north").outcome());
+        assertEquals(RejectReason.TOO_FAR_IN_FUTURE, send(typo.replace("t0", "t3")).reason());
+        assertEquals(Outcome.ACCEPTED, send("a2", 1.3, "north").outcome());
+        assertEquals(at(1.3).toEpochMilli(), pipeline.watermark("resp/north"));
+        var counts = pipeline.snapshot().streams().get(0).counts();
+        assertEquals(3, counts.outcome(Outcome.ACCEPTED));
+        assertEquals(4L, counts.reasons().get(RejectReason.TOO_FAR_IN_FUTURE));
+        assertEquals(counts.consumed(), counts.outcome(Outcome.ACCEPTED) + counts.outcome(Outcome.REJECTED));
+    }
+
+    private static String idOf(RejectedRecord r) {
+        String text = new String(r.value(), StandardCharsets.UTF_8);
+        int at = text.indexOf("\"id\":\"") + 6;
+        return text.substring(at, text.indexOf('"', at));
+    }
+
+    @Test
     void splitValuesMakeStreamsUpToTheCap() {
         assertEquals(Outcome.ACCEPTED, send("a", 0.1, "north").outcome());
         assertEquals(Outcome.ACCEPTED, send("b", 0.2, "south").outcome());
