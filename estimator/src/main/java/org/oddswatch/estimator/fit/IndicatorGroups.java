@@ -141,23 +141,40 @@ final class IndicatorGroups {
         double[] st = new double[MAX_GROUPS];
         double[] stz = new double[MAX_GROUPS * q];
         double[] stzz = new double[MAX_GROUPS * q * q];
+        long[] wide = table == null ? new long[n] : null;
+        final int[] bc = binaryColumns;
+        // Pass 1 (streams the design): each row's 0/1 pattern as bits, and its numeric values.
         for (int i = 0; i < n; i++) {
-            int base = i * p;
+            final int base = i * p;
             long key = 0;
-            boolean other = false;
-            for (int c = 0; c < binaryColumns.length; c++) {
-                double v = x[base + binaryColumns[c]];
-                key |= (v == 1 ? 1L : 0L) << c;
-                other |= v != 0 & v != 1;
+            // |v (v - 1)| is 0 exactly for v = 0 and v = 1 (positive, infinite or NaN otherwise):
+            // a branch-free test of the whole row.
+            double other = 0;
+            for (int c = 0; c < bc.length; c++) {
+                final double v = x[base + bc[c]];
+                key |= (long) v << c;
+                other += Math.abs(v * (v - 1));
             }
-            if (other) {
+            if (other != 0) {
                 for (int c = 0; ; c++) {
-                    double v = x[base + binaryColumns[c]];
+                    double v = x[base + bc[c]];
                     if (v != 0 && v != 1) {
-                        return new Attempt(null, binaryColumns[c]);
+                        return new Attempt(null, bc[c]);
                     }
                 }
             }
+            if (wide == null) {
+                group[i] = (int) key;
+            } else {
+                wide[i] = key;
+            }
+            for (int a = 0; a < q; a++) {
+                z[i * q + a] = x[base + numericColumns[a]];
+            }
+        }
+        // Pass 2 (compact arrays only): patterns numbered by first appearance, and trial sums.
+        for (int i = 0; i < n; i++) {
+            final long key = wide == null ? group[i] : wide[i];
             int id;
             if (table != null) {
                 id = table[(int) key] - 1;
@@ -182,9 +199,6 @@ final class IndicatorGroups {
                 id = known;
             }
             group[i] = id;
-            for (int a = 0; a < q; a++) {
-                z[i * q + a] = x[base + numericColumns[a]];
-            }
             // The rank check's trials-weighted sums, in row order.
             double ti = trials[i];
             if (ti != 0) {
