@@ -5,7 +5,8 @@ package org.oddswatch.estimator.fit;
  * {@code x[i*columns .. i*columns+columns-1]}, {@code trials[i]} events of which {@code positives[i]}
  * are positive, and an optional fixed offset added to its linear predictor
  * {@code eta_i = offset_i + x_i . beta}. Arrays are used as given (not copied): do not change them
- * while a fit runs.
+ * while the problem is in use (the fitters keep derived data of a large problem, such as its
+ * indicator grouping, for later fits of the same problem).
  *
  * @param rows number of grouped rows n
  * @param columns design width p

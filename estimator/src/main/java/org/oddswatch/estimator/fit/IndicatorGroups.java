@@ -93,6 +93,43 @@ final class IndicatorGroups {
      * continuous column usually shows itself in its first rows).
      */
     static IndicatorGroups of(FitProblem problem) {
+        if (problem.rows() < CACHED_ROWS) {
+            return group(problem);
+        }
+        synchronized (CACHE) {
+            CACHE.removeIf(e -> e.problem.get() == null);
+            for (Cached e : CACHE) {
+                if (e.problem.get() == problem) {
+                    return e.groups;
+                }
+            }
+        }
+        IndicatorGroups groups = group(problem);
+        synchronized (CACHE) {
+            if (CACHE.size() == CACHE_SIZE) {
+                CACHE.remove(0);
+            }
+            CACHE.add(new Cached(new java.lang.ref.WeakReference<>(problem), groups));
+        }
+        return groups;
+    }
+
+    /** Problems from this many rows keep their grouping for later fits (profile bounds, LR tests). */
+    private static final int CACHED_ROWS = 4096;
+    private static final int CACHE_SIZE = 2;
+
+    /** A grouping (null: the problem does not qualify) for one problem instance, held while it lives. */
+    private record Cached(java.lang.ref.WeakReference<FitProblem> problem, IndicatorGroups groups) {
+    }
+
+    /**
+     * The groupings of the last large problem instances (by identity): the window model, its profile
+     * bounds and LR tests share one. The problem's arrays must not change while it is in use (see
+     * {@link FitProblem}).
+     */
+    private static final java.util.List<Cached> CACHE = new java.util.ArrayList<>();
+
+    private static IndicatorGroups group(FitProblem problem) {
         int p = problem.columns();
         boolean[] binary = new boolean[p];
         java.util.Arrays.fill(binary, true);
