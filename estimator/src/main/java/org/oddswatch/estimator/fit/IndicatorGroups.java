@@ -19,6 +19,7 @@ final class IndicatorGroups {
 
     static final int MAX_NUMERIC = 4;
     static final int MAX_GROUPS = 4096;
+    private static final long ONE_BITS = Double.doubleToRawLongBits(1.0);
 
     final int q;
     final int groupCount;
@@ -184,13 +185,14 @@ final class IndicatorGroups {
         for (int i = 0; i < n; i++) {
             final int base = i * p;
             long key = 0;
-            // |v (v - 1)| is 0 exactly for v = 0 and v = 1 (positive, infinite or NaN otherwise):
-            // a branch-free test of the whole row.
-            double other = 0;
+            // On the raw bits, a branch-free test of the whole row: bits << 1 is 0 for +0.0 and -0.0
+            // (the sign shifted out), and 1.0 is matched exactly; anything else leaves other != 0.
+            // Of the three, only 1.0 has bit 61 set.
+            long other = 0;
             for (int c = 0; c < bc.length; c++) {
-                final double v = x[base + bc[c]];
-                key |= (long) v << c;
-                other += Math.abs(v * (v - 1));
+                final long bits = Double.doubleToRawLongBits(x[base + bc[c]]);
+                key |= (bits >>> 61 & 1L) << c;
+                other |= bits == ONE_BITS ? 0L : bits << 1;
             }
             if (other != 0) {
                 for (int c = 0; ; c++) {
