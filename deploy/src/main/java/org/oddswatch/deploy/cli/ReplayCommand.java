@@ -35,10 +35,10 @@ final class ReplayCommand implements Callable<Integer> {
     @Option(names = "--out", required = true, paramLabel = "DIR", description = "Report folder (created; files in it are replaced).")
     Path out;
 
-    @Option(names = "--from", paramLabel = "TIME", description = "First event time replayed (inclusive; RFC 3339 or a date).")
+    @Option(names = "--from", paramLabel = "TIME", description = "Report only windows starting at or after this time (RFC 3339 or a date); earlier events are still read, so baselines, warm starts and CUSUM history match the full run.")
     Instant from;
 
-    @Option(names = "--to", paramLabel = "TIME", description = "End of the replayed event times (exclusive).")
+    @Option(names = "--to", paramLabel = "TIME", description = "Report only windows ending at or before this time.")
     Instant to;
 
     @Option(names = "--format", paramLabel = "FORMAT", description = "Input format: jsonl or csv (default: by the file name).")
