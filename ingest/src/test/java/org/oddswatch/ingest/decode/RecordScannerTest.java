@@ -55,6 +55,8 @@ class RecordScannerTest {
     private final MonitorDefinition odd = load(ODD_POINTERS);
     private final RecordParser parser = new RecordParser(LIMITS);
     private final RecordScanner scanner = new RecordScanner(LIMITS, List.of(main, odd));
+    /** The same without the plain fast path: every record goes through the Jackson streaming pass. */
+    private final RecordScanner streaming = new RecordScanner(LIMITS, List.of(main, odd), false);
 
     private static final String BASE = "{\"id\":\"e1\",\"collectedAt\":\"2026-02-03T09:30:00Z\",\"result\":\"positive\","
             + "\"region\":\"north\",\"exposure\":{\"household\":\"yes\"},\"age\":42,\"ageBand\":\"40-64\",\"sex\":\"male\"}";
@@ -156,15 +158,53 @@ class RecordScannerTest {
     @Test
     void scannerGivesTheSameResultAsTheTreeDecoderForEveryRecordOfTheCorpus() {
         List<MonitorDefinition> monitors = List.of(main, odd);
-        int scanned = 0;
+        java.util.EnumMap<RecordScanner.Path, Integer> plainPaths = new java.util.EnumMap<>(RecordScanner.Path.class);
+        java.util.EnumMap<RecordScanner.Path, Integer> streamingPaths = new java.util.EnumMap<>(RecordScanner.Path.class);
         for (String text : corpus()) {
-            compare(text, text.getBytes(StandardCharsets.UTF_8), monitors);
-            EventRecord record = scanner.scan(text.getBytes(StandardCharsets.UTF_8)).record();
-            if (record != null && record.tree() == null) {
-                scanned++;
-            }
+            byte[] bytes = text.getBytes(StandardCharsets.UTF_8);
+            compare(text, bytes, monitors, scanner);
+            plainPaths.merge(scanner.lastPath(), 1, Integer::sum);
+            compare(text, bytes, monitors, streaming);
+            streamingPaths.merge(streaming.lastPath(), 1, Integer::sum);
         }
-        assertTrue(scanned > 100, "most records take the streaming path, not the tree fallback: " + scanned);
+        // each path must really have been exercised, or the comparison would prove nothing about it
+        assertTrue(plainPaths.getOrDefault(RecordScanner.Path.PLAIN, 0) > 90, plainPaths::toString);
+        assertTrue(plainPaths.getOrDefault(RecordScanner.Path.STREAMING, 0) > 5, plainPaths::toString);
+        assertTrue(streamingPaths.getOrDefault(RecordScanner.Path.STREAMING, 0) > 100, streamingPaths::toString);
+        assertTrue(streamingPaths.getOrDefault(RecordScanner.Path.TREE, 0) > 30, streamingPaths::toString);
+    }
+
+    /** Seeded random damage to corpus records (bytes dropped, doubled, replaced): same verdicts as before. */
+    @Test
+    void damagedRecordsGetTheSameVerdictAsFromTheTreeDecoder() {
+        java.util.Random random = new java.util.Random(20261201);
+        byte[] alphabet = "{}[]\":,.-+0123456789eEtrufalsn \\/\tx\u00e9".getBytes(StandardCharsets.UTF_8);
+        List<String> corpus = corpus();
+        for (int i = 0; i < 20_000; i++) {
+            byte[] bytes = corpus.get(random.nextInt(corpus.size())).getBytes(StandardCharsets.UTF_8);
+            if (bytes.length == 0) {
+                continue;
+            }
+            int at = random.nextInt(bytes.length);
+            byte[] damaged = switch (random.nextInt(3)) {
+                case 0 -> concat(java.util.Arrays.copyOf(bytes, at), java.util.Arrays.copyOfRange(bytes, at + 1, bytes.length));
+                case 1 -> concat(java.util.Arrays.copyOf(bytes, at + 1), java.util.Arrays.copyOfRange(bytes, at, bytes.length));
+                default -> {
+                    byte[] copy = bytes.clone();
+                    copy[at] = alphabet[random.nextInt(alphabet.length)];
+                    yield copy;
+                }
+            };
+            String label = "damaged #" + i + ": " + new String(damaged, StandardCharsets.UTF_8);
+            compare(label, damaged, List.of(main, odd), scanner);
+            compare(label, damaged, List.of(main, odd), streaming);
+        }
+    }
+
+    private static byte[] concat(byte[] a, byte[] b) {
+        byte[] all = java.util.Arrays.copyOf(a, a.length + b.length);
+        System.arraycopy(b, 0, all, a.length, b.length);
+        return all;
     }
 
     @Test
@@ -177,11 +217,12 @@ class RecordScannerTest {
             byte[] bytes = base.clone();
             bytes[at] = pair[0];
             bytes[at + 1] = pair[1];
-            compare(java.util.Arrays.toString(pair), bytes, List.of(main, odd));
+            compare(java.util.Arrays.toString(pair), bytes, List.of(main, odd), scanner);
+            compare(java.util.Arrays.toString(pair), bytes, List.of(main, odd), streaming);
         }
     }
 
-    private void compare(String label, byte[] bytes, List<MonitorDefinition> monitors) {
+    private void compare(String label, byte[] bytes, List<MonitorDefinition> monitors, RecordScanner scanner) {
         RecordParser.Parsed parsed = parser.parse(bytes);
         RecordScanner.Scanned scanned = scanner.scan(bytes);
         assertEquals(parsed.ok(), scanned.ok(), label);
