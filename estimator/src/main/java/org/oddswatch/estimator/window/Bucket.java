@@ -138,10 +138,35 @@ final class Bucket {
         return rowCount;
     }
 
-    /** Writes stored row r into the design at {@code xOffset}; returns its outcome. */
-    boolean decodeRow(int r, double[] x, int xOffset) {
-        layout.decode(rowWords, r * layout.words, rowNumerics, r * layout.numericColumns.length, x, xOffset);
-        return (rowOutcomes[r >>> 6] >>> (r & 63) & 1L) != 0;
+    /**
+     * Writes every stored row into a freshly zeroed design from row {@code first} (so only the ones
+     * of the indicator bits need writing), with trials 1 and the row's outcome as positives.
+     */
+    void decodeRows(double[] x, int p, int first, double[] trials, double[] positives) {
+        final int words = layout.words;
+        final int q = layout.numericColumns.length;
+        final int[] indicators = layout.indicatorColumns;
+        final int[] numerics = layout.numericColumns;
+        final long[] rw = rowWords;
+        final double[] rn = rowNumerics;
+        final long[] outcomes = rowOutcomes;
+        for (int r = 0; r < rowCount; r++) {
+            final int i = first + r;
+            final int base = i * p;
+            x[base] = 1.0;
+            for (int w = 0; w < words; w++) {
+                long bits = rw[r * words + w];
+                while (bits != 0) {
+                    x[base + indicators[(w << 6) + Long.numberOfTrailingZeros(bits)]] = 1.0;
+                    bits &= bits - 1;
+                }
+            }
+            for (int b = 0; b < q; b++) {
+                x[base + numerics[b]] = rn[r * q + b];
+            }
+            trials[i] = 1;
+            positives[i] = outcomes[r >>> 6] >>> (r & 63) & 1L;
+        }
     }
 
     /** Approximate heap bytes: arrays at capacity, or about 120 bytes per pattern entry plus its key. */

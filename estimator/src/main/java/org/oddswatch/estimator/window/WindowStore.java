@@ -122,11 +122,8 @@ public final class WindowStore {
             i++;
         }
         for (Bucket b : rowBuckets) {
-            int count = b.rowCount();
-            for (int r = 0; r < count; r++, i++) {
-                trials[i] = 1;
-                positives[i] = b.decodeRow(r, x, i * p) ? 1 : 0;
-            }
+            b.decodeRows(x, p, i, trials, positives);
+            i += b.rowCount();
         }
         return new WindowData(p, n, x, trials, positives, events, cases, stratumEvents, stratumCases);
     }
