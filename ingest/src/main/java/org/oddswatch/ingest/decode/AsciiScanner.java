@@ -22,6 +22,7 @@ final class AsciiScanner {
     private final PointerTrie trie;
     private final FieldValues values;
     private final int depthLimit;
+    private final TextCache texts;
     private byte[] b;
     private int n;
     private int pos;
@@ -35,6 +36,7 @@ final class AsciiScanner {
         this.trie = trie;
         this.values = values;
         this.depthLimit = Math.min(maxDepth, MAX_DEPTH);
+        this.texts = new TextCache(trie.size());
     }
 
     /** True when the record was read completely (values filled); false when the full path must decide. */
@@ -190,7 +192,7 @@ final class AsciiScanner {
                     return false;
                 }
                 if (slot >= 0) {
-                    values.setText(slot, new String(b, start, end - start, StandardCharsets.ISO_8859_1));
+                    values.setText(slot, texts.text(slot, b, start, end));
                 }
                 pos = end + 1;
                 return true;
