@@ -95,7 +95,7 @@ final class IndicatorGroups {
      */
     static IndicatorGroups of(FitProblem problem) {
         if (problem.rows() < CACHED_ROWS) {
-            return group(problem);
+            return derive(problem);
         }
         synchronized (CACHE) {
             CACHE.removeIf(e -> e.problem.get() == null);
@@ -105,7 +105,10 @@ final class IndicatorGroups {
                 }
             }
         }
-        IndicatorGroups groups = group(problem);
+        IndicatorGroups groups = KnownGrouping.of(problem);
+        if (groups == null) {
+            groups = derive(problem);
+        }
         synchronized (CACHE) {
             if (CACHE.size() == CACHE_SIZE) {
                 CACHE.remove(0);
@@ -130,7 +133,7 @@ final class IndicatorGroups {
      */
     private static final java.util.List<Cached> CACHE = new java.util.ArrayList<>();
 
-    private static IndicatorGroups group(FitProblem problem) {
+    static IndicatorGroups derive(FitProblem problem) {
         int p = problem.columns();
         boolean[] binary = new boolean[p];
         java.util.Arrays.fill(binary, true);
@@ -169,17 +172,9 @@ final class IndicatorGroups {
                 numericColumns[a++] = j;
             }
         }
-        // Up to 16 binary columns: a direct table from pattern bits to group number + 1.
-        int[] table = binaryColumns.length <= 16 ? new int[1 << binaryColumns.length] : null;
-        Map<Long, Integer> ids = new HashMap<>();
-        java.util.List<Long> keys = new java.util.ArrayList<>();
         int[] group = new int[n];
         double[] z = new double[n * q];
-        double[] trials = problem.trials();
-        double[] st = new double[MAX_GROUPS];
-        double[] stz = new double[MAX_GROUPS * q];
-        double[] stzz = new double[MAX_GROUPS * q * q];
-        long[] wide = table == null ? new long[n] : null;
+        long[] wide = binaryColumns.length > 16 ? new long[n] : null;
         final int[] bc = binaryColumns;
         // Pass 1 (streams the design): each row's 0/1 pattern as bits, and its numeric values.
         for (int i = 0; i < n; i++) {
@@ -211,6 +206,25 @@ final class IndicatorGroups {
                 z[i * q + a] = x[base + numericColumns[a]];
             }
         }
+        return new Attempt(numbered(binaryColumns, numericColumns, n, group, wide, z, problem.trials()), -1);
+    }
+
+    /**
+     * Pass 2 of the grouping, over compact arrays only: the rows' 0/1 patterns (bit c for
+     * {@code binaryColumns[c]}; in {@code group} itself when {@code wide} is null, which needs at
+     * most 16 binary columns) numbered by first appearance, with the rank check's trials-weighted
+     * sums. {@code group} is overwritten with the group numbers. Null past {@link #MAX_GROUPS} groups.
+     */
+    static IndicatorGroups numbered(int[] binaryColumns, int[] numericColumns, int n, int[] group, long[] wide,
+                                    double[] z, double[] trials) {
+        final int q = numericColumns.length;
+        // Up to 16 binary columns: a direct table from pattern bits to group number + 1.
+        int[] table = binaryColumns.length <= 16 ? new int[1 << binaryColumns.length] : null;
+        Map<Long, Integer> ids = new HashMap<>();
+        java.util.List<Long> keys = new java.util.ArrayList<>();
+        double[] st = new double[MAX_GROUPS];
+        double[] stz = new double[MAX_GROUPS * q];
+        double[] stzz = new double[MAX_GROUPS * q * q];
         // Pass 2 (compact arrays only): patterns numbered by first appearance, and trial sums.
         for (int i = 0; i < n; i++) {
             final long key = wide == null ? group[i] : wide[i];
@@ -219,7 +233,7 @@ final class IndicatorGroups {
                 id = table[(int) key] - 1;
                 if (id < 0) {
                     if (keys.size() == MAX_GROUPS) {
-                        return new Attempt(null, -1);
+                        return null;
                     }
                     id = keys.size();
                     table[(int) key] = id + 1;
@@ -229,7 +243,7 @@ final class IndicatorGroups {
                 Integer known = ids.get(key);
                 if (known == null) {
                     if (keys.size() == MAX_GROUPS) {
-                        return new Attempt(null, -1);
+                        return null;
                     }
                     known = keys.size();
                     ids.put(key, known);
@@ -261,6 +275,6 @@ final class IndicatorGroups {
                 }
             }
         }
-        return new Attempt(new IndicatorGroups(q, keys.size(), numericColumns, group, z, members, st, stz, stzz), -1);
+        return new IndicatorGroups(q, keys.size(), numericColumns, group, z, members, st, stz, stzz);
     }
 }

@@ -169,6 +169,22 @@ final class Bucket {
         }
     }
 
+    /**
+     * Writes each stored row's pattern key (bit 0 for the intercept, then one bit per indicator
+     * column; at most one indicator word) from row {@code first}, and copies its numeric values.
+     */
+    void writeKeys(int[] keys, double[] z, int first) {
+        final int q = layout.numericColumns.length;
+        if (layout.words == 1) {
+            for (int r = 0; r < rowCount; r++) {
+                keys[first + r] = (int) (1L | rowWords[r] << 1);
+            }
+        } else {
+            java.util.Arrays.fill(keys, first, first + rowCount, 1);
+        }
+        System.arraycopy(rowNumerics, 0, z, first * q, rowCount * q);
+    }
+
     /** Approximate heap bytes: arrays at capacity, or about 120 bytes per pattern entry plus its key. */
     long approximateBytes() {
         long bytes = 64 + 16L * stratumEvents.length;

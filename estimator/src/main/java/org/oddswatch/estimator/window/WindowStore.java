@@ -5,6 +5,7 @@ import java.util.List;
 import java.util.Map;
 import java.util.NavigableMap;
 import java.util.TreeMap;
+import org.oddswatch.estimator.fit.KnownGrouping;
 import org.oddswatch.estimator.terms.DesignCoder;
 
 /**
@@ -125,7 +126,53 @@ public final class WindowStore {
             b.decodeRows(x, p, i, trials, positives);
             i += b.rowCount();
         }
+        attachGrouping(x, trials, merged, rowBuckets, n);
         return new WindowData(p, n, x, trials, positives, events, cases, stratumEvents, stratumCases);
+    }
+
+    /** Windows from this many rows hand their indicator grouping to the fitters. */
+    private static final int GROUPED_ROWS = 4096;
+
+    /**
+     * Hands the fitters the window's indicator grouping ({@link KnownGrouping}), taken from the
+     * stored bits instead of the dense design: the intercept and the indicator columns are the 0/1
+     * columns. Skipped for small windows, for more than 15 indicator columns or 4 numeric ones, and
+     * when a numeric column happens to hold only 0 and 1 (the fitters would count it as 0/1).
+     */
+    private void attachGrouping(double[] x, double[] trials, TreeMap<PatternKey, long[]> merged, List<Bucket> rowBuckets,
+                                int n) {
+        int q = layout.numericColumns.length;
+        int indicators = layout.indicatorColumns.length;
+        if (n < GROUPED_ROWS || indicators + 1 > 16 || q > 4) {
+            return;
+        }
+        int[] keys = new int[n];
+        double[] z = new double[n * q];
+        int i = 0;
+        for (PatternKey k : merged.keySet()) {
+            keys[i] = (int) (1L | (layout.words == 0 ? 0L : k.bits[0] << 1));
+            for (int b = 0; b < q; b++) {
+                z[i * q + b] = Double.longBitsToDouble(k.bits[layout.words + b]);
+            }
+            i++;
+        }
+        for (Bucket b : rowBuckets) {
+            b.writeKeys(keys, z, i);
+            i += b.rowCount();
+        }
+        for (int a = 0; a < q; a++) {
+            boolean onlyZeroOne = true;
+            for (int r = 0; r < n && onlyZeroOne; r++) {
+                double v = z[r * q + a];
+                onlyZeroOne = v == 0 || v == 1;
+            }
+            if (onlyZeroOne) {
+                return;
+            }
+        }
+        int[] binary = new int[indicators + 1];
+        System.arraycopy(layout.indicatorColumns, 0, binary, 1, indicators);
+        KnownGrouping.attach(x, layout.width, trials, binary, layout.numericColumns, keys, z);
     }
 
     /** The oldest bucket held, or {@link Long#MAX_VALUE} when empty. */
