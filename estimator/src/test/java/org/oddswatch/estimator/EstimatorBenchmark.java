@@ -98,7 +98,7 @@ class EstimatorBenchmark {
         store.expireBefore(1);
         double bytes = (double) store.approximateBytes() / (WIDTH * perDay);
         WindowData[] holder = new WindowData[1];
-        double assembly = medianMs(numeric ? 1 : 10, numeric ? 5 : 51, () -> holder[0] = store.window(1, WIDTH + 1));
+        double assembly = medianMs(numeric ? 3 : 10, numeric ? 7 : 51, () -> holder[0] = store.window(1, WIDTH + 1));
         WindowData data = holder[0];
         assertEquals(WIDTH * perDay, data.events());
         FitResult[] warm = new FitResult[1];

@@ -12,7 +12,8 @@ import java.util.List;
  *
  * <p>A grouping is attached to one design array and one trials array (by identity, held weakly)
  * and used for every {@link FitProblem} made of exactly those arrays with the same width and row
- * count. Its arrays must not change afterwards, as {@link FitProblem} already requires. The
+ * count. Its arrays must not change afterwards, as {@link FitProblem} already requires; the values
+ * of an attached design are finite by construction, so {@link FitProblem} does not scan them again. The
  * grouping must be the one the fitters would find themselves: patterns of the columns that hold
  * only 0 and 1 (the intercept included), numbered by first appearance in row order.
  */
@@ -29,8 +30,8 @@ public final class KnownGrouping {
     }
 
     /**
-     * Attaches the grouping of the design {@code x} (n rows of {@code columns}) with trials
-     * {@code trials}.
+     * Attaches the grouping of the design {@code x} (n rows of {@code columns}, all finite) with
+     * trials {@code trials}.
      *
      * @param binaryColumns the columns holding only 0 and 1, ascending (at most 64)
      * @param numericColumns the other columns, ascending (at most 4)
@@ -60,6 +61,18 @@ public final class KnownGrouping {
             ATTACHED.add(new Entry(new WeakReference<>(x), new WeakReference<>(trials), columns, n, groups));
         }
         return true;
+    }
+
+    /** Whether a grouping is attached to this design array (then assembled by the store: finite values). */
+    static boolean isAttached(double[] x, int columns, int rows) {
+        synchronized (ATTACHED) {
+            for (Entry e : ATTACHED) {
+                if (e.x.get() == x && e.columns == columns && e.rows == rows) {
+                    return true;
+                }
+            }
+        }
+        return false;
     }
 
     /** The grouping attached to this problem's arrays, or null. */
