@@ -37,21 +37,11 @@ final class PointerTrie {
             byte[][] names = memberNames;
             for (int m = 0; m < names.length; m++) {
                 byte[] name = names[m];
-                if (name.length == length && same(name, bytes, from)) {
+                if (name.length == length && TextCache.sameBytes(name, bytes, from)) {
                     return memberNodes[m];
                 }
             }
             return null;
-        }
-
-        /** A plain loop: member names are short, where {@code Arrays.equals} costs more to set up. */
-        private static boolean same(byte[] name, byte[] bytes, int from) {
-            for (int i = 0; i < name.length; i++) {
-                if (name[i] != bytes[from + i]) {
-                    return false;
-                }
-            }
-            return true;
         }
 
         Node member(String name) {

@@ -41,7 +41,7 @@ final class TextCache {
         byte[][] known = bytes[slot];
         for (int w = 0; w < WAYS; w++) {
             byte[] k = known[w];
-            if (k != null && k.length == length && same(k, b, from)) {
+            if (k != null && k.length == length && sameBytes(k, b, from)) {
                 count(slot, true);
                 return strings[slot][w];
             }
@@ -55,7 +55,11 @@ final class TextCache {
         return text;
     }
 
-    private static boolean same(byte[] known, byte[] b, int from) {
+    /**
+     * Whether {@code b} holds {@code known} from {@code from} on. A plain loop: these values and names
+     * are short, where {@code Arrays.equals} costs more to set up.
+     */
+    static boolean sameBytes(byte[] known, byte[] b, int from) {
         for (int i = 0; i < known.length; i++) {
             if (known[i] != b[from + i]) {
                 return false;
