@@ -11,9 +11,8 @@ import org.oddswatch.ingest.definition.MonitorDefinition;
 import org.oddswatch.ingest.definition.RecordLimits;
 
 /**
- * Reads a record value once for all monitors of an input, without building a JSON tree. Plain
- * records (ASCII, no escapes) are read by the hand-written {@link AsciiScanner}; the others by a
- * single Jackson streaming pass that checks the whole value (well-formed, one object, nothing after it, nesting
+ * Reads a record value once for all monitors of an input, without building a JSON tree: a
+ * single Jackson streaming pass checks the whole value (well-formed, one object, nothing after it, nesting
  * within {@code maxDepth}) and keeps only the values at the JSON Pointers the monitors read (a
  * {@link PointerTrie}); other members are stepped over. Strings are still decoded (without making
  * Java strings) so that the checks are exactly those of {@link RecordParser}.
@@ -39,36 +38,29 @@ public final class RecordScanner {
     private final PointerTrie trie;
     private final FieldValues values;
     private final Scanned scanned;
-    private final AsciiScanner fast;
 
     /** Which path read the last record (for tests). */
-    enum Path { PLAIN, STREAMING, TREE }
+    enum Path { STREAMING, TREE }
 
     /** A scanner for the fields the given monitors read. */
     public RecordScanner(RecordLimits limits, List<MonitorDefinition> monitors) {
-        this(limits, new PointerTrie(pointersOf(monitors)), true);
+        this(limits, new PointerTrie(pointersOf(monitors)));
     }
 
     /** A scanner for the given pointers (tests and tools). */
     static RecordScanner forPointers(RecordLimits limits, List<JsonPointer> pointers) {
-        return new RecordScanner(limits, new PointerTrie(pointers), true);
-    }
-
-    /** As the public constructor, optionally without the plain fast path (tests compare the paths). */
-    RecordScanner(RecordLimits limits, List<MonitorDefinition> monitors, boolean plainPath) {
-        this(limits, new PointerTrie(pointersOf(monitors)), plainPath);
+        return new RecordScanner(limits, new PointerTrie(pointers));
     }
 
     private Path lastPath;
 
-    private RecordScanner(RecordLimits limits, PointerTrie trie, boolean plainPath) {
+    private RecordScanner(RecordLimits limits, PointerTrie trie) {
         this.limits = limits;
         this.treeParser = new RecordParser(limits);
         this.factory = RecordParser.factory(limits);
         this.trie = trie;
         this.values = new FieldValues(trie.size());
         this.scanned = new Scanned(EventRecord.scanned(values, trie), null);
-        this.fast = plainPath ? new AsciiScanner(trie, values, limits.maxDepth()) : null;
     }
 
     private static List<JsonPointer> pointersOf(List<MonitorDefinition> monitors) {
@@ -84,13 +76,6 @@ public final class RecordScanner {
             return byTree(value);
         }
         values.reset();
-        if (fast != null) {
-            if (fast.scan(value)) {
-                lastPath = Path.PLAIN;
-                return scanned;
-            }
-            values.reset();
-        }
         lastPath = Path.STREAMING;
         try (JsonParser parser = factory.createParser(value)) {
             if (parser.nextToken() != JsonToken.START_OBJECT) {

@@ -17,7 +17,8 @@ import org.oddswatch.estimator.calibration.BaselineModel;
 import org.oddswatch.estimator.window.WindowStore;
 import org.oddswatch.ingest.decode.DecodedEvent;
 import org.oddswatch.ingest.decode.EventDecoder;
-import org.oddswatch.ingest.decode.RecordParser;
+import org.oddswatch.ingest.decode.EventRecord;
+import org.oddswatch.ingest.decode.RecordScanner;
 import org.oddswatch.ingest.decode.RejectReason;
 import org.oddswatch.ingest.decode.Rejection;
 import org.oddswatch.ingest.definition.BaselineSpec;
@@ -56,7 +57,8 @@ public final class MonitorPipeline {
     private final Map<String, StreamState> streamsByName = new LinkedHashMap<>();
     private final PipelineListener listener;
     private final PipelineSettings settings;
-    private final RecordParser parser;
+    /** One streaming pass per record for all monitors of this input (no JSON tree). */
+    private final RecordScanner scanner;
     private final OutcomeCounts totals = new OutcomeCounts();
     private final Map<String, List<Alert>> pendingRestore = new LinkedHashMap<>();
     private long rebuilt;
@@ -71,7 +73,7 @@ public final class MonitorPipeline {
         this.input = input;
         this.listener = listener;
         this.settings = settings;
-        this.parser = new RecordParser(settings.limits());
+        this.scanner = new RecordScanner(settings.limits(), monitors);
         for (MonitorDefinition monitor : monitors) {
             BaselineModel shared = null;
             BaselineSpec spec = monitor.baseline();
@@ -134,19 +136,24 @@ public final class MonitorPipeline {
      * @return the record's outcome (accepted when any monitor accepted it)
      */
     public RecordOutcome offer(byte[] value, RecordOrigin origin, boolean suppressOutput) {
-        RecordParser.Parsed parsed = parser.parse(value);
-        if (!parsed.ok()) {
-            return offerUnreadable(value, origin, parsed.rejection().reason(), parsed.rejection().detail(),
+        RecordScanner.Scanned scanned = scanner.scan(value);
+        if (!scanned.ok()) {
+            return offerUnreadable(value, origin, scanned.rejection().reason(), scanned.rejection().detail(),
                     suppressOutput);
         }
-        return offerTree(parsed.tree(), value, origin, suppressOutput);
+        return offerRecord(scanned.record(), value, origin, suppressOutput);
     }
 
     /** Offers a record that is already a JSON tree (a CSV row); {@code original} is kept for rejects. */
     public RecordOutcome offerTree(JsonNode tree, byte[] original, RecordOrigin origin, boolean suppressOutput) {
+        return offerRecord(EventRecord.of(tree), original, origin, suppressOutput);
+    }
+
+    private RecordOutcome offerRecord(EventRecord record, byte[] original, RecordOrigin origin,
+                                      boolean suppressOutput) {
         RecordOutcome overall = null;
         for (MonitorRoute route : routes) {
-            RecordOutcome outcome = offerTo(route, tree, original, origin, suppressOutput);
+            RecordOutcome outcome = offerTo(route, record, original, origin, suppressOutput);
             if (overall == null || (outcome.accepted() && !overall.accepted())) {
                 overall = outcome;
             }
@@ -175,9 +182,9 @@ public final class MonitorPipeline {
         return outcome;
     }
 
-    private RecordOutcome offerTo(MonitorRoute route, JsonNode tree, byte[] original, RecordOrigin origin,
+    private RecordOutcome offerTo(MonitorRoute route, EventRecord record, byte[] original, RecordOrigin origin,
                                   boolean suppress) {
-        EventDecoder.Result decoded = route.decoder.decode(tree);
+        EventDecoder.Result decoded = route.decoder.decode(record);
         if (!decoded.ok()) {
             return rejectUnrouted(route, null, decoded.rejection(), original, origin, suppress);
         }

@@ -55,8 +55,6 @@ class RecordScannerTest {
     private final MonitorDefinition odd = load(ODD_POINTERS);
     private final RecordParser parser = new RecordParser(LIMITS);
     private final RecordScanner scanner = new RecordScanner(LIMITS, List.of(main, odd));
-    /** The same without the plain fast path: every record goes through the Jackson streaming pass. */
-    private final RecordScanner streaming = new RecordScanner(LIMITS, List.of(main, odd), false);
 
     private static final String BASE = "{\"id\":\"e1\",\"collectedAt\":\"2026-02-03T09:30:00Z\",\"result\":\"positive\","
             + "\"region\":\"north\",\"exposure\":{\"household\":\"yes\"},\"age\":42,\"ageBand\":\"40-64\",\"sex\":\"male\"}";
@@ -158,20 +156,15 @@ class RecordScannerTest {
     @Test
     void scannerGivesTheSameResultAsTheTreeDecoderForEveryRecordOfTheCorpus() {
         List<MonitorDefinition> monitors = List.of(main, odd);
-        java.util.EnumMap<RecordScanner.Path, Integer> plainPaths = new java.util.EnumMap<>(RecordScanner.Path.class);
-        java.util.EnumMap<RecordScanner.Path, Integer> streamingPaths = new java.util.EnumMap<>(RecordScanner.Path.class);
+        java.util.EnumMap<RecordScanner.Path, Integer> paths = new java.util.EnumMap<>(RecordScanner.Path.class);
         for (String text : corpus()) {
             byte[] bytes = text.getBytes(StandardCharsets.UTF_8);
             compare(text, bytes, monitors, scanner);
-            plainPaths.merge(scanner.lastPath(), 1, Integer::sum);
-            compare(text, bytes, monitors, streaming);
-            streamingPaths.merge(streaming.lastPath(), 1, Integer::sum);
+            paths.merge(scanner.lastPath(), 1, Integer::sum);
         }
         // each path must really have been exercised, or the comparison would prove nothing about it
-        assertTrue(plainPaths.getOrDefault(RecordScanner.Path.PLAIN, 0) > 90, plainPaths::toString);
-        assertTrue(plainPaths.getOrDefault(RecordScanner.Path.STREAMING, 0) > 5, plainPaths::toString);
-        assertTrue(streamingPaths.getOrDefault(RecordScanner.Path.STREAMING, 0) > 100, streamingPaths::toString);
-        assertTrue(streamingPaths.getOrDefault(RecordScanner.Path.TREE, 0) > 30, streamingPaths::toString);
+        assertTrue(paths.getOrDefault(RecordScanner.Path.STREAMING, 0) > 100, paths::toString);
+        assertTrue(paths.getOrDefault(RecordScanner.Path.TREE, 0) > 30, paths::toString);
     }
 
     /** Seeded random damage to corpus records (bytes dropped, doubled, replaced): same verdicts as before. */
@@ -197,7 +190,6 @@ class RecordScannerTest {
             };
             String label = "damaged #" + i + ": " + new String(damaged, StandardCharsets.UTF_8);
             compare(label, damaged, List.of(main, odd), scanner);
-            compare(label, damaged, List.of(main, odd), streaming);
         }
     }
 
@@ -218,7 +210,6 @@ class RecordScannerTest {
             bytes[at] = pair[0];
             bytes[at + 1] = pair[1];
             compare(java.util.Arrays.toString(pair), bytes, List.of(main, odd), scanner);
-            compare(java.util.Arrays.toString(pair), bytes, List.of(main, odd), streaming);
         }
     }
 
