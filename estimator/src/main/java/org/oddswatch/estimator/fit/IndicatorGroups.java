@@ -120,7 +120,7 @@ final class IndicatorGroups {
 
     /** Problems from this many rows keep their grouping for later fits (profile bounds, LR tests). */
     private static final int CACHED_ROWS = 4096;
-    private static final int CACHE_SIZE = 2;
+    private static final int CACHE_SIZE = 1;
 
     /** A grouping (null: the problem does not qualify) for one problem instance, held while it lives. */
     private record Cached(java.lang.ref.WeakReference<FitProblem> problem, IndicatorGroups groups) {

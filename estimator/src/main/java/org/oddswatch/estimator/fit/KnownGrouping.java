@@ -19,7 +19,7 @@ import java.util.List;
  */
 public final class KnownGrouping {
 
-    private static final int SIZE = 4;
+    private static final int SIZE = 2;
     private static final List<Entry> ATTACHED = new ArrayList<>();
 
     private record Entry(WeakReference<double[]> x, WeakReference<double[]> trials, int columns, int rows,
