@@ -3,7 +3,9 @@ package org.oddswatch.estimator.window;
 /**
  * The fit-ready content of one window: grouped design rows (a covariate pattern with its trials
  * and positives, or a single event with trials 1) plus the counts prevalence needs. Rows are in a
- * deterministic order that depends only on the events, never on hash iteration or timing.
+ * deterministic order that depends only on the events, never on hash iteration or timing. The
+ * arrays must not be changed: the store may have handed the fitters the indicator grouping of
+ * {@code x} ({@link org.oddswatch.estimator.fit.KnownGrouping}).
  *
  * @param columns design width p, including the intercept
  * @param rows number of grouped rows n
