@@ -156,8 +156,9 @@ final class BinomialPass {
         double etaMax = 0;
         final boolean one = q == 1;
         final double b0 = one ? bq[0] : 0;
+        final boolean unit = groups.unitTrials;
         for (int i = 0; i < n; i++) {
-            final double t = trials[i];
+            final double t = unit ? 1 : trials[i];
             if (t == 0) {
                 continue;
             }

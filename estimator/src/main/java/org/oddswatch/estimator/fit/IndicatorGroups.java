@@ -32,8 +32,12 @@ final class IndicatorGroups {
     private final double[] stz;
     private final double[] stzz;
 
+    /** Whether every row has exactly one trial (row storage), which lets the pass skip the trials. */
+    final boolean unitTrials;
+
     private IndicatorGroups(int q, int groupCount, int[] numericColumns, int[] group, double[] z, int[][] members,
-                            double[] st, double[] stz, double[] stzz) {
+                            double[] st, double[] stz, double[] stzz, boolean unitTrials) {
+        this.unitTrials = unitTrials;
         this.st = st;
         this.stz = stz;
         this.stzz = stzz;
@@ -226,6 +230,7 @@ final class IndicatorGroups {
         double[] stz = new double[MAX_GROUPS * q];
         double[] stzz = new double[MAX_GROUPS * q * q];
         // Pass 2 (compact arrays only): patterns numbered by first appearance, and trial sums.
+        boolean unit = true;
         for (int i = 0; i < n; i++) {
             final long key = wide == null ? group[i] : wide[i];
             int id;
@@ -254,6 +259,7 @@ final class IndicatorGroups {
             group[i] = id;
             // The rank check's trials-weighted sums, in row order.
             double ti = trials[i];
+            unit &= ti == 1;
             if (ti != 0) {
                 st[id] += ti;
                 for (int a = 0; a < q; a++) {
@@ -275,6 +281,6 @@ final class IndicatorGroups {
                 }
             }
         }
-        return new IndicatorGroups(q, keys.size(), numericColumns, group, z, members, st, stz, stzz);
+        return new IndicatorGroups(q, keys.size(), numericColumns, group, z, members, st, stz, stzz, unit);
     }
 }
