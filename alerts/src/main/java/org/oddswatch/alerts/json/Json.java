@@ -29,9 +29,9 @@ public final class Json {
                     .addDeserializer(Instant.class, new InstantDeserializer())
                     .addSerializer(Double.class, new FiniteDoubleSerializer())
                     .addSerializer(double.class, new FiniteDoubleSerializer()))
-            .serializationInclusion(JsonInclude.Include.NON_NULL)
+            .defaultPropertyInclusion(JsonInclude.Value.construct(JsonInclude.Include.NON_NULL, JsonInclude.Include.NON_NULL))
             .enable(SerializationFeature.WRITE_ENUMS_USING_TO_STRING)
-            .enable(com.fasterxml.jackson.databind.DeserializationFeature.READ_ENUMS_USING_TO_STRING)
+            .enable(DeserializationFeature.READ_ENUMS_USING_TO_STRING)
             .disable(SerializationFeature.FAIL_ON_EMPTY_BEANS)
             .disable(DeserializationFeature.FAIL_ON_UNKNOWN_PROPERTIES)
             .build();
