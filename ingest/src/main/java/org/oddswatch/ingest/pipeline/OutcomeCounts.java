@@ -1,47 +1,64 @@
 package org.oddswatch.ingest.pipeline;
 
-import java.util.EnumMap;
+import java.util.HashMap;
 import java.util.LinkedHashMap;
 import java.util.Map;
 import java.util.TreeMap;
 
-/** Mutable counts of record outcomes and of reasons (rejected, late, duplicate). Not thread-safe. */
+/**
+ * Mutable counts of record outcomes and of reasons (rejected, late, duplicate). Not thread-safe.
+ *
+ * <p>Outcomes are counted in an array by ordinal; the reason map is touched only for records that
+ * have a reason (accepted ones have none), with one mutable counter per reason, so counting an
+ * accepted record is one array increment.
+ */
 public final class OutcomeCounts {
 
-    private final EnumMap<Outcome, Long> outcomes = new EnumMap<>(Outcome.class);
-    private final TreeMap<String, Long> reasons = new TreeMap<>();
+    private static final Outcome[] OUTCOMES = Outcome.values();
+
+    private final long[] outcomes = new long[OUTCOMES.length];
+    private final HashMap<String, long[]> reasons = new HashMap<>();
 
     public void add(RecordOutcome outcome) {
-        outcomes.merge(outcome.outcome(), 1L, Long::sum);
-        if (outcome.reason() != null) {
-            reasons.merge(outcome.reason(), 1L, Long::sum);
+        outcomes[outcome.outcome().ordinal()]++;
+        String reason = outcome.reason();
+        if (reason != null) {
+            long[] count = reasons.get(reason);
+            if (count == null) {
+                count = new long[1];
+                reasons.put(reason, count);
+            }
+            count[0]++;
         }
     }
 
     public long get(Outcome outcome) {
-        return outcomes.getOrDefault(outcome, 0L);
+        return outcomes[outcome.ordinal()];
     }
 
     /** All counted records: accepted + rejected + late + duplicate. */
     public long total() {
         long sum = 0;
-        for (long count : outcomes.values()) {
+        for (long count : outcomes) {
             sum += count;
         }
         return sum;
     }
 
     public long reason(String reason) {
-        return reasons.getOrDefault(reason, 0L);
+        long[] count = reasons.get(reason);
+        return count == null ? 0L : count[0];
     }
 
     /** An immutable copy with every outcome present (zeros included) and reasons sorted. */
     public Snapshot snapshot() {
         Map<String, Long> byOutcome = new LinkedHashMap<>();
-        for (Outcome outcome : Outcome.values()) {
+        for (Outcome outcome : OUTCOMES) {
             byOutcome.put(outcome.toString(), get(outcome));
         }
-        return new Snapshot(total(), byOutcome, new TreeMap<>(reasons));
+        Map<String, Long> byReason = new TreeMap<>();
+        reasons.forEach((reason, count) -> byReason.put(reason, count[0]));
+        return new Snapshot(total(), byOutcome, byReason);
     }
 
     /**

@@ -2,11 +2,8 @@ package org.oddswatch.ingest.pipeline;
 
 import java.time.Instant;
 import java.util.ArrayList;
-import java.util.HashMap;
-import java.util.Iterator;
 import java.util.List;
-import java.util.Map;
-import java.util.TreeMap;
+import java.util.TreeSet;
 import org.oddswatch.alerts.engine.AlertEngine;
 import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.alerts.lifecycle.Alert;
@@ -22,7 +19,7 @@ import org.oddswatch.ingest.definition.BaselineSpec;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 
 /**
- * One stream's state: its window store, watermark, the ids per held bucket (dedupe), its alert
+ * One stream's state: its window store, watermark, the held buckets and their ids (dedupe), its alert
  * engine and, for a fixed-period baseline, the accumulation of the baseline period.
  *
  * <p>Time rules, with buckets of one step, {@code k = width/step} buckets per window and lateness
@@ -59,8 +56,12 @@ final class StreamState {
     private final PipelineListener listener;
     private final ReplayHint replayHint;
     private final WindowStore store;
-    private final TreeMap<Long, List<String>> idsByBucket = new TreeMap<>();
-    private final Map<String, Long> heldIds = new HashMap<>();
+    /** Buckets that received an event and are not dropped yet. */
+    private final TreeSet<Long> heldBuckets = new TreeSet<>();
+    /** The bucket of the last accepted event while it is held, so a run in one bucket skips the tree. */
+    private long lastHeldBucket;
+    private boolean lastHeldBucketValid;
+    private final HeldIds heldIds = new HeldIds();
     private final OutcomeCounts counts = new OutcomeCounts();
 
     private long watermark = Long.MIN_VALUE;
@@ -139,12 +140,20 @@ final class StreamState {
                         + " is final (watermark " + Instant.ofEpochMilli(watermark) + ")");
             }
         }
-        if (heldIds.containsKey(event.id())) {
+        if (!heldIds.add(event.id(), bucket)) {
             return RecordOutcome.duplicate("id '" + event.id() + "' already seen");
         }
-        store.add(bucket, event.row(), event.positive(), event.stratum());
-        heldIds.put(event.id(), bucket);
-        idsByBucket.computeIfAbsent(bucket, b -> new ArrayList<>()).add(event.id());
+        try {
+            store.add(bucket, event.row(), event.positive(), event.stratum());
+        } catch (RuntimeException e) {
+            heldIds.remove(event.id()); // not stored, so not held: the same id may come again
+            throw e;
+        }
+        if (!lastHeldBucketValid || bucket != lastHeldBucket) {
+            heldBuckets.add(bucket);
+            lastHeldBucket = bucket;
+            lastHeldBucketValid = true;
+        }
         if (baselineStore != null && inBaselinePeriod(time)) {
             baselineStore.add(0, event.row(), event.positive(), event.stratum());
         }
@@ -197,7 +206,7 @@ final class StreamState {
 
     /** End of input: every window that holds events becomes final. */
     void closeAll() {
-        long newest = idsByBucket.isEmpty() ? finalThrough : idsByBucket.lastKey();
+        long newest = heldBuckets.isEmpty() ? finalThrough : heldBuckets.last();
         finalizeThrough(newest + bucketsPerWindow, false);
         if (engine != null) {
             emitAlerts(engine.onEventsClosed(Long.MAX_VALUE), false);
@@ -241,7 +250,7 @@ final class StreamState {
             }
             long end = finalThrough == Long.MIN_VALUE ? Long.MIN_VALUE : finalThrough + 1;
             while (true) {
-                Long held = idsByBucket.ceilingKey(end == Long.MIN_VALUE ? Long.MIN_VALUE : end - bucketsPerWindow);
+                Long held = heldBuckets.ceiling(end == Long.MIN_VALUE ? Long.MIN_VALUE : end - bucketsPerWindow);
                 if (held == null) {
                     break;
                 }
@@ -303,16 +312,12 @@ final class StreamState {
 
     private void expireBefore(long bucket) {
         store.expireBefore(bucket);
-        Iterator<Map.Entry<Long, List<String>>> it = idsByBucket.entrySet().iterator();
-        while (it.hasNext()) {
-            Map.Entry<Long, List<String>> entry = it.next();
-            if (entry.getKey() >= bucket) {
-                break;
-            }
-            for (String id : entry.getValue()) {
-                heldIds.remove(id, entry.getKey());
-            }
-            it.remove();
+        heldIds.expireBefore(bucket);
+        while (!heldBuckets.isEmpty() && heldBuckets.first() < bucket) {
+            heldBuckets.pollFirst();
+        }
+        if (lastHeldBucketValid && lastHeldBucket < bucket) {
+            lastHeldBucketValid = false;
         }
     }
 
@@ -371,6 +376,6 @@ final class StreamState {
         return new StreamStatus(name, monitor.name(),
                 watermark == Long.MIN_VALUE ? null : Instant.ofEpochMilli(watermark),
                 lastFinal == null ? null : lastFinal.windowEnd(), finalWindows, baselineState, baselineNote,
-                idsByBucket.size(), store.approximateBytes(), counts.snapshot());
+                heldBuckets.size(), store.approximateBytes(), counts.snapshot());
     }
 }
