@@ -31,6 +31,9 @@ public final class WindowStore {
     private final int patternLimit;
     private final int strata;
     private final NavigableMap<Long, Bucket> buckets = new TreeMap<>();
+    /** The bucket the last event went to (null when none, or expired since). */
+    private Bucket lastBucket;
+    private long lastBucketNumber;
     private final long[] key;
 
     /**
@@ -66,7 +69,13 @@ public final class WindowStore {
         if (row != null) {
             layout.encode(row, key);
         }
-        Bucket b = buckets.computeIfAbsent(bucket, k -> new Bucket(layout, patternLimit, strata));
+        Bucket b = bucket == lastBucketNumber ? lastBucket : null;
+        if (b == null) {
+            // Consecutive events mostly fall in the same bucket: look it up only when it changes.
+            b = buckets.computeIfAbsent(bucket, k -> new Bucket(layout, patternLimit, strata));
+            lastBucketNumber = bucket;
+            lastBucket = b;
+        }
         b.countEvent(positive, stratum);
         if (row != null) {
             b.addComplete(key, positive);
@@ -76,6 +85,9 @@ public final class WindowStore {
     /** Drops every bucket before {@code bucket}. */
     public void expireBefore(long bucket) {
         buckets.headMap(bucket, false).clear();
+        if (lastBucket != null && lastBucketNumber < bucket) {
+            lastBucket = null;
+        }
     }
 
     /** The content of buckets {@code [fromBucket, toBucket)}. */

@@ -27,23 +27,6 @@ final class PointerTrie {
         /** The slots of this node and everything below it (cleared when a duplicate member replaces it). */
         int[] subtreeSlots;
 
-        /** Member names as ASCII bytes (names with other characters never match plain records). */
-        byte[][] memberNames = new byte[0][];
-        Node[] memberNodes = new Node[0];
-
-        /** The child of the member whose name is {@code bytes[from, to)} (plain ASCII), or null. */
-        Node member(byte[] bytes, int from, int to) {
-            int length = to - from;
-            byte[][] names = memberNames;
-            for (int m = 0; m < names.length; m++) {
-                byte[] name = names[m];
-                if (name.length == length && TextCache.sameBytes(name, bytes, from)) {
-                    return memberNodes[m];
-                }
-            }
-            return null;
-        }
-
         Node member(String name) {
             return members.isEmpty() ? null : members.get(name);
         }
@@ -108,17 +91,9 @@ final class PointerTrie {
         if (node.slot >= 0) {
             below.add(node.slot);
         }
-        List<byte[]> names = new ArrayList<>();
-        List<Node> nodes = new ArrayList<>();
-        for (Map.Entry<String, Node> member : node.members.entrySet()) {
-            below.addAll(collect(member.getValue()));
-            if (member.getKey().chars().allMatch(c -> c < 0x80)) {
-                names.add(member.getKey().getBytes(java.nio.charset.StandardCharsets.US_ASCII));
-                nodes.add(member.getValue());
-            }
+        for (Node child : node.members.values()) {
+            below.addAll(collect(child));
         }
-        node.memberNames = names.toArray(new byte[0][]);
-        node.memberNodes = nodes.toArray(new Node[0]);
         node.subtreeSlots = below.stream().mapToInt(Integer::intValue).toArray();
         return below;
     }

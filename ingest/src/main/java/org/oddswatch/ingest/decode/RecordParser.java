@@ -1,9 +1,12 @@
 package org.oddswatch.ingest.decode;
 
 import com.fasterxml.jackson.core.JsonFactory;
+import com.fasterxml.jackson.core.JsonFactoryBuilder;
 import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.core.StreamReadConstraints;
 import com.fasterxml.jackson.core.exc.StreamConstraintsException;
+import com.fasterxml.jackson.core.util.BufferRecycler;
+import com.fasterxml.jackson.core.util.RecyclerPool;
 import com.fasterxml.jackson.databind.DeserializationFeature;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectReader;
@@ -32,12 +35,20 @@ public final class RecordParser {
 
     /** A JSON factory whose parsers apply the caps of {@code limits} (shared with {@link RecordScanner}). */
     static JsonFactory factory(RecordLimits limits) {
-        return JsonFactory.builder()
+        return builder(limits).build();
+    }
+
+    /** The same, with parse buffers from {@code pool}. */
+    static JsonFactory factory(RecordLimits limits, RecyclerPool<BufferRecycler> pool) {
+        return builder(limits).recyclerPool(pool).build();
+    }
+
+    private static JsonFactoryBuilder builder(RecordLimits limits) {
+        return new JsonFactoryBuilder()
                 .streamReadConstraints(StreamReadConstraints.builder()
                         .maxNestingDepth(limits.maxDepth())
                         .maxStringLength(Math.max(limits.maxRecordBytes(), 1))
-                        .build())
-                .build();
+                        .build());
     }
 
     /** The outcome of parsing: a tree, or a rejection. */

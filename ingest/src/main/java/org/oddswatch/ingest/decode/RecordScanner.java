@@ -15,7 +15,8 @@ import org.oddswatch.ingest.definition.RecordLimits;
  * single Jackson streaming pass checks the whole value (well-formed, one object, nothing after it, nesting
  * within {@code maxDepth}) and keeps only the values at the JSON Pointers the monitors read (a
  * {@link PointerTrie}); other members are stepped over. Strings are still decoded (without making
- * Java strings) so that the checks are exactly those of {@link RecordParser}.
+ * Java strings) so that the checks are exactly those of {@link RecordParser}; the strings kept come
+ * from a {@link TextCache}, so repeated values (outcomes, levels, split values) share one string.
  *
  * <p>Anything out of the ordinary — a record that is not an object, an error of any kind, trailing
  * content — is handed to {@link RecordParser}, so rejection reasons and detail texts stay exactly
@@ -37,6 +38,7 @@ public final class RecordScanner {
     private final JsonFactory factory;
     private final PointerTrie trie;
     private final FieldValues values;
+    private final TextCache texts;
     private final Scanned scanned;
 
     /** Which path read the last record (for tests). */
@@ -57,9 +59,11 @@ public final class RecordScanner {
     private RecordScanner(RecordLimits limits, PointerTrie trie) {
         this.limits = limits;
         this.treeParser = new RecordParser(limits);
-        this.factory = RecordParser.factory(limits);
+        // One thread at a time uses a scanner, so its parsers can share one set of plain buffers.
+        this.factory = RecordParser.factory(limits, new ConfinedRecycler().pool);
         this.trie = trie;
         this.values = new FieldValues(trie.size());
+        this.texts = new TextCache(trie.size());
         this.scanned = new Scanned(EventRecord.scanned(values, trie), null);
     }
 
@@ -167,7 +171,8 @@ public final class RecordScanner {
             }
             case VALUE_STRING -> {
                 if (slot >= 0) {
-                    values.setText(slot, parser.getText());
+                    values.setText(slot, texts.text(slot, parser.getTextCharacters(), parser.getTextOffset(),
+                            parser.getTextLength()));
                 } else {
                     parser.getTextLength();
                 }

@@ -1,13 +1,11 @@
 package org.oddswatch.ingest.decode;
 
-import java.nio.charset.StandardCharsets;
-import java.util.Arrays;
-
 /**
- * Java strings for plain (ASCII) text values, reusing the string of an equal value seen recently in
- * the same slot: outcomes, split values and levels repeat record after record, so most of them need
- * no new string. A slot whose values rarely repeat (ids, times) stops being looked up after a short
- * trial. Only saves allocation; the strings are equal either way. Not thread-safe.
+ * Java strings for text values, reusing the string of an equal value seen recently in the same
+ * slot: outcomes, split values and levels repeat record after record, so most of them need no new
+ * string (and later comparisons with them are identity hits). A slot whose values rarely repeat
+ * (ids, times) stops being looked up after a short trial. Only saves allocation and comparison
+ * work; the strings are equal either way. Not thread-safe.
  */
 final class TextCache {
 
@@ -16,7 +14,6 @@ final class TextCache {
     /** Lookups before a slot's hit rate is judged; below half hits, the slot stops caching. */
     private static final int TRIAL = 512;
 
-    private final byte[][][] bytes;
     private final String[][] strings;
     private final int[] next;
     private final int[] looks;
@@ -24,7 +21,6 @@ final class TextCache {
     private final boolean[] off;
 
     TextCache(int slots) {
-        bytes = new byte[slots][WAYS][];
         strings = new String[slots][WAYS];
         next = new int[slots];
         looks = new int[slots];
@@ -32,36 +28,31 @@ final class TextCache {
         off = new boolean[slots];
     }
 
-    /** The text of {@code b[from, to)}, ASCII only. */
-    String text(int slot, byte[] b, int from, int to) {
-        int length = to - from;
+    /** The text of {@code chars[from, from + length)}. */
+    String text(int slot, char[] chars, int from, int length) {
         if (off[slot] || length > LONGEST) {
-            return new String(b, from, length, StandardCharsets.ISO_8859_1);
+            return new String(chars, from, length);
         }
-        byte[][] known = bytes[slot];
+        String[] known = strings[slot];
         for (int w = 0; w < WAYS; w++) {
-            byte[] k = known[w];
-            if (k != null && k.length == length && sameBytes(k, b, from)) {
+            String k = known[w];
+            if (k != null && k.length() == length && sameChars(k, chars, from)) {
                 count(slot, true);
-                return strings[slot][w];
+                return k;
             }
         }
         count(slot, false);
-        String text = new String(b, from, length, StandardCharsets.ISO_8859_1);
+        String text = new String(chars, from, length);
         int w = next[slot];
-        known[w] = Arrays.copyOfRange(b, from, to);
-        strings[slot][w] = text;
+        known[w] = text;
         next[slot] = (w + 1) % WAYS;
         return text;
     }
 
-    /**
-     * Whether {@code b} holds {@code known} from {@code from} on. A plain loop: these values and names
-     * are short, where {@code Arrays.equals} costs more to set up.
-     */
-    static boolean sameBytes(byte[] known, byte[] b, int from) {
-        for (int i = 0; i < known.length; i++) {
-            if (known[i] != b[from + i]) {
+    /** Whether {@code chars} holds {@code known} from {@code from} on (short values: a plain loop). */
+    private static boolean sameChars(String known, char[] chars, int from) {
+        for (int i = 0; i < known.length(); i++) {
+            if (known.charAt(i) != chars[from + i]) {
                 return false;
             }
         }

@@ -31,7 +31,8 @@ import org.oddswatch.ingest.definition.MonitorDefinition;
  * windows, close windows as the watermark passes them, run the alert rules, and report everything to
  * a {@link PipelineListener}. Every record ends in exactly one counted outcome per monitor, and once in
  * the record totals. Deterministic: the same records in the same order give the same output, byte for
- * byte. Not thread-safe: one pipeline, one thread.
+ * byte. Not thread-safe: one pipeline, one thread at a time; only its {@link RecordReader}s (the
+ * stateless parsing and decoding half) may run on another thread, one reader per thread.
  */
 public final class MonitorPipeline {
 
@@ -57,8 +58,8 @@ public final class MonitorPipeline {
     private final Map<String, StreamState> streamsByName = new LinkedHashMap<>();
     private final PipelineListener listener;
     private final PipelineSettings settings;
-    /** One streaming pass per record for all monitors of this input (no JSON tree). */
-    private final RecordScanner scanner;
+    /** This pipeline's own reader (one streaming pass per record for all monitors, no JSON tree). */
+    private final RecordReader reader;
     private final OutcomeCounts totals = new OutcomeCounts();
     private final Map<String, List<Alert>> pendingRestore = new LinkedHashMap<>();
     private long rebuilt;
@@ -73,7 +74,6 @@ public final class MonitorPipeline {
         this.input = input;
         this.listener = listener;
         this.settings = settings;
-        this.scanner = new RecordScanner(settings.limits(), monitors);
         for (MonitorDefinition monitor : monitors) {
             BaselineModel shared = null;
             BaselineSpec spec = monitor.baseline();
@@ -88,6 +88,7 @@ public final class MonitorPipeline {
             }
             routes.add(new MonitorRoute(monitor, shared));
         }
+        this.reader = new RecordReader();
     }
 
     /**
@@ -129,31 +130,99 @@ public final class MonitorPipeline {
     }
 
     /**
-     * Offers one record value.
+     * Offers one record value: {@link #read} and {@link #offerRead} in one step.
      *
      * @param suppressOutput true while rebuilding state: state is updated, nothing is emitted and
      *     nothing is counted (the record was handled before the restart)
      * @return the record's outcome (accepted when any monitor accepted it)
      */
     public RecordOutcome offer(byte[] value, RecordOrigin origin, boolean suppressOutput) {
-        RecordScanner.Scanned scanned = scanner.scan(value);
-        if (!scanned.ok()) {
-            return offerUnreadable(value, origin, scanned.rejection().reason(), scanned.rejection().detail(),
-                    suppressOutput);
-        }
-        return offerRecord(scanned.record(), value, origin, suppressOutput);
+        return offerRead(reader.read(value), value, origin, suppressOutput);
     }
 
     /** Offers a record that is already a JSON tree (a CSV row); {@code original} is kept for rejects. */
     public RecordOutcome offerTree(JsonNode tree, byte[] original, RecordOrigin origin, boolean suppressOutput) {
-        return offerRecord(EventRecord.of(tree), original, origin, suppressOutput);
+        return offerRead(reader.read(EventRecord.of(tree)), original, origin, suppressOutput);
     }
 
-    private RecordOutcome offerRecord(EventRecord record, byte[] original, RecordOrigin origin,
-                                      boolean suppressOutput) {
-        RecordOutcome overall = null;
+    /**
+     * A record as every monitor of the input decoded it: unreadable (with the reason), or one
+     * decoding result per monitor, in definition order. Depends on the bytes and the definition
+     * only, never on a stream's state.
+     */
+    public static final class ReadRecord {
+        private final Rejection unreadable;
+        private final EventDecoder.Result[] results;
+
+        private ReadRecord(Rejection unreadable, EventDecoder.Result[] results) {
+            this.unreadable = unreadable;
+            this.results = results;
+        }
+    }
+
+    /**
+     * Reads records for this pipeline: the parsing and decoding half of {@link #offer}, which needs
+     * no stream state, so it can run on another thread than the pipeline (one reader per thread: it
+     * reuses its parse buffers). The pipeline has one of its own.
+     */
+    public final class RecordReader {
+        // Its own copies: a reader on another thread never touches the pipeline's objects per
+        // record (they sit next to counters the pipeline thread writes all the time).
+        private final RecordScanner scanner = new RecordScanner(settings.limits(), monitors());
+        private final EventDecoder[] decoders = decoders();
+
+        public ReadRecord read(byte[] value) {
+            RecordScanner.Scanned scanned = scanner.scan(value);
+            if (!scanned.ok()) {
+                return new ReadRecord(scanned.rejection(), null);
+            }
+            return read(scanned.record());
+        }
+
+        ReadRecord read(EventRecord record) {
+            EventDecoder.Result[] results = new EventDecoder.Result[decoders.length];
+            for (int r = 0; r < results.length; r++) {
+                results[r] = decoders[r].decode(record);
+            }
+            return new ReadRecord(null, results);
+        }
+    }
+
+    private EventDecoder[] decoders() {
+        EventDecoder[] decoders = new EventDecoder[routes.size()];
+        for (int r = 0; r < decoders.length; r++) {
+            decoders[r] = routes.get(r).decoder;
+        }
+        return decoders;
+    }
+
+    /** A new reader for another thread (the service's poll thread). */
+    public RecordReader newReader() {
+        return new RecordReader();
+    }
+
+    private List<MonitorDefinition> monitors() {
+        List<MonitorDefinition> monitors = new ArrayList<>();
         for (MonitorRoute route : routes) {
-            RecordOutcome outcome = offerTo(route, record, original, origin, suppressOutput);
+            monitors.add(route.monitor);
+        }
+        return monitors;
+    }
+
+    /**
+     * The stateful half of {@link #offer}: routes a record read by a {@link RecordReader} of this
+     * pipeline, applies the time rules and dedupe, updates the windows and reports the outcome.
+     *
+     * @param original the record's bytes, for rejects
+     */
+    public RecordOutcome offerRead(ReadRecord read, byte[] original, RecordOrigin origin, boolean suppressOutput) {
+        if (read.unreadable != null) {
+            return offerUnreadable(original, origin, read.unreadable.reason(), read.unreadable.detail(),
+                    suppressOutput);
+        }
+        RecordOutcome overall = null;
+        for (int r = 0; r < routes.size(); r++) {
+            RecordOutcome outcome = offerTo(routes.get(r), read.results[r], original, origin, suppressOutput);
             if (overall == null || (outcome.accepted() && !overall.accepted())) {
                 overall = outcome;
             }
@@ -182,9 +251,8 @@ public final class MonitorPipeline {
         return outcome;
     }
 
-    private RecordOutcome offerTo(MonitorRoute route, EventRecord record, byte[] original, RecordOrigin origin,
+    private RecordOutcome offerTo(MonitorRoute route, EventDecoder.Result decoded, byte[] original, RecordOrigin origin,
                                   boolean suppress) {
-        EventDecoder.Result decoded = route.decoder.decode(record);
         if (!decoded.ok()) {
             return rejectUnrouted(route, null, decoded.rejection(), original, origin, suppress);
         }

@@ -32,7 +32,7 @@ import org.oddswatch.ingest.pipeline.RejectedRecord;
  * the poll loop never waits for it).
  *
  * <p>Meter updates happen per final window (and per CUSUM close), except the event counter, which is
- * one cached {@link Counter} increment per record. Pipelines call none of these while rebuilding,
+ * one cached {@link Counter} increment per record (for accepted records found by the stream name alone). Pipelines call none of these while rebuilding,
  * except {@link #onAlertRestored}, which sets the alert-state gauge of an episode still open.
  */
 final class AlertMetersListener implements PipelineListener, AutoCloseable {
@@ -46,6 +46,8 @@ final class AlertMetersListener implements PipelineListener, AutoCloseable {
     private final AlertSink log = new LogAlertSink();
     private final Map<String, WebhookAlertSink> webhooks = new HashMap<>();
     private final Map<List<String>, Counter> eventCounters = new ConcurrentHashMap<>();
+    /** The accepted-events counter of each stream, by stream name (the same counters as above). */
+    private final Map<String, Counter> acceptedCounters = new ConcurrentHashMap<>();
 
     AlertMetersListener(PipelineListener publisher, MeterRegistry registry, List<MonitorDefinition> monitors) {
         this.publisher = publisher;
@@ -103,12 +105,25 @@ final class AlertMetersListener implements PipelineListener, AutoCloseable {
     @Override
     public void onOutcome(String monitor, String stream, RecordOutcome outcome) {
         String streamTag = stream != null ? stream : OddswatchMeters.NONE;
+        if (outcome.reason() == null && outcome.accepted()) {
+            // The common case, once per accepted record: one look-up by the stream's own name.
+            Counter accepted = acceptedCounters.get(streamTag);
+            if (accepted == null) {
+                accepted = eventCounter(streamTag, outcome.outcome().toString(), OddswatchMeters.NONE);
+                acceptedCounters.put(streamTag, accepted);
+            }
+            accepted.increment();
+            return;
+        }
         String reason = outcome.reason() == null ? OddswatchMeters.NONE : outcome.reason();
-        eventCounters.computeIfAbsent(List.of(streamTag, outcome.outcome().toString(), reason),
-                        key -> Counter.builder(OddswatchMeters.EVENTS).description("Consumed records by outcome")
-                                .baseUnit("events").tags("stream", key.get(0), "outcome", key.get(1), "reason", key.get(2))
-                                .register(registry))
-                .increment();
+        eventCounter(streamTag, outcome.outcome().toString(), reason).increment();
+    }
+
+    private Counter eventCounter(String stream, String outcome, String reason) {
+        return eventCounters.computeIfAbsent(List.of(stream, outcome, reason),
+                key -> Counter.builder(OddswatchMeters.EVENTS).description("Consumed records by outcome")
+                        .baseUnit("events").tags("stream", key.get(0), "outcome", key.get(1), "reason", key.get(2))
+                        .register(registry));
     }
 
     @Override

@@ -103,7 +103,8 @@ public final class MonitorService implements AutoCloseable {
         PollLoop.PipelineFactory factory = tp -> new MonitorPipeline(tp.toString(), config.monitorsFor(tp.topic()),
                 outputs, withTopicHint(pipelineSettings, config, tp.topic()));
         this.loop = new PollLoop(config, consumer, lookup, publisher, factory, archive,
-                new ServiceMeters(registry, instance), commitInterval, latest, wallClockMillis);
+                new ServiceMeters(registry, instance), commitInterval, latest, wallClockMillis,
+                new BatchWorker("oddswatch-pipeline-" + instance));
         this.thread = new Thread(this::runLoop, "oddswatch-poll-" + instance);
     }
 

@@ -6,12 +6,15 @@ import org.oddswatch.ingest.pipeline.MonitorPipeline;
 /**
  * What the service holds for one assigned input partition: its own pipeline (the streams keyed to
  * this partition), how far the suppressed re-read must go, and the next offset to commit.
- * Confined to the poll-loop thread.
+ * Used by the poll-loop thread and, while a batch of its records is in flight, by the
+ * {@link BatchWorker} (never both at once).
  */
 final class PartitionState {
 
     final TopicPartition partition;
     final MonitorPipeline pipeline;
+    /** Reads (parses and decodes) this partition's records on the poll thread. */
+    final MonitorPipeline.RecordReader reader;
     /** Records below this offset were processed before (by this or another instance): state only. */
     long rebuildUntil = -1;
     /** False from assignment until the seek-back position is set (the partition is paused meanwhile). */
@@ -22,9 +25,12 @@ final class PartitionState {
     /** When the rebuild was planned; 0 once the partition is live. */
     long rebuildStartedNanos;
     long rebuiltRecords;
+    /** The consumer position up to which every polled record has been through the pipeline. */
+    long processedPosition = -1;
 
     PartitionState(TopicPartition partition, MonitorPipeline pipeline) {
         this.partition = partition;
         this.pipeline = pipeline;
+        this.reader = pipeline.newReader();
     }
 }

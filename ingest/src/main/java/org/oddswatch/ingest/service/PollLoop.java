@@ -35,13 +35,20 @@ import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
 /**
- * The one poll-loop thread of one consumer. All pipeline state is confined to this thread; other
- * threads see only the {@link ServiceStatus} snapshot it publishes.
+ * The one poll-loop thread of one consumer, with one {@link BatchWorker} beside it. Only this
+ * thread uses the consumer. It reads (parses and decodes, which needs no stream state) the records
+ * of a poll while the worker applies the previous batch to the pipelines (routing, time rules,
+ * dedupe, windows, fits, outputs); then it waits for that batch and hands over the new one. It
+ * touches pipeline state (commits, timers, rebalances, status) only after the wait, so the state is
+ * used by one thread at a time and records are applied in poll order: the results are those of a
+ * single thread. Other threads see only the {@link ServiceStatus} snapshot it publishes.
  *
- * <p>Per iteration: poll; feed every record to its partition's pipeline (suppressed below the
- * rebuild offset); at most every {@code commitInterval}, flush the producer and then commit the
- * offsets after the last live record of each partition synchronously; emit interim estimates on the
- * refresh interval; move quiet streams' watermarks on after the idle timeout.
+ * <p>Per iteration: poll; read the records; wait for the previous batch; at most every
+ * {@code commitInterval}, flush the producer and then commit the offsets after the last live record
+ * applied of each partition synchronously; emit interim estimates on the refresh interval; move
+ * quiet streams' watermarks on after the idle timeout; hand the new batch to the worker (records
+ * below the rebuild offset are applied with output suppressed). The rebalance callbacks first wait
+ * for the batch in flight (at most one batch of in-memory work).
  *
  * <p>Rebalances: on revoke the producer is flushed and the revoked partitions' offsets committed,
  * then their pipelines are dropped. On assign a fresh pipeline is created per partition and the
@@ -65,6 +72,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
     private final PipelineFactory pipelines;
     private final AlertArchive archive;
     private final ServiceMeters meters;
+    private final BatchWorker worker;
     private final Duration timeout;
     private final long commitIntervalNanos;
     private final boolean resetToLatest;
@@ -90,7 +98,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
 
     PollLoop(MonitorConfig config, KafkaConsumer<byte[], byte[]> consumer, KafkaConsumer<byte[], byte[]> lookup,
              KafkaOutputPublisher publisher, PipelineFactory pipelines, AlertArchive archive, ServiceMeters meters,
-             Duration commitInterval, boolean resetToLatest, LongSupplier wallClockMillis) {
+             Duration commitInterval, boolean resetToLatest, LongSupplier wallClockMillis, BatchWorker worker) {
         this.config = config;
         this.consumer = consumer;
         this.lookup = lookup;
@@ -98,6 +106,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
         this.pipelines = pipelines;
         this.archive = archive;
         this.meters = meters;
+        this.worker = worker;
         this.timeout = Duration.ofSeconds(30);
         this.commitIntervalNanos = commitInterval.toNanos();
         this.resetToLatest = resetToLatest;
@@ -126,14 +135,18 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
         try {
             consumer.subscribe(new ArrayList<>(config.topics()), this);
             while (!closing) {
+                // The worker runs the previous batch through the pipelines while this polls.
                 ConsumerRecords<byte[], byte[]> records = consumer.poll(POLL);
+                List<PartitionBatch> batch = read(records);
+                worker.await();
                 planPendingRebuilds();
-                process(records);
+                noteProcessedPositions(records);
                 finishRebuilds();
                 if (System.nanoTime() - lastCommitNanos >= commitIntervalNanos) {
                     flushAndCommit(states.keySet());
                 }
                 tick();
+                submit(batch);
             }
         } catch (WakeupException e) {
             if (!closing) {
@@ -142,44 +155,126 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
         } finally {
             closing = true;
             try {
-                if (!states.isEmpty()) {
-                    flushAndCommit(states.keySet());
-                }
+                worker.await();
             } finally {
-                snapshot = snapshot.stopped();
+                try {
+                    if (!states.isEmpty()) {
+                        flushAndCommit(states.keySet());
+                    }
+                } finally {
+                    worker.close();
+                    snapshot = snapshot.stopped();
+                }
             }
         }
     }
 
     // ---- records ---------------------------------------------------------------------------
 
-    private void process(ConsumerRecords<byte[], byte[]> records) {
+    /**
+     * One partition's records of a poll, each read (parsed and decoded) on this thread, or the
+     * error reading it raised; and the consumer position after them.
+     */
+    private record PartitionBatch(PartitionState state, List<ConsumerRecord<byte[], byte[]>> records,
+                                  MonitorPipeline.ReadRecord[] read, RuntimeException[] failed, long positionAfter) {
+    }
+
+    /**
+     * Reads the records of planned partitions with each partition's reader. This runs while the
+     * worker still applies the previous batch: reading needs no stream state.
+     */
+    private List<PartitionBatch> read(ConsumerRecords<byte[], byte[]> records) {
+        List<PartitionBatch> batch = new ArrayList<>();
         for (TopicPartition tp : records.partitions()) {
             PartitionState state = states.get(tp);
             if (state == null || !state.planned) {
                 continue;
             }
-            for (ConsumerRecord<byte[], byte[]> record : records.records(tp)) {
-                boolean suppress = record.offset() < state.rebuildUntil;
-                byte[] value = record.value() == null ? new byte[0] : record.value();
-                RecordOrigin origin = RecordOrigin.kafka(tp.topic(), tp.partition(), record.offset());
-                RecordOutcome outcome;
+            List<ConsumerRecord<byte[], byte[]>> list = records.records(tp);
+            MonitorPipeline.ReadRecord[] read = new MonitorPipeline.ReadRecord[list.size()];
+            RuntimeException[] failed = null;
+            for (int i = 0; i < read.length; i++) {
                 try {
-                    outcome = state.pipeline.offer(value, origin, suppress);
-                } catch (KafkaOutputPublisher.OutputFailedException e) {
-                    throw e;
+                    read[i] = state.reader.read(valueOf(list.get(i)));
                 } catch (RuntimeException e) {
-                    outcome = pipelineFailed(state, value, origin, suppress, e);
-                }
-                if (suppress) {
-                    state.rebuiltRecords++;
-                    meters.rebuildRecord();
-                } else {
-                    counts.add(outcome);
-                    meters.liveRecord();
-                    state.nextCommit = record.offset() + 1;
+                    if (failed == null) {
+                        failed = new RuntimeException[read.length];
+                    }
+                    failed[i] = e;
                 }
             }
+            batch.add(new PartitionBatch(state, list, read, failed, consumer.position(tp)));
+        }
+        return batch;
+    }
+
+    private static byte[] valueOf(ConsumerRecord<byte[], byte[]> record) {
+        return record.value() == null ? new byte[0] : record.value();
+    }
+
+    /** Hands a read batch to the worker (nothing when it is empty). */
+    private void submit(List<PartitionBatch> batch) {
+        if (!batch.isEmpty()) {
+            worker.submit(() -> process(batch));
+        }
+    }
+
+    /**
+     * A rebuilding partition without records in this poll has been processed up to its position
+     * (the batch before has been awaited); one with records gets there when its batch is done.
+     */
+    private void noteProcessedPositions(ConsumerRecords<byte[], byte[]> records) {
+        for (PartitionState state : states.values()) {
+            if (state.planned && state.rebuildStartedNanos != 0 && records.records(state.partition).isEmpty()) {
+                state.processedPosition = consumer.position(state.partition);
+            }
+        }
+    }
+
+    /** Runs on the worker: every record to its partition's pipeline (suppressed below the rebuild offset). */
+    private void process(List<PartitionBatch> batch) {
+        for (PartitionBatch part : batch) {
+            PartitionState state = part.state();
+            TopicPartition tp = state.partition;
+            List<ConsumerRecord<byte[], byte[]>> records = part.records();
+            long live = 0;
+            long rebuilt = 0;
+            long nextCommit = -1;
+            for (int i = 0; i < records.size(); i++) {
+                ConsumerRecord<byte[], byte[]> record = records.get(i);
+                boolean suppress = record.offset() < state.rebuildUntil;
+                byte[] value = valueOf(record);
+                RecordOrigin origin = RecordOrigin.kafka(tp.topic(), tp.partition(), record.offset());
+                RecordOutcome outcome;
+                RuntimeException failed = part.failed() == null ? null : part.failed()[i];
+                if (failed != null) {
+                    outcome = pipelineFailed(state, value, origin, suppress, failed);
+                } else {
+                    try {
+                        outcome = state.pipeline.offerRead(part.read()[i], value, origin, suppress);
+                    } catch (KafkaOutputPublisher.OutputFailedException e) {
+                        throw e;
+                    } catch (RuntimeException e) {
+                        outcome = pipelineFailed(state, value, origin, suppress, e);
+                    }
+                }
+                if (suppress) {
+                    rebuilt++;
+                } else {
+                    counts.add(outcome);
+                    live++;
+                    nextCommit = record.offset() + 1;
+                }
+            }
+            // The partition's fields are written once per batch, not per record: the poll thread
+            // reads objects allocated next to them.
+            if (nextCommit >= 0) {
+                state.nextCommit = nextCommit;
+            }
+            state.rebuiltRecords += rebuilt;
+            meters.rebuildRecords(rebuilt);
+            meters.liveRecords(live);
+            state.processedPosition = part.positionAfter();
         }
     }
 
@@ -221,6 +316,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
 
     @Override
     public void onPartitionsRevoked(Collection<TopicPartition> partitions) {
+        worker.await(); // the batch in flight may hold records of these partitions
         try {
             flushAndCommit(partitions);
         } finally {
@@ -230,6 +326,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
 
     @Override
     public void onPartitionsLost(Collection<TopicPartition> partitions) {
+        worker.await();
         LOG.warn("partitions lost without a clean hand-over (their outputs since the last commit will be "
                 + "produced again by the new owner): {}", partitions);
         drop(partitions);
@@ -237,6 +334,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
 
     @Override
     public void onPartitionsAssigned(Collection<TopicPartition> partitions) {
+        worker.await(); // the status snapshot below reads every pipeline
         assignedOnce = true;
         for (TopicPartition tp : partitions) {
             states.put(tp, new PartitionState(tp, pipelines.create(tp)));
@@ -375,7 +473,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
 
     private void finishRebuilds() {
         for (PartitionState state : states.values()) {
-            if (state.planned && state.rebuildStartedNanos != 0 && consumer.position(state.partition) >= state.rebuildUntil) {
+            if (state.planned && state.rebuildStartedNanos != 0 && state.processedPosition >= state.rebuildUntil) {
                 long nanos = System.nanoTime() - state.rebuildStartedNanos;
                 LOG.info("{} rebuilt: {} records re-read in {} ms", state.partition, state.rebuiltRecords, nanos / 1_000_000);
                 meters.rebuildFinished(nanos);

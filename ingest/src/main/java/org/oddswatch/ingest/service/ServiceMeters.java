@@ -34,12 +34,16 @@ final class ServiceMeters {
                 .description("1 once state is rebuilt and the service is live").register(registry);
     }
 
-    void liveRecord() {
-        live.increment();
+    void liveRecords(long count) {
+        if (count > 0) {
+            live.increment(count);
+        }
     }
 
-    void rebuildRecord() {
-        rebuild.increment();
+    void rebuildRecords(long count) {
+        if (count > 0) {
+            rebuild.increment(count);
+        }
     }
 
     void rebuildStarted(int partitions) {

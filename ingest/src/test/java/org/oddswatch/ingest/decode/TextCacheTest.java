@@ -4,13 +4,12 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertNotSame;
 import static org.junit.jupiter.api.Assertions.assertSame;
 
-import java.nio.charset.StandardCharsets;
 import org.junit.jupiter.api.Test;
 
 class TextCacheTest {
 
     private static String text(TextCache cache, int slot, String padded, int from, int to) {
-        return cache.text(slot, padded.getBytes(StandardCharsets.US_ASCII), from, to);
+        return cache.text(slot, padded.toCharArray(), from, to - from);
     }
 
     @Test
@@ -24,6 +23,8 @@ class TextCacheTest {
         assertEquals("positive", other);
         assertNotSame(first, other, "each slot has its own cache");
         assertEquals("", text(cache, 0, "\"\"", 1, 1));
+        assertEquals("f\u00e9ver", text(cache, 0, "f\u00e9ver", 0, 5), "any characters, not only ASCII");
+        assertSame(text(cache, 0, "xf\u00e9ver", 1, 6), text(cache, 0, "f\u00e9ver", 0, 5));
     }
 
     @Test
