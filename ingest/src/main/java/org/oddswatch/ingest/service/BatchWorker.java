@@ -35,24 +35,31 @@ final class BatchWorker implements AutoCloseable {
         inFlight = executor.submit(batch);
     }
 
+    /** Whether a batch has been submitted and not awaited yet. */
+    boolean hasBatch() {
+        return inFlight != null;
+    }
+
     /**
      * Waits for the batch in flight, if any (an interrupt is kept for later: the batch must finish
      * before its state can be used).
      *
+     * @return true when there was a batch and it was still running (this thread had to wait)
      * @throws RuntimeException or Error: what the batch threw
      */
-    void await() {
+    boolean await() {
         Future<?> batch = inFlight;
         if (batch == null) {
-            return;
+            return false;
         }
         inFlight = null;
+        boolean waited = !batch.isDone();
         boolean interrupted = false;
         try {
             while (true) {
                 try {
                     batch.get();
-                    return;
+                    return waited;
                 } catch (InterruptedException e) {
                     interrupted = true;
                 } catch (ExecutionException e) {

@@ -83,7 +83,11 @@ public final class MonitorService implements AutoCloseable {
             consumerProps.putIfAbsent(ConsumerConfig.PARTITION_ASSIGNMENT_STRATEGY_CONFIG,
                     CooperativeStickyAssignor.class.getName());
         }
-        consumerProps.putIfAbsent(ConsumerConfig.MAX_POLL_RECORDS_CONFIG, "2000");
+        // Enough records per poll to take a whole fetch at once: the consumer sends the next fetch
+        // only once a partition's fetched data is used up, so this overlaps the fetch with the work
+        // on the records (measured in IngestThroughputBenchmarkTest). A poll holds at most
+        // fetch.max.bytes of records.
+        consumerProps.putIfAbsent(ConsumerConfig.MAX_POLL_RECORDS_CONFIG, "50000");
         // Larger fetches per partition: one stream's events come from one partition, so fewer round
         // trips while the poll thread is busy decoding (measured in IngestThroughputBenchmarkTest).
         consumerProps.putIfAbsent(ConsumerConfig.MAX_PARTITION_FETCH_BYTES_CONFIG, Integer.toString(4 << 20));

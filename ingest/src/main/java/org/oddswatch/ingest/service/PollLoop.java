@@ -73,6 +73,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
     private final AlertArchive archive;
     private final ServiceMeters meters;
     private final BatchWorker worker;
+    private final ReadShare readShare = new ReadShare();
     private final Duration timeout;
     private final long commitIntervalNanos;
     private final boolean resetToLatest;
@@ -138,7 +139,11 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
                 // The worker runs the previous batch through the pipelines while this polls.
                 ConsumerRecords<byte[], byte[]> records = consumer.poll(POLL);
                 List<PartitionBatch> batch = read(records);
-                worker.await();
+                boolean hadBatch = worker.hasBatch();
+                boolean waited = worker.await();
+                if (hadBatch) {
+                    readShare.adjust(waited);
+                }
                 planPendingRebuilds();
                 noteProcessedPositions(records);
                 finishRebuilds();
@@ -172,16 +177,19 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
     // ---- records ---------------------------------------------------------------------------
 
     /**
-     * One partition's records of a poll, each read (parsed and decoded) on this thread, or the
-     * error reading it raised; and the consumer position after them.
+     * One partition's records of a poll, each read (parsed and decoded) or the error reading it
+     * raised; the first {@code readHere} on this thread, the rest on the worker; and the consumer
+     * position after them.
      */
     private record PartitionBatch(PartitionState state, List<ConsumerRecord<byte[], byte[]>> records,
-                                  MonitorPipeline.ReadRecord[] read, RuntimeException[] failed, long positionAfter) {
+                                  MonitorPipeline.ReadRecord[] read, RuntimeException[] failed, int readHere,
+                                  long positionAfter) {
     }
 
     /**
-     * Reads the records of planned partitions with each partition's reader. This runs while the
-     * worker still applies the previous batch: reading needs no stream state.
+     * Reads the first part of the records of planned partitions with each partition's reader (the
+     * worker reads the rest before applying them: see {@link ReadShare}). This runs while the worker
+     * still applies the previous batch: reading needs no stream state.
      */
     private List<PartitionBatch> read(ConsumerRecords<byte[], byte[]> records) {
         List<PartitionBatch> batch = new ArrayList<>();
@@ -192,20 +200,24 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
             }
             List<ConsumerRecord<byte[], byte[]>> list = records.records(tp);
             MonitorPipeline.ReadRecord[] read = new MonitorPipeline.ReadRecord[list.size()];
-            RuntimeException[] failed = null;
-            for (int i = 0; i < read.length; i++) {
-                try {
-                    read[i] = state.reader.read(valueOf(list.get(i)));
-                } catch (RuntimeException e) {
-                    if (failed == null) {
-                        failed = new RuntimeException[read.length];
-                    }
-                    failed[i] = e;
-                }
-            }
-            batch.add(new PartitionBatch(state, list, read, failed, consumer.position(tp)));
+            RuntimeException[] failed = new RuntimeException[list.size()];
+            int here = readShare.of(list.size());
+            readRange(state.reader, list, 0, here, read, failed);
+            batch.add(new PartitionBatch(state, list, read, failed, here, consumer.position(tp)));
         }
         return batch;
+    }
+
+    /** Reads records {@code [from, to)} into {@code read}, or their error into {@code failed}. */
+    private static void readRange(MonitorPipeline.RecordReader reader, List<ConsumerRecord<byte[], byte[]>> records,
+                                  int from, int to, MonitorPipeline.ReadRecord[] read, RuntimeException[] failed) {
+        for (int i = from; i < to; i++) {
+            try {
+                read[i] = reader.read(valueOf(records.get(i)));
+            } catch (RuntimeException e) {
+                failed[i] = e;
+            }
+        }
     }
 
     private static byte[] valueOf(ConsumerRecord<byte[], byte[]> record) {
@@ -237,6 +249,11 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
             PartitionState state = part.state();
             TopicPartition tp = state.partition;
             List<ConsumerRecord<byte[], byte[]>> records = part.records();
+            if (state.workerReader == null) {
+                // Made here, so its buffers sit in this thread's memory, away from the poll thread's.
+                state.workerReader = state.pipeline.newReader();
+            }
+            readRange(state.workerReader, records, part.readHere(), records.size(), part.read(), part.failed());
             long live = 0;
             long rebuilt = 0;
             long nextCommit = -1;
@@ -246,7 +263,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
                 byte[] value = valueOf(record);
                 RecordOrigin origin = RecordOrigin.kafka(tp.topic(), tp.partition(), record.offset());
                 RecordOutcome outcome;
-                RuntimeException failed = part.failed() == null ? null : part.failed()[i];
+                RuntimeException failed = part.failed()[i];
                 if (failed != null) {
                     outcome = pipelineFailed(state, value, origin, suppress, failed);
                 } else {

@@ -152,7 +152,7 @@ class HeldIdsTest {
             assertTrue(held.add("steady-" + i, bucket));
         }
         assertEquals(40, held.size());
-        assertTrue(held.capacity() < 8 * (40 + 1), "capacity " + held.capacity());
+        assertTrue(held.capacity() < 16 * (40 + 1), "capacity " + held.capacity());
     }
 
     /**
