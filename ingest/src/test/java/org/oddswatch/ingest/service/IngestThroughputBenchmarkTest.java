@@ -158,12 +158,17 @@ class IngestThroughputBenchmarkTest {
                 | ratio of that / bare consumer | %.2f | %.2f |
                 | replay from a JSON Lines file | %.0f | %.0f |
 
-                Replay wrote %d final estimates. Load average at the end: %.1f.
+                Replay wrote %d final estimates. Load average at the end: %.1f. Garbage collector: %s
+                (the bench profile uses ParallelGC, as the launcher and the image do; G1 figures:
+                `-Dtest.jvm.args="-Xmx2g -XX:+UseG1GC"`).
                 """, EVENTS, (double) bytes / EVENTS, Runtime.getRuntime().availableProcessors(), ROUNDS,
                 best(bare), median(bare), best(service), median(service), best(service) / best(bare),
                 median(service) / median(bare), best(serviceNewProtocol), median(serviceNewProtocol),
                 best(serviceNewProtocol) / best(bare), median(serviceNewProtocol) / median(bare), best(replay), median(replay), summary.finalWindows(),
-                java.lang.management.ManagementFactory.getOperatingSystemMXBean().getSystemLoadAverage());
+                java.lang.management.ManagementFactory.getOperatingSystemMXBean().getSystemLoadAverage(),
+                java.lang.management.ManagementFactory.getGarbageCollectorMXBeans().stream()
+                        .map(java.lang.management.GarbageCollectorMXBean::getName)
+                        .collect(java.util.stream.Collectors.joining(", ")));
         Files.writeString(Path.of("target", "benchmark-ingest.md"), report, StandardCharsets.UTF_8);
         System.out.println(report);
     }
