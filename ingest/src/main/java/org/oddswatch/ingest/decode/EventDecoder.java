@@ -104,6 +104,34 @@ public final class EventDecoder {
         return decode(record.values(), binding.slots);
     }
 
+    /**
+     * This decoder tied to the slot layout of one scanner: decodes that scanner's records without
+     * looking the layout up (and without touching the decoder's shared binding, which readers on
+     * different threads, each with its own scanner, would otherwise keep replacing). Records of any
+     * other form go to {@link #decode(EventRecord)}. Same results as {@link #decode(EventRecord)}.
+     */
+    public final class Bound {
+        private final PointerTrie layout;
+        private final int[] slots;
+
+        private Bound(PointerTrie layout) {
+            this.layout = layout;
+            this.slots = bind(layout).slots;
+        }
+
+        public Result decode(EventRecord record) {
+            if (record.tree() == null && record.layout() == layout) {
+                return EventDecoder.this.decode(record.values(), slots);
+            }
+            return EventDecoder.this.decode(record);
+        }
+    }
+
+    /** This decoder bound to the layout of {@code scanner} (built with this decoder's monitor). */
+    public Bound boundTo(RecordScanner scanner) {
+        return new Bound(scanner.layout());
+    }
+
     private Binding bind(PointerTrie layout) {
         int[] slots = new int[fields.length];
         for (int f = 0; f < fields.length; f++) {

@@ -99,6 +99,11 @@ public final class RecordScanner {
         return scanned;
     }
 
+    /** The slot layout of the records this scanner reads. */
+    PointerTrie layout() {
+        return trie;
+    }
+
     Path lastPath() {
         return lastPath;
     }

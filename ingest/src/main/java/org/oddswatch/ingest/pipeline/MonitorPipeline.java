@@ -169,7 +169,7 @@ public final class MonitorPipeline {
         // Its own copies: a reader on another thread never touches the pipeline's objects per
         // record (they sit next to counters the pipeline thread writes all the time).
         private final RecordScanner scanner = new RecordScanner(settings.limits(), monitors());
-        private final EventDecoder[] decoders = decoders();
+        private final EventDecoder.Bound[] decoders = decoders(scanner);
 
         public ReadRecord read(byte[] value) {
             RecordScanner.Scanned scanned = scanner.scan(value);
@@ -188,10 +188,10 @@ public final class MonitorPipeline {
         }
     }
 
-    private EventDecoder[] decoders() {
-        EventDecoder[] decoders = new EventDecoder[routes.size()];
+    private EventDecoder.Bound[] decoders(RecordScanner scanner) {
+        EventDecoder.Bound[] decoders = new EventDecoder.Bound[routes.size()];
         for (int r = 0; r < decoders.length; r++) {
-            decoders[r] = routes.get(r).decoder;
+            decoders[r] = routes.get(r).decoder.boundTo(scanner);
         }
         return decoders;
     }
