@@ -86,7 +86,7 @@ public final class MonitorService implements AutoCloseable {
         // Enough records per poll to take a whole fetch at once: the consumer sends the next fetch
         // only once a partition's fetched data is used up, so this overlaps the fetch with the work
         // on the records (measured in IngestThroughputBenchmarkTest). A batch of 50,000 records
-        // takes about 30 MB of heap while it is worked on.
+        // takes roughly 30 MB of heap while it is worked on (estimated from object sizes).
         consumerProps.putIfAbsent(ConsumerConfig.MAX_POLL_RECORDS_CONFIG, "50000");
         // Larger fetches per partition: one stream's events come from one partition, so fewer round
         // trips while the poll thread is busy decoding (measured in IngestThroughputBenchmarkTest).
