@@ -7,12 +7,12 @@ import java.util.concurrent.Future;
 import java.util.concurrent.TimeUnit;
 
 /**
- * The thread that runs the pipelines on one polled batch while the poll-loop thread fetches the
- * next: at most one batch is in flight, and the poll thread touches pipeline state only after
- * {@link #await()} has returned (which also makes the worker's writes visible to it). Records are
- * processed in the order polled, one batch after the other, so results are exactly those of a
- * single thread; only the consumer's fetching and record parsing overlap with the pipelines'
- * work.
+ * The thread that applies one polled batch to the pipelines while the poll-loop thread polls and
+ * reads the next: at most one batch is in flight, and the poll thread touches pipeline state only
+ * after {@link #await()} has returned (which also makes the worker's writes visible to it). Records
+ * are applied in the order polled, one batch after the other, so results are exactly those of a
+ * single thread; only polling and reading (parsing, decoding: no stream state) overlap with the
+ * applying.
  */
 final class BatchWorker implements AutoCloseable {
 
