@@ -10,10 +10,12 @@ import java.util.ArrayList;
 import java.util.List;
 import java.util.concurrent.CountDownLatch;
 import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.Timeout;
 
 class BatchWorkerTest {
 
     @Test
+    @Timeout(30)
     void batchesRunOneAtATimeInOrderAndAwaitTellsWhetherItWaited() throws Exception {
         try (BatchWorker worker = new BatchWorker("test-worker")) {
             assertFalse(worker.hasBatch());
