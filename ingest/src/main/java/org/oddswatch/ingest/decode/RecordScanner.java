@@ -42,7 +42,7 @@ public final class RecordScanner {
     private final Scanned scanned;
 
     /** Which path read the last record (for tests). */
-    enum Path { STREAMING, TREE }
+    enum Path { STREAMING, SHARED_PARSER, TREE }
 
     /** A scanner for the fields the given monitors read. */
     public RecordScanner(RecordLimits limits, List<MonitorDefinition> monitors) {
@@ -97,6 +97,143 @@ public final class RecordScanner {
             return byTree(value);
         }
         return scanned;
+    }
+
+    /** Receives the scans of a batch in order; a scanned record is valid only during the call. */
+    public interface ScanSink {
+        void accept(int index, Scanned scanned);
+
+        /** Record {@code index} raised an error (a defect, not bad input); the batch goes on. */
+        void failed(int index, RuntimeException error);
+    }
+
+    /** The batch joined for {@link #scanAll}, reused; record {@code i} is {@code [starts[i], ends[i])}. */
+    private byte[] joined = new byte[0];
+    private int[] starts = new int[0];
+    private int[] ends = new int[0];
+
+    /**
+     * Scans a batch of record values in order, giving each to {@code sink}: the same results as
+     * {@link #scan} record by record, with one parser for the whole batch instead of one per record
+     * (setting a parser up costs about as much as reading a short record). The values are copied
+     * one after the other, separated by a newline, and read as a sequence of JSON values. A record
+     * is taken from that sequence only when its object begins and ends within its own bytes, with
+     * nothing but whitespace around it, and nothing went wrong; any other record (not an object,
+     * trailing content, a parse error, too large, absent) is handed to {@link #scan} on its own and
+     * the shared parser starts again with the next record, so no record can affect another.
+     */
+    public void scanAll(List<byte[]> batch, ScanSink sink) {
+        int n = batch.size();
+        if (starts.length < n) {
+            starts = new int[n];
+            ends = new int[n];
+        }
+        long total = 0;
+        for (byte[] value : batch) {
+            if (joinable(value)) {
+                total += value.length + 1;
+            }
+        }
+        if (total > Integer.MAX_VALUE - 8) {
+            for (int i = 0; i < n; i++) {
+                sink.accept(i, scan(batch.get(i)));
+            }
+            return;
+        }
+        if (joined.length < total) {
+            joined = new byte[(int) Math.max(total, Math.min(Integer.MAX_VALUE - 8, 2L * joined.length))];
+        }
+        int at = 0;
+        for (int i = 0; i < n; i++) {
+            byte[] value = batch.get(i);
+            if (joinable(value)) {
+                System.arraycopy(value, 0, joined, at, value.length);
+                starts[i] = at;
+                ends[i] = at + value.length;
+                at += value.length;
+                joined[at++] = '\n';
+            }
+        }
+        JsonParser parser = null;
+        int base = 0;
+        try {
+            for (int i = 0; i < n; i++) {
+                byte[] value = batch.get(i);
+                try {
+                    if (!joinable(value)) {
+                        sink.accept(i, scan(value));
+                        continue;
+                    }
+                    if (parser == null) {
+                        base = starts[i];
+                        parser = factory.createParser(joined, base, at - base);
+                    }
+                    if (scanJoined(parser, base, ends[i])) {
+                        sink.accept(i, scanned);
+                    } else {
+                        closeQuietly(parser);
+                        parser = null;
+                        sink.accept(i, scan(value));
+                    }
+                } catch (IOException | RuntimeException e) {
+                    closeQuietly(parser);
+                    parser = null;
+                    sink.failed(i, e instanceof RuntimeException r ? r : new IllegalStateException(e));
+                }
+            }
+        } finally {
+            closeQuietly(parser);
+        }
+    }
+
+    private boolean joinable(byte[] value) {
+        return value != null && value.length <= limits.maxRecordBytes();
+    }
+
+    /**
+     * Reads the next value of the shared parser (which reads {@code joined} from {@code base} on) as
+     * the record that ends at {@code joined[end]}: true when it is one object ending within the
+     * record, followed only by whitespace up to {@code end}; false (the parser is then unusable)
+     * otherwise.
+     */
+    private boolean scanJoined(JsonParser parser, int base, int end) {
+        values.reset();
+        lastPath = Path.SHARED_PARSER;
+        try {
+            // The previous record ended in whitespace, so the next value begins at or after
+            // start; one that begins after end (this record is blank) also ends after it.
+            if (parser.nextToken() != JsonToken.START_OBJECT) {
+                return false;
+            }
+            PointerTrie.Node root = trie.root();
+            if (root.slot >= 0) {
+                values.kinds[root.slot] = FieldValues.OBJECT;
+            }
+            readObject(parser, root);
+            long after = base + parser.currentLocation().getByteOffset();
+            if (after > end) {
+                return false;
+            }
+            for (int b = (int) after; b < end; b++) {
+                byte c = joined[b];
+                if (c != ' ' && c != '\t' && c != '\n' && c != '\r') {
+                    return false;
+                }
+            }
+            return true;
+        } catch (IOException | RuntimeException e) {
+            return false;
+        }
+    }
+
+    private static void closeQuietly(JsonParser parser) {
+        if (parser != null) {
+            try {
+                parser.close();
+            } catch (IOException e) {
+                // memory input: nothing to release
+            }
+        }
     }
 
     /** The slot layout of the records this scanner reads. */

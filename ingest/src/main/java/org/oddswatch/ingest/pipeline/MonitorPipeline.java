@@ -179,6 +179,25 @@ public final class MonitorPipeline {
             return read(scanned.record());
         }
 
+        /**
+         * Reads a batch of values, in order, with one parser for the batch ({@link RecordScanner#scanAll}):
+         * value {@code i} ends in {@code read[offset + i]}, or its error (a defect) in
+         * {@code failed[offset + i]}. The same results as {@link #read(byte[])} value by value.
+         */
+        public void readAll(List<byte[]> values, ReadRecord[] read, RuntimeException[] failed, int offset) {
+            scanner.scanAll(values, new RecordScanner.ScanSink() {
+                @Override
+                public void accept(int index, RecordScanner.Scanned scanned) {
+                    read[offset + index] = scanned.ok() ? read(scanned.record()) : new ReadRecord(scanned.rejection(), null);
+                }
+
+                @Override
+                public void failed(int index, RuntimeException error) {
+                    failed[offset + index] = error;
+                }
+            });
+        }
+
         ReadRecord read(EventRecord record) {
             EventDecoder.Result[] results = new EventDecoder.Result[decoders.length];
             for (int r = 0; r < results.length; r++) {

@@ -208,16 +208,27 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
         return batch;
     }
 
-    /** Reads records {@code [from, to)} into {@code read}, or their error into {@code failed}. */
+    /**
+     * Reads records {@code [from, to)} into {@code read}, or their error into {@code failed}, with
+     * one parser for the range.
+     */
     private static void readRange(MonitorPipeline.RecordReader reader, List<ConsumerRecord<byte[], byte[]>> records,
                                   int from, int to, MonitorPipeline.ReadRecord[] read, RuntimeException[] failed) {
-        for (int i = from; i < to; i++) {
-            try {
-                read[i] = reader.read(valueOf(records.get(i)));
-            } catch (RuntimeException e) {
-                failed[i] = e;
-            }
+        if (from >= to) {
+            return;
         }
+        List<byte[]> values = new java.util.AbstractList<>() {
+            @Override
+            public byte[] get(int index) {
+                return valueOf(records.get(from + index));
+            }
+
+            @Override
+            public int size() {
+                return to - from;
+            }
+        };
+        reader.readAll(values, read, failed, from);
     }
 
     private static byte[] valueOf(ConsumerRecord<byte[], byte[]> record) {

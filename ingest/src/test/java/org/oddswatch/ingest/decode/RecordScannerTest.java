@@ -193,6 +193,90 @@ class RecordScannerTest {
         }
     }
 
+    /**
+     * Batches of corpus records, damaged records, oversized and absent values, in seeded random
+     * order: {@link RecordScanner#scanAll} (one parser per batch) gives every record the result
+     * {@link RecordScanner#scan} gives it alone.
+     */
+    @Test
+    void batchScanGivesEveryRecordTheResultOfScanningItAlone() {
+        java.util.Random random = new java.util.Random(20261202);
+        List<String> corpus = corpus();
+        RecordScanner alone = new RecordScanner(LIMITS, List.of(main, odd));
+        RecordScanner batched = new RecordScanner(LIMITS, List.of(main, odd));
+        List<MonitorDefinition> monitors = List.of(main, odd);
+        int[] streamed = new int[1];
+        for (int round = 0; round < 400; round++) {
+            List<byte[]> batch = new java.util.ArrayList<>();
+            int size = 1 + random.nextInt(round % 10 == 0 ? 3 : 60);
+            for (int i = 0; i < size; i++) {
+                int pick = random.nextInt(20);
+                byte[] bytes;
+                if (pick == 0) {
+                    bytes = null;
+                } else if (pick == 1) {
+                    bytes = with("extra", "\"" + "z".repeat(500) + "\"").getBytes(StandardCharsets.UTF_8); // oversized
+                } else if (pick < 5) {
+                    byte[] base = corpus.get(random.nextInt(corpus.size())).getBytes(StandardCharsets.UTF_8);
+                    bytes = base.length == 0 ? base : concat(java.util.Arrays.copyOf(base, random.nextInt(base.length)),
+                            new byte[0]); // cut short
+                } else {
+                    bytes = corpus.get(random.nextInt(corpus.size())).getBytes(StandardCharsets.UTF_8);
+                }
+                batch.add(bytes);
+            }
+            List<String> expected = new java.util.ArrayList<>();
+            for (byte[] bytes : batch) {
+                expected.add(describe(alone.scan(bytes), monitors));
+            }
+            List<String> actual = new java.util.ArrayList<>();
+            int[] next = {0};
+            batched.scanAll(batch, (index, scanned) -> {
+                assertEquals(next[0]++, index, "records come in order");
+                actual.add(describe(scanned, monitors));
+                if (batched.lastPath() == RecordScanner.Path.SHARED_PARSER) {
+                    streamed[0]++;
+                }
+            });
+            assertEquals(expected, actual, "round " + round);
+        }
+        assertTrue(streamed[0] > 5_000, "most valid records came from the shared parser: " + streamed[0]);
+
+        // A record cut in two, halves in consecutive records: joined, they would make one valid
+        // object across the boundary; each half alone is malformed, and so is each here.
+        byte[] whole = BASE.getBytes(StandardCharsets.UTF_8);
+        for (int cut = 1; cut < whole.length; cut++) {
+            List<byte[]> halves = List.of(BASE.getBytes(StandardCharsets.UTF_8), java.util.Arrays.copyOf(whole, cut),
+                    java.util.Arrays.copyOfRange(whole, cut, whole.length), whole);
+            List<String> expected = new java.util.ArrayList<>();
+            for (byte[] bytes : halves) {
+                expected.add(describe(alone.scan(bytes), monitors));
+            }
+            List<String> actual = new java.util.ArrayList<>();
+            batched.scanAll(halves, (index, scanned) -> actual.add(describe(scanned, monitors)));
+            assertEquals(expected, actual, "cut at " + cut);
+        }
+    }
+
+    private static String describe(RecordScanner.Scanned scanned, List<MonitorDefinition> monitors) {
+        if (!scanned.ok()) {
+            return "unreadable " + scanned.rejection();
+        }
+        StringBuilder out = new StringBuilder();
+        for (MonitorDefinition monitor : monitors) {
+            EventDecoder.Result result = new EventDecoder(monitor).decode(scanned.record());
+            if (!result.ok()) {
+                out.append(" rejected ").append(result.rejection());
+            } else {
+                DecodedEvent e = result.event();
+                out.append(' ').append(e.id()).append(' ').append(e.timeMillis()).append(' ').append(e.positive())
+                        .append(' ').append(e.splitValue()).append(' ').append(java.util.Arrays.toString(e.row()))
+                        .append(' ').append(e.stratum()).append(' ').append(e.missingDetail());
+            }
+        }
+        return out.toString();
+    }
+
     private static byte[] concat(byte[] a, byte[] b) {
         byte[] all = java.util.Arrays.copyOf(a, a.length + b.length);
         System.arraycopy(b, 0, all, a.length, b.length);
