@@ -103,8 +103,13 @@ public final class RecordScanner {
     public interface ScanSink {
         void accept(int index, Scanned scanned);
 
-        /** Record {@code index} raised an error (a defect, not bad input); the batch goes on. */
-        void failed(int index, RuntimeException error);
+        /**
+         * Record {@code index} raised an error (a defect, not bad input); the batch goes on when
+         * this returns. By default the error is thrown on, which ends the batch.
+         */
+        default void failed(int index, RuntimeException error) {
+            throw error;
+        }
     }
 
     /** The batch joined for {@link #scanAll}, reused; record {@code i} is {@code [starts[i], ends[i])}. */

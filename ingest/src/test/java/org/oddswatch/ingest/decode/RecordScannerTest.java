@@ -258,6 +258,29 @@ class RecordScannerTest {
         }
     }
 
+    /** An error while one record is handled is reported for that record; the batch goes on. */
+    @Test
+    void anErrorOnOneRecordOfABatchIsReportedForItAndTheRestAreRead() {
+        byte[] good = BASE.getBytes(StandardCharsets.UTF_8);
+        List<byte[]> batch = List.of(good, good, good, good);
+        List<String> seen = new java.util.ArrayList<>();
+        scanner.scanAll(batch, new RecordScanner.ScanSink() {
+            @Override
+            public void accept(int index, RecordScanner.Scanned scanned) {
+                if (index == 1) {
+                    throw new IllegalStateException("broken on purpose");
+                }
+                seen.add(index + (scanned.ok() ? " ok" : " rejected"));
+            }
+
+            @Override
+            public void failed(int index, RuntimeException error) {
+                seen.add(index + " failed: " + error.getMessage());
+            }
+        });
+        assertEquals(List.of("0 ok", "1 failed: broken on purpose", "2 ok", "3 ok"), seen);
+    }
+
     private static String describe(RecordScanner.Scanned scanned, List<MonitorDefinition> monitors) {
         if (!scanned.ok()) {
             return "unreadable " + scanned.rejection();
