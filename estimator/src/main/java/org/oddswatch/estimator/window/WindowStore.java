@@ -192,6 +192,12 @@ public final class WindowStore {
         return buckets.isEmpty() ? Long.MAX_VALUE : buckets.firstKey();
     }
 
+    /** The oldest bucket held at or after {@code bucket}, or {@link Long#MAX_VALUE} when none. */
+    public long oldestBucketFrom(long bucket) {
+        Long held = buckets.ceilingKey(bucket);
+        return held == null ? Long.MAX_VALUE : held;
+    }
+
     /** The newest bucket held, or {@link Long#MIN_VALUE} when empty. */
     public long newestBucket() {
         return buckets.isEmpty() ? Long.MIN_VALUE : buckets.lastKey();

@@ -29,10 +29,6 @@ public final class EventDecoder {
     private static final int OUTCOME = 2;
     private static final int SPLIT = 3;
 
-    /** The slots of a scanner's layout this decoder's fields sit in (cached per layout). */
-    private record Binding(PointerTrie layout, int[] slots) {
-    }
-
     private final MonitorDefinition monitor;
     private final DesignCoder coder;
     /** Every field read, in {@link #fieldsRead} order; the terms start at {@link #firstTerm}. */
@@ -40,7 +36,6 @@ public final class EventDecoder {
     private final int[] identity;
     private final boolean hasSplit;
     private final int firstTerm;
-    private volatile Binding binding;
     private final JsonPointer[] termFields;
     private final String[] termNames;
     private final int stratumTerm;
@@ -90,25 +85,22 @@ public final class EventDecoder {
 
     /**
      * Decodes a record read by a {@link RecordScanner} (built with this decoder's monitor among its
-     * monitors), or given as a tree; the same record gives the same result either way.
+     * monitors), or given as a tree; the same record gives the same result either way. Looks the
+     * fields' slots up in the record's layout on every call: readers of many records use a
+     * {@link Bound} decoder.
      */
     public Result decode(EventRecord record) {
         if (record.tree() != null) {
             return decode(record.tree());
         }
-        Binding binding = this.binding;
-        if (binding == null || binding.layout != record.layout()) {
-            binding = bind(record.layout());
-            this.binding = binding;
-        }
-        return decode(record.values(), binding.slots);
+        return decode(record.values(), slotsIn(record.layout()));
     }
 
     /**
-     * This decoder tied to the slot layout of one scanner: decodes that scanner's records without
-     * looking the layout up (and without touching the decoder's shared binding, which readers on
-     * different threads, each with its own scanner, would otherwise keep replacing). Records of any
-     * other form go to {@link #decode(EventRecord)}. Same results as {@link #decode(EventRecord)}.
+     * This decoder tied to the slot layout of one scanner, with the slots looked up once: decodes
+     * that scanner's records directly; records of any other form go to {@link #decode(EventRecord)}.
+     * Same results as {@link #decode(EventRecord)}. Immutable, so readers on different threads (each
+     * with its own scanner) share nothing that changes.
      */
     public final class Bound {
         private final PointerTrie layout;
@@ -116,7 +108,7 @@ public final class EventDecoder {
 
         private Bound(PointerTrie layout) {
             this.layout = layout;
-            this.slots = bind(layout).slots;
+            this.slots = slotsIn(layout);
         }
 
         public Result decode(EventRecord record) {
@@ -132,12 +124,13 @@ public final class EventDecoder {
         return new Bound(scanner.layout());
     }
 
-    private Binding bind(PointerTrie layout) {
+    /** The slot of each of this decoder's fields in {@code layout}. */
+    private int[] slotsIn(PointerTrie layout) {
         int[] slots = new int[fields.length];
         for (int f = 0; f < fields.length; f++) {
             slots[f] = layout.slotOf(fields[f]);
         }
-        return new Binding(layout, slots);
+        return slots;
     }
 
     /** The fields this monitor reads: id, time, outcome, the split field if any, then every term's field. */

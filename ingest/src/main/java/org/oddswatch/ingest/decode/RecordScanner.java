@@ -85,11 +85,7 @@ public final class RecordScanner {
             if (parser.nextToken() != JsonToken.START_OBJECT) {
                 return byTree(value);
             }
-            PointerTrie.Node root = trie.root();
-            if (root.slot >= 0) {
-                values.kinds[root.slot] = FieldValues.OBJECT;
-            }
-            readObject(parser, root);
+            readRootObject(parser);
             if (parser.nextToken() != null) {
                 return byTree(value);
             }
@@ -210,11 +206,7 @@ public final class RecordScanner {
             if (parser.nextToken() != JsonToken.START_OBJECT) {
                 return false;
             }
-            PointerTrie.Node root = trie.root();
-            if (root.slot >= 0) {
-                values.kinds[root.slot] = FieldValues.OBJECT;
-            }
-            readObject(parser, root);
+            readRootObject(parser);
             long after = base + parser.currentLocation().getByteOffset();
             if (after > end) {
                 return false;
@@ -254,6 +246,15 @@ public final class RecordScanner {
         lastPath = Path.TREE;
         RecordParser.Parsed parsed = treeParser.parse(value);
         return parsed.ok() ? new Scanned(EventRecord.of(parsed.tree()), null) : new Scanned(null, parsed.rejection());
+    }
+
+    /** Reads the record's object, whose START_OBJECT is the current token. */
+    private void readRootObject(JsonParser parser) throws IOException {
+        PointerTrie.Node root = trie.root();
+        if (root.slot >= 0) {
+            values.kinds[root.slot] = FieldValues.OBJECT;
+        }
+        readObject(parser, root);
     }
 
     /** Reads the members of an object whose START_OBJECT is the current token. */

@@ -172,11 +172,11 @@ public final class MonitorPipeline {
         private final EventDecoder.Bound[] decoders = decoders(scanner);
 
         public ReadRecord read(byte[] value) {
-            RecordScanner.Scanned scanned = scanner.scan(value);
-            if (!scanned.ok()) {
-                return new ReadRecord(scanned.rejection(), null);
-            }
-            return read(scanned.record());
+            return read(scanner.scan(value));
+        }
+
+        private ReadRecord read(RecordScanner.Scanned scanned) {
+            return scanned.ok() ? read(scanned.record()) : new ReadRecord(scanned.rejection(), null);
         }
 
         /**
@@ -188,7 +188,7 @@ public final class MonitorPipeline {
             scanner.scanAll(values, new RecordScanner.ScanSink() {
                 @Override
                 public void accept(int index, RecordScanner.Scanned scanned) {
-                    read[offset + index] = scanned.ok() ? read(scanned.record()) : new ReadRecord(scanned.rejection(), null);
+                    read[offset + index] = read(scanned);
                 }
 
                 @Override

@@ -3,7 +3,6 @@ package org.oddswatch.ingest.pipeline;
 import java.time.Instant;
 import java.util.ArrayList;
 import java.util.List;
-import java.util.TreeSet;
 import org.oddswatch.alerts.engine.AlertEngine;
 import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.alerts.lifecycle.Alert;
@@ -56,11 +55,7 @@ final class StreamState {
     private final PipelineListener listener;
     private final ReplayHint replayHint;
     private final WindowStore store;
-    /** Buckets that received an event and are not dropped yet. */
-    private final TreeSet<Long> heldBuckets = new TreeSet<>();
-    /** The bucket of the last accepted event while it is held, so a run in one bucket skips the tree. */
-    private long lastHeldBucket;
-    private boolean lastHeldBucketValid;
+    /** The ids of the events in the store's buckets (the held buckets are the store's own). */
     private final HeldIds heldIds = new HeldIds();
     private final OutcomeCounts counts = new OutcomeCounts();
 
@@ -149,11 +144,6 @@ final class StreamState {
             heldIds.remove(event.id()); // not stored, so not held: the same id may come again
             throw e;
         }
-        if (!lastHeldBucketValid || bucket != lastHeldBucket) {
-            heldBuckets.add(bucket);
-            lastHeldBucket = bucket;
-            lastHeldBucketValid = true;
-        }
         if (baselineStore != null && inBaselinePeriod(time)) {
             baselineStore.add(0, event.row(), event.positive(), event.stratum());
         }
@@ -206,7 +196,7 @@ final class StreamState {
 
     /** End of input: every window that holds events becomes final. */
     void closeAll() {
-        long newest = heldBuckets.isEmpty() ? finalThrough : heldBuckets.last();
+        long newest = store.bucketCount() == 0 ? finalThrough : store.newestBucket();
         finalizeThrough(newest + bucketsPerWindow, false);
         if (engine != null) {
             emitAlerts(engine.onEventsClosed(Long.MAX_VALUE), false);
@@ -250,8 +240,8 @@ final class StreamState {
             }
             long end = finalThrough == Long.MIN_VALUE ? Long.MIN_VALUE : finalThrough + 1;
             while (true) {
-                Long held = heldBuckets.ceiling(end == Long.MIN_VALUE ? Long.MIN_VALUE : end - bucketsPerWindow);
-                if (held == null) {
+                long held = store.oldestBucketFrom(end == Long.MIN_VALUE ? Long.MIN_VALUE : end - bucketsPerWindow);
+                if (held == Long.MAX_VALUE) {
                     break;
                 }
                 end = Math.max(end, held + 1);
@@ -313,12 +303,6 @@ final class StreamState {
     private void expireBefore(long bucket) {
         store.expireBefore(bucket);
         heldIds.expireBefore(bucket);
-        while (!heldBuckets.isEmpty() && heldBuckets.first() < bucket) {
-            heldBuckets.pollFirst();
-        }
-        if (lastHeldBucketValid && lastHeldBucket < bucket) {
-            lastHeldBucketValid = false;
-        }
     }
 
     private boolean inBaselinePeriod(long time) {
@@ -376,6 +360,6 @@ final class StreamState {
         return new StreamStatus(name, monitor.name(),
                 watermark == Long.MIN_VALUE ? null : Instant.ofEpochMilli(watermark),
                 lastFinal == null ? null : lastFinal.windowEnd(), finalWindows, baselineState, baselineNote,
-                heldBuckets.size(), store.approximateBytes(), counts.snapshot());
+                store.bucketCount(), store.approximateBytes(), counts.snapshot());
     }
 }

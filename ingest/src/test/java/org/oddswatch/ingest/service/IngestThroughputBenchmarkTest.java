@@ -54,6 +54,26 @@ class IngestThroughputBenchmarkTest {
         return java.util.Arrays.stream(rates).max().orElseThrow();
     }
 
+    private static double lowest(double[] values) {
+        return java.util.Arrays.stream(values).min().orElseThrow();
+    }
+
+    /** CPU time so far of the live threads with these names, summed (ns). */
+    private static long threadCpuNanos(String... names) {
+        java.lang.management.ThreadMXBean threads = java.lang.management.ManagementFactory.getThreadMXBean();
+        List<String> wanted = List.of(names);
+        long sum = 0;
+        for (java.lang.management.ThreadInfo info : threads.getThreadInfo(threads.getAllThreadIds())) {
+            if (info != null && wanted.contains(info.getThreadName())) {
+                sum += Math.max(0, threads.getThreadCpuTime(info.getThreadId()));
+            }
+        }
+        return sum;
+    }
+
+    /** Thread CPU per counted event of the last {@link #bareConsumerRate} pass (ns). */
+    private static double lastBareCpuNanosPerEvent;
+
     private static double median(double[] rates) {
         double[] sorted = rates.clone();
         java.util.Arrays.sort(sorted);
@@ -87,6 +107,8 @@ class IngestThroughputBenchmarkTest {
         bareConsumerRate(topic);
         double[] bare = new double[ROUNDS];
         double[] bareAgain = new double[ROUNDS];
+        double[] bareCpu = new double[ROUNDS];
+        double[] serviceCpu = new double[ROUNDS];
         double[] service = new double[ROUNDS];
         double[] serviceNewProtocol = new double[ROUNDS];
         for (int i = 0; i < 2 * ROUNDS; i++) {
@@ -99,6 +121,7 @@ class IngestThroughputBenchmarkTest {
             double bareRate = bareConsumerRate(topic);
             if (!newProtocol) {
                 bare[r] = bareRate;
+                bareCpu[r] = lastBareCpuNanosPerEvent;
             } else {
                 bareAgain[r] = bareRate;
             }
@@ -126,6 +149,11 @@ class IngestThroughputBenchmarkTest {
             MonitorService running = new MonitorService(round, registry, "bench-" + i).start();
             try (running) {
                 (newProtocol ? serviceNewProtocol : service)[r] = serviceRate(registry);
+                if (!newProtocol) {
+                    // the poll and worker threads, from their start (group join included)
+                    serviceCpu[r] = threadCpuNanos("oddswatch-poll-bench-" + i, "oddswatch-pipeline-bench-" + i)
+                            / (double) EVENTS;
+                }
             }
             if (recording != null) {
                 recording.dump(Path.of(jfr));
@@ -173,6 +201,11 @@ class IngestThroughputBenchmarkTest {
                 | ratio within back-to-back pairs, that / bare consumer | %.2f | %.2f |
                 | replay from a JSON Lines file | %.0f | %.0f |
 
+                CPU per event (lowest; median), in nanoseconds of thread CPU time: the service's poll and
+                worker threads together %.0f; %.0f (classic protocol passes); the bare consumer's thread
+                %.0f; %.0f. (With `group.protocol=consumer` part of the consumer's work runs on its own
+                background thread, which is not counted, so those passes are left out.)
+
                 Replay wrote %d final estimates. Load average at the end: %.1f. Garbage collector: %s
                 (the bench profile uses ParallelGC, as the launcher and the image do; G1 figures:
                 `-Dtest.jvm.args="-Xmx2g -XX:+UseG1GC"`).
@@ -180,7 +213,7 @@ class IngestThroughputBenchmarkTest {
                 best(allBare), median(allBare), best(service), median(service), best(service) / best(allBare),
                 median(service) / median(allBare), best(pairs), median(pairs), best(serviceNewProtocol),
                 median(serviceNewProtocol), best(pairsNewProtocol), median(pairsNewProtocol), best(replay), median(replay),
-                summary.finalWindows(),
+                lowest(serviceCpu), median(serviceCpu), lowest(bareCpu), median(bareCpu), summary.finalWindows(),
                 java.lang.management.ManagementFactory.getOperatingSystemMXBean().getSystemLoadAverage(),
                 java.lang.management.ManagementFactory.getGarbageCollectorMXBeans().stream()
                         .map(java.lang.management.GarbageCollectorMXBean::getName)
@@ -221,17 +254,21 @@ class IngestThroughputBenchmarkTest {
             consumer.position(tp);
             // Timed as the service is: from the first records counted to the last, not counting
             // that first batch.
+            java.lang.management.ThreadMXBean threads = java.lang.management.ManagementFactory.getThreadMXBean();
             long count = 0;
             long first = 0;
             long start = 0;
+            long startCpu = 0;
             while (count < EVENTS) {
                 ConsumerRecords<byte[], byte[]> records = consumer.poll(Duration.ofMillis(200));
                 count += records.count();
                 if (start == 0 && count > 0) {
                     start = System.nanoTime();
+                    startCpu = threads.getCurrentThreadCpuTime();
                     first = count;
                 }
             }
+            lastBareCpuNanosPerEvent = (threads.getCurrentThreadCpuTime() - startCpu) / (double) (count - first);
             return (count - first) / ((System.nanoTime() - start) / 1e9);
         }
     }
