@@ -20,12 +20,18 @@ final class PointerTrie {
 
     /** One segment position: its children by member name and by array index, and its slot (or -1). */
     static final class Node {
+        /** This node's number, 0 for the root, below {@link PointerTrie#nodeCount()}. */
+        final int id;
         final Map<String, Node> members = new HashMap<>();
         int[] indexes = new int[0];
         Node[] indexed = new Node[0];
         int slot = -1;
         /** The slots of this node and everything below it (cleared when a duplicate member replaces it). */
         int[] subtreeSlots;
+
+        Node(int id) {
+            this.id = id;
+        }
 
         Node member(String name) {
             return members.isEmpty() ? null : members.get(name);
@@ -49,7 +55,8 @@ final class PointerTrie {
         }
     }
 
-    private final Node root = new Node();
+    private int nodes;
+    private final Node root = new Node(nodes++);
     private final Map<String, Integer> slots = new LinkedHashMap<>();
 
     PointerTrie(List<JsonPointer> pointers) {
@@ -69,7 +76,7 @@ final class PointerTrie {
             String name = p.getMatchingProperty();
             Node child = node.members.get(name);
             if (child == null) {
-                child = new Node();
+                child = new Node(nodes++);
                 node.members.put(name, child);
                 int index = p.getMatchingIndex();
                 if (index >= 0) {
@@ -100,6 +107,11 @@ final class PointerTrie {
 
     Node root() {
         return root;
+    }
+
+    /** The number of nodes (root included). */
+    int nodeCount() {
+        return nodes;
     }
 
     int size() {

@@ -4,6 +4,7 @@ import com.fasterxml.jackson.core.JsonFactory;
 import com.fasterxml.jackson.core.JsonParser;
 import com.fasterxml.jackson.core.JsonPointer;
 import com.fasterxml.jackson.core.JsonToken;
+import com.fasterxml.jackson.core.io.SerializedString;
 import java.io.IOException;
 import java.util.ArrayList;
 import java.util.List;
@@ -39,6 +40,7 @@ public final class RecordScanner {
     private final PointerTrie trie;
     private final FieldValues values;
     private final TextCache texts;
+    private final MemberOrder order;
     private final Scanned scanned;
 
     /** Which path read the last record (for tests). */
@@ -64,6 +66,7 @@ public final class RecordScanner {
         this.trie = trie;
         this.values = new FieldValues(trie.size());
         this.texts = new TextCache(trie.size());
+        this.order = new MemberOrder(trie);
         this.scanned = new Scanned(EventRecord.scanned(values, trie), null);
     }
 
@@ -242,6 +245,13 @@ public final class RecordScanner {
         return lastPath;
     }
 
+    /** Member names so far that matched the name remembered for their position (for tests). */
+    long namesMatched() {
+        return namesMatched;
+    }
+
+    private long namesMatched;
+
     private Scanned byTree(byte[] value) {
         lastPath = Path.TREE;
         RecordParser.Parsed parsed = treeParser.parse(value);
@@ -257,11 +267,31 @@ public final class RecordScanner {
         readObject(parser, root);
     }
 
-    /** Reads the members of an object whose START_OBJECT is the current token. */
+    /**
+     * Reads the members of an object whose START_OBJECT is the current token. Each name is first
+     * matched against the one met at the same position before ({@link MemberOrder}); only a name
+     * that differs is looked up in the trie.
+     */
     private void readObject(JsonParser parser, PointerTrie.Node node) throws IOException {
         JsonToken token;
-        while ((token = parser.nextToken()) == JsonToken.FIELD_NAME) {
-            PointerTrie.Node child = node.member(parser.currentName());
+        for (int position = 0; ; position++) {
+            SerializedString expected = order.expected(node, position);
+            PointerTrie.Node child;
+            if (expected != null && parser.nextFieldName(expected)) {
+                child = order.child(node, position);
+                namesMatched++;
+            } else {
+                token = expected == null ? parser.nextToken() : parser.currentToken();
+                if (token != JsonToken.FIELD_NAME) {
+                    if (token != JsonToken.END_OBJECT) {
+                        throw new IOException("unexpected " + token + " in an object");
+                    }
+                    return;
+                }
+                String name = parser.currentName();
+                child = node.member(name);
+                order.remember(node, position, name, child);
+            }
             token = parser.nextToken();
             if (child == null) {
                 skip(parser, token);
@@ -271,9 +301,6 @@ public final class RecordScanner {
                 }
                 readValue(parser, token, child);
             }
-        }
-        if (token != JsonToken.END_OBJECT) {
-            throw new IOException("unexpected " + token + " in an object");
         }
     }
 

@@ -258,6 +258,41 @@ class RecordScannerTest {
         }
     }
 
+    /**
+     * The scanner first tries the member name met at the same position in the record before
+     * ({@link MemberOrder}): records whose members come in shifting orders, under escaped or
+     * look-alike names, with unknown and repeated members, get the tree decoder's results, and
+     * repeated layouts really take the shortcut.
+     */
+    @Test
+    void shiftingMemberOrdersGiveTheTreeDecodersResults() {
+        java.util.Random random = new java.util.Random(20261203);
+        List<String> members = List.of("\"id\":\"e7\"", "\"collectedAt\":\"2026-02-03T09:30:00Z\"",
+                "\"result\":\"negative\"", "\"region\":\"south\"", "\"exposure\":{\"household\":\"no\",\"x\":1}",
+                "\"age\":42", "\"ageBand\":\"18-39\"", "\"sex\":\"female\"");
+        List<String> oddMembers = List.of("\"\\u0069d\":\"e8\"", "\"ie\":\"look-alike\"", "\"regioN\":\"east\"",
+                "\"extra\":[1,{\"id\":2}]", "\"result\":\"positive\"", "\"exposure\":{\"h\\u006fusehold\":\"yes\"}",
+                "\"id\":\"e9\"");
+        RecordScanner fresh = new RecordScanner(LIMITS, List.of(main, odd));
+        for (int i = 0; i < 3_000; i++) {
+            List<String> record = new java.util.ArrayList<>(members);
+            if (random.nextInt(4) == 0) {
+                java.util.Collections.shuffle(record, random);
+            } else if (random.nextInt(3) == 0) {
+                java.util.Collections.swap(record, random.nextInt(record.size()), random.nextInt(record.size()));
+            }
+            if (random.nextInt(5) == 0) {
+                record.add(random.nextInt(record.size() + 1), oddMembers.get(random.nextInt(oddMembers.size())));
+            }
+            if (random.nextInt(6) == 0) {
+                record.remove(random.nextInt(record.size()));
+            }
+            String text = "{" + String.join(",", record) + "}";
+            compare("record " + i + ": " + text, text.getBytes(StandardCharsets.UTF_8), List.of(main, odd), fresh);
+        }
+        assertTrue(fresh.namesMatched() > 10_000, "names matched by their remembered position: " + fresh.namesMatched());
+    }
+
     /** An error while one record is handled is reported for that record; the batch goes on. */
     @Test
     void anErrorOnOneRecordOfABatchIsReportedForItAndTheRestAreRead() {
