@@ -32,7 +32,8 @@ import org.oddswatch.ingest.pipeline.RejectedRecord;
  * the poll loop never waits for it).
  *
  * <p>Meter updates happen per final window (and per CUSUM close), except the event counter, which is
- * one cached {@link Counter} increment per record (for accepted records found by the stream name alone). Pipelines call none of these while rebuilding,
+ * one cached {@link Counter} increment per record (for accepted records found by the identity of the
+ * stream's name string, else by the name). Pipelines call none of these while rebuilding,
  * except {@link #onAlertRestored}, which sets the alert-state gauge of an episode still open.
  */
 final class AlertMetersListener implements PipelineListener, AutoCloseable {
@@ -106,17 +107,42 @@ final class AlertMetersListener implements PipelineListener, AutoCloseable {
     public void onOutcome(String monitor, String stream, RecordOutcome outcome) {
         String streamTag = stream != null ? stream : OddswatchMeters.NONE;
         if (outcome.reason() == null && outcome.accepted()) {
-            // The common case, once per accepted record: one look-up by the stream's own name.
+            // The common case, once per accepted record: the stream's name is the same string
+            // object record after record, so a short scan by identity finds its counter.
+            for (AcceptedCounter known : acceptedByIdentity) {
+                if (known.stream == streamTag) {
+                    known.counter.increment();
+                    return;
+                }
+            }
             Counter accepted = acceptedCounters.get(streamTag);
             if (accepted == null) {
                 accepted = eventCounter(streamTag, outcome.outcome().toString(), OddswatchMeters.NONE);
                 acceptedCounters.put(streamTag, accepted);
             }
+            rememberByIdentity(streamTag, accepted);
             accepted.increment();
             return;
         }
         String reason = outcome.reason() == null ? OddswatchMeters.NONE : outcome.reason();
         eventCounter(streamTag, outcome.outcome().toString(), reason).increment();
+    }
+
+    /** A stream name object and its accepted-events counter. */
+    private record AcceptedCounter(String stream, Counter counter) {
+    }
+
+    /** Streams seen most, at most {@link #BY_IDENTITY}; replaced whole (copy on write), never changed. */
+    private volatile AcceptedCounter[] acceptedByIdentity = new AcceptedCounter[0];
+    private static final int BY_IDENTITY = 16;
+
+    private void rememberByIdentity(String stream, Counter counter) {
+        AcceptedCounter[] known = acceptedByIdentity;
+        if (known.length < BY_IDENTITY) {
+            AcceptedCounter[] more = java.util.Arrays.copyOf(known, known.length + 1);
+            more[known.length] = new AcceptedCounter(stream, counter);
+            acceptedByIdentity = more;
+        }
     }
 
     private Counter eventCounter(String stream, String outcome, String reason) {

@@ -181,7 +181,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
      * raised; the first {@code readHere} on this thread, the rest on the worker; and the consumer
      * position after them.
      */
-    private record PartitionBatch(PartitionState state, List<ConsumerRecord<byte[], byte[]>> records,
+    private record PartitionBatch(PartitionState state, byte[][] values, long[] offsets,
                                   MonitorPipeline.ReadRecord[] read, RuntimeException[] failed, int readHere,
                                   long positionAfter) {
     }
@@ -198,12 +198,22 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
             if (state == null || !state.planned) {
                 continue;
             }
+            // Values and offsets are taken out here, where the records were just made, so the
+            // worker reads two arrays instead of records allocated on this thread.
             List<ConsumerRecord<byte[], byte[]>> list = records.records(tp);
-            MonitorPipeline.ReadRecord[] read = new MonitorPipeline.ReadRecord[list.size()];
-            RuntimeException[] failed = new RuntimeException[list.size()];
-            int here = readShare.of(list.size());
-            readRange(state.reader, list, 0, here, read, failed);
-            batch.add(new PartitionBatch(state, list, read, failed, here, consumer.position(tp)));
+            int n = list.size();
+            byte[][] values = new byte[n][];
+            long[] offsets = new long[n];
+            for (int i = 0; i < n; i++) {
+                ConsumerRecord<byte[], byte[]> record = list.get(i);
+                values[i] = record.value() == null ? NO_BYTES : record.value();
+                offsets[i] = record.offset();
+            }
+            MonitorPipeline.ReadRecord[] read = new MonitorPipeline.ReadRecord[n];
+            RuntimeException[] failed = new RuntimeException[n];
+            int here = readShare.of(n);
+            readRange(state.reader, values, 0, here, read, failed);
+            batch.add(new PartitionBatch(state, values, offsets, read, failed, here, consumer.position(tp)));
         }
         return batch;
     }
@@ -212,28 +222,15 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
      * Reads records {@code [from, to)} into {@code read}, or their error into {@code failed}, with
      * one parser for the range.
      */
-    private static void readRange(MonitorPipeline.RecordReader reader, List<ConsumerRecord<byte[], byte[]>> records,
-                                  int from, int to, MonitorPipeline.ReadRecord[] read, RuntimeException[] failed) {
-        if (from >= to) {
-            return;
+    private static void readRange(MonitorPipeline.RecordReader reader, byte[][] values, int from, int to,
+                                  MonitorPipeline.ReadRecord[] read, RuntimeException[] failed) {
+        if (from < to) {
+            reader.readAll(java.util.Arrays.asList(values).subList(from, to), read, failed, from);
         }
-        List<byte[]> values = new java.util.AbstractList<>() {
-            @Override
-            public byte[] get(int index) {
-                return valueOf(records.get(from + index));
-            }
-
-            @Override
-            public int size() {
-                return to - from;
-            }
-        };
-        reader.readAll(values, read, failed, from);
     }
 
-    private static byte[] valueOf(ConsumerRecord<byte[], byte[]> record) {
-        return record.value() == null ? new byte[0] : record.value();
-    }
+    /** The value of a record without one (a tombstone): read as empty, so it is rejected as such. */
+    private static final byte[] NO_BYTES = new byte[0];
 
     /** Hands a read batch to the worker (nothing when it is empty). */
     private void submit(List<PartitionBatch> batch) {
@@ -259,20 +256,21 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
         for (PartitionBatch part : batch) {
             PartitionState state = part.state();
             TopicPartition tp = state.partition;
-            List<ConsumerRecord<byte[], byte[]>> records = part.records();
+            byte[][] values = part.values();
+            long[] offsets = part.offsets();
             if (state.workerReader == null) {
                 // Made here, so its buffers sit in this thread's memory, away from the poll thread's.
                 state.workerReader = state.pipeline.newReader();
             }
-            readRange(state.workerReader, records, part.readHere(), records.size(), part.read(), part.failed());
+            readRange(state.workerReader, values, part.readHere(), values.length, part.read(), part.failed());
             long live = 0;
             long rebuilt = 0;
             long nextCommit = -1;
-            for (int i = 0; i < records.size(); i++) {
-                ConsumerRecord<byte[], byte[]> record = records.get(i);
-                boolean suppress = record.offset() < state.rebuildUntil;
-                byte[] value = valueOf(record);
-                RecordOrigin origin = RecordOrigin.kafka(tp.topic(), tp.partition(), record.offset());
+            for (int i = 0; i < values.length; i++) {
+                long offset = offsets[i];
+                boolean suppress = offset < state.rebuildUntil;
+                byte[] value = values[i];
+                RecordOrigin origin = RecordOrigin.kafka(tp.topic(), tp.partition(), offset);
                 RecordOutcome outcome;
                 RuntimeException failed = part.failed()[i];
                 if (failed != null) {
@@ -291,7 +289,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
                 } else {
                     counts.add(outcome);
                     live++;
-                    nextCommit = record.offset() + 1;
+                    nextCommit = offset + 1;
                 }
             }
             // The partition's fields are written once per batch, not per record: the poll thread

@@ -144,6 +144,8 @@ class IngestThroughputBenchmarkTest {
             jdk.jfr.Recording recording = null;
             if (jfr != null) {
                 recording = new jdk.jfr.Recording(jdk.jfr.Configuration.getConfiguration("profile"));
+                // one sample per millisecond and thread: a pass lasts only a second or two
+                recording.enable("jdk.ExecutionSample").withPeriod(Duration.ofMillis(1));
                 recording.start();
             }
             MonitorService running = new MonitorService(round, registry, "bench-" + i).start();
