@@ -241,7 +241,10 @@ public final class EventDecoder {
                 throw new IllegalArgumentException("time " + values.asText(slot) + " is not whole epoch milliseconds");
             }
             case FieldValues.TEXT:
-                return parseTime(values.texts[slot]);
+                // Read by the scanner when the text has the common shape: then it has no space
+                // around it and is not all digits, so parseTime(String) would give the same value.
+                long read = values.times[slot];
+                return read != Long.MIN_VALUE ? read : parseTime(values.texts[slot]);
             default:
                 throw new IllegalArgumentException("time must be RFC 3339 text or epoch milliseconds");
         }

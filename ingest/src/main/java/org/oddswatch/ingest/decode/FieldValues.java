@@ -32,6 +32,13 @@ final class FieldValues {
     final long[] longs;
     final double[] doubles;
     final BigInteger[] bigs;
+    /**
+     * For TEXT slots the scanner read as an event time: the epoch milliseconds of the text when it
+     * has the common RFC 3339 shape ({@link Rfc3339#fast(char[], int, int)}), else
+     * {@link Long#MIN_VALUE} (the decoder then parses the text itself). Any change of the text
+     * resets it.
+     */
+    final long[] times;
 
     FieldValues(int slots) {
         kinds = new byte[slots];
@@ -39,6 +46,8 @@ final class FieldValues {
         longs = new long[slots];
         doubles = new double[slots];
         bigs = new BigInteger[slots];
+        times = new long[slots];
+        Arrays.fill(times, Long.MIN_VALUE);
     }
 
     int size() {
@@ -49,17 +58,25 @@ final class FieldValues {
         Arrays.fill(kinds, MISSING);
         Arrays.fill(texts, null);
         Arrays.fill(bigs, null);
+        Arrays.fill(times, Long.MIN_VALUE);
     }
 
     void clear(int slot) {
         kinds[slot] = MISSING;
         texts[slot] = null;
         bigs[slot] = null;
+        times[slot] = Long.MIN_VALUE;
     }
 
     void setText(int slot, String text) {
         kinds[slot] = TEXT;
         texts[slot] = text;
+        times[slot] = Long.MIN_VALUE;
+    }
+
+    /** The text of a TEXT slot read as an event time (see {@link #times}). */
+    void setTime(int slot, long epochMillis) {
+        times[slot] = epochMillis;
     }
 
     void setLong(int slot, long value) {

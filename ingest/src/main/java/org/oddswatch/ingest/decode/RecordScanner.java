@@ -8,8 +8,11 @@ import com.fasterxml.jackson.core.io.SerializedString;
 import java.io.IOException;
 import java.util.ArrayList;
 import java.util.List;
+import org.oddswatch.estimator.terms.BinaryTerm;
+import org.oddswatch.estimator.terms.CategoricalTerm;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 import org.oddswatch.ingest.definition.RecordLimits;
+import org.oddswatch.ingest.definition.TermSpec;
 
 /**
  * Reads a record value once for all monitors of an input, without building a JSON tree: a
@@ -41,6 +44,8 @@ public final class RecordScanner {
     private final FieldValues values;
     private final TextCache texts;
     private final MemberOrder order;
+    /** Slots some monitor reads as its event time (read from the parser's characters). */
+    private final boolean[] timeSlots;
     private final Scanned scanned;
 
     /** Which path read the last record (for tests). */
@@ -49,6 +54,29 @@ public final class RecordScanner {
     /** A scanner for the fields the given monitors read. */
     public RecordScanner(RecordLimits limits, List<MonitorDefinition> monitors) {
         this(limits, new PointerTrie(pointersOf(monitors)));
+        for (MonitorDefinition monitor : monitors) {
+            timeSlots[trie.slotOf(monitor.event().time())] = true;
+            seed(monitor.event().outcome().field(), monitor.event().outcome().positive());
+            seed(monitor.event().outcome().field(), monitor.event().outcome().negative());
+            for (TermSpec term : monitor.terms()) {
+                if (term.term() instanceof BinaryTerm binary) {
+                    seed(term.field(), List.of(binary.level(), binary.reference()));
+                } else if (term.term() instanceof CategoricalTerm categorical) {
+                    seed(term.field(), categorical.levels());
+                }
+            }
+        }
+    }
+
+    /**
+     * Offers the declared values of a field to the text cache, so that a record's value comes back
+     * as the definition's own string and later comparisons with it end at the identity check.
+     */
+    private void seed(JsonPointer field, List<String> declared) {
+        int slot = trie.slotOf(field);
+        for (String value : declared) {
+            texts.seed(slot, value);
+        }
     }
 
     /** A scanner for the given pointers (tests and tools). */
@@ -67,6 +95,7 @@ public final class RecordScanner {
         this.values = new FieldValues(trie.size());
         this.texts = new TextCache(trie.size());
         this.order = new MemberOrder(trie);
+        this.timeSlots = new boolean[trie.size()];
         this.scanned = new Scanned(EventRecord.scanned(values, trie), null);
     }
 
@@ -346,8 +375,13 @@ public final class RecordScanner {
             }
             case VALUE_STRING -> {
                 if (slot >= 0) {
-                    values.setText(slot, texts.text(slot, parser.getTextCharacters(), parser.getTextOffset(),
-                            parser.getTextLength()));
+                    char[] chars = parser.getTextCharacters();
+                    int offset = parser.getTextOffset();
+                    int length = parser.getTextLength();
+                    values.setText(slot, texts.text(slot, chars, offset, length));
+                    if (timeSlots[slot]) {
+                        values.setTime(slot, Rfc3339.fast(chars, offset, length));
+                    }
                 } else {
                     parser.getTextLength();
                 }

@@ -30,17 +30,24 @@ final class Rfc3339 {
 
     /** The value, or Long.MIN_VALUE when the text is not of the common shape (or not a valid date). */
     static long fast(String s) {
-        int n = s.length();
-        if (n < 20 || s.charAt(4) != '-' || s.charAt(7) != '-' || (s.charAt(10) != 'T' && s.charAt(10) != 't')
-                || s.charAt(13) != ':' || s.charAt(16) != ':') {
+        return fast(s.toCharArray(), 0, s.length());
+    }
+
+    /**
+     * {@link #fast(String)} on {@code c[from, from + n)}, without making a string: the scanner reads
+     * event times straight from the parser's buffer.
+     */
+    static long fast(char[] c, int from, int n) {
+        if (n < 20 || c[from + 4] != '-' || c[from + 7] != '-' || (c[from + 10] != 'T' && c[from + 10] != 't')
+                || c[from + 13] != ':' || c[from + 16] != ':') {
             return Long.MIN_VALUE;
         }
-        int year = digits(s, 0, 4);
-        int month = digits(s, 5, 2);
-        int day = digits(s, 8, 2);
-        int hour = digits(s, 11, 2);
-        int minute = digits(s, 14, 2);
-        int second = digits(s, 17, 2);
+        int year = digits(c, from, 4);
+        int month = digits(c, from + 5, 2);
+        int day = digits(c, from + 8, 2);
+        int hour = digits(c, from + 11, 2);
+        int minute = digits(c, from + 14, 2);
+        int second = digits(c, from + 17, 2);
         if (year < 0 || month < 1 || month > 12 || day < 1 || hour < 0 || hour > 23 || minute < 0 || minute > 59
                 || second < 0 || second > 59) {
             return Long.MIN_VALUE;
@@ -52,11 +59,11 @@ final class Rfc3339 {
         }
         int i = 19;
         long millis = 0;
-        if (i < n && s.charAt(i) == '.') {
+        if (i < n && c[from + i] == '.') {
             int start = ++i;
-            while (i < n && s.charAt(i) >= '0' && s.charAt(i) <= '9') {
+            while (i < n && c[from + i] >= '0' && c[from + i] <= '9') {
                 if (i - start < 3) {
-                    millis = millis * 10 + (s.charAt(i) - '0');
+                    millis = millis * 10 + (c[from + i] - '0');
                 }
                 i++;
             }
@@ -72,12 +79,12 @@ final class Rfc3339 {
             return Long.MIN_VALUE;
         }
         int offsetSeconds;
-        char zone = s.charAt(i);
+        char zone = c[from + i];
         if ((zone == 'Z' || zone == 'z') && i == n - 1) {
             offsetSeconds = 0;
-        } else if ((zone == '+' || zone == '-') && i == n - 6 && s.charAt(i + 3) == ':') {
-            int oh = digits(s, i + 1, 2);
-            int om = digits(s, i + 4, 2);
+        } else if ((zone == '+' || zone == '-') && i == n - 6 && c[from + i + 3] == ':') {
+            int oh = digits(c, from + i + 1, 2);
+            int om = digits(c, from + i + 4, 2);
             if (oh < 0 || oh > 18 || om < 0 || om > 59 || (oh == 18 && om > 0)) {
                 return Long.MIN_VALUE;
             }
@@ -90,10 +97,10 @@ final class Rfc3339 {
         return seconds * 1000L + millis;
     }
 
-    private static int digits(String s, int from, int count) {
+    private static int digits(char[] text, int from, int count) {
         int value = 0;
         for (int i = from; i < from + count; i++) {
-            char c = s.charAt(i);
+            char c = text[i];
             if (c < '0' || c > '9') {
                 return -1;
             }

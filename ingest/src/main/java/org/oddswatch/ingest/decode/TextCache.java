@@ -4,8 +4,9 @@ package org.oddswatch.ingest.decode;
  * Java strings for text values, reusing the string of an equal value seen recently in the same
  * slot: outcomes, split values and levels repeat record after record, so most of them need no new
  * string (and later comparisons with them are identity hits). A slot whose values rarely repeat
- * (ids, times) stops being looked up after a short trial. Only saves allocation and comparison
- * work; the strings are equal either way. Not thread-safe.
+ * (ids, times) stops being looked up after a short trial. A slot can be seeded with the values a
+ * definition declares for it, so that records get the definition's own strings. Only saves
+ * allocation and comparison work; the strings are equal either way. Not thread-safe.
  */
 final class TextCache {
 
@@ -26,6 +27,27 @@ final class TextCache {
         looks = new int[slots];
         hits = new int[slots];
         off = new boolean[slots];
+    }
+
+    /**
+     * Puts a string expected in {@code slot} (a declared outcome or level) into one of the slot's
+     * ways, unless an equal one is there already or the ways are full (seeds may be replaced later).
+     */
+    void seed(int slot, String value) {
+        if (value.length() > LONGEST) {
+            return;
+        }
+        String[] known = strings[slot];
+        for (int w = 0; w < WAYS; w++) {
+            if (known[w] == null) {
+                known[w] = value;
+                next[slot] = (w + 1) % WAYS;
+                return;
+            }
+            if (known[w].equals(value)) {
+                return;
+            }
+        }
     }
 
     /** The text of {@code chars[from, from + length)}. */

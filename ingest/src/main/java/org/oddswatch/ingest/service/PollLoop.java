@@ -137,12 +137,18 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
             consumer.subscribe(new ArrayList<>(config.topics()), this);
             while (!closing) {
                 // The worker runs the previous batch through the pipelines while this polls.
+                long polling = System.nanoTime();
                 ConsumerRecords<byte[], byte[]> records = consumer.poll(POLL);
+                long reading = System.nanoTime();
                 List<PartitionBatch> batch = read(records);
+                long waiting = System.nanoTime();
                 boolean hadBatch = worker.hasBatch();
                 boolean waited = worker.await();
                 if (hadBatch) {
                     readShare.adjust(waited);
+                }
+                if (!records.isEmpty()) {
+                    meters.pollTurn(reading - polling, waiting - reading, System.nanoTime() - waiting);
                 }
                 planPendingRebuilds();
                 noteProcessedPositions(records);
@@ -253,6 +259,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
 
     /** Runs on the worker: every record to its partition's pipeline (suppressed below the rebuild offset). */
     private void process(List<PartitionBatch> batch) {
+        long start = System.nanoTime();
         for (PartitionBatch part : batch) {
             PartitionState state = part.state();
             TopicPartition tp = state.partition;
@@ -302,6 +309,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
             meters.liveRecords(live);
             state.processedPosition = part.positionAfter();
         }
+        meters.applied(System.nanoTime() - start);
     }
 
     /**

@@ -20,6 +20,10 @@ final class ServiceMeters {
     private final Counter rebuilds;
     private final Timer rebuildDuration;
     private final AtomicInteger ready = new AtomicInteger();
+    private final Timer poll;
+    private final Timer read;
+    private final Timer wait;
+    private final Timer apply;
 
     ServiceMeters(MeterRegistry registry, String instance) {
         live = Counter.builder("oddswatch.service.records").tag("phase", "live").tag("instance", instance)
@@ -32,6 +36,27 @@ final class ServiceMeters {
                 .description("time to rebuild one partition's state").register(registry);
         Gauge.builder("oddswatch.service.ready", ready, AtomicInteger::get).tag("instance", instance)
                 .description("1 once state is rebuilt and the service is live").register(registry);
+        poll = loopTimer(registry, instance, "poll");
+        read = loopTimer(registry, instance, "read");
+        wait = loopTimer(registry, instance, "wait");
+        apply = loopTimer(registry, instance, "apply");
+    }
+
+    private static Timer loopTimer(MeterRegistry registry, String instance, String step) {
+        return Timer.builder("oddswatch.service.loop").tag("step", step).tag("instance", instance)
+                .description("time per polled batch in one step of the poll loop or its worker").register(registry);
+    }
+
+    /** One turn of the poll thread: time in poll, reading its share, waiting for the worker (ns). */
+    void pollTurn(long pollNanos, long readNanos, long waitNanos) {
+        poll.record(pollNanos, TimeUnit.NANOSECONDS);
+        read.record(readNanos, TimeUnit.NANOSECONDS);
+        wait.record(waitNanos, TimeUnit.NANOSECONDS);
+    }
+
+    /** One batch on the worker: reading the rest and applying all of it (ns). */
+    void applied(long nanos) {
+        apply.record(nanos, TimeUnit.NANOSECONDS);
     }
 
     void liveRecords(long count) {

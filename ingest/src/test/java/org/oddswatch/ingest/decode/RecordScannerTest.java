@@ -403,6 +403,32 @@ class RecordScannerTest {
         assertEquals(RejectReason.MALFORMED_JSON, scanner.scan(null).rejection().reason());
     }
 
+    /**
+     * Declared outcomes and levels come back as the definition's own strings (so the decoder's
+     * comparisons end at the identity check), and a time of the common shape is read while scanning;
+     * undeclared values and other times are plain equal strings.
+     */
+    @Test
+    void declaredValuesComeBackAsTheDefinitionsStringsAndTimesAreReadWhileScanning() {
+        RecordScanner fresh = new RecordScanner(LIMITS, List.of(main));
+        FieldValues v = fresh.scan(BASE.getBytes(StandardCharsets.UTF_8)).record().values();
+        PointerTrie trie = fresh.layout();
+        int result = trie.slotOf(JsonPointer.compile("/result"));
+        int sex = trie.slotOf(JsonPointer.compile("/sex"));
+        int time = trie.slotOf(JsonPointer.compile("/collectedAt"));
+        org.junit.jupiter.api.Assertions.assertSame(main.event().outcome().positive().get(0), v.texts[result]);
+        org.junit.jupiter.api.Assertions.assertSame(
+                ((org.oddswatch.estimator.terms.CategoricalTerm) main.terms().stream()
+                        .filter(t -> t.name().equals("sex")).findFirst().orElseThrow().term()).levels().get(1),
+                v.texts[sex], "male");
+        assertEquals(EventDecoder.parseTime("2026-02-03T09:30:00Z"), v.times[time]);
+        FieldValues odd = fresh.scan(with("collectedAt", "\" 2026-02-03T09:30:00Z\"").getBytes(StandardCharsets.UTF_8))
+                .record().values();
+        assertEquals(Long.MIN_VALUE, odd.times[time], "space around it: left to the decoder");
+        FieldValues other = fresh.scan(with("sex", "\"other\"").getBytes(StandardCharsets.UTF_8)).record().values();
+        assertEquals("other", other.texts[sex]);
+    }
+
     @Test
     void trieFindsNestedMembersArrayElementsAndEscapedNames() {
         RecordScanner onPointers = RecordScanner.forPointers(LIMITS, List.of(JsonPointer.compile("/a/b"),

@@ -45,6 +45,25 @@ class Rfc3339Test {
         }
     }
 
+    /**
+     * The scanner reads times from a window of the parser's character buffer: the same answer as
+     * from the text alone, whatever lies around the window.
+     */
+    @Test
+    void aWindowOfACharacterBufferReadsAsItsTextAlone() {
+        Random random = new Random(3340);
+        String[] zones = {"Z", "+01:00", "-05:30", "", "+0100", " "};
+        for (int i = 0; i < 5_000; i++) {
+            String text = String.format(Locale.ROOT, "%04d-%02d-%02dT%02d:%02d:%02d%s%s", 1960 + random.nextInt(120),
+                    1 + random.nextInt(12), 1 + random.nextInt(31), random.nextInt(24), random.nextInt(60),
+                    random.nextInt(60), fraction(random), zones[random.nextInt(zones.length)]);
+            String before = "x".repeat(random.nextInt(5)) + (random.nextBoolean() ? "9" : ":");
+            String after = random.nextBoolean() ? "Z" : "0:00";
+            char[] buffer = (before + text + after).toCharArray();
+            assertEquals(Rfc3339.fast(text), Rfc3339.fast(buffer, before.length(), text.length()), text);
+        }
+    }
+
     private static String fraction(Random random) {
         int digits = random.nextInt(12);
         if (digits == 0 || digits > 10) {

@@ -49,6 +49,7 @@ class IngestThroughputBenchmarkTest {
 
     private static final int EVENTS = Integer.getInteger("oddswatch.bench.events", 1_000_000);
     private static final int ROUNDS = 5;
+    private static final int WARM_ROUNDS = 2;
 
     private static double best(double[] rates) {
         return java.util.Arrays.stream(rates).max().orElseThrow();
@@ -99,7 +100,9 @@ class IngestThroughputBenchmarkTest {
                 writer.write('\n');
             }
         }
-        // Warm-up passes first (JIT, page cache): replay twice, the bare consumer once.
+        // Warm-up passes first (JIT, page cache): replay twice, the bare consumer once, and
+        // WARM_ROUNDS rounds of the service loop below (without them the compiler threads still
+        // used about as much CPU as one service thread during the first measured passes).
         MonitorConfig config = TestDefinitions.config(TestDefinitions.yaml(KAFKA.bootstrapServers(), topic, "bench",
                 "bench-group", 8, "P3650D"));
         ReplayRunner.run(config, ReplayRequest.of(null, file, dir.resolve("warm1")));
@@ -111,15 +114,24 @@ class IngestThroughputBenchmarkTest {
         double[] serviceCpu = new double[ROUNDS];
         double[] service = new double[ROUNDS];
         double[] serviceNewProtocol = new double[ROUNDS];
-        for (int i = 0; i < 2 * ROUNDS; i++) {
+        // wall time per event in each step of the loop (oddswatch.service.loop), classic passes
+        double[] gcShare = new double[ROUNDS];
+        double[] processCpu = new double[ROUNDS];
+        java.util.Map<String, double[]> cpuByGroup = new java.util.TreeMap<>();
+        String[] steps = {"poll", "read", "wait", "apply"};
+        double[][] stepNanos = new double[steps.length][ROUNDS];
+        for (int i = -2 * WARM_ROUNDS; i < 2 * ROUNDS; i++) {
             // Each round: the bare consumer, then the service with the classic group protocol; then
             // the bare consumer again and the service with group.protocol=consumer. Each service
             // pass has a new consumer group and reads the whole topic. Pairs run back to back, so
             // the ratio of a pair is taken under the same load (the machine is shared).
-            int r = i / 2;
-            boolean newProtocol = i % 2 == 1;
+            boolean measured = i >= 0;
+            int r = measured ? i / 2 : 0;
+            boolean newProtocol = Math.floorMod(i, 2) == 1;
             double bareRate = bareConsumerRate(topic);
-            if (!newProtocol) {
+            if (!measured) {
+                // warm-up round: nothing kept
+            } else if (!newProtocol) {
                 bare[r] = bareRate;
                 bareCpu[r] = lastBareCpuNanosPerEvent;
             } else {
@@ -130,12 +142,8 @@ class IngestThroughputBenchmarkTest {
                 yaml = yaml.replace("  bootstrap.servers:", "  group.protocol: consumer\n  bootstrap.servers:");
             }
             // -Doddswatch.bench.clientSettings="max.poll.records=500,..." tries other consumer settings.
-            for (String setting : System.getProperty("oddswatch.bench.clientSettings", "").split(",")) {
-                if (setting.contains("=")) {
-                    String[] kv = setting.split("=", 2);
-                    yaml = yaml.replace("  bootstrap.servers:", "  " + kv[0].trim() + ": " + kv[1].trim()
-                            + "\n  bootstrap.servers:");
-                }
+            for (String[] kv : clientSettings()) {
+                yaml = yaml.replace("  bootstrap.servers:", "  " + kv[0] + ": " + kv[1] + "\n  bootstrap.servers:");
             }
             MonitorConfig round = TestDefinitions.config(yaml);
             MeterRegistry registry = new SimpleMeterRegistry();
@@ -148,13 +156,31 @@ class IngestThroughputBenchmarkTest {
                 recording.enable("jdk.ExecutionSample").withPeriod(Duration.ofMillis(1));
                 recording.start();
             }
+            long gcBefore = gcMillis();
+            long processCpuBefore = processCpuNanos();
+            java.util.Map<String, Long> threadsBefore = cpuByThreadGroup();
+            long passStart = System.nanoTime();
             MonitorService running = new MonitorService(round, registry, "bench-" + i).start();
             try (running) {
-                (newProtocol ? serviceNewProtocol : service)[r] = serviceRate(registry);
-                if (!newProtocol) {
+                double rate = serviceRate(registry);
+                if (measured) {
+                    (newProtocol ? serviceNewProtocol : service)[r] = rate;
+                }
+                if (measured && !newProtocol) {
+                    gcShare[r] = (gcMillis() - gcBefore) * 1e6 / (System.nanoTime() - passStart);
+                    processCpu[r] = (processCpuNanos() - processCpuBefore) / (double) EVENTS;
+                    java.util.Map<String, Long> after = cpuByThreadGroup();
+                    after.forEach((group, nanos) -> cpuByGroup.computeIfAbsent(group, g -> new double[ROUNDS])[r] =
+                            (nanos - threadsBefore.getOrDefault(group, 0L)) / (double) EVENTS);
+                }
+                if (measured && !newProtocol) {
                     // the poll and worker threads, from their start (group join included)
                     serviceCpu[r] = threadCpuNanos("oddswatch-poll-bench-" + i, "oddswatch-pipeline-bench-" + i)
                             / (double) EVENTS;
+                    for (int k = 0; k < steps.length; k++) {
+                        stepNanos[k][r] = registry.get("oddswatch.service.loop").tag("step", steps[k]).timer()
+                                .totalTime(java.util.concurrent.TimeUnit.NANOSECONDS) / EVENTS;
+                    }
                 }
             }
             if (recording != null) {
@@ -186,7 +212,7 @@ class IngestThroughputBenchmarkTest {
                 three terms, windows of 28 days every 7 days; embedded single-node KRaft broker in the same
                 JVM; %d available processors. Each path is measured after warm-up passes (JIT). The bare
                 consumer and the service use the same consumer settings (4 MiB partition fetches, up to
-                50,000 records per poll) and are timed alike: from the first batch of records counted to the
+                50,000 records per poll, socket receive buffer left to the operating system) and are timed alike: from the first batch of records counted to the
                 last record, that first batch not counted.
 
                 %d rounds of each service pass, each right after a bare-consumer pass; best and median
@@ -206,7 +232,14 @@ class IngestThroughputBenchmarkTest {
                 CPU per event (lowest; median), in nanoseconds of thread CPU time: the service's poll and
                 worker threads together %.0f; %.0f (classic protocol passes); the bare consumer's thread
                 %.0f; %.0f. (With `group.protocol=consumer` part of the consumer's work runs on its own
-                background thread, which is not counted, so those passes are left out.)
+                background thread, which is not counted, so those passes are left out.) The whole JVM
+                (broker, producer, collector and compiler threads too) used %.0f ns of CPU per event
+                during a classic service pass (median), the two cores give 2 x 10^9 ns per second.
+
+                Wall time per event in the steps of the loop (median of the classic passes, ns; meter
+                `oddswatch.service.loop`): the poll thread in `poll` %.0f, reading its share %.0f, waiting
+                for the worker %.0f; the worker reading the rest and applying %.0f. Garbage collection
+                took %.0f%% of a classic pass (median; pauses stop both threads).
 
                 Replay wrote %d final estimates. Load average at the end: %.1f. Garbage collector: %s
                 (the bench profile uses ParallelGC, as the launcher and the image do; G1 figures:
@@ -215,11 +248,23 @@ class IngestThroughputBenchmarkTest {
                 best(allBare), median(allBare), best(service), median(service), best(service) / best(allBare),
                 median(service) / median(allBare), best(pairs), median(pairs), best(serviceNewProtocol),
                 median(serviceNewProtocol), best(pairsNewProtocol), median(pairsNewProtocol), best(replay), median(replay),
-                lowest(serviceCpu), median(serviceCpu), lowest(bareCpu), median(bareCpu), summary.finalWindows(),
+                lowest(serviceCpu), median(serviceCpu), lowest(bareCpu), median(bareCpu), median(processCpu),
+                median(stepNanos[0]),
+                median(stepNanos[1]), median(stepNanos[2]), median(stepNanos[3]), 100 * median(gcShare),
+                summary.finalWindows(),
                 java.lang.management.ManagementFactory.getOperatingSystemMXBean().getSystemLoadAverage(),
                 java.lang.management.ManagementFactory.getGarbageCollectorMXBeans().stream()
                         .map(java.lang.management.GarbageCollectorMXBean::getName)
                         .collect(java.util.stream.Collectors.joining(", ")));
+        StringBuilder byGroup = new StringBuilder(String.format(Locale.ROOT,
+                "%nCPU per event by thread kind during the classic service passes (median ns; threads"
+                        + " that ended during a pass are missed):%n%n| threads | ns/event |%n|---|---:|%n"));
+        cpuByGroup.entrySet().stream()
+                .sorted((a, b) -> Double.compare(median(b.getValue()), median(a.getValue())))
+                .filter(e -> median(e.getValue()) >= 5)
+                .forEach(e -> byGroup.append(String.format(Locale.ROOT, "| %s | %.0f |%n", e.getKey(),
+                        median(e.getValue()))));
+        report = report + byGroup;
         Files.writeString(Path.of("target", "benchmark-ingest.md"), report, StandardCharsets.UTF_8);
         System.out.println(report);
     }
@@ -242,12 +287,91 @@ class IngestThroughputBenchmarkTest {
         return bytes;
     }
 
+    /**
+     * CPU time so far of the live threads, summed by kind: thread names with digits and instance
+     * names blanked out (so the broker's request handlers are one kind), in ns.
+     */
+    private static java.util.Map<String, Long> cpuByThreadGroup() {
+        java.lang.management.ThreadMXBean threads = java.lang.management.ManagementFactory.getThreadMXBean();
+        java.util.Map<String, Long> byGroup = new java.util.HashMap<>();
+        for (java.lang.management.ThreadInfo info : threads.getThreadInfo(threads.getAllThreadIds())) {
+            if (info != null) {
+                String group = info.getThreadName().replaceAll("bench-group-\\d+", "bench-group")
+                        .replaceAll("bench-\\d+", "bench").replaceAll("\\d+", "#");
+                byGroup.merge(group, Math.max(0, threads.getThreadCpuTime(info.getThreadId())), Long::sum);
+            }
+        }
+        byGroup.putAll(vmThreadCpu());
+        return byGroup;
+    }
+
+    /**
+     * The JVM's own threads (collector, compilers, VM thread), which the thread bean does not
+     * list: from {@code /proc/self/task/<id>/stat} (Linux; clock ticks of 10 ms), by name with
+     * digits blanked out, prefixed "JVM: ". Empty where there is no such file system.
+     */
+    private static java.util.Map<String, Long> vmThreadCpu() {
+        java.util.Map<String, Long> byName = new java.util.HashMap<>();
+        java.io.File[] tasks = new java.io.File("/proc/self/task").listFiles();
+        if (tasks == null) {
+            return byName;
+        }
+        for (java.io.File task : tasks) {
+            try {
+                String stat = Files.readString(task.toPath().resolve("stat"));
+                String name = stat.substring(stat.indexOf('(') + 1, stat.lastIndexOf(')'));
+                if (!(name.startsWith("GC ") || name.startsWith("C1 ") || name.startsWith("C2 ")
+                        || name.startsWith("VM ") || name.startsWith("G1 "))) {
+                    continue;
+                }
+                String[] fields = stat.substring(stat.lastIndexOf(')') + 2).split(" ");
+                // fields[11] and [12] are utime and stime (fields 14 and 15 of the whole line)
+                long ticks = Long.parseLong(fields[11]) + Long.parseLong(fields[12]);
+                byName.merge("JVM: " + name.replaceAll("\\d+", "#"), ticks * 10_000_000L, Long::sum);
+            } catch (IOException | RuntimeException e) {
+                // a thread that ended while being read
+            }
+        }
+        return byName;
+    }
+
+    /** CPU time so far of the whole JVM: broker, clients, collector and compiler threads included (ns). */
+    private static long processCpuNanos() {
+        return ((com.sun.management.OperatingSystemMXBean) java.lang.management.ManagementFactory
+                .getOperatingSystemMXBean()).getProcessCpuTime();
+    }
+
+    /** Collection time so far of all collectors (ms). */
+    private static long gcMillis() {
+        return java.lang.management.ManagementFactory.getGarbageCollectorMXBeans().stream()
+                .mapToLong(java.lang.management.GarbageCollectorMXBean::getCollectionTime).sum();
+    }
+
+    /** {@code -Doddswatch.bench.clientSettings="k=v,..."}: consumer settings tried on both paths. */
+    private static List<String[]> clientSettings() {
+        List<String[]> settings = new java.util.ArrayList<>();
+        for (String setting : System.getProperty("oddswatch.bench.clientSettings", "").split(",")) {
+            if (setting.contains("=")) {
+                String[] kv = setting.split("=", 2);
+                settings.add(new String[] {kv[0].trim(), kv[1].trim()});
+            }
+        }
+        return settings;
+    }
+
     private static double bareConsumerRate(String topic) {
         Properties props = KAFKA.clientProps();
         props.put(ConsumerConfig.ENABLE_AUTO_COMMIT_CONFIG, "false");
         // The service's own defaults (MonitorService), so both read the topic the same way.
         props.put(ConsumerConfig.MAX_POLL_RECORDS_CONFIG, "50000");
         props.put(ConsumerConfig.MAX_PARTITION_FETCH_BYTES_CONFIG, Integer.toString(4 << 20));
+        props.put(ConsumerConfig.RECEIVE_BUFFER_CONFIG, "-1");
+        // and the settings tried on the service (-Doddswatch.bench.clientSettings), but for the group protocol
+        for (String[] kv : clientSettings()) {
+            if (!kv[0].equals(ConsumerConfig.GROUP_PROTOCOL_CONFIG)) {
+                props.put(kv[0], kv[1]);
+            }
+        }
         TopicPartition tp = new TopicPartition(topic, 0);
         try (KafkaConsumer<byte[], byte[]> consumer =
                      new KafkaConsumer<>(props, new ByteArrayDeserializer(), new ByteArrayDeserializer())) {

@@ -196,6 +196,13 @@ class ServiceRejectsAndHttpTest {
                     "live record counter");
             assertTrue(metrics.body().contains("kafka_consumer_fetch_manager_records_consumed_total"),
                     "Kafka client metrics are bound");
+            for (String step : List.of("poll", "read", "wait", "apply")) {
+                java.util.regex.Matcher count = java.util.regex.Pattern.compile(
+                        "oddswatch_service_loop_seconds_count\\{instance=\"http\",step=\"" + step + "\"} ([0-9.E]+)")
+                        .matcher(metrics.body());
+                assertTrue(count.find(), "loop timer of step " + step);
+                assertTrue(Double.parseDouble(count.group(1)) >= 1, "at least one batch timed in step " + step);
+            }
             promtoolCheck(metrics.body());
 
             assertEquals(404, get(client, base + "/nothing").statusCode());

@@ -1,0 +1,162 @@
+package org.oddswatch.ingest.service;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+
+import com.fasterxml.jackson.core.JsonFactory;
+import com.fasterxml.jackson.core.JsonParser;
+import com.fasterxml.jackson.core.JsonToken;
+import java.io.IOException;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.time.Duration;
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.List;
+import java.util.Locale;
+import org.junit.jupiter.api.Tag;
+import org.junit.jupiter.api.Test;
+import org.oddswatch.ingest.decode.RecordScanner;
+import org.oddswatch.ingest.definition.MonitorConfig;
+import org.oddswatch.ingest.pipeline.MonitorPipeline;
+import org.oddswatch.ingest.pipeline.Outcome;
+import org.oddswatch.ingest.pipeline.PipelineListener;
+import org.oddswatch.ingest.pipeline.RecordOrigin;
+import org.oddswatch.ingest.pipeline.RecordOutcome;
+
+/**
+ * The cost of each stage of the service's record path, on one thread and without Kafka
+ * ({@code mvn -B -Pbench -pl ingest verify -Dtest=StageCostBenchmarkTest -Dsurefire.failIfNoSpecifiedTests=false};
+ * writes {@code target/benchmark-stages.md}): the benchmark's house-scenario events in batches of
+ * 25,000 (about one 4 MiB fetch), (1) a bare Jackson token walk of each record, for scale, (2)
+ * {@link RecordScanner#scanAll} alone, (3) {@link MonitorPipeline.RecordReader#readAll} (scan and
+ * decode), (4) {@link MonitorPipeline#offerRead} (time rules, dedupe, windows, fits; a listener that
+ * does nothing). Thread CPU time and bytes allocated per record, lowest of the rounds (thread CPU
+ * leaves out time the thread was not running; the machine is shared).
+ */
+@Tag("benchmark")
+class StageCostBenchmarkTest {
+
+    private static final int EVENTS = Integer.getInteger("oddswatch.bench.events", 1_000_000);
+    private static final int BATCH = 25_000;
+    private static final int ROUNDS = 8;
+    private static final String TOPIC = "bench-tests";
+
+    private static long cpu() {
+        return java.lang.management.ManagementFactory.getThreadMXBean().getCurrentThreadCpuTime();
+    }
+
+    private static long allocated() {
+        return ((com.sun.management.ThreadMXBean) java.lang.management.ManagementFactory.getThreadMXBean())
+                .getCurrentThreadAllocatedBytes();
+    }
+
+    @Test
+    void nanosecondsPerRecordByStage() throws IOException {
+        List<TestFeed.Event> events = TestFeed.events(3, EVENTS, Instant.parse("2026-01-05T00:00:00Z"),
+                Duration.ofDays(140), Duration.ofHours(6), "north", "south", "west");
+        List<List<byte[]>> batches = new ArrayList<>();
+        for (int i = 0; i < events.size(); i += BATCH) {
+            List<byte[]> batch = new ArrayList<>();
+            for (TestFeed.Event e : events.subList(i, Math.min(events.size(), i + BATCH))) {
+                batch.add(e.json());
+            }
+            batches.add(batch);
+        }
+        MonitorConfig config = TestDefinitions.config(TestDefinitions.yaml("127.0.0.1:9", TOPIC, "bench", "bench-group",
+                8, "P3650D"));
+        String[] stages = {"Jackson token walk, a parser per record (for scale)", "scan a batch (`RecordScanner.scanAll`)",
+                "scan and decode (`RecordReader.readAll`)", "apply (`MonitorPipeline.offerRead`)"};
+        double[][] cpuNanos = new double[stages.length][ROUNDS];
+        double[][] bytes = new double[stages.length][ROUNDS];
+        JsonFactory factory = new JsonFactory();
+        for (int round = 0; round < ROUNDS; round++) {
+            long[] c = new long[stages.length + 1];
+            long[] a = new long[stages.length + 1];
+            c[0] = cpu();
+            a[0] = allocated();
+            long tokens = 0;
+            for (List<byte[]> batch : batches) {
+                for (byte[] value : batch) {
+                    try (JsonParser parser = factory.createParser(value)) {
+                        JsonToken token;
+                        while ((token = parser.nextToken()) != null) {
+                            if (token == JsonToken.VALUE_STRING) {
+                                parser.getTextLength();
+                            }
+                            tokens++;
+                        }
+                    }
+                }
+            }
+            c[1] = cpu();
+            a[1] = allocated();
+            RecordScanner scanner = new RecordScanner(config.limits(), config.monitorsFor(TOPIC));
+            long[] scanned = {0};
+            for (List<byte[]> batch : batches) {
+                scanner.scanAll(batch, (index, result) -> scanned[0] += result.ok() ? 1 : 0);
+            }
+            c[2] = cpu();
+            a[2] = allocated();
+            MonitorPipeline pipeline = MonitorPipeline.forPartition(config, TOPIC, 0, new PipelineListener() {
+            }, null);
+            MonitorPipeline.RecordReader reader = pipeline.newReader();
+            List<MonitorPipeline.ReadRecord[]> reads = new ArrayList<>();
+            for (List<byte[]> batch : batches) {
+                MonitorPipeline.ReadRecord[] read = new MonitorPipeline.ReadRecord[batch.size()];
+                reader.readAll(batch, read, new RuntimeException[batch.size()], 0);
+                reads.add(read);
+            }
+            c[3] = cpu();
+            a[3] = allocated();
+            long accepted = 0;
+            for (int b = 0; b < batches.size(); b++) {
+                List<byte[]> batch = batches.get(b);
+                for (int i = 0; i < batch.size(); i++) {
+                    RecordOutcome outcome = pipeline.offerRead(reads.get(b)[i], batch.get(i),
+                            RecordOrigin.kafka(TOPIC, 0, (long) b * BATCH + i), false);
+                    accepted += outcome.outcome() == Outcome.ACCEPTED ? 1 : 0;
+                }
+            }
+            c[4] = cpu();
+            a[4] = allocated();
+            assertEquals(19L * EVENTS, tokens, "19 tokens per record");
+            assertEquals(EVENTS, scanned[0], "every record scanned");
+            assertEquals(EVENTS, accepted, "every record accepted");
+            for (int s = 0; s < stages.length; s++) {
+                cpuNanos[s][round] = (c[s + 1] - c[s]) / (double) EVENTS;
+                bytes[s][round] = (a[s + 1] - a[s]) / (double) EVENTS;
+            }
+        }
+        StringBuilder report = new StringBuilder(String.format(Locale.ROOT, """
+                # Stage costs
+
+                %d house-scenario records (%d bytes the first), batches of %d, one thread, no Kafka;
+                %d rounds, the first ones warm the JIT. Lowest thread CPU per record and bytes
+                allocated per record (median). %d available processors, shared machine.
+
+                | stage | CPU ns/record (lowest) | CPU ns/record (median) | bytes/record |
+                |---|---:|---:|---:|
+                """, EVENTS, events.get(0).json().length, BATCH, ROUNDS,
+                Runtime.getRuntime().availableProcessors()));
+        for (int s = 0; s < stages.length; s++) {
+            report.append(String.format(Locale.ROOT, "| %s | %.0f | %.0f | %.0f |%n", stages[s], lowest(cpuNanos[s]),
+                    median(cpuNanos[s]), median(bytes[s])));
+        }
+        report.append(String.format(Locale.ROOT, "%nDecoding alone (scan and decode minus scan): %.0f ns/record (lowest"
+                + " of each).%n", lowest(cpuNanos[2]) - lowest(cpuNanos[1])));
+        System.out.println(report);
+        Files.createDirectories(Path.of("target"));
+        Files.writeString(Path.of("target", "benchmark-stages.md"), report);
+    }
+
+    private static double lowest(double[] values) {
+        return Arrays.stream(values).min().orElseThrow();
+    }
+
+    private static double median(double[] values) {
+        double[] sorted = values.clone();
+        Arrays.sort(sorted);
+        return sorted[sorted.length / 2];
+    }
+}
