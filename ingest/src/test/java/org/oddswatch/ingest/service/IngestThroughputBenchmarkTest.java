@@ -72,6 +72,20 @@ class IngestThroughputBenchmarkTest {
         return sum;
     }
 
+    /** Bytes allocated so far by the live threads with these names, summed. */
+    private static long threadAllocatedBytes(String... names) {
+        com.sun.management.ThreadMXBean threads =
+                (com.sun.management.ThreadMXBean) java.lang.management.ManagementFactory.getThreadMXBean();
+        List<String> wanted = List.of(names);
+        long sum = 0;
+        for (java.lang.management.ThreadInfo info : threads.getThreadInfo(threads.getAllThreadIds())) {
+            if (info != null && wanted.contains(info.getThreadName())) {
+                sum += Math.max(0, threads.getThreadAllocatedBytes(info.getThreadId()));
+            }
+        }
+        return sum;
+    }
+
     /** Thread CPU per counted event of the last {@link #bareConsumerRate} pass (ns). */
     private static double lastBareCpuNanosPerEvent;
 
@@ -116,6 +130,8 @@ class IngestThroughputBenchmarkTest {
         double[] serviceNewProtocol = new double[ROUNDS];
         // wall time per event in each step of the loop (oddswatch.service.loop), classic passes
         double[] gcShare = new double[ROUNDS];
+        double[] pollBytes = new double[ROUNDS];
+        double[] workerBytes = new double[ROUNDS];
         double[] processCpu = new double[ROUNDS];
         java.util.Map<String, double[]> cpuByGroup = new java.util.TreeMap<>();
         String[] steps = {"poll", "read", "wait", "apply"};
@@ -177,6 +193,8 @@ class IngestThroughputBenchmarkTest {
                     // the poll and worker threads, from their start (group join included)
                     serviceCpu[r] = threadCpuNanos("oddswatch-poll-bench-" + i, "oddswatch-pipeline-bench-" + i)
                             / (double) EVENTS;
+                    pollBytes[r] = threadAllocatedBytes("oddswatch-poll-bench-" + i) / (double) EVENTS;
+                    workerBytes[r] = threadAllocatedBytes("oddswatch-pipeline-bench-" + i) / (double) EVENTS;
                     for (int k = 0; k < steps.length; k++) {
                         stepNanos[k][r] = registry.get("oddswatch.service.loop").tag("step", steps[k]).timer()
                                 .totalTime(java.util.concurrent.TimeUnit.NANOSECONDS) / EVENTS;
@@ -239,7 +257,8 @@ class IngestThroughputBenchmarkTest {
                 Wall time per event in the steps of the loop (median of the classic passes, ns; meter
                 `oddswatch.service.loop`): the poll thread in `poll` %.0f, reading its share %.0f, waiting
                 for the worker %.0f; the worker reading the rest and applying %.0f. Garbage collection
-                took %.0f%% of a classic pass (median; pauses stop both threads).
+                took %.0f%% of a classic pass (median; pauses stop both threads); the poll thread
+                allocated %.0f bytes per event, the worker %.0f (median, from the threads' start).
 
                 Replay wrote %d final estimates. Load average at the end: %.1f. Garbage collector: %s
                 (the bench profile uses ParallelGC, as the launcher and the image do; G1 figures:
@@ -251,6 +270,7 @@ class IngestThroughputBenchmarkTest {
                 lowest(serviceCpu), median(serviceCpu), lowest(bareCpu), median(bareCpu), median(processCpu),
                 median(stepNanos[0]),
                 median(stepNanos[1]), median(stepNanos[2]), median(stepNanos[3]), 100 * median(gcShare),
+                median(pollBytes), median(workerBytes),
                 summary.finalWindows(),
                 java.lang.management.ManagementFactory.getOperatingSystemMXBean().getSystemLoadAverage(),
                 java.lang.management.ManagementFactory.getGarbageCollectorMXBeans().stream()
