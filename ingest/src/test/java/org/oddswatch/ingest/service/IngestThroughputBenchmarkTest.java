@@ -50,6 +50,8 @@ class IngestThroughputBenchmarkTest {
     private static final int EVENTS = Integer.getInteger("oddswatch.bench.events", 1_000_000);
     private static final int ROUNDS = 5;
     private static final int WARM_ROUNDS = 2;
+    /** Chunks of {@link #EVENTS} events for the one-service measurement (the first warms up). */
+    private static final int CHUNKS = 6;
 
     private static double best(double[] rates) {
         return java.util.Arrays.stream(rates).max().orElseThrow();
@@ -97,11 +99,7 @@ class IngestThroughputBenchmarkTest {
 
     @Test
     void eventsPerSecond() throws Exception {
-        String topic = "bench-tests";
-        KAFKA.createTopic(topic, 1);
-        for (String out : List.of("bench-estimates", "bench-rejects", "bench-alerts")) {
-            KAFKA.createTopic(out, 1);
-        }
+        String topic = createTopics("bench");
         List<TestFeed.Event> events = TestFeed.events(3, EVENTS, Instant.parse("2026-01-05T00:00:00Z"),
                 Duration.ofDays(140), Duration.ofHours(6), "north", "south", "west");
         long bytes = produce(topic, events);
@@ -289,6 +287,127 @@ class IngestThroughputBenchmarkTest {
         System.out.println(report);
     }
 
+    /**
+     * The sustained rate of one service that keeps running: {@value #CHUNKS} chunks of
+     * {@link #EVENTS} events that continue each other in event time are produced first; the bare
+     * consumer reads each chunk (before the service starts and again after it is done); then one
+     * service reads them all, and its rate is taken per chunk as the live counter passes the chunk
+     * boundaries (the first chunk is its warm-up). Unlike the passes of {@link #eventsPerSecond},
+     * the service is not started for each measurement, so neither its start nor the JIT's work on
+     * a fresh instance falls into a measured chunk. Writes {@code target/benchmark-ingest-steady.md}.
+     */
+    @Test
+    void sustainedRateOfOneRunningService() throws Exception {
+        String topic = createTopics("steady");
+        Instant start = Instant.parse("2026-01-05T00:00:00Z");
+        Duration span = Duration.ofDays(140);
+        for (int c = 0; c < CHUNKS; c++) {
+            // seeds differ, so ids differ between chunks; chunk c covers [start + c span, start + (c+1) span)
+            produce(topic, TestFeed.events(100 + c, EVENTS, start.plus(span.multipliedBy(c)), span,
+                    Duration.ofHours(6), "north", "south", "west"));
+        }
+        double[][] bare = new double[2][CHUNKS];
+        for (int c = 0; c < CHUNKS; c++) {
+            bare[0][c] = bareConsumerRate(topic, (long) c * EVENTS);
+        }
+        String yaml = TestDefinitions.yaml(KAFKA.bootstrapServers(), topic, "steady", "steady-group", 8, "P3650D");
+        for (String[] kv : clientSettings()) {
+            yaml = yaml.replace("  bootstrap.servers:", "  " + kv[0] + ": " + kv[1] + "\n  bootstrap.servers:");
+        }
+        MonitorConfig config = TestDefinitions.config(yaml);
+        MeterRegistry registry = new SimpleMeterRegistry();
+        double[] service = new double[CHUNKS];
+        double[] serviceCpu = new double[CHUNKS];
+        double[] compilerCpu = new double[CHUNKS];
+        double[] processCpu = new double[CHUNKS];
+        MonitorService running = new MonitorService(config, registry, "steady").start();
+        try (running) {
+            long deadline = System.nanoTime() + Duration.ofMinutes(20).toNanos();
+            int chunk = 0;
+            long chunkStart = 0;
+            long cpuAtStart = 0;
+            long compilerAtStart = 0;
+            long processAtStart = 0;
+            double countAtStart = 0;
+            while (chunk < CHUNKS && System.nanoTime() < deadline) {
+                double count = registry.find("oddswatch.service.records").tag("phase", "live").counter() == null ? 0
+                        : registry.get("oddswatch.service.records").tag("phase", "live").counter().count();
+                if (chunkStart == 0 && count > 0) {
+                    chunkStart = System.nanoTime();
+                    countAtStart = count;
+                    cpuAtStart = threadCpuNanos("oddswatch-poll-steady", "oddswatch-pipeline-steady");
+                    compilerAtStart = compilerNanos();
+                    processAtStart = processCpuNanos();
+                } else if (chunkStart != 0 && count >= (chunk + 1.0) * EVENTS) {
+                    long now = System.nanoTime();
+                    double events = count - countAtStart;
+                    service[chunk] = events / ((now - chunkStart) / 1e9);
+                    long cpu = threadCpuNanos("oddswatch-poll-steady", "oddswatch-pipeline-steady");
+                    long compiler = compilerNanos();
+                    long process = processCpuNanos();
+                    serviceCpu[chunk] = (cpu - cpuAtStart) / events;
+                    compilerCpu[chunk] = (compiler - compilerAtStart) / events;
+                    processCpu[chunk] = (process - processAtStart) / events;
+                    chunk++;
+                    chunkStart = now;
+                    countAtStart = count;
+                    cpuAtStart = cpu;
+                    compilerAtStart = compiler;
+                    processAtStart = process;
+                }
+                Thread.sleep(5);
+            }
+            assertEquals(CHUNKS, chunk, "every chunk read within the time allowed");
+        }
+        // the status counts are those of the last commit: read after the final one, at close
+        assertEquals((long) CHUNKS * EVENTS, running.status().counts().outcome(Outcome.ACCEPTED), "every event accepted");
+        for (int c = 0; c < CHUNKS; c++) {
+            bare[1][c] = bareConsumerRate(topic, (long) c * EVENTS);
+        }
+        double[] measured = java.util.Arrays.copyOfRange(service, 1, CHUNKS);
+        double[] allBare = java.util.stream.DoubleStream.concat(java.util.Arrays.stream(bare[0]),
+                java.util.Arrays.stream(bare[1])).toArray();
+        StringBuilder table = new StringBuilder();
+        for (int c = 0; c < CHUNKS; c++) {
+            table.append(String.format(Locale.ROOT, "| %d%s | %.0f | %.0f | %.0f | %.2f | %.0f | %.0f | %.0f |%n", c + 1,
+                    c == 0 ? " (warm-up)" : "", bare[0][c], bare[1][c], service[c],
+                    service[c] / Math.max(bare[0][c], bare[1][c]), serviceCpu[c], compilerCpu[c], processCpu[c]));
+        }
+        String report = String.format(Locale.ROOT, """
+                # Ingest benchmark: one running service
+
+                %d chunks of %d house-scenario events on one partition (they continue each other in
+                event time), the same definition and consumer settings as the main ingest benchmark.
+                The bare consumer reads each chunk before the service starts and again after it has
+                finished; one service then reads all chunks without restarting, timed per chunk as its
+                live counter passes the chunk boundaries. CPU columns: ns per event of the service's
+                poll and worker threads, of the JIT compiler threads, and of the whole JVM.
+
+                | chunk | bare before | bare after | service | service / faster bare | service threads CPU | compiler CPU | JVM CPU |
+                |---|---:|---:|---:|---:|---:|---:|---:|
+                %s
+                Chunks 2 to %d: service median %.0f events/s, best %.0f; bare consumer median %.0f;
+                ratio of the medians %.2f.
+                """, CHUNKS, EVENTS, table, CHUNKS, median(measured), best(measured), median(allBare),
+                median(measured) / median(allBare));
+        Files.writeString(Path.of("target", "benchmark-ingest-steady.md"), report, StandardCharsets.UTF_8);
+        System.out.println(report);
+    }
+
+    /** Creates {@code prefix-tests} and the definition's three output topics, one partition each. */
+    private static String createTopics(String prefix) {
+        for (String suffix : List.of("tests", "estimates", "rejects", "alerts")) {
+            KAFKA.createTopic(prefix + "-" + suffix, 1);
+        }
+        return prefix + "-tests";
+    }
+
+    /** CPU time so far of the JIT compiler threads, from /proc (0 where there is none), in ns. */
+    private static long compilerNanos() {
+        return vmThreadCpu().entrySet().stream().filter(e -> e.getKey().contains("CompilerThre"))
+                .mapToLong(java.util.Map.Entry::getValue).sum();
+    }
+
     private static long produce(String topic, List<TestFeed.Event> events) {
         Properties props = KAFKA.clientProps();
         props.put(ProducerConfig.ACKS_CONFIG, "all");
@@ -380,6 +499,11 @@ class IngestThroughputBenchmarkTest {
     }
 
     private static double bareConsumerRate(String topic) {
+        return bareConsumerRate(topic, -1);
+    }
+
+    /** The bare consumer over {@link #EVENTS} records from {@code from} on (-1: the beginning). */
+    private static double bareConsumerRate(String topic, long from) {
         Properties props = KAFKA.clientProps();
         props.put(ConsumerConfig.ENABLE_AUTO_COMMIT_CONFIG, "false");
         // The service's own defaults (MonitorService), so both read the topic the same way.
@@ -396,7 +520,11 @@ class IngestThroughputBenchmarkTest {
         try (KafkaConsumer<byte[], byte[]> consumer =
                      new KafkaConsumer<>(props, new ByteArrayDeserializer(), new ByteArrayDeserializer())) {
             consumer.assign(List.of(tp));
-            consumer.seekToBeginning(List.of(tp));
+            if (from < 0) {
+                consumer.seekToBeginning(List.of(tp));
+            } else {
+                consumer.seek(tp, from);
+            }
             consumer.position(tp);
             // Timed as the service is: from the first records counted to the last, not counting
             // that first batch.
