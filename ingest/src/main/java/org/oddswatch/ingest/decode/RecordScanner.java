@@ -20,7 +20,10 @@ import org.oddswatch.ingest.definition.TermSpec;
  * within {@code maxDepth}) and keeps only the values at the JSON Pointers the monitors read (a
  * {@link PointerTrie}); other members are stepped over. Strings are still decoded (without making
  * Java strings) so that the checks are exactly those of {@link RecordParser}; the strings kept come
- * from a {@link TextCache}, so repeated values (outcomes, levels, split values) share one string.
+ * from a {@link TextCache}, so repeated values (outcomes, levels, split values) share one string
+ * (declared outcomes and levels: the definition's own). Member names are first matched against the
+ * name met at the same position of the record before ({@link MemberOrder}); event times of the
+ * common RFC 3339 shape are read from the parser's characters ({@link FieldValues#times}).
  *
  * <p>Anything out of the ordinary — a record that is not an object, an error of any kind, trailing
  * content — is handed to {@link RecordParser}, so rejection reasons and detail texts stay exactly
