@@ -80,7 +80,7 @@ public final class EventDecoder {
         for (int f = 0; f < fields.length; f++) {
             values.setNode(f, tree.at(fields[f]));
         }
-        return decode(values, identity);
+        return decode(values, identity, new Object[termFields.length]);
     }
 
     /**
@@ -93,18 +93,19 @@ public final class EventDecoder {
         if (record.tree() != null) {
             return decode(record.tree());
         }
-        return decode(record.values(), slotsIn(record.layout()));
+        return decode(record.values(), slotsIn(record.layout()), new Object[termFields.length]);
     }
 
     /**
      * This decoder tied to the slot layout of one scanner, with the slots looked up once: decodes
      * that scanner's records directly; records of any other form go to {@link #decode(EventRecord)}.
-     * Same results as {@link #decode(EventRecord)}. Immutable, so readers on different threads (each
-     * with its own scanner) share nothing that changes.
+     * Same results as {@link #decode(EventRecord)}. It keeps a scratch array for the terms' raw values,
+     * so it belongs to one reader and its thread, like the scanner it is bound to.
      */
     public final class Bound {
         private final PointerTrie layout;
         private final int[] slots;
+        private final Object[] raw = new Object[termFields.length];
 
         private Bound(PointerTrie layout) {
             this.layout = layout;
@@ -113,7 +114,7 @@ public final class EventDecoder {
 
         public Result decode(EventRecord record) {
             if (record.tree() == null && record.layout() == layout) {
-                return EventDecoder.this.decode(record.values(), slots);
+                return EventDecoder.this.decode(record.values(), slots, raw);
             }
             return EventDecoder.this.decode(record);
         }
@@ -148,8 +149,11 @@ public final class EventDecoder {
         return fields;
     }
 
-    /** The decision itself, on the values of this monitor's fields ({@code slots[f]}: field f's slot). */
-    private Result decode(FieldValues values, int[] slots) {
+    /**
+     * The decision itself, on the values of this monitor's fields ({@code slots[f]}: field f's slot);
+     * {@code raw} (one place per term) is scratch, overwritten here and not kept.
+     */
+    private Result decode(FieldValues values, int[] slots, Object[] raw) {
         JsonPointer idField = fields[ID];
         int idSlot = slots[ID];
         if (values.absent(idSlot)) {
@@ -202,7 +206,6 @@ public final class EventDecoder {
             splitValue = scalarText(values, splitSlot);
         }
 
-        Object[] raw = new Object[termFields.length];
         for (int t = 0; t < termFields.length; t++) {
             int slot = slots[firstTerm + t];
             if (values.isContainer(slot)) {

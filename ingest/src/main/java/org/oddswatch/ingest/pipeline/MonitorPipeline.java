@@ -152,11 +152,19 @@ public final class MonitorPipeline {
      */
     public static final class ReadRecord {
         private final Rejection unreadable;
+        /** The result of an input's only monitor (the common case: no array per record), or null. */
+        private final EventDecoder.Result only;
+        /** One result per monitor when the input has several, else null. */
         private final EventDecoder.Result[] results;
 
-        private ReadRecord(Rejection unreadable, EventDecoder.Result[] results) {
+        private ReadRecord(Rejection unreadable, EventDecoder.Result only, EventDecoder.Result[] results) {
             this.unreadable = unreadable;
+            this.only = only;
             this.results = results;
+        }
+
+        private EventDecoder.Result result(int route) {
+            return results == null ? only : results[route];
         }
     }
 
@@ -176,7 +184,7 @@ public final class MonitorPipeline {
         }
 
         private ReadRecord read(RecordScanner.Scanned scanned) {
-            return scanned.ok() ? read(scanned.record()) : new ReadRecord(scanned.rejection(), null);
+            return scanned.ok() ? read(scanned.record()) : new ReadRecord(scanned.rejection(), null, null);
         }
 
         /**
@@ -199,11 +207,14 @@ public final class MonitorPipeline {
         }
 
         ReadRecord read(EventRecord record) {
+            if (decoders.length == 1) {
+                return new ReadRecord(null, decoders[0].decode(record), null);
+            }
             EventDecoder.Result[] results = new EventDecoder.Result[decoders.length];
             for (int r = 0; r < results.length; r++) {
                 results[r] = decoders[r].decode(record);
             }
-            return new ReadRecord(null, results);
+            return new ReadRecord(null, null, results);
         }
     }
 
@@ -241,7 +252,7 @@ public final class MonitorPipeline {
         }
         RecordOutcome overall = null;
         for (int r = 0; r < routes.size(); r++) {
-            RecordOutcome outcome = offerTo(routes.get(r), read.results[r], original, origin, suppressOutput);
+            RecordOutcome outcome = offerTo(routes.get(r), read.result(r), original, origin, suppressOutput);
             if (overall == null || (outcome.accepted() && !overall.accepted())) {
                 overall = outcome;
             }
