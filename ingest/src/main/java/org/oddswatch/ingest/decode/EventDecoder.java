@@ -247,7 +247,7 @@ public final class EventDecoder {
                 // Read by the scanner when the text has the common shape: then it has no space
                 // around it and is not all digits, so parseTime(String) would give the same value.
                 long read = values.times[slot];
-                return read != Long.MIN_VALUE ? read : parseTime(values.texts[slot]);
+                return read != Long.MIN_VALUE ? read : parseTime(values.text(slot));
             default:
                 throw new IllegalArgumentException("time must be RFC 3339 text or epoch milliseconds");
         }
@@ -323,7 +323,7 @@ public final class EventDecoder {
     private static Object plain(FieldValues values, int slot) {
         return switch (values.kinds[slot]) {
             case FieldValues.MISSING, FieldValues.NULL -> null;
-            case FieldValues.TEXT -> values.texts[slot].isEmpty() ? null : values.texts[slot];
+            case FieldValues.TEXT -> values.text(slot).isEmpty() ? null : values.text(slot);
             case FieldValues.TRUE -> Boolean.TRUE;
             case FieldValues.FALSE -> Boolean.FALSE;
             case FieldValues.INTEGER -> values.longs[slot];

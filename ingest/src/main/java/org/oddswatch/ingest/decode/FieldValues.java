@@ -27,8 +27,15 @@ final class FieldValues {
     static final byte ARRAY = 9;
 
     final byte[] kinds;
-    /** Text of TEXT slots; for FLOAT slots filled from a tree, the node's own text form (else null). */
+    /**
+     * Text of TEXT slots; for FLOAT slots filled from a tree, the node's own text form (else null).
+     * A TEXT slot set by {@link #setTimeText} has no string until {@link #text} makes it: read the
+     * text of a TEXT slot with {@link #text}, not from here.
+     */
     final String[] texts;
+    /** Characters of TEXT slots set by {@link #setTimeText}, and their number. */
+    private final char[][] pending;
+    private final int[] pendingLength;
     final long[] longs;
     final double[] doubles;
     final BigInteger[] bigs;
@@ -48,6 +55,8 @@ final class FieldValues {
         bigs = new BigInteger[slots];
         times = new long[slots];
         Arrays.fill(times, Long.MIN_VALUE);
+        pending = new char[slots][];
+        pendingLength = new int[slots];
     }
 
     int size() {
@@ -74,9 +83,32 @@ final class FieldValues {
         times[slot] = Long.MIN_VALUE;
     }
 
-    /** The text of a TEXT slot read as an event time (see {@link #times}). */
-    void setTime(int slot, long epochMillis) {
+    /**
+     * A TEXT slot whose text {@code chars[from, from + length)} was read as the event time
+     * {@code epochMillis} (see {@link #times}); its string is made only if {@link #text} is asked
+     * for (for a message, or by a monitor that reads the field as something else too).
+     */
+    void setTimeText(int slot, char[] chars, int from, int length, long epochMillis) {
+        kinds[slot] = TEXT;
+        texts[slot] = null;
+        char[] buffer = pending[slot];
+        if (buffer == null || buffer.length < length) {
+            buffer = new char[Math.max(32, length)];
+            pending[slot] = buffer;
+        }
+        System.arraycopy(chars, from, buffer, 0, length);
+        pendingLength[slot] = length;
         times[slot] = epochMillis;
+    }
+
+    /** The text of a TEXT slot (made from its characters on first use after {@link #setTimeText}). */
+    String text(int slot) {
+        String text = texts[slot];
+        if (text == null && kinds[slot] == TEXT) {
+            text = new String(pending[slot], 0, pendingLength[slot]);
+            texts[slot] = text;
+        }
+        return text;
     }
 
     void setLong(int slot, long value) {
@@ -128,7 +160,8 @@ final class FieldValues {
     /** Absent in the sense of the decoder: missing, null or empty text. */
     boolean absent(int slot) {
         byte kind = kinds[slot];
-        return kind == MISSING || kind == NULL || (kind == TEXT && texts[slot].isEmpty());
+        return kind == MISSING || kind == NULL
+                || (kind == TEXT && (texts[slot] != null ? texts[slot].isEmpty() : pendingLength[slot] == 0));
     }
 
     /** A scalar (text, number, boolean or null), not an object, array or nothing. */
@@ -145,7 +178,7 @@ final class FieldValues {
     /** The text form {@link JsonNode#asText()} gives the same value. */
     String asText(int slot) {
         return switch (kinds[slot]) {
-            case TEXT -> texts[slot];
+            case TEXT -> text(slot);
             case TRUE -> "true";
             case FALSE -> "false";
             case NULL -> "null";

@@ -381,9 +381,11 @@ public final class RecordScanner {
                     char[] chars = parser.getTextCharacters();
                     int offset = parser.getTextOffset();
                     int length = parser.getTextLength();
-                    values.setText(slot, texts.text(slot, chars, offset, length));
-                    if (timeSlots[slot]) {
-                        values.setTime(slot, Rfc3339.fast(chars, offset, length));
+                    long time = timeSlots[slot] ? Rfc3339.fast(chars, offset, length) : Long.MIN_VALUE;
+                    if (time != Long.MIN_VALUE) {
+                        values.setTimeText(slot, chars, offset, length, time); // no string unless asked for
+                    } else {
+                        values.setText(slot, texts.text(slot, chars, offset, length));
                     }
                 } else {
                     parser.getTextLength();

@@ -422,6 +422,10 @@ class RecordScannerTest {
                         .filter(t -> t.name().equals("sex")).findFirst().orElseThrow().term()).levels().get(1),
                 v.texts[sex], "male");
         assertEquals(EventDecoder.parseTime("2026-02-03T09:30:00Z"), v.times[time]);
+        assertNull(v.texts[time], "no string made for a time read while scanning");
+        assertEquals("2026-02-03T09:30:00Z", v.text(time), "until one is asked for");
+        assertEquals("2026-02-03T09:30:00Z", v.asText(time));
+        assertFalse(v.absent(time));
         FieldValues odd = fresh.scan(with("collectedAt", "\" 2026-02-03T09:30:00Z\"").getBytes(StandardCharsets.UTF_8))
                 .record().values();
         assertEquals(Long.MIN_VALUE, odd.times[time], "space around it: left to the decoder");
