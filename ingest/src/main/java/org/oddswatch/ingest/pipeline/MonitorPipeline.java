@@ -369,6 +369,11 @@ public final class MonitorPipeline {
         }
     }
 
+    /** Tells the listener that the records offered so far are a finished batch ({@link PipelineListener#onBatchDone}). */
+    public void batchDone() {
+        listener.onBatchDone();
+    }
+
     /** Emits an interim estimate of every stream's open window (live refresh tick). */
     public void emitInterim() {
         for (StreamState stream : streamsByName.values()) {

@@ -32,6 +32,14 @@ public interface PipelineListener {
     default void onOutcome(String monitor, String stream, RecordOutcome outcome) {
     }
 
+    /**
+     * The records offered since the last call are a batch that is done ({@link MonitorPipeline#batchDone}):
+     * a listener that sums per-record work (counters) may add it up here, on the thread that offered
+     * the records.
+     */
+    default void onBatchDone() {
+    }
+
     /** A final window was estimated, taking {@code fitNanos} of wall-clock time (measured for meters only). */
     default void onFinalFit(WindowEstimate estimate, long fitNanos) {
     }

@@ -304,6 +304,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
             if (nextCommit >= 0) {
                 state.nextCommit = nextCommit;
             }
+            state.pipeline.batchDone();
             state.rebuiltRecords += rebuilt;
             meters.rebuildRecords(rebuilt);
             meters.liveRecords(live);
