@@ -32,8 +32,8 @@ import org.oddswatch.ingest.pipeline.RejectedRecord;
  * the poll loop never waits for it).
  *
  * <p>Meter updates happen per final window (and per CUSUM close), except the event counter: accepted
- * records are summed per stream (found by the identity of the stream's name string) and added to
- * their {@link Counter} once per batch ({@link #onBatchDone}), other outcomes are one increment
+ * records are summed per stream and added to their {@link Counter} once per batch
+ * ({@link #onBatchDone}, on the thread that offers the records), other outcomes are one increment
  * each. Pipelines call none of these while rebuilding,
  * except {@link #onAlertRestored}, which sets the alert-state gauge of an episode still open.
  */
@@ -48,8 +48,11 @@ final class AlertMetersListener implements PipelineListener, AutoCloseable {
     private final AlertSink log = new LogAlertSink();
     private final Map<String, WebhookAlertSink> webhooks = new HashMap<>();
     private final Map<List<String>, Counter> eventCounters = new ConcurrentHashMap<>();
-    /** The accepted-events counter of each stream, by stream name (the same counters as above). */
-    private final Map<String, Counter> acceptedCounters = new ConcurrentHashMap<>();
+    /**
+     * Accepted records per stream name not yet added to their counter (one of the counters above).
+     * Used only by the thread that offers records, which also calls {@link #onBatchDone}.
+     */
+    private final Map<String, AcceptedCount> acceptedByStream = new HashMap<>();
 
     AlertMetersListener(PipelineListener publisher, MeterRegistry registry, List<MonitorDefinition> monitors) {
         this.publisher = publisher;
@@ -108,70 +111,38 @@ final class AlertMetersListener implements PipelineListener, AutoCloseable {
     public void onOutcome(String monitor, String stream, RecordOutcome outcome) {
         String streamTag = stream != null ? stream : OddswatchMeters.NONE;
         if (outcome.reason() == null && outcome.accepted()) {
-            // The common case, once per accepted record: the stream's name is the same string
-            // object record after record, so a short scan by identity finds its counter; the count
-            // goes to the counter once per batch (onBatchDone): an atomic add per record took about
-            // an eighth of the worker thread's samples in a flight recording of the benchmark.
-            for (AcceptedCounter known : acceptedByIdentity) {
-                if (known.stream == streamTag) {
-                    known.pending++;
-                    return;
-                }
+            // The common case, once per accepted record: a plain count, added to the stream's
+            // counter once per batch (onBatchDone); an atomic add per record took about an eighth
+            // of the worker thread's samples in a flight recording of the ingest benchmark.
+            AcceptedCount count = acceptedByStream.get(streamTag);
+            if (count == null) {
+                count = new AcceptedCount(eventCounter(streamTag, outcome.outcome().toString(), OddswatchMeters.NONE));
+                acceptedByStream.put(streamTag, count);
             }
-            Counter accepted = acceptedCounters.get(streamTag);
-            if (accepted == null) {
-                accepted = eventCounter(streamTag, outcome.outcome().toString(), OddswatchMeters.NONE);
-                acceptedCounters.put(streamTag, accepted);
-            }
-            if (!rememberByIdentity(streamTag, accepted)) {
-                accepted.increment();
-            }
+            count.pending++;
             return;
         }
         String reason = outcome.reason() == null ? OddswatchMeters.NONE : outcome.reason();
         eventCounter(streamTag, outcome.outcome().toString(), reason).increment();
     }
 
-    /**
-     * A stream name object, its accepted-events counter and the accepted records not yet added to
-     * it (written only by the thread that offers records, which also calls {@link #onBatchDone}).
-     */
-    private static final class AcceptedCounter {
-        final String stream;
+    /** A stream's accepted-events counter and the accepted records not yet added to it. */
+    private static final class AcceptedCount {
         final Counter counter;
         long pending;
 
-        AcceptedCounter(String stream, Counter counter) {
-            this.stream = stream;
+        AcceptedCount(Counter counter) {
             this.counter = counter;
         }
-    }
-
-    /** The first {@link #BY_IDENTITY} streams seen; the array is replaced whole (copy on write). */
-    private volatile AcceptedCounter[] acceptedByIdentity = new AcceptedCounter[0];
-    private static final int BY_IDENTITY = 16;
-
-    /** Keeps {@code stream} for the identity scan with one pending record; false when there is no room. */
-    private boolean rememberByIdentity(String stream, Counter counter) {
-        AcceptedCounter[] known = acceptedByIdentity;
-        if (known.length >= BY_IDENTITY) {
-            return false;
-        }
-        AcceptedCounter entry = new AcceptedCounter(stream, counter);
-        entry.pending = 1;
-        AcceptedCounter[] more = java.util.Arrays.copyOf(known, known.length + 1);
-        more[known.length] = entry;
-        acceptedByIdentity = more;
-        return true;
     }
 
     /** Adds the accepted records of the batch to their counters. */
     @Override
     public void onBatchDone() {
-        for (AcceptedCounter known : acceptedByIdentity) {
-            if (known.pending > 0) {
-                known.counter.increment(known.pending);
-                known.pending = 0;
+        for (AcceptedCount count : acceptedByStream.values()) {
+            if (count.pending > 0) {
+                count.counter.increment(count.pending);
+                count.pending = 0;
             }
         }
     }

@@ -53,36 +53,27 @@ class IngestThroughputBenchmarkTest {
     /** Chunks of {@link #EVENTS} events for the one-service measurement (the first warms up). */
     private static final int CHUNKS = 6;
 
-    private static double best(double[] rates) {
-        return java.util.Arrays.stream(rates).max().orElseThrow();
-    }
 
-    private static double lowest(double[] values) {
-        return java.util.Arrays.stream(values).min().orElseThrow();
-    }
 
     /** CPU time so far of the live threads with these names, summed (ns). */
     private static long threadCpuNanos(String... names) {
+        return sumOverThreads(java.lang.management.ManagementFactory.getThreadMXBean()::getThreadCpuTime, names);
+    }
+
+    /** Bytes allocated so far by the live threads with these names, summed. */
+    private static long threadAllocatedBytes(String... names) {
+        return sumOverThreads(((com.sun.management.ThreadMXBean) java.lang.management.ManagementFactory
+                .getThreadMXBean())::getThreadAllocatedBytes, names);
+    }
+
+    /** {@code perThread} (by thread id; negative: unknown) summed over the live threads with these names. */
+    private static long sumOverThreads(java.util.function.LongUnaryOperator perThread, String... names) {
         java.lang.management.ThreadMXBean threads = java.lang.management.ManagementFactory.getThreadMXBean();
         List<String> wanted = List.of(names);
         long sum = 0;
         for (java.lang.management.ThreadInfo info : threads.getThreadInfo(threads.getAllThreadIds())) {
             if (info != null && wanted.contains(info.getThreadName())) {
-                sum += Math.max(0, threads.getThreadCpuTime(info.getThreadId()));
-            }
-        }
-        return sum;
-    }
-
-    /** Bytes allocated so far by the live threads with these names, summed. */
-    private static long threadAllocatedBytes(String... names) {
-        com.sun.management.ThreadMXBean threads =
-                (com.sun.management.ThreadMXBean) java.lang.management.ManagementFactory.getThreadMXBean();
-        List<String> wanted = List.of(names);
-        long sum = 0;
-        for (java.lang.management.ThreadInfo info : threads.getThreadInfo(threads.getAllThreadIds())) {
-            if (info != null && wanted.contains(info.getThreadName())) {
-                sum += Math.max(0, threads.getThreadAllocatedBytes(info.getThreadId()));
+                sum += Math.max(0, perThread.applyAsLong(info.getThreadId()));
             }
         }
         return sum;
@@ -91,11 +82,6 @@ class IngestThroughputBenchmarkTest {
     /** Thread CPU per counted event of the last {@link #bareConsumerRate} pass (ns). */
     private static double lastBareCpuNanosPerEvent;
 
-    private static double median(double[] rates) {
-        double[] sorted = rates.clone();
-        java.util.Arrays.sort(sorted);
-        return sorted[sorted.length / 2];
-    }
 
     @Test
     void eventsPerSecond() throws Exception {
@@ -262,13 +248,13 @@ class IngestThroughputBenchmarkTest {
                 (the bench profile uses ParallelGC, as the launcher and the image do; G1 figures:
                 `-Dtest.jvm.args="-Xmx2g -XX:+UseG1GC"`).
                 """, EVENTS, (double) bytes / EVENTS, Runtime.getRuntime().availableProcessors(), ROUNDS,
-                best(allBare), median(allBare), best(service), median(service), best(service) / best(allBare),
-                median(service) / median(allBare), best(pairs), median(pairs), best(serviceNewProtocol),
-                median(serviceNewProtocol), best(pairsNewProtocol), median(pairsNewProtocol), best(replay), median(replay),
-                lowest(serviceCpu), median(serviceCpu), lowest(bareCpu), median(bareCpu), median(processCpu),
-                median(stepNanos[0]),
-                median(stepNanos[1]), median(stepNanos[2]), median(stepNanos[3]), 100 * median(gcShare),
-                median(pollBytes), median(workerBytes),
+                BenchStats.best(allBare), BenchStats.median(allBare), BenchStats.best(service), BenchStats.median(service), BenchStats.best(service) / BenchStats.best(allBare),
+                BenchStats.median(service) / BenchStats.median(allBare), BenchStats.best(pairs), BenchStats.median(pairs), BenchStats.best(serviceNewProtocol),
+                BenchStats.median(serviceNewProtocol), BenchStats.best(pairsNewProtocol), BenchStats.median(pairsNewProtocol), BenchStats.best(replay), BenchStats.median(replay),
+                BenchStats.lowest(serviceCpu), BenchStats.median(serviceCpu), BenchStats.lowest(bareCpu), BenchStats.median(bareCpu), BenchStats.median(processCpu),
+                BenchStats.median(stepNanos[0]),
+                BenchStats.median(stepNanos[1]), BenchStats.median(stepNanos[2]), BenchStats.median(stepNanos[3]), 100 * BenchStats.median(gcShare),
+                BenchStats.median(pollBytes), BenchStats.median(workerBytes),
                 summary.finalWindows(),
                 java.lang.management.ManagementFactory.getOperatingSystemMXBean().getSystemLoadAverage(),
                 java.lang.management.ManagementFactory.getGarbageCollectorMXBeans().stream()
@@ -278,10 +264,10 @@ class IngestThroughputBenchmarkTest {
                 "%nCPU per event by thread kind during the classic service passes (median ns; threads"
                         + " that ended during a pass are missed):%n%n| threads | ns/event |%n|---|---:|%n"));
         cpuByGroup.entrySet().stream()
-                .sorted((a, b) -> Double.compare(median(b.getValue()), median(a.getValue())))
-                .filter(e -> median(e.getValue()) >= 5)
+                .sorted((a, b) -> Double.compare(BenchStats.median(b.getValue()), BenchStats.median(a.getValue())))
+                .filter(e -> BenchStats.median(e.getValue()) >= 5)
                 .forEach(e -> byGroup.append(String.format(Locale.ROOT, "| %s | %.0f |%n", e.getKey(),
-                        median(e.getValue()))));
+                        BenchStats.median(e.getValue()))));
         report = report + byGroup;
         Files.writeString(Path.of("target", "benchmark-ingest.md"), report, StandardCharsets.UTF_8);
         System.out.println(report);
@@ -330,8 +316,7 @@ class IngestThroughputBenchmarkTest {
             long processAtStart = 0;
             double countAtStart = 0;
             while (chunk < CHUNKS && System.nanoTime() < deadline) {
-                double count = registry.find("oddswatch.service.records").tag("phase", "live").counter() == null ? 0
-                        : registry.get("oddswatch.service.records").tag("phase", "live").counter().count();
+                double count = liveCount(registry);
                 if (chunkStart == 0 && count > 0) {
                     chunkStart = System.nanoTime();
                     countAtStart = count;
@@ -388,8 +373,8 @@ class IngestThroughputBenchmarkTest {
                 %s
                 Chunks 2 to %d: service median %.0f events/s, best %.0f; bare consumer median %.0f;
                 ratio of the medians %.2f.
-                """, CHUNKS, EVENTS, table, CHUNKS, median(measured), best(measured), median(allBare),
-                median(measured) / median(allBare));
+                """, CHUNKS, EVENTS, table, CHUNKS, BenchStats.median(measured), BenchStats.best(measured), BenchStats.median(allBare),
+                BenchStats.median(measured) / BenchStats.median(allBare));
         Files.writeString(Path.of("target", "benchmark-ingest-steady.md"), report, StandardCharsets.UTF_8);
         System.out.println(report);
     }
@@ -547,6 +532,13 @@ class IngestThroughputBenchmarkTest {
         }
     }
 
+    /** The service's live-record counter (0 before its first batch). */
+    private static double liveCount(MeterRegistry registry) {
+        io.micrometer.core.instrument.Counter live = registry.find("oddswatch.service.records").tag("phase", "live")
+                .counter();
+        return live == null ? 0 : live.count();
+    }
+
     /**
      * From the first live records counted to the last, sampled every 5 ms, not counting the records
      * already counted at the first sample (the service counts once per batch).
@@ -556,8 +548,7 @@ class IngestThroughputBenchmarkTest {
         long start = 0;
         double first = 0;
         while (System.nanoTime() < deadline) {
-            double count = registry.find("oddswatch.service.records").tag("phase", "live").counter() == null ? 0
-                    : registry.get("oddswatch.service.records").tag("phase", "live").counter().count();
+            double count = liveCount(registry);
             if (count > 0 && start == 0) {
                 start = System.nanoTime();
                 first = count;

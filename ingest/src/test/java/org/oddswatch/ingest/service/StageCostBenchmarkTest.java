@@ -11,7 +11,6 @@ import java.nio.file.Path;
 import java.time.Duration;
 import java.time.Instant;
 import java.util.ArrayList;
-import java.util.Arrays;
 import java.util.List;
 import java.util.Locale;
 import org.junit.jupiter.api.Tag;
@@ -140,23 +139,15 @@ class StageCostBenchmarkTest {
                 """, EVENTS, events.get(0).json().length, BATCH, ROUNDS,
                 Runtime.getRuntime().availableProcessors()));
         for (int s = 0; s < stages.length; s++) {
-            report.append(String.format(Locale.ROOT, "| %s | %.0f | %.0f | %.0f |%n", stages[s], lowest(cpuNanos[s]),
-                    median(cpuNanos[s]), median(bytes[s])));
+            report.append(String.format(Locale.ROOT, "| %s | %.0f | %.0f | %.0f |%n", stages[s], BenchStats.lowest(cpuNanos[s]),
+                    BenchStats.median(cpuNanos[s]), BenchStats.median(bytes[s])));
         }
         report.append(String.format(Locale.ROOT, "%nDecoding alone (scan and decode minus scan): %.0f ns/record (lowest"
-                + " of each).%n", lowest(cpuNanos[2]) - lowest(cpuNanos[1])));
+                + " of each).%n", BenchStats.lowest(cpuNanos[2]) - BenchStats.lowest(cpuNanos[1])));
         System.out.println(report);
         Files.createDirectories(Path.of("target"));
         Files.writeString(Path.of("target", "benchmark-stages.md"), report);
     }
 
-    private static double lowest(double[] values) {
-        return Arrays.stream(values).min().orElseThrow();
-    }
 
-    private static double median(double[] values) {
-        double[] sorted = values.clone();
-        Arrays.sort(sorted);
-        return sorted[sorted.length / 2];
-    }
 }
