@@ -109,6 +109,8 @@ class IngestThroughputBenchmarkTest {
         double[] bare = new double[ROUNDS];
         double[] bareAgain = new double[ROUNDS];
         double[] bareCpu = new double[ROUNDS];
+        double[] floor = new double[ROUNDS];
+        double[] floorCpu = new double[ROUNDS];
         double[] serviceCpu = new double[ROUNDS];
         double[] service = new double[ROUNDS];
         double[] serviceNewProtocol = new double[ROUNDS];
@@ -190,6 +192,14 @@ class IngestThroughputBenchmarkTest {
                 recording.close();
             }
             assertEquals(EVENTS, running.status().counts().outcome(Outcome.ACCEPTED), "every event accepted");
+            if (!newProtocol) {
+                // the parsing floor of this round, right after its service pass
+                double floorRate = parsingFloorRate(topic);
+                if (measured) {
+                    floor[r] = floorRate;
+                    floorCpu[r] = lastFloorCpuNanosPerEvent;
+                }
+            }
         }
 
         double[] replay = new double[ROUNDS];
@@ -203,7 +213,11 @@ class IngestThroughputBenchmarkTest {
                 java.util.Arrays.stream(bareAgain)).toArray();
         double[] pairs = new double[ROUNDS];
         double[] pairsNewProtocol = new double[ROUNDS];
+        double[] floorPairs = new double[ROUNDS];
+        double[] serviceToFloor = new double[ROUNDS];
         for (int r = 0; r < ROUNDS; r++) {
+            floorPairs[r] = floor[r] / bare[r];
+            serviceToFloor[r] = service[r] / floor[r];
             pairs[r] = service[r] / bare[r];
             pairsNewProtocol[r] = serviceNewProtocol[r] / bareAgain[r];
         }
@@ -230,6 +244,17 @@ class IngestThroughputBenchmarkTest {
                 | service, `group.protocol=consumer` (KIP-848 consumer, background fetching) | %.0f | %.0f |
                 | ratio within back-to-back pairs, that / bare consumer | %.2f | %.2f |
                 | replay from a JSON Lines file | %.0f | %.0f |
+                | Jackson parsing floor: poll and token walk only, two threads (see below) | %.0f | %.0f |
+                | ratio within rounds, floor / bare consumer (best; median) | %.2f | %.2f |
+                | ratio within rounds, service / floor (best; median) | %.2f | %.2f |
+
+                The parsing floor is a consumer built like the service (the poll thread reads a share of
+                each batch, a second thread the rest during the next poll) that only walks each record's
+                JSON tokens with Jackson: nothing decoded, validated, deduplicated or counted into
+                windows. No service that decodes with Jackson on this machine can be faster, so the
+                floor's ratio to the bare consumer bounds the service's. It runs right after the bare
+                consumer and the service in each classic round; its threads used %.0f; %.0f ns of CPU per event (lowest;
+                median).
 
                 CPU per event (lowest; median), in nanoseconds of thread CPU time: the service's poll and
                 worker threads together %.0f; %.0f (classic protocol passes); the bare consumer's thread
@@ -251,6 +276,9 @@ class IngestThroughputBenchmarkTest {
                 BenchStats.best(allBare), BenchStats.median(allBare), BenchStats.best(service), BenchStats.median(service), BenchStats.best(service) / BenchStats.best(allBare),
                 BenchStats.median(service) / BenchStats.median(allBare), BenchStats.best(pairs), BenchStats.median(pairs), BenchStats.best(serviceNewProtocol),
                 BenchStats.median(serviceNewProtocol), BenchStats.best(pairsNewProtocol), BenchStats.median(pairsNewProtocol), BenchStats.best(replay), BenchStats.median(replay),
+                BenchStats.best(floor), BenchStats.median(floor), BenchStats.best(floorPairs), BenchStats.median(floorPairs),
+                BenchStats.best(serviceToFloor), BenchStats.median(serviceToFloor),
+                BenchStats.lowest(floorCpu), BenchStats.median(floorCpu),
                 BenchStats.lowest(serviceCpu), BenchStats.median(serviceCpu), BenchStats.lowest(bareCpu), BenchStats.median(bareCpu), BenchStats.median(processCpu),
                 BenchStats.median(stepNanos[0]),
                 BenchStats.median(stepNanos[1]), BenchStats.median(stepNanos[2]), BenchStats.median(stepNanos[3]), 100 * BenchStats.median(gcShare),
@@ -379,6 +407,107 @@ class IngestThroughputBenchmarkTest {
         System.out.println(report);
     }
 
+    /**
+     * The floor of any service that decodes with Jackson, passed in each classic round of
+     * {@link #eventsPerSecond} right after the bare consumer: a consumer built like the service (the
+     * poll thread reads a share of each batch, a second thread the rest while the next poll runs)
+     * that only walks each record's JSON tokens ({@code nextToken} to the end, one parser per record,
+     * no values taken, nothing decoded, no dedupe, no windows). The service does all of that and more,
+     * so this rate bounds the service's on this machine. {@code -Doddswatch.bench.floorShare} (default
+     * 0.35: about the share the service's poll thread settles at) sets the poll thread's share;
+     * {@code -Doddswatch.bench.floorJoined=true} walks one joined buffer per share instead.
+     */
+    /** Thread CPU per event of the last {@link #parsingFloorRate} pass, both threads (ns). */
+    private static double lastFloorCpuNanosPerEvent;
+
+        private static double parsingFloorRate(String topic) throws Exception {
+        Properties props = benchConsumerProps();
+        com.fasterxml.jackson.core.JsonFactory json = new com.fasterxml.jackson.core.JsonFactory();
+        java.lang.management.ThreadMXBean threads = java.lang.management.ManagementFactory.getThreadMXBean();
+        java.util.concurrent.ExecutorService walker = java.util.concurrent.Executors.newSingleThreadExecutor(
+                r -> new Thread(r, "floor-walker"));
+        TopicPartition tp = new TopicPartition(topic, 0);
+        try (KafkaConsumer<byte[], byte[]> consumer =
+                     new KafkaConsumer<>(props, new ByteArrayDeserializer(), new ByteArrayDeserializer())) {
+            consumer.assign(List.of(tp));
+            consumer.seekToBeginning(List.of(tp));
+            consumer.position(tp);
+            long walkerStart = walker.submit(threads::getCurrentThreadCpuTime).get();
+            java.util.concurrent.Future<Long> pending = java.util.concurrent.CompletableFuture.completedFuture(0L);
+            long count = 0;
+            long first = 0;
+            long start = 0;
+            long startCpu = 0;
+            long tokens = 0;
+            while (count < EVENTS) {
+                ConsumerRecords<byte[], byte[]> records = consumer.poll(Duration.ofMillis(200));
+                int n = records.count();
+                byte[][] values = new byte[n][];
+                int k = 0;
+                for (org.apache.kafka.clients.consumer.ConsumerRecord<byte[], byte[]> record : records) {
+                    values[k++] = record.value();
+                }
+                int half = (int) (n * Double.parseDouble(System.getProperty("oddswatch.bench.floorShare", "0.35")));
+                tokens += walk(json, values, 0, half);
+                tokens += pending.get();
+                count += n;
+                if (start == 0 && count > 0) {
+                    // timed as the bare consumer: from the first batch on, that batch not counted
+                    // (the walker is idle here, so its CPU time is read at once)
+                    start = System.nanoTime();
+                    startCpu = threads.getCurrentThreadCpuTime() + walker.submit(threads::getCurrentThreadCpuTime).get()
+                            - walkerStart;
+                    first = count;
+                }
+                pending = walker.submit(() -> walk(json, values, half, n));
+            }
+            tokens += pending.get();
+            long end = System.nanoTime();
+            long cpu = threads.getCurrentThreadCpuTime() + walker.submit(threads::getCurrentThreadCpuTime).get()
+                    - walkerStart;
+            if (tokens < count) {
+                throw new IllegalStateException("fewer tokens than records: " + tokens);
+            }
+            lastFloorCpuNanosPerEvent = (cpu - startCpu) / (double) (count - first);
+            return (count - first) / ((end - start) / 1e9);
+        } finally {
+            walker.shutdownNow();
+        }
+    }
+
+    /** Walks the tokens of records {@code [from, to)}, one parser each; returns the token count. */
+    private static long walk(com.fasterxml.jackson.core.JsonFactory json, byte[][] values, int from, int to)
+            throws IOException {
+        long tokens = 0;
+        if (Boolean.getBoolean("oddswatch.bench.floorJoined")) {
+            int size = 0;
+            for (int i = from; i < to; i++) {
+                size += values[i].length + 1;
+            }
+            byte[] joined = new byte[size];
+            int at = 0;
+            for (int i = from; i < to; i++) {
+                System.arraycopy(values[i], 0, joined, at, values[i].length);
+                at += values[i].length;
+                joined[at++] = ' ';
+            }
+            try (com.fasterxml.jackson.core.JsonParser parser = json.createParser(joined)) {
+                while (parser.nextToken() != null) {
+                    tokens++;
+                }
+            }
+            return tokens;
+        }
+        for (int i = from; i < to; i++) {
+            try (com.fasterxml.jackson.core.JsonParser parser = json.createParser(values[i])) {
+                while (parser.nextToken() != null) {
+                    tokens++;
+                }
+            }
+        }
+        return tokens;
+    }
+
     /** Creates {@code prefix-tests} and the definition's three output topics, one partition each. */
     private static String createTopics(String prefix) {
         for (String suffix : List.of("tests", "estimates", "rejects", "alerts")) {
@@ -483,24 +612,32 @@ class IngestThroughputBenchmarkTest {
         return settings;
     }
 
+    /**
+     * Settings of the consumers beside the service (bare, parsing floor): the service's own defaults
+     * (MonitorService), so all read the topic the same way, and the settings tried on the service
+     * ({@code -Doddswatch.bench.clientSettings}) but for the group protocol.
+     */
+    private static Properties benchConsumerProps() {
+        Properties props = KAFKA.clientProps();
+        props.put(ConsumerConfig.ENABLE_AUTO_COMMIT_CONFIG, "false");
+        props.put(ConsumerConfig.MAX_POLL_RECORDS_CONFIG, "50000");
+        props.put(ConsumerConfig.MAX_PARTITION_FETCH_BYTES_CONFIG, Integer.toString(4 << 20));
+        props.put(ConsumerConfig.RECEIVE_BUFFER_CONFIG, "-1");
+        for (String[] kv : clientSettings()) {
+            if (!kv[0].equals(ConsumerConfig.GROUP_PROTOCOL_CONFIG)) {
+                props.put(kv[0], kv[1]);
+            }
+        }
+        return props;
+    }
+
     private static double bareConsumerRate(String topic) {
         return bareConsumerRate(topic, -1);
     }
 
     /** The bare consumer over {@link #EVENTS} records from {@code from} on (-1: the beginning). */
     private static double bareConsumerRate(String topic, long from) {
-        Properties props = KAFKA.clientProps();
-        props.put(ConsumerConfig.ENABLE_AUTO_COMMIT_CONFIG, "false");
-        // The service's own defaults (MonitorService), so both read the topic the same way.
-        props.put(ConsumerConfig.MAX_POLL_RECORDS_CONFIG, "50000");
-        props.put(ConsumerConfig.MAX_PARTITION_FETCH_BYTES_CONFIG, Integer.toString(4 << 20));
-        props.put(ConsumerConfig.RECEIVE_BUFFER_CONFIG, "-1");
-        // and the settings tried on the service (-Doddswatch.bench.clientSettings), but for the group protocol
-        for (String[] kv : clientSettings()) {
-            if (!kv[0].equals(ConsumerConfig.GROUP_PROTOCOL_CONFIG)) {
-                props.put(kv[0], kv[1]);
-            }
-        }
+        Properties props = benchConsumerProps();
         TopicPartition tp = new TopicPartition(topic, 0);
         try (KafkaConsumer<byte[], byte[]> consumer =
                      new KafkaConsumer<>(props, new ByteArrayDeserializer(), new ByteArrayDeserializer())) {
