@@ -111,6 +111,7 @@ class IngestThroughputBenchmarkTest {
         double[] bareCpu = new double[ROUNDS];
         double[] floor = new double[ROUNDS];
         double[] floorCpu = new double[ROUNDS];
+        double[] floorShare = new double[ROUNDS];
         double[] serviceCpu = new double[ROUNDS];
         double[] service = new double[ROUNDS];
         double[] serviceNewProtocol = new double[ROUNDS];
@@ -198,6 +199,7 @@ class IngestThroughputBenchmarkTest {
                 if (measured) {
                     floor[r] = floorRate;
                     floorCpu[r] = lastFloorCpuNanosPerEvent;
+                    floorShare[r] = lastFloorShare;
                 }
             }
         }
@@ -254,7 +256,8 @@ class IngestThroughputBenchmarkTest {
                 windows. No service that decodes with Jackson on this machine can be faster, so the
                 floor's ratio to the bare consumer bounds the service's. It runs right after the bare
                 consumer and the service in each classic round; its threads used %.0f; %.0f ns of CPU per event (lowest;
-                median).
+                median); the poll thread's share of the walk ended at %.2f (median; balanced by the
+                service's rule unless -Doddswatch.bench.floorShare fixes it).
 
                 CPU per event (lowest; median), in nanoseconds of thread CPU time: the service's poll and
                 worker threads together %.0f; %.0f (classic protocol passes); the bare consumer's thread
@@ -278,7 +281,7 @@ class IngestThroughputBenchmarkTest {
                 BenchStats.median(serviceNewProtocol), BenchStats.best(pairsNewProtocol), BenchStats.median(pairsNewProtocol), BenchStats.best(replay), BenchStats.median(replay),
                 BenchStats.best(floor), BenchStats.median(floor), BenchStats.best(floorPairs), BenchStats.median(floorPairs),
                 BenchStats.best(serviceToFloor), BenchStats.median(serviceToFloor),
-                BenchStats.lowest(floorCpu), BenchStats.median(floorCpu),
+                BenchStats.lowest(floorCpu), BenchStats.median(floorCpu), BenchStats.median(floorShare),
                 BenchStats.lowest(serviceCpu), BenchStats.median(serviceCpu), BenchStats.lowest(bareCpu), BenchStats.median(bareCpu), BenchStats.median(processCpu),
                 BenchStats.median(stepNanos[0]),
                 BenchStats.median(stepNanos[1]), BenchStats.median(stepNanos[2]), BenchStats.median(stepNanos[3]), 100 * BenchStats.median(gcShare),
@@ -407,20 +410,22 @@ class IngestThroughputBenchmarkTest {
         System.out.println(report);
     }
 
-    /**
-     * The floor of any service that decodes with Jackson, passed in each classic round of
-     * {@link #eventsPerSecond} right after the bare consumer: a consumer built like the service (the
-     * poll thread reads a share of each batch, a second thread the rest while the next poll runs)
-     * that only walks each record's JSON tokens ({@code nextToken} to the end, one parser per record,
-     * no values taken, nothing decoded, no dedupe, no windows). The service does all of that and more,
-     * so this rate bounds the service's on this machine. {@code -Doddswatch.bench.floorShare} (default
-     * 0.35: about the share the service's poll thread settles at) sets the poll thread's share;
-     * {@code -Doddswatch.bench.floorJoined=true} walks one joined buffer per share instead.
-     */
     /** Thread CPU per event of the last {@link #parsingFloorRate} pass, both threads (ns). */
     private static double lastFloorCpuNanosPerEvent;
+    /** The poll thread's share of the walk at the end of the last {@link #parsingFloorRate} pass. */
+    private static double lastFloorShare;
 
-        private static double parsingFloorRate(String topic) throws Exception {
+    /**
+     * The floor of any service that decodes with Jackson, passed in each classic round of
+     * {@link #eventsPerSecond} right after the service: a consumer built like the service (the poll
+     * thread reads a share of each batch, a second thread the rest while the next poll runs, the
+     * share balanced by the service's own {@link ReadShare} rule) that only walks each record's JSON
+     * tokens ({@code nextToken} to the end, one parser per record, no values taken, nothing decoded,
+     * no dedupe, no windows). The service does all of that and more, so this rate bounds the
+     * service's on this machine. {@code -Doddswatch.bench.floorShare=F} fixes the poll thread's share
+     * instead; {@code -Doddswatch.bench.floorJoined=true} walks one joined buffer per share.
+     */
+    private static double parsingFloorRate(String topic) throws Exception {
         Properties props = benchConsumerProps();
         com.fasterxml.jackson.core.JsonFactory json = new com.fasterxml.jackson.core.JsonFactory();
         java.lang.management.ThreadMXBean threads = java.lang.management.ManagementFactory.getThreadMXBean();
@@ -439,6 +444,8 @@ class IngestThroughputBenchmarkTest {
             long start = 0;
             long startCpu = 0;
             long tokens = 0;
+            ReadShare share = new ReadShare();
+            double fixedShare = Double.parseDouble(System.getProperty("oddswatch.bench.floorShare", "-1"));
             while (count < EVENTS) {
                 ConsumerRecords<byte[], byte[]> records = consumer.poll(Duration.ofMillis(200));
                 int n = records.count();
@@ -447,8 +454,11 @@ class IngestThroughputBenchmarkTest {
                 for (org.apache.kafka.clients.consumer.ConsumerRecord<byte[], byte[]> record : records) {
                     values[k++] = record.value();
                 }
-                int half = (int) (n * Double.parseDouble(System.getProperty("oddswatch.bench.floorShare", "0.35")));
+                int half = fixedShare >= 0 ? (int) (n * fixedShare) : share.of(n);
                 tokens += walk(json, values, 0, half);
+                if (count > 0) {
+                    share.adjust(!pending.isDone());
+                }
                 tokens += pending.get();
                 count += n;
                 if (start == 0 && count > 0) {
@@ -469,6 +479,7 @@ class IngestThroughputBenchmarkTest {
                 throw new IllegalStateException("fewer tokens than records: " + tokens);
             }
             lastFloorCpuNanosPerEvent = (cpu - startCpu) / (double) (count - first);
+            lastFloorShare = fixedShare >= 0 ? fixedShare : share.fraction();
             return (count - first) / ((end - start) / 1e9);
         } finally {
             walker.shutdownNow();
