@@ -26,7 +26,6 @@ import java.util.List;
 import java.util.Map;
 import java.util.concurrent.TimeUnit;
 import java.util.regex.Pattern;
-import org.junit.jupiter.api.Assumptions;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.extension.RegisterExtension;
 import org.oddswatch.ingest.definition.MonitorConfig;
@@ -203,11 +202,11 @@ class ServiceRejectsAndHttpTest {
                 assertTrue(count.find(), "loop timer of step " + step);
                 assertTrue(Double.parseDouble(count.group(1)) >= 1, "at least one batch timed in step " + step);
             }
-            promtoolCheck(metrics.body());
 
             assertEquals(404, get(client, base + "/nothing").statusCode());
             assertEquals(405, client.send(HttpRequest.newBuilder(URI.create(base + "/status"))
                     .POST(HttpRequest.BodyPublishers.noBody()).build(), HttpResponse.BodyHandlers.ofString()).statusCode());
+            promtoolCheck(metrics.body());
         }
     }
 
@@ -288,13 +287,20 @@ class ServiceRejectsAndHttpTest {
         assertTrue(samples > 20, "samples: " + samples);
     }
 
-    /** Also checks with promtool where it is installed (not in CI). */
+    /**
+     * Also checks with promtool where it is installed (not in CI). Without it the text has been
+     * checked by pattern only, and the test still counts as run: every other check of it has run
+     * (an assumption here used to report the whole test as skipped).
+     */
     private static void promtoolCheck(String body) throws IOException, InterruptedException {
         Path promtool = Path.of("/usr/bin/promtool");
         if (!Files.isExecutable(promtool)) {
             promtool = Path.of("/usr/local/bin/promtool");
         }
-        Assumptions.assumeTrue(Files.isExecutable(promtool), "promtool not installed; text checked by pattern only");
+        if (!Files.isExecutable(promtool)) {
+            System.err.println("promtool not installed: /metrics text checked by pattern only");
+            return;
+        }
         Process process = new ProcessBuilder(promtool.toString(), "check", "metrics").redirectErrorStream(true).start();
         process.getOutputStream().write(body.getBytes(StandardCharsets.UTF_8));
         process.getOutputStream().close();
