@@ -423,7 +423,7 @@ class IngestThroughputBenchmarkTest {
      * tokens ({@code nextToken} to the end, one parser per record, no values taken, nothing decoded,
      * no dedupe, no windows). The service does all of that and more, so this rate bounds the
      * service's on this machine. {@code -Doddswatch.bench.floorShare=F} fixes the poll thread's share
-     * instead; {@code -Doddswatch.bench.floorJoined=true} walks one joined buffer per share.
+     * instead.
      */
     private static double parsingFloorRate(String topic) throws Exception {
         Properties props = benchConsumerProps();
@@ -475,9 +475,8 @@ class IngestThroughputBenchmarkTest {
             long end = System.nanoTime();
             long cpu = threads.getCurrentThreadCpuTime() + walker.submit(threads::getCurrentThreadCpuTime).get()
                     - walkerStart;
-            if (tokens < count) {
-                throw new IllegalStateException("fewer tokens than records: " + tokens);
-            }
+            // the same count as the stage benchmark's walk of these records (TestFeed events)
+            assertEquals(19L * count, tokens, "19 tokens per record, every record walked");
             lastFloorCpuNanosPerEvent = (cpu - startCpu) / (double) (count - first);
             lastFloorShare = fixedShare >= 0 ? fixedShare : share.fraction();
             return (count - first) / ((end - start) / 1e9);
@@ -490,25 +489,6 @@ class IngestThroughputBenchmarkTest {
     private static long walk(com.fasterxml.jackson.core.JsonFactory json, byte[][] values, int from, int to)
             throws IOException {
         long tokens = 0;
-        if (Boolean.getBoolean("oddswatch.bench.floorJoined")) {
-            int size = 0;
-            for (int i = from; i < to; i++) {
-                size += values[i].length + 1;
-            }
-            byte[] joined = new byte[size];
-            int at = 0;
-            for (int i = from; i < to; i++) {
-                System.arraycopy(values[i], 0, joined, at, values[i].length);
-                at += values[i].length;
-                joined[at++] = ' ';
-            }
-            try (com.fasterxml.jackson.core.JsonParser parser = json.createParser(joined)) {
-                while (parser.nextToken() != null) {
-                    tokens++;
-                }
-            }
-            return tokens;
-        }
         for (int i = from; i < to; i++) {
             try (com.fasterxml.jackson.core.JsonParser parser = json.createParser(values[i])) {
                 while (parser.nextToken() != null) {
