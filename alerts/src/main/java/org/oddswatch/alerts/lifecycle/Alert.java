@@ -3,7 +3,7 @@ package org.oddswatch.alerts.lifecycle;
 import java.time.Instant;
 
 /**
- * One alert message: the record behind the alert JSON (DESIGN.md section 4). Component names are
+ * One alert message: the record behind the alert JSON (docs/interfaces.md, Alert). Component names are
  * the JSON field names.
  *
  * @param id deterministic episode id: the same input always gives the same id

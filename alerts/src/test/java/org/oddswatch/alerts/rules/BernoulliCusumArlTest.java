@@ -119,7 +119,7 @@ class BernoulliCusumArlTest {
 
     @Test
     void defaultLimitsKeepFalseAlarmsRareAtTheReferenceLoad() {
-        // Issue 4's reference load: 2000 events a week, 5% prevalence. Defaults: R_up 1.5, R_down 1/1.5, h 8.
+        // The defaults' reference load (alerts/README.md): 2000 events a week, 5% prevalence. R_up 1.5, R_down 1/1.5, h 8.
         Cusum d = new Cusum(null, null, null, null, null, null);
         double[] share = {1.0};
         double[] risk = {0.05};

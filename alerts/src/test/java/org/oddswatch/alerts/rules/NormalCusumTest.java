@@ -29,7 +29,7 @@ class NormalCusumTest {
     @Test
     void markovChainReproducesThePublishedTable() {
         // Source: Montgomery, Introduction to Statistical Quality Control, tabular CUSUM ARL table, k = 0.5
-        // (from memory, as listed in REFERENCES.md); method: Brook & Evans 1972. Table values are rounded.
+        // (from memory; see docs/references.md); method: Brook & Evans 1972. Table values are rounded.
         assertEquals(168, BrookEvans.normalTwoSided(4, 0.5, 0, 400), 168 * 0.01);
         assertEquals(8.38, BrookEvans.normalTwoSided(4, 0.5, 1, 400), 0.05);
         assertEquals(465, BrookEvans.normalTwoSided(5, 0.5, 0, 400), 465 * 0.01);
@@ -38,7 +38,7 @@ class NormalCusumTest {
 
     @Test
     void chartCodeMatchesThePublishedTableBySimulation() {
-        // Source: Montgomery (from memory, REFERENCES.md). Tolerance: 4 simulation standard errors
+        // Source: Montgomery (from memory; docs/references.md). Tolerance: 4 simulation standard errors
         // plus the Siegmund-type approximation of combining the two one-sided charts (about 1%).
         double[] se = new double[1];
         double arl0h4 = simulatedArl(4, 0, 4000, 11L, se);

@@ -48,7 +48,7 @@ import org.oddswatch.ingest.pipeline.RecordOrigin;
  *       relevant rule, window 1 being the first window ending after the change; the share detected
  *       within 3 windows with its binomial standard error.</li>
  * </ul>
- * Two window layouts: weekly non-overlapping windows (P7D/P7D, the issue's target setting) and the
+ * Two window layouts: weekly non-overlapping windows (P7D/P7D, the setting of the detection targets) and the
  * example definition's 28-day windows stepped weekly. Rules: the defaults of {@code AlertRulesConfig}
  * ({@code oddsRatioDrift: {}}, {@code calibration: {}}, {@code cusum: {}}) with drift on the two
  * watched terms. Events: 2,000 a week (30 % household contact, about 5 % prevalence).

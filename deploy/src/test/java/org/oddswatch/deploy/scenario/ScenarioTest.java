@@ -64,7 +64,7 @@ class ScenarioTest {
 
     @Test
     void baselinePrevalenceIsFivePercentAsDocumented() {
-        // The design target in DESIGN.md / issue 4: 5 % baseline prevalence, 30 % exposed.
+        // The house scenario's design target (deploy/SCENARIOS.md): 5 % baseline prevalence, 30 % exposed.
         Scenario s = Scenario.steady(TWELVE_WEEKS);
         assertEquals(0.05, s.expectedPrevalence(TWELVE_WEEKS.start()), 0.0005);
         List<ScenarioEvent> events = s.events().toList();

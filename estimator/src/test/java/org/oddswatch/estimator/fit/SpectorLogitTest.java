@@ -32,7 +32,7 @@ class SpectorLogitTest {
         FitResult fit = NewtonFitter.fit(spector(), null, FitControl.defaults());
         assertTrue(fit.converged());
         assertEquals(32, spector().rows());
-        // Source: Greene, Econometric Analysis, logit example (from memory), as listed in REFERENCES.md;
+        // Source: Greene, Econometric Analysis, logit example (from memory; docs/references.md, Spector & Mazzeo 1980);
         // reproduced by statsmodels Logit on Debian's spector.csv.
         double[] coef = {-13.0213, 2.8261, 0.095158, 2.3787};
         double[] se = {4.9313, 1.2629, 0.141554, 1.0646};

@@ -20,7 +20,7 @@ class BinomialIntervalTest {
 
     @Test
     void newcombeWilsonAndClopperPearsonFor81Of263() {
-        // Source: Newcombe 1998, Stat Med 17:857, Table I (from memory, REFERENCES.md); reproduced by
+        // Source: Newcombe 1998, Stat Med 17:857, Table I (from memory; see docs/references.md); reproduced by
         // R prop.test(81, 263, correct = FALSE) and binom.test(81, 263).
         BinomialInterval wilson = BinomialInterval.wilson(81, 263, 0.95);
         assertEquals(0.2553, wilson.lower(), 5e-5);

@@ -15,7 +15,7 @@ class MantelHaenszelTest {
 
     @Test
     void berkeleyAdmissionsByDepartment() {
-        // Source: REFERENCES.md, Bickel, Hammel & O'Connell 1975 (Science 187:398) data as R's
+        // Source: docs/references.md, Bickel, Hammel & O'Connell 1975 (Science 187:398) data as R's
         // datasets::UCBAdmissions; R mantelhaen.test(UCBAdmissions): 0.9047, 95% 0.7719-1.0603 (RBG).
         OddsRatioEstimate mh = MantelHaenszel.commonOddsRatio(strata("ucb"), 0.95);
         assertEquals(0.9047, mh.oddsRatio(), 5e-5);

@@ -166,7 +166,7 @@ class EventDecoderTest {
         assertTrue(result.rejection().detail().startsWith("sex: "), result.rejection().detail());
     }
 
-    /** DESIGN.md section 5: a missing covariate is accepted and left out of the fit. */
+    /** A missing covariate (ingest/README.md) is accepted and left out of the fit. */
     @Test
     void missingCovariatesAreAcceptedWithoutARow() {
         for (String json : new String[] {event("age", null), event("age", "null"), event("ageBand", "\"unknown\""),

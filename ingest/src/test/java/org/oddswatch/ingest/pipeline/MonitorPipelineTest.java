@@ -270,7 +270,7 @@ class MonitorPipelineTest {
         assertEquals(2 * totals.outcome(Outcome.ACCEPTED), inWindows);
     }
 
-    /** DESIGN.md section 5: missing covariates count toward prevalence and are left out of the fit. */
+    /** Missing covariates (ingest/README.md) count toward prevalence and are left out of the fit. */
     @Test
     void missingCovariatesCountForPrevalenceButNotTheFit() {
         List<String> records = HouseEvents.generate(11, 400, D0, 86_400_000L, 0, "north");
