@@ -22,6 +22,8 @@ final class MonitorReader {
     private static final Pattern NAME = Pattern.compile("[A-Za-z0-9][A-Za-z0-9._-]*");
     /** Kafka's legal topic names. */
     private static final Pattern TOPIC = Pattern.compile("[A-Za-z0-9._-]{1,249}");
+    /** Most events a stream may hold beyond its horizon ({@code event.futureHold}). */
+    static final int MAX_FUTURE_HOLD = 100_000;
     private static final Set<String> PREVALENCE_METHODS = Set.of("wilson", "clopper-pearson", "jeffreys");
 
     private final DefNode node;
@@ -56,7 +58,7 @@ final class MonitorReader {
     }
 
     private static EventSpec event(DefNode event) throws DefinitionException {
-        event.mapping("id", "time", "maxFutureSkew", "futureConfirm", "outcome");
+        event.mapping("id", "time", "maxFutureSkew", "futureConfirm", "futureSpan", "futureHold", "outcome");
         DefNode outcome = event.require("outcome").mapping("field", "positive", "negative");
         List<String> positive = values(outcome.get("positive"), List.of("positive", "true", "1"));
         List<String> negative = values(outcome.get("negative"), List.of("negative", "false", "0"));
@@ -66,12 +68,18 @@ final class MonitorReader {
             }
         }
         int futureConfirm = event.get("futureConfirm").integer(EventSpec.DEFAULT_FUTURE_CONFIRM);
-        if (futureConfirm < 1) {
-            throw event.get("futureConfirm").error("must be at least 1");
+        if (futureConfirm < 2) {
+            throw event.get("futureConfirm").error("must be at least 2 (one event alone never confirms a new frontier)");
+        }
+        int futureHold = event.get("futureHold").integer(EventSpec.DEFAULT_FUTURE_HOLD);
+        if (futureHold < futureConfirm || futureHold > MAX_FUTURE_HOLD) {
+            throw event.get("futureHold").error("must be from futureConfirm (" + futureConfirm + ") to "
+                    + MAX_FUTURE_HOLD);
         }
         return new EventSpec(event.require("id").pointer(), event.require("time").pointer(),
-                DefinitionLoader.notNegative(event.get("maxFutureSkew"), Duration.ofDays(1)), futureConfirm,
-                new OutcomeSpec(outcome.require("field").pointer(), positive, negative));
+                DefinitionLoader.notNegative(event.get("maxFutureSkew"), EventSpec.DEFAULT_MAX_FUTURE_SKEW),
+                futureConfirm, DefinitionLoader.notNegative(event.get("futureSpan"), EventSpec.DEFAULT_FUTURE_SPAN),
+                futureHold, new OutcomeSpec(outcome.require("field").pointer(), positive, negative));
     }
 
     private static List<String> values(DefNode node, List<String> fallback) throws DefinitionException {

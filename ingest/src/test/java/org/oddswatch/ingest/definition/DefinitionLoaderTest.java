@@ -71,7 +71,9 @@ class DefinitionLoaderTest {
         assertEquals(Duration.ofDays(2), north.window().lateness());
         assertEquals(4, north.geometry().bucketsPerWindow());
         assertEquals(Duration.ofDays(1), north.event().maxFutureSkew());
-        assertEquals(3, north.event().futureConfirm());
+        assertEquals(5, north.event().futureConfirm());
+        assertEquals(Duration.ofHours(1), north.event().futureSpan());
+        assertEquals(1000, north.event().futureHold());
         assertEquals(0.95, north.estimates().level());
         assertEquals("wilson", north.estimates().prevalenceInterval());
         assertEquals(4096, north.estimates().patternLimit());
@@ -100,11 +102,17 @@ class DefinitionLoaderTest {
     }
 
     @Test
-    void futureConfirmIsAtLeastOne() throws Exception {
+    void futureConfirmIsAtLeastTwoAndTheHoldHoldsThatMany() throws Exception {
         String base = VALID.replace("      time: /collectedAt\n", "      time: /collectedAt\n      futureConfirm: %s\n");
-        assertEquals(5, parse(base.formatted("5")).monitor("north").event().futureConfirm());
-        DefinitionException e = error(base.formatted("0"));
-        assertEquals("monitors.yaml:7: monitors[0].event.futureConfirm: must be at least 1", e.getMessage());
+        assertEquals(7, parse(base.formatted("7")).monitor("north").event().futureConfirm());
+        DefinitionException e = error(base.formatted("1"));
+        assertEquals("monitors.yaml:7: monitors[0].event.futureConfirm: must be at least 2 (one event alone never"
+                + " confirms a new frontier)", e.getMessage());
+        e = error(base.formatted("4\n      futureHold: 3"));
+        assertEquals("monitors.yaml:8: monitors[0].event.futureHold: must be from futureConfirm (4) to 100000",
+                e.getMessage());
+        e = error(base.formatted("4\n      futureSpan: -PT1H"));
+        assertEquals("monitors.yaml:8: monitors[0].event.futureSpan: must not be negative", e.getMessage());
     }
 
     @Test
