@@ -104,7 +104,7 @@ class ServiceRejectsAndHttpTest {
         bad.put("bad-outcome", event("b7", last, "maybe", "north", "18-39", "40"));
         bad.put("bad-time", event("b8", last, "negative", "north", "18-39", "40").replace(last.toString(), "yesterday"));
         bad.put("unknown-level", event("b10", last, "negative", "north", "90+", "40"));
-        bad.put("bad-value", event("b11", last, "negative", "north", "18-39", "\"old\""));
+        bad.put("bad-value", event("b11", last, "negative", "north", "18-39", "[40]"));
         bad.put("too-many-streams", event("b12", last, "negative", "east", "18-39", "40"));
         bad.put("late", event("b13", Instant.parse("2026-01-06T00:00:00Z"), "negative", "north", "18-39", "40"));
         // Held beyond the horizon, and rejected once the stream has moved on a whole day without it
