@@ -25,7 +25,7 @@ final class MonitorReader {
     /** Most steps (buckets) per window: {@code width / step}. */
     static final int MAX_STEPS_PER_WINDOW = 1000;
     /** Most events a stream may hold beyond its horizon ({@code event.futureHold}). */
-    static final int MAX_FUTURE_HOLD = 100_000;
+    static final int MAX_FUTURE_HOLD = 10_000;
     private static final Set<String> PREVALENCE_METHODS = Set.of("wilson", "clopper-pearson", "jeffreys");
 
     private final DefNode node;

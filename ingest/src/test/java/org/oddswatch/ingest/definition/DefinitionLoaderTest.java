@@ -171,7 +171,7 @@ class DefinitionLoaderTest {
         assertEquals("monitors.yaml:7: monitors[0].event.futureConfirm: must be at least 2 (one event alone never"
                 + " confirms a new frontier)", e.getMessage());
         e = error(base.formatted("4\n      futureHold: 3"));
-        assertEquals("monitors.yaml:8: monitors[0].event.futureHold: must be from futureConfirm (4) to 100000",
+        assertEquals("monitors.yaml:8: monitors[0].event.futureHold: must be from futureConfirm (4) to 10000",
                 e.getMessage());
         e = error(base.formatted("4\n      futureSpan: -PT1H"));
         assertEquals("monitors.yaml:8: monitors[0].event.futureSpan: must not be negative", e.getMessage());
