@@ -22,6 +22,10 @@ final class MonitorReader {
     private static final Pattern NAME = Pattern.compile("[A-Za-z0-9][A-Za-z0-9._-]*");
     /** Kafka's legal topic names. */
     private static final Pattern TOPIC = Pattern.compile("[A-Za-z0-9._-]{1,249}");
+    /** Most steps (buckets) per window: {@code width / step}. */
+    static final int MAX_STEPS_PER_WINDOW = 1000;
+    /** Most events a stream may hold beyond its horizon ({@code event.futureHold}). */
+    static final int MAX_FUTURE_HOLD = 10_000;
     private static final Set<String> PREVALENCE_METHODS = Set.of("wilson", "clopper-pearson", "jeffreys");
 
     private final DefNode node;
@@ -56,7 +60,7 @@ final class MonitorReader {
     }
 
     private static EventSpec event(DefNode event) throws DefinitionException {
-        event.mapping("id", "time", "maxFutureSkew", "futureConfirm", "outcome");
+        event.mapping("id", "time", "maxFutureSkew", "futureConfirm", "futureSpan", "futureHold", "outcome");
         DefNode outcome = event.require("outcome").mapping("field", "positive", "negative");
         List<String> positive = values(outcome.get("positive"), List.of("positive", "true", "1"));
         List<String> negative = values(outcome.get("negative"), List.of("negative", "false", "0"));
@@ -66,12 +70,18 @@ final class MonitorReader {
             }
         }
         int futureConfirm = event.get("futureConfirm").integer(EventSpec.DEFAULT_FUTURE_CONFIRM);
-        if (futureConfirm < 1) {
-            throw event.get("futureConfirm").error("must be at least 1");
+        if (futureConfirm < 2) {
+            throw event.get("futureConfirm").error("must be at least 2 (one event alone never confirms a new frontier)");
+        }
+        int futureHold = event.get("futureHold").integer(EventSpec.DEFAULT_FUTURE_HOLD);
+        if (futureHold < futureConfirm || futureHold > MAX_FUTURE_HOLD) {
+            throw event.get("futureHold").error("must be from futureConfirm (" + futureConfirm + ") to "
+                    + MAX_FUTURE_HOLD);
         }
         return new EventSpec(event.require("id").pointer(), event.require("time").pointer(),
-                DefinitionLoader.notNegative(event.get("maxFutureSkew"), Duration.ofDays(1)), futureConfirm,
-                new OutcomeSpec(outcome.require("field").pointer(), positive, negative));
+                DefinitionLoader.notNegative(event.get("maxFutureSkew"), EventSpec.DEFAULT_MAX_FUTURE_SKEW),
+                futureConfirm, DefinitionLoader.notNegative(event.get("futureSpan"), EventSpec.DEFAULT_FUTURE_SPAN),
+                futureHold, new OutcomeSpec(outcome.require("field").pointer(), positive, negative));
     }
 
     private static List<String> values(DefNode node, List<String> fallback) throws DefinitionException {
@@ -105,6 +115,11 @@ final class MonitorReader {
         if (width.toMillis() % step.toMillis() != 0 || width.compareTo(step) < 0) {
             throw widthNode.error("width " + widthNode.text() + " is not a whole multiple of step "
                     + window.get("step").text());
+        }
+        if (width.toMillis() / step.toMillis() > MAX_STEPS_PER_WINDOW) {
+            throw widthNode.error("width " + widthNode.text() + " is " + width.toMillis() / step.toMillis()
+                    + " steps of " + window.get("step").text() + "; at most " + MAX_STEPS_PER_WINDOW
+                    + " steps per window are allowed (every window sums that many buckets)");
         }
         Duration lateness = DefinitionLoader.notNegative(window.get("lateness"), Duration.ZERO);
         Instant align = window.get("align").present() ? window.get("align").instant() : Instant.EPOCH;
@@ -218,6 +233,7 @@ final class MonitorReader {
         try {
             return Json.mapper().readerFor(AlertRulesConfig.class)
                     .with(DeserializationFeature.FAIL_ON_UNKNOWN_PROPERTIES)
+                    .without(DeserializationFeature.ACCEPT_FLOAT_AS_INT)
                     .readValue(json);
         } catch (JsonMappingException e) {
             StringBuilder path = new StringBuilder(node.path());
@@ -228,12 +244,66 @@ final class MonitorReader {
                     path.append('[').append(ref.getIndex()).append(']');
                 }
             }
-            String problem = e instanceof com.fasterxml.jackson.databind.exc.UnrecognizedPropertyException
-                    ? "unknown rule setting" : e.getOriginalMessage();
-            throw node.tree().error(path.toString(), problem);
+            throw node.tree().error(path.toString(), ruleProblem(e, json.at(pointer(e))));
         } catch (IOException e) {
             throw node.error(e.getMessage());
         }
+    }
+
+    /** The JSON Pointer (from the root) of the value a mapping error is about. */
+    private static String pointer(JsonMappingException e) {
+        StringBuilder pointer = new StringBuilder();
+        for (JsonMappingException.Reference ref : e.getPath()) {
+            pointer.append('/').append(ref.getFieldName() != null
+                    ? ref.getFieldName().replace("~", "~0").replace("/", "~1") : Integer.toString(ref.getIndex()));
+        }
+        return pointer.toString();
+    }
+
+    /**
+     * A rule-binding error in the definition's words: what was expected and found, or the rule's
+     * own message, never a Java type name.
+     */
+    private static String ruleProblem(JsonMappingException e, JsonNode relative) {
+        if (e instanceof com.fasterxml.jackson.databind.exc.UnrecognizedPropertyException) {
+            return "unknown rule setting";
+        }
+        if (e instanceof com.fasterxml.jackson.databind.exc.ValueInstantiationException && e.getCause() != null) {
+            return String.valueOf(e.getCause().getMessage());
+        }
+        Class<?> target = e instanceof com.fasterxml.jackson.databind.exc.MismatchedInputException m
+                ? m.getTargetType()
+                : e.getCause() instanceof com.fasterxml.jackson.core.exc.InputCoercionException c ? c.getTargetType() : null;
+        String expected;
+        if (target == null) {
+            expected = "a valid value";
+        } else if (target == int.class || target == Integer.class || target == long.class || target == Long.class) {
+            expected = "a whole number within the range of an int";
+        } else if (Number.class.isAssignableFrom(target) || target.isPrimitive() && target != boolean.class) {
+            expected = "a number";
+        } else if (target == boolean.class || target == Boolean.class) {
+            expected = "true or false";
+        } else if (target == String.class) {
+            expected = "a text value";
+        } else if (java.util.Collection.class.isAssignableFrom(target) || target.isArray()) {
+            expected = "a list";
+        } else {
+            expected = "a mapping of settings";
+        }
+        return "expected " + expected + ", found " + found(relative);
+    }
+
+    private static String found(JsonNode value) {
+        if (value == null || value.isMissingNode()) {
+            return "a value that does not fit";
+        }
+        if (value.isObject()) {
+            return "a mapping";
+        }
+        if (value.isArray()) {
+            return "a list";
+        }
+        return value.isNull() ? "nothing" : "'" + value.asText() + "'";
     }
 
     private static void checkTermReferences(DefNode node, List<TermSpec> terms) throws DefinitionException {

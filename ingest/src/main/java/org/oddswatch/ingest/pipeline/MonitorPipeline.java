@@ -63,6 +63,10 @@ public final class MonitorPipeline {
     private final OutcomeCounts totals = new OutcomeCounts();
     private final Map<String, List<Alert>> pendingRestore = new LinkedHashMap<>();
     private long rebuilt;
+    /** Record-level outcomes of held records decided since the last {@link #drainDecidedHeld}. */
+    private final List<RecordOutcome> decidedHeld = new ArrayList<>();
+    /** The record being offered when a stream holds it (shared by the monitors of the input), else null. */
+    private HeldRecord heldNow;
 
     /**
      * @param input the topic or file name, for status
@@ -251,17 +255,59 @@ public final class MonitorPipeline {
                     suppressOutput);
         }
         RecordOutcome overall = null;
+        heldNow = null;
         for (int r = 0; r < routes.size(); r++) {
             RecordOutcome outcome = offerTo(routes.get(r), read.result(r), original, origin, suppressOutput);
-            if (overall == null || (outcome.accepted() && !overall.accepted())) {
+            if (!outcome.held() && (overall == null || (outcome.accepted() && !overall.accepted()))) {
                 overall = outcome;
             }
         }
-        if (overall == null) {
+        HeldRecord held = heldNow;
+        heldNow = null;
+        if (held != null) {
+            held.inOffer = false;
+            held.merge(overall);
+            if (!held.decided()) {
+                return RecordOutcome.HELD; // counted when the holding streams decide
+            }
+            held.totalsCounted = true;
+            overall = held.best;
+        } else if (overall == null) {
             overall = RecordOutcome.rejected(RejectReason.MISSING_FIELD, "no monitor reads this input");
         }
         count(totals, overall, suppressOutput);
         return overall;
+    }
+
+    /**
+     * A held event's decided outcome: counted and reported like an outcome of {@code offer} (in the
+     * stream, to the listener, to rejects), and once all streams holding the record decided, in the
+     * record totals.
+     */
+    private void resolved(StreamState stream, HeldRecord record, RecordOutcome outcome, boolean suppress) {
+        report(stream, outcome, record.original, record.origin, suppress);
+        record.holders--;
+        record.merge(outcome);
+        if (!record.inOffer && record.decided()) {
+            record.totalsCounted = true;
+            count(totals, record.best, suppress);
+            if (!suppress) {
+                decidedHeld.add(record.best);
+                listener.onHeldDecided(record.origin, record.best);
+            }
+        }
+    }
+
+    private void report(StreamState stream, RecordOutcome outcome, byte[] original, RecordOrigin origin,
+                        boolean suppress) {
+        count(stream.counts(), outcome, suppress);
+        if (!suppress) {
+            listener.onOutcome(stream.monitorName(), stream.name(), outcome);
+        }
+        if (!suppress && (outcome.outcome() == Outcome.REJECTED || outcome.outcome() == Outcome.LATE)) {
+            listener.onReject(new RejectedRecord(stream.monitorName(), stream.name(), outcome.outcome(),
+                    outcome.reason(), outcome.detail(), origin, original));
+        }
     }
 
     /** Counts and reports a record that could not be read at all (before any monitor saw it). */
@@ -306,14 +352,15 @@ public final class MonitorPipeline {
             stream = newStream(route, streamName, event.splitValue());
         }
         RecordOutcome outcome = stream.offer(event, suppress);
-        count(stream.counts(), outcome, suppress);
-        if (!suppress) {
-            listener.onOutcome(route.monitor.name(), stream.name(), outcome);
+        if (outcome.held()) {
+            if (heldNow == null) {
+                heldNow = new HeldRecord(original, origin);
+            }
+            heldNow.holders++;
+            stream.hold(event, heldNow, suppress);
+            return outcome;
         }
-        if (!suppress && (outcome.outcome() == Outcome.REJECTED || outcome.outcome() == Outcome.LATE)) {
-            listener.onReject(new RejectedRecord(route.monitor.name(), stream.name(), outcome.outcome(),
-                    outcome.reason(), outcome.detail(), origin, original));
-        }
+        report(stream, outcome, original, origin, suppress);
         return outcome;
     }
 
@@ -349,7 +396,7 @@ public final class MonitorPipeline {
             }
         }
         StreamState stream = new StreamState(name, monitor, route.estimator, store, baselineStore, fileBaseline, note,
-                listener, settings.replayHint());
+                listener, settings.replayHint(), this::resolved);
         List<Alert> restore = pendingRestore.remove(name);
         if (restore != null) {
             stream.restore(restore);
@@ -366,6 +413,18 @@ public final class MonitorPipeline {
             }
         } else {
             counts.add(outcome);
+        }
+    }
+
+    /**
+     * Hands over the record-level outcomes of held records decided since the last call (not
+     * suppressed): a caller that counts records by the return value of {@code offer}, which was
+     * {@link RecordOutcome#HELD} for them, counts them here.
+     */
+    public void drainDecidedHeld(java.util.function.Consumer<RecordOutcome> into) {
+        if (!decidedHeld.isEmpty()) {
+            decidedHeld.forEach(into);
+            decidedHeld.clear();
         }
     }
 

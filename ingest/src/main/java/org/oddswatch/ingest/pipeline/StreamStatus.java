@@ -12,8 +12,9 @@ import java.time.Instant;
  * @param baselineNote why the baseline failed, or null
  * @param heldBuckets event-time buckets held in memory
  * @param approximateBytes approximate bytes of window state
+ * @param heldFuture events held beyond the time horizon, waiting for evidence (a new frontier or not)
  */
 public record StreamStatus(String stream, String monitor, Instant watermark, Instant lastFinalWindowEnd,
                            long finalWindows, String baseline, String baselineNote, int heldBuckets,
-                           long approximateBytes, OutcomeCounts.Snapshot counts) {
+                           long approximateBytes, int heldFuture, OutcomeCounts.Snapshot counts) {
 }

@@ -304,6 +304,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
             if (nextCommit >= 0) {
                 state.nextCommit = nextCommit;
             }
+            state.pipeline.drainDecidedHeld(counts::add); // records held beyond the horizon, decided now
             state.pipeline.batchDone();
             state.rebuiltRecords += rebuilt;
             meters.rebuildRecords(rebuilt);

@@ -271,6 +271,53 @@ class ReplayRunnerTest {
     }
 
     /**
+     * Bad Unicode costs only its record: a reject whose detail quotes an unpaired surrogate (an
+     * JSON escape of U+D800 alone as a level) is written (the surrogate as U+FFFD) and the replay goes on; bytes
+     * that are not well-formed UTF-8 are malformed-json: an encoded surrogate (ED A0 80), a code
+     * point above U+10FFFF (F4 90 80 80) and the overlong form of "/" (C0 AF), which a lenient
+     * decoder reads as "/". Source: Unicode Standard 15.0, section 3.9, table 3-7.
+     */
+    @Test
+    void badUnicodeIsRejectedAndEveryRejectIsWritten() throws Exception {
+        List<HouseEvent> events = tenWeeks().subList(0, 400);
+        java.io.ByteArrayOutputStream file = new java.io.ByteArrayOutputStream();
+        byte[][] bad = {{(byte) 0xED, (byte) 0xA0, (byte) 0x80}, {(byte) 0xF4, (byte) 0x90, (byte) 0x80, (byte) 0x80},
+                {(byte) 0xC0, (byte) 0xAF}};
+        for (int i = 0; i < events.size(); i++) {
+            String line = events.get(i).json();
+            if (i == 100) {
+                line = line.replaceFirst("\"sex\":\"[a-z]+\"", "\"sex\":\"\\\\ud800\"");
+            }
+            if (i >= 200 && i < 203) {
+                int at = line.indexOf("\"id\":\"") + 6;
+                file.writeBytes(line.substring(0, at).getBytes(StandardCharsets.UTF_8));
+                file.writeBytes(bad[i - 200]);
+                file.writeBytes(line.substring(at).getBytes(StandardCharsets.UTF_8));
+            } else {
+                file.writeBytes(line.getBytes(StandardCharsets.UTF_8));
+            }
+            file.write('\n');
+        }
+        Path input = dir.resolve("unicode.jsonl");
+        Files.write(input, file.toByteArray());
+        ReplaySummary summary = replay(input, "out");
+        assertEquals(400, summary.records().consumed());
+        assertEquals(3, summary.records().reasons().get(RejectReason.MALFORMED_JSON));
+        assertEquals(1, summary.records().reasons().get(RejectReason.UNKNOWN_LEVEL));
+        List<String> rejects = lines("out", ReplayRunner.REJECTS);
+        assertEquals(4, rejects.size());
+        JsonNode level = Json.mapper().readTree(rejects.get(0));
+        assertEquals(101, level.get("line").asInt());
+        assertTrue(level.get("detail").asText().contains("\uFFFD"), level.get("detail").asText());
+        for (int r = 1; r < 4; r++) {
+            JsonNode reject = Json.mapper().readTree(rejects.get(r));
+            assertEquals(200 + r, reject.get("line").asInt());
+            assertEquals("malformed-json", reject.get("reason").asText());
+            assertTrue(reject.get("detail").asText().startsWith("not valid UTF-8"), reject.get("detail").asText());
+        }
+    }
+
+    /**
      * Twenty weeks, two regions, events up to two days out of order (some late); from week 9 the
      * household-contact log-odds ratio rises by 1.6, so the default rules raise alerts.
      */
