@@ -13,6 +13,7 @@ import org.apache.kafka.common.serialization.ByteArraySerializer;
 import org.apache.kafka.common.serialization.StringSerializer;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.privacy.PublishedEstimate;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 import org.oddswatch.ingest.definition.OutputSpec;
@@ -24,7 +25,8 @@ import org.oddswatch.ingest.pipeline.RejectedRecord;
  * Sends the pipeline's outputs to the output topics of their monitor with one idempotent producer
  * ({@code enable.idempotence=true}, {@code acks=all}):
  * <ul>
- *   <li>estimates: key {@code <stream>|<windowEnd RFC 3339>}, value the estimate JSON; an interim and
+ *   <li>estimates: key {@code <stream>|<windowEnd RFC 3339>}, value the estimate JSON with small
+ *       cells withheld ({@link PublishedEstimate}, the monitor's {@code withholdCountsBelow}); an interim and
  *       the final estimate of a window share the key, so a compacted topic keeps the final one;</li>
  *   <li>rejects: key {@code <topic>/<partition>/<offset>} of the source record, value the reject JSON
  *       (reason, detail, source position, original bytes);</li>
@@ -60,7 +62,8 @@ public final class KafkaOutputPublisher implements PipelineListener, AutoCloseab
 
     @Override
     public void onEstimate(WindowEstimate estimate) {
-        send(outputs(estimate.stream()).estimatesTopic(), estimateKey(estimate), Json.write(estimate));
+        OutputSpec outputs = outputs(estimate.stream());
+        send(outputs.estimatesTopic(), estimateKey(estimate), PublishedEstimate.json(estimate, outputs.smallCells()));
     }
 
     @Override
@@ -118,12 +121,7 @@ public final class KafkaOutputPublisher implements PipelineListener, AutoCloseab
 
     /** The outputs of the monitor a stream belongs to ({@code name} or {@code name/value}). */
     private OutputSpec outputs(String stream) {
-        for (MonitorDefinition monitor : monitors) {
-            if (stream.equals(monitor.name()) || stream.startsWith(monitor.name() + "/")) {
-                return monitor.outputs();
-            }
-        }
-        throw new IllegalArgumentException("no monitor for stream " + stream);
+        return MonitorDefinition.ofStream(monitors, stream).outputs();
     }
 
     @Override
