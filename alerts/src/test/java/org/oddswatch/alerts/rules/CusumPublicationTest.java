@@ -4,6 +4,7 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import com.fasterxml.jackson.databind.JsonNode;
 import java.time.Duration;
 import java.util.List;
 import org.junit.jupiter.api.Test;
@@ -14,12 +15,13 @@ import org.oddswatch.alerts.engine.AlertRulesConfig.Cusum;
 import org.oddswatch.alerts.engine.AlertRulesConfig.Guard;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.privacy.PublishedAlert;
 import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.estimator.window.WindowGeometry;
 
 /**
  * What a CUSUM alert publishes: its window is whole buckets of the stream's grid (here days), never
- * an event's own time, and the counts its message names follow the small-cell rule.
+ * an event's own time, and the counts its message and JSON name follow the small-cell rule.
  */
 class CusumPublicationTest {
 
@@ -65,5 +67,21 @@ class CusumPublicationTest {
         assertEquals(5, five.events());
         assertTrue(five.message().contains("over the 5 events since the chart last stood at zero, 5 were positive"),
                 five.message());
+    }
+
+    @Test
+    void thePublishedAlertWithholdsASmallEventCount() throws Exception {
+        Alert four = signal(2.0, 4).get(0);
+        JsonNode published = Json.mapper().readTree(PublishedAlert.json(four, SmallCellPolicy.DEFAULT));
+        assertFalse(published.has("events"), published.toString());
+        assertEquals("events", published.get("withheld").get(0).get("field").asText());
+        assertEquals("events from 1 to 4", published.get("withheld").get(0).get("reason").asText());
+        assertEquals(four.id(), published.get("id").asText());
+
+        Alert five = signal(2.6, 5).get(0);
+        assertEquals(Json.write(five), PublishedAlert.json(five, SmallCellPolicy.DEFAULT), "5 events: unchanged");
+        // Read back on a restart, the withheld alert still restores its episode (events is not used).
+        assertEquals(four.id(), Json.mapper().readValue(PublishedAlert.json(four, SmallCellPolicy.DEFAULT),
+                Alert.class).id());
     }
 }

@@ -13,6 +13,7 @@ import org.apache.kafka.common.serialization.ByteArraySerializer;
 import org.apache.kafka.common.serialization.StringSerializer;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.privacy.PublishedAlert;
 import org.oddswatch.alerts.privacy.PublishedEstimate;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.ingest.definition.MonitorDefinition;
@@ -30,7 +31,7 @@ import org.oddswatch.ingest.pipeline.RejectedRecord;
  *       the final estimate of a window share the key, so a compacted topic keeps the final one;</li>
  *   <li>rejects: key {@code <topic>/<partition>/<offset>} of the source record, value the reject JSON
  *       (reason, detail, source position, original bytes);</li>
- *   <li>alerts: key the alert id.</li>
+ *   <li>alerts: key the alert id, value the alert JSON under the same small-cell rule ({@link PublishedAlert}).</li>
  * </ul>
  * Sends are asynchronous; {@link #flush()} waits for all of them and throws if any failed, so the
  * caller commits input offsets only after every output of those inputs is stored.
@@ -76,7 +77,8 @@ public final class KafkaOutputPublisher implements PipelineListener, AutoCloseab
 
     @Override
     public void onAlert(Alert alert) {
-        send(outputs(alert.stream()).alertsTopic(), alert.id(), Json.write(alert));
+        OutputSpec outputs = outputs(alert.stream());
+        send(outputs.alertsTopic(), alert.id(), PublishedAlert.json(alert, outputs.smallCells()));
     }
 
     /** Waits until every output sent so far is acknowledged; throws if any send failed. */

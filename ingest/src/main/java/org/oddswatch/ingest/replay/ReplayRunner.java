@@ -16,6 +16,7 @@ import java.util.Map;
 import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.privacy.PublishedAlert;
 import org.oddswatch.alerts.privacy.PublishedEstimate;
 import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.alerts.report.ReplayReport;
@@ -205,8 +206,7 @@ public final class ReplayRunner {
             }
             estimates.add(estimate);
             windowSpan.computeIfAbsent(estimate.stream(), s -> new WindowEstimate[] {estimate, estimate})[1] = estimate;
-            line(estimatesFile, PublishedEstimate.json(estimate, MonitorDefinition.ofStream(monitors,
-                    estimate.stream()).outputs().smallCells()));
+            line(estimatesFile, PublishedEstimate.json(estimate, cellsOf(estimate.stream())));
         }
 
         @Override
@@ -221,7 +221,11 @@ public final class ReplayRunner {
                 return;
             }
             alerts.add(alert);
-            line(alertsFile, Json.write(alert));
+            line(alertsFile, PublishedAlert.json(alert, cellsOf(alert.stream())));
+        }
+
+        private SmallCellPolicy cellsOf(String stream) {
+            return MonitorDefinition.ofStream(monitors, stream).outputs().smallCells();
         }
 
         private static void line(Writer writer, String json) {

@@ -48,7 +48,7 @@ final class AlertMetersListener implements PipelineListener, AutoCloseable {
     private final List<MonitorDefinition> monitors;
     private final OddswatchMeters meters;
     private final MeterRegistry registry;
-    private final AlertSink log = new LogAlertSink();
+    private final Map<String, AlertSink> logs = new HashMap<>();
     private final Map<String, WebhookAlertSink> webhooks = new HashMap<>();
     private final Map<List<String>, Counter> eventCounters = new ConcurrentHashMap<>();
     /**
@@ -63,10 +63,11 @@ final class AlertMetersListener implements PipelineListener, AutoCloseable {
         this.registry = registry;
         this.meters = metersOf(registry);
         for (MonitorDefinition monitor : monitors) {
+            logs.put(monitor.name(), new LogAlertSink(monitor.outputs().smallCells()));
             WebhookSpec hook = monitor.outputs().webhook();
             if (hook != null) {
                 webhooks.put(monitor.name(), new WebhookAlertSink(URI.create(hook.url()), hook.timeout(),
-                        hook.attempts(), Duration.ofMillis(500), 1000, meters));
+                        hook.attempts(), Duration.ofMillis(500), 1000, meters, monitor.outputs().smallCells()));
             }
         }
     }
@@ -104,7 +105,7 @@ final class AlertMetersListener implements PipelineListener, AutoCloseable {
     public void onAlert(Alert alert) {
         publisher.onAlert(alert);
         meters.onAlert(alert);
-        log.publish(alert);
+        logs.get(monitorOf(alert.stream())).publish(alert);
         WebhookAlertSink hook = webhooks.get(monitorOf(alert.stream()));
         if (hook != null) {
             hook.publish(alert);
@@ -202,6 +203,6 @@ final class AlertMetersListener implements PipelineListener, AutoCloseable {
         for (WebhookAlertSink hook : new ArrayList<>(webhooks.values())) {
             hook.close();
         }
-        log.close();
+        logs.values().forEach(AlertSink::close);
     }
 }
