@@ -12,6 +12,7 @@ import org.oddswatch.alerts.lifecycle.AlertText;
 import org.oddswatch.alerts.lifecycle.EpisodeTracker;
 import org.oddswatch.alerts.lifecycle.EpisodeTracker.Transition;
 import org.oddswatch.alerts.lifecycle.Evidence;
+import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.alerts.rules.BernoulliCusumRule;
 import org.oddswatch.alerts.rules.CalibrationRule;
 import org.oddswatch.alerts.rules.CusumReading;
@@ -24,6 +25,7 @@ import org.oddswatch.alerts.rules.WindowRule;
 import org.oddswatch.estimator.calibration.BaselineModel;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.estimator.result.WindowStatus;
+import org.oddswatch.estimator.window.WindowGeometry;
 
 /**
  * Runs one stream's alert rules and keeps their episode lifecycle. Pure and deterministic: no clock,
@@ -53,6 +55,16 @@ public final class AlertEngine {
      * @param replay how to phrase the replay command in alert texts (null: placeholders)
      */
     public AlertEngine(String stream, AlertRulesConfig rules, BaselineModel baseline, ReplayHint replay) {
+        this(stream, rules, baseline, replay, null, SmallCellPolicy.DEFAULT);
+    }
+
+    /**
+     * @param grid the stream's window grid: CUSUM alerts carry whole buckets, never an event's own
+     *     time (null: event times, for tests of the rules)
+     * @param cells the small-cell rule for counts named in messages
+     */
+    public AlertEngine(String stream, AlertRulesConfig rules, BaselineModel baseline, ReplayHint replay,
+                       WindowGeometry grid, SmallCellPolicy cells) {
         this.stream = stream;
         this.baseline = baseline;
         this.replay = replay == null ? new ReplayHint(null, null, null) : replay;
@@ -71,7 +83,8 @@ public final class AlertEngine {
                     new InformationGuard(r.guardFor(r.calibration().guard()))));
         }
         cusum = baseline != null && r.cusum() != null
-                ? new BernoulliCusumRule(r.cusum(), new InformationGuard(r.guardFor(r.cusum().guard())), baseline)
+                ? new BernoulliCusumRule(r.cusum(), new InformationGuard(r.guardFor(r.cusum().guard())), baseline,
+                        grid, cells)
                 : null;
         baselineFrom = baseline == null ? Long.MAX_VALUE : parse(baseline.periodStart(), Long.MAX_VALUE);
         baselineTo = baseline == null ? Long.MIN_VALUE : parse(baseline.periodEnd(), Long.MIN_VALUE);

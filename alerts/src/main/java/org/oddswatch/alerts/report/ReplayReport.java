@@ -13,6 +13,7 @@ import java.util.List;
 import java.util.Map;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.lifecycle.AlertText;
+import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.alerts.rules.Format;
 import org.oddswatch.estimator.result.CoefficientEstimate;
 import org.oddswatch.estimator.result.PrevalenceEstimate;
@@ -24,39 +25,47 @@ import org.oddswatch.estimator.result.WindowStatus;
  * positives, prevalence with interval, watched odds ratios with intervals, alerts whose window ends
  * there), then the alerts in order. Deterministic: the same inputs give a byte-identical file.
  *
- * <p>Small counts: a count from 1 to 4 is withheld and shown as {@code <5}; positives are also
- * withheld when the negatives are 1 to 4 (else they could be worked out), and a prevalence or odds
- * ratio resting on withheld positives is withheld too. This follows the common small-cell practice
- * (some agencies use 11); local disclosure rules govern.
+ * <p>Small counts follow the {@link SmallCellPolicy} of every published output (default limit 5):
+ * a count from 1 to 4 is withheld and shown as {@code <5}; positives are also withheld when the
+ * negatives are 1 to 4 (else they could be worked out), and a prevalence or odds ratio resting on
+ * withheld positives is withheld too. This follows the common small-cell practice (some agencies use
+ * 11); local disclosure rules govern.
  */
 public final class ReplayReport {
-
-    /** Counts below this (and above 0) are withheld. */
-    public static final int SMALL_COUNT = 5;
-
-    static final String WITHHELD = "<5";
 
     private ReplayReport() {
     }
 
-    /** Writes {@code dir/report.md} (creating {@code dir}) and returns its path. */
+    /** Writes {@code dir/report.md} (creating {@code dir}) with the default small-cell limit. */
     public static Path write(Path dir, List<WindowEstimate> estimates, List<Alert> alerts, String title) {
+        return write(dir, estimates, alerts, title, SmallCellPolicy.DEFAULT);
+    }
+
+    /** Writes {@code dir/report.md} (creating {@code dir}) and returns its path. */
+    public static Path write(Path dir, List<WindowEstimate> estimates, List<Alert> alerts, String title,
+                             SmallCellPolicy cells) {
         Path file = dir.resolve("report.md");
         try {
             Files.createDirectories(dir);
-            Files.writeString(file, render(estimates, alerts, title), StandardCharsets.UTF_8);
+            Files.writeString(file, render(estimates, alerts, title, cells), StandardCharsets.UTF_8);
         } catch (IOException e) {
             throw new UncheckedIOException("cannot write " + file, e);
         }
         return file;
     }
 
-    /** The report text. */
+    /** The report text with the default small-cell limit. */
     public static String render(List<WindowEstimate> estimates, List<Alert> alerts, String title) {
+        return render(estimates, alerts, title, SmallCellPolicy.DEFAULT);
+    }
+
+    /** The report text. */
+    public static String render(List<WindowEstimate> estimates, List<Alert> alerts, String title,
+                                SmallCellPolicy cells) {
         StringBuilder b = new StringBuilder();
         b.append("# ").append(title == null || title.isBlank() ? "oddswatch replay" : title).append("\n\n");
         b.append(AlertText.CAUTION).append(" Figures describe the events in the replayed input only.\n\n");
-        b.append("Counts from 1 to ").append(SMALL_COUNT - 1).append(" are withheld and shown as `").append(WITHHELD)
+        b.append("Counts from 1 to ").append(cells.limit() - 1).append(" are withheld and shown as `").append(cells.withheldLabel())
                 .append("`, and so are figures resting on them (common small-cell practice; local disclosure rules govern).")
                 .append(" Windows are half-open, start included and end excluded; intervals are those of the estimates.\n");
         Map<String, List<WindowEstimate>> byStream = new LinkedHashMap<>();
@@ -76,13 +85,14 @@ public final class ReplayReport {
         for (Map.Entry<String, List<WindowEstimate>> s : byStream.entrySet()) {
             b.append("\n## Stream ").append(s.getKey()).append("\n\n");
             List<Alert> streamAlerts = sortedAlerts.stream().filter(a -> a.stream().equals(s.getKey())).toList();
-            windows(b, s.getValue(), streamAlerts);
-            alertList(b, streamAlerts);
+            windows(b, s.getValue(), streamAlerts, cells);
+            alertList(b, streamAlerts, cells);
         }
         return b.toString();
     }
 
-    private static void windows(StringBuilder b, List<WindowEstimate> windows, List<Alert> alerts) {
+    private static void windows(StringBuilder b, List<WindowEstimate> windows, List<Alert> alerts,
+                                SmallCellPolicy cells) {
         if (windows.isEmpty()) {
             b.append("No final windows.\n");
             return;
@@ -90,17 +100,18 @@ public final class ReplayReport {
         b.append("| window start | window end | events | positives | prevalence (interval) | fit | odds ratios (interval) | alerts |\n");
         b.append("|---|---|---:|---:|---|---|---|---|\n");
         for (WindowEstimate e : windows) {
-            boolean casesWithheld = small(e.cases()) || small(e.events() - e.cases());
+            boolean casesWithheld = cells.assess(e).cases() != null;
             b.append("| ").append(e.windowStart()).append(" | ").append(e.windowEnd()).append(" | ")
-                    .append(count(e.events())).append(" | ").append(casesWithheld ? WITHHELD : Format.count(e.cases()))
-                    .append(" | ").append(casesWithheld || small(e.events()) ? "withheld" : prevalence(e.prevalence()))
+                    .append(cells.count(e.events())).append(" | ")
+                    .append(casesWithheld ? cells.withheldLabel() : Format.count(e.cases()))
+                    .append(" | ").append(casesWithheld ? "withheld" : prevalence(e.prevalence()))
                     .append(" | ").append(e.fit() == null ? "none" : e.fit().state() + " (" + e.fit().method() + ")")
                     .append(" | ").append(casesWithheld ? "withheld" : oddsRatios(e)).append(" | ")
                     .append(alertsAt(alerts, e.windowEnd())).append(" |\n");
         }
     }
 
-    private static void alertList(StringBuilder b, List<Alert> alerts) {
+    private static void alertList(StringBuilder b, List<Alert> alerts, SmallCellPolicy cells) {
         b.append("\n### Alerts\n\n");
         if (alerts.isEmpty()) {
             b.append("None.\n");
@@ -119,7 +130,7 @@ public final class ReplayReport {
             if (a.evidence() != null && a.evidence().z() != null) {
                 b.append(", z ").append(Format.stat(a.evidence().z()));
             }
-            b.append(", on ").append(count(a.events())).append(" events. Reproduce: `").append(a.replayCommand())
+            b.append(", on ").append(cells.count(a.events())).append(" events. Reproduce: `").append(a.replayCommand())
                     .append("`\n");
         }
     }
@@ -149,13 +160,5 @@ public final class ReplayReport {
                     + Format.num(c.upper()) + ")");
         }
         return parts.isEmpty() ? "none" : String.join("; ", parts);
-    }
-
-    private static boolean small(long n) {
-        return n > 0 && n < SMALL_COUNT;
-    }
-
-    private static String count(long n) {
-        return small(n) ? WITHHELD : Format.count(n);
     }
 }

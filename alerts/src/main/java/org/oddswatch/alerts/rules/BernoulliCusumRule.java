@@ -9,8 +9,10 @@ import org.oddswatch.alerts.engine.AlertRulesConfig.Cusum;
 import org.oddswatch.alerts.engine.AlertRulesConfig.TermLimits;
 import org.oddswatch.alerts.lifecycle.AlertSubject;
 import org.oddswatch.alerts.lifecycle.Evidence;
+import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.estimator.calibration.BaselineModel;
 import org.oddswatch.estimator.terms.Column;
+import org.oddswatch.estimator.window.WindowGeometry;
 
 /**
  * Risk-adjusted Bernoulli CUSUM (Steiner, Cook, Farewell &amp; Treasure 2000, <i>Biostatistics</i>
@@ -35,6 +37,12 @@ import org.oddswatch.estimator.terms.Column;
  * events. Each signal reports the excursion that led to it: from the first event after the chart
  * last stood at 0 (the usual CUSUM change-point estimate) to the signalling event, with its events,
  * observed positives and expected positives under the baseline.
+ *
+ * <p>Published times and counts: an alert's window runs from the start of the bucket holding the
+ * excursion's first event to the end of the bucket holding the signalling (or clearing) event, so no
+ * event's own time is published; counts in the message follow the {@link SmallCellPolicy} (a count
+ * from 1 to 4 reads {@code <5}, and the positives and their observed/expected ratio are withheld
+ * when the positives or the negatives are that small).
  */
 public final class BernoulliCusumRule {
 
@@ -42,6 +50,8 @@ public final class BernoulliCusumRule {
     public static final String DOWN = "bernoulli-cusum-down";
 
     private final BaselineModel baseline;
+    private final WindowGeometry grid;
+    private final SmallCellPolicy cells;
     private final long clearAfterEvents;
     private final long minEvents;
     private final List<Chart> charts = new ArrayList<>();
@@ -49,6 +59,18 @@ public final class BernoulliCusumRule {
             Comparator.comparingLong(Pending::time).thenComparing(Pending::id));
 
     public BernoulliCusumRule(Cusum settings, InformationGuard guard, BaselineModel baseline) {
+        this(settings, guard, baseline, null, SmallCellPolicy.DEFAULT);
+    }
+
+    /**
+     * @param grid the stream's window grid: an alert's window is widened to whole buckets (never an
+     *     exact event time is published); null keeps the event times (for tests of the chart)
+     * @param cells the small-cell rule for the counts the message names
+     */
+    public BernoulliCusumRule(Cusum settings, InformationGuard guard, BaselineModel baseline, WindowGeometry grid,
+                              SmallCellPolicy cells) {
+        this.grid = grid;
+        this.cells = cells;
         this.baseline = baseline;
         this.clearAfterEvents = settings.clearAfterEvents();
         this.minEvents = guard.minEvents();
@@ -120,6 +142,16 @@ public final class BernoulliCusumRule {
         return charts.stream()
                 .map(c -> new CusumReading(c.rule, c.subject, c.chart.value(), c.chart.limit(), c.processed))
                 .toList();
+    }
+
+    /** The start of the bucket holding {@code t} (t itself without a grid). */
+    private Instant floor(long t) {
+        return Instant.ofEpochMilli(grid == null ? t : grid.bucketStart(grid.bucketOf(t)));
+    }
+
+    /** The end of the bucket holding {@code end - 1}, for an exclusive end (itself without a grid). */
+    private Instant ceil(long end) {
+        return Instant.ofEpochMilli(grid == null ? end : grid.bucketStart(grid.bucketOf(end - 1) + 1));
     }
 
     private record Pending(long time, String id, double[] row, boolean positive) {
@@ -194,22 +226,35 @@ public final class BernoulliCusumRule {
                     + " times those of the baseline model (" + direction + " risk than the baseline expects"
                     + (column < 0 ? "" : ", among events with " + subject.label()) + ") reached "
                     + Format.stat(s) + ", above its limit h = " + Format.stat(chart.limit()) + "; over the "
-                    + Format.count(excursionEvents) + " events since the chart last stood at zero, "
-                    + Format.count(excursionObserved) + " were positive against " + Format.num(excursionExpected)
-                    + " expected by the baseline (observed/expected " + Format.num(excursionObserved / excursionExpected)
+                    + cells.count(excursionEvents) + " events since the chart last stood at zero, "
+                    + positives() + " were positive against " + Format.num(excursionExpected)
+                    + " expected by the baseline (observed/expected " + observedExpected()
                     + "); the chart restarts at zero";
             return new Reading(rule, subject, Zone.BEYOND, multiplier > 1 ? 1 : -1, 1, 1,
-                    Instant.ofEpochMilli(excursionStart), Instant.ofEpochMilli(p.time + 1), s, 0.0, chart.limit(),
+                    floor(excursionStart), ceil(p.time + 1), s, 0.0, chart.limit(),
                     chart.limit(), new Evidence(null, s, null, null, null), excursionEvents, detail);
+        }
+
+        /** The excursion's positives, withheld when they or the negatives are small counts. */
+        private boolean positivesWithheld() {
+            return cells.small(excursionObserved) || cells.small(excursionEvents - excursionObserved);
+        }
+
+        private String positives() {
+            return positivesWithheld() ? cells.withheldLabel() : Format.count(excursionObserved);
+        }
+
+        private String observedExpected() {
+            return positivesWithheld() ? "withheld" : Format.num(excursionObserved / excursionExpected);
         }
 
         private Reading cleared(Pending p) {
             String detail = "the risk-adjusted Bernoulli CUSUM tuned to odds " + Format.num(multiplier)
                     + " times the baseline's" + (column < 0 ? "" : " (events with " + subject.label() + ")")
-                    + " has not signalled again over " + Format.count(sinceSignal) + " events; it stands at "
+                    + " has not signalled again over " + cells.count(sinceSignal) + " events; it stands at "
                     + Format.stat(chart.value()) + " against its limit h = " + Format.stat(chart.limit());
-            return new Reading(rule, subject, Zone.INSIDE, 0, 1, 1, Instant.ofEpochMilli(lastSignalEnd),
-                    Instant.ofEpochMilli(p.time + 1), chart.value(), 0.0, chart.limit(), chart.limit(),
+            return new Reading(rule, subject, Zone.INSIDE, 0, 1, 1, floor(lastSignalEnd),
+                    ceil(p.time + 1), chart.value(), 0.0, chart.limit(), chart.limit(),
                     new Evidence(null, chart.value(), null, null, null), sinceSignal, detail);
         }
     }

@@ -33,7 +33,7 @@ final class RunCommand implements Callable<Integer> {
     @Option(names = "--http", paramLabel = "HOST:PORT", description = "Address of /metrics, /health and /status (overrides service.http).")
     String http;
 
-    @Option(names = "--instance", paramLabel = "NAME", description = "Name of this instance in client ids and meters (default: the host name).")
+    @Option(names = "--instance", paramLabel = "NAME", description = "Name of this instance in client ids and in the service_instance tag of meters (default: the host name).")
     String instance;
 
     @Spec

@@ -80,4 +80,19 @@ public record MonitorDefinition(String name, String topic, EventSpec event, Spli
     public String streamName(String splitValue) {
         return splitValue == null ? name : name + "/" + splitValue;
     }
+
+    /** True when {@code stream} is this monitor's ({@code name} or {@code name/value}; names hold no '/'). */
+    public boolean owns(String stream) {
+        return stream.equals(name) || stream.startsWith(name + "/");
+    }
+
+    /** The monitor among {@code monitors} a stream belongs to. */
+    public static MonitorDefinition ofStream(List<MonitorDefinition> monitors, String stream) {
+        for (MonitorDefinition monitor : monitors) {
+            if (monitor.owns(stream)) {
+                return monitor;
+            }
+        }
+        throw new IllegalArgumentException("no monitor for stream " + stream);
+    }
 }

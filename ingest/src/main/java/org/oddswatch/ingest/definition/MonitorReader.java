@@ -14,6 +14,7 @@ import java.util.Set;
 import java.util.regex.Pattern;
 import org.oddswatch.alerts.engine.AlertRulesConfig;
 import org.oddswatch.alerts.json.Json;
+import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.estimator.terms.CategoricalTerm;
 
 /** Reads and validates one element of {@code monitors}. */
@@ -346,7 +347,8 @@ final class MonitorReader {
 
     private static OutputSpec outputs(DefNode node) throws DefinitionException {
         if (node.present()) {
-            node.mapping("estimatesTopic", "rejectsTopic", "alertsTopic", "estimatesFile", "webhook");
+            node.mapping("estimatesTopic", "rejectsTopic", "alertsTopic", "estimatesFile", "webhook",
+                    "withholdCountsBelow");
         }
         WebhookSpec webhook = null;
         DefNode hook = node.get("webhook");
@@ -365,9 +367,14 @@ final class MonitorReader {
                     attempts);
         }
         DefNode file = node.get("estimatesFile");
+        DefNode below = node.get("withholdCountsBelow");
+        int withholdBelow = below.integer(SmallCellPolicy.DEFAULT_LIMIT);
+        if (withholdBelow < 2 || withholdBelow > 1000) {
+            throw below.error("must be from 2 to 1000 (counts from 1 to this minus 1 are withheld from every output)");
+        }
         return new OutputSpec(topic(node.get("estimatesTopic"), "oddswatch-estimates"),
                 topic(node.get("rejectsTopic"), "oddswatch-rejects"), topic(node.get("alertsTopic"), "oddswatch-alerts"),
-                file.present() ? file.name() : null, webhook);
+                file.present() ? file.name() : null, webhook, withholdBelow);
     }
 
     private static String topic(DefNode node, String fallback) throws DefinitionException {

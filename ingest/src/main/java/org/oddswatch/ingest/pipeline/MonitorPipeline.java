@@ -67,6 +67,8 @@ public final class MonitorPipeline {
     private final List<RecordOutcome> decidedHeld = new ArrayList<>();
     /** The record being offered when a stream holds it (shared by the monitors of the input), else null. */
     private HeldRecord heldNow;
+    /** Removes the partition's stream-count gauge ({@link #forPartition} with a registry), else null. */
+    private Runnable streamsGaugeRemoval;
 
     /**
      * @param input the topic or file name, for status
@@ -109,11 +111,12 @@ public final class MonitorPipeline {
         MonitorPipeline pipeline = new MonitorPipeline(topic + "-" + partition, config.monitorsFor(topic), listener,
                 settings);
         if (registry != null) {
-            Gauge.builder("oddswatch.pipeline.streams", pipeline, p -> p.streamsByName.size())
+            Gauge gauge = Gauge.builder("oddswatch.pipeline.streams", pipeline, p -> p.streamsByName.size())
                     .description("streams held by one partition's pipeline")
                     .tag("topic", topic)
                     .tag("partition", Integer.toString(partition))
                     .register(registry);
+            pipeline.streamsGaugeRemoval = () -> registry.remove(gauge);
         }
         return pipeline;
     }
@@ -345,6 +348,8 @@ public final class MonitorPipeline {
         if (stream == null) {
             String streamName = route.monitor.streamName(event.splitValue());
             if (route.monitor.split() != null && route.streams.size() >= route.monitor.split().maxStreams()) {
+                // The reject names the would-be stream; the meters get none (the stream tag holds
+                // accepted streams only, never a name made from a rejected record's value).
                 return rejectUnrouted(route, streamName, new Rejection(RejectReason.TOO_MANY_STREAMS,
                         "split value '" + event.splitValue() + "' would be stream " + (route.streams.size() + 1)
                                 + " of at most " + route.monitor.split().maxStreams()), original, origin, suppress);
@@ -369,7 +374,7 @@ public final class MonitorPipeline {
         RecordOutcome outcome = RecordOutcome.rejected(rejection.reason(), rejection.detail());
         count(route.unrouted, outcome, suppress);
         if (!suppress) {
-            listener.onOutcome(route.monitor.name(), stream, outcome);
+            listener.onOutcome(route.monitor.name(), null, outcome);
             listener.onReject(new RejectedRecord(route.monitor.name(), stream, Outcome.REJECTED, rejection.reason(),
                     rejection.detail(), origin, original));
         }
@@ -400,6 +405,7 @@ public final class MonitorPipeline {
         List<Alert> restore = pendingRestore.remove(name);
         if (restore != null) {
             stream.restore(restore);
+            reportOpen(restore);
         }
         route.streams.put(splitValue, stream);
         streamsByName.put(name, stream);
@@ -458,28 +464,52 @@ public final class MonitorPipeline {
     /**
      * Restores open alert episodes published before a restart; alerts of streams not seen yet are kept
      * until the stream's first event. The latest message of each episode still open goes to
-     * {@link PipelineListener#onAlertRestored} (for the alert-state gauge).
+     * {@link PipelineListener#onAlertRestored} (for the alert-state gauge) once the stream is held
+     * here: at once for a stream that exists, else on its first event in this pipeline.
      */
     public void restoreAlerts(List<Alert> published) {
         Map<String, List<Alert>> byStream = new LinkedHashMap<>();
-        Map<List<String>, Alert> latestByEpisode = new LinkedHashMap<>();
         for (Alert alert : published) {
             byStream.computeIfAbsent(alert.stream(), s -> new ArrayList<>()).add(alert);
-            latestByEpisode.put(List.of(alert.stream(), alert.rule(), alert.subject().term(),
-                    String.valueOf(alert.subject().level())), alert);
+        }
+        for (Map.Entry<String, List<Alert>> entry : byStream.entrySet()) {
+            StreamState stream = streamsByName.get(entry.getKey());
+            if (stream != null) {
+                stream.restore(entry.getValue());
+                reportOpen(entry.getValue());
+            } else {
+                pendingRestore.computeIfAbsent(entry.getKey(), s -> new ArrayList<>()).addAll(entry.getValue());
+            }
+        }
+    }
+
+    /**
+     * Tells the listener the latest message of every episode still open among one stream's restored
+     * alerts. Only for a stream this pipeline holds: the alerts topic also holds the episodes of
+     * streams other partitions (and instances) hold, which must not show here.
+     */
+    private void reportOpen(List<Alert> streamAlerts) {
+        Map<List<String>, Alert> latestByEpisode = new LinkedHashMap<>();
+        for (Alert alert : streamAlerts) {
+            latestByEpisode.put(List.of(alert.rule(), alert.subject().term(), String.valueOf(alert.subject().level())),
+                    alert);
         }
         for (Alert latest : latestByEpisode.values()) {
             if (latest.state() != AlertState.CLEARED) {
                 listener.onAlertRestored(latest);
             }
         }
-        for (Map.Entry<String, List<Alert>> entry : byStream.entrySet()) {
-            StreamState stream = streamsByName.get(entry.getKey());
-            if (stream != null) {
-                stream.restore(entry.getValue());
-            } else {
-                pendingRestore.computeIfAbsent(entry.getKey(), s -> new ArrayList<>()).addAll(entry.getValue());
-            }
+    }
+
+    /**
+     * The pipeline's streams leave this instance (its partition was revoked or lost): tells the
+     * listener ({@link PipelineListener#onStreamsReleased}) so their meters go, and removes the
+     * partition's stream-count gauge. The pipeline is not used afterwards.
+     */
+    public void release() {
+        listener.onStreamsReleased(streams());
+        if (streamsGaugeRemoval != null) {
+            streamsGaugeRemoval.run();
         }
     }
 

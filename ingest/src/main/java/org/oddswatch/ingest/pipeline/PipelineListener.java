@@ -26,8 +26,9 @@ public interface PipelineListener {
     // ---- for meters: none of these is called while rebuilding (suppressed output) ---------------
 
     /**
-     * One record's outcome in one monitor: {@code stream} is null when no stream could be determined
-     * (the record was rejected before routing), {@code monitor} is null when no monitor could read it.
+     * One record's outcome in one monitor: {@code stream} is null when the record was routed to no
+     * stream the monitor holds (rejected before routing, or {@code too-many-streams}: it never names
+     * a stream made from a rejected value), {@code monitor} is null when no monitor could read it.
      */
     default void onOutcome(String monitor, String stream, RecordOutcome outcome) {
     }
@@ -61,5 +62,9 @@ public interface PipelineListener {
      * subject), from {@link MonitorPipeline#restoreAlerts}; it is not published again.
      */
     default void onAlertRestored(Alert alert) {
+    }
+
+    /** These streams left the pipeline's owner (its partition was revoked or lost): forget their meters. */
+    default void onStreamsReleased(List<String> streams) {
     }
 }

@@ -100,7 +100,7 @@ final class StreamState {
             this.baseline = fileBaseline;
             this.baselineNote = fileBaselineNote;
             this.baselineState = spec == null ? BASELINE_NONE : fileBaseline != null ? BASELINE_FILE : BASELINE_FAILED;
-            this.engine = new AlertEngine(name, monitor.rules(), baseline, replayHint);
+            this.engine = newEngine();
         }
     }
 
@@ -378,7 +378,7 @@ final class StreamState {
             baselineNote = e.getMessage();
         }
         baselineStore = null;
-        engine = new AlertEngine(name, monitor.rules(), baseline, replayHint);
+        engine = newEngine();
         if (!restored.isEmpty()) {
             engine.restore(restored);
             restored = List.of();
@@ -395,6 +395,11 @@ final class StreamState {
                 listener.onAlert(alert);
             }
         }
+    }
+
+    /** This stream's alert engine: CUSUM alerts on the window grid, message counts under the small-cell rule. */
+    private AlertEngine newEngine() {
+        return new AlertEngine(name, monitor.rules(), baseline, replayHint, geometry, monitor.outputs().smallCells());
     }
 
     /** The baseline in use (frozen file or fixed period), or null. */

@@ -16,6 +16,9 @@ import java.util.Map;
 import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.privacy.PublishedAlert;
+import org.oddswatch.alerts.privacy.PublishedEstimate;
+import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.alerts.report.ReplayReport;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.ingest.definition.DefinitionException;
@@ -34,7 +37,8 @@ import org.oddswatch.ingest.pipeline.StreamStatus;
  * Replays an event file through the same {@link MonitorPipeline} as the live service, time driven by
  * the events, and writes into the output folder:
  * <ul>
- *   <li>{@code estimates.jsonl}: every final window estimate, one JSON object per line;</li>
+ *   <li>{@code estimates.jsonl}: every final window estimate, one JSON object per line, small cells
+ *       withheld as on the estimates topic ({@link PublishedEstimate});</li>
  *   <li>{@code rejects.jsonl}: rejected and late records with their line number, reason and bytes;</li>
  *   <li>{@code alerts.jsonl}: alert messages in the order raised;</li>
  *   <li>{@code summary.json}: counts by outcome and reason, windows per stream;</li>
@@ -87,7 +91,7 @@ public final class ReplayRunner {
                 .withReplayHint(new ReplayHint(request.config() == null ? config.file() : request.config().toString(),
                         request.input().toString(), null));
         InputFormat format = request.effectiveFormat();
-        FileOutputs outputs = new FileOutputs(request.out(), new WindowRange(request.from(), request.to()));
+        FileOutputs outputs = new FileOutputs(request.out(), new WindowRange(request.from(), request.to()), monitors);
         MonitorPipeline pipeline;
         try (outputs) {
             pipeline = new MonitorPipeline(request.input().toString(), monitors, outputs, settings);
@@ -100,8 +104,18 @@ public final class ReplayRunner {
         Files.writeString(request.out().resolve(SUMMARY),
                 Json.mapper().writerWithDefaultPrettyPrinter().writeValueAsString(summary) + "\n",
                 StandardCharsets.UTF_8);
-        ReplayReport.write(request.out(), outputs.estimates, outputs.alerts, title(monitors, request));
+        ReplayReport.write(request.out(), outputs.estimates, outputs.alerts, title(monitors, request),
+                strictest(monitors));
         return summary;
+    }
+
+    /** The report's small-cell rule: the highest limit among the replayed monitors. */
+    private static SmallCellPolicy strictest(List<MonitorDefinition> monitors) {
+        int limit = SmallCellPolicy.DEFAULT_LIMIT;
+        for (MonitorDefinition monitor : monitors) {
+            limit = Math.max(limit, monitor.outputs().withholdCountsBelow());
+        }
+        return new SmallCellPolicy(limit);
     }
 
     private static String title(List<MonitorDefinition> monitors, ReplayRequest request) {
@@ -164,6 +178,7 @@ public final class ReplayRunner {
     /** Writes the three JSON Lines files and keeps estimates and alerts (of the range) for the report. */
     private static final class FileOutputs implements PipelineListener, AutoCloseable {
         private final WindowRange range;
+        private final List<MonitorDefinition> monitors;
         private final Writer estimatesFile;
         private final Writer rejectsFile;
         private final Writer alertsFile;
@@ -172,8 +187,9 @@ public final class ReplayRunner {
         final Map<String, WindowEstimate[]> windowSpan = new LinkedHashMap<>();
         long rejects;
 
-        FileOutputs(Path dir, WindowRange range) throws IOException {
+        FileOutputs(Path dir, WindowRange range, List<MonitorDefinition> monitors) throws IOException {
             this.range = range;
+            this.monitors = monitors;
             estimatesFile = writer(dir.resolve(ESTIMATES));
             rejectsFile = writer(dir.resolve(REJECTS));
             alertsFile = writer(dir.resolve(ALERTS));
@@ -190,7 +206,7 @@ public final class ReplayRunner {
             }
             estimates.add(estimate);
             windowSpan.computeIfAbsent(estimate.stream(), s -> new WindowEstimate[] {estimate, estimate})[1] = estimate;
-            line(estimatesFile, Json.write(estimate));
+            line(estimatesFile, PublishedEstimate.json(estimate, cellsOf(estimate.stream())));
         }
 
         @Override
@@ -205,7 +221,11 @@ public final class ReplayRunner {
                 return;
             }
             alerts.add(alert);
-            line(alertsFile, Json.write(alert));
+            line(alertsFile, PublishedAlert.json(alert, cellsOf(alert.stream())));
+        }
+
+        private SmallCellPolicy cellsOf(String stream) {
+            return MonitorDefinition.ofStream(monitors, stream).outputs().smallCells();
         }
 
         private static void line(Writer writer, String json) {

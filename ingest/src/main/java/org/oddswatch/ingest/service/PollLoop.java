@@ -387,6 +387,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
                 for (String stream : state.pipeline.streams()) {
                     streamActivity.remove(stream);
                 }
+                state.pipeline.release(); // the streams' series leave /metrics with them
             }
         }
         snapshot = buildSnapshot();

@@ -11,9 +11,14 @@ import java.util.concurrent.atomic.AtomicInteger;
  * The service's own meters (the pipeline registers the per-stream ones; the Kafka clients' metrics
  * are bound separately): {@code oddswatch.service.records} by {@code phase} (live or rebuild),
  * {@code oddswatch.service.rebuilds} (partitions rebuilt), {@code oddswatch.service.rebuild.duration}
- * and the {@code oddswatch.service.ready} gauge (1 when ready).
+ * and the {@code oddswatch.service.ready} gauge (1 when ready). Each carries the tag
+ * {@value #SERVICE_INSTANCE} (the service's instance name): not {@code instance}, which Prometheus
+ * sets to the scrape target and would rename to {@code exported_instance}.
  */
 final class ServiceMeters {
+
+    /** Tag of the service's instance name on the service's and the Kafka clients' meters. */
+    static final String SERVICE_INSTANCE = "service_instance";
 
     private final Counter live;
     private final Counter rebuild;
@@ -26,15 +31,15 @@ final class ServiceMeters {
     private final Timer apply;
 
     ServiceMeters(MeterRegistry registry, String instance) {
-        live = Counter.builder("oddswatch.service.records").tag("phase", "live").tag("instance", instance)
+        live = Counter.builder("oddswatch.service.records").tag("phase", "live").tag(SERVICE_INSTANCE, instance)
                 .description("input records consumed").register(registry);
-        rebuild = Counter.builder("oddswatch.service.records").tag("phase", "rebuild").tag("instance", instance)
+        rebuild = Counter.builder("oddswatch.service.records").tag("phase", "rebuild").tag(SERVICE_INSTANCE, instance)
                 .description("input records consumed").register(registry);
-        rebuilds = Counter.builder("oddswatch.service.rebuilds").tag("instance", instance)
+        rebuilds = Counter.builder("oddswatch.service.rebuilds").tag(SERVICE_INSTANCE, instance)
                 .description("partitions whose state was rebuilt").register(registry);
-        rebuildDuration = Timer.builder("oddswatch.service.rebuild.duration").tag("instance", instance)
+        rebuildDuration = Timer.builder("oddswatch.service.rebuild.duration").tag(SERVICE_INSTANCE, instance)
                 .description("time to rebuild one partition's state").register(registry);
-        Gauge.builder("oddswatch.service.ready", ready, AtomicInteger::get).tag("instance", instance)
+        Gauge.builder("oddswatch.service.ready", ready, AtomicInteger::get).tag(SERVICE_INSTANCE, instance)
                 .description("1 once state is rebuilt and the service is live").register(registry);
         poll = loopTimer(registry, instance, "poll");
         read = loopTimer(registry, instance, "read");
@@ -43,7 +48,7 @@ final class ServiceMeters {
     }
 
     private static Timer loopTimer(MeterRegistry registry, String instance, String step) {
-        return Timer.builder("oddswatch.service.loop").tag("step", step).tag("instance", instance)
+        return Timer.builder("oddswatch.service.loop").tag("step", step).tag(SERVICE_INSTANCE, instance)
                 .description("time per polled batch in one step of the poll loop or its worker").register(registry);
     }
 

@@ -197,13 +197,13 @@ class ServiceRejectsAndHttpTest {
             assertEquals(200, metrics.statusCode());
             assertTrue(metrics.headers().firstValue("Content-Type").orElse("").startsWith("text/plain"));
             assertPrometheusText(metrics.body());
-            assertTrue(metrics.body().contains("oddswatch_service_records_total{instance=\"http\",phase=\"live\"} 500.0"),
+            assertTrue(metrics.body().contains("oddswatch_service_records_total{phase=\"live\",service_instance=\"http\"} 500.0"),
                     "live record counter");
             assertTrue(metrics.body().contains("kafka_consumer_fetch_manager_records_consumed_total"),
                     "Kafka client metrics are bound");
             for (String step : List.of("poll", "read", "wait", "apply")) {
                 java.util.regex.Matcher count = java.util.regex.Pattern.compile(
-                        "oddswatch_service_loop_seconds_count\\{instance=\"http\",step=\"" + step + "\"} ([0-9.E]+)")
+                        "oddswatch_service_loop_seconds_count\\{service_instance=\"http\",step=\"" + step + "\"} ([0-9.E]+)")
                         .matcher(metrics.body());
                 assertTrue(count.find(), "loop timer of step " + step);
                 assertTrue(Double.parseDouble(count.group(1)) >= 1, "at least one batch timed in step " + step);
