@@ -206,6 +206,7 @@ public final class EventDecoder {
             splitValue = scalarText(values, splitSlot);
         }
 
+        long absentTerms = 0;
         for (int t = 0; t < termFields.length; t++) {
             int slot = slots[firstTerm + t];
             if (values.isContainer(slot)) {
@@ -213,6 +214,9 @@ public final class EventDecoder {
                         + ", found " + (values.kinds[slot] == FieldValues.ARRAY ? "a list" : "an object"));
             }
             raw[t] = plain(values, slot);
+            if (raw[t] == null && t < Long.SIZE) {
+                absentTerms |= 1L << t;
+            }
         }
         double[] row = new double[coder.width()];
         CodingOutcome coding = coder.code(raw, row);
@@ -222,7 +226,7 @@ public final class EventDecoder {
         String missingDetail = coding.isOk() ? null : coding.term() + ": " + coding.detail();
         int stratum = stratumCoding == null ? -1 : stratumCoding.levelIndex(raw[stratumTerm]);
         return new Result(new DecodedEvent(id, time, positive, splitValue, coding.isOk() ? row : null, stratum,
-                missingDetail), null);
+                missingDetail, absentTerms), null);
     }
 
     private static Result reject(String reason, String detail) {

@@ -309,6 +309,9 @@ public final class MonitorPipeline {
         count(stream.counts(), outcome, suppress);
         if (!suppress) {
             listener.onOutcome(route.monitor.name(), stream.name(), outcome);
+            if (outcome.accepted()) {
+                listener.onAccepted(route.monitor.name(), stream.name(), event);
+            }
         }
         if (!suppress && (outcome.outcome() == Outcome.REJECTED || outcome.outcome() == Outcome.LATE)) {
             listener.onReject(new RejectedRecord(route.monitor.name(), stream.name(), outcome.outcome(),
