@@ -117,10 +117,9 @@ public final class AlertEngine {
             return List.of();
         }
         if (overlapsBaseline(estimate.windowStart().toEpochMilli(), estimate.windowEnd().toEpochMilli())) {
-            for (WindowRule rule : windowRules) {
-                unjudged(rule.name(), GapReason.BASELINE_PERIOD, estimate.windowEnd(), "the window overlaps the "
-                        + "baseline period " + baseline.periodStart() + " to " + baseline.periodEnd()
-                        + ", whose events are the baseline itself");
+            if (!windowRules.isEmpty()) {
+                unjudged(null, GapReason.BASELINE_PERIOD, estimate.windowEnd(), inBaselinePeriod(baseline.periodStart(),
+                        baseline.periodEnd()));
             }
             return List.of();
         }
@@ -147,9 +146,18 @@ public final class AlertEngine {
         return reason == null ? GapReason.NO_ESTIMATE : reason;
     }
 
-    /** Counts a window once per rule and reason (a rule with several subjects reads it several times). */
+    /** Why no rule judges a window overlapping the baseline period, in words. */
+    public static String inBaselinePeriod(Object from, Object to) {
+        return "the window overlaps the baseline period " + from + " to " + to
+                + ", whose events are the baseline itself";
+    }
+
+    /**
+     * Counts a window once per rule and reason (a rule with several subjects reads it several
+     * times); a null rule stands for every rule.
+     */
     private void unjudged(String rule, GapReason reason, Instant windowEnd, String detail) {
-        Unjudged u = unjudged.computeIfAbsent(List.of(rule, reason), k -> new Unjudged());
+        Unjudged u = unjudged.computeIfAbsent(java.util.Arrays.asList(rule, reason), k -> new Unjudged());
         if (!windowEnd.equals(u.lastWindowEnd)) {
             u.windows++;
             u.lastWindowEnd = windowEnd;

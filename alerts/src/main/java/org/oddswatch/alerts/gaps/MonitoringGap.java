@@ -13,14 +13,15 @@ import java.util.Objects;
  *   <li>{@link Scope#BASELINE}: the baseline failed, is weak, unreadable or still pending;</li>
  *   <li>{@link Scope#RULE}: a rule does not run on the stream ({@code subject} is the rule);</li>
  *   <li>{@link Scope#WINDOWS}: final windows a running rule did not judge ({@code subject} is the
- *       rule, {@code windows} how many, {@code detail} the latest reason in words);</li>
+ *       rule, or null for every rule, {@code windows} how many, {@code detail} the newest reason in
+ *       words);</li>
  *   <li>{@link Scope#TERM}: a term without a value in every accepted event ({@code subject} is the term).</li>
  * </ul>
  * Details never hold record values: they name terms, rules, counts, fit states and periods only.
  *
  * @param stream the stream
  * @param scope what is not monitored
- * @param subject the rule or term concerned, or null for the baseline
+ * @param subject the rule or term concerned, or null for the baseline (and for windows no rule judged)
  * @param reason a code from a fixed set
  * @param detail the reason in words
  * @param windows for {@link Scope#WINDOWS}, the final windows not judged; otherwise null
@@ -81,7 +82,7 @@ public record MonitoringGap(String stream, Scope scope, String subject, GapReaso
         String what = switch (scope) {
             case BASELINE -> reason == GapReason.BASELINE_WEAK ? "baseline weak (rules run on it)" : "no baseline in use";
             case RULE -> "rule " + subject + " not running";
-            case WINDOWS -> windows + " final window(s) not judged by " + subject;
+            case WINDOWS -> windows + " final window(s) not judged by " + (subject == null ? "any rule" : subject);
             case TERM -> "term " + subject + " missing from every event";
         };
         return stream + ": " + what + " [" + reason.code() + "]" + (detail == null ? "" : ": " + detail);

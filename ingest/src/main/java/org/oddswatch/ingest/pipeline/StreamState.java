@@ -82,6 +82,10 @@ final class StreamState {
     /** Accepted events, and a bit per term (first 64) set once an accepted event had a value for it. */
     private long acceptedEvents;
     private long termsWithValues;
+    /** Final windows no rule judged: overlapping the fixed baseline period, or before it froze. */
+    private long windowsInBaselinePeriod;
+    private long windowsBeforeFreeze;
+    private Instant lastUnjudgedEnd;
     /** Rule gaps while the fixed baseline period is open (no engine yet), computed once. */
     private List<MonitoringGap> pendingRuleGaps;
     private List<PendingEvent> pending;
@@ -290,8 +294,13 @@ final class StreamState {
             listener.onEstimate(estimate);
             listener.onFinalFit(estimate, fitNanos);
         }
-        if (engine != null && !overlapsBaselinePeriod(start, stop)) {
+        if (overlapsBaselinePeriod(start, stop)) {
+            windowsInBaselinePeriod++;
+        } else if (engine != null) {
             emitAlerts(engine.onFinalEstimate(estimate), suppress);
+        } else {
+            windowsBeforeFreeze++;
+            lastUnjudgedEnd = stop;
         }
     }
 
@@ -408,6 +417,15 @@ final class StreamState {
                 pendingRuleGaps = new AlertEngine(name, monitor.rules(), null, null).gaps(noBaseline, noBaselineDetail);
             }
             gaps.addAll(pendingRuleGaps);
+        }
+        if (windowsInBaselinePeriod > 0) {
+            gaps.add(MonitoringGap.windows(name, null, GapReason.BASELINE_PERIOD, AlertEngine.inBaselinePeriod(
+                    monitor.baseline().from(), monitor.baseline().to()), windowsInBaselinePeriod));
+        }
+        if (windowsBeforeFreeze > 0) {
+            gaps.add(MonitoringGap.windows(name, null, GapReason.BASELINE_PENDING, "the window closed before the "
+                    + "baseline period " + monitor.baseline().from() + " to " + monitor.baseline().to() + " did (newest: "
+                    + "the window ending " + lastUnjudgedEnd + ")", windowsBeforeFreeze));
         }
         if (acceptedEvents > 0) {
             for (int t = 0; t < Math.min(Long.SIZE, monitor.terms().size()); t++) {
