@@ -39,15 +39,17 @@ public final class InformationGuard {
     }
 
     /**
-     * The code of {@link #refusal}: {@link GapReason#NO_FIT}, {@link GapReason#FIT_UNUSABLE} or
-     * {@link GapReason#TOO_FEW_EVENTS}; null when the window may be used.
+     * The code of {@link #refusal}: {@link GapReason#NO_FIT} (no fit, or {@code no-model}),
+     * {@link GapReason#TOO_FEW_EVENTS} (state {@code too-few-events}, or fewer events than the
+     * guard's minimum), else {@link GapReason#FIT_UNUSABLE}; null when the window may be used.
      */
     public GapReason refusalReason(FitSummary fit, long events) {
         if (fit == null) {
             return GapReason.NO_FIT;
         }
         if (!fitted(fit)) {
-            return fit.state() == FitState.NO_MODEL ? GapReason.NO_FIT : GapReason.FIT_UNUSABLE;
+            return fit.state() == FitState.NO_MODEL ? GapReason.NO_FIT
+                    : fit.state() == FitState.TOO_FEW_EVENTS ? GapReason.TOO_FEW_EVENTS : GapReason.FIT_UNUSABLE;
         }
         return events < guard.minEvents() ? GapReason.TOO_FEW_EVENTS : null;
     }
