@@ -65,7 +65,7 @@ final class BaselineCommand implements Callable<Integer> {
         if (!from.isBefore(to)) {
             throw UserError.config("--from must lie before --to");
         }
-        MonitorConfig definition = Definitions.load(config);
+        MonitorConfig definition = Definitions.load(config, spec.commandLine().getErr());
         if (monitor != null && definition.monitor(monitor) == null) {
             throw UserError.config("no monitor named '" + monitor + "' in " + config);
         }

@@ -55,7 +55,7 @@ final class ReplayCommand implements Callable<Integer> {
         if (from != null && to != null && !from.isBefore(to)) {
             throw UserError.config("--from must lie before --to");
         }
-        MonitorConfig definition = Definitions.load(config);
+        MonitorConfig definition = Definitions.load(config, spec.commandLine().getErr());
         InputFormat inputFormat = format == null ? null : parseFormat(format);
         ReplaySummary summary;
         if (input.file != null) {

@@ -220,6 +220,8 @@ class CommandLineTest {
         Result replay = run("replay", "--config", definition.toString(), "--input", events.toString(), "--out",
                 dir.resolve("out").toString());
         assertEquals(0, replay.status(), replay.err());
+        assertTrue(replay.err().contains("note: " + definition + ": monitor clinic: monitors[0].rules.calibration is "
+                + "not listed, so it runs with its defaults"), replay.err());
         for (Result r : List.of(check, replay)) {
             assertTrue(r.out().contains("not monitored (7"), r.out());
             for (String line : List.of(
