@@ -29,7 +29,7 @@ public final class BaselineInformation {
     }
 
     /** A count from 1 to 4 as {@code <5} (the small-cell rule of every output), else the count. */
-    static String withheld(long n) {
+    public static String withheld(long n) {
         return n > 0 && n < 5 ? "<5" : Long.toString(n);
     }
 

@@ -430,8 +430,9 @@ final class StreamState {
         if (acceptedEvents > 0) {
             for (int t = 0; t < Math.min(Long.SIZE, monitor.terms().size()); t++) {
                 if ((termsWithValues & (1L << t)) == 0) {
-                    gaps.add(MonitoringGap.term(name, monitor.terms().get(t).name(), "none of the " + acceptedEvents
-                            + " accepted event(s) has a value for it, so every event is left out of the model fit"));
+                    gaps.add(MonitoringGap.term(name, monitor.terms().get(t).name(), "none of the "
+                            + BaselineInformation.withheld(acceptedEvents) + " accepted event(s) has a value for it, so "
+                            + "every event is left out of the model fit"));
                 }
             }
         }
