@@ -6,6 +6,8 @@ import java.util.ArrayList;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
+import org.oddswatch.alerts.gaps.GapReason;
+import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.lifecycle.AlertState;
 import org.oddswatch.alerts.lifecycle.AlertText;
@@ -22,6 +24,7 @@ import org.oddswatch.alerts.rules.OddsRatioBoundsRule;
 import org.oddswatch.alerts.rules.OddsRatioDriftRule;
 import org.oddswatch.alerts.rules.Reading;
 import org.oddswatch.alerts.rules.WindowRule;
+import org.oddswatch.alerts.rules.Zone;
 import org.oddswatch.estimator.calibration.BaselineModel;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.estimator.result.WindowStatus;
@@ -47,6 +50,18 @@ public final class AlertEngine {
     private final Map<String, Alert> lastByKey = new LinkedHashMap<>();
     private final long baselineFrom;
     private final long baselineTo;
+    private final AlertRulesConfig rules;
+    /** The guard of each window rule, by rule name, to tell why a window was not judged. */
+    private final Map<String, InformationGuard> guards = new LinkedHashMap<>();
+    /** Final windows a running rule did not judge, by rule and reason, in first-seen order. */
+    private final Map<List<Object>, Unjudged> unjudged = new LinkedHashMap<>();
+
+    /** Windows one rule did not judge for one reason: how many, the newest one's end and reason in words. */
+    private static final class Unjudged {
+        long windows;
+        Instant lastWindowEnd;
+        String detail;
+    }
 
     /**
      * @param stream the stream name
@@ -70,17 +85,18 @@ public final class AlertEngine {
         this.replay = replay == null ? new ReplayHint(null, null, null) : replay;
         this.tracker = new EpisodeTracker(stream);
         AlertRulesConfig r = rules == null ? AlertRulesConfig.defaults() : rules;
+        this.rules = r;
         if (baseline != null && r.oddsRatioDrift() != null) {
             windowRules.add(new OddsRatioDriftRule(r.oddsRatioDrift(),
-                    new InformationGuard(r.guardFor(r.oddsRatioDrift().guard())), baseline));
+                    guard(OddsRatioDriftRule.NAME, r.guardFor(r.oddsRatioDrift().guard())), baseline));
         }
         if (r.oddsRatioBounds() != null) {
             windowRules.add(new OddsRatioBoundsRule(r.oddsRatioBounds(),
-                    new InformationGuard(r.guardFor(r.oddsRatioBounds().guard()))));
+                    guard(OddsRatioBoundsRule.NAME, r.guardFor(r.oddsRatioBounds().guard()))));
         }
         if (baseline != null && r.calibration() != null) {
             windowRules.add(new CalibrationRule(r.calibration(),
-                    new InformationGuard(r.guardFor(r.calibration().guard()))));
+                    guard(CalibrationRule.NAME, r.guardFor(r.calibration().guard()))));
         }
         cusum = baseline != null && r.cusum() != null
                 ? new BernoulliCusumRule(r.cusum(), new InformationGuard(r.guardFor(r.cusum().guard())), baseline,
@@ -88,6 +104,12 @@ public final class AlertEngine {
                 : null;
         baselineFrom = baseline == null ? Long.MAX_VALUE : parse(baseline.periodStart(), Long.MAX_VALUE);
         baselineTo = baseline == null ? Long.MIN_VALUE : parse(baseline.periodEnd(), Long.MIN_VALUE);
+    }
+
+    private InformationGuard guard(String rule, AlertRulesConfig.Guard settings) {
+        InformationGuard guard = new InformationGuard(settings);
+        guards.put(rule, guard);
+        return guard;
     }
 
     private static long parse(String instant, long fallback) {
@@ -104,17 +126,82 @@ public final class AlertEngine {
 
     /** Window rules (odds-ratio drift and bounds, calibration) on one final estimate. */
     public List<Alert> onFinalEstimate(WindowEstimate estimate) {
-        if (estimate.status() != WindowStatus.FINAL || !stream.equals(estimate.stream())
-                || overlapsBaseline(estimate.windowStart().toEpochMilli(), estimate.windowEnd().toEpochMilli())) {
+        if (estimate.status() != WindowStatus.FINAL || !stream.equals(estimate.stream())) {
+            return List.of();
+        }
+        if (overlapsBaseline(estimate.windowStart().toEpochMilli(), estimate.windowEnd().toEpochMilli())) {
+            if (!windowRules.isEmpty()) {
+                unjudged(null, GapReason.BASELINE_PERIOD, estimate.windowEnd(), inBaselinePeriod(baseline.periodStart(),
+                        baseline.periodEnd()));
+            }
             return List.of();
         }
         List<Alert> out = new ArrayList<>();
         for (WindowRule rule : windowRules) {
             for (Reading reading : rule.evaluate(estimate)) {
+                if (reading.zone() == Zone.UNKNOWN) {
+                    unjudged(rule.name(), whyUnknown(rule.name(), estimate, reading), estimate.windowEnd(),
+                            reading.detail());
+                }
                 publishable(reading, out);
             }
         }
         return out;
+    }
+
+    /** The code of a guard's refusal, else {@link GapReason#NO_ESTIMATE} (a figure the rule reads is missing). */
+    private GapReason whyUnknown(String rule, WindowEstimate estimate, Reading reading) {
+        if (CalibrationRule.NAME.equals(rule) && estimate.calibration() == null) {
+            return estimate.fit() == null ? GapReason.NO_FIT : GapReason.NO_ESTIMATE;
+        }
+        InformationGuard guard = guards.get(rule);
+        GapReason reason = guard == null ? null : guard.refusalReason(estimate.fit(), reading.events());
+        return reason == null ? GapReason.NO_ESTIMATE : reason;
+    }
+
+    /** Why no rule judges a window overlapping the baseline period, in words. */
+    public static String inBaselinePeriod(Object from, Object to) {
+        return "the window overlaps the baseline period " + from + " to " + to
+                + ", whose events are the baseline itself";
+    }
+
+    /**
+     * Counts a window once per rule and reason (a rule with several subjects reads it several
+     * times); a null rule stands for every rule.
+     */
+    private void unjudged(String rule, GapReason reason, Instant windowEnd, String detail) {
+        Unjudged u = unjudged.computeIfAbsent(java.util.Arrays.asList(rule, reason), k -> new Unjudged());
+        if (!windowEnd.equals(u.lastWindowEnd)) {
+            u.windows++;
+            u.lastWindowEnd = windowEnd;
+        }
+        u.detail = detail;
+    }
+
+    /**
+     * What this stream's rules do not monitor: every rule that is off (switched off in the
+     * definition, or needing a baseline the stream does not have), then the final windows each
+     * running rule did not judge, by reason, with the newest reason in words.
+     *
+     * @param noBaseline why the stream has no baseline, when it has none (for example
+     *     {@link GapReason#BASELINE_FAILED}); ignored when it has one
+     * @param noBaselineDetail the same in words
+     */
+    public List<MonitoringGap> gaps(GapReason noBaseline, String noBaselineDetail) {
+        List<MonitoringGap> gaps = new ArrayList<>();
+        for (AlertRulesConfig.RuleSwitch rule : rules.switches()) {
+            if (!rule.on()) {
+                gaps.add(MonitoringGap.rule(stream, rule.rule(), rule.offReason(), rule.offDetail()));
+            } else if (rule.needsBaseline() && baseline == null) {
+                gaps.add(MonitoringGap.rule(stream, rule.rule(), noBaseline, noBaselineDetail));
+            }
+        }
+        for (Map.Entry<List<Object>, Unjudged> e : unjudged.entrySet()) {
+            gaps.add(MonitoringGap.windows(stream, (String) e.getKey().get(0), (GapReason) e.getKey().get(1),
+                    e.getValue().detail + " (newest: the window ending " + e.getValue().lastWindowEnd + ")",
+                    e.getValue().windows));
+        }
+        return gaps;
     }
 
     private boolean overlapsBaseline(long from, long to) {

@@ -11,6 +11,7 @@ import java.util.Comparator;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
+import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.lifecycle.AlertText;
 import org.oddswatch.alerts.privacy.SmallCellPolicy;
@@ -23,7 +24,10 @@ import org.oddswatch.estimator.result.WindowStatus;
 /**
  * Writes {@code report.md} for a replay folder: per stream, one table row per final window (events,
  * positives, prevalence with interval, watched odds ratios with intervals, alerts whose window ends
- * there), then the alerts in order. Deterministic: the same inputs give a byte-identical file.
+ * there), then the alerts in order. Before the streams, a section "Not monitored" lists every
+ * {@link MonitoringGap} with its reason (a failed or weak baseline, a rule that does not run,
+ * windows a rule did not judge, a term missing from every event), or says that there is none.
+ * Deterministic: the same inputs give a byte-identical file.
  *
  * <p>Small counts follow the {@link SmallCellPolicy} of every published output (default limit 5):
  * a count from 1 to 4 is withheld and shown as {@code <5}; positives are also withheld when the
@@ -38,16 +42,28 @@ public final class ReplayReport {
 
     /** Writes {@code dir/report.md} (creating {@code dir}) with the default small-cell limit. */
     public static Path write(Path dir, List<WindowEstimate> estimates, List<Alert> alerts, String title) {
-        return write(dir, estimates, alerts, title, SmallCellPolicy.DEFAULT);
+        return write(dir, estimates, alerts, null, title, SmallCellPolicy.DEFAULT);
     }
 
-    /** Writes {@code dir/report.md} (creating {@code dir}) and returns its path. */
+    /** Writes {@code dir/report.md} (creating {@code dir}) without a "Not monitored" section. */
     public static Path write(Path dir, List<WindowEstimate> estimates, List<Alert> alerts, String title,
                              SmallCellPolicy cells) {
+        return write(dir, estimates, alerts, null, title, cells);
+    }
+
+    /** Writes {@code dir/report.md} with its "Not monitored" section and the default small-cell limit. */
+    public static Path write(Path dir, List<WindowEstimate> estimates, List<Alert> alerts, List<MonitoringGap> gaps,
+                             String title) {
+        return write(dir, estimates, alerts, gaps, title, SmallCellPolicy.DEFAULT);
+    }
+
+    /** Writes {@code dir/report.md} with its "Not monitored" section (none when {@code gaps} is null). */
+    public static Path write(Path dir, List<WindowEstimate> estimates, List<Alert> alerts, List<MonitoringGap> gaps,
+                             String title, SmallCellPolicy cells) {
         Path file = dir.resolve("report.md");
         try {
             Files.createDirectories(dir);
-            Files.writeString(file, render(estimates, alerts, title, cells), StandardCharsets.UTF_8);
+            Files.writeString(file, render(estimates, alerts, gaps, title, cells), StandardCharsets.UTF_8);
         } catch (IOException e) {
             throw new UncheckedIOException("cannot write " + file, e);
         }
@@ -56,18 +72,33 @@ public final class ReplayReport {
 
     /** The report text with the default small-cell limit. */
     public static String render(List<WindowEstimate> estimates, List<Alert> alerts, String title) {
-        return render(estimates, alerts, title, SmallCellPolicy.DEFAULT);
+        return render(estimates, alerts, null, title, SmallCellPolicy.DEFAULT);
     }
 
-    /** The report text. */
+    /** The report text without a "Not monitored" section. */
     public static String render(List<WindowEstimate> estimates, List<Alert> alerts, String title,
                                 SmallCellPolicy cells) {
+        return render(estimates, alerts, null, title, cells);
+    }
+
+    /** The report text with its "Not monitored" section and the default small-cell limit. */
+    public static String render(List<WindowEstimate> estimates, List<Alert> alerts, List<MonitoringGap> gaps,
+                                String title) {
+        return render(estimates, alerts, gaps, title, SmallCellPolicy.DEFAULT);
+    }
+
+    /** The report text with its "Not monitored" section (none when {@code gaps} is null). */
+    public static String render(List<WindowEstimate> estimates, List<Alert> alerts, List<MonitoringGap> gaps,
+                                String title, SmallCellPolicy cells) {
         StringBuilder b = new StringBuilder();
         b.append("# ").append(title == null || title.isBlank() ? "oddswatch replay" : title).append("\n\n");
         b.append(AlertText.CAUTION).append(" Figures describe the events in the replayed input only.\n\n");
         b.append("Counts from 1 to ").append(cells.limit() - 1).append(" are withheld and shown as `").append(cells.withheldLabel())
                 .append("`, and so are figures resting on them (common small-cell practice; local disclosure rules govern).")
                 .append(" Windows are half-open, start included and end excluded; intervals are those of the estimates.\n");
+        if (gaps != null) {
+            gaps(b, gaps);
+        }
         Map<String, List<WindowEstimate>> byStream = new LinkedHashMap<>();
         estimates.stream().filter(e -> e.status() == WindowStatus.FINAL)
                 .sorted(Comparator.comparing(WindowEstimate::stream).thenComparing(WindowEstimate::windowEnd))
@@ -89,6 +120,20 @@ public final class ReplayReport {
             alertList(b, streamAlerts, cells);
         }
         return b.toString();
+    }
+
+    private static void gaps(StringBuilder b, List<MonitoringGap> gaps) {
+        b.append("\n## Not monitored\n\n");
+        if (gaps.isEmpty()) {
+            b.append("Nothing: every stream had its baseline, every rule ran and judged every final window, and every"
+                    + " term had values.\n");
+            return;
+        }
+        b.append("A stream listed here was not watched as the definition intends; alerts cannot come from what is not"
+                + " monitored. Reason codes in brackets.\n\n");
+        for (MonitoringGap gap : gaps) {
+            b.append("- ").append(gap.describe()).append('\n');
+        }
     }
 
     private static void windows(StringBuilder b, List<WindowEstimate> windows, List<Alert> alerts,

@@ -41,7 +41,7 @@ final class RunCommand implements Callable<Integer> {
 
     @Override
     public Integer call() throws Exception {
-        MonitorConfig loaded = Definitions.load(config);
+        MonitorConfig loaded = Definitions.load(config, spec.commandLine().getErr());
         MonitorConfig definition = http == null ? loaded : withHttp(loaded, http);
         InetSocketAddress address;
         try {

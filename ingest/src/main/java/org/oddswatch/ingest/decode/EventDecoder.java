@@ -222,6 +222,7 @@ public final class EventDecoder {
             }
         }
 
+        long absentTerms = 0;
         for (int t = 0; t < termFields.length; t++) {
             int slot = slots[firstTerm + t];
             if (values.isContainer(slot)) {
@@ -229,6 +230,9 @@ public final class EventDecoder {
                         + ", found " + (values.kinds[slot] == FieldValues.ARRAY ? "a list" : "an object"));
             }
             raw[t] = plain(values, slot);
+            if (raw[t] == null && t < Long.SIZE) {
+                absentTerms |= 1L << t;
+            }
         }
         double[] row = new double[coder.width()];
         CodingOutcome coding = coder.code(raw, row);
@@ -250,7 +254,7 @@ public final class EventDecoder {
                 : coding.term() + ": " + coding.detail();
         int stratum = stratumCoding == null ? -1 : stratumCoding.levelIndex(raw[stratumTerm]);
         return new Result(new DecodedEvent(id, time, positive, splitValue, coding.isOk() ? row : null, stratum,
-                missingDetail), null);
+                missingDetail, absentTerms), null);
     }
 
     /** The index of the numeric term whose value {@code coding} rejected as not a number, or -1. */

@@ -3,11 +3,13 @@ package org.oddswatch.ingest.definition;
 import com.fasterxml.jackson.databind.DeserializationFeature;
 import com.fasterxml.jackson.databind.JsonMappingException;
 import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.node.ObjectNode;
 import java.io.IOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Duration;
 import java.time.Instant;
+import java.util.ArrayList;
 import java.util.List;
 import java.util.Map;
 import java.util.Set;
@@ -53,11 +55,12 @@ final class MonitorReader {
         WindowSpec window = window(node.require("window"));
         EstimateSpec estimates = estimates(node.get("estimates"), terms);
         BaselineSpec baseline = baseline(node.get("baseline"), window);
-        AlertRulesConfig rules = rules(node.get("rules"), terms);
+        List<String> notices = new ArrayList<>();
+        AlertRulesConfig rules = rules(node.get("rules"), terms, notices);
         OutputSpec outputs = outputs(node.get("outputs"));
         String checksum = DefinitionChecksum.of(event.outcome(), terms);
         return new MonitorDefinition(name, topic, event, split, terms, window, estimates, baseline, rules, outputs,
-                definitionDir, checksum);
+                definitionDir, checksum, notices);
     }
 
     private static EventSpec event(DefNode event) throws DefinitionException {
@@ -222,7 +225,8 @@ final class MonitorReader {
      * Binds {@code rules} into the alert engine's settings (unknown keys are errors), and checks that
      * every {@code term}/{@code terms} value in it names a declared, watched term.
      */
-    private static AlertRulesConfig rules(DefNode node, List<TermSpec> terms) throws DefinitionException {
+    private static AlertRulesConfig rules(DefNode node, List<TermSpec> terms, List<String> notices)
+            throws DefinitionException {
         if (!node.present()) {
             return AlertRulesConfig.defaults();
         }
@@ -231,11 +235,12 @@ final class MonitorReader {
             throw node.error("expected a mapping of rule settings");
         }
         checkTermReferences(node, terms);
+        ObjectNode bound = switchedOn(node, notices);
         try {
             return Json.mapper().readerFor(AlertRulesConfig.class)
                     .with(DeserializationFeature.FAIL_ON_UNKNOWN_PROPERTIES)
                     .without(DeserializationFeature.ACCEPT_FLOAT_AS_INT)
-                    .readValue(json);
+                    .readValue(bound);
         } catch (JsonMappingException e) {
             StringBuilder path = new StringBuilder(node.path());
             for (JsonMappingException.Reference ref : e.getPath()) {
@@ -305,6 +310,46 @@ final class MonitorReader {
             return "a list";
         }
         return value.isNull() ? "nothing" : "'" + value.asText() + "'";
+    }
+
+    /** Rule sections that run with their defaults unless switched off. */
+    private static final List<String> DEFAULT_ON = List.of("oddsRatioDrift", "calibration", "cusum");
+    private static final List<String> SECTIONS = List.of("oddsRatioDrift", "oddsRatioBounds", "calibration", "cusum");
+
+    /**
+     * Which rules run: every rule with defaults (drift, calibration, CUSUM) runs unless its section
+     * says {@code enabled: false}; the bounds rule runs when its section is there (it has no
+     * defaults) and not switched off. Returns the mapping to bind: sections switched off removed,
+     * unlisted default rules added as empty sections, {@code enabled} keys dropped. Definitions
+     * written when an unlisted section meant "off" now run that rule: each such section gets a
+     * notice saying so and how to keep it off.
+     */
+    private static ObjectNode switchedOn(DefNode node, List<String> notices) throws DefinitionException {
+        ObjectNode bound = ((ObjectNode) node.json()).deepCopy();
+        for (String section : SECTIONS) {
+            DefNode child = node.get(section);
+            if (!child.present()) {
+                if (DEFAULT_ON.contains(section)) {
+                    bound.putObject(section);
+                    notices.add(node.path() + "." + section + " is not listed, so it runs with its defaults (until "
+                            + "this version an unlisted rule was off); write '" + section
+                            + ": {enabled: false}' to switch it off");
+                }
+                continue;
+            }
+            if (!child.json().isObject()) {
+                continue; // the binding names the key and the problem
+            }
+            DefNode enabled = child.get("enabled");
+            if (enabled.present()) {
+                ObjectNode settings = (ObjectNode) bound.get(section);
+                settings.remove("enabled");
+                if (!enabled.bool(true)) {
+                    bound.remove(section);
+                }
+            }
+        }
+        return bound;
     }
 
     private static void checkTermReferences(DefNode node, List<TermSpec> terms) throws DefinitionException {

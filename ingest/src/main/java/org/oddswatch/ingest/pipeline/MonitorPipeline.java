@@ -287,8 +287,9 @@ public final class MonitorPipeline {
      * stream, to the listener, to rejects), and once all streams holding the record decided, in the
      * record totals.
      */
-    private void resolved(StreamState stream, HeldRecord record, RecordOutcome outcome, boolean suppress) {
-        report(stream, outcome, record.original, record.origin, suppress);
+    private void resolved(StreamState stream, HeldRecord record, DecodedEvent event, RecordOutcome outcome,
+                          boolean suppress) {
+        report(stream, outcome, event, record.original, record.origin, suppress);
         record.holders--;
         record.merge(outcome);
         if (!record.inOffer && record.decided()) {
@@ -301,11 +302,14 @@ public final class MonitorPipeline {
         }
     }
 
-    private void report(StreamState stream, RecordOutcome outcome, byte[] original, RecordOrigin origin,
-                        boolean suppress) {
+    private void report(StreamState stream, RecordOutcome outcome, DecodedEvent event, byte[] original,
+                        RecordOrigin origin, boolean suppress) {
         count(stream.counts(), outcome, suppress);
         if (!suppress) {
             listener.onOutcome(stream.monitorName(), stream.name(), outcome);
+            if (outcome.accepted()) {
+                listener.onAccepted(stream.monitorName(), stream.name(), event);
+            }
         }
         if (!suppress && (outcome.outcome() == Outcome.REJECTED || outcome.outcome() == Outcome.LATE)) {
             listener.onReject(new RejectedRecord(stream.monitorName(), stream.name(), outcome.outcome(),
@@ -365,7 +369,7 @@ public final class MonitorPipeline {
             stream.hold(event, heldNow, suppress);
             return outcome;
         }
-        report(stream, outcome, original, origin, suppress);
+        report(stream, outcome, event, original, origin, suppress);
         return outcome;
     }
 

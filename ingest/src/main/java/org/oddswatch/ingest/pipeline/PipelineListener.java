@@ -4,6 +4,7 @@ import java.util.List;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.rules.CusumReading;
 import org.oddswatch.estimator.result.WindowEstimate;
+import org.oddswatch.ingest.decode.DecodedEvent;
 
 /**
  * Receives a pipeline's output, on the thread that called the pipeline. Write JSON with
@@ -21,6 +22,14 @@ public interface PipelineListener {
 
     /** An alert message (raised, continuing or cleared). */
     default void onAlert(Alert alert) {
+    }
+
+    /**
+     * An event a stream accepted (passed the time rules, the stream cap and dedupe), with its
+     * decoding: the baseline builder collects these, so it fits exactly the events the pipeline keeps.
+     * Not called while rebuilding.
+     */
+    default void onAccepted(String monitor, String stream, DecodedEvent event) {
     }
 
     // ---- for meters: none of these is called while rebuilding (suppressed output) ---------------

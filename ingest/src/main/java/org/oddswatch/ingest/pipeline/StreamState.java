@@ -5,6 +5,9 @@ import java.util.ArrayList;
 import java.util.List;
 import org.oddswatch.alerts.engine.AlertEngine;
 import org.oddswatch.alerts.engine.ReplayHint;
+import org.oddswatch.alerts.gaps.BaselineInformation;
+import org.oddswatch.alerts.gaps.GapReason;
+import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.estimator.WindowEstimator;
 import org.oddswatch.estimator.calibration.BaselineModel;
@@ -37,7 +40,7 @@ final class StreamState {
 
     /** Receives the outcome of a held event once it is decided. */
     interface HeldOutcomes {
-        void resolved(StreamState stream, HeldRecord record, RecordOutcome outcome, boolean suppress);
+        void resolved(StreamState stream, HeldRecord record, DecodedEvent event, RecordOutcome outcome, boolean suppress);
     }
 
     private static final String BASELINE_NONE = "none";
@@ -74,7 +77,18 @@ final class StreamState {
     private BaselineModel baseline;
     private String baselineState;
     private String baselineNote;
+    /** Why there is no baseline (failed or unreadable), or {@link GapReason#BASELINE_WEAK}; null otherwise. */
+    private GapReason baselineGap;
     private WindowStore baselineStore;
+    /** Accepted events, and a bit per term (first 64) set once an accepted event had a value for it. */
+    private long acceptedEvents;
+    private long termsWithValues;
+    /** Final windows no rule judged: overlapping the fixed baseline period, or before it froze. */
+    private long windowsInBaselinePeriod;
+    private long windowsBeforeFreeze;
+    private Instant lastUnjudgedEnd;
+    /** Rule gaps while the fixed baseline period is open (no engine yet), computed once. */
+    private List<MonitoringGap> pendingRuleGaps;
     private List<PendingEvent> pending;
     private List<Alert> restored = List.of();
 
@@ -100,6 +114,8 @@ final class StreamState {
             this.baseline = fileBaseline;
             this.baselineNote = fileBaselineNote;
             this.baselineState = spec == null ? BASELINE_NONE : fileBaseline != null ? BASELINE_FILE : BASELINE_FAILED;
+            this.baselineGap = spec != null && fileBaseline == null ? GapReason.BASELINE_UNREADABLE : null;
+            noteWeakness();
             this.engine = newEngine();
         }
     }
@@ -182,7 +198,7 @@ final class StreamState {
     }
 
     private void resolve(FutureHold.Held held, RecordOutcome outcome, boolean suppress) {
-        heldOutcomes.resolved(this, held.record, outcome, suppress);
+        heldOutcomes.resolved(this, held.record, held.event, outcome, suppress);
     }
 
     /** The time rules (late) and dedupe, then the store: the path of every event within the horizon. */
@@ -205,6 +221,8 @@ final class StreamState {
         if (baselineStore != null && inBaselinePeriod(time)) {
             baselineStore.add(0, event.row(), event.positive(), event.stratum());
         }
+        acceptedEvents++;
+        termsWithValues |= ~event.absentTerms();
         if (event.complete()) {
             if (engine != null) {
                 engine.onEvent(time, event.id(), event.row(), event.positive());
@@ -322,8 +340,13 @@ final class StreamState {
             listener.onEstimate(estimate);
             listener.onFinalFit(estimate, fitNanos);
         }
-        if (engine != null && !overlapsBaselinePeriod(start, stop)) {
+        if (overlapsBaselinePeriod(start, stop)) {
+            windowsInBaselinePeriod++;
+        } else if (engine != null) {
             emitAlerts(engine.onFinalEstimate(estimate), suppress);
+        } else {
+            windowsBeforeFreeze++;
+            lastUnjudgedEnd = stop;
         }
     }
 
@@ -373,10 +396,13 @@ final class StreamState {
             baseline = estimator.fitBaseline(baselineStore.window(0, 1), spec.from().toString(), spec.to().toString(),
                     monitor.checksum());
             baselineState = BASELINE_FROZEN;
+            noteWeakness();
         } catch (IllegalArgumentException e) {
             baselineState = BASELINE_FAILED;
             baselineNote = e.getMessage();
+            baselineGap = GapReason.BASELINE_FAILED;
         }
+        pendingRuleGaps = null;
         baselineStore = null;
         engine = newEngine();
         if (!restored.isEmpty()) {
@@ -402,6 +428,68 @@ final class StreamState {
         return new AlertEngine(name, monitor.rules(), baseline, replayHint, geometry, monitor.outputs().smallCells());
     }
 
+    /** Flags a baseline in use that rests on too little information ({@link BaselineInformation}). */
+    private void noteWeakness() {
+        String weakness = baseline == null ? null : BaselineInformation.weakness(baseline);
+        if (weakness != null) {
+            baselineGap = GapReason.BASELINE_WEAK;
+            baselineNote = "the baseline model rests on " + weakness;
+        }
+    }
+
+    /**
+     * What is not monitored on this stream: the baseline's problem, the rules that do not run and
+     * the windows they did not judge ({@link AlertEngine#gaps}), and the terms no accepted event had
+     * a value for.
+     */
+    List<MonitoringGap> gaps() {
+        List<MonitoringGap> gaps = new ArrayList<>();
+        GapReason noBaseline;
+        String noBaselineDetail;
+        if (BASELINE_NONE.equals(baselineState)) {
+            noBaseline = GapReason.NO_BASELINE;
+            noBaselineDetail = "the definition has no baseline section";
+        } else if (BASELINE_ACCUMULATING.equals(baselineState)) {
+            noBaseline = GapReason.BASELINE_PENDING;
+            noBaselineDetail = "the baseline period " + monitor.baseline().from() + " to " + monitor.baseline().to()
+                    + " has not closed yet";
+            gaps.add(MonitoringGap.baseline(name, noBaseline, noBaselineDetail));
+        } else {
+            noBaseline = baselineGap;
+            noBaselineDetail = baselineNote;
+            if (baselineGap != null) {
+                gaps.add(MonitoringGap.baseline(name, baselineGap, baselineNote));
+            }
+        }
+        if (engine != null) {
+            gaps.addAll(engine.gaps(noBaseline, noBaselineDetail));
+        } else {
+            if (pendingRuleGaps == null) {
+                pendingRuleGaps = new AlertEngine(name, monitor.rules(), null, null).gaps(noBaseline, noBaselineDetail);
+            }
+            gaps.addAll(pendingRuleGaps);
+        }
+        if (windowsInBaselinePeriod > 0) {
+            gaps.add(MonitoringGap.windows(name, null, GapReason.BASELINE_PERIOD, AlertEngine.inBaselinePeriod(
+                    monitor.baseline().from(), monitor.baseline().to()), windowsInBaselinePeriod));
+        }
+        if (windowsBeforeFreeze > 0) {
+            gaps.add(MonitoringGap.windows(name, null, GapReason.BASELINE_PENDING, "the window closed before the "
+                    + "baseline period " + monitor.baseline().from() + " to " + monitor.baseline().to() + " did (newest: "
+                    + "the window ending " + lastUnjudgedEnd + ")", windowsBeforeFreeze));
+        }
+        if (acceptedEvents > 0) {
+            for (int t = 0; t < Math.min(Long.SIZE, monitor.terms().size()); t++) {
+                if ((termsWithValues & (1L << t)) == 0) {
+                    gaps.add(MonitoringGap.term(name, monitor.terms().get(t).name(), "none of the "
+                            + BaselineInformation.withheld(acceptedEvents) + " accepted event(s) has a value for it, so "
+                            + "every event is left out of the model fit"));
+                }
+            }
+        }
+        return gaps;
+    }
+
     /** The baseline in use (frozen file or fixed period), or null. */
     BaselineModel baseline() {
         return baseline;
@@ -411,6 +499,7 @@ final class StreamState {
         return new StreamStatus(name, monitor.name(),
                 watermark == Long.MIN_VALUE ? null : Instant.ofEpochMilli(watermark),
                 lastFinal == null ? null : lastFinal.windowEnd(), finalWindows, baselineState, baselineNote,
-                store.bucketCount(), store.approximateBytes(), future.size(), counts.snapshot());
+                baseline == null ? null : baseline.events(), baseline == null ? null : baseline.cases(),
+                store.bucketCount(), store.approximateBytes(), future.size(), counts.snapshot(), gaps());
     }
 }

@@ -104,7 +104,7 @@ public final class ReplayRunner {
         Files.writeString(request.out().resolve(SUMMARY),
                 Json.mapper().writerWithDefaultPrettyPrinter().writeValueAsString(summary) + "\n",
                 StandardCharsets.UTF_8);
-        ReplayReport.write(request.out(), outputs.estimates, outputs.alerts, title(monitors, request),
+        ReplayReport.write(request.out(), outputs.estimates, outputs.alerts, summary.gaps(), title(monitors, request),
                 strictest(monitors));
         return summary;
     }
@@ -137,18 +137,18 @@ public final class ReplayRunner {
             WindowEstimate[] span = outputs.windowSpan.get(stream.stream());
             streams.add(new ReplaySummary.Stream(stream.stream(), stream.finalWindows(),
                     span == null ? null : span[0].windowEnd(), span == null ? null : span[1].windowEnd(),
-                    stream.baseline(), stream.counts()));
+                    stream.baseline(), stream.baselineNote(), stream.counts(), stream.gaps()));
         }
         return new ReplaySummary(request.input().toString(), format.name().toLowerCase(java.util.Locale.ROOT),
                 request.from(), request.to(), snapshot.totals(), outputs.estimates.size(), outputs.rejects,
                 outputs.alerts.size(), monitors, streams);
     }
 
-    /** Feeds file records to the pipeline with their line numbers. */
-    private static final class PipelineFeed implements RecordSink {
+    /** Feeds file records to the pipeline with their line numbers (also used by the baseline builder). */
+    public static final class PipelineFeed implements RecordSink {
         private final MonitorPipeline pipeline;
 
-        PipelineFeed(MonitorPipeline pipeline) {
+        public PipelineFeed(MonitorPipeline pipeline) {
             this.pipeline = pipeline;
         }
 

@@ -617,6 +617,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
                 }
             }
         }
+        meters.monitoringGaps(inputs);
         return new ServiceStatus(ready() ? "ready" : (closing ? "stopped" : "rebuilding"), counts.snapshot(),
                 partitions, inputs);
     }

@@ -12,6 +12,7 @@ import java.time.Duration;
 import java.util.List;
 import java.util.Map;
 import org.junit.jupiter.api.Test;
+import org.oddswatch.alerts.engine.AlertRulesConfig;
 import org.oddswatch.estimator.terms.BinaryTerm;
 import org.oddswatch.estimator.terms.CategoricalTerm;
 import org.oddswatch.estimator.terms.NumericTerm;
@@ -251,8 +252,45 @@ class DefinitionLoaderTest {
         MonitorConfig bound = parse(VALID.replace("  - name: south",
                 "    rules:\n      oddsRatioDrift: {limit: 3.5, terms: [household_contact]}\n  - name: south"));
         assertEquals(3.5, bound.monitor("north").rules().oddsRatioDrift().limit());
-        assertNull(bound.monitor("north").rules().cusum(), "sections left out are off");
         assertTrue(parse(VALID).monitor("north").rules().cusum() != null, "no rules key: the defaults");
+    }
+
+    /**
+     * Listing one rule section does not switch the others off: every rule with defaults runs unless
+     * its section says {@code enabled: false}, and a definition that relied on the old meaning (an
+     * unlisted rule was off) gets a notice per rule now running.
+     */
+    @Test
+    void rulesRunUnlessSwitchedOffAndUnlistedOnesAreNoticed() throws Exception {
+        MonitorConfig listed = parse(VALID.replace("  - name: south",
+                "    rules:\n      oddsRatioDrift: {limit: 3.5}\n  - name: south"));
+        MonitorDefinition north = listed.monitor("north");
+        assertEquals(8.0, north.rules().cusum().limit(), "cusum is not listed: it runs with its defaults");
+        assertEquals(0.8, north.rules().calibration().observedExpected().min());
+        assertNull(north.rules().oddsRatioBounds(), "bounds have no defaults");
+        assertEquals(2, north.notices().size(), north.notices().toString());
+        assertTrue(north.notices().get(0).startsWith("monitors[0].rules.calibration is not listed, so it runs"),
+                north.notices().get(0));
+        assertTrue(north.notices().get(1).contains("'cusum: {enabled: false}'"), north.notices().get(1));
+        assertEquals(List.of(), parse(VALID).monitor("north").notices(), "no rules key: nothing changed meaning");
+
+        MonitorConfig off = parse(VALID.replace("  - name: south", "    rules:\n      oddsRatioDrift: {enabled: true}\n"
+                + "      calibration: {enabled: false, slopeZ: 2}\n      cusum: {enabled: false}\n  - name: south"));
+        AlertRulesConfig rules = off.monitor("north").rules();
+        assertEquals(3.0, rules.oddsRatioDrift().limit());
+        assertNull(rules.calibration());
+        assertNull(rules.cusum());
+        assertEquals(List.of(), off.monitor("north").notices());
+        assertEquals(List.of("odds-ratio-drift: on (needs a baseline)",
+                "odds-ratio-bounds: off [not-configured]: it runs only on bounds the definition gives (oddsRatioBounds.terms)",
+                "calibration: off [switched-off]: switched off in the definition (rules.calibration.enabled: false)",
+                "bernoulli-cusum: off [switched-off]: switched off in the definition (rules.cusum.enabled: false)"),
+                rules.switches().stream().map(AlertRulesConfig.RuleSwitch::describe).toList());
+
+        DefinitionException notBoolean = error(VALID.replace("  - name: south",
+                "    rules:\n      cusum: {enabled: maybe}\n  - name: south"));
+        assertEquals(18, notBoolean.line());
+        assertEquals("monitors[0].rules.cusum.enabled", notBoolean.key());
     }
 
     @Test

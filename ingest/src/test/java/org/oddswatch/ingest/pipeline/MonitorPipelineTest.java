@@ -21,6 +21,10 @@ import org.oddswatch.ingest.definition.MonitorConfig;
 class MonitorPipelineTest {
 
     /** Daily buckets, two-day windows, six hours of allowed lateness, at most two regions. */
+    /** Every rule switched off (a rule with defaults runs unless its section says enabled: false). */
+    static final String NO_RULES =
+            "    rules: {oddsRatioDrift: {enabled: false}, calibration: {enabled: false}, cusum: {enabled: false}}";
+
     static final String DEFINITION = String.join("\n",
             "monitors:",
             "  - name: resp",
@@ -42,7 +46,7 @@ class MonitorPipelineTest {
             "        undeclared: missing",
             "    window: {width: P2D, step: P1D, lateness: PT6H}",
             "    estimates: {minEventsPerParameter: 1, profileIntervals: false}",
-            "    rules: {}",
+            NO_RULES,
             "");
 
     static final Instant D0 = Instant.parse("2026-02-02T00:00:00Z");
@@ -404,7 +408,7 @@ class MonitorPipelineTest {
                 "    terms:",
                 "      - {name: sex, field: /sex, kind: categorical, levels: [female, other], reference: female}",
                 "    window: {width: P2D, step: P1D}",
-                "    rules: {}",
+                NO_RULES,
                 "");
         CollectingListener both = new CollectingListener();
         MonitorPipeline two = pipeline(DEFINITION + second, both);
@@ -431,8 +435,8 @@ class MonitorPipelineTest {
     /** Fixed-period baseline: accumulated over [from, to), frozen once no event of it can arrive. */
     @Test
     void fixedPeriodBaselineFreezesWhenThePeriodCanTakeNoMoreEvents() {
-        String withBaseline = DEFINITION.replace("    rules: {}",
-                "    baseline: {from: 2026-02-02T00:00:00Z, to: 2026-02-05T00:00:00Z}\n    rules: {}");
+        String withBaseline = DEFINITION.replace(NO_RULES,
+                "    baseline: {from: 2026-02-02T00:00:00Z, to: 2026-02-05T00:00:00Z}\n" + NO_RULES);
         CollectingListener listener = new CollectingListener();
         MonitorPipeline withPeriod = pipeline(withBaseline, listener);
         List<String> records = HouseEvents.generate(21, 2000, D0, 6 * 86_400_000L, 0, "north");
