@@ -89,8 +89,11 @@ final class ModelReport {
             notes.add(separationNote(mf, columns));
         }
         if (state == FitState.NOT_CONVERGED) {
-            notes.add("the fit did not converge within " + options.maxIterations() + " iterations, also after a "
-                    + "cold restart: the estimates are the last iterate and should not be relied on");
+            String restart = warmStart != null ? " (from the previous window's estimates; a restart from the "
+                    + "overall proportion fared no better)" : "";
+            notes.add("the " + (mf.method() == FitMethod.FIRTH ? "Firth fit" : "fit") + " did not converge"
+                    + restart + ": " + fit.stopDescription() + "; the estimates are the last iterate and should not "
+                    + "be relied on");
         }
         boolean inference = state != FitState.NOT_CONVERGED;
         List<CoefficientEstimate> table = coefficientTable(coder, options, mf, control, inference);

@@ -3,18 +3,17 @@ package org.oddswatch.estimator.fit;
 /**
  * Iteration settings of the Newton and Firth fitters.
  *
- * <p>Convergence needs both: the relative change of the (penalized) log-likelihood between two
- * accepted iterations, {@code |l_k - l_{k-1}| / (|l_k| + 0.1)}, below {@code tolerance}; and every
- * free coordinate's score in standard-error units, {@code |U_j| / sqrt(I_jj)}, below
- * {@link #SCORE_TOLERANCE}.
+ * <p>Convergence: the Newton decrement {@code lambda^2 = U' I^-1 U} over the free coordinates (U the
+ * score, Firth-modified for Firth fits; I the information) at most {@code tolerance}, or at the rounding
+ * floor of the objective (see {@code NewtonEngine}). {@code lambda} is the length of the next Newton
+ * step in standard-error units, so the default {@code 1e-12} puts the iterate within {@code 1e-6}
+ * standard errors of the maximum before the polishing step (and about {@code 1e-12} after it), at any
+ * number of events and any scaling of the columns.
  *
  * @param maxIterations iteration cap (accepted Newton steps), at least 1
- * @param tolerance relative log-likelihood change, default 1e-10
+ * @param tolerance bound on the Newton decrement {@code lambda^2}, default 1e-12
  */
 public record FitControl(int maxIterations, double tolerance) {
-
-    /** Largest accepted score in standard-error units, {@code |U_j| / sqrt(I_jj)}. */
-    public static final double SCORE_TOLERANCE = 1e-6;
 
     public FitControl {
         if (maxIterations < 1) {
@@ -25,9 +24,9 @@ public record FitControl(int maxIterations, double tolerance) {
         }
     }
 
-    /** 25 iterations, tolerance 1e-10. */
+    /** 25 iterations, decrement tolerance 1e-12. */
     public static FitControl defaults() {
-        return new FitControl(25, 1e-10);
+        return new FitControl(25, 1e-12);
     }
 
     public FitControl withMaxIterations(int value) {

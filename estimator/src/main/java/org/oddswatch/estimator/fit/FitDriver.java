@@ -144,7 +144,7 @@ final class FitDriver {
         for (int a = 0; a < keep.length; a++) {
             score[keep[a]] = r.score()[a];
         }
-        return new FitResult(beta, cov, r.logLikelihood(), r.penalizedLogLikelihood(), r.iterations(), r.converged(),
+        return new FitResult(beta, cov, r.logLikelihood(), r.penalizedLogLikelihood(), r.iterations(), r.stop(),
                 r.warmStartUsed(), r.method(), dropped.clone(), r.maxAbsScore(), r.maxAbsLinearPredictor(), r.trace(),
                 score);
     }
