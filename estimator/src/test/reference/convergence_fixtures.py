@@ -37,34 +37,30 @@ def grouped_counts(p, trials, index):
     return float(min(max(k, 0), trials))
 
 
-def ten_million():
-    """400 patterns (age band 5 levels, sex, contact, week 1..20) x 25,000 trials; prevalence about 5 %."""
+def banded_counts(trials, weeks, base, band_effect, contact_effect, week_effect, divisor):
+    """Patterns of age band (5 levels), sex, contact and week 1..weeks, each with the same number of trials."""
     rows = []
     i = 0
     for band in range(5):
         for sex in range(2):
             for contact in range(2):
-                for week in range(1, 21):
-                    p = 0.03 * (1 + 0.2 * band) * (1 + 0.3 * sex) * (1 + 0.8 * contact) * (1 + 0.01 * week) / 1.9
+                for week in range(1, weeks + 1):
+                    p = (base * (1 + band_effect * band) * (1 + 0.3 * sex) * (1 + contact_effect * contact)
+                         * (1 + week_effect * week) / divisor)
                     x = [1.0] + [1.0 if band == b else 0.0 for b in range(1, 5)] + [sex, contact, week]
-                    rows.append((x, 25000.0, grouped_counts(p, 25000.0, i)))
+                    rows.append((x, trials, grouped_counts(p, trials, i)))
                     i += 1
     return ["(intercept)", "band1", "band2", "band3", "band4", "sex", "contact", "week"], rows
+
+
+def ten_million():
+    """400 patterns x 25,000 trials; prevalence about 4 %."""
+    return banded_counts(25000.0, 20, 0.03, 0.2, 0.8, 0.01, 1.9)
 
 
 def rare():
     """200 patterns x 20,000 trials (4 million); prevalence about 0.1 %."""
-    rows = []
-    i = 0
-    for band in range(5):
-        for sex in range(2):
-            for contact in range(2):
-                for week in range(1, 11):
-                    p = 0.0003 * (1 + 0.25 * band) * (1 + 0.3 * sex) * (1 + 1.5 * contact) * (1 + 0.02 * week)
-                    x = [1.0] + [1.0 if band == b else 0.0 for b in range(1, 5)] + [sex, contact, week]
-                    rows.append((x, 20000.0, grouped_counts(p, 20000.0, i)))
-                    i += 1
-    return ["(intercept)", "band1", "band2", "band3", "band4", "sex", "contact", "week"], rows
+    return banded_counts(20000.0, 10, 0.0003, 0.25, 1.5, 0.02, 1)
 
 
 def uncentered():
