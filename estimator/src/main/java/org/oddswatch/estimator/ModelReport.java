@@ -195,8 +195,8 @@ final class ModelReport {
             }
         }
         String by = involved.isEmpty() ? "" : " by " + String.join(", ", involved);
-        String how = mf.separationByHeuristic() ? " (judged from diverging estimates; too many distinct rows for "
-                + "the exact check)" : "";
+        String how = mf.separationByHeuristic() ? " (judged from diverging estimates; the exact check could not "
+                + "be completed)" : "";
         return "the outcome is completely or quasi-completely separated" + by + how + ": maximum-likelihood "
                 + "estimates do not exist, so Firth's penalized-likelihood estimates are reported, with profile "
                 + "penalized-likelihood intervals for watched terms; a zero cell is the usual cause";
