@@ -104,7 +104,7 @@ final class NewtonEngine {
                 stop = new FitStop(FitStop.Reason.NO_IMPROVEMENT, decrement);
                 break;
             }
-            finish(problem, accepted, penalized);
+            finish(problem, groups, accepted, penalized);
             iterations++;
             current = accepted;
             trace[iterations] = current.objective;
@@ -140,14 +140,14 @@ final class NewtonEngine {
                                          boolean complete) {
         BinomialPass pass = BinomialPass.at(problem, groups, beta, penalized);
         if (complete) {
-            finish(problem, pass, penalized);
+            finish(problem, groups, pass, penalized);
         }
         return pass;
     }
 
-    private static void finish(FitProblem problem, BinomialPass pass, boolean penalized) {
+    private static void finish(FitProblem problem, IndicatorGroups groups, BinomialPass pass, boolean penalized) {
         if (penalized && pass.factor != null) {
-            pass.addFirthCorrection(problem);
+            pass.addFirthCorrection(problem, groups);
         }
     }
 

@@ -9,6 +9,7 @@ import org.apache.commons.math3.optim.linear.LinearConstraint;
 import org.apache.commons.math3.optim.linear.LinearConstraintSet;
 import org.apache.commons.math3.optim.linear.LinearObjectiveFunction;
 import org.apache.commons.math3.optim.linear.NonNegativeConstraint;
+import org.apache.commons.math3.optim.linear.PivotSelectionRule;
 import org.apache.commons.math3.optim.linear.Relationship;
 import org.apache.commons.math3.optim.linear.SimplexSolver;
 import org.apache.commons.math3.optim.nonlinear.scalar.GoalType;
@@ -192,7 +193,7 @@ public final class SeparationCheck {
         try {
             PointValuePair optimum = new SimplexSolver().optimize(new MaxIter(100_000),
                     new LinearObjectiveFunction(c, 0), new LinearConstraintSet(constraints), GoalType.MAXIMIZE,
-                    new NonNegativeConstraint(false));
+                    new NonNegativeConstraint(false), PivotSelectionRule.BLAND);
             return optimum.getPoint();
         } catch (MathIllegalStateException e) {
             return null;
