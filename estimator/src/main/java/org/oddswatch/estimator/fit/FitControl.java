@@ -10,10 +10,17 @@ package org.oddswatch.estimator.fit;
  * standard errors of the maximum before the polishing step (and about {@code 1e-12} after it), at any
  * number of events and any scaling of the columns.
  *
+ * <p>A divergence stop (off by default) ends the iteration, not converged, as soon as some linear
+ * predictor exceeds {@code divergenceEta} in absolute value: the symptom of separation, where Newton
+ * steps walk off to infinity one unit at a time. The window fit uses it for its first attempt only, so a
+ * separated window does not spend the whole cap twice before the separation check; when the check
+ * finds no separation the fit is rerun without it.
+ *
  * @param maxIterations iteration cap (accepted Newton steps), at least 1
  * @param tolerance bound on the Newton decrement {@code lambda^2}, default 1e-12
+ * @param divergenceEta |eta| beyond which the iteration stops as diverging; infinity (the default) for never
  */
-public record FitControl(int maxIterations, double tolerance) {
+public record FitControl(int maxIterations, double tolerance, double divergenceEta) {
 
     public FitControl {
         if (maxIterations < 1) {
@@ -22,14 +29,27 @@ public record FitControl(int maxIterations, double tolerance) {
         if (!(tolerance > 0)) {
             throw new IllegalArgumentException("tolerance must be positive");
         }
+        if (!(divergenceEta > 0)) {
+            throw new IllegalArgumentException("divergenceEta must be positive");
+        }
     }
 
     /** 25 iterations, decrement tolerance 1e-12. */
     public static FitControl defaults() {
-        return new FitControl(25, 1e-12);
+        return new FitControl(25, 1e-12, Double.POSITIVE_INFINITY);
     }
 
     public FitControl withMaxIterations(int value) {
-        return new FitControl(value, tolerance);
+        return new FitControl(value, tolerance, divergenceEta);
+    }
+
+    /** The same settings, stopping once some |eta| exceeds {@code eta}. */
+    public FitControl withDivergenceStop(double eta) {
+        return new FitControl(maxIterations, tolerance, eta);
+    }
+
+    /** The same settings without a divergence stop. */
+    public FitControl withoutDivergenceStop() {
+        return new FitControl(maxIterations, tolerance, Double.POSITIVE_INFINITY);
     }
 }

@@ -23,6 +23,8 @@ public record FitStop(Reason reason, double decrement) {
         ROUNDING_FLOOR(true),
         /** Not converged: no step length improved the objective beyond rounding while {@code lambda^2} was larger. */
         NO_IMPROVEMENT(false),
+        /** Not converged: some linear predictor passed the divergence stop ({@link FitControl#divergenceEta()}). */
+        DIVERGING(false),
         /** Not converged: the iteration cap was reached. */
         ITERATION_CAP(false),
         /** Not converged: the information matrix of the free coordinates was not positive definite. */
@@ -65,6 +67,7 @@ public record FitStop(Reason reason, double decrement) {
                     + objective + " (Newton decrement " + lambda + ")";
             case NO_IMPROVEMENT -> after + "no step improved the " + objective
                     + " beyond rounding while the Newton decrement was " + lambda;
+            case DIVERGING -> after + "the estimates were diverging (fitted probabilities within 3e-7 of 0 or 1)";
             case ITERATION_CAP -> after + "the iteration cap was reached with the Newton decrement at " + lambda;
             case SINGULAR_INFORMATION -> after + "the information matrix became singular (Newton decrement "
                     + lambda + ")";

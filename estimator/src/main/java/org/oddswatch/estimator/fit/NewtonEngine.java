@@ -23,7 +23,8 @@ import org.apache.commons.math3.linear.RealMatrix;
  *     noise (this is how a problem with millions of events, whose summed objective cannot resolve the
  *     last digits, converges);
  * <li>not converged when no step length improves the objective beyond rounding while the predicted gain
- *     is above it, when the information matrix is singular, or at the iteration cap.
+ *     is above it, when the information matrix is singular, at the optional divergence stop, or at the
+ *     iteration cap.
  * </ul>
  *
  * <p>Step length: the largest {@code t = 1, 1/2, 1/4, ...} (at most 30 halvings) whose objective is not
@@ -80,6 +81,10 @@ final class NewtonEngine {
             boolean belowRounding = decrement / 2 <= noise;
             if (belowRounding && previousBelowRounding && decrement >= previousDecrement) {
                 stop = new FitStop(FitStop.Reason.ROUNDING_FLOOR, decrement);
+                break;
+            }
+            if (current.maxAbsEta > control.divergenceEta()) {
+                stop = new FitStop(FitStop.Reason.DIVERGING, decrement);
                 break;
             }
             if (iterations == control.maxIterations()) {
