@@ -48,6 +48,15 @@ public record FitControl(int maxIterations, double tolerance, double divergenceE
         return new FitControl(maxIterations, tolerance, eta);
     }
 
+    /**
+     * For constrained fits that only report their objective (profile bounds, LR tests): the decrement
+     * tolerance loosened to at most {@code 1e-10}, which leaves the objective within {@code 5e-11} of its
+     * constrained maximum ({@code lambda^2 / 2}), far below the profile's root tolerance of 1e-9.
+     */
+    public FitControl forObjectiveOnly() {
+        return new FitControl(maxIterations, Math.max(tolerance, 1e-10), divergenceEta);
+    }
+
     /** The same settings without a divergence stop. */
     public FitControl withoutDivergenceStop() {
         return new FitControl(maxIterations, tolerance, Double.POSITIVE_INFINITY);

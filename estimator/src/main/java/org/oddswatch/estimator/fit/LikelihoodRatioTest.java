@@ -33,7 +33,7 @@ public record LikelihoodRatioTest(double chiSquare, int df, double p, boolean co
         if (columns.length == problem.columns()) {
             restricted = atStart(problem, start, penalized);
         } else {
-            restricted = FitDriver.fitFullRank(problem, start, fixed, control, penalized);
+            restricted = FitDriver.fitFullRank(problem, start, fixed, control.forObjectiveOnly(), penalized);
         }
         double chi2 = Math.max(0, 2 * (fit.objective() - restricted.objective()));
         double p = Gamma.regularizedGammaQ(columns.length / 2.0, chi2 / 2);

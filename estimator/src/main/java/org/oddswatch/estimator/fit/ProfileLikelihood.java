@@ -111,7 +111,7 @@ public final class ProfileLikelihood {
             this.problem = problem;
             this.fit = fit;
             this.j = j;
-            this.control = control;
+            this.control = control.forObjectiveOnly();
             this.penalized = fit.method() == FitMethod.FIRTH;
             this.fixed = new boolean[problem.columns()];
             this.fixed[j] = true;
