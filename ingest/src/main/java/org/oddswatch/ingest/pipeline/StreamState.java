@@ -276,7 +276,9 @@ final class StreamState {
             listener.onEstimate(estimate);
             listener.onFinalFit(estimate, fitNanos);
         }
-        if (engine != null && !overlapsBaselinePeriod(start, stop)) {
+        if (engine != null) {
+            // every final window, also those overlapping the baseline period: the engine judges no such
+            // window, but the CUSUM reports the events after the period once per final window
             emitAlerts(engine.onFinalEstimate(estimate), suppress);
         }
     }
@@ -314,11 +316,6 @@ final class StreamState {
     private boolean baselineComplete(long newFinal) {
         long lastBucket = geometry.bucketOf(monitor.baseline().to().toEpochMilli() - 1);
         return newFinal >= lastBucket + 1;
-    }
-
-    private boolean overlapsBaselinePeriod(Instant start, Instant stop) {
-        BaselineSpec spec = monitor.baseline();
-        return spec != null && spec.isFixedPeriod() && start.isBefore(spec.to()) && stop.isAfter(spec.from());
     }
 
     private void freezeBaseline() {
