@@ -100,6 +100,8 @@ class BernoulliCusumRuleTest {
     @Test
     void signalValueIsTheSumOfLogLikelihoodRatios() {
         // all positives at risk p: each adds ln R - ln(1 - p + R p)
+        // Source: Steiner, Cook, Farewell & Treasure (2000), Biostatistics 1:441-452, the weight W_t of the
+        // risk-adjusted CUSUM for y = 1
         AlertEngine e = engine(cusum(2.0, null, 4.0, null, null), new Guard(null, null, 0L));
         double[] row = {1, 0, 0};
         double p = 1 / (1 + Math.exp(3.0));
