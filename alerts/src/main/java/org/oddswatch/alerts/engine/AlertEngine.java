@@ -3,6 +3,7 @@ package org.oddswatch.alerts.engine;
 import java.time.Instant;
 import java.time.format.DateTimeParseException;
 import java.util.ArrayList;
+import java.util.Comparator;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
@@ -20,6 +21,7 @@ import org.oddswatch.alerts.rules.CalibrationRule;
 import org.oddswatch.alerts.rules.CusumReading;
 import org.oddswatch.alerts.rules.Format;
 import org.oddswatch.alerts.rules.InformationGuard;
+import org.oddswatch.alerts.rules.Measurement;
 import org.oddswatch.alerts.rules.OddsRatioBoundsRule;
 import org.oddswatch.alerts.rules.OddsRatioDriftRule;
 import org.oddswatch.alerts.rules.Reading;
@@ -124,25 +126,36 @@ public final class AlertEngine {
         return stream;
     }
 
-    /** Window rules (odds-ratio drift and bounds, calibration) on one final estimate. */
+    /**
+     * One final window: the window rules (odds-ratio drift and bounds, calibration) on its estimate,
+     * unless it overlaps the baseline's period, then the CUSUM's report on the events before the
+     * window's end (see {@link BernoulliCusumRule#report}). Every final window of the stream must come
+     * here, in order, including those overlapping the baseline period: the CUSUM reports once per
+     * final window, so at most one message per episode and window results.
+     */
     public List<Alert> onFinalEstimate(WindowEstimate estimate) {
         if (estimate.status() != WindowStatus.FINAL || !stream.equals(estimate.stream())) {
             return List.of();
         }
+        List<Alert> out = new ArrayList<>();
         if (overlapsBaseline(estimate.windowStart().toEpochMilli(), estimate.windowEnd().toEpochMilli())) {
             if (!windowRules.isEmpty()) {
                 unjudged(null, GapReason.BASELINE_PERIOD, estimate.windowEnd(), inBaselinePeriod(baseline.periodStart(),
                         baseline.periodEnd()));
             }
-            return List.of();
-        }
-        List<Alert> out = new ArrayList<>();
-        for (WindowRule rule : windowRules) {
-            for (Reading reading : rule.evaluate(estimate)) {
-                if (reading.zone() == Zone.UNKNOWN) {
-                    unjudged(rule.name(), whyUnknown(rule.name(), estimate, reading), estimate.windowEnd(),
-                            reading.detail());
+        } else {
+            for (WindowRule rule : windowRules) {
+                for (Reading reading : rule.evaluate(estimate)) {
+                    if (reading.zone() == Zone.UNKNOWN) {
+                        unjudged(rule.name(), whyUnknown(rule.name(), estimate, reading), estimate.windowEnd(),
+                                reading.detail());
+                    }
+                    publishable(reading, out);
                 }
+            }
+        }
+        if (cusum != null) {
+            for (Reading reading : cusum.report(estimate.windowEnd())) {
                 publishable(reading, out);
             }
         }
@@ -222,16 +235,16 @@ public final class AlertEngine {
         cusum.offer(eventTimeMillis, id, row, positive);
     }
 
-    /** Runs the sequential rule over all buffered events with time before {@code closedBeforeMillis}. */
+    /**
+     * Says that no event before {@code closedBeforeMillis} can arrive any more. The sequential rule
+     * processes its buffered events when a final window ending after them is reported
+     * ({@link #onFinalEstimate}): at most one message per chart and final window, and the charts'
+     * values at each report are a function of the events before that window's end only, however often
+     * and whenever this is called. So this publishes nothing and returns an empty list; it is kept so
+     * callers need not know which rules are sequential.
+     */
     public List<Alert> onEventsClosed(long closedBeforeMillis) {
-        if (cusum == null) {
-            return List.of();
-        }
-        List<Alert> out = new ArrayList<>();
-        for (Reading reading : cusum.close(closedBeforeMillis)) {
-            publishable(reading, out);
-        }
-        return out;
+        return List.of();
     }
 
     /** Current CUSUM chart values (empty without a CUSUM), for meters. */
@@ -247,22 +260,21 @@ public final class AlertEngine {
     /**
      * Restores open episodes from alerts previously published (read back from the alerts topic or
      * file), so a restart neither forgets an open episode nor publishes it again. Alerts of other
-     * streams are ignored; per rule and subject, the last alert in the list decides whether the
-     * episode is open. Afterwards, a reading ending at or before the last published window of its
-     * rule and subject is not published again.
+     * streams are ignored; per rule and subject, the alert with the latest window end (a clearing
+     * after a raise or continuation of the same window) decides whether the episode is open, whatever
+     * the list's order (an alerts topic keyed by episode id spreads one rule's episodes over
+     * partitions). Afterwards, a reading ending at or before the last published window of its rule
+     * and subject is not published again. Chart values are not restored: they are a function of the
+     * events, which the rebuild re-feeds.
      */
     public void restore(List<Alert> published) {
-        for (Alert a : published) {
-            if (!stream.equals(a.stream())) {
-                continue;
-            }
+        List<Alert> mine = published.stream().filter(a -> stream.equals(a.stream()))
+                .sorted(Comparator.comparing(Alert::windowEnd).thenComparing(a -> a.state().ordinal()))
+                .toList();
+        for (Alert a : mine) {
             String key = Reading.key(a.rule(), a.subject());
-            boolean open = a.state() != AlertState.CLEARED;
-            tracker.restore(key, a.id(), open, a.windowEnd());
+            tracker.restore(key, a.id(), a.state() != AlertState.CLEARED, a.windowEnd());
             lastByKey.put(key, a);
-            if (cusum != null && open && (BernoulliCusumRule.UP.equals(a.rule()) || BernoulliCusumRule.DOWN.equals(a.rule()))) {
-                cusum.restoreOpen(a.rule(), a.subject());
-            }
         }
     }
 
@@ -272,15 +284,18 @@ public final class AlertEngine {
             return;
         }
         String command = replay.command(reading.windowStart(), reading.windowEnd(), "replay-" + t.id());
-        String message = AlertText.compose(stream, reading, t.state(), t.run(), baselineLabel(), command);
-        Double limit = t.state() == AlertState.CLEARED ? reading.clearLimit() : reading.limit();
+        boolean cleared = t.state() == AlertState.CLEARED;
+        Measurement m = reading.measurement();
+        Measurement.Side side = cleared ? Measurement.Side.WITHIN : m.side();
+        String message = AlertText.compose(stream, reading, t.state(), t.run(), side, baselineLabel(), command);
+        Double limit = cleared ? reading.clearLimit() : reading.limit();
         Evidence e = reading.evidence();
-        Integer run = t.state() == AlertState.CLEARED ? null : t.run();
+        Integer run = cleared ? null : t.run();
         Evidence evidence = e == null ? new Evidence(null, null, null, null, run)
                 : new Evidence(e.z(), e.cusum(), e.lower(), e.upper(), run);
         Alert alert = new Alert(t.id(), stream, reading.rule(), reading.subject(), t.state(), reading.windowStart(),
-                reading.windowEnd(), reading.observed(), reading.baseline(), limit, evidence, reading.events(), message,
-                command);
+                reading.windowEnd(), m.measure(), m.value(), side, reading.observed(), reading.baseline(), limit,
+                reading.clearLimit(), evidence, reading.events(), message, command);
         lastByKey.put(reading.key(), alert);
         out.add(alert);
     }

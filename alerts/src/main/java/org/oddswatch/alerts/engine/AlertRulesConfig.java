@@ -37,7 +37,7 @@ public record AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsR
      */
     public static AlertRulesConfig defaults() {
         return new AlertRulesConfig(null, new OddsRatioDrift(null, null, null, null, null, null), null,
-                new Calibration(null, null, null, null, null, null, null), new Cusum(null, null, null, null, null, null));
+                new Calibration(null, null, null, null, null, null, null), new Cusum(null, null, null, null, null, null, null));
     }
 
     /** The CUSUM's name as one rule (its charts raise {@code bernoulli-cusum-up} and {@code -down}). */
@@ -254,18 +254,21 @@ public record AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsR
      * @param up odds multiplier the upper chart is tuned to detect, &gt; 1 (default 1.5)
      * @param down odds multiplier of the lower chart, &lt; 1 (default 1/1.5)
      * @param limit decision limit h of both charts (default 8.0)
-     * @param clearAfterEvents an open episode clears after this many events without a new signal (default 2000)
+     * @param clearAfter final windows in a row without a signal, each closing with the chart below
+     *     {@code clearFraction · limit}, to clear an open episode (default 2)
+     * @param clearFraction the clear limit as a share of h, in (0, 1) (default 0.5)
      * @param terms watched terms that get their own pair of charts over the events with that
      *     indicator set (default none: only the overall pair)
      * @param guard {@code minEvents}: events a chart must have processed before it may signal
      */
-    public record Cusum(Double up, Double down, Double limit, Long clearAfterEvents, List<TermLimits> terms,
-                        Guard guard) {
+    public record Cusum(Double up, Double down, Double limit, Integer clearAfter, Double clearFraction,
+                        List<TermLimits> terms, Guard guard) {
         public Cusum {
             up = up == null ? 1.5 : up;
             down = down == null ? 1.0 / 1.5 : down;
             limit = limit == null ? 8.0 : limit;
-            clearAfterEvents = clearAfterEvents == null ? 2000L : clearAfterEvents;
+            clearAfter = clearAfter == null ? 2 : clearAfter;
+            clearFraction = clearFraction == null ? 0.5 : clearFraction;
             terms = terms == null ? List.of() : List.copyOf(terms);
             if (!(up > 1) || Double.isInfinite(up)) {
                 throw new IllegalArgumentException("cusum.up must be a finite odds multiplier above 1");
@@ -274,7 +277,10 @@ public record AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsR
                 throw new IllegalArgumentException("cusum.down must be an odds multiplier in (0, 1)");
             }
             requirePositive("cusum.limit", limit);
-            requireAtLeast("cusum.clearAfterEvents", clearAfterEvents, 1);
+            requireAtLeast("cusum.clearAfter", clearAfter, 1);
+            if (!(clearFraction > 0 && clearFraction < 1)) {
+                throw new IllegalArgumentException("cusum.clearFraction must be in (0, 1), got " + clearFraction);
+            }
         }
     }
 

@@ -16,6 +16,7 @@ import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.lifecycle.AlertText;
 import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.alerts.rules.Format;
+import org.oddswatch.alerts.rules.Measurement;
 import org.oddswatch.estimator.result.CoefficientEstimate;
 import org.oddswatch.estimator.result.PrevalenceEstimate;
 import org.oddswatch.estimator.result.WindowEstimate;
@@ -163,17 +164,14 @@ public final class ReplayReport {
             return;
         }
         for (Alert a : alerts) {
-            b.append("- ").append(a.state()).append(" `").append(a.id()).append("` ").append(a.rule()).append(", ")
-                    .append(a.subject().label()).append(", window ").append(a.windowStart()).append(" to ")
-                    .append(a.windowEnd()).append(": observed ").append(Format.num(a.observed()));
+            b.append("- ").append(a.state()).append(" `").append(a.id()).append("` ").append(label(a))
+                    .append(", window ").append(a.windowStart()).append(" to ").append(a.windowEnd()).append(": ")
+                    .append(measured(a));
+            if (a.observed() != null && !a.observed().equals(a.value())) {
+                b.append(", observed ").append(Format.num(a.observed()));
+            }
             if (a.baseline() != null) {
                 b.append(", baseline ").append(Format.num(a.baseline()));
-            }
-            if (a.limit() != null) {
-                b.append(", limit ").append(Format.num(a.limit()));
-            }
-            if (a.evidence() != null && a.evidence().z() != null) {
-                b.append(", z ").append(Format.stat(a.evidence().z()));
             }
             b.append(", on ").append(cells.count(a.events())).append(" events. Reproduce: `").append(a.replayCommand())
                     .append("`\n");
@@ -182,8 +180,34 @@ public final class ReplayReport {
 
     private static String alertsAt(List<Alert> alerts, Instant windowEnd) {
         List<String> here = alerts.stream().filter(a -> a.windowEnd().equals(windowEnd))
-                .map(a -> a.state() + " " + a.rule() + " " + a.subject().label()).toList();
+                .map(a -> a.state() + " " + label(a)).toList();
         return here.isEmpty() ? "" : String.join("; ", here);
+    }
+
+    /**
+     * "odds-ratio-drift household_contact=yes (odds-ratio-z)", "calibration (hosmer-lemeshow-p)": the
+     * rule, the subject unless it is the calibration the rule's name already says, and the measure.
+     */
+    private static String label(Alert a) {
+        String subject = a.subject().label();
+        boolean sameAsRule = a.rule().equals(subject);
+        return a.rule() + (sameAsRule ? "" : " " + subject) + (a.measure() == null ? "" : " (" + a.measure() + ")");
+    }
+
+    /** "hosmer-lemeshow-p 9.38e-06 below the limit 1.00e-04" (the clear limit for a clearing). */
+    private static String measured(Alert a) {
+        String name = a.measure() == null ? "observed" : a.measure();
+        StringBuilder b = new StringBuilder(name).append(' ').append(Measurement.format(a.measure(),
+                a.measure() == null ? a.observed() : a.value()));
+        if (a.limit() != null) {
+            String side = a.direction() == null ? "against" : a.direction() == Measurement.Side.WITHIN
+                    ? "within the clear limit" : a.direction() + " the limit";
+            boolean negate = Measurement.ODDS_RATIO_Z.equals(a.measure()) && a.direction() == Measurement.Side.BELOW;
+            boolean twoSided = Measurement.ODDS_RATIO_Z.equals(a.measure()) && a.direction() == Measurement.Side.WITHIN;
+            b.append(' ').append(side).append(' ').append(twoSided ? "±" : "")
+                    .append(Measurement.format(a.measure(), negate ? -a.limit() : a.limit()));
+        }
+        return b.toString();
     }
 
     private static String prevalence(PrevalenceEstimate p) {

@@ -6,6 +6,7 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import com.fasterxml.jackson.databind.JsonNode;
 import java.time.Duration;
+import java.time.Instant;
 import java.util.List;
 import org.junit.jupiter.api.Test;
 import org.oddswatch.alerts.Fixtures;
@@ -32,13 +33,15 @@ class CusumPublicationTest {
     /** All-positive events at baseline risk 1/(1+e^3) from 10:17:03.250 on day 2, one a second. */
     private static List<Alert> signal(double limit, int events) {
         AlertEngine engine = new AlertEngine(Fixtures.STREAM, new AlertRulesConfig(new Guard(null, null, 0L), null, null,
-                null, new Cusum(2.0, null, limit, 100L, null, null)), Fixtures.baseline(), null, WEEKLY_BY_DAY,
+                null, new Cusum(2.0, null, limit, null, null, null, null)), Fixtures.baseline(), null, WEEKLY_BY_DAY,
                 SmallCellPolicy.DEFAULT);
         long first = T0 + 2 * DAY + 37_023_250L;
         for (int i = 0; i < events; i++) {
             engine.onEvent(first + 1000L * i, "e" + i, new double[] {1, 0, 0}, true);
         }
-        return engine.onEventsClosed(T0 + 3 * DAY);
+        // the final window ending at the end of day 3 reports the chart once
+        return engine.onFinalEstimate(Fixtures.bareWindow(Instant.ofEpochMilli(T0 - 4 * DAY),
+                Instant.ofEpochMilli(T0 + 3 * DAY)));
     }
 
     @Test
@@ -48,7 +51,7 @@ class CusumPublicationTest {
         assertEquals(1, alerts.size());
         Alert a = alerts.get(0);
         assertEquals(T0 + 2 * DAY, a.windowStart().toEpochMilli(), "start of the day of the first event");
-        assertEquals(T0 + 3 * DAY, a.windowEnd().toEpochMilli(), "end of the day of the signalling event");
+        assertEquals(T0 + 3 * DAY, a.windowEnd().toEpochMilli(), "end of the final window (the day of the signalling event)");
         String json = Json.write(a);
         assertFalse(json.contains("10:17"), json);
     }
@@ -57,7 +60,7 @@ class CusumPublicationTest {
     void smallExcursionCountsAreWithheldInTheMessage() {
         Alert four = signal(2.0, 4).get(0);
         assertEquals(4, four.events());
-        assertTrue(four.message().contains("over the <5 events since the chart last stood at zero, <5 were positive"),
+        assertTrue(four.message().contains("over the <5 events from the first event after the chart last stood at zero to the window's end, <5 were positive"),
                 four.message());
         assertTrue(four.message().contains("observed/expected withheld"), four.message());
         assertFalse(four.message().contains(" 4 were positive"), four.message());
@@ -65,7 +68,7 @@ class CusumPublicationTest {
         // h = 2.6: the 5th positive crosses (5 x 0.647 = 3.23 > 2.6 > 4 x 0.647 = 2.59), 5 events shown.
         Alert five = signal(2.6, 5).get(0);
         assertEquals(5, five.events());
-        assertTrue(five.message().contains("over the 5 events since the chart last stood at zero, 5 were positive"),
+        assertTrue(five.message().contains("over the 5 events from the first event after the chart last stood at zero to the window's end, 5 were positive"),
                 five.message());
     }
 

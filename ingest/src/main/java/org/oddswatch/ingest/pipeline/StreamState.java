@@ -340,14 +340,23 @@ final class StreamState {
             listener.onEstimate(estimate);
             listener.onFinalFit(estimate, fitNanos);
         }
-        if (overlapsBaselinePeriod(start, stop)) {
+        boolean inBaselinePeriod = overlapsBaselinePeriod(start, stop);
+        if (inBaselinePeriod) {
             windowsInBaselinePeriod++;
-        } else if (engine != null) {
+        }
+        if (engine != null) {
+            // every final window, also those overlapping the baseline period: the engine judges no such
+            // window, but the CUSUM reports the events after the period once per final window
             emitAlerts(engine.onFinalEstimate(estimate), suppress);
-        } else {
+        } else if (!inBaselinePeriod) {
             windowsBeforeFreeze++;
             lastUnjudgedEnd = stop;
         }
+    }
+
+    private boolean overlapsBaselinePeriod(Instant start, Instant stop) {
+        BaselineSpec spec = monitor.baseline();
+        return spec != null && spec.isFixedPeriod() && start.isBefore(spec.to()) && stop.isAfter(spec.from());
     }
 
     /**
@@ -383,11 +392,6 @@ final class StreamState {
     private boolean baselineComplete(long newFinal) {
         long lastBucket = geometry.bucketOf(monitor.baseline().to().toEpochMilli() - 1);
         return newFinal >= lastBucket + 1;
-    }
-
-    private boolean overlapsBaselinePeriod(Instant start, Instant stop) {
-        BaselineSpec spec = monitor.baseline();
-        return spec != null && spec.isFixedPeriod() && start.isBefore(spec.to()) && stop.isAfter(spec.from());
     }
 
     private void freezeBaseline() {

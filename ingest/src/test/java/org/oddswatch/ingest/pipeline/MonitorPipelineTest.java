@@ -9,9 +9,12 @@ import java.nio.charset.StandardCharsets;
 import java.time.Duration;
 import java.time.Instant;
 import java.util.ArrayList;
+import java.util.Collections;
 import java.util.List;
 import java.util.Map;
 import org.junit.jupiter.api.Test;
+import org.oddswatch.alerts.json.Json;
+import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.estimator.result.WindowStatus;
 import org.oddswatch.ingest.decode.RejectReason;
@@ -397,6 +400,59 @@ class MonitorPipelineTest {
         }
         assertTrue(quiet.estimates.size() >= 2);
         assertEquals(expected, actual);
+    }
+
+    /**
+     * A restart in the middle of an open CUSUM episode, as the service does it: the alerts published so
+     * far are read back (here in reverse order, as from an alerts topic whose partitions hold different
+     * episodes) and restored, the records from the fixed baseline's start to the stop are re-read as
+     * state only, then the rest goes on live. The alerts equal those of an uninterrupted run byte for
+     * byte.
+     */
+    @Test
+    void restartDuringACusumEpisodeGivesTheUninterruptedAlerts() throws Exception {
+        String withCusum = DEFINITION.replace("    rules: {}",
+                "    baseline: {from: 2026-02-02T00:00:00Z, to: 2026-02-05T00:00:00Z}\n"
+                        + "    rules: {cusum: {}, guard: {minEvents: 100}}");
+        // 14 days at 2,000 events a day; the household-contact log odds ratio rises by 0.8 after the
+        // baseline period, so the upper chart signals within the first few hundred events and keeps on
+        List<String> records = new ArrayList<>();
+        for (HouseEvents.HouseEvent e : HouseEvents.events(33, 28_000, D0, 14 * 86_400_000L, 0, at(3), 0.8, "north")) {
+            records.add(e.json());
+        }
+        CollectingListener uninterrupted = new CollectingListener();
+        MonitorPipeline reference = pipeline(withCusum, uninterrupted);
+        for (int i = 0; i < records.size(); i++) {
+            reference.offer(records.get(i).getBytes(StandardCharsets.UTF_8), RecordOrigin.kafka("t", 0, i), false);
+        }
+        reference.closeAll();
+        List<String> expected = uninterrupted.alerts.stream().map(Json::write).toList();
+        assertTrue(uninterrupted.alerts.stream().filter(a -> a.rule().equals("bernoulli-cusum-up")).count() >= 8,
+                "an episode long enough to stop in: " + expected.size());
+        for (int stop : new int[] {9_000, 17_000}) {
+            CollectingListener first = new CollectingListener();
+            MonitorPipeline before = pipeline(withCusum, first);
+            for (int i = 0; i < stop; i++) {
+                before.offer(records.get(i).getBytes(StandardCharsets.UTF_8), RecordOrigin.kafka("t", 0, i), false);
+            }
+            List<Alert> readBack = new ArrayList<>();
+            for (Alert a : first.alerts) {
+                readBack.add(Json.mapper().readValue(Json.write(a),
+                        Alert.class));
+            }
+            Collections.reverse(readBack);
+            CollectingListener second = new CollectingListener();
+            MonitorPipeline after = pipeline(withCusum, second);
+            after.restoreAlerts(readBack);
+            for (int i = 0; i < records.size(); i++) {
+                after.offer(records.get(i).getBytes(StandardCharsets.UTF_8), RecordOrigin.kafka("t", 0, i), i < stop);
+            }
+            after.closeAll();
+            List<String> combined = new ArrayList<>();
+            first.alerts.forEach(a -> combined.add(Json.write(a)));
+            second.alerts.forEach(a -> combined.add(Json.write(a)));
+            assertEquals(expected, combined, "stopped after record " + stop);
+        }
     }
 
     @Test

@@ -17,6 +17,7 @@ import org.junit.jupiter.api.Test;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.lifecycle.AlertState;
 import org.oddswatch.alerts.lifecycle.AlertSubject;
+import org.oddswatch.alerts.rules.Measurement;
 import org.oddswatch.alerts.metrics.OddswatchMeters;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.pipeline.MonitorPipeline;
@@ -171,6 +172,7 @@ class StreamSeriesLifecycleTest {
     private static Alert open(String stream) {
         Instant end = Instant.parse("2026-02-23T00:00:00Z");
         return new Alert("a-" + stream, stream, "odds-ratio-drift", new AlertSubject("household_contact", "yes"),
-                AlertState.RAISED, end.minusSeconds(28 * 86_400L), end, 3.1, 2.0, 3.0, null, 900, "message", "command");
+                AlertState.RAISED, end.minusSeconds(28 * 86_400L), end, "odds-ratio-z", 3.2, Measurement.Side.ABOVE, 3.1, 2.0,
+                3.0, null, null, 900, "message", "command");
     }
 }
