@@ -204,6 +204,7 @@ def draw_design(rng, seed, want_separated):
     sd = x.std(axis=0)
     beta = np.array([0.0 if sd[j] == 0 else rng.normal(0, 0.5) / sd[j] for j in range(p)])
     eta0 = x @ beta
+    eta0 -= np.average(eta0, weights=trials)              # uncentered columns: keep the intercept's search in range
     lo, hi = -40.0, 40.0
     for _ in range(100):
         mid = (lo + hi) / 2
