@@ -7,7 +7,6 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.MappingIterator;
 import com.fasterxml.jackson.dataformat.yaml.YAMLMapper;
-import java.io.File;
 import java.io.IOException;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
@@ -19,6 +18,7 @@ import java.util.concurrent.TimeUnit;
 import java.util.stream.Stream;
 import org.junit.jupiter.api.Assumptions;
 import org.junit.jupiter.api.Test;
+import org.oddswatch.estimator.reference.ReferenceTools;
 import org.oddswatch.ingest.definition.DefinitionException;
 import org.oddswatch.ingest.definition.DefinitionLoader;
 import org.oddswatch.ingest.definition.MonitorConfig;
@@ -146,7 +146,7 @@ class DeployFilesTest {
     @Test
     void promtoolAcceptsThePrometheusConfiguration() throws Exception {
         // Source: promtool from Debian's prometheus package, where installed (not in CI)
-        Path promtool = onPath("promtool");
+        Path promtool = ReferenceTools.onPath("promtool");
         Assumptions.assumeTrue(promtool != null, "promtool is not installed");
         Result r = exec(promtool.toString(), "check", "config", DEPLOY.resolve("prometheus/prometheus.yml").toString());
         assertEquals(0, r.status(), r.output());
@@ -155,7 +155,7 @@ class DeployFilesTest {
 
     @Test
     void kustomizeRendersTheManifests() throws Exception {
-        Path kubectl = onPath("kubectl");
+        Path kubectl = ReferenceTools.onPath("kubectl");
         Assumptions.assumeTrue(kubectl != null, "kubectl is not installed");
         Result r = exec(kubectl.toString(), "kustomize", DEPLOY.resolve("k8s").toString());
         assertEquals(0, r.status(), r.output());
@@ -187,15 +187,5 @@ class DeployFilesTest {
         String out = new String(p.getInputStream().readAllBytes(), StandardCharsets.UTF_8);
         assertTrue(p.waitFor(60, TimeUnit.SECONDS), "finished");
         return new Result(p.exitValue(), out);
-    }
-
-    private static Path onPath(String tool) {
-        for (String dir : System.getenv().getOrDefault("PATH", "").split(File.pathSeparator)) {
-            Path candidate = Path.of(dir, tool);
-            if (Files.isExecutable(candidate)) {
-                return candidate;
-            }
-        }
-        return null;
     }
 }
