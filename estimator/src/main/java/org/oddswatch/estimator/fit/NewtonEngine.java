@@ -23,8 +23,9 @@ import org.apache.commons.math3.linear.RealMatrix;
  *     noise (this is how a problem with millions of events, whose summed objective cannot resolve the
  *     last digits, converges);
  * <li>not converged when no step length improves the objective beyond rounding while the predicted gain
- *     is above it, when the information matrix is singular, at the optional divergence stop, or at the
- *     iteration cap.
+ *     is above it, when the information matrix is singular, at the optional divergence stop (some
+ *     |eta| beyond the limit while the last step lowered {@code lambda^2} by less than a factor 10), or
+ *     at the iteration cap.
  * </ul>
  *
  * <p>Step length: the largest {@code t = 1, 1/2, 1/4, ...} (at most 30 halvings) whose objective is not
@@ -38,6 +39,13 @@ import org.apache.commons.math3.linear.RealMatrix;
 final class NewtonEngine {
 
     private static final int MAX_HALVINGS = 30;
+    /**
+     * The divergence stop needs, besides some |eta| beyond the limit, a decrement that the last step
+     * lowered by less than this factor: Newton steps along a separating direction raise the margin by
+     * about one unit each and lower {@code lambda^2} by about {@code e^-1}, while a fit in the quadratic
+     * region of a finite maximum (however large its |eta|, say from an uncentred year) lowers it by far more.
+     */
+    static final double DIVERGENCE_RATIO = 0.1;
     /**
      * Relative size of rounding noise in a summed objective: a trial that is lower by less than
      * {@code ROUNDING (|l| + 1)} counts as no change.
@@ -77,13 +85,13 @@ final class NewtonEngine {
                 stop = new FitStop(FitStop.Reason.DECREMENT_BELOW_TOLERANCE, decrement);
                 break;
             }
-            double noise = ROUNDING * (Math.abs(current.objective) + 1);
+            double noise = noise(current, penalized);
             boolean belowRounding = decrement / 2 <= noise;
             if (belowRounding && previousBelowRounding && decrement >= previousDecrement) {
                 stop = new FitStop(FitStop.Reason.ROUNDING_FLOOR, decrement);
                 break;
             }
-            if (current.maxAbsEta > control.divergenceEta()) {
+            if (current.maxAbsEta > control.divergenceEta() && decrement > DIVERGENCE_RATIO * previousDecrement) {
                 stop = new FitStop(FitStop.Reason.DIVERGING, decrement);
                 break;
             }
@@ -120,6 +128,33 @@ final class NewtonEngine {
             current = polish(problem, groups, current, delta, penalized);
         }
         return result(problem, current, iterations, stop, warm, penalized, fixed, trace, iterations + 1);
+    }
+
+    /**
+     * The rounding level of the objective at {@code pass}: {@code ROUNDING (|l| + 1)}, and for Firth's
+     * penalized objective also the rounding of {@code 0.5 log det I}. An information matrix whose entries
+     * carry relative errors up to {@code ROUNDING} (summed over rows; bounded by
+     * {@code sqrt(I_jj I_kk)} by Cauchy–Schwarz) has its log-determinant moved by up to
+     * {@code tr(I^-1 dI) <= ROUNDING sum_jk |(I^-1)_jk| sqrt(I_jj I_kk)}: at least p, and as large as the
+     * condition of the correlation form of I allows. Uncentred columns (a calendar year next to the
+     * intercept) make that sum large, and step-halving on a penalized objective noisier than
+     * {@code ROUNDING (|l| + 1)} would stop at noise rather than at the maximum.
+     */
+    private static double noise(BinomialPass pass, boolean penalized) {
+        double level = ROUNDING * (Math.abs(pass.objective) + 1);
+        if (!penalized || pass.factor == null) {
+            return level;
+        }
+        int p = pass.p;
+        double[] inverse = DenseCholesky.inverse(pass.factor, p);
+        double sum = 0;
+        for (int j = 0; j < p; j++) {
+            for (int k = 0; k < p; k++) {
+                sum += Math.abs(inverse[j * p + k])
+                        * Math.sqrt(pass.information[j * p + j] * pass.information[k * p + k]);
+            }
+        }
+        return level + 0.5 * ROUNDING * sum;
     }
 
     /** {@code lambda^2 = g_f' d}: the score times the Newton direction over the free coordinates. */

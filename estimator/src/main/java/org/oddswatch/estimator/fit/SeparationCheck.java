@@ -41,15 +41,20 @@ import org.apache.commons.math3.optim.nonlinear.scalar.GoalType;
  * {@code 1 / max_j |c_j|}) so the simplex's tolerances are relative. Every step is deterministic.
  *
  * <p>S stays small because a separating direction or an overlap certificate needs few points
- * (typically two or three rounds). After {@link #MAX_ROUNDS} rounds, or if the simplex fails, the
- * answer is UNDECIDED and {@link #heuristic} decides: a Newton fit that did not converge, or converged
- * with some linear predictor beyond {@code +-15} (fitted probability within 3e-7 of 0 or 1), counts as
- * separated.
+ * (typically two or three rounds). After {@link #MAX_ROUNDS} rounds, if the simplex fails, or if its
+ * solution violates one of its own constraints beyond rounding (Commons Math's simplex compares to
+ * 1e-6, so on nearly degenerate programmes it can return a point that is not feasible), the answer is
+ * UNDECIDED and {@link #heuristic} decides from a Newton fit run without the divergence stop: one that
+ * did not converge, or converged with some linear predictor beyond {@code +-}{@link #HEURISTIC_ETA}
+ * (fitted probability within 1e-13 of 0 or 1, which no finite maximum of a well-posed window needs),
+ * counts as separated.
  */
 public final class SeparationCheck {
 
     /** |eta| beyond which a fitted probability counts as numerically 0 or 1. */
     public static final double EXTREME_ETA = 15;
+    /** |eta| beyond which a converged fit still counts as separated when the programme is undecided. */
+    public static final double HEURISTIC_ETA = 30;
     /** Violated points added to the programme per round. */
     static final int BATCH = 32;
     /** Rounds of constraint generation before the check gives up (UNDECIDED). */
@@ -80,18 +85,24 @@ public final class SeparationCheck {
         return !fit.converged() || fit.maxAbsLinearPredictor() > EXTREME_ETA;
     }
 
-    /** The fallback decision when the programme could not be solved. */
+    /** The fallback decision when the programme could not be solved (see the class comment). */
     public static boolean heuristic(FitResult fit) {
-        return suspicious(fit);
+        return !fit.converged() || fit.maxAbsLinearPredictor() > HEURISTIC_ETA;
     }
 
-    /** Decides separation of a full-rank problem (offsets are ignored). */
+    /**
+     * Decides separation of a full-rank problem (offsets are ignored). The programme runs on the columns
+     * recoded by {@link ColumnStandardization} (each spanning [-1, 1], centred against the intercept when
+     * there is one); the direction reported is the raw one.
+     */
     public static Outcome check(FitProblem problem) {
         int p = problem.columns();
         int n = problem.rows();
         double[] x = problem.x();
         double[] t = problem.trials();
         double[] y = problem.positives();
+        ColumnStandardization recoding = ColumnStandardization.of(problem);
+        double[] row = new double[p];
         double[] c = new double[p];
         for (int i = 0; i < n; i++) {
             int sign = pointSigns(t[i], y[i]);
@@ -100,8 +111,9 @@ public final class SeparationCheck {
                 continue;
             }
             double s = sign == 1 ? 1 : -1;
+            recoding.row(x, i, row);
             for (int j = 0; j < p; j++) {
-                c[j] += s * x[i * p + j];
+                c[j] += s * row[j];
             }
         }
         double cMax = 0;
@@ -126,43 +138,55 @@ public final class SeparationCheck {
                 value += c[j] * b[j];
             }
             if (value <= POSITIVE) {
-                return new Outcome(Verdict.NONE, new int[0], b, round, active.size());
+                return new Outcome(Verdict.NONE, new int[0], recoding.toRaw(b), round, active.size());
             }
             MostViolated worst = new MostViolated(BATCH);
+            boolean programmeViolated = false;
             for (int i = 0; i < n; i++) {
                 int sign = pointSigns(t[i], y[i]);
                 if (sign == 0) {
                     continue;
                 }
-                int base = i * p;
+                recoding.row(x, i, row);
                 double eta = 0;
                 double norm = 0;
                 for (int j = 0; j < p; j++) {
-                    double v = x[base + j];
-                    eta += v * b[j];
-                    norm += Math.abs(v);
+                    eta += row[j] * b[j];
+                    norm += Math.abs(row[j]);
                 }
-                if ((sign & 1) != 0 && eta < -VIOLATION * norm && !inProgramme.get(2 * i)) {
-                    worst.offer(eta / norm, 2 * i);
+                if ((sign & 1) != 0 && eta < -VIOLATION * norm) {
+                    if (inProgramme.get(2 * i)) {
+                        programmeViolated = true;
+                    } else {
+                        worst.offer(eta / norm, 2 * i);
+                    }
                 }
-                if ((sign & 2) != 0 && -eta < -VIOLATION * norm && !inProgramme.get(2 * i + 1)) {
-                    worst.offer(-eta / norm, 2 * i + 1);
+                if ((sign & 2) != 0 && -eta < -VIOLATION * norm) {
+                    if (inProgramme.get(2 * i + 1)) {
+                        programmeViolated = true;
+                    } else {
+                        worst.offer(-eta / norm, 2 * i + 1);
+                    }
                 }
             }
             if (worst.size() == 0) {
-                return new Outcome(Verdict.SEPARATED, involved(b), b, round, active.size());
+                // A solution that violates its own constraints beyond rounding is no certificate.
+                return programmeViolated ? new Outcome(Verdict.UNDECIDED, new int[0], null, round, active.size())
+                        : new Outcome(Verdict.SEPARATED, recoding.involved(b, INVOLVED), recoding.toRaw(b), round,
+                                active.size());
             }
             for (int k : worst.pointsInOrder()) {
                 inProgramme.set(k);
                 int i = k / 2;
                 double s = k % 2 == 0 ? 1 : -1;
+                recoding.row(x, i, row);
                 double norm = 0;
                 for (int j = 0; j < p; j++) {
-                    norm += Math.abs(x[i * p + j]);
+                    norm += Math.abs(row[j]);
                 }
                 double[] a = new double[p];
                 for (int j = 0; j < p; j++) {
-                    a[j] = s * x[i * p + j] / norm;
+                    a[j] = s * row[j] / norm;
                 }
                 active.add(a);
             }
@@ -198,22 +222,6 @@ public final class SeparationCheck {
         } catch (MathIllegalStateException e) {
             return null;
         }
-    }
-
-    private static int[] involved(double[] b) {
-        int count = 0;
-        for (double v : b) {
-            if (Math.abs(v) > INVOLVED) {
-                count++;
-            }
-        }
-        int[] out = new int[count];
-        for (int j = 0, r = 0; j < b.length; j++) {
-            if (Math.abs(b[j]) > INVOLVED) {
-                out[r++] = j;
-            }
-        }
-        return out;
     }
 
     /**

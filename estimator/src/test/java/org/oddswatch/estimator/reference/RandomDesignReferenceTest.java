@@ -70,7 +70,9 @@ class RandomDesignReferenceTest {
 
     private static String describe(List<Outcome> list) {
         StringBuilder s = new StringBuilder();
-        list.stream().limit(12).forEach(o -> s.append(String.format(Locale.ROOT,
+        s.append(list.stream().map(o -> String.valueOf(o.design.id())).collect(java.util.stream.Collectors.joining(
+                ", ", " (ids ", ")")));
+        list.forEach(o -> s.append(String.format(Locale.ROOT,
                 "%n  design %d (%s, %d columns, %d rows, %d trials): %s, %d iterations, max scaled score %.3g%s",
                 o.design.id(), o.design.storage(), o.design.columns(), o.design.rows(), o.design.totalTrials(),
                 o.fit.state(), o.fit.fit().iterations(), o.fit.fit().maxAbsScore(),
