@@ -126,6 +126,97 @@ final class ColumnStandardization {
         return out;
     }
 
+    /**
+     * Whether some column lies far from zero relative to its spread ({@code |m_j| > 2 s_j}, beside a
+     * constant column): a calendar year, not an indicator or an age from 0. Only then does the
+     * information in the raw columns lose digits to cancellation ({@link #covariance}).
+     */
+    boolean centresMatter() {
+        if (constant < 0) {
+            return false;
+        }
+        for (int j = 0; j < p; j++) {
+            if (j != constant && Math.abs(centre[j]) > 2 * scale[j]) {
+                return true;
+            }
+        }
+        return false;
+    }
+
+    /**
+     * The inverse information at {@code beta}, {@code T (X'_r W X_r)^-1 T'}, with the information summed
+     * over the recoded rows {@code x'_i} and mapped back by the recoding's matrix T (column j of T is
+     * {@link #toRaw} of the j-th unit vector). Equal to {@code (X'WX)^-1} in exact arithmetic; in
+     * floating point the raw sum of a column such as 2026 + month/12 carries its rounding at the size of
+     * 2026^2, and the inverse amplifies that by the near-collinearity with the intercept (1e-6 relative
+     * in the standard errors of designs with uncentred years and a near copy of them), while the
+     * recoded sum carries it at the size of the spread. Null when not positive definite.
+     */
+    double[][] covariance(FitProblem problem, double[] beta) {
+        int n = problem.rows();
+        double[] x = problem.x();
+        double[] offset = problem.offset();
+        double[] info = new double[p * p];
+        double[] row = new double[p];
+        for (int i = 0; i < n; i++) {
+            double trials = problem.trials()[i];
+            if (trials == 0) {
+                continue;
+            }
+            double eta = offset == null ? 0 : offset[i];
+            for (int j = 0; j < p; j++) {
+                eta += x[i * p + j] * beta[j];
+            }
+            double e = Math.exp(-Math.abs(eta));
+            double w = trials * e / ((1 + e) * (1 + e));
+            row(x, i, row);
+            for (int j = 0; j < p; j++) {
+                double wj = w * row[j];
+                for (int k = 0; k <= j; k++) {
+                    info[j * p + k] += wj * row[k];
+                }
+            }
+        }
+        double[][] recoded = new double[p][p];
+        for (int j = 0; j < p; j++) {
+            for (int k = 0; k <= j; k++) {
+                recoded[j][k] = info[j * p + k];
+                recoded[k][j] = info[j * p + k];
+            }
+        }
+        double[][] inverse = NewtonEngine.inverse(recoded);
+        if (inverse == null) {
+            return null;
+        }
+        double[][] t = new double[p][];
+        for (int j = 0; j < p; j++) {
+            double[] unit = new double[p];
+            unit[j] = 1;
+            t[j] = toRaw(unit);
+        }
+        // cov_ab = sum_jk T_aj C_jk T_bk, with T_aj = t[j][a].
+        double[][] cov = new double[p][p];
+        for (int a = 0; a < p; a++) {
+            double[] tc = new double[p];
+            for (int k = 0; k < p; k++) {
+                double sum = 0;
+                for (int j = 0; j < p; j++) {
+                    sum += t[j][a] * inverse[j][k];
+                }
+                tc[k] = sum;
+            }
+            for (int b = 0; b <= a; b++) {
+                double sum = 0;
+                for (int k = 0; k < p; k++) {
+                    sum += tc[k] * t[k][b];
+                }
+                cov[a][b] = sum;
+                cov[b][a] = sum;
+            }
+        }
+        return cov;
+    }
+
     /** The whole problem in the recoded columns (for tests and small problems). */
     FitProblem apply(FitProblem problem) {
         double[] x = new double[problem.rows() * p];

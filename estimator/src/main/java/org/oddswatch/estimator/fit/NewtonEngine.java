@@ -81,7 +81,8 @@ final class NewtonEngine {
                 break;
             }
             double decrement = decrement(current, delta, fixed);
-            if (decrement <= control.tolerance()) {
+            if (penalized ? remaining(decrement, previousDecrement) <= FIRTH_TIGHTENING * control.tolerance()
+                    : decrement <= control.tolerance()) {
                 stop = new FitStop(FitStop.Reason.DECREMENT_BELOW_TOLERANCE, decrement);
                 break;
             }
@@ -101,30 +102,43 @@ final class NewtonEngine {
             }
             BinomialPass accepted = null;
             double t = 1;
-            for (int h = 0; h <= MAX_HALVINGS; h++, t *= 0.5) {
-                BinomialPass trial = evaluate(problem, groups, move(current.beta, delta, t), penalized, false);
+            for (int h = 0; h <= MAX_HALVINGS; h++) {
+                BinomialPass trial = evaluate(problem, groups, move(current.beta, delta, t), penalized, penalized);
                 double fall = current.objective - trial.objective;
-                if (fall <= 0 || belowRounding && fall <= noise) {
+                if (fall <= 0 || !penalized && belowRounding && fall <= noise) {
                     accepted = trial;
                     break;
+                }
+                if (penalized && fall <= noise && trial.factor != null) {
+                    // The comparison is rounding: the slope along the direction decides instead (below).
+                    double slope = slope(trial, delta, fixed);
+                    if (slope >= 0) {
+                        accepted = trial;
+                        break;
+                    }
+                    t = secant(t, decrement, slope);
+                    continue;
                 }
                 if (fall <= noise) {
                     // Flat to rounding although the predicted gain is not: halving cannot help.
                     break;
                 }
+                t *= 0.5;
             }
             if (accepted == null) {
                 stop = new FitStop(FitStop.Reason.NO_IMPROVEMENT, decrement);
                 break;
             }
-            finish(problem, groups, accepted, penalized);
+            if (!penalized) {
+                finish(problem, groups, accepted, penalized);
+            }
             iterations++;
             current = accepted;
             trace[iterations] = current.objective;
             previousDecrement = decrement;
             previousBelowRounding = belowRounding;
         }
-        if (stop.converged() && fixed == null) {
+        if (stop.converged() && fixed == null && !penalized) {
             current = polish(problem, groups, current, delta, penalized);
         }
         return result(problem, current, iterations, stop, warm, penalized, fixed, trace, iterations + 1);
@@ -155,6 +169,57 @@ final class NewtonEngine {
             }
         }
         return level + 0.5 * ROUNDING * sum;
+    }
+
+    /**
+     * Firth fits stop at a squared remaining distance this many times smaller than the tolerance: they
+     * take no polishing step (a full Firth step can overshoot, see {@link #secant}), so the iteration
+     * itself goes the rest of the way, to within {@code 1e-8} standard errors at the default tolerance.
+     */
+    static final double FIRTH_TIGHTENING = 1e-4;
+
+    /**
+     * The squared distance to the maximum still to go, in the information's metric, for the linearly
+     * converging Firth iteration: with the decrement contracting by {@code rho = lambda_k / lambda_{k-1}}
+     * per step, the steps still to come sum to at most {@code lambda / (1 - rho)}; so
+     * {@code lambda^2 / (1 - rho)^2}, infinite while the decrement does not contract. (Newton's quadratic
+     * convergence needs no such factor.)
+     */
+    private static double remaining(double decrement, double previousDecrement) {
+        double rho = Math.sqrt(decrement / previousDecrement);
+        if (!(rho < 1)) {
+            return Double.POSITIVE_INFINITY;
+        }
+        return decrement / ((1 - rho) * (1 - rho));
+    }
+
+    /**
+     * The slope {@code g(beta + t d) . d} of the objective along the step direction at a trial point
+     * (free coordinates; {@code d} is 0 on fixed ones). For Firth's penalized objective, whose values
+     * carry the rounding of {@code log det I}, this decides a step once the objective change is below
+     * rounding: along an ascent direction of a concave section a non-negative slope at t means the
+     * objective at t is above its value at 0. The score is computed directly, not as a difference, so it
+     * is accurate to its own relative rounding.
+     */
+    private static double slope(BinomialPass trial, double[] delta, boolean[] fixed) {
+        double sum = 0;
+        for (int j = 0; j < trial.p; j++) {
+            if (fixed == null || !fixed[j]) {
+                sum += trial.score[j] * delta[j];
+            }
+        }
+        return sum;
+    }
+
+    /**
+     * Where the slope along the direction reaches 0 by linear interpolation between {@code lambda^2} at
+     * 0 and the (negative) {@code slope} at t: {@code t lambda^2 / (lambda^2 - slope)}, in (0, t). Firth's
+     * step {@code I^-1 U*} uses the information, not the curvature of the penalized objective, and
+     * overshoots where the penalty supplies most of that curvature (along a separating direction); the
+     * interpolated length corrects the overshoot in one more evaluation where halving would need many.
+     */
+    private static double secant(double t, double decrement, double slope) {
+        return t * decrement / (decrement - slope);
     }
 
     /** {@code lambda^2 = g_f' d}: the score times the Newton direction over the free coordinates. */
@@ -247,10 +312,24 @@ final class NewtonEngine {
 
     private static FitResult result(FitProblem problem, BinomialPass pass, int iterations, FitStop stop,
                                     boolean warm, boolean penalized, boolean[] fixed, double[] trace, int traceLength) {
-        double[][] covariance = fixed == null ? covariance(pass) : null;
+        double[][] covariance = fixed == null ? covariance(problem, pass) : null;
         return new FitResult(pass.beta.clone(), covariance, pass.logLikelihood, pass.objective, iterations, stop,
                 warm, penalized ? FitMethod.FIRTH : FitMethod.NEWTON, new int[0], pass.maxScaledScore(fixed),
                 pass.maxAbsEta, Arrays.copyOf(trace, traceLength), pass.score.clone());
+    }
+
+    /**
+     * The inverse information at the pass's estimates: from the pass's information, or, when some column
+     * lies far from zero relative to its spread (an uncentred year), from the information summed over
+     * recoded columns and mapped back ({@link ColumnStandardization#covariance}), which keeps the digits
+     * the raw sum loses to cancellation. Null when not positive definite.
+     */
+    static double[][] covariance(FitProblem problem, BinomialPass pass) {
+        ColumnStandardization recoding = ColumnStandardization.of(problem);
+        if (recoding.centresMatter()) {
+            return recoding.covariance(problem, pass.beta);
+        }
+        return covariance(pass);
     }
 
     /** Inverse information by Commons Math's Cholesky decomposition, or null when not positive definite. */
@@ -260,7 +339,16 @@ final class NewtonEngine {
         for (int j = 0; j < p; j++) {
             for (int k = 0; k < p; k++) {
                 info[j][k] = pass.information[j * p + k];
-                if (!Double.isFinite(info[j][k])) {
+            }
+        }
+        return inverse(info);
+    }
+
+    /** Inverse of a symmetric matrix by Commons Math's Cholesky decomposition, or null when not positive definite. */
+    static double[][] inverse(double[][] info) {
+        for (double[] row : info) {
+            for (double v : row) {
+                if (!Double.isFinite(v)) {
                     return null;
                 }
             }
