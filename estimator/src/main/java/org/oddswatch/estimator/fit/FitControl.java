@@ -11,7 +11,9 @@ package org.oddswatch.estimator.fit;
  * number of events and any scaling of the columns.
  *
  * <p>A divergence stop (off by default) ends the iteration, not converged, as soon as some linear
- * predictor exceeds {@code divergenceEta} in absolute value: the symptom of separation, where Newton
+ * predictor exceeds {@code divergenceEta} in absolute value while the last step lowered the decrement by
+ * less than a factor 10 (a fit in the quadratic region of a finite maximum lowers it by far more, so a
+ * large |eta| from an uncentred column does not stop it): the symptom of separation, where Newton
  * steps walk off to infinity one unit at a time. The window fit uses it for its first attempt only, so a
  * separated window does not spend the whole cap twice before the separation check; when the check
  * finds no separation the fit is rerun without it.

@@ -67,7 +67,8 @@ public record FitStop(Reason reason, double decrement) {
                     + objective + " (Newton decrement " + lambda + ")";
             case NO_IMPROVEMENT -> after + "no step improved the " + objective
                     + " beyond rounding while the Newton decrement was " + lambda;
-            case DIVERGING -> after + "the estimates were diverging (fitted probabilities within 3e-7 of 0 or 1)";
+            case DIVERGING -> after + "the estimates were diverging (fitted probabilities within 3e-7 of 0 or 1 "
+                    + "and still moving)";
             case ITERATION_CAP -> after + "the iteration cap was reached with the Newton decrement at " + lambda;
             case SINGULAR_INFORMATION -> after + "the information matrix became singular (Newton decrement "
                     + lambda + ")";

@@ -35,6 +35,14 @@ import org.apache.commons.math3.linear.RealMatrix;
  * convergence one more Newton step (the polishing step) is taken, so that the result no longer depends
  * on the start in its last digits; constrained fits (profile and LR evaluations, which only need the
  * objective) skip it.
+ *
+ * <p>Firth fits differ in three ways, because their step {@code I^-1 U*} uses the information rather
+ * than the curvature of the penalized objective and so converges only linearly: a trial whose objective
+ * change is below the rounding level (which for {@code 0.5 log det I} grows with the conditioning of I,
+ * see {@link #noise}) is decided by the sign of the slope {@code U*(beta + t d) . d}, and a negative
+ * slope gives the next length by interpolation ({@link #secant}); convergence asks the remaining
+ * distance {@code lambda^2 / (1 - rho)^2} ({@link #remaining}) to be below {@code 1e-4} of the tolerance;
+ * and no polishing step is taken.
  */
 final class NewtonEngine {
 

@@ -57,6 +57,12 @@ public final class SeparationCheck {
     public static final double HEURISTIC_ETA = 30;
     /** Violated points added to the programme per round. */
     static final int BATCH = 32;
+    /** Pivots allowed to the first formulation of a round's programme. */
+    static final int PIVOTS = 10_000;
+    /**
+     * Pivots allowed to the second formulation of a round's programme (no phase one), the fallback.
+     */
+    static final int FALLBACK_PIVOTS = 2_000;
     /** Rounds of constraint generation before the check gives up (UNDECIDED). */
     static final int MAX_ROUNDS = 40;
 
@@ -202,20 +208,49 @@ public final class SeparationCheck {
         return (positives > 0 ? 1 : 0) | (trials - positives > 0 ? 2 : 0);
     }
 
-    /** The programme over the given points: its optimal b, or null when the simplex fails. */
+    /**
+     * The programme over the given points: its optimal b, or null when the simplex fails in both
+     * formulations. First as written ({@code a_i . b >= 0}, {@code -1 <= b_j <= 1}), with at most
+     * {@link #PIVOTS} pivots; when Commons Math's phase one reports this programme infeasible (it is
+     * not: b = 0 is feasible, but every point constraint has right-hand side 0, so the phase-one tableau
+     * is degenerate) or runs out of pivots, again with every constraint as {@code <=} with a non-negative
+     * right-hand side ({@code -a_i . b <= 0}, {@code -b_j <= 1}), which starts from b = 0 with no phase
+     * one. The second form is fast but its solutions less often satisfy their own constraints to
+     * rounding, so it is only the fallback (those solutions are checked like any other, see the class
+     * comment).
+     */
     private static double[] solve(double[] c, List<double[]> points, int p) {
+        double[] b = solve(c, points, p, false);
+        return b != null ? b : solve(c, points, p, true);
+    }
+
+    private static double[] solve(double[] c, List<double[]> points, int p, boolean allAtMost) {
         List<LinearConstraint> constraints = new ArrayList<>(points.size() + 2 * p);
         for (double[] a : points) {
-            constraints.add(new LinearConstraint(a, Relationship.GEQ, 0));
+            if (allAtMost) {
+                double[] negated = new double[p];
+                for (int j = 0; j < p; j++) {
+                    negated[j] = -a[j];
+                }
+                constraints.add(new LinearConstraint(negated, Relationship.LEQ, 0));
+            } else {
+                constraints.add(new LinearConstraint(a, Relationship.GEQ, 0));
+            }
         }
         for (int j = 0; j < p; j++) {
             double[] unit = new double[p];
             unit[j] = 1;
             constraints.add(new LinearConstraint(unit, Relationship.LEQ, 1));
-            constraints.add(new LinearConstraint(unit, Relationship.GEQ, -1));
+            if (allAtMost) {
+                double[] minus = new double[p];
+                minus[j] = -1;
+                constraints.add(new LinearConstraint(minus, Relationship.LEQ, 1));
+            } else {
+                constraints.add(new LinearConstraint(unit, Relationship.GEQ, -1));
+            }
         }
         try {
-            PointValuePair optimum = new SimplexSolver().optimize(new MaxIter(100_000),
+            PointValuePair optimum = new SimplexSolver().optimize(new MaxIter(allAtMost ? FALLBACK_PIVOTS : PIVOTS),
                     new LinearObjectiveFunction(c, 0), new LinearConstraintSet(constraints), GoalType.MAXIMIZE,
                     new NonNegativeConstraint(false), PivotSelectionRule.BLAND);
             return optimum.getPoint();
