@@ -1,0 +1,64 @@
+package org.oddswatch.deploy.sandbox;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import java.io.IOException;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Map;
+import java.util.TreeMap;
+import kafka.server.BrokerServer;
+import org.apache.kafka.common.network.ListenerName;
+import org.junit.jupiter.api.Test;
+
+/**
+ * The sandbox broker listens on the loopback interface only: every listening TCP socket of this
+ * process on the broker's client and controller ports is bound to 127.0.0.1.
+ */
+class EmbeddedBrokerLoopbackTest {
+
+    @Test
+    void clientAndControllerPortsAreBoundToLoopbackOnly() throws Exception {
+        try (EmbeddedBroker broker = EmbeddedBroker.start(0)) {
+            BrokerServer server = broker.cluster().brokers().values().iterator().next();
+            int client = server.boundPort(ListenerName.normalised("EXTERNAL"));
+            int controller = broker.cluster().controllers().values().iterator().next()
+                    .socketServer().boundPort(ListenerName.normalised("CONTROLLER"));
+            Map<Integer, List<String>> listening = listeningAddresses();
+            // Source: Linux proc(5), /proc/net/tcp and /proc/net/tcp6: local_address is the bound
+            // address in hex (IPv4 little-endian, 0100007F = 127.0.0.1, 00000000 = any) and st 0A
+            // is TCP_LISTEN.
+            for (int port : List.of(client, controller)) {
+                List<String> addresses = listening.get(port);
+                assertTrue(addresses != null && !addresses.isEmpty(), "port " + port + " listens: " + listening);
+                assertEquals(List.of("0100007F"), addresses, "port " + port + " bound to 127.0.0.1 only");
+            }
+            assertFalse(broker.bootstrapServers().isEmpty());
+        }
+    }
+
+    /** Listening TCP sockets by port, with their bound address in /proc's hex form. */
+    private static Map<Integer, List<String>> listeningAddresses() throws IOException {
+        Map<Integer, List<String>> out = new TreeMap<>();
+        for (String file : List.of("/proc/net/tcp", "/proc/net/tcp6")) {
+            Path path = Path.of(file);
+            if (!Files.exists(path)) {
+                continue;
+            }
+            List<String> lines = Files.readAllLines(path);
+            for (String line : lines.subList(1, lines.size())) {
+                String[] f = line.trim().split("\\s+");
+                if (!f[3].equals("0A")) {
+                    continue;
+                }
+                String[] local = f[1].split(":");
+                out.computeIfAbsent(Integer.parseInt(local[1], 16), p -> new ArrayList<>()).add(local[0]);
+            }
+        }
+        return out;
+    }
+}
