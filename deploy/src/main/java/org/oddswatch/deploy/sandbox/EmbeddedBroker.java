@@ -15,6 +15,7 @@ import org.apache.kafka.clients.admin.Admin;
 import org.apache.kafka.clients.admin.AdminClientConfig;
 import org.apache.kafka.clients.admin.NewTopic;
 import org.apache.kafka.common.errors.TopicExistsException;
+import org.apache.kafka.common.network.ListenerName;
 import org.apache.kafka.common.test.KafkaClusterTestKit;
 import org.apache.kafka.common.test.PreboundSocketFactoryManager;
 import org.apache.kafka.common.test.TestKitNodes;
@@ -25,14 +26,18 @@ import org.apache.kafka.common.test.TestKitNodes;
  * with replication factor 1, data in a temporary directory deleted on close.
  *
  * <p>Both ports, the client listener and the controller's quorum listener, are bound to 127.0.0.1
- * only. The test kit reserves each listener's port up front on the wildcard address and hands that
- * socket to the node, whatever {@code listeners} says; it opens a socket of its own, on the
- * listener's configured host and the reserved port, only where the reserved one has been closed
- * (its way of restarting a node on the same port). So before start-up the reserved sockets are
- * closed ({@link #bindToLoopback}) and the node binds the configured 127.0.0.1 listeners on the
- * same ports. The ports are chosen by the kit (a requested client port is not kept).
+ * only. The test kit reserves a port up front, on the wildcard address, for each of its two
+ * listener names ({@code EXTERNAL} for clients, {@code CONTROLLER}) and hands that socket to the
+ * node whatever {@code listeners} says; it opens a socket of its own, on the listener's configured
+ * host, for a listener it reserved nothing for, and for one whose reserved socket has been closed
+ * (then on the reserved port: its way of restarting a node on the same port). So the client
+ * listener is named {@code LOOPBACK} (bound as configured: 127.0.0.1 and the requested port), and
+ * before start-up the reserved sockets are closed ({@link #bindToLoopback}): the controller binds
+ * 127.0.0.1 on its reserved port, and nothing listens on the wildcard address.
  */
 public final class EmbeddedBroker implements AutoCloseable {
+
+    private static final String CLIENT_LISTENER = "LOOPBACK";
 
     private final KafkaClusterTestKit cluster;
 
@@ -52,7 +57,11 @@ public final class EmbeddedBroker implements AutoCloseable {
                 .setNumControllerNodes(1)
                 .build();
         KafkaClusterTestKit cluster = new KafkaClusterTestKit.Builder(nodes)
-                .setConfigProp("listeners", "EXTERNAL://127.0.0.1:" + port + ",CONTROLLER://127.0.0.1:0")
+                // The client listener has a name of its own, so the kit reserves no socket for it and
+                // the node binds exactly 127.0.0.1:port (see the class comment).
+                .setConfigProp("listeners", CLIENT_LISTENER + "://127.0.0.1:" + port + ",CONTROLLER://127.0.0.1:0")
+                .setConfigProp("listener.security.protocol.map", CLIENT_LISTENER + ":PLAINTEXT,CONTROLLER:PLAINTEXT")
+                .setConfigProp("inter.broker.listener.name", CLIENT_LISTENER)
                 .setConfigProp("offsets.topic.replication.factor", "1")
                 .setConfigProp("offsets.topic.num.partitions", "1")
                 .setConfigProp("transaction.state.log.replication.factor", "1")
@@ -102,8 +111,8 @@ public final class EmbeddedBroker implements AutoCloseable {
 
     /** The {@code bootstrap.servers} value for any Kafka client on this machine. */
     public String bootstrapServers() {
-        // the kit names the bound port as localhost:<port>; the listener itself is on 127.0.0.1
-        return cluster.bootstrapServers().replace("localhost:", "127.0.0.1:");
+        return "127.0.0.1:" + cluster.brokers().values().iterator().next()
+                .boundPort(ListenerName.normalised(CLIENT_LISTENER));
     }
 
     /** The test kit's cluster (for tests that look at the nodes). */

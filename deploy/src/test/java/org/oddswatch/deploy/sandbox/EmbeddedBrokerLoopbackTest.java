@@ -1,7 +1,6 @@
 package org.oddswatch.deploy.sandbox;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
-import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import java.io.IOException;
@@ -23,9 +22,14 @@ class EmbeddedBrokerLoopbackTest {
 
     @Test
     void clientAndControllerPortsAreBoundToLoopbackOnly() throws Exception {
-        try (EmbeddedBroker broker = EmbeddedBroker.start(0)) {
+        int requested;
+        try (java.net.ServerSocket free = new java.net.ServerSocket(0)) {
+            requested = free.getLocalPort();
+        }
+        try (EmbeddedBroker broker = EmbeddedBroker.start(requested)) {
+            assertEquals("127.0.0.1:" + requested, broker.bootstrapServers(), "the requested client port is kept");
             BrokerServer server = broker.cluster().brokers().values().iterator().next();
-            int client = server.boundPort(ListenerName.normalised("EXTERNAL"));
+            int client = server.boundPort(ListenerName.normalised("LOOPBACK"));
             int controller = broker.cluster().controllers().values().iterator().next()
                     .socketServer().boundPort(ListenerName.normalised("CONTROLLER"));
             Map<Integer, List<String>> listening = listeningAddresses();
@@ -37,7 +41,8 @@ class EmbeddedBrokerLoopbackTest {
                 assertTrue(addresses != null && !addresses.isEmpty(), "port " + port + " listens: " + listening);
                 assertEquals(List.of("0100007F"), addresses, "port " + port + " bound to 127.0.0.1 only");
             }
-            assertFalse(broker.bootstrapServers().isEmpty());
+            // and clients reach the broker there
+            broker.createTopics(List.of("loopback-check"), 1, Map.of());
         }
     }
 

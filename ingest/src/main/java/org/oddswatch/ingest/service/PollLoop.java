@@ -81,8 +81,8 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
     private static final Duration POLL = Duration.ofMillis(100);
     private static final long SNAPSHOT_NANOS = 200_000_000L;
     private static final long IDLE_CHECK_NANOS = 1_000_000_000L;
-    /** How long the start may wait for a first assignment before the loop says the broker is unreachable. */
-    private static final long START_WAIT_NANOS = 10_000_000_000L;
+    /** Longest wait at the start for a broker connection before the loop says the broker is unreachable. */
+    private static final long MAX_START_WAIT_NANOS = 10_000_000_000L;
     /** Longest wait for outputs to be stored and for a commit, per try. */
     private static final Duration MAX_BROKER_WAIT = Duration.ofSeconds(5);
     /** Longest backoff between tries of a failing broker operation. */
@@ -221,7 +221,13 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
             } finally {
                 try {
                     if (!states.isEmpty() && publisher.storeFailure() == null) {
-                        flushAndCommit(states.keySet());
+                        try {
+                            flushAndCommit(states.keySet());
+                        } catch (WakeupException e) {
+                            // stop() woke the consumer up after its last poll: the wake-up is used
+                            // up now, so the last commit can be made.
+                            flushAndCommit(states.keySet());
+                        }
                     }
                 } finally {
                     worker.close();
@@ -487,7 +493,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
 
     /**
      * Whether the consumer has any broker connection: while it has none for {@code brokerWait}
-     * (at the start: for {@link #START_WAIT_NANOS}) the service is not ready, and one line says so.
+     * (at the start: twice the look-up timeout, at most 10 s) the service is not ready, and one line says so.
      */
     private void checkConnection(long now) {
         Double connections = connectionCount();
@@ -504,7 +510,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
         if (noConnectionSinceNanos == 0) {
             noConnectionSinceNanos = now;
         }
-        long limit = assignedOnce ? brokerWait.toNanos() : START_WAIT_NANOS;
+        long limit = assignedOnce ? brokerWait.toNanos() : Math.min(MAX_START_WAIT_NANOS, 2 * timeout.toNanos());
         if (now - noConnectionSinceNanos >= limit && !connectionRetry.failing()) {
             String reason = "no connection to any Kafka broker at " + bootstrapServers + " for "
                     + (now - noConnectionSinceNanos) / 1_000_000_000L + " s";
