@@ -37,9 +37,6 @@ class KillNineIT {
     @RegisterExtension
     static final EmbeddedKafka KAFKA = new EmbeddedKafka(Map.of("log.retention.ms", "-1"));
 
-    private static final String INPUT = ExampleTopics.INPUT;
-    private static final Path EXAMPLE = ExampleTopics.EXAMPLE;
-
     @TempDir
     Path dir;
 
@@ -49,14 +46,14 @@ class KillNineIT {
         Map<String, String> env = Map.of("ODDSWATCH_KAFKA_BOOTSTRAP_SERVERS", KAFKA.bootstrapServers());
         long records = ExampleTopics.simulate(KAFKA, "--duration", "20w");
 
-        try (JarProcess first = JarProcess.start(env, "run", "--config", EXAMPLE.toString(), "--http", "127.0.0.1:0",
-                "--instance", "first")) {
+        try (JarProcess first = JarProcess.start(env, "run", "--config", ExampleTopics.EXAMPLE.toString(),
+                "--http", "127.0.0.1:0", "--instance", "first")) {
             awaitConsumed(first, records);
             first.kill();
         }
         long committedAfterKill = committed();
-        try (JarProcess second = JarProcess.start(env, "run", "--config", EXAMPLE.toString(), "--http", "127.0.0.1:0",
-                "--instance", "second")) {
+        try (JarProcess second = JarProcess.start(env, "run", "--config", ExampleTopics.EXAMPLE.toString(),
+                "--http", "127.0.0.1:0", "--instance", "second")) {
             long deadline = System.nanoTime() + Duration.ofSeconds(90).toNanos();
             while (committed() < records || second.get("/health").statusCode() != 200) {
                 if (System.nanoTime() > deadline) {
@@ -83,8 +80,8 @@ class KillNineIT {
         }
         assertTrue(published.size() >= 45, "final estimates published: " + published.size());
         Path out = dir.resolve("replay");
-        JarProcess replay = JarProcess.start(env, "replay", "--config", EXAMPLE.toString(), "--topic", INPUT, "--out",
-                out.toString());
+        JarProcess replay = JarProcess.start(env, "replay", "--config", ExampleTopics.EXAMPLE.toString(), "--topic",
+                ExampleTopics.INPUT, "--out", out.toString());
         assertEquals(0, replay.awaitExit(Duration.ofSeconds(90)), replay.output());
         Set<String> replayed = new HashSet<>(Files.readAllLines(out.resolve("estimates.jsonl"), StandardCharsets.UTF_8));
         for (String estimate : published.values()) {
@@ -108,7 +105,7 @@ class KillNineIT {
     private static long committed() throws Exception {
         try (Admin admin = KAFKA.admin()) {
             OffsetAndMetadata c = admin.listConsumerGroupOffsets("oddswatch-respiratory").partitionsToOffsetAndMetadata().get()
-                    .get(new TopicPartition(INPUT, 0));
+                    .get(new TopicPartition(ExampleTopics.INPUT, 0));
             return c == null ? 0 : c.offset();
         }
     }

@@ -31,7 +31,6 @@ import java.util.TreeMap;
 import java.util.TreeSet;
 import java.util.concurrent.atomic.AtomicReference;
 import org.apache.kafka.clients.admin.NewTopic;
-import org.apache.kafka.clients.consumer.ConsumerRecord;
 import org.apache.kafka.clients.producer.KafkaProducer;
 import org.apache.kafka.clients.producer.ProducerConfig;
 import org.apache.kafka.clients.producer.ProducerRecord;
@@ -82,24 +81,6 @@ class ServiceFaultTest {
         for (String out : List.of("-estimates", "-rejects", "-alerts")) {
             KAFKA.createTopic(prefix + out, 1);
         }
-    }
-
-    /**
-     * Final estimates by key. With at-least-once delivery a final may come twice after a fault, but
-     * only with the same content; two different finals for one key fail.
-     */
-    private static Map<String, String> finalsOnceOrRepeatedAlike(String topic) {
-        Map<String, String> out = new TreeMap<>();
-        for (ConsumerRecord<String, byte[]> r : KAFKA.readAll(topic, Duration.ofSeconds(30))) {
-            String json = new String(r.value(), StandardCharsets.UTF_8);
-            if (ServiceTestSupport.tree(json).path("status").asText().equals("final")) {
-                String previous = out.put(r.key(), json);
-                if (previous != null && !previous.equals(json)) {
-                    fail("two different final estimates for " + r.key());
-                }
-            }
-        }
-        return out;
     }
 
     /** Every live final equals the replay's final of the same key; every stream has finals. */
@@ -229,7 +210,7 @@ class ServiceFaultTest {
         assertEquals(events.size(), service.status().counts().outcome(Outcome.ACCEPTED),
                 "every event applied once: " + service.status().counts());
         assertFinalsEqualReplay(ServiceTestSupport.replayFinals(config, prefix + "-tests", events),
-                finalsOnceOrRepeatedAlike(prefix + "-estimates"), regions.length);
+                ServiceTestSupport.finalsRepeatedAlike(KAFKA, prefix + "-estimates"), regions.length);
     }
 
     @Test

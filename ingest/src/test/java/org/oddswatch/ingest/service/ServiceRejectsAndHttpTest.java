@@ -246,7 +246,9 @@ class ServiceRejectsAndHttpTest {
             ServiceTestSupport.awaitTrue("ready", WAIT, service::ready);
         }
         assertNull(service.failure());
-        assertFalse(ServiceTestSupport.finals(KAFKA, prefix + "-estimates").isEmpty(), "finals stored after all");
+        // Outputs sent again from the commit on: a final may be there twice, with the same content.
+        assertFalse(ServiceTestSupport.finalsRepeatedAlike(KAFKA, prefix + "-estimates").isEmpty(),
+                "finals stored after all");
     }
 
     @Test
