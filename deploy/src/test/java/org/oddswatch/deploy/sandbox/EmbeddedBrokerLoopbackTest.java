@@ -9,6 +9,7 @@ import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.Map;
+import java.util.Set;
 import java.util.TreeMap;
 import kafka.server.BrokerServer;
 import org.apache.kafka.common.network.ListenerName;
@@ -34,12 +35,15 @@ class EmbeddedBrokerLoopbackTest {
                     .socketServer().boundPort(ListenerName.normalised("CONTROLLER"));
             Map<Integer, List<String>> listening = listeningAddresses();
             // Source: Linux proc(5), /proc/net/tcp and /proc/net/tcp6: local_address is the bound
-            // address in hex (IPv4 little-endian, 0100007F = 127.0.0.1, 00000000 = any) and st 0A
-            // is TCP_LISTEN.
+            // address in hex, in 32-bit words of host (little-endian) byte order, and st 0A is
+            // TCP_LISTEN. 127.0.0.1 reads 0100007F; a Java socket on an IPv6 stack shows it as the
+            // IPv4-mapped ::ffff:127.0.0.1, 0000000000000000FFFF00000100007F. The wildcard address
+            // reads 00000000 or 32 zeros.
+            Set<String> loopback = Set.of("0100007F", "0000000000000000FFFF00000100007F");
             for (int port : List.of(client, controller)) {
                 List<String> addresses = listening.get(port);
                 assertTrue(addresses != null && !addresses.isEmpty(), "port " + port + " listens: " + listening);
-                assertEquals(List.of("0100007F"), addresses, "port " + port + " bound to 127.0.0.1 only");
+                assertTrue(loopback.containsAll(addresses), "port " + port + " bound to 127.0.0.1 only: " + addresses);
             }
             // and clients reach the broker there
             broker.createTopics(List.of("loopback-check"), 1, Map.of());

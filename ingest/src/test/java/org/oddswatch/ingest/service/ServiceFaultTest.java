@@ -166,8 +166,9 @@ class ServiceFaultTest {
         List<TestFeed.Event> events = TestFeed.events(43, 3000, Instant.parse("2026-01-05T00:00:00Z"),
                 Duration.ofDays(120), Duration.ofHours(6), regions);
         MonitorConfig config = config(prefix, 8, SHORT_TIMEOUTS);
-        int half = events.size() / 2;
-        ServiceTestSupport.produce(KAFKA, prefix + "-tests", events.subList(0, half), true, true);
+        int first = events.size() * 2 / 5;
+        int half = events.size() * 7 / 10;
+        ServiceTestSupport.produce(KAFKA, prefix + "-tests", events.subList(0, first), true, true);
         PrometheusMeterRegistry registry = new PrometheusMeterRegistry(PrometheusConfig.DEFAULT);
         MonitorService service = new MonitorService(config, registry, "outage").start();
         try (service; HttpEndpoints http = HttpEndpoints.start(new InetSocketAddress("127.0.0.1", 0), registry,
@@ -178,6 +179,9 @@ class ServiceFaultTest {
             ServiceTestSupport.awaitTrue("ready", WAIT, service::ready);
             assertEquals(200, status(client, health));
 
+            // More events, and the broker goes away at once: the service is in the middle of them
+            // (outputs not yet stored, offsets not yet committed, or both).
+            ServiceTestSupport.produce(KAFKA, prefix + "-tests", events.subList(first, half), true, true);
             long stopped = System.nanoTime();
             KAFKA.stopBroker();
             long brokerDown = System.nanoTime();
