@@ -55,6 +55,11 @@ final class BrokerRetry {
         return nowNanos - sinceNanos;
     }
 
+    /** Makes a failing operation due at once (the broker answers again), keeping its run of failures. */
+    void retryNow(long nowNanos) {
+        nextNanos = nowNanos;
+    }
+
     boolean failing() {
         return failures > 0;
     }

@@ -105,7 +105,6 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
     private final BrokerRetry planRetry;
     private final BrokerRetry connectionRetry;
     private final String bootstrapServers;
-    private final long startedNanos = System.nanoTime();
     private boolean startWarned;
     private boolean inputPaused;
     private boolean commitDeferredLogged;
@@ -503,6 +502,9 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
         if (connections > 0) {
             noConnectionSinceNanos = 0;
             if (connectionRetry.failing()) {
+                // The broker answers again: what waits for it is tried at once, not after its backoff.
+                commitRetry.retryNow(now);
+                planRetry.retryNow(now);
                 brokerRecovered(connectionRetry, "connected to " + bootstrapServers);
             }
             return;
