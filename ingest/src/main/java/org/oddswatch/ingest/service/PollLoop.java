@@ -355,10 +355,17 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
             }
             // The partition's fields are written once per batch, not per record: the poll thread
             // reads objects allocated next to them.
+            state.pipeline.drainDecidedHeld(counts::add); // records held beyond the horizon, decided now
+            // no commit past a record still held beyond its stream's horizon (it is in no window yet)
+            long held = state.pipeline.oldestHeldOffset();
+            if (held != Long.MAX_VALUE && held > state.lastCommitted) {
+                nextCommit = nextCommit < 0 ? held : Math.min(nextCommit, held);
+            } else if (held != Long.MAX_VALUE) {
+                nextCommit = -1;
+            }
             if (nextCommit >= 0) {
                 state.nextCommit = nextCommit;
             }
-            state.pipeline.drainDecidedHeld(counts::add); // records held beyond the horizon, decided now
             state.pipeline.batchDone();
             state.rebuiltRecords += rebuilt;
             meters.rebuildRecords(rebuilt);
