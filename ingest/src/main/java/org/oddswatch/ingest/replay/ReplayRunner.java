@@ -17,6 +17,7 @@ import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.report.ReplayReport;
+import org.oddswatch.alerts.report.html.HtmlReport;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.ingest.definition.DefinitionException;
 import org.oddswatch.ingest.definition.DefinitionLoader;
@@ -38,7 +39,8 @@ import org.oddswatch.ingest.pipeline.StreamStatus;
  *   <li>{@code rejects.jsonl}: rejected and late records with their line number, reason and bytes;</li>
  *   <li>{@code alerts.jsonl}: alert messages in the order raised;</li>
  *   <li>{@code summary.json}: counts by outcome and reason, windows per stream;</li>
- *   <li>{@code report.md}: the readable report of the alerts module.</li>
+ *   <li>{@code report.md}: the readable report of the alerts module;</li>
+ *   <li>{@code report.html}: the same replay as charts in one self-contained page ({@link HtmlReport}).</li>
  * </ul>
  * At the end of the file every window that has received events is closed. The same definition and
  * file give byte-identical output.
@@ -101,6 +103,8 @@ public final class ReplayRunner {
                 Json.mapper().writerWithDefaultPrettyPrinter().writeValueAsString(summary) + "\n",
                 StandardCharsets.UTF_8);
         ReplayReport.write(request.out(), outputs.estimates, outputs.alerts, title(monitors, request));
+        HtmlReport.write(request.out(), outputs.estimates, outputs.alerts, title(monitors, request),
+                ReplayReport.SMALL_COUNT, RejectTimes.read(request.out().resolve(REJECTS), monitors));
         return summary;
     }
 
