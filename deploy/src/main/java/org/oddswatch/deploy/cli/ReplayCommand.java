@@ -21,8 +21,8 @@ import picocli.CommandLine.Model.CommandSpec;
 @Command(name = "replay", mixinStandardHelpOptions = true,
         description = {
             "Run past events through the monitor pipeline, time driven by the events, and write a report folder.",
-            "Writes estimates.jsonl (final windows), rejects.jsonl, alerts.jsonl, summary.json and report.md into "
-            + "--out. The same definition and events give byte-identical files. Every alert message carries the "
+            "Writes estimates.jsonl (final windows), rejects.jsonl, alerts.jsonl, summary.json, report.md and "
+            + "report.html (charts; open it in a browser) into --out. The same definition and events give byte-identical files. Every alert message carries the "
             + "replay command that reproduces it."})
 final class ReplayCommand implements Callable<Integer> {
 
@@ -75,6 +75,7 @@ final class ReplayCommand implements Callable<Integer> {
         w.println("replayed " + summary.records().consumed() + " records: " + Counts.outcomes(summary.records()));
         w.println("wrote " + summary.finalWindows() + " final window estimate(s), " + summary.rejectsWritten()
                 + " reject(s), " + summary.alerts() + " alert message(s) to " + out);
+        w.println("charts: open " + out.resolve("report.html") + " in a browser");
         if (summary.alerts() > 0) {
             w.println("alerts call for investigation; they are not a diagnosis or proof of cause (see "
                     + out.resolve("report.md") + ")");

@@ -8,9 +8,9 @@
     slate: '#6f7c86', wine: '#9b2f45', plum: '#7b4b7e'
   };
   var STRATA = ['#2b7a78', '#7b4b7e', '#a86b16', '#3f6ea5', '#55773a', '#9b2f45', '#5d6b75'];
-  var REJECTS = ['#9b2f45', '#a86b16', '#7b4b7e', '#3f6ea5', '#5d6b75', '#55773a', '#b4532a'];
+  var REJECTS = ['#b7798a', '#a99f8b', '#9a86b3', '#8aa2c2', '#a3b08a', '#c49a7a', '#8f979d'];
   var MARK = {
-    raised: { color: C.rust, style: 'triangle', radius: 8, label: 'raised' },
+    raised: { color: C.rust, style: 'triangle', radius: 10, label: 'raised' },
     continuing: { color: C.amber, style: 'circle', radius: 6, label: 'continuing' },
     cleared: { color: C.moss, style: 'rectRot', radius: 7, label: 'cleared' }
   };
@@ -88,7 +88,7 @@
       afterBuildTicks: function (scale) {
         var inside = ends.filter(function (x) { return x >= scale.min && x <= scale.max; });
         if (inside.length === 0) { return; }
-        var every = Math.max(1, Math.ceil(inside.length / (scale.width < 420 ? 4 : 6)));
+        var every = Math.max(1, Math.ceil(inside.length / Math.max(2, Math.floor(scale.width / 100))));
         var ticks = [];
         for (var i = inside.length - 1; i >= 0; i -= every) { ticks.unshift({ value: inside[i] }); }
         scale.ticks = ticks;
@@ -240,7 +240,7 @@
     s.rejects.byReason.forEach(function (r, j) {
       var col = REJECTS[j % REJECTS.length];
       sets.push({ type: 'bar', order: 4, label: 'rejected: ' + r.reason, role: 'rejects', data: points(xs, r.n), yAxisID: 'r',
-        stack: 'rejects', backgroundColor: col + 'b3', borderColor: col, borderWidth: 0, barPercentage: 0.7, categoryPercentage: 0.9 });
+        stack: 'rejects', backgroundColor: col, borderColor: col, borderWidth: 0, barPercentage: 0.7, categoryPercentage: 0.9 });
     });
     var extra = [];
     Object.keys(s.rejects.afterLastWindow || {}).forEach(function (k) { extra.push(k + ' ' + s.rejects.afterLastWindow[k] + ' after the last window'); });
