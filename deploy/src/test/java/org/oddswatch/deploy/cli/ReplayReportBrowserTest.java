@@ -135,6 +135,17 @@ class ReplayReportBrowserTest {
             Boolean flashed = (Boolean) js.executeScript("var f = document.querySelector('.chart.flash');"
                     + " return f !== null && f.getAttribute('data-chart') === arguments[0];", chartKey);
             assertTrue(flashed, "the row's chart is highlighted: " + chartKey);
+            // The stream finder hides the other streams' sections and alert rows.
+            WebElement filter = driver.findElement(By.id("filter"));
+            filter.sendKeys("north");
+            Object shown = js.executeScript("return Array.from(document.querySelectorAll('section.stream'))"
+                    + ".filter(function (s) { return !s.classList.contains('hidden'); })"
+                    + ".map(function (s) { return s.getAttribute('data-name'); });");
+            assertEquals(expected.windows.keySet().stream().filter(n -> n.contains("north")).toList(), shown);
+            filter.sendKeys(org.openqa.selenium.Keys.chord(org.openqa.selenium.Keys.CONTROL, "a"),
+                    org.openqa.selenium.Keys.BACK_SPACE);
+            assertEquals((long) expected.windows.size(), js.executeScript(
+                    "return document.querySelectorAll('section.stream:not(.hidden)').length;"));
             assertTrue(driver.findElement(By.cssSelector(".caution")).getText()
                     .contains("not a diagnosis or proof of cause"));
 

@@ -382,6 +382,7 @@
       list.appendChild(li);
     });
     document.getElementById('filter').addEventListener('input', applyFilter);
+    document.getElementById('filter').addEventListener('search', applyFilter);
   }
 
   var container = document.getElementById('streams');
