@@ -38,8 +38,9 @@ final class ChartLibrary {
             throw new UncheckedIOException(e);
         }
         script = script.replaceAll("(?m)^//# sourceMappingURL=.*$", "").stripTrailing();
-        if (script.toLowerCase(Locale.ROOT).contains("</script")) {
-            throw new IllegalStateException("Chart.js " + VERSION + " contains </script and cannot be inlined");
+        String lower = script.toLowerCase(Locale.ROOT);
+        if (lower.contains("</script") || lower.contains("<!--")) {
+            throw new IllegalStateException("Chart.js " + VERSION + " contains </script or <!-- and cannot be inlined");
         }
         SCRIPT = script;
     }

@@ -354,7 +354,7 @@
   function otherRejects() {
     var keys = Object.keys(data.otherRejects || {});
     if (!keys.length) { return; }
-    document.getElementById('other-rejects').appendChild(el('p', 'sub', 'Records rejected before any stream could be chosen: '
+    document.getElementById('other-rejects').appendChild(el('p', 'sub', 'Rejected records not counted on a stream shown here (no stream could be chosen, or theirs has no final window): '
       + keys.map(function (k) { return k + ' ' + data.otherRejects[k]; }).join('; ') + '.'));
   }
 

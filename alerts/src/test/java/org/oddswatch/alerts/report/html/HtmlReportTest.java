@@ -52,12 +52,14 @@ class HtmlReportTest {
 
     @Test
     void titleStreamNamesAndCommandsCannotCloseTheScriptOrAddMarkup() throws Exception {
-        String hostile = "north</script><script>alert(1)</script> & <b>";
+        String hostile = "north</script><script>alert(1)</script> & <b> <!-- \u2028\u2029";
         WindowEstimate w = with(Fixtures.windowWithZ(0, 0.5), hostile, 2010, 101, List.of(), List.of(), List.of());
         String html = HtmlReport.render(List.of(w), List.of(), "Spring </title><script>x()</script>", 5, List.of());
         assertEquals(3, count(html.toLowerCase(Locale.ROOT), "</script"), "only the page's own three script elements");
         assertTrue(html.contains("<title>Spring &lt;/title&gt;&lt;script&gt;x()&lt;/script&gt;</title>"), html.substring(0, 600));
         assertFalse(html.contains("<b>"));
+        assertFalse(html.contains("<!--"), "no comment can open inside a script");
+        assertFalse(html.contains("\u2028") || html.contains("\u2029"), "line separators are escaped");
         JsonNode data = island(html);
         assertEquals(hostile, data.get("streams").get(0).get("name").asText(), "JSON.parse gives the original text back");
         assertTrue(html.contains("Content-Security-Policy\" content=\"default-src 'none';"), "no request is allowed");
