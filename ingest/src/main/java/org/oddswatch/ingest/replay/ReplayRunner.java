@@ -104,7 +104,7 @@ public final class ReplayRunner {
                 StandardCharsets.UTF_8);
         ReplayReport.write(request.out(), outputs.estimates, outputs.alerts, title(monitors, request));
         HtmlReport.write(request.out(), outputs.estimates, outputs.alerts, title(monitors, request),
-                ReplayReport.SMALL_COUNT, RejectTimes.read(request.out().resolve(REJECTS), monitors));
+                ReplayPageOptions.of(request.out().resolve(REJECTS), monitors, ReplayReport.SMALL_COUNT));
         return summary;
     }
 

@@ -49,15 +49,14 @@ public final class HtmlReport {
      * @param estimates window estimates (only final ones are charted)
      * @param alerts the alerts of the replay
      * @param title the page title
-     * @param withholdBelow counts from 1 to {@code withholdBelow - 1} are withheld (at least 2)
-     * @param rejects rejected and late records with their stream, reason and event time where known
+     * @param options small-cell limit, rejects and rule settings
      */
     public static Path write(Path dir, List<WindowEstimate> estimates, List<Alert> alerts, String title,
-                             int withholdBelow, List<RejectMark> rejects) {
+                             ReportOptions options) {
         Path file = dir.resolve(FILE);
         try {
             Files.createDirectories(dir);
-            Files.writeString(file, render(estimates, alerts, title, withholdBelow, rejects), StandardCharsets.UTF_8);
+            Files.writeString(file, render(estimates, alerts, title, options), StandardCharsets.UTF_8);
         } catch (IOException e) {
             throw new UncheckedIOException("cannot write " + file, e);
         }
@@ -65,11 +64,11 @@ public final class HtmlReport {
     }
 
     /** The page text. */
-    public static String render(List<WindowEstimate> estimates, List<Alert> alerts, String title, int withholdBelow,
-                                List<RejectMark> rejects) {
+    public static String render(List<WindowEstimate> estimates, List<Alert> alerts, String title,
+                                ReportOptions options) {
         String shownTitle = title == null || title.isBlank() ? "oddswatch replay" : title;
-        String data = ScriptSafeJson.write(
-                ReportData.build(estimates, alerts, shownTitle, new SmallCells(withholdBelow), rejects));
+        int withholdBelow = options.withholdBelow();
+        String data = ScriptSafeJson.write(ReportData.build(estimates, alerts, shownTitle, options));
         Map<String, String> parts = Map.of(
                 "title", Html.escape(shownTitle),
                 "caution", Html.escape(AlertText.CAUTION),

@@ -1,5 +1,6 @@
 package org.oddswatch.alerts.report.html;
 
+import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.node.ArrayNode;
 import com.fasterxml.jackson.databind.node.JsonNodeFactory;
 import com.fasterxml.jackson.databind.node.ObjectNode;
@@ -11,6 +12,7 @@ import java.util.List;
 import java.util.Map;
 import java.util.TreeMap;
 import java.util.TreeSet;
+import org.oddswatch.alerts.engine.AlertRulesConfig;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.lifecycle.AlertText;
 import org.oddswatch.estimator.result.WindowEstimate;
@@ -20,7 +22,8 @@ import org.oddswatch.estimator.result.WindowStatus;
  * The data island of {@code report.html}: one object with the title, the caution, the small-cell
  * limit, the chart library, the alerts (table rows, each naming the chart its marker is on) and per
  * stream the series of {@link StreamSeries}, the CUSUM paths of {@link CusumPaths}, the rejects of
- * {@link RejectBuckets}, alert markers, and the baseline values and limits the alerts carry.
+ * {@link RejectBuckets}, alert markers, the baseline values and limits the alerts carry, and the
+ * limits of the stream's rule settings ({@link RuleLines}).
  * Deterministic: the same inputs give the same tree.
  */
 final class ReportData {
@@ -30,8 +33,9 @@ final class ReportData {
     private ReportData() {
     }
 
-    static ObjectNode build(List<WindowEstimate> estimates, List<Alert> alerts, String title, SmallCells cells,
-                            List<RejectMark> rejects) {
+    static ObjectNode build(List<WindowEstimate> estimates, List<Alert> alerts, String title, ReportOptions options) {
+        SmallCells cells = new SmallCells(options.withholdBelow());
+        List<RejectMark> rejects = options.rejects();
         Map<String, List<WindowEstimate>> byStream = new TreeMap<>();
         estimates.stream().filter(e -> e.status() == WindowStatus.FINAL)
                 .sorted(Comparator.comparing(WindowEstimate::stream).thenComparing(WindowEstimate::windowEnd))
@@ -68,7 +72,7 @@ final class ReportData {
             long[] ends = windows.stream().mapToLong(e -> e.windowEnd().toEpochMilli()).toArray();
             stream.set("rejects", RejectBuckets.of(ends, rejectsByStream.getOrDefault(name, List.of())));
             stream.set("cusum", CusumPaths.of(windows, own.stream().filter(a -> a.rule().contains("cusum")).toList()));
-            markers(stream, windows, own, alertRows, streams.size());
+            markers(stream, windows, own, alertRows, streams.size(), options.rulesOfStream().apply(name));
             streams.add(stream);
         }
         return root;
@@ -76,7 +80,7 @@ final class ReportData {
 
     /** Alert rows, chart markers, and the baseline values and limits the alerts carry, per chart. */
     private static void markers(ObjectNode stream, List<WindowEstimate> windows, List<Alert> own, ArrayNode rows,
-                                int streamIndex) {
+                                int streamIndex, AlertRulesConfig rules) {
         Map<Instant, WindowEstimate> byEnd = new LinkedHashMap<>();
         windows.forEach(w -> byEnd.put(w.windowEnd(), w));
         ArrayNode markers = stream.putArray("markers");
@@ -108,12 +112,12 @@ final class ReportData {
             recordReferenceLines(a, place, limits, baselines);
         }
         ObjectNode lines = stream.putObject("lines");
+        RuleLines.add(rules, keys(stream.get("terms")), keys(stream.get("cusum")), limits, lines);
         limits.forEach((chart, values) -> {
-            ArrayNode l = lines.putObject(chart).putArray("limits");
+            ArrayNode l = RuleLines.node(lines, chart).putArray("limits");
             values.forEach(v -> Compact.add(l, v));
         });
-        baselines.forEach((chart, value) -> (lines.has(chart) ? (ObjectNode) lines.get(chart) : lines.putObject(chart))
-                .put("baseline", Compact.round(value)));
+        baselines.forEach((chart, value) -> RuleLines.node(lines, chart).put("baseline", Compact.round(value)));
     }
 
     /**
@@ -126,11 +130,17 @@ final class ReportData {
         boolean drift = "odds-ratio-drift".equals(a.rule());
         boolean pValue = place.measure().contains("Hosmer");
         if (a.limit() != null && !drift && !pValue && !place.chart().startsWith("cusum:")) {
-            limits.computeIfAbsent(place.chart(), k -> new TreeSet<>()).add(a.limit());
+            limits.computeIfAbsent(place.chart(), k -> new TreeSet<>()).add(Compact.round(a.limit()));
         }
         if (drift && a.baseline() != null) {
             baselines.put(place.chart(), a.baseline());
         }
+    }
+
+    private static List<String> keys(JsonNode charts) {
+        List<String> keys = new ArrayList<>();
+        charts.forEach(c -> keys.add(c.get("key").asText()));
+        return keys;
     }
 
     /** Where the marker sits: the alert's observed value, or the window's O/E for a p-value alert. */

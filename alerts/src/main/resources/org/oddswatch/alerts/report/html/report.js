@@ -62,6 +62,13 @@
     return { label: label, role: role, data: [{ x: x0, y: value }, { x: x1, y: value }], borderColor: color,
       backgroundColor: color, borderWidth: 1.5, borderDash: dash || [], pointRadius: 0, pointHoverRadius: 0, fill: false };
   }
+  /** One dotted line per limit; the legend names them all once. */
+  function limitLines(values, span) {
+    var label = (values && values.length > 1 ? 'limits ' : 'limit ') + (values || []).map(num).join(' and ');
+    return (values || []).map(function (v, j) {
+      return hline(label, j === 0 ? 'limit' : 'limit-more', span[0], span[1], v, C.wine, [3, 3]);
+    });
+  }
   function markers(stream, key) {
     var sets = [];
     ['raised', 'continuing', 'cleared'].forEach(function (state) {
@@ -138,7 +145,7 @@
             sort: function (a, b) { return a.datasetIndex - b.datasetIndex; },
             filter: function (item, d) {
               var ds = d.datasets[item.datasetIndex];
-              return ds.role !== 'edge' && ds.role !== 'stratum-band'
+              return ds.role !== 'edge' && ds.role !== 'stratum-band' && ds.role !== 'limit-more'
                 && !(ds.role.indexOf('marker') === 0 && ds.data.length === 0);
             } } },
           tooltip: { callbacks: {
@@ -196,10 +203,10 @@
       if (lines.baseline !== undefined) {
         sets.push(hline('baseline ' + num(lines.baseline), 'baseline', span[0], span[1], lines.baseline, C.slate, [7, 4]));
       }
-      (lines.limits || []).forEach(function (v) { sets.push(hline('limit ' + num(v), 'limit', span[0], span[1], v, C.wine, [3, 3])); });
-      sets = sets.concat(markers(s, t.key));
+      sets = sets.concat(limitLines(lines.limits, span), markers(s, t.key));
       var sub = 'Against ' + (t.reference ? 'level ' + t.reference : 'a one-unit step' + (t.per ? ' of ' + t.per : ''))
-        + '; logarithmic scale. ' + (lines.baseline === undefined ? 'No drift alert carries the baseline value here.' : '');
+        + '; logarithmic scale. ' + (lines.baseline === undefined ? 'No drift alert carries the baseline value here. ' : '')
+        + (lines.note || '');
       chart(grid, i, t.key, 'Odds ratio: ' + t.label, sub, sets, { y: logAxis('odds ratio') }, xs);
     });
   }
@@ -212,9 +219,8 @@
       var lines = s.lines[k[0]] || {};
       var sets = band(k[6], xs, k[3], k[4], C.tealBand)
         .concat([series(k[5], 'value', xs, k[2], C.teal), hline('perfect (1)', 'reference', span[0], span[1], 1, '#b9b2a5', [2, 3])]);
-      (lines.limits || []).forEach(function (v) { sets.push(hline('limit ' + num(v), 'limit', span[0], span[1], v, C.wine, [3, 3])); });
-      sets = sets.concat(markers(s, k[0]));
-      chart(grid, i, k[0], k[1], 'Of the frozen baseline model on each window. Limits shown are those the alerts carry.',
+      sets = sets.concat(limitLines(lines.limits, span), markers(s, k[0]));
+      chart(grid, i, k[0], k[1], 'Of the frozen baseline model on each window, with the limits of the calibration rule.',
         sets, { y: { grid: { color: C.grid } } }, xs);
     });
   }
@@ -277,6 +283,7 @@
       : 'no final windows';
     facts += ' · ' + (alerts ? alerts + ' alert message' + (alerts > 1 ? 's' : '') : 'no alerts');
     if (s.withheldWindows) { facts += ' · ' + s.withheldWindows + ' window(s) with withheld small counts'; }
+    if (s.lines.cusumNote) { facts += ' · ' + s.lines.cusumNote; }
     head.appendChild(el('span', 'sub', facts));
     section.appendChild(head);
     var grid = el('div', 'grid');
