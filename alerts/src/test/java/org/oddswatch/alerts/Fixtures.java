@@ -69,6 +69,15 @@ public final class Fixtures {
     }
 
     /**
+     * A final window with no figures (no fit, no calibration): the window rules find nothing to judge
+     * in it, the CUSUM reports the events before its end.
+     */
+    public static WindowEstimate bareWindow(Instant start, Instant end) {
+        return new WindowEstimate(STREAM, start, end, WindowStatus.FINAL, 0, 0, null, List.of(), null, List.of(), null,
+                List.of());
+    }
+
+    /**
      * A window whose household_contact drift z against {@link #baseline()} is exactly {@code z}
      * (with se_now = 0.15).
      */

@@ -89,8 +89,11 @@ final class ModelReport {
             notes.add(separationNote(mf, columns));
         }
         if (state == FitState.NOT_CONVERGED) {
-            notes.add("the fit did not converge within " + options.maxIterations() + " iterations, also after a "
-                    + "cold restart: the estimates are the last iterate and should not be relied on");
+            String restart = warmStart != null ? " (from the previous window's estimates; a restart from the "
+                    + "overall proportion fared no better)" : "";
+            notes.add("the " + (mf.method() == FitMethod.FIRTH ? "Firth fit" : "fit") + " did not converge"
+                    + restart + ": " + fit.stopDescription() + "; the estimates are the last iterate and should not "
+                    + "be relied on");
         }
         boolean inference = state != FitState.NOT_CONVERGED;
         List<CoefficientEstimate> table = coefficientTable(coder, options, mf, control, inference);
@@ -192,8 +195,8 @@ final class ModelReport {
             }
         }
         String by = involved.isEmpty() ? "" : " by " + String.join(", ", involved);
-        String how = mf.separationByHeuristic() ? " (judged from diverging estimates; too many distinct rows for "
-                + "the exact check)" : "";
+        String how = mf.separationByHeuristic() ? " (judged from diverging estimates; the exact check could not "
+                + "be completed)" : "";
         return "the outcome is completely or quasi-completely separated" + by + how + ": maximum-likelihood "
                 + "estimates do not exist, so Firth's penalized-likelihood estimates are reported, with profile "
                 + "penalized-likelihood intervals for watched terms; a zero cell is the usual cause";

@@ -11,7 +11,6 @@ import java.util.ArrayList;
 import java.util.Arrays;
 import java.util.List;
 import java.util.Locale;
-import java.util.function.Supplier;
 import org.junit.jupiter.api.Tag;
 import org.junit.jupiter.api.Test;
 import org.oddswatch.estimator.fit.FitControl;
@@ -67,8 +66,8 @@ class EstimatorBenchmark {
         lines.add(String.format(Locale.ROOT, "| largest coefficient difference warm vs cold over all steps | %.2e |",
                 daily[4]));
         lines.add("");
-        lines.add("Machine: " + machine() + ". Command: `mvn -B -Pbench -pl estimator verify`.");
-        lines.add("Load average when the figures were taken (1, 5, 15 min): " + loadAverage()
+        lines.add("Machine: " + EstimatorBenchmarkMachine.describe() + ". Command: `mvn -B -Pbench -pl estimator verify`.");
+        lines.add("Load average when the figures were taken (1, 5, 15 min): " + EstimatorBenchmarkMachine.loadAverage()
                 + " (other jobs shared the machine; times are medians).");
         String table = String.join("\n", lines) + "\n";
         System.out.println(table);
@@ -193,28 +192,5 @@ class EstimatorBenchmark {
     private static String format(Object v) {
         return v instanceof Double d ? (d < 0.1 ? String.format(Locale.ROOT, "%.4f", d)
                 : String.format(Locale.ROOT, "%.2f", d)) : String.valueOf(v);
-    }
-
-    private static String loadAverage() {
-        try {
-            String[] parts = Files.readString(Path.of("/proc/loadavg")).trim().split("\\s+");
-            return parts[0] + ", " + parts[1] + ", " + parts[2];
-        } catch (IOException | RuntimeException e) {
-            return "unknown";
-        }
-    }
-
-    private static String machine() {
-        String cpu = "unknown CPU";
-        try {
-            cpu = Files.readAllLines(Path.of("/proc/cpuinfo")).stream().filter(l -> l.startsWith("model name"))
-                    .findFirst().map(l -> l.substring(l.indexOf(':') + 1).trim()).orElse(cpu);
-        } catch (IOException | RuntimeException e) {
-            // keep the default
-        }
-        Supplier<String> jvm = () -> System.getProperty("java.vm.name") + " " + System.getProperty("java.version");
-        return cpu + ", " + Runtime.getRuntime().availableProcessors() + " cores, " + System.getProperty("os.name")
-                + " " + System.getProperty("os.arch") + ", " + jvm.get() + ", max heap "
-                + Runtime.getRuntime().maxMemory() / (1 << 20) + " MiB";
     }
 }

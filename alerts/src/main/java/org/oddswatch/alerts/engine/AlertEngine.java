@@ -3,27 +3,34 @@ package org.oddswatch.alerts.engine;
 import java.time.Instant;
 import java.time.format.DateTimeParseException;
 import java.util.ArrayList;
+import java.util.Comparator;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
+import org.oddswatch.alerts.gaps.GapReason;
+import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.lifecycle.AlertState;
 import org.oddswatch.alerts.lifecycle.AlertText;
 import org.oddswatch.alerts.lifecycle.EpisodeTracker;
 import org.oddswatch.alerts.lifecycle.EpisodeTracker.Transition;
 import org.oddswatch.alerts.lifecycle.Evidence;
+import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.alerts.rules.BernoulliCusumRule;
 import org.oddswatch.alerts.rules.CalibrationRule;
 import org.oddswatch.alerts.rules.CusumReading;
 import org.oddswatch.alerts.rules.Format;
 import org.oddswatch.alerts.rules.InformationGuard;
+import org.oddswatch.alerts.rules.Measurement;
 import org.oddswatch.alerts.rules.OddsRatioBoundsRule;
 import org.oddswatch.alerts.rules.OddsRatioDriftRule;
 import org.oddswatch.alerts.rules.Reading;
 import org.oddswatch.alerts.rules.WindowRule;
+import org.oddswatch.alerts.rules.Zone;
 import org.oddswatch.estimator.calibration.BaselineModel;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.estimator.result.WindowStatus;
+import org.oddswatch.estimator.window.WindowGeometry;
 
 /**
  * Runs one stream's alert rules and keeps their episode lifecycle. Pure and deterministic: no clock,
@@ -45,6 +52,18 @@ public final class AlertEngine {
     private final Map<String, Alert> lastByKey = new LinkedHashMap<>();
     private final long baselineFrom;
     private final long baselineTo;
+    private final AlertRulesConfig rules;
+    /** The guard of each window rule, by rule name, to tell why a window was not judged. */
+    private final Map<String, InformationGuard> guards = new LinkedHashMap<>();
+    /** Final windows a running rule did not judge, by rule and reason, in first-seen order. */
+    private final Map<List<Object>, Unjudged> unjudged = new LinkedHashMap<>();
+
+    /** Windows one rule did not judge for one reason: how many, the newest one's end and reason in words. */
+    private static final class Unjudged {
+        long windows;
+        Instant lastWindowEnd;
+        String detail;
+    }
 
     /**
      * @param stream the stream name
@@ -53,28 +72,46 @@ public final class AlertEngine {
      * @param replay how to phrase the replay command in alert texts (null: placeholders)
      */
     public AlertEngine(String stream, AlertRulesConfig rules, BaselineModel baseline, ReplayHint replay) {
+        this(stream, rules, baseline, replay, null, SmallCellPolicy.DEFAULT);
+    }
+
+    /**
+     * @param grid the stream's window grid: CUSUM alerts carry whole buckets, never an event's own
+     *     time (null: event times, for tests of the rules)
+     * @param cells the small-cell rule for counts named in messages
+     */
+    public AlertEngine(String stream, AlertRulesConfig rules, BaselineModel baseline, ReplayHint replay,
+                       WindowGeometry grid, SmallCellPolicy cells) {
         this.stream = stream;
         this.baseline = baseline;
         this.replay = replay == null ? new ReplayHint(null, null, null) : replay;
         this.tracker = new EpisodeTracker(stream);
         AlertRulesConfig r = rules == null ? AlertRulesConfig.defaults() : rules;
+        this.rules = r;
         if (baseline != null && r.oddsRatioDrift() != null) {
             windowRules.add(new OddsRatioDriftRule(r.oddsRatioDrift(),
-                    new InformationGuard(r.guardFor(r.oddsRatioDrift().guard())), baseline));
+                    guard(OddsRatioDriftRule.NAME, r.guardFor(r.oddsRatioDrift().guard())), baseline));
         }
         if (r.oddsRatioBounds() != null) {
             windowRules.add(new OddsRatioBoundsRule(r.oddsRatioBounds(),
-                    new InformationGuard(r.guardFor(r.oddsRatioBounds().guard()))));
+                    guard(OddsRatioBoundsRule.NAME, r.guardFor(r.oddsRatioBounds().guard()))));
         }
         if (baseline != null && r.calibration() != null) {
             windowRules.add(new CalibrationRule(r.calibration(),
-                    new InformationGuard(r.guardFor(r.calibration().guard()))));
+                    guard(CalibrationRule.NAME, r.guardFor(r.calibration().guard()))));
         }
         cusum = baseline != null && r.cusum() != null
-                ? new BernoulliCusumRule(r.cusum(), new InformationGuard(r.guardFor(r.cusum().guard())), baseline)
+                ? new BernoulliCusumRule(r.cusum(), new InformationGuard(r.guardFor(r.cusum().guard())), baseline,
+                        grid, cells)
                 : null;
         baselineFrom = baseline == null ? Long.MAX_VALUE : parse(baseline.periodStart(), Long.MAX_VALUE);
         baselineTo = baseline == null ? Long.MIN_VALUE : parse(baseline.periodEnd(), Long.MIN_VALUE);
+    }
+
+    private InformationGuard guard(String rule, AlertRulesConfig.Guard settings) {
+        InformationGuard guard = new InformationGuard(settings);
+        guards.put(rule, guard);
+        return guard;
     }
 
     private static long parse(String instant, long fallback) {
@@ -89,19 +126,95 @@ public final class AlertEngine {
         return stream;
     }
 
-    /** Window rules (odds-ratio drift and bounds, calibration) on one final estimate. */
+    /**
+     * One final window: the window rules (odds-ratio drift and bounds, calibration) on its estimate,
+     * unless it overlaps the baseline's period, then the CUSUM's report on the events before the
+     * window's end (see {@link BernoulliCusumRule#report}). Every final window of the stream must come
+     * here, in order, including those overlapping the baseline period: the CUSUM reports once per
+     * final window, so at most one message per episode and window results.
+     */
     public List<Alert> onFinalEstimate(WindowEstimate estimate) {
-        if (estimate.status() != WindowStatus.FINAL || !stream.equals(estimate.stream())
-                || overlapsBaseline(estimate.windowStart().toEpochMilli(), estimate.windowEnd().toEpochMilli())) {
+        if (estimate.status() != WindowStatus.FINAL || !stream.equals(estimate.stream())) {
             return List.of();
         }
         List<Alert> out = new ArrayList<>();
-        for (WindowRule rule : windowRules) {
-            for (Reading reading : rule.evaluate(estimate)) {
+        if (overlapsBaseline(estimate.windowStart().toEpochMilli(), estimate.windowEnd().toEpochMilli())) {
+            if (!windowRules.isEmpty()) {
+                unjudged(null, GapReason.BASELINE_PERIOD, estimate.windowEnd(), inBaselinePeriod(baseline.periodStart(),
+                        baseline.periodEnd()));
+            }
+        } else {
+            for (WindowRule rule : windowRules) {
+                for (Reading reading : rule.evaluate(estimate)) {
+                    if (reading.zone() == Zone.UNKNOWN) {
+                        unjudged(rule.name(), whyUnknown(rule.name(), estimate, reading), estimate.windowEnd(),
+                                reading.detail());
+                    }
+                    publishable(reading, out);
+                }
+            }
+        }
+        if (cusum != null) {
+            for (Reading reading : cusum.report(estimate.windowEnd())) {
                 publishable(reading, out);
             }
         }
         return out;
+    }
+
+    /** The code of a guard's refusal, else {@link GapReason#NO_ESTIMATE} (a figure the rule reads is missing). */
+    private GapReason whyUnknown(String rule, WindowEstimate estimate, Reading reading) {
+        if (CalibrationRule.NAME.equals(rule) && estimate.calibration() == null) {
+            return estimate.fit() == null ? GapReason.NO_FIT : GapReason.NO_ESTIMATE;
+        }
+        InformationGuard guard = guards.get(rule);
+        GapReason reason = guard == null ? null : guard.refusalReason(estimate.fit(), reading.events());
+        return reason == null ? GapReason.NO_ESTIMATE : reason;
+    }
+
+    /** Why no rule judges a window overlapping the baseline period, in words. */
+    public static String inBaselinePeriod(Object from, Object to) {
+        return "the window overlaps the baseline period " + from + " to " + to
+                + ", whose events are the baseline itself";
+    }
+
+    /**
+     * Counts a window once per rule and reason (a rule with several subjects reads it several
+     * times); a null rule stands for every rule.
+     */
+    private void unjudged(String rule, GapReason reason, Instant windowEnd, String detail) {
+        Unjudged u = unjudged.computeIfAbsent(java.util.Arrays.asList(rule, reason), k -> new Unjudged());
+        if (!windowEnd.equals(u.lastWindowEnd)) {
+            u.windows++;
+            u.lastWindowEnd = windowEnd;
+        }
+        u.detail = detail;
+    }
+
+    /**
+     * What this stream's rules do not monitor: every rule that is off (switched off in the
+     * definition, or needing a baseline the stream does not have), then the final windows each
+     * running rule did not judge, by reason, with the newest reason in words.
+     *
+     * @param noBaseline why the stream has no baseline, when it has none (for example
+     *     {@link GapReason#BASELINE_FAILED}); ignored when it has one
+     * @param noBaselineDetail the same in words
+     */
+    public List<MonitoringGap> gaps(GapReason noBaseline, String noBaselineDetail) {
+        List<MonitoringGap> gaps = new ArrayList<>();
+        for (AlertRulesConfig.RuleSwitch rule : rules.switches()) {
+            if (!rule.on()) {
+                gaps.add(MonitoringGap.rule(stream, rule.rule(), rule.offReason(), rule.offDetail()));
+            } else if (rule.needsBaseline() && baseline == null) {
+                gaps.add(MonitoringGap.rule(stream, rule.rule(), noBaseline, noBaselineDetail));
+            }
+        }
+        for (Map.Entry<List<Object>, Unjudged> e : unjudged.entrySet()) {
+            gaps.add(MonitoringGap.windows(stream, (String) e.getKey().get(0), (GapReason) e.getKey().get(1),
+                    e.getValue().detail + " (newest: the window ending " + e.getValue().lastWindowEnd + ")",
+                    e.getValue().windows));
+        }
+        return gaps;
     }
 
     private boolean overlapsBaseline(long from, long to) {
@@ -122,16 +235,16 @@ public final class AlertEngine {
         cusum.offer(eventTimeMillis, id, row, positive);
     }
 
-    /** Runs the sequential rule over all buffered events with time before {@code closedBeforeMillis}. */
+    /**
+     * Says that no event before {@code closedBeforeMillis} can arrive any more. The sequential rule
+     * processes its buffered events when a final window ending after them is reported
+     * ({@link #onFinalEstimate}): at most one message per chart and final window, and the charts'
+     * values at each report are a function of the events before that window's end only, however often
+     * and whenever this is called. So this publishes nothing and returns an empty list; it is kept so
+     * callers need not know which rules are sequential.
+     */
     public List<Alert> onEventsClosed(long closedBeforeMillis) {
-        if (cusum == null) {
-            return List.of();
-        }
-        List<Alert> out = new ArrayList<>();
-        for (Reading reading : cusum.close(closedBeforeMillis)) {
-            publishable(reading, out);
-        }
-        return out;
+        return List.of();
     }
 
     /** Current CUSUM chart values (empty without a CUSUM), for meters. */
@@ -147,22 +260,21 @@ public final class AlertEngine {
     /**
      * Restores open episodes from alerts previously published (read back from the alerts topic or
      * file), so a restart neither forgets an open episode nor publishes it again. Alerts of other
-     * streams are ignored; per rule and subject, the last alert in the list decides whether the
-     * episode is open. Afterwards, a reading ending at or before the last published window of its
-     * rule and subject is not published again.
+     * streams are ignored; per rule and subject, the alert with the latest window end (a clearing
+     * after a raise or continuation of the same window) decides whether the episode is open, whatever
+     * the list's order (an alerts topic keyed by episode id spreads one rule's episodes over
+     * partitions). Afterwards, a reading ending at or before the last published window of its rule
+     * and subject is not published again. Chart values are not restored: they are a function of the
+     * events, which the rebuild re-feeds.
      */
     public void restore(List<Alert> published) {
-        for (Alert a : published) {
-            if (!stream.equals(a.stream())) {
-                continue;
-            }
+        List<Alert> mine = published.stream().filter(a -> stream.equals(a.stream()))
+                .sorted(Comparator.comparing(Alert::windowEnd).thenComparing(a -> a.state().ordinal()))
+                .toList();
+        for (Alert a : mine) {
             String key = Reading.key(a.rule(), a.subject());
-            boolean open = a.state() != AlertState.CLEARED;
-            tracker.restore(key, a.id(), open, a.windowEnd());
+            tracker.restore(key, a.id(), a.state() != AlertState.CLEARED, a.windowEnd());
             lastByKey.put(key, a);
-            if (cusum != null && open && (BernoulliCusumRule.UP.equals(a.rule()) || BernoulliCusumRule.DOWN.equals(a.rule()))) {
-                cusum.restoreOpen(a.rule(), a.subject());
-            }
         }
     }
 
@@ -172,15 +284,18 @@ public final class AlertEngine {
             return;
         }
         String command = replay.command(reading.windowStart(), reading.windowEnd(), "replay-" + t.id());
-        String message = AlertText.compose(stream, reading, t.state(), t.run(), baselineLabel(), command);
-        Double limit = t.state() == AlertState.CLEARED ? reading.clearLimit() : reading.limit();
+        boolean cleared = t.state() == AlertState.CLEARED;
+        Measurement m = reading.measurement();
+        Measurement.Side side = cleared ? Measurement.Side.WITHIN : m.side();
+        String message = AlertText.compose(stream, reading, t.state(), t.run(), side, baselineLabel(), command);
+        Double limit = cleared ? reading.clearLimit() : reading.limit();
         Evidence e = reading.evidence();
-        Integer run = t.state() == AlertState.CLEARED ? null : t.run();
+        Integer run = cleared ? null : t.run();
         Evidence evidence = e == null ? new Evidence(null, null, null, null, run)
                 : new Evidence(e.z(), e.cusum(), e.lower(), e.upper(), run);
         Alert alert = new Alert(t.id(), stream, reading.rule(), reading.subject(), t.state(), reading.windowStart(),
-                reading.windowEnd(), reading.observed(), reading.baseline(), limit, evidence, reading.events(), message,
-                command);
+                reading.windowEnd(), m.measure(), m.value(), side, reading.observed(), reading.baseline(), limit,
+                reading.clearLimit(), evidence, reading.events(), message, command);
         lastByKey.put(reading.key(), alert);
         out.add(alert);
     }

@@ -1,14 +1,21 @@
 package org.oddswatch.alerts.engine;
 
 import com.fasterxml.jackson.annotation.JsonCreator;
+import java.util.ArrayList;
 import java.util.List;
 import java.util.Objects;
+import org.oddswatch.alerts.gaps.GapReason;
+import org.oddswatch.alerts.rules.CalibrationRule;
+import org.oddswatch.alerts.rules.OddsRatioBoundsRule;
+import org.oddswatch.alerts.rules.OddsRatioDriftRule;
 import org.oddswatch.estimator.fit.FitState;
 
 /**
  * Rule settings of one monitor, bound by Jackson from the {@code rules} mapping of a monitor
- * definition. A null (absent) section means that rule is off; inside a present section an omitted
- * field takes the default documented here and in {@code alerts/README.md}. Invalid values raise an
+ * definition. A null section means that rule is off; inside a present section an omitted field
+ * takes the default documented here and in {@code alerts/README.md}. (The definition reader gives
+ * every rule that has defaults an empty section unless the definition switches it off with
+ * {@code enabled: false}; see {@link #switches()} for what runs.) Invalid values raise an
  * {@link IllegalArgumentException} naming the key (Jackson wraps it with the location).
  *
  * @param guard the minimum-information guard shared by all rules (a rule's own {@code guard} wins)
@@ -30,7 +37,47 @@ public record AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsR
      */
     public static AlertRulesConfig defaults() {
         return new AlertRulesConfig(null, new OddsRatioDrift(null, null, null, null, null, null), null,
-                new Calibration(null, null, null, null, null, null, null), new Cusum(null, null, null, null, null, null));
+                new Calibration(null, null, null, null, null, null, null), new Cusum(null, null, null, null, null, null, null));
+    }
+
+    /** The CUSUM's name as one rule (its charts raise {@code bernoulli-cusum-up} and {@code -down}). */
+    public static final String CUSUM = "bernoulli-cusum";
+
+    /**
+     * Whether one rule runs, and why not.
+     *
+     * @param rule the rule name ({@code odds-ratio-drift}, {@code odds-ratio-bounds}, {@code calibration},
+     *     {@code bernoulli-cusum})
+     * @param on whether the definition switches it on
+     * @param needsBaseline whether it compares with a baseline (and so runs only on a stream that has one)
+     * @param offReason why it is off, or null when on
+     * @param offDetail the same in words, or null when on
+     */
+    public record RuleSwitch(String rule, boolean on, boolean needsBaseline, GapReason offReason, String offDetail) {
+
+        /** {@code odds-ratio-drift: on (needs a baseline)} or {@code cusum: off [switched-off]: ...}. */
+        public String describe() {
+            return rule + (on ? ": on" + (needsBaseline ? " (needs a baseline)" : "")
+                    : ": off [" + offReason.code() + "]: " + offDetail);
+        }
+    }
+
+    /** Every rule, in a fixed order, with whether it is on. */
+    public List<RuleSwitch> switches() {
+        List<RuleSwitch> list = new ArrayList<>(4);
+        list.add(toggle(OddsRatioDriftRule.NAME, oddsRatioDrift != null, true, "oddsRatioDrift"));
+        list.add(oddsRatioBounds != null ? new RuleSwitch(OddsRatioBoundsRule.NAME, true, false, null, null)
+                : new RuleSwitch(OddsRatioBoundsRule.NAME, false, false, GapReason.NOT_CONFIGURED,
+                        "it runs only on bounds the definition gives (oddsRatioBounds.terms)"));
+        list.add(toggle(CalibrationRule.NAME, calibration != null, true, "calibration"));
+        list.add(toggle(CUSUM, cusum != null, true, "cusum"));
+        return list;
+    }
+
+    private static RuleSwitch toggle(String rule, boolean on, boolean needsBaseline, String key) {
+        return on ? new RuleSwitch(rule, true, needsBaseline, null, null)
+                : new RuleSwitch(rule, false, needsBaseline, GapReason.SWITCHED_OFF,
+                        "switched off in the definition (rules." + key + ".enabled: false)");
     }
 
     /** The guard a rule uses: its own, else the shared one. */
@@ -207,18 +254,21 @@ public record AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsR
      * @param up odds multiplier the upper chart is tuned to detect, &gt; 1 (default 1.5)
      * @param down odds multiplier of the lower chart, &lt; 1 (default 1/1.5)
      * @param limit decision limit h of both charts (default 8.0)
-     * @param clearAfterEvents an open episode clears after this many events without a new signal (default 2000)
+     * @param clearAfter final windows in a row without a signal, each closing with the chart below
+     *     {@code clearFraction · limit}, to clear an open episode (default 2)
+     * @param clearFraction the clear limit as a share of h, in (0, 1) (default 0.5)
      * @param terms watched terms that get their own pair of charts over the events with that
      *     indicator set (default none: only the overall pair)
      * @param guard {@code minEvents}: events a chart must have processed before it may signal
      */
-    public record Cusum(Double up, Double down, Double limit, Long clearAfterEvents, List<TermLimits> terms,
-                        Guard guard) {
+    public record Cusum(Double up, Double down, Double limit, Integer clearAfter, Double clearFraction,
+                        List<TermLimits> terms, Guard guard) {
         public Cusum {
             up = up == null ? 1.5 : up;
             down = down == null ? 1.0 / 1.5 : down;
             limit = limit == null ? 8.0 : limit;
-            clearAfterEvents = clearAfterEvents == null ? 2000L : clearAfterEvents;
+            clearAfter = clearAfter == null ? 2 : clearAfter;
+            clearFraction = clearFraction == null ? 0.5 : clearFraction;
             terms = terms == null ? List.of() : List.copyOf(terms);
             if (!(up > 1) || Double.isInfinite(up)) {
                 throw new IllegalArgumentException("cusum.up must be a finite odds multiplier above 1");
@@ -227,7 +277,10 @@ public record AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsR
                 throw new IllegalArgumentException("cusum.down must be an odds multiplier in (0, 1)");
             }
             requirePositive("cusum.limit", limit);
-            requireAtLeast("cusum.clearAfterEvents", clearAfterEvents, 1);
+            requireAtLeast("cusum.clearAfter", clearAfter, 1);
+            if (!(clearFraction > 0 && clearFraction < 1)) {
+                throw new IllegalArgumentException("cusum.clearFraction must be in (0, 1), got " + clearFraction);
+            }
         }
     }
 

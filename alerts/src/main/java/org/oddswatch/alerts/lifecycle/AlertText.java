@@ -1,6 +1,7 @@
 package org.oddswatch.alerts.lifecycle;
 
 import org.oddswatch.alerts.rules.Format;
+import org.oddswatch.alerts.rules.Measurement;
 import org.oddswatch.alerts.rules.Reading;
 
 /**
@@ -17,8 +18,12 @@ public final class AlertText {
     private AlertText() {
     }
 
-    public static String compose(String stream, Reading r, AlertState state, int run, String baselineLabel,
-                                 String replayCommand) {
+    /**
+     * @param side where the measured value lies (above or below the raise limit; within the clear
+     *     limit for a clearing)
+     */
+    public static String compose(String stream, Reading r, AlertState state, int run, Measurement.Side side,
+                                 String baselineLabel, String replayCommand) {
         String opening = switch (state) {
             case RAISED -> "Raised";
             case CONTINUING -> "Continuing";
@@ -29,6 +34,7 @@ public final class AlertText {
                 .append(stream).append(": in the window ").append(r.windowStart()).append(" to ").append(r.windowEnd())
                 .append(" (end exclusive), on ").append(Format.count(r.events())).append(" events, ").append(r.detail())
                 .append('.');
+        b.append(' ').append(measured(r, state, side));
         switch (state) {
             case RAISED -> b.append(run > 1 ? " Raised after " + run + " readings in a row beyond the limit." : "");
             case CONTINUING -> b.append(" The condition persists; the episode stays open.");
@@ -39,5 +45,35 @@ public final class AlertText {
         b.append(" Reproduce with: ").append(replayCommand).append(". ");
         b.append(CAUTION);
         return b.toString();
+    }
+
+    /**
+     * The measure sentence, e.g. "Measured: the Hosmer-Lemeshow p-value (hosmer-lemeshow-p) =
+     * 9.38e-06, below the limit 1.00e-04; clears after 2 windows in a row at or above 1.00e-03." The
+     * measure's words and name, its value, the side of the limit and the limit, and the hysteresis.
+     */
+    static String measured(Reading r, AlertState state, Measurement.Side side) {
+        Measurement m = r.measurement();
+        String measure = m.measure();
+        boolean twoSided = Measurement.ODDS_RATIO_Z.equals(measure);
+        StringBuilder b = new StringBuilder("Measured: ").append(Measurement.words(measure)).append(" (")
+                .append(measure).append(") = ").append(Measurement.format(measure, m.value()));
+        String clear = Measurement.format(measure, r.clearLimit());
+        if (state == AlertState.CLEARED) {
+            b.append(", back inside the clear limit ").append(twoSided ? "±" + clear : clear);
+            return b.append('.').toString();
+        }
+        boolean below = side == Measurement.Side.BELOW;
+        Double limit = twoSided && below && r.limit() != null ? -r.limit() : r.limit();
+        b.append(", ").append(twoSided ? "at or " : "").append(below ? "below" : "above").append(" the limit ")
+                .append(Measurement.format(measure, limit));
+        if (r.clearLimit() != null) {
+            String back = twoSided ? "inside ±" + clear
+                    : Measurement.CUSUM_LLR.equals(measure) ? "without a signal, each ending below " + clear
+                    : (below ? "at or above " : "at or below ") + clear;
+            b.append("; clears after ").append(r.clearAfter()).append(r.clearAfter() == 1 ? " window " : " windows in a row ")
+                    .append(back);
+        }
+        return b.append('.').toString();
     }
 }

@@ -3,7 +3,9 @@ package org.oddswatch.alerts.metrics;
 import io.micrometer.core.instrument.Counter;
 import io.micrometer.core.instrument.DistributionSummary;
 import io.micrometer.core.instrument.Gauge;
+import io.micrometer.core.instrument.Meter;
 import io.micrometer.core.instrument.MeterRegistry;
+import io.micrometer.core.instrument.Tag;
 import io.micrometer.core.instrument.Tags;
 import io.micrometer.core.instrument.Timer;
 import io.micrometer.core.instrument.binder.MeterBinder;
@@ -16,17 +18,21 @@ import java.util.concurrent.atomic.AtomicReference;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.lifecycle.AlertState;
 import org.oddswatch.alerts.lifecycle.AlertSubject;
+import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.alerts.rules.CusumReading;
 import org.oddswatch.estimator.result.CalibrationEstimate;
 import org.oddswatch.estimator.result.CoefficientEstimate;
+import org.oddswatch.estimator.result.PrevalenceEstimate;
 import org.oddswatch.estimator.result.WindowEstimate;
 
 /**
  * Every oddswatch meter, registered in one binder. Gauges hold the latest final window's figures;
- * a figure that cannot be computed reads NaN (Prometheus shows {@code NaN}). Tags are bounded: the
- * stream (bounded by the split's {@code maxStreams}), the watched term and level (declared in the
- * definition), the rule (a fixed set), the event outcome and reason (fixed sets), the chart level
- * ({@code up}/{@code down}). A missing level is tagged {@code none}.
+ * a figure that cannot be computed, or that the small-cell rule withholds ({@link SmallCellPolicy}),
+ * reads NaN (Prometheus shows {@code NaN}). Tags are bounded and never carry a record's values: the
+ * monitor (declared), the stream (only streams accepted within the split's {@code maxStreams}; a
+ * record routed to no stream is tagged {@code none}), the watched term and level (declared in the
+ * definition), the rule (a fixed set), the event outcome and reason (fixed sets). A missing level is
+ * tagged {@code none}. A stream's series are removed when it leaves the instance ({@link #forgetStream}).
  *
  * <p>Call {@link #bindTo} once before updating; updates before that are ignored.
  */
@@ -55,40 +61,51 @@ public final class OddswatchMeters implements MeterBinder {
     public static final String NONE = "none";
 
     private volatile MeterRegistry registry;
-    private final Map<String, AtomicReference<Double>> gauges = new ConcurrentHashMap<>();
+    /** The value holders of the gauges, by name and tags (the stream tag kept apart for {@link #forgetStream}). */
+    private final Map<GaugeKey, AtomicReference<Double>> gauges = new ConcurrentHashMap<>();
+
+    private record GaugeKey(String name, String stream, Tags tags) {
+    }
 
     @Override
     public void bindTo(MeterRegistry registry) {
         this.registry = registry;
     }
 
-    /** Prevalence, its interval, window events, odds ratios and calibration of one final estimate. */
-    public void onEstimate(WindowEstimate e) {
+    /**
+     * Prevalence, its interval, window events, odds ratios and calibration of one final estimate,
+     * under the small-cell rule: a figure the policy withholds reads NaN (never the small count or a
+     * figure resting on it), so an earlier window's value does not stay on show either.
+     */
+    public void onEstimate(WindowEstimate e, SmallCellPolicy policy) {
         if (registry == null) {
             return;
         }
+        SmallCellPolicy.Withheld withheld = policy.assess(e);
+        boolean casesShown = withheld.cases() == null;
         Tags stream = Tags.of("stream", e.stream());
-        Double value = e.prevalence() == null ? null : e.prevalence().value();
-        set(PREVALENCE, "Share of positives in the latest final window", stream, value);
-        set(PREVALENCE_LOWER, "Lower interval bound of the prevalence", stream,
-                e.prevalence() == null ? null : e.prevalence().lower());
-        set(PREVALENCE_UPPER, "Upper interval bound of the prevalence", stream,
-                e.prevalence() == null ? null : e.prevalence().upper());
-        setWithUnit(WINDOW_EVENTS, "Events in the latest final window", stream, (double) e.events(), "events");
+        PrevalenceEstimate p = casesShown ? e.prevalence() : null;
+        set(PREVALENCE, "Share of positives in the latest final window", stream, p == null ? null : p.value());
+        set(PREVALENCE_LOWER, "Lower interval bound of the prevalence", stream, p == null ? null : p.lower());
+        set(PREVALENCE_UPPER, "Upper interval bound of the prevalence", stream, p == null ? null : p.upper());
+        setWithUnit(WINDOW_EVENTS, "Events in the latest final window", stream,
+                withheld.events() == null ? (double) e.events() : null, "events");
         for (CoefficientEstimate c : e.coefficients()) {
             if (c.oddsRatio() == null) {
                 continue;
             }
             Tags t = stream.and("term", c.term(), "level", c.level() == null ? NONE : c.level());
-            set(ODDS_RATIO, "Odds ratio of a model term in the latest final window", t, c.oddsRatio());
-            set(ODDS_RATIO_LOWER, "Lower interval bound of the odds ratio", t, c.lower());
-            set(ODDS_RATIO_UPPER, "Upper interval bound of the odds ratio", t, c.upper());
+            set(ODDS_RATIO, "Odds ratio of a model term in the latest final window", t, casesShown ? c.oddsRatio() : null);
+            set(ODDS_RATIO_LOWER, "Lower interval bound of the odds ratio", t, casesShown ? c.lower() : null);
+            set(ODDS_RATIO_UPPER, "Upper interval bound of the odds ratio", t, casesShown ? c.upper() : null);
         }
-        CalibrationEstimate c = e.calibration();
-        if (c != null) {
-            set(CALIBRATION_OE, "Observed over expected positives under the baseline model", stream, c.observedExpected());
-            set(CALIBRATION_SLOPE, "Calibration slope of the baseline model", stream, c.slope());
-            set(CALIBRATION_HL_P, "Hosmer-Lemeshow p-value of the baseline model", stream, c.hosmerLemeshowP());
+        CalibrationEstimate c = withheld.calibration() == null ? e.calibration() : null;
+        if (c != null || e.calibration() != null) {
+            set(CALIBRATION_OE, "Observed over expected positives under the baseline model", stream,
+                    c == null ? null : c.observedExpected());
+            set(CALIBRATION_SLOPE, "Calibration slope of the baseline model", stream, c == null ? null : c.slope());
+            set(CALIBRATION_HL_P, "Hosmer-Lemeshow p-value of the baseline model", stream,
+                    c == null ? null : c.hosmerLemeshowP());
         }
     }
 
@@ -125,17 +142,50 @@ public final class OddswatchMeters implements MeterBinder {
     }
 
     /**
-     * One consumed record's outcome: {@code accepted}, {@code rejected}, {@code late} or
-     * {@code duplicate}, with the rejection reason ({@code none} otherwise).
+     * One consumed record's outcome in one monitor: {@code accepted}, {@code rejected}, {@code late}
+     * or {@code duplicate}, with the rejection reason ({@code none} otherwise).
+     *
+     * @param monitor the monitor's name, or null ({@code none}) when no monitor could read it
+     * @param stream a stream the monitor holds, or null ({@code none}) for a record routed to no
+     *     stream: never a name made from a rejected record's values
      */
-    public void countEvent(String stream, String outcome, String reason) {
+    public void countEvent(String monitor, String stream, String outcome, String reason) {
+        MeterRegistry r = registry;
+        if (r != null) {
+            eventCounter(r, monitor, stream, outcome, reason).increment();
+        }
+    }
+
+    /**
+     * The record-outcome counter of {@link #countEvent} (for callers that add up counts first).
+     * Its tags are bounded: the monitor (declared), the stream (one of at most {@code maxStreams}
+     * accepted streams, or {@code none}), the outcome and reason (fixed sets).
+     */
+    public static Counter eventCounter(MeterRegistry registry, String monitor, String stream, String outcome,
+                                       String reason) {
+        return Counter.builder(EVENTS).description("Consumed records by outcome").baseUnit("events")
+                .tags("monitor", monitor == null ? NONE : monitor, "stream", stream == null ? NONE : stream,
+                        "outcome", outcome, "reason", reason == null ? NONE : reason)
+                .register(registry);
+    }
+
+    /**
+     * Removes every series tagged with {@code stream} (gauges, CUSUM, alert state, fit timers,
+     * record counters): called when the stream leaves this instance (its partition was revoked or
+     * lost), so a scrape shows only the streams this instance holds. A stream that comes back
+     * starts new series (counters from zero, which Prometheus' {@code rate} reads as a restart).
+     */
+    public void forgetStream(String stream) {
         MeterRegistry r = registry;
         if (r == null) {
             return;
         }
-        Counter.builder(EVENTS).description("Consumed records by outcome").baseUnit("events")
-                .tags("stream", stream, "outcome", outcome, "reason", reason == null ? NONE : reason).register(r)
-                .increment();
+        gauges.keySet().removeIf(key -> stream.equals(key.stream()));
+        for (Meter meter : List.copyOf(r.getMeters())) {
+            if (meter.getId().getName().startsWith("oddswatch.") && stream.equals(meter.getId().getTag("stream"))) {
+                r.remove(meter);
+            }
+        }
     }
 
     /** One webhook attempt: {@code success}, {@code status}, {@code error} or {@code timeout}. */
@@ -167,7 +217,8 @@ public final class OddswatchMeters implements MeterBinder {
 
     private void setWithUnit(String name, String description, Tags tags, Double value, String unit) {
         MeterRegistry r = registry;
-        String key = name + tags;
+        GaugeKey key = new GaugeKey(name, tags.stream().filter(t -> t.getKey().equals("stream")).map(Tag::getValue)
+                .findFirst().orElse(null), tags);
         AtomicReference<Double> holder = gauges.computeIfAbsent(key, k -> {
             AtomicReference<Double> h = new AtomicReference<>(Double.NaN);
             Gauge.builder(name, h, ref -> Objects.requireNonNullElse(ref.get(), Double.NaN)).description(description)

@@ -9,8 +9,10 @@ import org.oddswatch.alerts.engine.AlertRulesConfig.Cusum;
 import org.oddswatch.alerts.engine.AlertRulesConfig.TermLimits;
 import org.oddswatch.alerts.lifecycle.AlertSubject;
 import org.oddswatch.alerts.lifecycle.Evidence;
+import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.estimator.calibration.BaselineModel;
 import org.oddswatch.estimator.terms.Column;
+import org.oddswatch.estimator.window.WindowGeometry;
 
 /**
  * Risk-adjusted Bernoulli CUSUM (Steiner, Cook, Farewell &amp; Treasure 2000, <i>Biostatistics</i>
@@ -24,17 +26,30 @@ import org.oddswatch.estimator.terms.Column;
  * <p>Order and determinism: {@link #offer} only buffers; {@link #close} processes the buffered
  * events with time before the closing time, sorted by (event time, id), so arrival order within the
  * allowed lateness does not matter. An event offered after its time was closed is processed with
- * the next close, in its sorted place among those events.
+ * the next close, in its sorted place among those events. A signal restarts the chart at 0, so each
+ * later signal rests on fresh evidence and the run-length theory applies again.
  *
- * <p>Signals and episodes, decided event by event (never by how often {@code close} is called):
- * a signal restarts the chart at 0 (so each later signal rests on fresh evidence and the run-length
- * theory applies again). The first signal raises; a later signal while open is reported as
- * continuing only when at least {@code clearAfterEvents} events have passed since the episode's
- * last message; the episode clears once {@code clearAfterEvents} events have passed since its last
- * signal. The guard's {@code minEvents}: a chart does not signal before it has processed that many
- * events. Each signal reports the excursion that led to it: from the first event after the chart
- * last stood at 0 (the usual CUSUM change-point estimate) to the signalling event, with its events,
- * observed positives and expected positives under the baseline.
+ * <p>Reporting: {@link #report} is called once per final window, with the window's end. It first
+ * closes the events before that end, then gives one reading per chart about the events since the
+ * previous report: {@link Zone#BEYOND} when the chart signalled at least once (value: the highest
+ * statistic at a signal; window: from the first event after the chart last stood at 0 before the
+ * first of these signals, the usual CUSUM change-point estimate, to the window's end);
+ * {@link Zone#INSIDE} when it did not signal and stands below {@code clearFraction · h};
+ * {@link Zone#BETWEEN} when it did not signal but stands at or above that; {@link Zone#UNKNOWN}
+ * when the chart saw no event since the previous report, or fewer than the guard's
+ * {@code minEvents} events in all (it does not signal before). So the lifecycle sends at most one
+ * message per chart and final window, and an episode clears only after {@code clearAfter} final
+ * windows in a row without a signal, each ending with the chart below the clear limit.
+ *
+ * <p>The charts' values and the readings are a function of the events before each report's time
+ * alone (no episode state is kept here, nothing is restored), so a rebuild that re-feeds the same
+ * events reproduces them exactly.
+ *
+ * <p>Published times and counts: an alert's window runs from the start of the bucket holding the
+ * excursion's first event to the final window's end, so no event's own time is published; counts in
+ * the message follow the {@link SmallCellPolicy} (a count from 1 to 4 reads {@code <5}, and the
+ * positives and their observed/expected ratio are withheld when the positives or the negatives are
+ * that small).
  */
 public final class BernoulliCusumRule {
 
@@ -42,15 +57,32 @@ public final class BernoulliCusumRule {
     public static final String DOWN = "bernoulli-cusum-down";
 
     private final BaselineModel baseline;
-    private final long clearAfterEvents;
+    private final WindowGeometry grid;
+    private final SmallCellPolicy cells;
+    private final int clearAfter;
+    private final double clearFraction;
     private final long minEvents;
     private final List<Chart> charts = new ArrayList<>();
     private final PriorityQueue<Pending> pending = new PriorityQueue<>(
             Comparator.comparingLong(Pending::time).thenComparing(Pending::id));
+    private long lastReportEnd = Long.MIN_VALUE;
 
     public BernoulliCusumRule(Cusum settings, InformationGuard guard, BaselineModel baseline) {
+        this(settings, guard, baseline, null, SmallCellPolicy.DEFAULT);
+    }
+
+    /**
+     * @param grid the stream's window grid: an alert's window starts at a bucket's start (never an
+     *     exact event time is published); null keeps the event times (for tests of the chart)
+     * @param cells the small-cell rule for the counts the message names
+     */
+    public BernoulliCusumRule(Cusum settings, InformationGuard guard, BaselineModel baseline, WindowGeometry grid,
+                              SmallCellPolicy cells) {
+        this.grid = grid;
+        this.cells = cells;
         this.baseline = baseline;
-        this.clearAfterEvents = settings.clearAfterEvents();
+        this.clearAfter = settings.clearAfter();
+        this.clearFraction = settings.clearFraction();
         this.minEvents = guard.minEvents();
         addPair(AlertSubject.calibration(), -1, settings);
         List<Column> columns = baseline.columns();
@@ -83,9 +115,8 @@ public final class BernoulliCusumRule {
         return pending.size();
     }
 
-    /** Processes every buffered event with time before {@code closedBeforeMillis}; readings in event order. */
-    public List<Reading> close(long closedBeforeMillis) {
-        List<Reading> out = new ArrayList<>();
+    /** Processes every buffered event with time before {@code closedBeforeMillis}, in (time, id) order. */
+    public void close(long closedBeforeMillis) {
         while (!pending.isEmpty() && pending.peek().time < closedBeforeMillis) {
             Pending p = pending.poll();
             double risk = baseline.risk(p.row);
@@ -94,25 +125,29 @@ public final class BernoulliCusumRule {
             }
             for (Chart chart : charts) {
                 if (chart.column < 0 || p.row[chart.column] == 1.0) {
-                    Reading r = chart.add(p, risk);
-                    if (r != null) {
-                        out.add(r);
-                    }
+                    chart.add(p, risk);
                 }
             }
         }
-        return out;
     }
 
-    /** Marks a chart's episode open after a restart (see {@code AlertEngine.restore}). */
-    public void restoreOpen(String rule, AlertSubject subject) {
-        for (Chart chart : charts) {
-            if (chart.rule.equals(rule) && chart.subject.equals(subject)) {
-                chart.open = true;
-                chart.sinceSignal = 0;
-                chart.sinceMessage = 0;
-            }
+    /**
+     * Closes the events before {@code windowEnd} and gives one reading per chart about the events
+     * since the previous report (see the class description). A report at or before the previous one
+     * gives nothing.
+     */
+    public List<Reading> report(Instant windowEnd) {
+        long end = windowEnd.toEpochMilli();
+        if (end <= lastReportEnd) {
+            return List.of();
         }
+        close(end);
+        List<Reading> out = new ArrayList<>(charts.size());
+        for (Chart chart : charts) {
+            out.add(chart.report(windowEnd, lastReportEnd));
+        }
+        lastReportEnd = end;
+        return out;
     }
 
     /** Current chart values. */
@@ -122,10 +157,48 @@ public final class BernoulliCusumRule {
                 .toList();
     }
 
+    /** Events the chart of {@code rule} over all events had processed at its first signal, or -1 (run-length tests). */
+    long firstSignalAt(String rule) {
+        return charts.stream().filter(c -> c.rule.equals(rule) && c.column < 0).findFirst().orElseThrow().firstSignal;
+    }
+
+    /** The start of the bucket holding {@code t} (t itself without a grid). */
+    private Instant floor(long t) {
+        return Instant.ofEpochMilli(grid == null ? t : grid.bucketStart(grid.bucketOf(t)));
+    }
+
     private record Pending(long time, String id, double[] row, boolean positive) {
     }
 
-    /** One chart with its excursion bookkeeping and episode state. */
+    /** A run of events: its first event's time, its events, observed positives and expected positives. */
+    private static final class Span {
+        long start;
+        long events;
+        long observed;
+        double expected;
+
+        void restart(long time) {
+            start = time;
+            events = 0;
+            observed = 0;
+            expected = 0;
+        }
+
+        void add(boolean positive, double risk) {
+            events++;
+            observed += positive ? 1 : 0;
+            expected += risk;
+        }
+
+        void copy(Span other) {
+            start = other.start;
+            events = other.events;
+            observed = other.observed;
+            expected = other.expected;
+        }
+    }
+
+    /** One chart with its excursion bookkeeping and what happened since the last report. */
     private final class Chart {
         final String rule;
         final AlertSubject subject;
@@ -134,14 +207,15 @@ public final class BernoulliCusumRule {
         final double logMultiplier;
         final CusumChart chart;
         long processed;
-        boolean open;
-        long sinceSignal;
-        long sinceMessage;
-        long lastSignalEnd;
-        long excursionStart;
-        long excursionEvents;
-        long excursionObserved;
-        double excursionExpected;
+        long firstSignal = -1;
+        /** Events since the chart last stood at 0. */
+        final Span excursion = new Span();
+        /** Since the report before: events, signals, the highest statistic at a signal. */
+        long sinceReport;
+        int signals;
+        double peak;
+        /** From the start of the first signalling excursion since the report before. */
+        final Span signalled = new Span();
 
         Chart(String rule, AlertSubject subject, int column, double multiplier, double limit) {
             this.rule = rule;
@@ -152,65 +226,87 @@ public final class BernoulliCusumRule {
             this.chart = new CusumChart(limit);
         }
 
-        /** Adds one event; returns a reading when this event raises, continues or clears an episode. */
-        Reading add(Pending p, double risk) {
+        void add(Pending p, double risk) {
             processed++;
-            sinceSignal++;
-            sinceMessage++;
+            sinceReport++;
             if (chart.value() == 0.0) {
-                excursionStart = p.time;
-                excursionEvents = 0;
-                excursionObserved = 0;
-                excursionExpected = 0;
+                excursion.restart(p.time);
             }
             double w = (p.positive ? logMultiplier : 0.0) - Math.log1p(risk * (multiplier - 1.0));
             boolean above = chart.add(w);
-            excursionEvents++;
-            excursionObserved += p.positive ? 1 : 0;
-            excursionExpected += risk;
+            excursion.add(p.positive, risk);
+            if (signals > 0) {
+                signalled.add(p.positive, risk);
+            }
             if (above && processed >= minEvents) {
-                double s = chart.value();
-                Reading r = null;
-                if (!open || sinceMessage >= clearAfterEvents) {
-                    r = signal(p, s);
-                    sinceMessage = 0;
+                if (signals == 0) {
+                    signalled.copy(excursion);
                 }
-                open = true;
-                sinceSignal = 0;
-                lastSignalEnd = p.time + 1;
+                if (firstSignal < 0) {
+                    firstSignal = processed;
+                }
+                signals++;
+                peak = Math.max(peak, chart.value());
                 chart.reset();
-                return r;
             }
-            if (open && sinceSignal >= clearAfterEvents) {
-                open = false;
-                return cleared(p);
-            }
-            return null;
         }
 
-        private Reading signal(Pending p, double s) {
+        Reading report(Instant windowEnd, long previousEnd) {
+            double h = chart.limit();
+            double clearLimit = clearFraction * h;
+            Instant since = previousEnd == Long.MIN_VALUE ? null : Instant.ofEpochMilli(previousEnd);
+            Reading r;
+            if (signals > 0) {
+                r = signal(windowEnd, h, clearLimit);
+            } else {
+                Zone zone = processed < minEvents || sinceReport == 0 ? Zone.UNKNOWN
+                        : chart.value() < clearLimit ? Zone.INSIDE : Zone.BETWEEN;
+                String detail = "the risk-adjusted Bernoulli CUSUM tuned to odds " + Format.num(multiplier)
+                        + " times the baseline's" + (column < 0 ? "" : " (events with " + subject.label() + ")")
+                        + " did not signal over the " + cells.count(sinceReport) + " events since "
+                        + (since == null ? "it started" : since.toString()) + "; it stands at "
+                        + Format.stat(chart.value()) + " against its limit h = " + Format.stat(h) + " (clear limit "
+                        + Format.stat(clearLimit) + ")";
+                r = new Reading(rule, subject, zone, 0, 1, clearAfter, since == null ? windowEnd : since, windowEnd,
+                        chart.value(), null, h, clearLimit, new Evidence(null, chart.value(), null, null, null),
+                        sinceReport, detail, new Measurement(Measurement.CUSUM_LLR, chart.value(), null));
+            }
+            sinceReport = 0;
+            signals = 0;
+            peak = 0;
+            return r;
+        }
+
+        private Reading signal(Instant windowEnd, double h, double clearLimit) {
             String direction = multiplier > 1 ? "higher" : "lower";
             String detail = "a risk-adjusted Bernoulli CUSUM tuned to odds " + Format.num(multiplier)
                     + " times those of the baseline model (" + direction + " risk than the baseline expects"
                     + (column < 0 ? "" : ", among events with " + subject.label()) + ") reached "
-                    + Format.stat(s) + ", above its limit h = " + Format.stat(chart.limit()) + "; over the "
-                    + Format.count(excursionEvents) + " events since the chart last stood at zero, "
-                    + Format.count(excursionObserved) + " were positive against " + Format.num(excursionExpected)
-                    + " expected by the baseline (observed/expected " + Format.num(excursionObserved / excursionExpected)
-                    + "); the chart restarts at zero";
-            return new Reading(rule, subject, Zone.BEYOND, multiplier > 1 ? 1 : -1, 1, 1,
-                    Instant.ofEpochMilli(excursionStart), Instant.ofEpochMilli(p.time + 1), s, 0.0, chart.limit(),
-                    chart.limit(), new Evidence(null, s, null, null, null), excursionEvents, detail);
+                    + Format.stat(peak) + ", above its limit h = " + Format.stat(h)
+                    + (signals == 1 ? " once" : ", " + signals + " times")
+                    + " since the last final window (restarting at zero after each signal); over the "
+                    + cells.count(signalled.events) + " events from the first event after the chart last stood at"
+                    + " zero to the window's end, " + positives() + " were positive against "
+                    + Format.num(signalled.expected) + " expected by the baseline (observed/expected "
+                    + observedExpected() + "); it stands at "
+                    + Format.stat(chart.value()) + " now";
+            return new Reading(rule, subject, Zone.BEYOND, multiplier > 1 ? 1 : -1, 1, clearAfter,
+                    floor(signalled.start), windowEnd, peak, null, h, clearLimit,
+                    new Evidence(null, peak, null, null, null), signalled.events, detail,
+                    new Measurement(Measurement.CUSUM_LLR, peak, Measurement.Side.ABOVE));
         }
 
-        private Reading cleared(Pending p) {
-            String detail = "the risk-adjusted Bernoulli CUSUM tuned to odds " + Format.num(multiplier)
-                    + " times the baseline's" + (column < 0 ? "" : " (events with " + subject.label() + ")")
-                    + " has not signalled again over " + Format.count(sinceSignal) + " events; it stands at "
-                    + Format.stat(chart.value()) + " against its limit h = " + Format.stat(chart.limit());
-            return new Reading(rule, subject, Zone.INSIDE, 0, 1, 1, Instant.ofEpochMilli(lastSignalEnd),
-                    Instant.ofEpochMilli(p.time + 1), chart.value(), 0.0, chart.limit(), chart.limit(),
-                    new Evidence(null, chart.value(), null, null, null), sinceSignal, detail);
+        /** The excursion's positives, withheld when they or the negatives are small counts. */
+        private boolean positivesWithheld() {
+            return cells.small(signalled.observed) || cells.small(signalled.events - signalled.observed);
+        }
+
+        private String positives() {
+            return positivesWithheld() ? cells.withheldLabel() : Format.count(signalled.observed);
+        }
+
+        private String observedExpected() {
+            return positivesWithheld() ? "withheld" : Format.num(signalled.observed / signalled.expected);
         }
     }
 }

@@ -62,22 +62,27 @@ public final class CalibrationRule implements WindowRule {
         Figure decided = null;
         if (c.oeLower() != null && c.oeLower() > oeMax) {
             beyond.add("observed/expected interval wholly above " + Format.num(oeMax));
-            decided = decided == null ? new Figure(1, c.observedExpected(), oeMax, c.oeLower(), c.oeUpper(), 1.0) : decided;
+            decided = decided == null ? new Figure(Measurement.OBSERVED_EXPECTED, 1, c.observedExpected(), oeMax, c.oeLower(),
+                    c.oeUpper(), 1.0) : decided;
         } else if (c.oeUpper() != null && c.oeUpper() < oeMin) {
             beyond.add("observed/expected interval wholly below " + Format.num(oeMin));
-            decided = decided == null ? new Figure(-1, c.observedExpected(), oeMin, c.oeLower(), c.oeUpper(), 1.0) : decided;
+            decided = decided == null ? new Figure(Measurement.OBSERVED_EXPECTED, -1, c.observedExpected(), oeMin, c.oeLower(),
+                    c.oeUpper(), 1.0) : decided;
         }
         if (slopeLow != null && slopeLow > slopeMax) {
             beyond.add("slope interval wholly above " + Format.num(slopeMax));
-            decided = decided == null ? new Figure(1, c.slope(), slopeMax, slopeLow, slopeHigh, 1.0) : decided;
+            decided = decided == null ? new Figure(Measurement.CALIBRATION_SLOPE, 1, c.slope(), slopeMax, slopeLow, slopeHigh,
+                    1.0) : decided;
         } else if (slopeHigh != null && slopeHigh < slopeMin) {
             beyond.add("slope interval wholly below " + Format.num(slopeMin));
-            decided = decided == null ? new Figure(-1, c.slope(), slopeMin, slopeLow, slopeHigh, 1.0) : decided;
+            decided = decided == null ? new Figure(Measurement.CALIBRATION_SLOPE, -1, c.slope(), slopeMin, slopeLow, slopeHigh,
+                    1.0) : decided;
         }
         if (hlP != null && hlP < settings.hosmerLemeshowP()) {
             beyond.add("Hosmer-Lemeshow p below " + Format.num(settings.hosmerLemeshowP()));
             decided = decided == null
-                    ? new Figure(1, hlP, settings.hosmerLemeshowP(), null, null, null) : decided;
+                    ? new Figure(Measurement.HOSMER_LEMESHOW_P, 1, hlP, settings.hosmerLemeshowP(), null, null, null)
+                    : decided;
         }
         boolean oeInside = c.observedExpected() == null
                 || (c.observedExpected() >= oeMin && c.observedExpected() <= oeMax);
@@ -92,12 +97,15 @@ public final class CalibrationRule implements WindowRule {
                 + Format.num(hlP) + " (" + (c.hosmerLemeshowGroups() == null ? "?" : c.hosmerLemeshowGroups())
                 + " degrees of freedom)" + (beyond.isEmpty() ? "" : "; " + String.join(", ", beyond));
         if (decided == null) {
-            decided = new Figure(0, c.observedExpected(), oeMax, c.oeLower(), c.oeUpper(), 1.0);
+            // not beyond: the O/E and its band end on the side of its point estimate speak for the window
+            Double oe = c.observedExpected();
+            decided = new Figure(Measurement.OBSERVED_EXPECTED, 0, oe, oe != null && oe < 1 ? oeMin : oeMax,
+                    c.oeLower(), c.oeUpper(), 1.0);
         }
         return List.of(new Reading(NAME, subject, zone, decided.direction(), settings.consecutive(),
                 settings.clearAfter(), e.windowStart(), e.windowEnd(), decided.value(), decided.baseline(),
-                decided.limit(), decided.limit(), new Evidence(null, null, decided.lower(), decided.upper(), null),
-                c.events(), detail));
+                decided.limit(), decided.clearLimit(), new Evidence(null, null, decided.lower(), decided.upper(), null),
+                c.events(), detail, new Measurement(decided.measure(), decided.value(), decided.side())));
     }
 
     /**
@@ -115,13 +123,35 @@ public final class CalibrationRule implements WindowRule {
         return 1.0 - new ChiSquaredDistribution(null, c.hosmerLemeshowGroups()).cumulativeProbability(c.hosmerLemeshow());
     }
 
-    /** The figure that decided a reading: its value, the limit it crossed, its interval and baseline value. */
-    private record Figure(int direction, Double value, Double limit, Double lower, Double upper, Double baseline) {
+    /**
+     * The figure that decided a reading: its measure, value, the limit it crossed, its interval and
+     * baseline value. Direction +1 is the side of worse calibration above the band; the
+     * Hosmer–Lemeshow p-value lies below its limit but keeps direction +1 (a lack of fit has no sign),
+     * so a run of HL and O/E-above windows counts as one run.
+     */
+    private record Figure(String measure, int direction, Double value, Double limit, Double lower, Double upper,
+                          Double baseline) {
+
+        /** The value back inside which the figure counts towards clearing: the band end, or ten times the HL limit. */
+        Double clearLimit() {
+            return Measurement.HOSMER_LEMESHOW_P.equals(measure) && limit != null ? 10 * limit : limit;
+        }
+
+        Measurement.Side side() {
+            if (direction == 0) {
+                return null;
+            }
+            if (Measurement.HOSMER_LEMESHOW_P.equals(measure)) {
+                return Measurement.Side.BELOW;
+            }
+            return direction > 0 ? Measurement.Side.ABOVE : Measurement.Side.BELOW;
+        }
     }
 
     private Reading reading(WindowEstimate e, Zone zone, int direction, Double observed, Double limit, long events,
                             String detail) {
         return new Reading(NAME, AlertSubject.calibration(), zone, direction, settings.consecutive(),
-                settings.clearAfter(), e.windowStart(), e.windowEnd(), observed, 1.0, limit, limit, null, events, detail);
+                settings.clearAfter(), e.windowStart(), e.windowEnd(), observed, 1.0, limit, limit, null, events, detail,
+                new Measurement(Measurement.OBSERVED_EXPECTED, observed, null));
     }
 }

@@ -1,6 +1,7 @@
 package org.oddswatch.alerts.rules;
 
 import org.oddswatch.alerts.engine.AlertRulesConfig.Guard;
+import org.oddswatch.alerts.gaps.GapReason;
 import org.oddswatch.estimator.fit.FitMethod;
 import org.oddswatch.estimator.fit.FitState;
 import org.oddswatch.estimator.result.FitSummary;
@@ -35,6 +36,22 @@ public final class InformationGuard {
             return events + " events, fewer than the minimum " + guard.minEvents();
         }
         return null;
+    }
+
+    /**
+     * The code of {@link #refusal}: {@link GapReason#NO_FIT} (no fit, or {@code no-model}),
+     * {@link GapReason#TOO_FEW_EVENTS} (state {@code too-few-events}, or fewer events than the
+     * guard's minimum), else {@link GapReason#FIT_UNUSABLE}; null when the window may be used.
+     */
+    public GapReason refusalReason(FitSummary fit, long events) {
+        if (fit == null) {
+            return GapReason.NO_FIT;
+        }
+        if (!fitted(fit)) {
+            return fit.state() == FitState.NO_MODEL ? GapReason.NO_FIT
+                    : fit.state() == FitState.TOO_FEW_EVENTS ? GapReason.TOO_FEW_EVENTS : GapReason.FIT_UNUSABLE;
+        }
+        return events < guard.minEvents() ? GapReason.TOO_FEW_EVENTS : null;
     }
 
     private boolean fitted(FitSummary fit) {

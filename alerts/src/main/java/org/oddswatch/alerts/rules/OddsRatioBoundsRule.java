@@ -87,12 +87,14 @@ public final class OddsRatioBoundsRule implements WindowRule {
         double limit = crossed != null ? crossed : b.above() != null ? b.above() : b.below();
         return new Reading(NAME, subject, zone, direction, settings.consecutive(), settings.clearAfter(),
                 e.windowStart(), e.windowEnd(), or, null, limit, limit, new Evidence(null, null, c.lower(), c.upper(), null),
-                events, detail);
+                events, detail, new Measurement(Measurement.ODDS_RATIO, or, direction > 0 ? Measurement.Side.ABOVE
+                        : direction < 0 ? Measurement.Side.BELOW : null));
     }
 
     private Reading unknown(WindowEstimate e, AlertSubject subject, TermBounds b, long events, String why) {
         Double limit = b.above() != null ? b.above() : b.below();
         return new Reading(NAME, subject, Zone.UNKNOWN, 0, settings.consecutive(), settings.clearAfter(),
-                e.windowStart(), e.windowEnd(), null, null, limit, limit, null, events, why);
+                e.windowStart(), e.windowEnd(), null, null, limit, limit, null, events, why,
+                new Measurement(Measurement.ODDS_RATIO, null, null));
     }
 }

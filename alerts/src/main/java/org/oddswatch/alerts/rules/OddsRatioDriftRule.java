@@ -93,7 +93,8 @@ public final class OddsRatioDriftRule implements WindowRule {
         }
         if (refusal != null) {
             return new Reading(NAME, w.subject(), Zone.UNKNOWN, 0, w.consecutive(), w.clearAfter(), e.windowStart(),
-                    e.windowEnd(), null, Math.exp(bBase), w.limit(), w.clearLimit(), null, events, refusal);
+                    e.windowEnd(), null, Math.exp(bBase), w.limit(), w.clearLimit(), null, events, refusal,
+                    new Measurement(Measurement.ODDS_RATIO_Z, null, null));
         }
         double z = (now.coef() - bBase) / Math.sqrt(now.se() * now.se() + seBase * seBase);
         Zone zone = Math.abs(z) >= w.limit() ? Zone.BEYOND : Math.abs(z) < w.clearLimit() ? Zone.INSIDE : Zone.BETWEEN;
@@ -108,6 +109,8 @@ public final class OddsRatioDriftRule implements WindowRule {
                 + ")";
         return new Reading(NAME, w.subject(), zone, direction, w.consecutive(), w.clearAfter(), e.windowStart(),
                 e.windowEnd(), orNow, orBase, w.limit(), w.clearLimit(),
-                new Evidence(z, null, now.lower(), now.upper(), null), events, detail);
+                new Evidence(z, null, now.lower(), now.upper(), null), events, detail,
+                new Measurement(Measurement.ODDS_RATIO_Z, z, direction > 0 ? Measurement.Side.ABOVE
+                        : direction < 0 ? Measurement.Side.BELOW : null));
     }
 }

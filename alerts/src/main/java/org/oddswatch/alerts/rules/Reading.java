@@ -24,10 +24,12 @@ import org.oddswatch.alerts.lifecycle.Evidence;
  * @param evidence z, CUSUM value, interval
  * @param events events the reading rests on
  * @param detail a sentence saying what moved and by how much (used in the alert message)
+ * @param measurement the figure compared with {@code limit} and {@code clearLimit}: its measure's
+ *     name, its value and the side of the limit it lies on
  */
 public record Reading(String rule, AlertSubject subject, Zone zone, int direction, int raiseAfter, int clearAfter,
                       Instant windowStart, Instant windowEnd, Double observed, Double baseline, Double limit,
-                      Double clearLimit, Evidence evidence, long events, String detail) {
+                      Double clearLimit, Evidence evidence, long events, String detail, Measurement measurement) {
 
     /** A key naming the rule and subject; episodes are tracked per key. */
     public String key() {

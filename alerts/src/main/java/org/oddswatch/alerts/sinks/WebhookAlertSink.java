@@ -14,6 +14,8 @@ import java.util.concurrent.TimeUnit;
 import java.util.concurrent.atomic.AtomicLong;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.privacy.PublishedAlert;
+import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.alerts.metrics.OddswatchMeters;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
@@ -39,6 +41,7 @@ public final class WebhookAlertSink implements AlertSink {
     private final HttpClient client;
     private final ThreadPoolExecutor executor;
     private final OddswatchMeters meters;
+    private final SmallCellPolicy cells;
     private final AtomicLong delivered = new AtomicLong();
     private final AtomicLong failedAttempts = new AtomicLong();
     private final AtomicLong retries = new AtomicLong();
@@ -55,6 +58,13 @@ public final class WebhookAlertSink implements AlertSink {
      */
     public WebhookAlertSink(URI url, Duration timeout, int attempts, Duration backoff, int queueCapacity,
                             OddswatchMeters meters) {
+        this(url, timeout, attempts, backoff, queueCapacity, meters, SmallCellPolicy.DEFAULT);
+    }
+
+    /** As above, posting the alert JSON under the monitor's small-cell rule ({@link PublishedAlert}). */
+    public WebhookAlertSink(URI url, Duration timeout, int attempts, Duration backoff, int queueCapacity,
+                            OddswatchMeters meters, SmallCellPolicy cells) {
+        this.cells = cells;
         if (attempts < 1 || queueCapacity < 1) {
             throw new IllegalArgumentException("attempts and queue capacity must be at least 1");
         }
@@ -79,7 +89,7 @@ public final class WebhookAlertSink implements AlertSink {
 
     @Override
     public void publish(Alert alert) {
-        String body = Json.write(alert);
+        String body = PublishedAlert.json(alert, cells);
         try {
             executor.execute(() -> deliver(alert, body));
         } catch (RejectedExecutionException e) {

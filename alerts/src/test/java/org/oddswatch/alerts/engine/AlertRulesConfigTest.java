@@ -72,7 +72,8 @@ class AlertRulesConfigTest {
         assertEquals(2.0, c.cusum().up());
         assertEquals(1 / 1.5, c.cusum().down(), 1e-15);
         assertEquals(8.0, c.cusum().limit());
-        assertEquals(2000L, c.cusum().clearAfterEvents());
+        assertEquals(2, c.cusum().clearAfter());
+        assertEquals(0.5, c.cusum().clearFraction());
         assertEquals("household_contact", c.cusum().terms().get(0).term());
     }
 
@@ -80,6 +81,8 @@ class AlertRulesConfigTest {
     void invalidValuesNameTheKey() {
         Exception e = assertThrows(IllegalArgumentException.class, () -> bind("oddsRatioDrift: {limit: 2, clearLimit: 3}"));
         assertTrue(e.getMessage().contains("oddsRatioDrift.clearLimit"), e.getMessage());
+        e = assertThrows(IllegalArgumentException.class, () -> bind("cusum: {clearFraction: 1.0}"));
+        assertTrue(e.getMessage().contains("cusum.clearFraction"), e.getMessage());
         e = assertThrows(IllegalArgumentException.class, () -> bind("cusum: {up: 0.9}"));
         assertTrue(e.getMessage().contains("cusum.up"), e.getMessage());
         e = assertThrows(IllegalArgumentException.class, () -> bind("guard: {allowStates: [sideways]}"));

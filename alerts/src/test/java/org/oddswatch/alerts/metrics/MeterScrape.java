@@ -35,7 +35,7 @@ final class MeterScrape {
         AlertEngine engine = new AlertEngine(Fixtures.STREAM, AlertRulesConfig.defaults(), Fixtures.baseline(), null);
         var w = Fixtures.window(0, Math.log(4.0), 0.15, Fixtures.fit(org.oddswatch.estimator.fit.FitState.CONVERGED,
                 org.oddswatch.estimator.fit.FitMethod.NEWTON, 2000), Fixtures.calibration(1.1, 0.9, 1.3, 0.95, 0.1, 0.4));
-        meters.onEstimate(w);
+        meters.onEstimate(w, org.oddswatch.alerts.privacy.SmallCellPolicy.DEFAULT);
         for (Alert a : engine.onFinalEstimate(w)) {
             meters.onAlert(a);
         }
@@ -43,8 +43,8 @@ final class MeterScrape {
         engine.onEventsClosed(Fixtures.start(1).toEpochMilli());
         meters.onCusum(Fixtures.STREAM, engine.cusumReadings());
         meters.recordFit(Fixtures.STREAM, Duration.ofMillis(12).toNanos(), 3);
-        meters.countEvent(Fixtures.STREAM, "accepted", null);
-        meters.countEvent(Fixtures.STREAM, "rejected", "bad-time");
+        meters.countEvent("monitor", Fixtures.STREAM, "accepted", null);
+        meters.countEvent("monitor", Fixtures.STREAM, "rejected", "bad-time");
         meters.webhookAttempt("success");
         meters.webhookFailure("queue-full");
         return registry.scrape();

@@ -51,6 +51,98 @@ class PrometheusRulesFileTest {
         }
     }
 
+    /**
+     * The reject-share rule, evaluated on real scrapes (promtool is not needed). Its expression has
+     * the form {@code sum by (L) (rate(S{outcome="rejected"}[W])) > F * sum by (L) (rate(S[W]))};
+     * both rates share the window W, so the comparison equals the one of the counters' increases
+     * between two scrapes W apart (Prometheus' rate is increase / W). Source of that reading: the
+     * Prometheus query-function documentation of {@code rate} and {@code increase}.
+     */
+    record RejectShareRule(String label, double factor, String series) {
+
+        private static final java.util.regex.Pattern FORM = java.util.regex.Pattern.compile(
+                "sum by \\((\\w+)\\) \\(rate\\((\\w+)\\{outcome=\"rejected\"}\\[(\\w+)]\\)\\)\\s*>\\s*"
+                        + "([0-9.]+) \\* sum by \\((\\w+)\\) \\(rate\\((\\w+)\\[(\\w+)]\\)\\)");
+
+        static RejectShareRule parse(String expr) {
+            java.util.regex.Matcher m = FORM.matcher(expr.trim());
+            assertTrue(m.matches(), "the reject-share rule keeps the form this check understands: " + expr);
+            assertEquals(m.group(1), m.group(5), "both sides group by the same label");
+            assertEquals(m.group(2), m.group(6), "both sides read the same series");
+            assertEquals(m.group(3), m.group(7), "both sides take the same range");
+            return new RejectShareRule(m.group(1), Double.parseDouble(m.group(4)), m.group(2));
+        }
+
+        /** The label values the rule fires for, given two scrapes. */
+        java.util.Set<String> firing(List<Sample> before, List<Sample> after) {
+            Map<String, double[]> byGroup = new java.util.TreeMap<>();
+            for (Sample s : after) {
+                if (!s.name().equals(series)) {
+                    continue;
+                }
+                double earlier = before.stream().filter(b -> b.name().equals(series) && b.labels().equals(s.labels()))
+                        .mapToDouble(b -> Double.parseDouble(b.value())).findFirst().orElse(0);
+                double increase = Double.parseDouble(s.value()) - earlier;
+                double[] sums = byGroup.computeIfAbsent(s.labels().getOrDefault(label, ""), k -> new double[2]);
+                sums[1] += increase;
+                if ("rejected".equals(s.labels().get("outcome"))) {
+                    sums[0] += increase;
+                }
+            }
+            java.util.Set<String> out = new java.util.TreeSet<>();
+            byGroup.forEach((group, sums) -> {
+                if (sums[0] > factor * sums[1]) {
+                    out.add(group);
+                }
+            });
+            return out;
+        }
+    }
+
+    private static String rejectShareExpr() throws Exception {
+        JsonNode root = new ObjectMapper(new YAMLFactory()).readTree(RULES.toFile());
+        for (JsonNode group : root.get("groups")) {
+            for (JsonNode rule : group.get("rules")) {
+                if ("OddswatchEventsRejected".equals(rule.path("alert").asText())) {
+                    return rule.get("expr").asText();
+                }
+            }
+        }
+        throw new AssertionError("no OddswatchEventsRejected rule");
+    }
+
+    @Test
+    void rejectShareRuleFiresPerMonitorAndNotOnTheUnroutedSeries() throws Exception {
+        RejectShareRule rule = RejectShareRule.parse(rejectShareExpr());
+        io.micrometer.prometheusmetrics.PrometheusMeterRegistry registry =
+                new io.micrometer.prometheusmetrics.PrometheusMeterRegistry(
+                        io.micrometer.prometheusmetrics.PrometheusConfig.DEFAULT);
+        OddswatchMeters meters = new OddswatchMeters();
+        meters.bindTo(registry);
+        meters.countEvent("resp", "resp/north", "accepted", null);
+        meters.countEvent("resp", null, "rejected", "too-many-streams");
+        List<Sample> before = MeterScrape.parse(registry.scrape());
+        // 1,000 records of monitor resp: 980 accepted in two streams, 20 (2 %) rejected unrouted.
+        for (int i = 0; i < 490; i++) {
+            meters.countEvent("resp", "resp/north", "accepted", null);
+            meters.countEvent("resp", "resp/south", "accepted", null);
+        }
+        for (int i = 0; i < 20; i++) {
+            meters.countEvent("resp", null, "rejected", i % 2 == 0 ? "too-many-streams" : "malformed-json");
+        }
+        List<Sample> twoPercent = MeterScrape.parse(registry.scrape());
+        assertEquals(java.util.Set.of(), rule.firing(before, twoPercent), "2 % rejected: quiet");
+        // The former rule (share per stream) fired on the unrouted series, where every record is a reject.
+        RejectShareRule perStream = new RejectShareRule("stream", rule.factor(), rule.series());
+        assertEquals(java.util.Set.of("none"), perStream.firing(before, twoPercent));
+
+        for (int i = 0; i < 40; i++) {
+            meters.countEvent("resp", "resp/north", "rejected", "bad-time");
+        }
+        // 60 of 1,040 records (5.8 %) rejected: above 5 %, fires for the monitor.
+        assertEquals(java.util.Set.of("resp"), rule.firing(before, MeterScrape.parse(registry.scrape())));
+    }
+
     private static String promtool() {
         for (String dir : System.getenv().getOrDefault("PATH", "").split(File.pathSeparator)) {
             File f = new File(dir, "promtool");

@@ -8,6 +8,8 @@ import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.List;
 import org.junit.jupiter.api.Test;
+import org.oddswatch.estimator.fit.FitMethod;
+import org.oddswatch.estimator.fit.FitState;
 import org.junit.jupiter.api.io.TempDir;
 import org.oddswatch.alerts.Fixtures;
 import org.oddswatch.alerts.engine.AlertEngine;
@@ -53,6 +55,22 @@ class ReplayReportTest {
         assertTrue(md.contains("### Alerts"), md);
         assertTrue(md.contains("Reproduce: `oddswatch replay --config"), md);
         assertEquals(md, ReplayReport.render(windows, alerts, "North, spring 2026"), "deterministic");
+        // rows and the alert list name the measure, its value, the side of the limit and the limit
+        assertTrue(md.contains("| raised odds-ratio-drift household_contact=yes (odds-ratio-z) |"), md);
+        assertTrue(md.contains("odds-ratio-z 4.20 above the limit 3.00, observed "), md);
+    }
+
+    @Test
+    void calibrationRowsNameTheMeasureNotTheSubjectTwice() {
+        AlertEngine engine = new AlertEngine(Fixtures.STREAM, AlertRulesConfig.defaults(), Fixtures.baseline(), null);
+        WindowEstimate w = Fixtures.window(0, 0.7, 0.15, Fixtures.fit(FitState.CONVERGED, FitMethod.NEWTON, 2000),
+                Fixtures.calibration(1.0, 0.9, 1.1, 1.0, 0.1, 9.38e-6));
+        List<Alert> alerts = engine.onFinalEstimate(w);
+        String md = ReplayReport.render(List.of(w), alerts, null);
+        assertTrue(!md.contains("calibration calibration"), md);
+        assertTrue(md.contains("| raised calibration (hosmer-lemeshow-p) |"), md);
+        assertTrue(md.contains("calibration (hosmer-lemeshow-p), window 2026-04-06T00:00:00Z to 2026-04-13T00:00:00Z:"
+                + " hosmer-lemeshow-p 9.38e-06 below the limit 1.00e-04, on 2,000 events."), md);
     }
 
     @Test

@@ -46,7 +46,7 @@ class BernoulliCusumArlTest {
         double[] unexposed = {1, 0};
         double[] exposed = {1, 1};
         for (int run = 0; run < runs; run++) {
-            Cusum settings = new Cusum(r > 1 ? r : null, r < 1 ? r : null, h, null, null, null);
+            Cusum settings = new Cusum(r > 1 ? r : null, r < 1 ? r : null, h, null, null, null, null);
             BernoulliCusumRule chart = new BernoulliCusumRule(settings, new InformationGuard(new Guard(null, null, 0L)),
                     baseline());
             long t = 0;
@@ -59,12 +59,8 @@ class BernoulliCusumArlTest {
                     chart.offer(t, ID, isExposed ? exposed : unexposed,
                             rng.nextDouble() < odds / (1 + odds));
                 }
-                for (Reading reading : chart.close(t)) {
-                    if (reading.rule().equals(rule) && reading.zone() == Zone.BEYOND) {
-                        signal = reading.windowEnd().toEpochMilli(); // event index + 1 = run length
-                        break;
-                    }
-                }
+                chart.close(t);
+                signal = chart.firstSignalAt(rule); // events processed at the first signal = run length
             }
             lengths[run] = signal;
         }
@@ -120,7 +116,7 @@ class BernoulliCusumArlTest {
     @Test
     void defaultLimitsKeepFalseAlarmsRareAtTheReferenceLoad() {
         // The defaults' reference load (alerts/README.md): 2000 events a week, 5% prevalence. R_up 1.5, R_down 1/1.5, h 8.
-        Cusum d = new Cusum(null, null, null, null, null, null);
+        Cusum d = new Cusum(null, null, null, null, null, null, null);
         double[] share = {1.0};
         double[] risk = {0.05};
         double up = BrookEvans.bernoulli(d.limit(), d.up(), share, risk, 1, 1000);

@@ -4,7 +4,6 @@ import java.io.PrintWriter;
 import java.nio.file.Path;
 import java.time.Instant;
 import java.util.List;
-import java.util.Locale;
 import java.util.concurrent.Callable;
 import org.oddswatch.ingest.baseline.BaselineBuilder;
 import org.oddswatch.ingest.baseline.BaselineRequest;
@@ -24,7 +23,10 @@ import picocli.CommandLine.Model.CommandSpec;
             "Writes one file per stream into --out: <monitor>.json, or <monitor>-<split value>.json for a split "
             + "monitor (one file per monitor with --pooled). Point a definition at them with "
             + "baseline: {file: DIR/<monitor>-{split}.json}. Each file records the coefficients, covariance, term "
-            + "coding, period, event counts and a checksum of the definition's model."})
+            + "coding, period, event counts and a checksum of the definition's model.",
+            "Events are counted as a replay counts them (the future and late rules, the stream cap, dedupe). A model "
+            + "with fewer than 10 events of the rarer outcome per coefficient is refused unless --allow-weak. Prints "
+            + "per stream the events, positives, odds ratios and the state of what it froze."})
 final class BaselineCommand implements Callable<Integer> {
 
     @Option(names = "--config", required = true, paramLabel = "FILE", description = "Monitor definition (YAML).")
@@ -51,6 +53,10 @@ final class BaselineCommand implements Callable<Integer> {
     @Option(names = "--format", paramLabel = "FORMAT", description = "Input format: jsonl or csv (default: by the file name).")
     String format;
 
+    @Option(names = "--allow-weak", description = "Also write a model fitted from too little information (fewer than "
+            + "10 events of the rarer outcome per coefficient); it is flagged weak wherever it is used.")
+    boolean allowWeak;
+
     @Spec
     CommandSpec spec;
 
@@ -59,7 +65,7 @@ final class BaselineCommand implements Callable<Integer> {
         if (!from.isBefore(to)) {
             throw UserError.config("--from must lie before --to");
         }
-        MonitorConfig definition = Definitions.load(config);
+        MonitorConfig definition = Definitions.load(config, spec.commandLine().getErr());
         if (monitor != null && definition.monitor(monitor) == null) {
             throw UserError.config("no monitor named '" + monitor + "' in " + config);
         }
@@ -68,27 +74,23 @@ final class BaselineCommand implements Callable<Integer> {
         if (input.file != null) {
             Definitions.requireFile(input.file, "--input");
             built = BaselineBuilder.build(definition, new BaselineRequest(input.file, inputFormat, from, to, out,
-                    monitor, pooled));
+                    monitor, pooled, allowWeak));
         } else {
             try (TopicSnapshot snapshot = TopicSnapshot.read(definition.kafka(), input.topic, null)) {
                 built = BaselineBuilder.build(definition, new BaselineRequest(snapshot.file(), InputFormat.JSONL, from,
-                        to, out, monitor, pooled));
+                        to, out, monitor, pooled, allowWeak));
             }
         }
         PrintWriter w = spec.commandLine().getOut();
         int failed = 0;
         for (BuiltBaseline b : built) {
-            if (b.ok()) {
-                w.println(String.format(Locale.ROOT, "%s: %d events from %s to %s -> %s", b.stream(), b.events(), from,
-                        to, b.file()));
-            } else {
-                failed++;
-                w.println(b.stream() + ": no baseline: " + b.problem());
-            }
+            w.print(BaselineSummary.describe(b, from, to));
+            failed += b.ok() ? 0 : 1;
         }
         w.flush();
         if (failed > 0) {
-            throw UserError.runtime(failed + " of " + built.size() + " baseline(s) could not be fitted", null);
+            throw UserError.runtime(failed + " of " + built.size()
+                    + " baseline(s) not written (failed, or refused as weak: see --allow-weak)", null);
         }
         return 0;
     }

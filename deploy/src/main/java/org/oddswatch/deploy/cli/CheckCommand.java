@@ -2,6 +2,7 @@ package org.oddswatch.deploy.cli;
 
 import java.io.PrintWriter;
 import java.nio.file.Path;
+import java.util.List;
 import java.util.concurrent.Callable;
 import org.oddswatch.ingest.check.CheckReport;
 import org.oddswatch.ingest.check.DefinitionChecker;
@@ -17,8 +18,11 @@ import picocli.CommandLine.Model.CommandSpec;
 /** {@code oddswatch check}: validates a monitor definition, optionally against sample events. */
 @Command(name = "check", mixinStandardHelpOptions = true,
         description = {"Validate a monitor definition.",
+            "Lists each monitor's rules, on or off with the reason.",
             "With --events, also count how many sample events each monitor would accept, reject (by reason), "
-            + "or find late or duplicate. Exit status 2 when the definition is invalid."})
+            + "or find late or duplicate, and list what they would leave unmonitored (a failed or weak baseline, "
+            + "a rule that does not run, windows a rule could not judge, a term missing from every event). "
+            + "Exit status 2 when the definition is invalid."})
 final class CheckCommand implements Callable<Integer> {
 
     @Option(names = "--config", required = true, paramLabel = "FILE", description = "Monitor definition (YAML).")
@@ -56,7 +60,9 @@ final class CheckCommand implements Callable<Integer> {
     private String describe(MonitorConfig definition) {
         StringBuilder b = new StringBuilder();
         b.append(config).append(": valid, ").append(definition.monitors().size()).append(" monitor(s)\n");
-        for (MonitorDefinition m : definition.monitors()) {
+        List<CheckReport.MonitorFacts> facts = DefinitionChecker.facts(definition);
+        for (int i = 0; i < definition.monitors().size(); i++) {
+            MonitorDefinition m = definition.monitors().get(i);
             StringBuilder watched = new StringBuilder();
             for (TermSpec t : m.terms()) {
                 if (t.term().watched()) {
@@ -72,6 +78,7 @@ final class CheckCommand implements Callable<Integer> {
                             ? ", baseline " + m.baseline().from() + " to " + m.baseline().to()
                             : ", baseline file " + m.baseline().file())
                     .append('\n');
+            CheckReport.appendRules(b, facts.get(i));
         }
         return b.toString();
     }

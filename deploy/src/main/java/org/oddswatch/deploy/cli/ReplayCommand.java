@@ -4,7 +4,9 @@ import java.io.IOException;
 import java.io.PrintWriter;
 import java.nio.file.Path;
 import java.time.Instant;
+import java.util.List;
 import java.util.concurrent.Callable;
+import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.replay.InputFormat;
 import org.oddswatch.ingest.replay.ReplayRequest;
@@ -22,8 +24,10 @@ import picocli.CommandLine.Model.CommandSpec;
         description = {
             "Run past events through the monitor pipeline, time driven by the events, and write a report folder.",
             "Writes estimates.jsonl (final windows), rejects.jsonl, alerts.jsonl, summary.json, report.md and "
-            + "report.html (charts; open it in a browser) into --out. The same definition and events give byte-identical files. Every alert message carries the "
-            + "replay command that reproduces it."})
+            + "report.html (charts; open it in a browser) into --out. The same definition and events give "
+            + "byte-identical files. Every alert message carries the replay command that reproduces it. Prints what "
+            + "was not monitored (a failed or weak baseline, a rule that did not run, windows a rule did not judge, a "
+            + "term missing from every event) with the reason."})
 final class ReplayCommand implements Callable<Integer> {
 
     @Option(names = "--config", required = true, paramLabel = "FILE", description = "Monitor definition (YAML).")
@@ -52,7 +56,7 @@ final class ReplayCommand implements Callable<Integer> {
         if (from != null && to != null && !from.isBefore(to)) {
             throw UserError.config("--from must lie before --to");
         }
-        MonitorConfig definition = Definitions.load(config);
+        MonitorConfig definition = Definitions.load(config, spec.commandLine().getErr());
         InputFormat inputFormat = format == null ? null : parseFormat(format);
         ReplaySummary summary;
         if (input.file != null) {
@@ -75,6 +79,13 @@ final class ReplayCommand implements Callable<Integer> {
         w.println("replayed " + summary.records().consumed() + " records: " + Counts.outcomes(summary.records()));
         w.println("wrote " + summary.finalWindows() + " final window estimate(s), " + summary.rejectsWritten()
                 + " reject(s), " + summary.alerts() + " alert message(s) to " + out);
+        List<MonitoringGap> gaps = summary.gaps();
+        if (!gaps.isEmpty()) {
+            w.println("not monitored (" + gaps.size() + "; alerts cannot come from these, see report.md):");
+            for (MonitoringGap gap : gaps) {
+                w.println("  " + gap.describe());
+            }
+        }
         w.println("charts: open " + out.resolve("report.html") + " in a browser");
         if (summary.alerts() > 0) {
             w.println("alerts call for investigation; they are not a diagnosis or proof of cause (see "

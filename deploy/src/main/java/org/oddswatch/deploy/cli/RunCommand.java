@@ -33,7 +33,7 @@ final class RunCommand implements Callable<Integer> {
     @Option(names = "--http", paramLabel = "HOST:PORT", description = "Address of /metrics, /health and /status (overrides service.http).")
     String http;
 
-    @Option(names = "--instance", paramLabel = "NAME", description = "Name of this instance in client ids and meters (default: the host name).")
+    @Option(names = "--instance", paramLabel = "NAME", description = "Name of this instance in client ids and in the service_instance tag of meters (default: the host name).")
     String instance;
 
     @Spec
@@ -41,7 +41,7 @@ final class RunCommand implements Callable<Integer> {
 
     @Override
     public Integer call() throws Exception {
-        MonitorConfig loaded = Definitions.load(config);
+        MonitorConfig loaded = Definitions.load(config, spec.commandLine().getErr());
         MonitorConfig definition = http == null ? loaded : withHttp(loaded, http);
         InetSocketAddress address;
         try {

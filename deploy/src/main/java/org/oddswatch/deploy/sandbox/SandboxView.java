@@ -117,6 +117,22 @@ public final class SandboxView {
         StringBuilder b = new StringBuilder(String.format(Locale.ROOT, "%-10s %s %s%s, window ending %s",
                 a.path("state").asText().toUpperCase(Locale.ROOT), a.path("stream").asText(), a.path("rule").asText(),
                 what, day(a.path("windowEnd").asText())));
+        if (a.hasNonNull("measure") && a.hasNonNull("value")) {
+            // what is measured, its value and the side of the limit: "hosmer-lemeshow-p 9.38e-06 below 1.00e-04"
+            b.append(String.format(Locale.ROOT, ": %s %.3g", a.path("measure").asText(), a.path("value").asDouble()));
+            if (a.hasNonNull("direction") && a.hasNonNull("limit")) {
+                boolean negate = "odds-ratio-z".equals(a.path("measure").asText())
+                        && "below".equals(a.path("direction").asText());
+                b.append(String.format(Locale.ROOT, " %s %.3g", a.path("direction").asText(),
+                        negate ? -a.path("limit").asDouble() : a.path("limit").asDouble()));
+            }
+            if (a.path("measure").asText().equals("odds-ratio-z") && a.hasNonNull("observed")
+                    && a.hasNonNull("baseline")) {
+                b.append(String.format(Locale.ROOT, ", odds ratio %.3g vs baseline %.3g", a.path("observed").asDouble(),
+                        a.path("baseline").asDouble()));
+            }
+            return b.toString();
+        }
         if (a.hasNonNull("observed")) {
             b.append(String.format(Locale.ROOT, ": observed %.3g", a.path("observed").asDouble()));
         }

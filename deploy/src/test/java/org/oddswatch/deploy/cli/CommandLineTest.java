@@ -21,6 +21,7 @@ import org.oddswatch.deploy.scenario.RecordDefect;
 import org.oddswatch.deploy.scenario.Scenario;
 import org.oddswatch.deploy.scenario.ScenarioEvent;
 import org.oddswatch.deploy.scenario.ScenarioOptions;
+import org.oddswatch.ingest.pipeline.GapScenario;
 
 /** The command line in-process: help, exit statuses 0 / 2 / 1, and one-line errors. */
 class CommandLineTest {
@@ -197,6 +198,82 @@ class CommandLineTest {
         // 20 weeks take in the week-16 doubling of the household-contact odds ratio
         assertTrue(Files.readString(dir.resolve("a").resolve("alerts.jsonl"))
                 .contains("\"rule\":\"odds-ratio-drift\""), "drift alert in the replay");
+    }
+
+    /**
+     * A CSV without the column of one term, through {@code check --events} and {@code replay}: both
+     * print the rules (check) and what is not monitored, with reason codes and reasons in words.
+     */
+    @Test
+    void checkAndReplayPrintWhatIsNotMonitored() throws IOException {
+        Path definition = dir.resolve("gaps.yaml");
+        Files.writeString(definition, GapScenario.definition("clinic-tests"));
+        Path events = dir.resolve("gaps.csv");
+        Files.write(events, GapScenario.csvLines(), StandardCharsets.UTF_8);
+
+        Result check = run("check", "--config", definition.toString(), "--events", events.toString());
+        assertEquals(0, check.status(), check.err());
+        assertTrue(check.out().contains("    rules:\n      odds-ratio-drift: on (needs a baseline)\n"
+                + "      odds-ratio-bounds: on\n      calibration: on (needs a baseline)\n"
+                + "      bernoulli-cusum: off [switched-off]: switched off in the definition (rules.cusum.enabled: false)\n"
+                + "    note: monitors[0].rules.oddsRatioDrift is not listed, so it runs with its defaults"), check.out());
+        Result replay = run("replay", "--config", definition.toString(), "--input", events.toString(), "--out",
+                dir.resolve("out").toString());
+        assertEquals(0, replay.status(), replay.err());
+        assertTrue(replay.err().contains("note: " + definition + ": monitor clinic: monitors[0].rules.calibration is "
+                + "not listed, so it runs with its defaults"), replay.err());
+        for (Result r : List.of(check, replay)) {
+            assertTrue(r.out().contains("not monitored (7"), r.out());
+            for (String line : List.of(
+                    "  clinic: no baseline in use [baseline-failed]: cannot fit a baseline model on 2026-01-05T00:00:00Z",
+                    "  clinic: rule odds-ratio-drift not running [baseline-failed]: cannot fit a baseline model",
+                    "  clinic: rule bernoulli-cusum not running [switched-off]: switched off in the definition",
+                    "final window(s) not judged by odds-ratio-bounds [no-fit]",
+                    "  clinic: 7 final window(s) not judged by any rule [baseline-period]",
+                    "  clinic: term smoker missing from every event [term-missing]: none of the 1200 accepted event(s)")) {
+                assertTrue(r.out().contains(line), line + " in\n" + r.out());
+            }
+        }
+    }
+
+    /**
+     * {@code baseline} prints what it froze per stream, refuses a model from too little information
+     * (exit 1, the reason printed, no file), and writes it flagged with {@code --allow-weak}.
+     */
+    @Test
+    void baselinePrintsWhatItFrozeAndRefusesAWeakModel() throws IOException {
+        Path definition = dir.resolve("gaps.yaml");
+        // the scenario with the smoker term removed: a model that can be fitted
+        Files.writeString(definition, GapScenario.definition("clinic-tests")
+                .replace("      - {name: smoker, field: /smoker, kind: binary}\n", ""));
+        Path events = dir.resolve("events.csv");
+        Files.write(events, GapScenario.csvLines(), StandardCharsets.UTF_8);
+        Result ok = run("baseline", "--config", definition.toString(), "--input", events.toString(), "--from",
+                "2026-01-05T00:00:00Z", "--to", "2026-02-02T00:00:00Z", "--out", dir.resolve("b").toString());
+        assertEquals(0, ok.status(), ok.err());
+        // 1200 events evenly over ten weeks: four weeks hold 480
+        assertTrue(Pattern.compile("^clinic: frozen, 480 events, \\d+ positives from 2026-01-05T00:00:00Z to "
+                + "2026-02-02T00:00:00Z -> .*clinic\\.json\n  household_contact=yes: odds ratio [0-9.]+ \\(log-odds SE "
+                + "[0-9.]+\\)\n$").matcher(ok.out()).find(), ok.out());
+
+        Result refused = run("baseline", "--config", definition.toString(), "--input", events.toString(), "--from",
+                "2026-01-05T00:00:00Z", "--to", "2026-01-08T00:00:00Z", "--out", dir.resolve("c").toString());
+        assertEquals(1, refused.status(), refused.out());
+        // three days: about 51 events, too few positives for one coefficient besides the intercept
+        assertTrue(Pattern.compile("^clinic: refused-weak, 5\\d events, \\d+ positives from 2026-01-05T00:00:00Z to "
+                + "2026-01-08T00:00:00Z, no file written\n  why: refused: too little information: 5\\d events, of which "
+                + "\\d positive, for 1 coefficient\\(s\\) besides the intercept; at least 10 of the rarer outcome")
+                .matcher(refused.out()).find(), refused.out());
+        assertTrue(refused.err().contains("1 of 1 baseline(s) not written"), refused.err());
+        assertFalse(Files.exists(dir.resolve("c").resolve("clinic.json")));
+
+        Result weak = run("baseline", "--config", definition.toString(), "--input", events.toString(), "--from",
+                "2026-01-05T00:00:00Z", "--to", "2026-01-08T00:00:00Z", "--out", dir.resolve("c").toString(),
+                "--allow-weak");
+        assertEquals(0, weak.status(), weak.err());
+        assertTrue(weak.out().startsWith("clinic: frozen-weak, 5"), weak.out());
+        assertTrue(weak.out().contains("\n  weak: too little information"), weak.out());
+        assertTrue(Files.exists(dir.resolve("c").resolve("clinic.json")));
     }
 
     private static int lineOf(String text, String needle) {

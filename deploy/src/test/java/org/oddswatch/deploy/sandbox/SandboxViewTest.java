@@ -57,6 +57,19 @@ class SandboxViewTest {
                 + "\"observed\":0.2,\"limit\":0.0001,\"evidence\":{}}");
         assertEquals("CLEARED    respiratory calibration, window ending 2026-06-01: observed 0.200 (limit 0.000100)",
                 view.alert(calibration));
+        // alerts that name their measure are shown by it, with the side of the limit
+        JsonNode hl = Json.mapper().readTree("{\"stream\":\"respiratory\",\"rule\":\"calibration\","
+                + "\"subject\":{\"term\":\"calibration\"},\"state\":\"raised\",\"windowEnd\":\"2026-06-01T00:00:00Z\","
+                + "\"measure\":\"hosmer-lemeshow-p\",\"value\":9.38e-06,\"direction\":\"below\","
+                + "\"observed\":9.38e-06,\"limit\":0.0001,\"evidence\":{}}");
+        assertEquals("RAISED     respiratory calibration, window ending 2026-06-01: hosmer-lemeshow-p 9.38e-06 below 0.000100",
+                view.alert(hl));
+        JsonNode z = Json.mapper().readTree("{\"stream\":\"respiratory\",\"rule\":\"odds-ratio-drift\","
+                + "\"subject\":{\"term\":\"household_contact\",\"level\":\"yes\"},\"state\":\"raised\","
+                + "\"windowEnd\":\"2026-05-04T00:00:00Z\",\"measure\":\"odds-ratio-z\",\"value\":-3.14,"
+                + "\"direction\":\"below\",\"observed\":1.2,\"baseline\":2.32,\"limit\":3.0}");
+        assertEquals("RAISED     respiratory odds-ratio-drift household_contact=yes, window ending 2026-05-04: "
+                + "odds-ratio-z -3.14 below -3.00, odds ratio 1.20 vs baseline 2.32", view.alert(z));
     }
 
     @Test

@@ -259,9 +259,19 @@ final class BinomialPass {
         }
     }
 
-    /** Adds Firth's correction to the score: {@code sum_i x_i h_i (1/2 - mu_i)}. Needs the factor. */
-    void addFirthCorrection(FitProblem problem) {
+    /**
+     * Adds Firth's correction to the score: {@code sum_i x_i h_i (1/2 - mu_i)} with
+     * {@code h_i = w_i x_i' I^-1 x_i}. Needs the factor. With an indicator grouping the quadratic form
+     * is split as {@code x' A x = m_g' A m_g + 2 z' A_zm m_g + z' A_zz z} (m_g the group's 0/1 pattern,
+     * z the row's numeric values, A = I^-1), whose pattern parts are computed once per group, and the
+     * correction is summed per group like the score: {@code O(q^2)} per row instead of {@code O(p^2)}.
+     */
+    void addFirthCorrection(FitProblem problem, IndicatorGroups groups) {
         final double[] inv = DenseCholesky.inverse(factor, p);
+        if (groups != null) {
+            addFirthCorrectionGrouped(problem, groups, inv);
+            return;
+        }
         final int n = problem.rows();
         final double[] x = problem.x();
         final double[] trials = problem.trials();
@@ -295,6 +305,82 @@ final class BinomialPass {
             final double c = h * (0.5 - mu);
             for (int j = 0; j < p; j++) {
                 score[j] += x[base + j] * c;
+            }
+        }
+    }
+
+    private void addFirthCorrectionGrouped(FitProblem problem, IndicatorGroups groups, double[] inv) {
+        final int n = problem.rows();
+        final int q = groups.q;
+        final int gCount = groups.groupCount;
+        final int[] num = groups.numericColumns;
+        final double[] z = groups.z;
+        final double[] trials = problem.trials();
+        final double[] offset = problem.offset();
+        final double[] etaGroup = new double[gCount];
+        final double[] pattern = new double[gCount];
+        final double[] cross = new double[gCount * q];
+        for (int g = 0; g < gCount; g++) {
+            final int[] m = groups.members[g];
+            double s = 0;
+            double form = 0;
+            for (int a : m) {
+                s += beta[a];
+                for (int b : m) {
+                    form += inv[a * p + b];
+                }
+                for (int c = 0; c < q; c++) {
+                    cross[g * q + c] += inv[num[c] * p + a];
+                }
+            }
+            etaGroup[g] = s;
+            pattern[g] = form;
+        }
+        final double[] bq = new double[q];
+        final double[] zz = new double[q * q];
+        for (int c = 0; c < q; c++) {
+            bq[c] = beta[num[c]];
+            for (int d = 0; d < q; d++) {
+                zz[c * q + d] = inv[num[c] * p + num[d]];
+            }
+        }
+        final double[] sc = new double[gCount];
+        final double[] scz = new double[gCount * q];
+        for (int i = 0; i < n; i++) {
+            final double t = groups.unitTrials ? 1 : trials[i];
+            if (t == 0) {
+                continue;
+            }
+            final int g = groups.group[i];
+            final int zb = i * q;
+            final int gb = g * q;
+            double eta = (offset == null ? 0 : offset[i]) + etaGroup[g];
+            double form = pattern[g];
+            for (int c = 0; c < q; c++) {
+                final double zc = z[zb + c];
+                eta += zc * bq[c];
+                double inner = 2 * cross[gb + c];
+                for (int d = 0; d < q; d++) {
+                    inner += zz[c * q + d] * z[zb + d];
+                }
+                form += zc * inner;
+            }
+            final double e = Math.exp(-Math.abs(eta));
+            final double inv1 = 1 / (1 + e);
+            final double mu = eta >= 0 ? inv1 : e * inv1;
+            final double w = t * e * inv1 * inv1;
+            final double corr = w * form * (0.5 - mu);
+            sc[g] += corr;
+            for (int c = 0; c < q; c++) {
+                scz[gb + c] += corr * z[zb + c];
+            }
+        }
+        for (int g = 0; g < gCount; g++) {
+            for (int a : groups.members[g]) {
+                score[a] += sc[g];
+            }
+            for (int c = 0; c < q; c++) {
+                score[num[c]] += scz[g * q + c];
             }
         }
     }

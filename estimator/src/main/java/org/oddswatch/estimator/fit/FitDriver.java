@@ -41,13 +41,8 @@ final class FitDriver {
                                  FitControl control, boolean penalized) {
         boolean usable = warm != null && allFinite(warm);
         if (usable && fixed == null) {
-            FitResult first = NewtonEngine.run(work, groups, warm, null, penalized, control, true);
-            if (first.converged()) {
-                return first;
-            }
-            FitResult cold = NewtonEngine.run(work, groups, coldStart(work, groups, null, null), null, penalized, control,
-                    false);
-            return cold.converged() || cold.objective() > first.objective() ? cold : first;
+            return retryCold(work, groups, NewtonEngine.run(work, groups, warm, null, penalized, control, true), control,
+                    penalized);
         }
         if (fixed != null) {
             FitResult first = NewtonEngine.run(work, groups, warm, fixed, penalized, control, true);
@@ -59,6 +54,28 @@ final class FitDriver {
             return cold.converged() || cold.objective() > first.objective() ? cold : first;
         }
         return NewtonEngine.run(work, groups, coldStart(work, groups, null, null), null, penalized, control, false);
+    }
+
+    /** The first attempt of an unconstrained fit: from the warm start when it is usable, cold otherwise. */
+    static FitResult firstAttempt(FitProblem work, IndicatorGroups groups, double[] warm, FitControl control,
+                                  boolean penalized) {
+        boolean usable = warm != null && allFinite(warm);
+        return NewtonEngine.run(work, groups, usable ? warm : coldStart(work, groups, null, null), null, penalized,
+                control, usable);
+    }
+
+    /**
+     * An unconstrained fit's first attempt if it converged or started cold; else the cold restart when that
+     * converged or reached a higher objective.
+     */
+    static FitResult retryCold(FitProblem work, IndicatorGroups groups, FitResult first, FitControl control,
+                               boolean penalized) {
+        if (first.converged() || !first.warmStartUsed()) {
+            return first;
+        }
+        FitResult cold = NewtonEngine.run(work, groups, coldStart(work, groups, null, null), null, penalized, control,
+                false);
+        return cold.converged() || cold.objective() > first.objective() ? cold : first;
     }
 
     /**
@@ -144,7 +161,7 @@ final class FitDriver {
         for (int a = 0; a < keep.length; a++) {
             score[keep[a]] = r.score()[a];
         }
-        return new FitResult(beta, cov, r.logLikelihood(), r.penalizedLogLikelihood(), r.iterations(), r.converged(),
+        return new FitResult(beta, cov, r.logLikelihood(), r.penalizedLogLikelihood(), r.iterations(), r.stop(),
                 r.warmStartUsed(), r.method(), dropped.clone(), r.maxAbsScore(), r.maxAbsLinearPredictor(), r.trace(),
                 score);
     }

@@ -11,9 +11,9 @@ package org.oddswatch.estimator.fit;
  *     (the binomial coefficients, constant in beta, are left out)
  * @param penalizedLogLikelihood for Firth fits {@code logLikelihood + 0.5 log det I}; equal to
  *     {@code logLikelihood} for Newton fits
- * @param iterations accepted Newton steps until the convergence test passed (the polishing step that
- *     follows is not counted)
- * @param converged whether both convergence criteria were met within the cap
+ * @param iterations accepted Newton steps until the iteration stopped (the polishing step that
+ *     follows convergence is not counted)
+ * @param stop why the iteration stopped, and the Newton decrement there
  * @param warmStartUsed whether the reported fit started from the caller's start vector
  * @param method Newton (maximum likelihood) or Firth (penalized)
  * @param dropped indices of aliased columns left out of the fit, ascending
@@ -25,9 +25,19 @@ package org.oddswatch.estimator.fit;
  *     score); on held-fixed coordinates this is the slope of the profile
  */
 public record FitResult(double[] coefficients, double[][] covariance, double logLikelihood,
-                        double penalizedLogLikelihood, int iterations, boolean converged, boolean warmStartUsed,
+                        double penalizedLogLikelihood, int iterations, FitStop stop, boolean warmStartUsed,
                         FitMethod method, int[] dropped, double maxAbsScore, double maxAbsLinearPredictor,
                         double[] trace, double[] score) {
+
+    /** Whether the iteration met a convergence rule ({@link FitStop#converged()}). */
+    public boolean converged() {
+        return stop.converged();
+    }
+
+    /** The stop rule as a sentence with the real iteration count, for notes users see. */
+    public String stopDescription() {
+        return stop.describe(iterations, method == FitMethod.FIRTH);
+    }
 
     /** Standard error of column j, or NaN when the covariance is absent or the column was dropped. */
     public double standardError(int j) {

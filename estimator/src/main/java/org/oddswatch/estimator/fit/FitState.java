@@ -10,7 +10,7 @@ public enum FitState {
     RANK_DEFICIENT("rank-deficient"),
     /** Fewer outcome events per parameter than required; estimates reported but flagged. */
     TOO_FEW_EVENTS("too-few-events"),
-    /** The iteration cap was reached without convergence, also after a cold restart. */
+    /** The iteration stopped without meeting a convergence rule (cap, no improvement beyond rounding, singular information), also after a cold restart. */
     NOT_CONVERGED("not-converged"),
     /** Empty window, or no positives, or no negatives: prevalence only. */
     NO_MODEL("no-model");

@@ -23,7 +23,7 @@ public record LikelihoodRatioTest(double chiSquare, int df, double p, boolean co
      */
     public static LikelihoodRatioTest of(FitProblem problem, FitResult fit, int[] columns, FitControl control) {
         boolean[] fixed = new boolean[problem.columns()];
-        double[] start = fit.coefficients().clone();
+        double[] start = profileTraceStart(fit, columns);
         for (int j : columns) {
             fixed[j] = true;
             start[j] = 0;
@@ -33,11 +33,45 @@ public record LikelihoodRatioTest(double chiSquare, int df, double p, boolean co
         if (columns.length == problem.columns()) {
             restricted = atStart(problem, start, penalized);
         } else {
-            restricted = FitDriver.fitFullRank(problem, start, fixed, control, penalized);
+            restricted = FitDriver.fitFullRank(problem, start, fixed, control.forObjectiveOnly(), penalized);
         }
         double chi2 = Math.max(0, 2 * (fit.objective() - restricted.objective()));
         double p = Gamma.regularizedGammaQ(columns.length / 2.0, chi2 / 2);
         return new LikelihoodRatioTest(chi2, columns.length, p, restricted.converged());
+    }
+
+    /**
+     * The restricted fit's start: the other coefficients moved to where the quadratic approximation puts
+     * the restricted maximum, {@code beta_o - V_oT V_TT^-1 beta_T} (V the covariance at the estimate, T the
+     * tested columns); the estimates themselves when V is absent or V_TT is singular.
+     */
+    static double[] profileTraceStart(FitResult fit, int[] columns) {
+        double[] start = fit.coefficients().clone();
+        double[][] v = fit.covariance();
+        int t = columns.length;
+        if (v == null || t == start.length) {
+            return start;
+        }
+        double[] vtt = new double[t * t];
+        double[] rhs = new double[t];
+        for (int a = 0; a < t; a++) {
+            rhs[a] = start[columns[a]];
+            for (int b = 0; b < t; b++) {
+                vtt[a * t + b] = v[columns[a]][columns[b]];
+            }
+        }
+        if (!DenseCholesky.decompose(vtt, t)) {
+            return start;
+        }
+        DenseCholesky.solve(vtt, t, rhs);
+        for (int k = 0; k < start.length; k++) {
+            double shift = 0;
+            for (int a = 0; a < t; a++) {
+                shift += v[k][columns[a]] * rhs[a];
+            }
+            start[k] -= shift;
+        }
+        return start;
     }
 
     private static FitResult atStart(FitProblem problem, double[] start, boolean penalized) {

@@ -1,9 +1,11 @@
 package org.oddswatch.estimator.fit;
 
 /**
- * The window model's fitting sequence: drop aliased columns ({@link RankCheck}); fit by Newton
- * from the warm start (retrying cold); when that fit looks divergent ({@link SeparationCheck#suspicious})
- * test for separation and, if separated, refit by Firth's penalized likelihood.
+ * The window model's fitting sequence: drop aliased columns ({@link RankCheck}); fit by Newton from
+ * the warm start, stopping early once some fitted log-odds pass {@link SeparationCheck#EXTREME_ETA};
+ * when that fit looks divergent ({@link SeparationCheck#suspicious}) test for separation and, if
+ * separated, refit by Firth's penalized likelihood; otherwise (rerun without the early stop when it
+ * fired) retry from the cold start when the warm start did not converge.
  *
  * <p>The Firth refit gets a larger iteration cap ({@link #firthControl}). State: separation wins over non-convergence, which wins over rank deficiency; a Firth fit that
  * does not converge is {@code NOT_CONVERGED}.
@@ -27,25 +29,37 @@ public final class ModelFitter {
         FitProblem work = dropped.length == 0 ? problem : problem.selectColumns(keep);
         double[] start = warm == null || warm.length != problem.columns() ? null : FitDriver.select(warm, keep);
         IndicatorGroups workGroups = dropped.length == 0 ? groups : IndicatorGroups.of(work);
-        FitResult newton = FitDriver.fitFullRank(work, workGroups, start, null, control, false);
+        FitControl watchful = control.withDivergenceStop(SeparationCheck.EXTREME_ETA);
+        FitResult newton = FitDriver.firstAttempt(work, workGroups, start, watchful, false);
         if (SeparationCheck.suspicious(newton)) {
             SeparationCheck.Outcome outcome = SeparationCheck.check(work);
-            boolean byHeuristic = outcome.verdict() == SeparationCheck.Verdict.UNDECIDED;
-            boolean separated = outcome.verdict() == SeparationCheck.Verdict.SEPARATED
-                    || byHeuristic && SeparationCheck.heuristic(newton);
-            if (separated) {
-                FitResult firth = FitDriver.fitFullRank(work, workGroups, start, null, firthControl(control), true);
-                int[] involved = new int[outcome.involved().length];
-                for (int a = 0; a < involved.length; a++) {
-                    involved[a] = keep[outcome.involved()[a]];
-                }
-                FitState state = firth.converged() ? FitState.SEPARATION : FitState.NOT_CONVERGED;
-                return new ModelFit(state, work, keep, dropped, firth, involved, byHeuristic);
+            if (outcome.verdict() == SeparationCheck.Verdict.SEPARATED) {
+                return firth(work, workGroups, start, control, keep, dropped, outcome.involved(), false);
+            }
+            if (newton.stop().reason() == FitStop.Reason.DIVERGING) {
+                // Large fitted log-odds without separation: fit again without the stop.
+                newton = FitDriver.firstAttempt(work, workGroups, start, control, false);
+            }
+            newton = FitDriver.retryCold(work, workGroups, newton, control, false);
+            if (outcome.verdict() == SeparationCheck.Verdict.UNDECIDED && SeparationCheck.heuristic(newton)) {
+                return firth(work, workGroups, start, control, keep, dropped, new int[0], true);
             }
         }
+        // Not suspicious means converged: no restart needed.
         FitState state = !newton.converged() ? FitState.NOT_CONVERGED
                 : dropped.length > 0 ? FitState.RANK_DEFICIENT : FitState.CONVERGED;
         return new ModelFit(state, work, keep, dropped, newton, new int[0], false);
+    }
+
+    private static ModelFit firth(FitProblem work, IndicatorGroups groups, double[] start, FitControl control,
+                                  int[] keep, int[] dropped, int[] separating, boolean byHeuristic) {
+        FitResult firth = FitDriver.fitFullRank(work, groups, start, null, firthControl(control), true);
+        int[] involved = new int[separating.length];
+        for (int a = 0; a < involved.length; a++) {
+            involved[a] = keep[separating[a]];
+        }
+        FitState state = firth.converged() ? FitState.SEPARATION : FitState.NOT_CONVERGED;
+        return new ModelFit(state, work, keep, dropped, firth, involved, byHeuristic);
     }
 
     /**

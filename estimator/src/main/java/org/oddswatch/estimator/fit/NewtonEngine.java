@@ -10,22 +10,39 @@ import org.apache.commons.math3.linear.RealMatrix;
  * some coordinates held fixed (profile likelihood, likelihood-ratio tests).
  *
  * <p>Each iteration solves {@code I_ff d = g_f} over the free coordinates f, where g is the score
- * (Firth-modified when penalized), and accepts {@code beta + t d} for the largest
- * {@code t = 1, 1/2, 1/4, ...} (at most 30 halvings) whose objective is not lower than the current
- * one; so the objective never decreases across accepted iterations. When a trial is lower only by
- * rounding noise (relative 1e-12) halving stops, and the fit has converged if the score is small. After convergence one more
- * Newton step (the polishing step) is taken, so that the result no longer depends on the start in
- * its last digits; constrained fits (profile and LR evaluations, which only need the objective)
- * skip it.
+ * (Firth-modified when penalized), and computes the Newton decrement {@code lambda^2 = g_f' d =
+ * g_f' I_ff^-1 g_f}: twice the gain the quadratic model predicts for the full step, and the squared
+ * length of that step in standard-error units. It is unchanged by any rescaling or recentring of the
+ * columns (an age in days or a calendar year like 2026 behaves as its centred, scaled version), and it
+ * does not grow with the number of events. The iteration stops:
+ * <ul>
+ * <li>converged when {@code lambda^2 <= tolerance} ({@link FitControl});
+ * <li>converged at the rounding floor when the predicted gain {@code lambda^2 / 2} is below the
+ *     rounding level of the objective, {@code 1e-12 (|l| + 1)}, and the previous full Newton step,
+ *     also taken below that level, did not lower {@code lambda^2}: the decrement is then itself rounding
+ *     noise (this is how a problem with millions of events, whose summed objective cannot resolve the
+ *     last digits, converges);
+ * <li>not converged when no step length improves the objective beyond rounding while the predicted gain
+ *     is above it, when the information matrix is singular, at the optional divergence stop, or at the
+ *     iteration cap.
+ * </ul>
+ *
+ * <p>Step length: the largest {@code t = 1, 1/2, 1/4, ...} (at most 30 halvings) whose objective is not
+ * lower than the current one, so the objective never decreases beyond rounding; while the predicted
+ * gain is below the rounding level the full step is accepted unless it lowers the objective by more
+ * than that level (a comparison of two values equal to rounding would decide nothing). After
+ * convergence one more Newton step (the polishing step) is taken, so that the result no longer depends
+ * on the start in its last digits; constrained fits (profile and LR evaluations, which only need the
+ * objective) skip it.
  */
 final class NewtonEngine {
 
     private static final int MAX_HALVINGS = 30;
     /**
      * Relative size of rounding noise in a summed objective: a trial that is lower by less than
-     * {@code ROUNDING (|l| + 1)} counts as no change, which ends step-halving at once.
+     * {@code ROUNDING (|l| + 1)} counts as no change.
      */
-    private static final double ROUNDING = 1e-12;
+    static final double ROUNDING = 1e-12;
 
     private NewtonEngine() {
     }
@@ -37,60 +54,88 @@ final class NewtonEngine {
 
     static FitResult run(FitProblem problem, IndicatorGroups groups, double[] start, boolean[] fixed,
                          boolean penalized, FitControl control, boolean warm) {
-        final int p = problem.columns();
         double[] trace = new double[control.maxIterations() + 1];
         BinomialPass current = evaluate(problem, groups, start.clone(), penalized, true);
         trace[0] = current.objective;
         int iterations = 0;
-        boolean converged = false;
         if (current.objective == Double.NEGATIVE_INFINITY) {
-            return result(problem, current, 0, false, warm, penalized, fixed, trace, 1);
+            return result(problem, current, 0, new FitStop(FitStop.Reason.NON_FINITE_START, Double.NaN), warm,
+                    penalized, fixed, trace, 1);
         }
-        while (iterations < control.maxIterations()) {
-            double[] delta = step(current, fixed);
+        double previousDecrement = Double.POSITIVE_INFINITY;
+        boolean previousBelowRounding = false;
+        FitStop stop = null;
+        double[] delta = null;
+        while (true) {
+            delta = step(current, fixed);
             if (delta == null) {
+                stop = new FitStop(FitStop.Reason.SINGULAR_INFORMATION, Double.NaN);
+                break;
+            }
+            double decrement = decrement(current, delta, fixed);
+            if (decrement <= control.tolerance()) {
+                stop = new FitStop(FitStop.Reason.DECREMENT_BELOW_TOLERANCE, decrement);
+                break;
+            }
+            double noise = ROUNDING * (Math.abs(current.objective) + 1);
+            boolean belowRounding = decrement / 2 <= noise;
+            if (belowRounding && previousBelowRounding && decrement >= previousDecrement) {
+                stop = new FitStop(FitStop.Reason.ROUNDING_FLOOR, decrement);
+                break;
+            }
+            if (current.maxAbsEta > control.divergenceEta()) {
+                stop = new FitStop(FitStop.Reason.DIVERGING, decrement);
+                break;
+            }
+            if (iterations == control.maxIterations()) {
+                stop = new FitStop(FitStop.Reason.ITERATION_CAP, decrement);
                 break;
             }
             BinomialPass accepted = null;
             double t = 1;
-            double noise = ROUNDING * (Math.abs(current.objective) + 1);
             for (int h = 0; h <= MAX_HALVINGS; h++, t *= 0.5) {
                 BinomialPass trial = evaluate(problem, groups, move(current.beta, delta, t), penalized, false);
-                if (trial.objective >= current.objective) {
+                double fall = current.objective - trial.objective;
+                if (fall <= 0 || belowRounding && fall <= noise) {
                     accepted = trial;
                     break;
                 }
-                if (current.objective - trial.objective <= noise) {
-                    // Flat to rounding: halving cannot help (and each halving costs a pass).
+                if (fall <= noise) {
+                    // Flat to rounding although the predicted gain is not: halving cannot help.
                     break;
                 }
             }
             if (accepted == null) {
-                converged = current.maxScaledScore(fixed) < FitControl.SCORE_TOLERANCE;
+                stop = new FitStop(FitStop.Reason.NO_IMPROVEMENT, decrement);
                 break;
             }
-            finish(problem, accepted, penalized);
+            finish(problem, groups, accepted, penalized);
             iterations++;
-            double change = Math.abs(accepted.objective - current.objective) / (Math.abs(accepted.objective) + 0.1);
             current = accepted;
             trace[iterations] = current.objective;
-            if (change < control.tolerance() && current.maxScaledScore(fixed) < FitControl.SCORE_TOLERANCE) {
-                converged = true;
-                break;
-            }
+            previousDecrement = decrement;
+            previousBelowRounding = belowRounding;
         }
-        if (converged && fixed == null) {
-            current = polish(problem, groups, current, fixed, penalized);
+        if (stop.converged() && fixed == null) {
+            current = polish(problem, groups, current, delta, penalized);
         }
-        return result(problem, current, iterations, converged, warm, penalized, fixed, trace, iterations + 1);
+        return result(problem, current, iterations, stop, warm, penalized, fixed, trace, iterations + 1);
     }
 
-    private static BinomialPass polish(FitProblem problem, IndicatorGroups groups, BinomialPass current,
-                                       boolean[] fixed, boolean penalized) {
-        double[] delta = step(current, fixed);
-        if (delta == null) {
-            return current;
+    /** {@code lambda^2 = g_f' d}: the score times the Newton direction over the free coordinates. */
+    private static double decrement(BinomialPass pass, double[] delta, boolean[] fixed) {
+        double sum = 0;
+        for (int j = 0; j < pass.p; j++) {
+            if (fixed == null || !fixed[j]) {
+                sum += pass.score[j] * delta[j];
+            }
         }
+        return Math.max(sum, 0);
+    }
+
+    /** One more Newton step (the direction already computed at {@code current}), kept unless it lowers the objective. */
+    private static BinomialPass polish(FitProblem problem, IndicatorGroups groups, BinomialPass current,
+                                       double[] delta, boolean penalized) {
         BinomialPass polished = evaluate(problem, groups, move(current.beta, delta, 1), penalized, true);
         double slack = 1e-10 * (Math.abs(current.objective) + 1);
         return polished.objective >= current.objective - slack ? polished : current;
@@ -100,14 +145,14 @@ final class NewtonEngine {
                                          boolean complete) {
         BinomialPass pass = BinomialPass.at(problem, groups, beta, penalized);
         if (complete) {
-            finish(problem, pass, penalized);
+            finish(problem, groups, pass, penalized);
         }
         return pass;
     }
 
-    private static void finish(FitProblem problem, BinomialPass pass, boolean penalized) {
+    private static void finish(FitProblem problem, IndicatorGroups groups, BinomialPass pass, boolean penalized) {
         if (penalized && pass.factor != null) {
-            pass.addFirthCorrection(problem);
+            pass.addFirthCorrection(problem, groups);
         }
     }
 
@@ -165,10 +210,10 @@ final class NewtonEngine {
         return free;
     }
 
-    private static FitResult result(FitProblem problem, BinomialPass pass, int iterations, boolean converged,
+    private static FitResult result(FitProblem problem, BinomialPass pass, int iterations, FitStop stop,
                                     boolean warm, boolean penalized, boolean[] fixed, double[] trace, int traceLength) {
         double[][] covariance = fixed == null ? covariance(pass) : null;
-        return new FitResult(pass.beta.clone(), covariance, pass.logLikelihood, pass.objective, iterations, converged,
+        return new FitResult(pass.beta.clone(), covariance, pass.logLikelihood, pass.objective, iterations, stop,
                 warm, penalized ? FitMethod.FIRTH : FitMethod.NEWTON, new int[0], pass.maxScaledScore(fixed),
                 pass.maxAbsEta, Arrays.copyOf(trace, traceLength), pass.score.clone());
     }

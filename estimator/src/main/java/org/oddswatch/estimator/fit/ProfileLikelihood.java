@@ -111,7 +111,7 @@ public final class ProfileLikelihood {
             this.problem = problem;
             this.fit = fit;
             this.j = j;
-            this.control = control;
+            this.control = control.forObjectiveOnly();
             this.penalized = fit.method() == FitMethod.FIRTH;
             this.fixed = new boolean[problem.columns()];
             this.fixed[j] = true;
@@ -126,9 +126,22 @@ public final class ProfileLikelihood {
             start = fit.coefficients().clone();
         }
 
-        /** {@code objective(beta_hat) - max objective with beta_j = c}, NaN when the constrained fit fails. */
+        /**
+         * {@code objective(beta_hat) - max objective with beta_j = c}, NaN when the constrained fit fails.
+         * The start moves the other coefficients along the profile trace of the quadratic approximation,
+         * {@code beta_k + (c - beta_j) V_kj / V_jj} (V the covariance at the estimate), which is where the
+         * constrained maximum lies when the log-likelihood is quadratic; so a constrained fit usually needs
+         * one or two steps.
+         */
         double drop(double c) {
             double[] s = start.clone();
+            double[][] v = fit.covariance();
+            if (v != null && v[j][j] > 0) {
+                double shift = c - s[j];
+                for (int k = 0; k < s.length; k++) {
+                    s[k] += shift * v[k][j] / v[j][j];
+                }
+            }
             s[j] = c;
             FitResult constrained = FitDriver.fitFullRank(problem, groups, s, fixed, control, penalized);
             if (!constrained.converged()) {

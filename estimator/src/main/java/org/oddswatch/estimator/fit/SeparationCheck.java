@@ -9,6 +9,7 @@ import org.apache.commons.math3.optim.linear.LinearConstraint;
 import org.apache.commons.math3.optim.linear.LinearConstraintSet;
 import org.apache.commons.math3.optim.linear.LinearObjectiveFunction;
 import org.apache.commons.math3.optim.linear.NonNegativeConstraint;
+import org.apache.commons.math3.optim.linear.PivotSelectionRule;
 import org.apache.commons.math3.optim.linear.Relationship;
 import org.apache.commons.math3.optim.linear.SimplexSolver;
 import org.apache.commons.math3.optim.nonlinear.scalar.GoalType;
@@ -19,25 +20,44 @@ import org.apache.commons.math3.optim.nonlinear.scalar.GoalType;
  * <p>Criterion: the maximum-likelihood estimate fails to exist exactly when some direction
  * {@code b != 0} has {@code x_i . b >= 0} for every point with a positive and {@code x_i . b <= 0}
  * for every point with a negative, with at least one inequality strict (a grouped row with both
- * outcomes contributes both points, forcing {@code x_i . b = 0}). This is decided by the linear
- * programme (Konis 2007) maximise {@code sum_i s_i x_i . b} subject to {@code s_i x_i . b >= 0} and
- * {@code -1 <= b_j <= 1}, solved with Commons Math's simplex solver: separation iff the optimum is
- * positive. The columns with non-zero {@code b_j} are the ones involved.
+ * outcomes contributes both points, forcing {@code x_i . b = 0}). With {@code a_i = s_i x_i} (sign
+ * {@code s_i = +1} for a positive point, {@code -1} for a negative one) this is decided by the linear
+ * programme of Konis (2007):
+ * <pre>
+ *   maximise c . b,  c = sum_i a_i,   subject to  a_i . b &gt;= 0 for every point i,  -1 &lt;= b_j &lt;= 1,
+ * </pre>
+ * separation iff the optimum is positive; the columns with a non-zero {@code b_j} are the ones involved
+ * (their estimates run off to infinity).
  *
- * <p>The programme has one constraint per point; above {@link #MAX_POINTS} points (row storage of a
- * large window) it is not run and {@link #heuristic} decides instead: a Newton fit that did not
- * converge, or converged with some linear predictor beyond {@code +-15} (fitted probability within
- * 3e-7 of 0 or 1), counts as separated. That heuristic is what general-purpose GLM routines warn on,
- * and it can misfire on extreme numeric covariates.
+ * <p>The programme is solved by constraint generation, so the simplex (Commons Math's, dense) only ever
+ * sees a small set S of the points: start with S empty; solve the programme over S (a relaxation: same
+ * objective, fewer constraints, so its optimum is at least the full one); when that optimum is 0 (at
+ * most 1e-9 of the scaled objective) no point set can be separated, the full programme included, and
+ * the answer is NONE; otherwise check the relaxation's solution b against every point in {@code O(n p)}
+ * and, when some point has {@code a_i . b < 0} (beyond rounding, 1e-9 of {@code |x_i|_1}), add the
+ * {@link #BATCH} most violated ones (ties by row order) to S and solve again. A solution that satisfies
+ * every point is optimal for the full programme, so the verdict and the involved columns are those of
+ * the full programme. Points and objective are scaled (each {@code a_i} by {@code 1 / |x_i|_1}, c by
+ * {@code 1 / max_j |c_j|}) so the simplex's tolerances are relative. Every step is deterministic.
+ *
+ * <p>S stays small because a separating direction or an overlap certificate needs few points
+ * (typically two or three rounds). After {@link #MAX_ROUNDS} rounds, or if the simplex fails, the
+ * answer is UNDECIDED and {@link #heuristic} decides: a Newton fit that did not converge, or converged
+ * with some linear predictor beyond {@code +-15} (fitted probability within 3e-7 of 0 or 1), counts as
+ * separated.
  */
 public final class SeparationCheck {
 
-    /** Largest number of (pattern, outcome) points the linear programme is run on. */
-    public static final int MAX_POINTS = 4000;
     /** |eta| beyond which a fitted probability counts as numerically 0 or 1. */
     public static final double EXTREME_ETA = 15;
+    /** Violated points added to the programme per round. */
+    static final int BATCH = 32;
+    /** Rounds of constraint generation before the check gives up (UNDECIDED). */
+    static final int MAX_ROUNDS = 40;
 
-    private static final double POSITIVE = 1e-7;
+    private static final double POSITIVE = 1e-9;
+    private static final double VIOLATION = 1e-9;
+    private static final double INVOLVED = 1e-9;
 
     private SeparationCheck() {
     }
@@ -46,10 +66,13 @@ public final class SeparationCheck {
     public enum Verdict { NONE, SEPARATED, UNDECIDED }
 
     /**
-     * @param verdict NONE, SEPARATED, or UNDECIDED when there were too many points for the programme
+     * @param verdict NONE, SEPARATED, or UNDECIDED when the programme could not be solved
      * @param involved columns with a non-zero component in the separating direction (empty unless separated)
+     * @param direction the programme's optimal b (a separating direction when separated), null when undecided
+     * @param rounds simplex solutions needed (constraint-generation rounds)
+     * @param points points the last programme held
      */
-    public record Outcome(Verdict verdict, int[] involved) {
+    public record Outcome(Verdict verdict, int[] involved, double[] direction, int rounds, int points) {
     }
 
     /** Whether a Newton fit shows the symptoms that call for the exact check. */
@@ -57,39 +80,109 @@ public final class SeparationCheck {
         return !fit.converged() || fit.maxAbsLinearPredictor() > EXTREME_ETA;
     }
 
-    /** The fallback decision for designs too large for the programme. */
+    /** The fallback decision when the programme could not be solved. */
     public static boolean heuristic(FitResult fit) {
         return suspicious(fit);
     }
 
-    /** Runs the linear programme on a full-rank problem (offsets are ignored). */
+    /** Decides separation of a full-rank problem (offsets are ignored). */
     public static Outcome check(FitProblem problem) {
         int p = problem.columns();
+        int n = problem.rows();
         double[] x = problem.x();
-        List<double[]> points = new ArrayList<>();
-        for (int i = 0; i < problem.rows(); i++) {
-            double t = problem.trials()[i];
-            double y = problem.positives()[i];
-            if (t == 0) {
+        double[] t = problem.trials();
+        double[] y = problem.positives();
+        double[] c = new double[p];
+        for (int i = 0; i < n; i++) {
+            int sign = pointSigns(t[i], y[i]);
+            if (sign == 0 || sign == 3) {
+                // No point, or both (the two cancel in the objective).
                 continue;
             }
-            if (y > 0) {
-                points.add(signed(x, i, p, 1));
-            }
-            if (t - y > 0) {
-                points.add(signed(x, i, p, -1));
-            }
-            if (points.size() > MAX_POINTS) {
-                return new Outcome(Verdict.UNDECIDED, new int[0]);
+            double s = sign == 1 ? 1 : -1;
+            for (int j = 0; j < p; j++) {
+                c[j] += s * x[i * p + j];
             }
         }
-        double[] objective = new double[p];
-        List<LinearConstraint> constraints = new ArrayList<>(points.size() + 2 * p);
-        for (double[] s : points) {
+        double cMax = 0;
+        for (double v : c) {
+            cMax = Math.max(cMax, Math.abs(v));
+        }
+        if (cMax > 0) {
             for (int j = 0; j < p; j++) {
-                objective[j] += s[j];
+                c[j] /= cMax;
             }
-            constraints.add(new LinearConstraint(s, Relationship.GEQ, 0));
+        }
+        List<double[]> active = new ArrayList<>();
+        // Point k = 2 i (positive side of row i) or 2 i + 1 (negative side).
+        java.util.BitSet inProgramme = new java.util.BitSet();
+        for (int round = 1; round <= MAX_ROUNDS; round++) {
+            double[] b = solve(c, active, p);
+            if (b == null) {
+                return new Outcome(Verdict.UNDECIDED, new int[0], null, round, active.size());
+            }
+            double value = 0;
+            for (int j = 0; j < p; j++) {
+                value += c[j] * b[j];
+            }
+            if (value <= POSITIVE) {
+                return new Outcome(Verdict.NONE, new int[0], b, round, active.size());
+            }
+            MostViolated worst = new MostViolated(BATCH);
+            for (int i = 0; i < n; i++) {
+                int sign = pointSigns(t[i], y[i]);
+                if (sign == 0) {
+                    continue;
+                }
+                int base = i * p;
+                double eta = 0;
+                double norm = 0;
+                for (int j = 0; j < p; j++) {
+                    double v = x[base + j];
+                    eta += v * b[j];
+                    norm += Math.abs(v);
+                }
+                if ((sign & 1) != 0 && eta < -VIOLATION * norm && !inProgramme.get(2 * i)) {
+                    worst.offer(eta / norm, 2 * i);
+                }
+                if ((sign & 2) != 0 && -eta < -VIOLATION * norm && !inProgramme.get(2 * i + 1)) {
+                    worst.offer(-eta / norm, 2 * i + 1);
+                }
+            }
+            if (worst.size() == 0) {
+                return new Outcome(Verdict.SEPARATED, involved(b), b, round, active.size());
+            }
+            for (int k : worst.pointsInOrder()) {
+                inProgramme.set(k);
+                int i = k / 2;
+                double s = k % 2 == 0 ? 1 : -1;
+                double norm = 0;
+                for (int j = 0; j < p; j++) {
+                    norm += Math.abs(x[i * p + j]);
+                }
+                double[] a = new double[p];
+                for (int j = 0; j < p; j++) {
+                    a[j] = s * x[i * p + j] / norm;
+                }
+                active.add(a);
+            }
+        }
+        return new Outcome(Verdict.UNDECIDED, new int[0], null, MAX_ROUNDS, active.size());
+    }
+
+    /** Bit 1: the row has a positive point; bit 2: a negative point. */
+    private static int pointSigns(double trials, double positives) {
+        if (trials == 0) {
+            return 0;
+        }
+        return (positives > 0 ? 1 : 0) | (trials - positives > 0 ? 2 : 0);
+    }
+
+    /** The programme over the given points: its optimal b, or null when the simplex fails. */
+    private static double[] solve(double[] c, List<double[]> points, int p) {
+        List<LinearConstraint> constraints = new ArrayList<>(points.size() + 2 * p);
+        for (double[] a : points) {
+            constraints.add(new LinearConstraint(a, Relationship.GEQ, 0));
         }
         for (int j = 0; j < p; j++) {
             double[] unit = new double[p];
@@ -99,35 +192,109 @@ public final class SeparationCheck {
         }
         try {
             PointValuePair optimum = new SimplexSolver().optimize(new MaxIter(100_000),
-                    new LinearObjectiveFunction(objective, 0), new LinearConstraintSet(constraints),
-                    GoalType.MAXIMIZE, new NonNegativeConstraint(false));
-            if (optimum.getValue() <= POSITIVE) {
-                return new Outcome(Verdict.NONE, new int[0]);
-            }
-            double[] b = optimum.getPoint();
-            int count = 0;
-            for (double v : b) {
-                if (Math.abs(v) > 1e-9) {
-                    count++;
-                }
-            }
-            int[] involved = new int[count];
-            for (int j = 0, r = 0; j < p; j++) {
-                if (Math.abs(b[j]) > 1e-9) {
-                    involved[r++] = j;
-                }
-            }
-            return new Outcome(Verdict.SEPARATED, involved);
+                    new LinearObjectiveFunction(c, 0), new LinearConstraintSet(constraints), GoalType.MAXIMIZE,
+                    new NonNegativeConstraint(false), PivotSelectionRule.BLAND);
+            return optimum.getPoint();
         } catch (MathIllegalStateException e) {
-            return new Outcome(Verdict.UNDECIDED, new int[0]);
+            return null;
         }
     }
 
-    private static double[] signed(double[] x, int i, int p, double sign) {
-        double[] s = new double[p];
-        for (int j = 0; j < p; j++) {
-            s[j] = sign * x[i * p + j];
+    private static int[] involved(double[] b) {
+        int count = 0;
+        for (double v : b) {
+            if (Math.abs(v) > INVOLVED) {
+                count++;
+            }
         }
-        return s;
+        int[] out = new int[count];
+        for (int j = 0, r = 0; j < b.length; j++) {
+            if (Math.abs(b[j]) > INVOLVED) {
+                out[r++] = j;
+            }
+        }
+        return out;
+    }
+
+    /**
+     * The {@code capacity} points with the smallest scaled margin, ties broken by the smaller point
+     * index: a binary max-heap on (margin, index), so a pass over n points costs {@code O(n log capacity)}.
+     */
+    private static final class MostViolated {
+        private final double[] margin;
+        private final int[] point;
+        private int size;
+
+        MostViolated(int capacity) {
+            margin = new double[capacity];
+            point = new int[capacity];
+        }
+
+        int size() {
+            return size;
+        }
+
+        void offer(double m, int k) {
+            if (size < margin.length) {
+                margin[size] = m;
+                point[size] = k;
+                up(size++);
+            } else if (before(m, k, margin[0], point[0])) {
+                margin[0] = m;
+                point[0] = k;
+                down(0);
+            }
+        }
+
+        /** The kept points by increasing point index. */
+        int[] pointsInOrder() {
+            int[] out = java.util.Arrays.copyOf(point, size);
+            java.util.Arrays.sort(out);
+            return out;
+        }
+
+        /** Whether (m1, k1) is more violated than (m2, k2). */
+        private static boolean before(double m1, int k1, double m2, int k2) {
+            return m1 < m2 || m1 == m2 && k1 < k2;
+        }
+
+        private void up(int at) {
+            while (at > 0) {
+                int parent = (at - 1) / 2;
+                if (!before(margin[parent], point[parent], margin[at], point[at])) {
+                    return;
+                }
+                swap(at, parent);
+                at = parent;
+            }
+        }
+
+        private void down(int at) {
+            while (true) {
+                int left = 2 * at + 1;
+                int largest = at;
+                if (left < size && before(margin[largest], point[largest], margin[left], point[left])) {
+                    largest = left;
+                }
+                int right = left + 1;
+                if (right < size && before(margin[largest], point[largest], margin[right], point[right])) {
+                    largest = right;
+                }
+                if (largest == at) {
+                    return;
+                }
+                swap(at, largest);
+                at = largest;
+            }
+        }
+
+        private void swap(int a, int b) {
+            double m = margin[a];
+            margin[a] = margin[b];
+            margin[b] = m;
+            int k = point[a];
+            point[a] = point[b];
+            point[b] = k;
+        }
     }
 }

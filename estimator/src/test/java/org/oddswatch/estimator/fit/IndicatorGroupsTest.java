@@ -32,6 +32,14 @@ class IndicatorGroupsTest {
         for (int j = 0; j < beta.length; j++) {
             assertEquals(plain.score[j], grouped.score[j], 1e-9 * (1 + Math.abs(plain.score[j])));
         }
+        // Firth's correction: hat values x' I^-1 x split into pattern and numeric parts per group.
+        BinomialPass plainFirth = BinomialPass.at(problem, null, beta, true);
+        BinomialPass groupedFirth = BinomialPass.at(problem, groups, beta, true);
+        plainFirth.addFirthCorrection(problem, null);
+        groupedFirth.addFirthCorrection(problem, groups);
+        for (int j = 0; j < beta.length; j++) {
+            assertEquals(plainFirth.score[j], groupedFirth.score[j], 1e-9 * (1 + Math.abs(plainFirth.score[j])));
+        }
         int p = problem.columns();
         double[] c = groups.weightedCrossProduct(problem);
         for (int j = 0; j < p; j++) {

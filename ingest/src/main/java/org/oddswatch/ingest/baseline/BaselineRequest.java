@@ -14,9 +14,16 @@ import org.oddswatch.ingest.replay.InputFormat;
  * @param outDir where the baseline files are written
  * @param monitor only this monitor, or null for every monitor
  * @param pooled one baseline per monitor over all its split values, instead of one per stream
+ * @param allowWeak write a model fitted from too little information too (flagged), instead of refusing it
  */
 public record BaselineRequest(Path events, InputFormat format, Instant from, Instant to, Path outDir,
-                              String monitor, boolean pooled) {
+                              String monitor, boolean pooled, boolean allowWeak) {
+
+    /** A request that refuses weak models. */
+    public BaselineRequest(Path events, InputFormat format, Instant from, Instant to, Path outDir, String monitor,
+                           boolean pooled) {
+        this(events, format, from, to, outDir, monitor, pooled, false);
+    }
 
     public BaselineRequest {
         if (from == null || to == null || !from.isBefore(to)) {

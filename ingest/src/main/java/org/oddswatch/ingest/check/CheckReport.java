@@ -2,6 +2,7 @@ package org.oddswatch.ingest.check;
 
 import java.util.List;
 import java.util.Map;
+import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.ingest.pipeline.OutcomeCounts;
 
 /**
@@ -13,18 +14,25 @@ import org.oddswatch.ingest.pipeline.OutcomeCounts;
  */
 public record CheckReport(String file, List<MonitorFacts> monitors, EventCheck events) {
 
-    /** What a monitor reads and fits. */
+    /**
+     * What a monitor reads and fits, and which rules run.
+     *
+     * @param rules every rule, on or off with the reason ({@code AlertRulesConfig.RuleSwitch#describe})
+     * @param notices what the definition means that may not be expected (a rule running because it
+     *     is not listed)
+     */
     public record MonitorFacts(String monitor, String topic, int terms, List<String> watched, int designColumns,
-                               String checksum) {
+                               String checksum, List<String> rules, List<String> notices) {
     }
 
     /**
      * @param records one outcome per record (accepted when any monitor accepted it)
      * @param monitors per monitor: every record's outcome for that monitor, streams included
      * @param examples the first record of each reason: its line and detail
+     * @param gaps what the sample would leave unmonitored and why, once every window is closed
      */
     public record EventCheck(String input, OutcomeCounts.Snapshot records, List<MonitorCounts> monitors,
-                             Map<String, Example> examples) {
+                             Map<String, Example> examples, List<MonitoringGap> gaps) {
     }
 
     /** One monitor's counts over the sample. */
@@ -43,6 +51,7 @@ public record CheckReport(String file, List<MonitorFacts> monitors, EventCheck e
             text.append("  ").append(m.monitor()).append(": topic ").append(m.topic()).append(", ").append(m.terms())
                     .append(" terms, ").append(m.designColumns()).append(" design columns, watched: ")
                     .append(m.watched().isEmpty() ? "none" : String.join(", ", m.watched())).append('\n');
+            appendRules(text, m);
         }
         if (events != null) {
             OutcomeCounts.Snapshot r = events.records();
@@ -63,8 +72,32 @@ public record CheckReport(String file, List<MonitorFacts> monitors, EventCheck e
                     text.append('\n');
                 }
             }
+            appendGaps(text, events.gaps());
         }
         return text.toString();
+    }
+
+    /** The monitor's rules, one per line, and its notices. */
+    public static void appendRules(StringBuilder text, MonitorFacts m) {
+        text.append("    rules:\n");
+        for (String rule : m.rules()) {
+            text.append("      ").append(rule).append('\n');
+        }
+        for (String notice : m.notices()) {
+            text.append("    note: ").append(notice).append('\n');
+        }
+    }
+
+    /** What the sample would leave unmonitored, one line each, or that nothing is. */
+    public static void appendGaps(StringBuilder text, List<MonitoringGap> gaps) {
+        if (gaps.isEmpty()) {
+            text.append("not monitored: nothing (every rule ran and judged every final window)\n");
+            return;
+        }
+        text.append("not monitored (").append(gaps.size()).append("):\n");
+        for (MonitoringGap gap : gaps) {
+            text.append("  ").append(gap.describe()).append('\n');
+        }
     }
 
     private static void appendOutcomes(StringBuilder text, OutcomeCounts.Snapshot counts) {

@@ -8,6 +8,8 @@ import java.util.ArrayList;
 import java.util.List;
 import java.util.Map;
 import java.util.TreeMap;
+import org.oddswatch.alerts.engine.AlertRulesConfig;
+import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.estimator.terms.Term;
 import org.oddswatch.ingest.definition.DefinitionException;
 import org.oddswatch.ingest.definition.DefinitionLoader;
@@ -29,8 +31,10 @@ import org.oddswatch.ingest.replay.RecordSink;
 
 /**
  * Validates a monitor definition and, given sample events, runs them through the real pipeline
- * (decoding, routing, time rules, dedupe: the same code as replay and the service, estimates
- * discarded) and reports how many each monitor would accept or reject, by reason.
+ * (decoding, routing, time rules, dedupe, windows closed at the end and the rules run: the same code
+ * as replay, estimates and alerts discarded) and reports how many each monitor would accept or reject,
+ * by reason, and what would not be monitored ({@link MonitoringGap}). Lists the rules of each monitor,
+ * on or off with the reason.
  */
 public final class DefinitionChecker {
 
@@ -84,7 +88,12 @@ public final class DefinitionChecker {
                 pipeline.offerUnreadable(original, RecordOrigin.line(line), reason, detail, false);
             }
         });
+        pipeline.closeAll();
         PipelineSnapshot snapshot = pipeline.snapshot();
+        List<MonitoringGap> gaps = new ArrayList<>();
+        for (StreamStatus stream : snapshot.streams()) {
+            gaps.addAll(stream.gaps());
+        }
         List<CheckReport.MonitorCounts> monitors = new ArrayList<>();
         for (PipelineSnapshot.MonitorStatus monitor : snapshot.monitors()) {
             OutcomeCounts.Snapshot counts = monitor.unrouted();
@@ -96,7 +105,7 @@ public final class DefinitionChecker {
             monitors.add(new CheckReport.MonitorCounts(monitor.monitor(), monitor.streams(), counts));
         }
         return new CheckReport(config.file(), facts(config),
-                new CheckReport.EventCheck(events.toString(), snapshot.totals(), monitors, examples));
+                new CheckReport.EventCheck(events.toString(), snapshot.totals(), monitors, examples, gaps));
     }
 
     /** Duplicates are not sent to rejects; keep their first line as an example too. */
@@ -106,7 +115,8 @@ public final class DefinitionChecker {
         }
     }
 
-    private static List<CheckReport.MonitorFacts> facts(MonitorConfig config) {
+    /** What each monitor reads and fits, and its rules. */
+    public static List<CheckReport.MonitorFacts> facts(MonitorConfig config) {
         List<CheckReport.MonitorFacts> facts = new ArrayList<>();
         for (MonitorDefinition monitor : config.monitors()) {
             List<String> watched = new ArrayList<>();
@@ -116,8 +126,12 @@ public final class DefinitionChecker {
                     watched.add(term.name());
                 }
             }
+            List<String> rules = new ArrayList<>();
+            for (AlertRulesConfig.RuleSwitch rule : monitor.rules().switches()) {
+                rules.add(rule.describe());
+            }
             facts.add(new CheckReport.MonitorFacts(monitor.name(), monitor.topic(), monitor.terms().size(), watched,
-                    monitor.designCoder().width(), monitor.checksum()));
+                    monitor.designCoder().width(), monitor.checksum(), rules, monitor.notices()));
         }
         return facts;
     }

@@ -11,9 +11,17 @@ package org.oddswatch.ingest.decode;
  *     counts toward prevalence but is left out of the fit)
  * @param stratum level index of the stratifying term, or -1
  * @param missingDetail why the row is null ({@code term: detail}), or null
+ * @param absentTerms bit {@code t} set when term {@code t} (declaration order, the first 64) had no
+ *     value (absent, null or empty); a stream tells from these a term missing from every event
  */
 public record DecodedEvent(String id, long timeMillis, boolean positive, String splitValue, double[] row,
-                           int stratum, String missingDetail) {
+                           int stratum, String missingDetail, long absentTerms) {
+
+    /** An event whose terms all had a value, or whose absent terms are not tracked. */
+    public DecodedEvent(String id, long timeMillis, boolean positive, String splitValue, double[] row, int stratum,
+                        String missingDetail) {
+        this(id, timeMillis, positive, splitValue, row, stratum, missingDetail, 0L);
+    }
 
     public boolean complete() {
         return row != null;

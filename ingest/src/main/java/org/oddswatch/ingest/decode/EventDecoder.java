@@ -8,6 +8,7 @@ import java.util.List;
 import org.oddswatch.estimator.terms.CategoricalTerm;
 import org.oddswatch.estimator.terms.CodingOutcome;
 import org.oddswatch.estimator.terms.DesignCoder;
+import org.oddswatch.estimator.terms.NumericTerm;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 import org.oddswatch.ingest.definition.OutcomeSpec;
 import org.oddswatch.ingest.definition.TermSpec;
@@ -17,8 +18,11 @@ import org.oddswatch.ingest.definition.TermSpec;
  * then the term values, coded by the monitor's {@link DesignCoder}. Checks run in this order and the
  * first failure decides the reason: id, time, outcome (missing-field, bad-id, bad-time, bad-outcome),
  * split value, then terms (unknown-level, bad-value). A term value that is absent, null or empty text
- * (or an undeclared level under {@code undeclared: missing}) is not a rejection: the event is accepted
- * with a null row. The fields come either from a tree ({@link #decode(JsonNode)}: {@link JsonNode#at}) or
+ * (or an undeclared level under {@code undeclared: missing}, or a value of a numeric term that is not
+ * a finite number) is not a rejection: the event is accepted with a null row. A numeric id keeps the
+ * text the record wrote when the scanner reads it ({@code -0} is not {@code 0}, {@code 1e400} not
+ * {@code 7e400}); an id or split value that is a non-finite number, or text with an unpaired
+ * surrogate, is {@code bad-id}. The fields come either from a tree ({@link #decode(JsonNode)}: {@link JsonNode#at}) or
  * from one streaming pass of a {@link RecordScanner} ({@link #decode(EventRecord)}); both give the same
  * result. Thread-safe after construction.
  */
@@ -38,6 +42,8 @@ public final class EventDecoder {
     private final int firstTerm;
     private final JsonPointer[] termFields;
     private final String[] termNames;
+    /** Per term: true for a numeric term (a value that is not a number is taken as missing). */
+    private final boolean[] numeric;
     private final int stratumTerm;
     private final CategoricalTerm stratumCoding;
 
@@ -47,9 +53,11 @@ public final class EventDecoder {
         List<TermSpec> terms = monitor.terms();
         termFields = new JsonPointer[terms.size()];
         termNames = new String[terms.size()];
+        numeric = new boolean[terms.size()];
         for (int t = 0; t < terms.size(); t++) {
             termFields[t] = terms.get(t).field();
             termNames[t] = terms.get(t).name();
+            numeric[t] = terms.get(t).term() instanceof NumericTerm;
         }
         stratumTerm = monitor.stratumTermIndex();
         stratumCoding = stratumTerm < 0 ? null : (CategoricalTerm) terms.get(stratumTerm).term();
@@ -163,6 +171,10 @@ public final class EventDecoder {
             return reject(RejectReason.BAD_ID, "the event id at " + idField + " must be text or a number");
         }
         String id = values.asText(idSlot);
+        String badId = notAnIdentifier(values, idSlot, id);
+        if (badId != null) {
+            return reject(RejectReason.BAD_ID, "the event id at " + idField + " " + badId);
+        }
 
         JsonPointer timeField = fields[TIME];
         int timeSlot = slots[TIME];
@@ -204,8 +216,13 @@ public final class EventDecoder {
                 return reject(RejectReason.BAD_ID, "the split value at " + splitField + " must be text or a number");
             }
             splitValue = scalarText(values, splitSlot);
+            String badSplit = notAnIdentifier(values, splitSlot, splitValue);
+            if (badSplit != null) {
+                return reject(RejectReason.BAD_ID, "the split value at " + splitField + " " + badSplit);
+            }
         }
 
+        long absentTerms = 0;
         for (int t = 0; t < termFields.length; t++) {
             int slot = slots[firstTerm + t];
             if (values.isContainer(slot)) {
@@ -213,16 +230,59 @@ public final class EventDecoder {
                         + ", found " + (values.kinds[slot] == FieldValues.ARRAY ? "a list" : "an object"));
             }
             raw[t] = plain(values, slot);
+            if (raw[t] == null && t < Long.SIZE) {
+                absentTerms |= 1L << t;
+            }
         }
         double[] row = new double[coder.width()];
         CodingOutcome coding = coder.code(raw, row);
+        String notNumeric = null;
+        int numeric;
+        while (coding.isRejected() && (numeric = numericTerm(coding)) >= 0) {
+            // A value of a numeric term that is not a finite number is treated as missing: the
+            // event counts for prevalence and is left out of the fit, like an absent value.
+            if (notNumeric == null) {
+                notNumeric = coding.term() + ": " + coding.detail() + " (taken as missing)";
+            }
+            raw[numeric] = null;
+            coding = coder.code(raw, row);
+        }
         if (coding.isRejected()) {
             return reject(coding.reason(), coding.term() + ": " + coding.detail());
         }
-        String missingDetail = coding.isOk() ? null : coding.term() + ": " + coding.detail();
+        String missingDetail = coding.isOk() ? null : notNumeric != null ? notNumeric
+                : coding.term() + ": " + coding.detail();
         int stratum = stratumCoding == null ? -1 : stratumCoding.levelIndex(raw[stratumTerm]);
         return new Result(new DecodedEvent(id, time, positive, splitValue, coding.isOk() ? row : null, stratum,
-                missingDetail), null);
+                missingDetail, absentTerms), null);
+    }
+
+    /** The index of the numeric term whose value {@code coding} rejected as not a number, or -1. */
+    private int numericTerm(CodingOutcome coding) {
+        if (!RejectReason.BAD_VALUE.equals(coding.reason())) {
+            return -1;
+        }
+        for (int t = 0; t < termNames.length; t++) {
+            if (numeric[t] && termNames[t].equals(coding.term())) {
+                return t;
+            }
+        }
+        return -1;
+    }
+
+    /**
+     * Why a scalar cannot identify an event or a stream, or null when it can: a number that is not
+     * finite ({@code 1e400} overflows a double), or text holding an unpaired surrogate (such as
+     * U+D800 escaped alone in JSON: it has no UTF-8 form, so it could not be written to any output).
+     */
+    private static String notAnIdentifier(FieldValues values, int slot, String text) {
+        if (values.kinds[slot] == FieldValues.FLOAT && !Double.isFinite(values.doubles[slot])) {
+            return "is a number beyond the range of a double (" + text + ")";
+        }
+        if (values.kinds[slot] == FieldValues.TEXT && Unicode.hasUnpairedSurrogate(text)) {
+            return "holds an unpaired UTF-16 surrogate";
+        }
+        return null;
     }
 
     private static Result reject(String reason, String detail) {

@@ -28,7 +28,8 @@ final class FieldValues {
 
     final byte[] kinds;
     /**
-     * Text of TEXT slots; for FLOAT slots filled from a tree, the node's own text form (else null).
+     * Text of TEXT slots; for FLOAT slots filled from a tree, the node's own text form; for number
+     * slots of event ids read by the scanner, the number's text in the record (else null).
      * A TEXT slot set by {@link #setTimeText} has no string until {@link #text} makes it: read the
      * text of a TEXT slot with {@link #text}, not from here.
      */
@@ -114,11 +115,21 @@ final class FieldValues {
     void setLong(int slot, long value) {
         kinds[slot] = INTEGER;
         longs[slot] = value;
+        texts[slot] = null;
     }
 
     void setBig(int slot, BigInteger value) {
         kinds[slot] = BIG_INTEGER;
         bigs[slot] = value;
+        texts[slot] = null;
+    }
+
+    /**
+     * Keeps the number's text exactly as the record wrote it (event ids: {@code -0} is not
+     * {@code 0}, {@code 1e400} not {@code 7e400}); {@link #asText} then gives it.
+     */
+    void setNumberText(int slot, String text) {
+        texts[slot] = text;
     }
 
     void setDouble(int slot, double value, String text) {
@@ -182,8 +193,8 @@ final class FieldValues {
             case TRUE -> "true";
             case FALSE -> "false";
             case NULL -> "null";
-            case INTEGER -> Long.toString(longs[slot]);
-            case BIG_INTEGER -> bigs[slot].toString();
+            case INTEGER -> texts[slot] != null ? texts[slot] : Long.toString(longs[slot]);
+            case BIG_INTEGER -> texts[slot] != null ? texts[slot] : bigs[slot].toString();
             case FLOAT -> texts[slot] != null ? texts[slot] : Double.toString(doubles[slot]);
             default -> "";
         };

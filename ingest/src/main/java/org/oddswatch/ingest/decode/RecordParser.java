@@ -18,7 +18,9 @@ import org.oddswatch.ingest.definition.RecordLimits;
  * Parses one record value into a JSON tree under the configured caps: values longer than
  * {@code maxRecordBytes} are refused before parsing ({@code oversized}); nesting beyond
  * {@code maxDepth} stops the parser ({@code too-deep}, via {@link StreamReadConstraints}); anything
- * that is not exactly one JSON object is {@code malformed-json} or {@code not-an-object}. Thread-safe.
+ * that is not exactly one JSON object, or not well-formed UTF-8 ({@link Unicode#firstInvalidUtf8}:
+ * overlong forms, encoded surrogates and code points above U+10FFFF included), is
+ * {@code malformed-json} or {@code not-an-object}. Thread-safe.
  */
 public final class RecordParser {
 
@@ -65,6 +67,11 @@ public final class RecordParser {
         if (value.length > limits.maxRecordBytes()) {
             return new Parsed(null, new Rejection(RejectReason.OVERSIZED,
                     value.length + " bytes is more than the limit of " + limits.maxRecordBytes()));
+        }
+        int invalid = Unicode.firstInvalidUtf8(value, 0, value.length);
+        if (invalid >= 0) {
+            return new Parsed(null, new Rejection(RejectReason.MALFORMED_JSON,
+                    "not valid UTF-8 at byte " + invalid + " (0x" + Integer.toHexString(value[invalid] & 0xFF) + ")"));
         }
         JsonNode tree;
         try {

@@ -49,6 +49,8 @@ public final class RecordScanner {
     private final MemberOrder order;
     /** Slots some monitor reads as its event time (read from the parser's characters). */
     private final boolean[] timeSlots;
+    /** Slots of event ids: numbers there keep their text exactly ({@link FieldValues#setNumberText}). */
+    private final boolean[] exactSlots;
     private final Scanned scanned;
 
     /** Which path read the last record (for tests). */
@@ -59,6 +61,7 @@ public final class RecordScanner {
         this(limits, new PointerTrie(pointersOf(monitors)));
         for (MonitorDefinition monitor : monitors) {
             timeSlots[trie.slotOf(monitor.event().time())] = true;
+            exactSlots[trie.slotOf(monitor.event().id())] = true;
             seed(monitor.event().outcome().field(), monitor.event().outcome().positive());
             seed(monitor.event().outcome().field(), monitor.event().outcome().negative());
             for (TermSpec term : monitor.terms()) {
@@ -99,6 +102,7 @@ public final class RecordScanner {
         this.texts = new TextCache(trie.size());
         this.order = new MemberOrder(trie);
         this.timeSlots = new boolean[trie.size()];
+        this.exactSlots = new boolean[trie.size()];
         this.scanned = new Scanned(EventRecord.scanned(values, trie), null);
     }
 
@@ -111,7 +115,8 @@ public final class RecordScanner {
     }
 
     public Scanned scan(byte[] value) {
-        if (value == null || value.length > limits.maxRecordBytes()) {
+        if (value == null || value.length > limits.maxRecordBytes()
+                || Unicode.firstInvalidUtf8(value, 0, value.length) >= 0) {
             return byTree(value);
         }
         values.reset();
@@ -147,6 +152,8 @@ public final class RecordScanner {
     private byte[] joined = new byte[0];
     private int[] starts = new int[0];
     private int[] ends = new int[0];
+    /** Per record of the batch: read with the shared parser (else on its own, by {@link #scan}). */
+    private boolean[] joins = new boolean[0];
 
     /**
      * Scans a batch of record values in order, giving each to {@code sink}: the same results as
@@ -163,10 +170,13 @@ public final class RecordScanner {
         if (starts.length < n) {
             starts = new int[n];
             ends = new int[n];
+            joins = new boolean[n];
         }
         long total = 0;
-        for (byte[] value : batch) {
-            if (joinable(value)) {
+        for (int i = 0; i < n; i++) {
+            byte[] value = batch.get(i);
+            joins[i] = joinable(value);
+            if (joins[i]) {
                 total += value.length + 1;
             }
         }
@@ -182,7 +192,7 @@ public final class RecordScanner {
         int at = 0;
         for (int i = 0; i < n; i++) {
             byte[] value = batch.get(i);
-            if (joinable(value)) {
+            if (joins[i]) {
                 System.arraycopy(value, 0, joined, at, value.length);
                 starts[i] = at;
                 ends[i] = at + value.length;
@@ -196,7 +206,7 @@ public final class RecordScanner {
             for (int i = 0; i < n; i++) {
                 byte[] value = batch.get(i);
                 try {
-                    if (!joinable(value)) {
+                    if (!joins[i]) {
                         sink.accept(i, scan(value));
                         continue;
                     }
@@ -222,8 +232,10 @@ public final class RecordScanner {
         }
     }
 
+    /** Not too large and well-formed UTF-8 (Jackson does not check all of UTF-8: see {@link Unicode}). */
     private boolean joinable(byte[] value) {
-        return value != null && value.length <= limits.maxRecordBytes();
+        return value != null && value.length <= limits.maxRecordBytes()
+                && Unicode.firstInvalidUtf8(value, 0, value.length) < 0;
     }
 
     /**
@@ -399,11 +411,14 @@ public final class RecordScanner {
                     } else {
                         values.setLong(slot, parser.getLongValue());
                     }
+                    if (exactSlots[slot]) {
+                        values.setNumberText(slot, parser.getText());
+                    }
                 }
             }
             case VALUE_NUMBER_FLOAT -> {
                 if (slot >= 0) {
-                    values.setDouble(slot, parser.getDoubleValue(), null);
+                    values.setDouble(slot, parser.getDoubleValue(), exactSlots[slot] ? parser.getText() : null);
                 }
             }
             case VALUE_TRUE -> {

@@ -174,14 +174,32 @@ final class DefNode {
         return (int) value;
     }
 
-    /** An ISO-8601 duration ({@code P28D}, {@code PT30S}). */
+    /** The longest duration a definition may give: 3660 days (about ten years). */
+    static final Duration MAX_DURATION = Duration.ofDays(3660);
+    /** The earliest and latest instant a definition may give: years 1 to 9999. */
+    static final Instant MIN_INSTANT = Instant.parse("0001-01-01T00:00:00Z");
+    static final Instant MAX_INSTANT = Instant.parse("9999-12-31T23:59:59.999Z");
+
+    /**
+     * An ISO-8601 duration ({@code P28D}, {@code PT30S}) of whole milliseconds, at most
+     * {@link #MAX_DURATION} either way (so that no arithmetic on it can overflow).
+     */
     Duration duration() throws DefinitionException {
         String text = text();
+        Duration value;
         try {
-            return Duration.parse(text);
+            value = Duration.parse(text);
         } catch (DateTimeParseException e) {
             throw error("'" + text + "' is not an ISO-8601 duration (for example P28D or PT30S)");
         }
+        if (value.abs().compareTo(MAX_DURATION) > 0) {
+            throw error(text + " is longer than the longest duration allowed, " + MAX_DURATION.toDays() + " days (P"
+                    + MAX_DURATION.toDays() + "D)");
+        }
+        if (value.getNano() % 1_000_000 != 0) {
+            throw error(text + " is not a whole number of milliseconds");
+        }
+        return value;
     }
 
     Duration duration(Duration fallback) throws DefinitionException {
@@ -192,7 +210,11 @@ final class DefNode {
     Instant instant() throws DefinitionException {
         String text = text();
         try {
-            return OffsetDateTime.parse(text, DateTimeFormatter.ISO_OFFSET_DATE_TIME).toInstant();
+            Instant value = OffsetDateTime.parse(text, DateTimeFormatter.ISO_OFFSET_DATE_TIME).toInstant();
+            if (value.isBefore(MIN_INSTANT) || value.isAfter(MAX_INSTANT)) {
+                throw error("'" + text + "' is outside the years 1 to 9999");
+            }
+            return value;
         } catch (DateTimeParseException e) {
             throw error("'" + text + "' is not an RFC 3339 time (for example 2026-01-05T00:00:00Z)");
         }

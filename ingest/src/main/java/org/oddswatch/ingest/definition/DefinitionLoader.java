@@ -34,14 +34,41 @@ public final class DefinitionLoader {
 
     public static MonitorConfig load(Path path, Map<String, String> environment) throws DefinitionException {
         String name = path.toString();
-        String text;
+        byte[] bytes;
         try {
-            text = Files.readString(path, StandardCharsets.UTF_8);
+            if (Files.size(path) > MAX_FILE_BYTES) {
+                throw new DefinitionException(name, 0, "", "the definition file is larger than " + MAX_FILE_BYTES
+                        + " bytes");
+            }
+            bytes = Files.readAllBytes(path);
         } catch (IOException e) {
             throw new DefinitionException(name, 0, "", "cannot read the definition file (" + e.getMessage() + ")");
         }
+        String text = utf8(name, bytes);
         Path dir = path.toAbsolutePath().getParent();
         return parse(name, text, environment, dir);
+    }
+
+    /** The largest definition file read: 1 MiB. */
+    static final long MAX_FILE_BYTES = 1 << 20;
+
+    /** The file's text; ill-formed UTF-8 is an error naming the line and column of the first bad byte. */
+    private static String utf8(String name, byte[] bytes) throws DefinitionException {
+        int bad = org.oddswatch.ingest.decode.Unicode.firstInvalidUtf8(bytes, 0, bytes.length);
+        if (bad < 0) {
+            return new String(bytes, StandardCharsets.UTF_8);
+        }
+        int line = 1;
+        int lineStart = 0;
+        for (int i = 0; i < bad; i++) {
+            if (bytes[i] == '\n') {
+                line++;
+                lineStart = i + 1;
+            }
+        }
+        throw new DefinitionException(name, line, "", "not valid UTF-8 (byte 0x"
+                + Integer.toHexString(bytes[bad] & 0xFF) + " at column " + (bad - lineStart + 1)
+                + "); save the definition as UTF-8");
     }
 
     /**

@@ -45,6 +45,10 @@ final class LocatedTree {
             }
             lines.put("", line(parser.currentTokenLocation()));
             JsonNode root = read(parser, "", lines, file);
+            if (parser.nextToken() != null) {
+                throw new DefinitionException(file, line(parser.currentTokenLocation()), "",
+                        "a second YAML document starts here; a definition file holds exactly one");
+            }
             return new LocatedTree(file, root, lines);
         } catch (JsonProcessingException e) {
             JsonLocation where = e.getLocation();
@@ -100,7 +104,7 @@ final class LocatedTree {
                 return NODES.nullNode();
             default:
                 throw new DefinitionException(file, line(parser.currentTokenLocation()), path,
-                        "unsupported YAML content " + token);
+                        "unsupported YAML value (a tagged or binary value); write it as plain text");
         }
     }
 

@@ -21,13 +21,23 @@ import org.oddswatch.estimator.window.WindowGeometry;
  * @param definitionDir directory of the definition file (relative baseline files resolve against it)
  * @param checksum SHA-256 (hex) of the model part of the definition (outcome and terms), stored in
  *     baselines so a baseline fitted under another model is recognised
+ * @param notices what the definition means that an operator may not expect (for example a rule
+ *     that runs because its section is not listed), one sentence each; shown by {@code check}
  */
 public record MonitorDefinition(String name, String topic, EventSpec event, SplitSpec split, List<TermSpec> terms,
                                 WindowSpec window, EstimateSpec estimates, BaselineSpec baseline,
-                                AlertRulesConfig rules, OutputSpec outputs, Path definitionDir, String checksum) {
+                                AlertRulesConfig rules, OutputSpec outputs, Path definitionDir, String checksum,
+                                List<String> notices) {
 
     public MonitorDefinition {
         terms = List.copyOf(terms);
+        notices = notices == null ? List.of() : List.copyOf(notices);
+    }
+
+    /** This monitor without its baseline section (the baseline builder fits one instead of reading one). */
+    public MonitorDefinition withoutBaseline() {
+        return new MonitorDefinition(name, topic, event, split, terms, window, estimates, null, rules, outputs,
+                definitionDir, checksum, notices);
     }
 
     /** The estimator terms, in declaration order. */
@@ -79,5 +89,20 @@ public record MonitorDefinition(String name, String topic, EventSpec event, Spli
     /** The stream name of a split value: {@code name/value}, or {@code name} without a split. */
     public String streamName(String splitValue) {
         return splitValue == null ? name : name + "/" + splitValue;
+    }
+
+    /** True when {@code stream} is this monitor's ({@code name} or {@code name/value}; names hold no '/'). */
+    public boolean owns(String stream) {
+        return stream.equals(name) || stream.startsWith(name + "/");
+    }
+
+    /** The monitor among {@code monitors} a stream belongs to. */
+    public static MonitorDefinition ofStream(List<MonitorDefinition> monitors, String stream) {
+        for (MonitorDefinition monitor : monitors) {
+            if (monitor.owns(stream)) {
+                return monitor;
+            }
+        }
+        throw new IllegalArgumentException("no monitor for stream " + stream);
     }
 }

@@ -3,17 +3,20 @@ package org.oddswatch.ingest.definition;
 import com.fasterxml.jackson.databind.DeserializationFeature;
 import com.fasterxml.jackson.databind.JsonMappingException;
 import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.node.ObjectNode;
 import java.io.IOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Duration;
 import java.time.Instant;
+import java.util.ArrayList;
 import java.util.List;
 import java.util.Map;
 import java.util.Set;
 import java.util.regex.Pattern;
 import org.oddswatch.alerts.engine.AlertRulesConfig;
 import org.oddswatch.alerts.json.Json;
+import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.estimator.terms.CategoricalTerm;
 
 /** Reads and validates one element of {@code monitors}. */
@@ -22,6 +25,10 @@ final class MonitorReader {
     private static final Pattern NAME = Pattern.compile("[A-Za-z0-9][A-Za-z0-9._-]*");
     /** Kafka's legal topic names. */
     private static final Pattern TOPIC = Pattern.compile("[A-Za-z0-9._-]{1,249}");
+    /** Most steps (buckets) per window: {@code width / step}. */
+    static final int MAX_STEPS_PER_WINDOW = 1000;
+    /** Most events a stream may hold beyond its horizon ({@code event.futureHold}). */
+    static final int MAX_FUTURE_HOLD = 10_000;
     private static final Set<String> PREVALENCE_METHODS = Set.of("wilson", "clopper-pearson", "jeffreys");
 
     private final DefNode node;
@@ -48,15 +55,16 @@ final class MonitorReader {
         WindowSpec window = window(node.require("window"));
         EstimateSpec estimates = estimates(node.get("estimates"), terms);
         BaselineSpec baseline = baseline(node.get("baseline"), window);
-        AlertRulesConfig rules = rules(node.get("rules"), terms);
+        List<String> notices = new ArrayList<>();
+        AlertRulesConfig rules = rules(node.get("rules"), terms, notices);
         OutputSpec outputs = outputs(node.get("outputs"));
         String checksum = DefinitionChecksum.of(event.outcome(), terms);
         return new MonitorDefinition(name, topic, event, split, terms, window, estimates, baseline, rules, outputs,
-                definitionDir, checksum);
+                definitionDir, checksum, notices);
     }
 
     private static EventSpec event(DefNode event) throws DefinitionException {
-        event.mapping("id", "time", "maxFutureSkew", "futureConfirm", "outcome");
+        event.mapping("id", "time", "maxFutureSkew", "futureConfirm", "futureSpan", "futureHold", "outcome");
         DefNode outcome = event.require("outcome").mapping("field", "positive", "negative");
         List<String> positive = values(outcome.get("positive"), List.of("positive", "true", "1"));
         List<String> negative = values(outcome.get("negative"), List.of("negative", "false", "0"));
@@ -66,12 +74,18 @@ final class MonitorReader {
             }
         }
         int futureConfirm = event.get("futureConfirm").integer(EventSpec.DEFAULT_FUTURE_CONFIRM);
-        if (futureConfirm < 1) {
-            throw event.get("futureConfirm").error("must be at least 1");
+        if (futureConfirm < 2) {
+            throw event.get("futureConfirm").error("must be at least 2 (one event alone never confirms a new frontier)");
+        }
+        int futureHold = event.get("futureHold").integer(EventSpec.DEFAULT_FUTURE_HOLD);
+        if (futureHold < futureConfirm || futureHold > MAX_FUTURE_HOLD) {
+            throw event.get("futureHold").error("must be from futureConfirm (" + futureConfirm + ") to "
+                    + MAX_FUTURE_HOLD);
         }
         return new EventSpec(event.require("id").pointer(), event.require("time").pointer(),
-                DefinitionLoader.notNegative(event.get("maxFutureSkew"), Duration.ofDays(1)), futureConfirm,
-                new OutcomeSpec(outcome.require("field").pointer(), positive, negative));
+                DefinitionLoader.notNegative(event.get("maxFutureSkew"), EventSpec.DEFAULT_MAX_FUTURE_SKEW),
+                futureConfirm, DefinitionLoader.notNegative(event.get("futureSpan"), EventSpec.DEFAULT_FUTURE_SPAN),
+                futureHold, new OutcomeSpec(outcome.require("field").pointer(), positive, negative));
     }
 
     private static List<String> values(DefNode node, List<String> fallback) throws DefinitionException {
@@ -105,6 +119,11 @@ final class MonitorReader {
         if (width.toMillis() % step.toMillis() != 0 || width.compareTo(step) < 0) {
             throw widthNode.error("width " + widthNode.text() + " is not a whole multiple of step "
                     + window.get("step").text());
+        }
+        if (width.toMillis() / step.toMillis() > MAX_STEPS_PER_WINDOW) {
+            throw widthNode.error("width " + widthNode.text() + " is " + width.toMillis() / step.toMillis()
+                    + " steps of " + window.get("step").text() + "; at most " + MAX_STEPS_PER_WINDOW
+                    + " steps per window are allowed (every window sums that many buckets)");
         }
         Duration lateness = DefinitionLoader.notNegative(window.get("lateness"), Duration.ZERO);
         Instant align = window.get("align").present() ? window.get("align").instant() : Instant.EPOCH;
@@ -206,7 +225,8 @@ final class MonitorReader {
      * Binds {@code rules} into the alert engine's settings (unknown keys are errors), and checks that
      * every {@code term}/{@code terms} value in it names a declared, watched term.
      */
-    private static AlertRulesConfig rules(DefNode node, List<TermSpec> terms) throws DefinitionException {
+    private static AlertRulesConfig rules(DefNode node, List<TermSpec> terms, List<String> notices)
+            throws DefinitionException {
         if (!node.present()) {
             return AlertRulesConfig.defaults();
         }
@@ -215,10 +235,12 @@ final class MonitorReader {
             throw node.error("expected a mapping of rule settings");
         }
         checkTermReferences(node, terms);
+        ObjectNode bound = switchedOn(node, notices);
         try {
             return Json.mapper().readerFor(AlertRulesConfig.class)
                     .with(DeserializationFeature.FAIL_ON_UNKNOWN_PROPERTIES)
-                    .readValue(json);
+                    .without(DeserializationFeature.ACCEPT_FLOAT_AS_INT)
+                    .readValue(bound);
         } catch (JsonMappingException e) {
             StringBuilder path = new StringBuilder(node.path());
             for (JsonMappingException.Reference ref : e.getPath()) {
@@ -228,12 +250,106 @@ final class MonitorReader {
                     path.append('[').append(ref.getIndex()).append(']');
                 }
             }
-            String problem = e instanceof com.fasterxml.jackson.databind.exc.UnrecognizedPropertyException
-                    ? "unknown rule setting" : e.getOriginalMessage();
-            throw node.tree().error(path.toString(), problem);
+            throw node.tree().error(path.toString(), ruleProblem(e, json.at(pointer(e))));
         } catch (IOException e) {
             throw node.error(e.getMessage());
         }
+    }
+
+    /** The JSON Pointer (from the root) of the value a mapping error is about. */
+    private static String pointer(JsonMappingException e) {
+        StringBuilder pointer = new StringBuilder();
+        for (JsonMappingException.Reference ref : e.getPath()) {
+            pointer.append('/').append(ref.getFieldName() != null
+                    ? ref.getFieldName().replace("~", "~0").replace("/", "~1") : Integer.toString(ref.getIndex()));
+        }
+        return pointer.toString();
+    }
+
+    /**
+     * A rule-binding error in the definition's words: what was expected and found, or the rule's
+     * own message, never a Java type name.
+     */
+    private static String ruleProblem(JsonMappingException e, JsonNode relative) {
+        if (e instanceof com.fasterxml.jackson.databind.exc.UnrecognizedPropertyException) {
+            return "unknown rule setting";
+        }
+        if (e instanceof com.fasterxml.jackson.databind.exc.ValueInstantiationException && e.getCause() != null) {
+            return String.valueOf(e.getCause().getMessage());
+        }
+        Class<?> target = e instanceof com.fasterxml.jackson.databind.exc.MismatchedInputException m
+                ? m.getTargetType()
+                : e.getCause() instanceof com.fasterxml.jackson.core.exc.InputCoercionException c ? c.getTargetType() : null;
+        String expected;
+        if (target == null) {
+            expected = "a valid value";
+        } else if (target == int.class || target == Integer.class || target == long.class || target == Long.class) {
+            expected = "a whole number within the range of an int";
+        } else if (Number.class.isAssignableFrom(target) || target.isPrimitive() && target != boolean.class) {
+            expected = "a number";
+        } else if (target == boolean.class || target == Boolean.class) {
+            expected = "true or false";
+        } else if (target == String.class) {
+            expected = "a text value";
+        } else if (java.util.Collection.class.isAssignableFrom(target) || target.isArray()) {
+            expected = "a list";
+        } else {
+            expected = "a mapping of settings";
+        }
+        return "expected " + expected + ", found " + found(relative);
+    }
+
+    private static String found(JsonNode value) {
+        if (value == null || value.isMissingNode()) {
+            return "a value that does not fit";
+        }
+        if (value.isObject()) {
+            return "a mapping";
+        }
+        if (value.isArray()) {
+            return "a list";
+        }
+        return value.isNull() ? "nothing" : "'" + value.asText() + "'";
+    }
+
+    /** Rule sections that run with their defaults unless switched off. */
+    private static final List<String> DEFAULT_ON = List.of("oddsRatioDrift", "calibration", "cusum");
+    private static final List<String> SECTIONS = List.of("oddsRatioDrift", "oddsRatioBounds", "calibration", "cusum");
+
+    /**
+     * Which rules run: every rule with defaults (drift, calibration, CUSUM) runs unless its section
+     * says {@code enabled: false}; the bounds rule runs when its section is there (it has no
+     * defaults) and not switched off. Returns the mapping to bind: sections switched off removed,
+     * unlisted default rules added as empty sections, {@code enabled} keys dropped. Definitions
+     * written when an unlisted section meant "off" now run that rule: each such section gets a
+     * notice saying so and how to keep it off.
+     */
+    private static ObjectNode switchedOn(DefNode node, List<String> notices) throws DefinitionException {
+        ObjectNode bound = ((ObjectNode) node.json()).deepCopy();
+        for (String section : SECTIONS) {
+            DefNode child = node.get(section);
+            if (!child.present()) {
+                if (DEFAULT_ON.contains(section)) {
+                    bound.putObject(section);
+                    notices.add(node.path() + "." + section + " is not listed, so it runs with its defaults (until "
+                            + "this version an unlisted rule was off); write '" + section
+                            + ": {enabled: false}' to switch it off");
+                }
+                continue;
+            }
+            if (!child.json().isObject()) {
+                continue; // the binding names the key and the problem
+            }
+            DefNode enabled = child.get("enabled");
+            if (enabled.present()) {
+                ObjectNode settings = (ObjectNode) bound.get(section);
+                settings.remove("enabled");
+                if (!enabled.bool(true)) {
+                    bound.remove(section);
+                }
+            }
+        }
+        return bound;
     }
 
     private static void checkTermReferences(DefNode node, List<TermSpec> terms) throws DefinitionException {
@@ -276,7 +392,8 @@ final class MonitorReader {
 
     private static OutputSpec outputs(DefNode node) throws DefinitionException {
         if (node.present()) {
-            node.mapping("estimatesTopic", "rejectsTopic", "alertsTopic", "estimatesFile", "webhook");
+            node.mapping("estimatesTopic", "rejectsTopic", "alertsTopic", "estimatesFile", "webhook",
+                    "withholdCountsBelow");
         }
         WebhookSpec webhook = null;
         DefNode hook = node.get("webhook");
@@ -295,9 +412,14 @@ final class MonitorReader {
                     attempts);
         }
         DefNode file = node.get("estimatesFile");
+        DefNode below = node.get("withholdCountsBelow");
+        int withholdBelow = below.integer(SmallCellPolicy.DEFAULT_LIMIT);
+        if (withholdBelow < 2 || withholdBelow > 1000) {
+            throw below.error("must be from 2 to 1000 (counts from 1 to this minus 1 are withheld from every output)");
+        }
         return new OutputSpec(topic(node.get("estimatesTopic"), "oddswatch-estimates"),
                 topic(node.get("rejectsTopic"), "oddswatch-rejects"), topic(node.get("alertsTopic"), "oddswatch-alerts"),
-                file.present() ? file.name() : null, webhook);
+                file.present() ? file.name() : null, webhook, withholdBelow);
     }
 
     private static String topic(DefNode node, String fallback) throws DefinitionException {

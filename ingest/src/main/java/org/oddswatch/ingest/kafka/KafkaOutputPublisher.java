@@ -13,6 +13,8 @@ import org.apache.kafka.common.serialization.ByteArraySerializer;
 import org.apache.kafka.common.serialization.StringSerializer;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.privacy.PublishedAlert;
+import org.oddswatch.alerts.privacy.PublishedEstimate;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 import org.oddswatch.ingest.definition.OutputSpec;
@@ -24,11 +26,12 @@ import org.oddswatch.ingest.pipeline.RejectedRecord;
  * Sends the pipeline's outputs to the output topics of their monitor with one idempotent producer
  * ({@code enable.idempotence=true}, {@code acks=all}):
  * <ul>
- *   <li>estimates: key {@code <stream>|<windowEnd RFC 3339>}, value the estimate JSON; an interim and
+ *   <li>estimates: key {@code <stream>|<windowEnd RFC 3339>}, value the estimate JSON with small
+ *       cells withheld ({@link PublishedEstimate}, the monitor's {@code withholdCountsBelow}); an interim and
  *       the final estimate of a window share the key, so a compacted topic keeps the final one;</li>
  *   <li>rejects: key {@code <topic>/<partition>/<offset>} of the source record, value the reject JSON
  *       (reason, detail, source position, original bytes);</li>
- *   <li>alerts: key the alert id.</li>
+ *   <li>alerts: key the alert id, value the alert JSON under the same small-cell rule ({@link PublishedAlert}).</li>
  * </ul>
  * Sends are asynchronous; {@link #flush()} waits for all of them and throws if any failed, so the
  * caller commits input offsets only after every output of those inputs is stored.
@@ -60,7 +63,8 @@ public final class KafkaOutputPublisher implements PipelineListener, AutoCloseab
 
     @Override
     public void onEstimate(WindowEstimate estimate) {
-        send(outputs(estimate.stream()).estimatesTopic(), estimateKey(estimate), Json.write(estimate));
+        OutputSpec outputs = outputs(estimate.stream());
+        send(outputs.estimatesTopic(), estimateKey(estimate), PublishedEstimate.json(estimate, outputs.smallCells()));
     }
 
     @Override
@@ -73,7 +77,8 @@ public final class KafkaOutputPublisher implements PipelineListener, AutoCloseab
 
     @Override
     public void onAlert(Alert alert) {
-        send(outputs(alert.stream()).alertsTopic(), alert.id(), Json.write(alert));
+        OutputSpec outputs = outputs(alert.stream());
+        send(outputs.alertsTopic(), alert.id(), PublishedAlert.json(alert, outputs.smallCells()));
     }
 
     /** Waits until every output sent so far is acknowledged; throws if any send failed. */
@@ -118,12 +123,7 @@ public final class KafkaOutputPublisher implements PipelineListener, AutoCloseab
 
     /** The outputs of the monitor a stream belongs to ({@code name} or {@code name/value}). */
     private OutputSpec outputs(String stream) {
-        for (MonitorDefinition monitor : monitors) {
-            if (stream.equals(monitor.name()) || stream.startsWith(monitor.name() + "/")) {
-                return monitor.outputs();
-            }
-        }
-        throw new IllegalArgumentException("no monitor for stream " + stream);
+        return MonitorDefinition.ofStream(monitors, stream).outputs();
     }
 
     @Override

@@ -63,6 +63,12 @@ public final class MonitorPipeline {
     private final OutcomeCounts totals = new OutcomeCounts();
     private final Map<String, List<Alert>> pendingRestore = new LinkedHashMap<>();
     private long rebuilt;
+    /** Record-level outcomes of held records decided since the last {@link #drainDecidedHeld}. */
+    private final List<RecordOutcome> decidedHeld = new ArrayList<>();
+    /** The record being offered when a stream holds it (shared by the monitors of the input), else null. */
+    private HeldRecord heldNow;
+    /** Removes the partition's stream-count gauge ({@link #forPartition} with a registry), else null. */
+    private Runnable streamsGaugeRemoval;
 
     /**
      * @param input the topic or file name, for status
@@ -105,11 +111,12 @@ public final class MonitorPipeline {
         MonitorPipeline pipeline = new MonitorPipeline(topic + "-" + partition, config.monitorsFor(topic), listener,
                 settings);
         if (registry != null) {
-            Gauge.builder("oddswatch.pipeline.streams", pipeline, p -> p.streamsByName.size())
+            Gauge gauge = Gauge.builder("oddswatch.pipeline.streams", pipeline, p -> p.streamsByName.size())
                     .description("streams held by one partition's pipeline")
                     .tag("topic", topic)
                     .tag("partition", Integer.toString(partition))
                     .register(registry);
+            pipeline.streamsGaugeRemoval = () -> registry.remove(gauge);
         }
         return pipeline;
     }
@@ -251,17 +258,63 @@ public final class MonitorPipeline {
                     suppressOutput);
         }
         RecordOutcome overall = null;
+        heldNow = null;
         for (int r = 0; r < routes.size(); r++) {
             RecordOutcome outcome = offerTo(routes.get(r), read.result(r), original, origin, suppressOutput);
-            if (overall == null || (outcome.accepted() && !overall.accepted())) {
+            if (!outcome.held() && (overall == null || (outcome.accepted() && !overall.accepted()))) {
                 overall = outcome;
             }
         }
-        if (overall == null) {
+        HeldRecord held = heldNow;
+        heldNow = null;
+        if (held != null) {
+            held.inOffer = false;
+            held.merge(overall);
+            if (!held.decided()) {
+                return RecordOutcome.HELD; // counted when the holding streams decide
+            }
+            held.totalsCounted = true;
+            overall = held.best;
+        } else if (overall == null) {
             overall = RecordOutcome.rejected(RejectReason.MISSING_FIELD, "no monitor reads this input");
         }
         count(totals, overall, suppressOutput);
         return overall;
+    }
+
+    /**
+     * A held event's decided outcome: counted and reported like an outcome of {@code offer} (in the
+     * stream, to the listener, to rejects), and once all streams holding the record decided, in the
+     * record totals.
+     */
+    private void resolved(StreamState stream, HeldRecord record, DecodedEvent event, RecordOutcome outcome,
+                          boolean suppress) {
+        report(stream, outcome, event, record.original, record.origin, suppress);
+        record.holders--;
+        record.merge(outcome);
+        if (!record.inOffer && record.decided()) {
+            record.totalsCounted = true;
+            count(totals, record.best, suppress);
+            if (!suppress) {
+                decidedHeld.add(record.best);
+                listener.onHeldDecided(record.origin, record.best);
+            }
+        }
+    }
+
+    private void report(StreamState stream, RecordOutcome outcome, DecodedEvent event, byte[] original,
+                        RecordOrigin origin, boolean suppress) {
+        count(stream.counts(), outcome, suppress);
+        if (!suppress) {
+            listener.onOutcome(stream.monitorName(), stream.name(), outcome);
+            if (outcome.accepted()) {
+                listener.onAccepted(stream.monitorName(), stream.name(), event);
+            }
+        }
+        if (!suppress && (outcome.outcome() == Outcome.REJECTED || outcome.outcome() == Outcome.LATE)) {
+            listener.onReject(new RejectedRecord(stream.monitorName(), stream.name(), outcome.outcome(),
+                    outcome.reason(), outcome.detail(), origin, original));
+        }
     }
 
     /** Counts and reports a record that could not be read at all (before any monitor saw it). */
@@ -299,6 +352,8 @@ public final class MonitorPipeline {
         if (stream == null) {
             String streamName = route.monitor.streamName(event.splitValue());
             if (route.monitor.split() != null && route.streams.size() >= route.monitor.split().maxStreams()) {
+                // The reject names the would-be stream; the meters get none (the stream tag holds
+                // accepted streams only, never a name made from a rejected record's value).
                 return rejectUnrouted(route, streamName, new Rejection(RejectReason.TOO_MANY_STREAMS,
                         "split value '" + event.splitValue() + "' would be stream " + (route.streams.size() + 1)
                                 + " of at most " + route.monitor.split().maxStreams()), original, origin, suppress);
@@ -306,14 +361,15 @@ public final class MonitorPipeline {
             stream = newStream(route, streamName, event.splitValue());
         }
         RecordOutcome outcome = stream.offer(event, suppress);
-        count(stream.counts(), outcome, suppress);
-        if (!suppress) {
-            listener.onOutcome(route.monitor.name(), stream.name(), outcome);
+        if (outcome.held()) {
+            if (heldNow == null) {
+                heldNow = new HeldRecord(original, origin);
+            }
+            heldNow.holders++;
+            stream.hold(event, heldNow, suppress);
+            return outcome;
         }
-        if (!suppress && (outcome.outcome() == Outcome.REJECTED || outcome.outcome() == Outcome.LATE)) {
-            listener.onReject(new RejectedRecord(route.monitor.name(), stream.name(), outcome.outcome(),
-                    outcome.reason(), outcome.detail(), origin, original));
-        }
+        report(stream, outcome, event, original, origin, suppress);
         return outcome;
     }
 
@@ -322,7 +378,7 @@ public final class MonitorPipeline {
         RecordOutcome outcome = RecordOutcome.rejected(rejection.reason(), rejection.detail());
         count(route.unrouted, outcome, suppress);
         if (!suppress) {
-            listener.onOutcome(route.monitor.name(), stream, outcome);
+            listener.onOutcome(route.monitor.name(), null, outcome);
             listener.onReject(new RejectedRecord(route.monitor.name(), stream, Outcome.REJECTED, rejection.reason(),
                     rejection.detail(), origin, original));
         }
@@ -349,10 +405,11 @@ public final class MonitorPipeline {
             }
         }
         StreamState stream = new StreamState(name, monitor, route.estimator, store, baselineStore, fileBaseline, note,
-                listener, settings.replayHint());
+                listener, settings.replayHint(), this::resolved);
         List<Alert> restore = pendingRestore.remove(name);
         if (restore != null) {
             stream.restore(restore);
+            reportOpen(restore);
         }
         route.streams.put(splitValue, stream);
         streamsByName.put(name, stream);
@@ -366,6 +423,18 @@ public final class MonitorPipeline {
             }
         } else {
             counts.add(outcome);
+        }
+    }
+
+    /**
+     * Hands over the record-level outcomes of held records decided since the last call (not
+     * suppressed): a caller that counts records by the return value of {@code offer}, which was
+     * {@link RecordOutcome#HELD} for them, counts them here.
+     */
+    public void drainDecidedHeld(java.util.function.Consumer<RecordOutcome> into) {
+        if (!decidedHeld.isEmpty()) {
+            decidedHeld.forEach(into);
+            decidedHeld.clear();
         }
     }
 
@@ -399,28 +468,52 @@ public final class MonitorPipeline {
     /**
      * Restores open alert episodes published before a restart; alerts of streams not seen yet are kept
      * until the stream's first event. The latest message of each episode still open goes to
-     * {@link PipelineListener#onAlertRestored} (for the alert-state gauge).
+     * {@link PipelineListener#onAlertRestored} (for the alert-state gauge) once the stream is held
+     * here: at once for a stream that exists, else on its first event in this pipeline.
      */
     public void restoreAlerts(List<Alert> published) {
         Map<String, List<Alert>> byStream = new LinkedHashMap<>();
-        Map<List<String>, Alert> latestByEpisode = new LinkedHashMap<>();
         for (Alert alert : published) {
             byStream.computeIfAbsent(alert.stream(), s -> new ArrayList<>()).add(alert);
-            latestByEpisode.put(List.of(alert.stream(), alert.rule(), alert.subject().term(),
-                    String.valueOf(alert.subject().level())), alert);
+        }
+        for (Map.Entry<String, List<Alert>> entry : byStream.entrySet()) {
+            StreamState stream = streamsByName.get(entry.getKey());
+            if (stream != null) {
+                stream.restore(entry.getValue());
+                reportOpen(entry.getValue());
+            } else {
+                pendingRestore.computeIfAbsent(entry.getKey(), s -> new ArrayList<>()).addAll(entry.getValue());
+            }
+        }
+    }
+
+    /**
+     * Tells the listener the latest message of every episode still open among one stream's restored
+     * alerts. Only for a stream this pipeline holds: the alerts topic also holds the episodes of
+     * streams other partitions (and instances) hold, which must not show here.
+     */
+    private void reportOpen(List<Alert> streamAlerts) {
+        Map<List<String>, Alert> latestByEpisode = new LinkedHashMap<>();
+        for (Alert alert : streamAlerts) {
+            latestByEpisode.put(List.of(alert.rule(), alert.subject().term(), String.valueOf(alert.subject().level())),
+                    alert);
         }
         for (Alert latest : latestByEpisode.values()) {
             if (latest.state() != AlertState.CLEARED) {
                 listener.onAlertRestored(latest);
             }
         }
-        for (Map.Entry<String, List<Alert>> entry : byStream.entrySet()) {
-            StreamState stream = streamsByName.get(entry.getKey());
-            if (stream != null) {
-                stream.restore(entry.getValue());
-            } else {
-                pendingRestore.computeIfAbsent(entry.getKey(), s -> new ArrayList<>()).addAll(entry.getValue());
-            }
+    }
+
+    /**
+     * The pipeline's streams leave this instance (its partition was revoked or lost): tells the
+     * listener ({@link PipelineListener#onStreamsReleased}) so their meters go, and removes the
+     * partition's stream-count gauge. The pipeline is not used afterwards.
+     */
+    public void release() {
+        listener.onStreamsReleased(streams());
+        if (streamsGaugeRemoval != null) {
+            streamsGaugeRemoval.run();
         }
     }
 

@@ -19,7 +19,11 @@ public final class OutcomeCounts {
     private final long[] outcomes = new long[OUTCOMES.length];
     private final HashMap<String, long[]> reasons = new HashMap<>();
 
+    /** Counts one outcome; {@link RecordOutcome#HELD} is not an outcome yet and is skipped. */
     public void add(RecordOutcome outcome) {
+        if (outcome.held()) {
+            return;
+        }
         outcomes[outcome.outcome().ordinal()]++;
         String reason = outcome.reason();
         if (reason != null) {

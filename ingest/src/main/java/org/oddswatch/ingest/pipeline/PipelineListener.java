@@ -4,6 +4,7 @@ import java.util.List;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.rules.CusumReading;
 import org.oddswatch.estimator.result.WindowEstimate;
+import org.oddswatch.ingest.decode.DecodedEvent;
 
 /**
  * Receives a pipeline's output, on the thread that called the pipeline. Write JSON with
@@ -23,13 +24,30 @@ public interface PipelineListener {
     default void onAlert(Alert alert) {
     }
 
+    /**
+     * An event a stream accepted (passed the time rules, the stream cap and dedupe), with its
+     * decoding: the baseline builder collects these, so it fits exactly the events the pipeline keeps.
+     * Not called while rebuilding.
+     */
+    default void onAccepted(String monitor, String stream, DecodedEvent event) {
+    }
+
     // ---- for meters: none of these is called while rebuilding (suppressed output) ---------------
 
     /**
-     * One record's outcome in one monitor: {@code stream} is null when no stream could be determined
-     * (the record was rejected before routing), {@code monitor} is null when no monitor could read it.
+     * One record's outcome in one monitor: {@code stream} is null when the record was routed to no
+     * stream the monitor holds (rejected before routing, or {@code too-many-streams}: it never names
+     * a stream made from a rejected value), {@code monitor} is null when no monitor could read it.
      */
     default void onOutcome(String monitor, String stream, RecordOutcome outcome) {
+    }
+
+    /**
+     * The record-level outcome of a record that {@code offer}/{@code offerRead} returned as
+     * {@link RecordOutcome#HELD}, once it is decided (accepted when any monitor accepted it). A
+     * listener that counts records by the return value of {@code offer} adds this one here.
+     */
+    default void onHeldDecided(RecordOrigin origin, RecordOutcome outcome) {
     }
 
     /**
@@ -53,5 +71,9 @@ public interface PipelineListener {
      * subject), from {@link MonitorPipeline#restoreAlerts}; it is not published again.
      */
     default void onAlertRestored(Alert alert) {
+    }
+
+    /** These streams left the pipeline's owner (its partition was revoked or lost): forget their meters. */
+    default void onStreamsReleased(List<String> streams) {
     }
 }

@@ -5,6 +5,7 @@ import org.oddswatch.ingest.decode.RejectReason;
 /**
  * What happened to one record.
  *
+ * @param outcome the counted outcome, or null for {@link #HELD}
  * @param reason null for accepted records; a {@link RejectReason} code for rejected ones;
  *     {@code late} or {@code duplicate} otherwise
  * @param detail a readable explanation, or null
@@ -12,6 +13,14 @@ import org.oddswatch.ingest.decode.RejectReason;
 public record RecordOutcome(Outcome outcome, String reason, String detail) {
 
     public static final RecordOutcome ACCEPTED = new RecordOutcome(Outcome.ACCEPTED, null, null);
+
+    /**
+     * Not decided yet: every stream that received the record holds it beyond its time horizon.
+     * Not counted ({@link OutcomeCounts#add} skips it); the decided outcome follows through
+     * {@link PipelineListener#onOutcome} and {@link PipelineListener#onHeldDecided}.
+     */
+    public static final RecordOutcome HELD = new RecordOutcome(null, "held",
+            "held beyond the time horizon until the stream's events confirm or dismiss it");
 
     public static RecordOutcome rejected(String reason, String detail) {
         return new RecordOutcome(Outcome.REJECTED, reason, detail);
@@ -23,6 +32,10 @@ public record RecordOutcome(Outcome outcome, String reason, String detail) {
 
     public static RecordOutcome duplicate(String detail) {
         return new RecordOutcome(Outcome.DUPLICATE, RejectReason.DUPLICATE, detail);
+    }
+
+    public boolean held() {
+        return outcome == null;
     }
 
     public boolean accepted() {

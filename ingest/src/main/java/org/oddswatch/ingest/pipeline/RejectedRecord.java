@@ -5,6 +5,7 @@ import java.nio.charset.CharacterCodingException;
 import java.nio.charset.CodingErrorAction;
 import java.nio.charset.StandardCharsets;
 import java.util.Base64;
+import org.oddswatch.ingest.decode.Unicode;
 
 /**
  * A rejected or late record, as sent to the rejects topic or file.
@@ -25,7 +26,7 @@ public record RejectedRecord(String monitor, String stream, Outcome outcome, Str
 
     /**
      * The JSON view: reason, detail, source topic/partition/offset or line, the original bytes as
-     * base64 and, when they are valid UTF-8, as text.
+     * base64 and, when they are valid UTF-8, as text. Unpaired surrogates in the texts become U+FFFD.
      */
     public Json toJson() {
         String text = null;
@@ -34,7 +35,10 @@ public record RejectedRecord(String monitor, String stream, Outcome outcome, Str
             text = utf8(value);
             base64 = Base64.getEncoder().encodeToString(value);
         }
-        return new Json(monitor, stream, outcome, reason, detail, origin.topic(),
+        // A detail may quote record text holding an unpaired surrogate (a JSON escape of U+D800 alone):
+        // replaced, so that every reject can be encoded and written.
+        return new Json(Unicode.wellFormed(monitor), Unicode.wellFormed(stream), outcome, reason,
+                Unicode.wellFormed(detail), origin.topic(),
                 origin.partition() < 0 ? null : origin.partition(), origin.offset() < 0 ? null : origin.offset(),
                 origin.lineNumber() < 0 ? null : origin.lineNumber(), text, base64);
     }

@@ -5,6 +5,9 @@ import java.util.ArrayList;
 import java.util.List;
 import org.oddswatch.alerts.engine.AlertEngine;
 import org.oddswatch.alerts.engine.ReplayHint;
+import org.oddswatch.alerts.gaps.BaselineInformation;
+import org.oddswatch.alerts.gaps.GapReason;
+import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.estimator.WindowEstimator;
 import org.oddswatch.estimator.calibration.BaselineModel;
@@ -28,12 +31,17 @@ import org.oddswatch.ingest.definition.MonitorDefinition;
  * Buckets before {@code F + 1 - k} ({@code F} the newest final window) can no longer be part of a
  * window and are dropped, with their ids. Only windows holding at least one event are estimated.
  *
- * <p>An event later than {@code W + maxFutureSkew} is rejected {@code too-far-in-future} and leaves
- * {@code W} alone, unless it completes a run of {@code futureConfirm} consecutive such events
- * spanning at most {@code maxFutureSkew} (a new time frontier after a quiet spell, not a typo): it
- * is then accepted and moves {@code W}. An event within the horizon ends the run.
+ * <p>An event later than {@code W + maxFutureSkew} is held, not applied, until the stream's own
+ * events decide it ({@link FutureHold}): applied once a chain of held events confirms a new frontier
+ * or the watermark catches up with it, rejected {@code too-far-in-future} once the stream moved on
+ * without it. A held event's outcome is reported through {@link HeldOutcomes} when it is decided.
  */
 final class StreamState {
+
+    /** Receives the outcome of a held event once it is decided. */
+    interface HeldOutcomes {
+        void resolved(StreamState stream, HeldRecord record, DecodedEvent event, RecordOutcome outcome, boolean suppress);
+    }
 
     private static final String BASELINE_NONE = "none";
     private static final String BASELINE_FILE = "file";
@@ -50,8 +58,8 @@ final class StreamState {
     private final WindowEstimator estimator;
     private final WindowGeometry geometry;
     private final int bucketsPerWindow;
-    private final long maxFutureSkewMillis;
-    private final int futureConfirm;
+    private final FutureHold future;
+    private final HeldOutcomes heldOutcomes;
     private final PipelineListener listener;
     private final ReplayHint replayHint;
     private final WindowStore store;
@@ -60,10 +68,6 @@ final class StreamState {
     private final OutcomeCounts counts = new OutcomeCounts();
 
     private long watermark = Long.MIN_VALUE;
-    /** The run of consecutive events beyond the horizon: how many, and their earliest and latest time. */
-    private int futureRun;
-    private long futureRunMin;
-    private long futureRunMax;
     private long finalThrough = Long.MIN_VALUE;
     private WindowEstimate lastFinal;
     private double[] warmStart;
@@ -73,20 +77,31 @@ final class StreamState {
     private BaselineModel baseline;
     private String baselineState;
     private String baselineNote;
+    /** Why there is no baseline (failed or unreadable), or {@link GapReason#BASELINE_WEAK}; null otherwise. */
+    private GapReason baselineGap;
     private WindowStore baselineStore;
+    /** Accepted events, and a bit per term (first 64) set once an accepted event had a value for it. */
+    private long acceptedEvents;
+    private long termsWithValues;
+    /** Final windows no rule judged: overlapping the fixed baseline period, or before it froze. */
+    private long windowsInBaselinePeriod;
+    private long windowsBeforeFreeze;
+    private Instant lastUnjudgedEnd;
+    /** Rule gaps while the fixed baseline period is open (no engine yet), computed once. */
+    private List<MonitoringGap> pendingRuleGaps;
     private List<PendingEvent> pending;
     private List<Alert> restored = List.of();
 
     StreamState(String name, MonitorDefinition monitor, WindowEstimator estimator, WindowStore store,
                 WindowStore baselineStore, BaselineModel fileBaseline, String fileBaselineNote,
-                PipelineListener listener, ReplayHint replayHint) {
+                PipelineListener listener, ReplayHint replayHint, HeldOutcomes heldOutcomes) {
         this.name = name;
         this.monitor = monitor;
         this.estimator = estimator;
         this.geometry = monitor.geometry();
         this.bucketsPerWindow = geometry.bucketsPerWindow();
-        this.maxFutureSkewMillis = monitor.event().maxFutureSkew().toMillis();
-        this.futureConfirm = monitor.event().futureConfirm();
+        this.future = new FutureHold(monitor.event());
+        this.heldOutcomes = heldOutcomes;
         this.listener = listener;
         this.replayHint = replayHint;
         this.store = store;
@@ -99,12 +114,18 @@ final class StreamState {
             this.baseline = fileBaseline;
             this.baselineNote = fileBaselineNote;
             this.baselineState = spec == null ? BASELINE_NONE : fileBaseline != null ? BASELINE_FILE : BASELINE_FAILED;
-            this.engine = new AlertEngine(name, monitor.rules(), baseline, replayHint);
+            this.baselineGap = spec != null && fileBaseline == null ? GapReason.BASELINE_UNREADABLE : null;
+            noteWeakness();
+            this.engine = newEngine();
         }
     }
 
     String name() {
         return name;
+    }
+
+    String monitorName() {
+        return monitor.name();
     }
 
     long watermark() {
@@ -115,25 +136,78 @@ final class StreamState {
         return counts;
     }
 
-    /** Applies time rules and dedupe to one decoded event and, when accepted, stores it. */
+    /**
+     * Applies time rules and dedupe to one decoded event and, when accepted, stores it. An event
+     * beyond the horizon changes nothing and gives {@link RecordOutcome#HELD}: the caller then hands
+     * it to {@link #hold} with its record.
+     */
     RecordOutcome offer(DecodedEvent event, boolean suppress) {
+        if (future.beyond(event.timeMillis(), watermark)) {
+            return RecordOutcome.HELD;
+        }
+        long before = watermark;
+        RecordOutcome outcome = apply(event, suppress);
+        if (watermark != before && !future.isEmpty()) {
+            settleHeld(suppress);
+        }
+        return outcome;
+    }
+
+    /**
+     * Holds an event that {@link #offer} found beyond the horizon. Every decision this causes
+     * (including about this event) is reported through {@link HeldOutcomes} before it returns.
+     */
+    void hold(DecodedEvent event, HeldRecord record, boolean suppress) {
+        FutureHold.Held evicted = future.evictIfFull();
+        if (evicted != null) {
+            resolve(evicted, RecordOutcome.rejected(RejectReason.TOO_FAR_IN_FUTURE, Instant.ofEpochMilli(evicted.time())
+                    + " was held beyond the watermark " + Instant.ofEpochMilli(watermark) + " + "
+                    + future.skew() + " and dropped: the hold of " + future.capacity() + " events is full"), suppress);
+        }
+        long frontier = future.hold(event, record, watermark);
+        if (frontier != Long.MIN_VALUE) {
+            for (FutureHold.Held held : future.takeThrough(frontier)) {
+                resolve(held, apply(held.event, suppress), suppress);
+            }
+            settleHeld(suppress);
+        }
+    }
+
+    /**
+     * After the watermark moved: applies held events it has come within the horizon of, then
+     * rejects those held since the watermark was a whole horizon earlier (the stream moved on
+     * without them).
+     */
+    private void settleHeld(boolean suppress) {
+        long before;
+        do {
+            before = watermark;
+            long horizon = watermark > Long.MAX_VALUE - future.skew().toMillis()
+                    ? Long.MAX_VALUE : watermark + future.skew().toMillis();
+            for (FutureHold.Held held : future.takeThrough(horizon)) {
+                resolve(held, apply(held.event, suppress), suppress);
+            }
+        } while (watermark != before && !future.isEmpty());
+        for (FutureHold.Held held : future.takeHeldBefore(watermark - future.skew().toMillis() + 1)) {
+            resolve(held, RecordOutcome.rejected(RejectReason.TOO_FAR_IN_FUTURE, Instant.ofEpochMilli(held.time())
+                    + " stayed more than " + future.skew() + " after the watermark while the stream moved on from "
+                    + Instant.ofEpochMilli(held.heldAt) + " to " + Instant.ofEpochMilli(watermark)
+                    + " without confirming it (" + monitor.event().futureConfirm() + " events spanning "
+                    + monitor.event().futureSpan() + " confirm a new frontier)"), suppress);
+        }
+    }
+
+    private void resolve(FutureHold.Held held, RecordOutcome outcome, boolean suppress) {
+        heldOutcomes.resolved(this, held.record, held.event, outcome, suppress);
+    }
+
+    /** The time rules (late) and dedupe, then the store: the path of every event within the horizon. */
+    private RecordOutcome apply(DecodedEvent event, boolean suppress) {
         long time = event.timeMillis();
         long bucket = geometry.bucketOf(time);
-        if (watermark != Long.MIN_VALUE) {
-            if (time - watermark > maxFutureSkewMillis) {
-                if (!confirmsNewFrontier(time)) {
-                    return RecordOutcome.rejected(RejectReason.TOO_FAR_IN_FUTURE, Instant.ofEpochMilli(time)
-                            + " is more than " + monitor.event().maxFutureSkew() + " after the watermark "
-                            + Instant.ofEpochMilli(watermark) + " (event " + futureRun + " of the " + futureConfirm
-                            + " within " + monitor.event().maxFutureSkew() + " of each other that resume the stream)");
-                }
-            } else {
-                futureRun = 0;
-            }
-            if (geometry.isFinal(bucket + 1, watermark)) {
-                return RecordOutcome.late("the window ending " + geometry.windowEnd(bucket + 1)
-                        + " is final (watermark " + Instant.ofEpochMilli(watermark) + ")");
-            }
+        if (watermark != Long.MIN_VALUE && geometry.isFinal(bucket + 1, watermark)) {
+            return RecordOutcome.late("the window ending " + geometry.windowEnd(bucket + 1)
+                    + " is final (watermark " + Instant.ofEpochMilli(watermark) + ")");
         }
         if (!heldIds.add(event.id(), bucket)) {
             return RecordOutcome.duplicate("id '" + event.id() + "' already seen");
@@ -147,6 +221,8 @@ final class StreamState {
         if (baselineStore != null && inBaselinePeriod(time)) {
             baselineStore.add(0, event.row(), event.positive(), event.stratum());
         }
+        acceptedEvents++;
+        termsWithValues |= ~event.absentTerms();
         if (event.complete()) {
             if (engine != null) {
                 engine.onEvent(time, event.id(), event.row(), event.positive());
@@ -163,39 +239,27 @@ final class StreamState {
         return RecordOutcome.ACCEPTED;
     }
 
-    /**
-     * One more event beyond {@code watermark + maxFutureSkew}: it joins the current run when the run
-     * stays within {@code maxFutureSkew} from its earliest to its latest event, else starts a new
-     * run. True when the run reaches {@code futureConfirm} events (a consistent new time frontier,
-     * not a lone typo such as a wrong year): this event is then accepted and moves the watermark.
-     */
-    private boolean confirmsNewFrontier(long time) {
-        if (futureRun > 0 && Math.max(futureRunMax, time) - Math.min(futureRunMin, time) <= maxFutureSkewMillis) {
-            futureRun++;
-            futureRunMin = Math.min(futureRunMin, time);
-            futureRunMax = Math.max(futureRunMax, time);
-        } else {
-            futureRun = 1;
-            futureRunMin = time;
-            futureRunMax = time;
-        }
-        if (futureRun >= futureConfirm) {
-            futureRun = 0;
-            return true;
-        }
-        return false;
-    }
-
     /** Moves the watermark on without an event (idle timeout, live only). */
     void advanceWatermark(long time, boolean suppress) {
         if (time > watermark) {
             watermark = time;
             finalizeThrough(geometry.bucketOf(watermark - geometry.latenessMillis()), suppress);
+            if (!future.isEmpty()) {
+                settleHeld(suppress);
+            }
         }
     }
 
-    /** End of input: every window that holds events becomes final. */
+    /**
+     * End of input: held events that no evidence confirmed are rejected, then every window that
+     * holds events becomes final.
+     */
     void closeAll() {
+        for (FutureHold.Held held : future.takeAll()) {
+            resolve(held, RecordOutcome.rejected(RejectReason.TOO_FAR_IN_FUTURE, Instant.ofEpochMilli(held.time())
+                    + " is more than " + future.skew() + " after the watermark " + Instant.ofEpochMilli(watermark)
+                    + " and no new frontier was confirmed by the end of the input"), false);
+        }
         long newest = store.bucketCount() == 0 ? finalThrough : store.newestBucket();
         finalizeThrough(newest + bucketsPerWindow, false);
         if (engine != null) {
@@ -276,9 +340,23 @@ final class StreamState {
             listener.onEstimate(estimate);
             listener.onFinalFit(estimate, fitNanos);
         }
-        if (engine != null && !overlapsBaselinePeriod(start, stop)) {
-            emitAlerts(engine.onFinalEstimate(estimate), suppress);
+        boolean inBaselinePeriod = overlapsBaselinePeriod(start, stop);
+        if (inBaselinePeriod) {
+            windowsInBaselinePeriod++;
         }
+        if (engine != null) {
+            // every final window, also those overlapping the baseline period: the engine judges no such
+            // window, but the CUSUM reports the events after the period once per final window
+            emitAlerts(engine.onFinalEstimate(estimate), suppress);
+        } else if (!inBaselinePeriod) {
+            windowsBeforeFreeze++;
+            lastUnjudgedEnd = stop;
+        }
+    }
+
+    private boolean overlapsBaselinePeriod(Instant start, Instant stop) {
+        BaselineSpec spec = monitor.baseline();
+        return spec != null && spec.isFixedPeriod() && start.isBefore(spec.to()) && stop.isAfter(spec.from());
     }
 
     /**
@@ -316,23 +394,21 @@ final class StreamState {
         return newFinal >= lastBucket + 1;
     }
 
-    private boolean overlapsBaselinePeriod(Instant start, Instant stop) {
-        BaselineSpec spec = monitor.baseline();
-        return spec != null && spec.isFixedPeriod() && start.isBefore(spec.to()) && stop.isAfter(spec.from());
-    }
-
     private void freezeBaseline() {
         BaselineSpec spec = monitor.baseline();
         try {
             baseline = estimator.fitBaseline(baselineStore.window(0, 1), spec.from().toString(), spec.to().toString(),
                     monitor.checksum());
             baselineState = BASELINE_FROZEN;
+            noteWeakness();
         } catch (IllegalArgumentException e) {
             baselineState = BASELINE_FAILED;
             baselineNote = e.getMessage();
+            baselineGap = GapReason.BASELINE_FAILED;
         }
+        pendingRuleGaps = null;
         baselineStore = null;
-        engine = new AlertEngine(name, monitor.rules(), baseline, replayHint);
+        engine = newEngine();
         if (!restored.isEmpty()) {
             engine.restore(restored);
             restored = List.of();
@@ -351,6 +427,73 @@ final class StreamState {
         }
     }
 
+    /** This stream's alert engine: CUSUM alerts on the window grid, message counts under the small-cell rule. */
+    private AlertEngine newEngine() {
+        return new AlertEngine(name, monitor.rules(), baseline, replayHint, geometry, monitor.outputs().smallCells());
+    }
+
+    /** Flags a baseline in use that rests on too little information ({@link BaselineInformation}). */
+    private void noteWeakness() {
+        String weakness = baseline == null ? null : BaselineInformation.weakness(baseline);
+        if (weakness != null) {
+            baselineGap = GapReason.BASELINE_WEAK;
+            baselineNote = "the baseline model rests on " + weakness;
+        }
+    }
+
+    /**
+     * What is not monitored on this stream: the baseline's problem, the rules that do not run and
+     * the windows they did not judge ({@link AlertEngine#gaps}), and the terms no accepted event had
+     * a value for.
+     */
+    List<MonitoringGap> gaps() {
+        List<MonitoringGap> gaps = new ArrayList<>();
+        GapReason noBaseline;
+        String noBaselineDetail;
+        if (BASELINE_NONE.equals(baselineState)) {
+            noBaseline = GapReason.NO_BASELINE;
+            noBaselineDetail = "the definition has no baseline section";
+        } else if (BASELINE_ACCUMULATING.equals(baselineState)) {
+            noBaseline = GapReason.BASELINE_PENDING;
+            noBaselineDetail = "the baseline period " + monitor.baseline().from() + " to " + monitor.baseline().to()
+                    + " has not closed yet";
+            gaps.add(MonitoringGap.baseline(name, noBaseline, noBaselineDetail));
+        } else {
+            noBaseline = baselineGap;
+            noBaselineDetail = baselineNote;
+            if (baselineGap != null) {
+                gaps.add(MonitoringGap.baseline(name, baselineGap, baselineNote));
+            }
+        }
+        if (engine != null) {
+            gaps.addAll(engine.gaps(noBaseline, noBaselineDetail));
+        } else {
+            if (pendingRuleGaps == null) {
+                pendingRuleGaps = new AlertEngine(name, monitor.rules(), null, null).gaps(noBaseline, noBaselineDetail);
+            }
+            gaps.addAll(pendingRuleGaps);
+        }
+        if (windowsInBaselinePeriod > 0) {
+            gaps.add(MonitoringGap.windows(name, null, GapReason.BASELINE_PERIOD, AlertEngine.inBaselinePeriod(
+                    monitor.baseline().from(), monitor.baseline().to()), windowsInBaselinePeriod));
+        }
+        if (windowsBeforeFreeze > 0) {
+            gaps.add(MonitoringGap.windows(name, null, GapReason.BASELINE_PENDING, "the window closed before the "
+                    + "baseline period " + monitor.baseline().from() + " to " + monitor.baseline().to() + " did (newest: "
+                    + "the window ending " + lastUnjudgedEnd + ")", windowsBeforeFreeze));
+        }
+        if (acceptedEvents > 0) {
+            for (int t = 0; t < Math.min(Long.SIZE, monitor.terms().size()); t++) {
+                if ((termsWithValues & (1L << t)) == 0) {
+                    gaps.add(MonitoringGap.term(name, monitor.terms().get(t).name(), "none of the "
+                            + BaselineInformation.withheld(acceptedEvents) + " accepted event(s) has a value for it, so "
+                            + "every event is left out of the model fit"));
+                }
+            }
+        }
+        return gaps;
+    }
+
     /** The baseline in use (frozen file or fixed period), or null. */
     BaselineModel baseline() {
         return baseline;
@@ -360,6 +503,7 @@ final class StreamState {
         return new StreamStatus(name, monitor.name(),
                 watermark == Long.MIN_VALUE ? null : Instant.ofEpochMilli(watermark),
                 lastFinal == null ? null : lastFinal.windowEnd(), finalWindows, baselineState, baselineNote,
-                store.bucketCount(), store.approximateBytes(), counts.snapshot());
+                baseline == null ? null : baseline.events(), baseline == null ? null : baseline.cases(),
+                store.bucketCount(), store.approximateBytes(), future.size(), counts.snapshot(), gaps());
     }
 }

@@ -16,6 +16,9 @@ import java.util.Map;
 import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.privacy.PublishedAlert;
+import org.oddswatch.alerts.privacy.PublishedEstimate;
+import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.alerts.report.ReplayReport;
 import org.oddswatch.alerts.report.html.HtmlReport;
 import org.oddswatch.estimator.result.WindowEstimate;
@@ -35,7 +38,8 @@ import org.oddswatch.ingest.pipeline.StreamStatus;
  * Replays an event file through the same {@link MonitorPipeline} as the live service, time driven by
  * the events, and writes into the output folder:
  * <ul>
- *   <li>{@code estimates.jsonl}: every final window estimate, one JSON object per line;</li>
+ *   <li>{@code estimates.jsonl}: every final window estimate, one JSON object per line, small cells
+ *       withheld as on the estimates topic ({@link PublishedEstimate});</li>
  *   <li>{@code rejects.jsonl}: rejected and late records with their line number, reason and bytes;</li>
  *   <li>{@code alerts.jsonl}: alert messages in the order raised;</li>
  *   <li>{@code summary.json}: counts by outcome and reason, windows per stream;</li>
@@ -89,7 +93,7 @@ public final class ReplayRunner {
                 .withReplayHint(new ReplayHint(request.config() == null ? config.file() : request.config().toString(),
                         request.input().toString(), null));
         InputFormat format = request.effectiveFormat();
-        FileOutputs outputs = new FileOutputs(request.out(), new WindowRange(request.from(), request.to()));
+        FileOutputs outputs = new FileOutputs(request.out(), new WindowRange(request.from(), request.to()), monitors);
         MonitorPipeline pipeline;
         try (outputs) {
             pipeline = new MonitorPipeline(request.input().toString(), monitors, outputs, settings);
@@ -102,10 +106,21 @@ public final class ReplayRunner {
         Files.writeString(request.out().resolve(SUMMARY),
                 Json.mapper().writerWithDefaultPrettyPrinter().writeValueAsString(summary) + "\n",
                 StandardCharsets.UTF_8);
-        ReplayReport.write(request.out(), outputs.estimates, outputs.alerts, title(monitors, request));
+        SmallCellPolicy cells = strictest(monitors);
+        ReplayReport.write(request.out(), outputs.estimates, outputs.alerts, summary.gaps(), title(monitors, request),
+                cells);
         HtmlReport.write(request.out(), outputs.estimates, outputs.alerts, title(monitors, request),
-                ReplayPageOptions.of(request.out().resolve(REJECTS), monitors, ReplayReport.SMALL_COUNT));
+                ReplayPageOptions.of(request.out().resolve(REJECTS), monitors, cells));
         return summary;
+    }
+
+    /** The report's small-cell rule: the highest limit among the replayed monitors. */
+    private static SmallCellPolicy strictest(List<MonitorDefinition> monitors) {
+        int limit = SmallCellPolicy.DEFAULT_LIMIT;
+        for (MonitorDefinition monitor : monitors) {
+            limit = Math.max(limit, monitor.outputs().withholdCountsBelow());
+        }
+        return new SmallCellPolicy(limit);
     }
 
     private static String title(List<MonitorDefinition> monitors, ReplayRequest request) {
@@ -127,18 +142,18 @@ public final class ReplayRunner {
             WindowEstimate[] span = outputs.windowSpan.get(stream.stream());
             streams.add(new ReplaySummary.Stream(stream.stream(), stream.finalWindows(),
                     span == null ? null : span[0].windowEnd(), span == null ? null : span[1].windowEnd(),
-                    stream.baseline(), stream.counts()));
+                    stream.baseline(), stream.baselineNote(), stream.counts(), stream.gaps()));
         }
         return new ReplaySummary(request.input().toString(), format.name().toLowerCase(java.util.Locale.ROOT),
                 request.from(), request.to(), snapshot.totals(), outputs.estimates.size(), outputs.rejects,
                 outputs.alerts.size(), monitors, streams);
     }
 
-    /** Feeds file records to the pipeline with their line numbers. */
-    private static final class PipelineFeed implements RecordSink {
+    /** Feeds file records to the pipeline with their line numbers (also used by the baseline builder). */
+    public static final class PipelineFeed implements RecordSink {
         private final MonitorPipeline pipeline;
 
-        PipelineFeed(MonitorPipeline pipeline) {
+        public PipelineFeed(MonitorPipeline pipeline) {
             this.pipeline = pipeline;
         }
 
@@ -168,6 +183,7 @@ public final class ReplayRunner {
     /** Writes the three JSON Lines files and keeps estimates and alerts (of the range) for the report. */
     private static final class FileOutputs implements PipelineListener, AutoCloseable {
         private final WindowRange range;
+        private final List<MonitorDefinition> monitors;
         private final Writer estimatesFile;
         private final Writer rejectsFile;
         private final Writer alertsFile;
@@ -176,8 +192,9 @@ public final class ReplayRunner {
         final Map<String, WindowEstimate[]> windowSpan = new LinkedHashMap<>();
         long rejects;
 
-        FileOutputs(Path dir, WindowRange range) throws IOException {
+        FileOutputs(Path dir, WindowRange range, List<MonitorDefinition> monitors) throws IOException {
             this.range = range;
+            this.monitors = monitors;
             estimatesFile = writer(dir.resolve(ESTIMATES));
             rejectsFile = writer(dir.resolve(REJECTS));
             alertsFile = writer(dir.resolve(ALERTS));
@@ -194,7 +211,7 @@ public final class ReplayRunner {
             }
             estimates.add(estimate);
             windowSpan.computeIfAbsent(estimate.stream(), s -> new WindowEstimate[] {estimate, estimate})[1] = estimate;
-            line(estimatesFile, Json.write(estimate));
+            line(estimatesFile, PublishedEstimate.json(estimate, cellsOf(estimate.stream())));
         }
 
         @Override
@@ -209,7 +226,11 @@ public final class ReplayRunner {
                 return;
             }
             alerts.add(alert);
-            line(alertsFile, Json.write(alert));
+            line(alertsFile, PublishedAlert.json(alert, cellsOf(alert.stream())));
+        }
+
+        private SmallCellPolicy cellsOf(String stream) {
+            return MonitorDefinition.ofStream(monitors, stream).outputs().smallCells();
         }
 
         private static void line(Writer writer, String json) {

@@ -2,6 +2,7 @@ package org.oddswatch.ingest.replay;
 
 import java.time.Instant;
 import java.util.List;
+import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.ingest.pipeline.OutcomeCounts;
 
 /**
@@ -17,6 +18,15 @@ public record ReplaySummary(String input, String format, Instant from, Instant t
                             long finalWindows, long rejectsWritten, long alerts, List<Monitor> monitors,
                             List<Stream> streams) {
 
+    /** What was not monitored and why, over every stream (the streams' own lists joined). */
+    public List<MonitoringGap> gaps() {
+        List<MonitoringGap> gaps = new java.util.ArrayList<>();
+        for (Stream stream : streams) {
+            gaps.addAll(stream.gaps());
+        }
+        return gaps;
+    }
+
     /** Records of one monitor rejected before routing (parse and decode errors, stream cap, range). */
     public record Monitor(String monitor, int streams, OutcomeCounts.Snapshot unrouted) {
     }
@@ -26,8 +36,10 @@ public record ReplaySummary(String input, String format, Instant from, Instant t
      * @param firstWindowEnd end of its first final window, or null
      * @param lastWindowEnd end of its last final window, or null
      * @param baseline the baseline state at the end ({@code none}, {@code file}, {@code frozen}, ...)
+     * @param baselineNote why the baseline failed or is weak, or null
+     * @param gaps what was not monitored on the stream and why
      */
     public record Stream(String stream, long windows, Instant firstWindowEnd, Instant lastWindowEnd, String baseline,
-                         OutcomeCounts.Snapshot counts) {
+                         String baselineNote, OutcomeCounts.Snapshot counts, List<MonitoringGap> gaps) {
     }
 }

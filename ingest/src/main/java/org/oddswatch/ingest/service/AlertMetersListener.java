@@ -26,8 +26,8 @@ import org.oddswatch.ingest.pipeline.RejectedRecord;
 
 /**
  * The listener of the live service's pipelines: every output goes to the Kafka publisher first;
- * then final estimates, alerts, fits, CUSUM values and record outcomes feed the
- * {@link OddswatchMeters} of the service's registry, and every alert also goes to the log and, when
+ * then final estimates (under the monitor's small-cell rule), alerts, fits, CUSUM values and record
+ * outcomes feed the {@link OddswatchMeters} of the service's registry, and every alert also goes to the log and, when
  * its monitor has {@code outputs.webhook}, to that webhook (delivered on the sink's own thread, so
  * the poll loop never waits for it).
  *
@@ -35,7 +35,9 @@ import org.oddswatch.ingest.pipeline.RejectedRecord;
  * records are summed per stream and added to their {@link Counter} once per batch
  * ({@link #onBatchDone}, on the thread that offers the records), other outcomes are one increment
  * each. Pipelines call none of these while rebuilding,
- * except {@link #onAlertRestored}, which sets the alert-state gauge of an episode still open.
+ * except {@link #onAlertRestored}, which sets the alert-state gauge of an episode still open in a
+ * stream the pipeline holds. When a partition leaves the instance, {@link #onStreamsReleased} removes
+ * its streams' series.
  */
 final class AlertMetersListener implements PipelineListener, AutoCloseable {
 
@@ -43,9 +45,10 @@ final class AlertMetersListener implements PipelineListener, AutoCloseable {
     private static final Map<MeterRegistry, OddswatchMeters> BOUND = new WeakHashMap<>();
 
     private final PipelineListener publisher;
+    private final List<MonitorDefinition> monitors;
     private final OddswatchMeters meters;
     private final MeterRegistry registry;
-    private final AlertSink log = new LogAlertSink();
+    private final Map<String, AlertSink> logs = new HashMap<>();
     private final Map<String, WebhookAlertSink> webhooks = new HashMap<>();
     private final Map<List<String>, Counter> eventCounters = new ConcurrentHashMap<>();
     /**
@@ -56,13 +59,15 @@ final class AlertMetersListener implements PipelineListener, AutoCloseable {
 
     AlertMetersListener(PipelineListener publisher, MeterRegistry registry, List<MonitorDefinition> monitors) {
         this.publisher = publisher;
+        this.monitors = List.copyOf(monitors);
         this.registry = registry;
         this.meters = metersOf(registry);
         for (MonitorDefinition monitor : monitors) {
+            logs.put(monitor.name(), new LogAlertSink(monitor.outputs().smallCells()));
             WebhookSpec hook = monitor.outputs().webhook();
             if (hook != null) {
                 webhooks.put(monitor.name(), new WebhookAlertSink(URI.create(hook.url()), hook.timeout(),
-                        hook.attempts(), Duration.ofMillis(500), 1000, meters));
+                        hook.attempts(), Duration.ofMillis(500), 1000, meters, monitor.outputs().smallCells()));
             }
         }
     }
@@ -87,7 +92,7 @@ final class AlertMetersListener implements PipelineListener, AutoCloseable {
     public void onEstimate(WindowEstimate estimate) {
         publisher.onEstimate(estimate);
         if (estimate.status() == WindowStatus.FINAL) {
-            meters.onEstimate(estimate);
+            meters.onEstimate(estimate, MonitorDefinition.ofStream(monitors, estimate.stream()).outputs().smallCells());
         }
     }
 
@@ -100,7 +105,7 @@ final class AlertMetersListener implements PipelineListener, AutoCloseable {
     public void onAlert(Alert alert) {
         publisher.onAlert(alert);
         meters.onAlert(alert);
-        log.publish(alert);
+        logs.get(monitorOf(alert.stream())).publish(alert);
         WebhookAlertSink hook = webhooks.get(monitorOf(alert.stream()));
         if (hook != null) {
             hook.publish(alert);
@@ -109,21 +114,23 @@ final class AlertMetersListener implements PipelineListener, AutoCloseable {
 
     @Override
     public void onOutcome(String monitor, String stream, RecordOutcome outcome) {
+        String monitorTag = monitor != null ? monitor : OddswatchMeters.NONE;
         String streamTag = stream != null ? stream : OddswatchMeters.NONE;
-        if (outcome.reason() == null && outcome.accepted()) {
+        if (outcome.reason() == null && outcome.accepted() && stream != null) {
             // The common case, once per accepted record: a plain count, added to the stream's
             // counter once per batch (onBatchDone); an atomic add per record took about an eighth
             // of the worker thread's samples in a flight recording of the ingest benchmark.
-            AcceptedCount count = acceptedByStream.get(streamTag);
+            AcceptedCount count = acceptedByStream.get(stream);
             if (count == null) {
-                count = new AcceptedCount(eventCounter(streamTag, outcome.outcome().toString(), OddswatchMeters.NONE));
-                acceptedByStream.put(streamTag, count);
+                count = new AcceptedCount(eventCounter(monitorTag, streamTag, outcome.outcome().toString(),
+                        OddswatchMeters.NONE));
+                acceptedByStream.put(stream, count);
             }
             count.pending++;
             return;
         }
         String reason = outcome.reason() == null ? OddswatchMeters.NONE : outcome.reason();
-        eventCounter(streamTag, outcome.outcome().toString(), reason).increment();
+        eventCounter(monitorTag, streamTag, outcome.outcome().toString(), reason).increment();
     }
 
     /** A stream's accepted-events counter and the accepted records not yet added to it. */
@@ -147,11 +154,9 @@ final class AlertMetersListener implements PipelineListener, AutoCloseable {
         }
     }
 
-    private Counter eventCounter(String stream, String outcome, String reason) {
-        return eventCounters.computeIfAbsent(List.of(stream, outcome, reason),
-                key -> Counter.builder(OddswatchMeters.EVENTS).description("Consumed records by outcome")
-                        .baseUnit("events").tags("stream", key.get(0), "outcome", key.get(1), "reason", key.get(2))
-                        .register(registry));
+    private Counter eventCounter(String monitor, String stream, String outcome, String reason) {
+        return eventCounters.computeIfAbsent(List.of(monitor, stream, outcome, reason),
+                key -> OddswatchMeters.eventCounter(registry, key.get(0), key.get(1), key.get(2), key.get(3)));
     }
 
     @Override
@@ -171,6 +176,21 @@ final class AlertMetersListener implements PipelineListener, AutoCloseable {
         meters.onAlert(alert);
     }
 
+    /**
+     * Removes the released streams' series: their gauges, CUSUM and alert-state values, fit timers
+     * and record counters (with the cached counters, so a stream that returns counts on new ones).
+     * Called on the poll thread after the worker's batch is done, so no accepted count is pending.
+     */
+    @Override
+    public void onStreamsReleased(List<String> streams) {
+        for (String stream : streams) {
+            onBatchDone();
+            acceptedByStream.remove(stream);
+            eventCounters.keySet().removeIf(key -> key.get(1).equals(stream));
+            meters.forgetStream(stream);
+        }
+    }
+
     /** Stream names are {@code monitor} or {@code monitor/split value}; monitor names hold no '/'. */
     private static String monitorOf(String stream) {
         int slash = stream.indexOf('/');
@@ -183,6 +203,6 @@ final class AlertMetersListener implements PipelineListener, AutoCloseable {
         for (WebhookAlertSink hook : new ArrayList<>(webhooks.values())) {
             hook.close();
         }
-        log.close();
+        logs.values().forEach(AlertSink::close);
     }
 }

@@ -104,7 +104,7 @@ public final class MonitorService implements AutoCloseable {
         this.lookup = new KafkaConsumer<>(settings.reader("oddswatch-" + instance + "-lookup"),
                 new ByteArrayDeserializer(), new ByteArrayDeserializer());
         this.publisher = new KafkaOutputPublisher(settings.producer("oddswatch-" + instance + "-out"), config.monitors());
-        List<Tag> tags = List.of(Tag.of("instance", instance));
+        List<Tag> tags = List.of(Tag.of(ServiceMeters.SERVICE_INSTANCE, instance));
         this.clientMetrics = List.of(new KafkaClientMetrics(consumer, tags), new KafkaClientMetrics(publisher.producer(), tags));
         clientMetrics.forEach(m -> m.bindTo(registry));
         AlertArchive archive = new AlertArchive(settings.reader("oddswatch-" + instance + "-alerts"), Duration.ofSeconds(30));

@@ -304,6 +304,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
             if (nextCommit >= 0) {
                 state.nextCommit = nextCommit;
             }
+            state.pipeline.drainDecidedHeld(counts::add); // records held beyond the horizon, decided now
             state.pipeline.batchDone();
             state.rebuiltRecords += rebuilt;
             meters.rebuildRecords(rebuilt);
@@ -386,6 +387,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
                 for (String stream : state.pipeline.streams()) {
                     streamActivity.remove(stream);
                 }
+                state.pipeline.release(); // the streams' series leave /metrics with them
             }
         }
         snapshot = buildSnapshot();
@@ -615,6 +617,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
                 }
             }
         }
+        meters.monitoringGaps(inputs);
         return new ServiceStatus(ready() ? "ready" : (closing ? "stopped" : "rebuilding"), counts.snapshot(),
                 partitions, inputs);
     }

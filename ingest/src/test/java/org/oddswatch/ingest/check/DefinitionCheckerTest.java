@@ -15,6 +15,7 @@ import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 import org.oddswatch.ingest.decode.RejectReason;
 import org.oddswatch.ingest.definition.DefinitionException;
+import org.oddswatch.ingest.pipeline.GapScenario;
 import org.oddswatch.ingest.pipeline.HouseEvents;
 import org.oddswatch.ingest.pipeline.Outcome;
 
@@ -73,5 +74,35 @@ class DefinitionCheckerTest {
         DefinitionException e = assertThrows(DefinitionException.class, () -> DefinitionChecker.check(bad));
         assertEquals(24, e.line());
         assertEquals("monitors[0].window.width", e.key());
+    }
+
+    /**
+     * {@code check} lists each monitor's rules, on or off with the reason, and the notices of rules
+     * running because they are not listed; with sample events it lists what they would leave
+     * unmonitored: here a CSV without the column of the term smoker.
+     */
+    @Test
+    void rulesAndWhatTheSampleWouldLeaveUnmonitoredAreListed() throws Exception {
+        Path definition = dir.resolve("gaps.yaml");
+        Files.writeString(definition, GapScenario.definition("clinic-tests"));
+        Path events = dir.resolve("sample.csv");
+        Files.write(events, GapScenario.csvLines(), StandardCharsets.UTF_8);
+        CheckReport report = DefinitionChecker.check(definition, events, null);
+        CheckReport.MonitorFacts facts = report.monitors().get(0);
+        assertEquals(List.of("odds-ratio-drift: on (needs a baseline)", "odds-ratio-bounds: on",
+                "calibration: on (needs a baseline)",
+                "bernoulli-cusum: off [switched-off]: switched off in the definition (rules.cusum.enabled: false)"),
+                facts.rules());
+        assertEquals(2, facts.notices().size(), "drift and calibration are not listed: " + facts.notices());
+        assertEquals(GapScenario.EXPECTED, GapScenario.keys(report.events().gaps()));
+
+        String text = report.describe();
+        assertTrue(text.contains("    rules:\n      odds-ratio-drift: on (needs a baseline)\n"), text);
+        assertTrue(text.contains("    note: monitors[0].rules.oddsRatioDrift is not listed, so it runs with its "
+                + "defaults"), text);
+        assertTrue(text.contains("not monitored (7):\n  clinic: no baseline in use [baseline-failed]: cannot fit a "
+                + "baseline model"), text);
+        assertTrue(text.contains("  clinic: term smoker missing from every event [term-missing]"), text);
+        assertTrue(text.contains("  clinic: rule bernoulli-cusum not running [switched-off]"), text);
     }
 }

@@ -160,7 +160,6 @@ class EventDecoderTest {
     void termRejections() {
         assertEquals(RejectReason.UNKNOWN_LEVEL, decodeReason(event("sex", "\"other\"")));
         assertEquals(RejectReason.UNKNOWN_LEVEL, decodeReason(event("exposure", "{\"household\": \"maybe\"}")));
-        assertEquals(RejectReason.BAD_VALUE, decodeReason(event("age", "\"old\"")));
         assertEquals(RejectReason.BAD_VALUE, decodeReason(event("exposure", "{\"household\": [\"yes\"]}")));
         EventDecoder.Result result = decode(event("sex", "\"other\""));
         assertTrue(result.rejection().detail().startsWith("sex: "), result.rejection().detail());
@@ -179,6 +178,92 @@ class EventDecoderTest {
         }
         assertEquals(-1, decode(event("ageBand", "\"unknown\"")).event().stratum());
         assertEquals(2, decode(event("age", null)).event().stratum());
+    }
+
+    /** A value of a numeric term that is not a finite number is missing, not a rejection of the event. */
+    @Test
+    void aNonNumericValueOfANumericTermIsTakenAsMissing() {
+        for (String age : new String[] {"\"old\"", "true", "1e400", "\"NaN-ish\""}) {
+            EventDecoder.Result result = decode(event("age", age));
+            assertTrue(result.ok(), age);
+            assertNull(result.event().row(), age);
+            assertTrue(result.event().missingDetail().startsWith("age_years: "), result.event().missingDetail());
+            assertTrue(result.event().missingDetail().endsWith("(taken as missing)"), result.event().missingDetail());
+            assertEquals(2, result.event().stratum(), "still counted in its stratum");
+        }
+        // A later term's rejection still rejects the event.
+        assertEquals(RejectReason.UNKNOWN_LEVEL, decodeReason(event("age", "\"old\"").replace("\"male\"", "\"x\"")));
+    }
+
+    private EventDecoder.Result scan(byte[] json) {
+        RecordScanner scanner = new RecordScanner(new RecordLimits(400, 5), java.util.List.of(monitor));
+        RecordScanner.Scanned scanned = scanner.scan(json);
+        return scanned.ok() ? decoder.decode(scanned.record()) : new EventDecoder.Result(null, scanned.rejection());
+    }
+
+    private EventDecoder.Result scan(String json) {
+        return scan(json.getBytes(StandardCharsets.UTF_8));
+    }
+
+    /** Numeric ids keep the record's text: 0 and -0, 1.5 and 1.50 are different events. */
+    @Test
+    void numericIdsAndSplitValuesKeepTheirTextAndMustBeFinite() {
+        assertEquals("0", scan(event("id", "0")).event().id());
+        assertEquals("-0", scan(event("id", "-0")).event().id());
+        assertEquals("1.50", scan(event("id", "1.50")).event().id());
+        assertEquals("12345678901234567890123", scan(event("id", "12345678901234567890123")).event().id());
+        for (String bad : new String[] {"1e400", "7e400", "-1e400"}) {
+            EventDecoder.Result id = scan(event("id", bad));
+            assertEquals(RejectReason.BAD_ID, id.rejection().reason(), bad);
+            assertTrue(id.rejection().detail().contains("beyond the range of a double (" + bad + ")"),
+                    id.rejection().detail());
+            EventDecoder.Result split = scan(event("region", bad));
+            assertEquals(RejectReason.BAD_ID, split.rejection().reason(), bad);
+            assertEquals(RejectReason.BAD_ID, decodeReason(event("region", bad)), "the tree path too");
+        }
+        assertEquals("7", scan(event("region", "7")).event().splitValue());
+        EventDecoder.Result surrogate = scan(event("id", "\"a\\ud800\""));
+        assertEquals(RejectReason.BAD_ID, surrogate.rejection().reason());
+        assertEquals(RejectReason.BAD_ID, scan(event("region", "\"\\udc00x\"")).rejection().reason());
+        assertEquals("a\uD83D\uDE00", scan(event("id", "\"a\\ud83d\\ude00\"")).event().id(), "a pair is fine");
+    }
+
+    /**
+     * Bytes that are not well-formed UTF-8 are malformed-json on both paths. Source: Unicode
+     * Standard 15.0, section 3.9, table 3-7 (well-formed byte sequences).
+     */
+    @Test
+    void illFormedUtf8IsMalformedJson() {
+        int[][] bad = {{0xC0, 0xAF}, {0xC1, 0xBF}, {0xE0, 0x80, 0xAF}, {0xED, 0xA0, 0x80}, {0xF0, 0x80, 0x80, 0xAF},
+                {0xF4, 0x90, 0x80, 0x80}, {0xF5, 0x80, 0x80, 0x80}, {0x80}, {0xE2, 0x82}};
+        for (int[] sequence : bad) {
+            byte[] json = withIdBytes(sequence);
+            assertEquals(RejectReason.MALFORMED_JSON, parser.parse(json).rejection().reason(),
+                    java.util.Arrays.toString(sequence));
+            EventDecoder.Result scanned = scan(json);
+            assertFalse(scanned.ok());
+            assertTrue(scanned.rejection().detail().startsWith("not valid UTF-8 at byte 7"), scanned.rejection().detail());
+        }
+        // The boundaries themselves are well-formed: U+0080, U+07FF, U+0800, U+D7FF, U+E000, U+10000, U+10FFFF.
+        int[][] good = {{0xC2, 0x80}, {0xDF, 0xBF}, {0xE0, 0xA0, 0x80}, {0xED, 0x9F, 0xBF}, {0xEE, 0x80, 0x80},
+                {0xF0, 0x90, 0x80, 0x80}, {0xF4, 0x8F, 0xBF, 0xBF}};
+        for (int[] sequence : good) {
+            byte[] json = withIdBytes(sequence);
+            assertTrue(scan(json).ok(), java.util.Arrays.toString(sequence));
+            assertEquals(new String(json, StandardCharsets.UTF_8).substring(7, 7 + (sequence.length == 4 ? 2 : 1)),
+                    scan(json).event().id());
+        }
+    }
+
+    /** An event whose id is exactly {@code sequence} (the id's first byte is byte 7 of the record). */
+    private static byte[] withIdBytes(int[] sequence) {
+        java.io.ByteArrayOutputStream out = new java.io.ByteArrayOutputStream();
+        out.writeBytes("{\"id\":\"".getBytes(StandardCharsets.UTF_8));
+        for (int b : sequence) {
+            out.write(b);
+        }
+        out.writeBytes(event("id", null).replaceFirst("\\{", "\",").getBytes(StandardCharsets.UTF_8));
+        return out.toByteArray();
     }
 
     @Test

@@ -12,7 +12,10 @@ import org.oddswatch.ingest.definition.TermSpec;
 
 /**
  * Test oracle: the tree decoder as it was before the streaming scanner (copied unchanged from
- * EventDecoder at commit c5e8c37) so that new decoding can be compared with the old one.
+ * EventDecoder at commit c5e8c37) so that new decoding can be compared with the old one, with the
+ * rules added since written in its own terms: a value of a numeric term that is not a finite number
+ * is taken as missing; an id or split value that is a non-finite number or text with an unpaired
+ * surrogate is bad-id.
  * Reads one monitor's view of a parsed event: id, time, outcome and split value by JSON Pointer,
  * then the term values, coded by the monitor's {@link DesignCoder}. Checks run in this order and the
  * first failure decides the reason: id, time, outcome (missing-field, bad-id, bad-time, bad-outcome),
@@ -53,6 +56,9 @@ final class LegacyTreeDecoder {
             return reject(RejectReason.BAD_ID, "the event id at " + idField + " must be text or a number");
         }
         String id = idNode.asText();
+        if (notAnIdentifier(idNode)) {
+            return reject(RejectReason.BAD_ID, "the event id at " + idField + " " + why(idNode, id));
+        }
 
         JsonPointer timeField = monitor.event().time();
         JsonNode timeNode = tree.at(timeField);
@@ -94,6 +100,9 @@ final class LegacyTreeDecoder {
                 return reject(RejectReason.BAD_ID, "the split value at " + splitField + " must be text or a number");
             }
             splitValue = scalarText(splitNode);
+            if (notAnIdentifier(splitNode)) {
+                return reject(RejectReason.BAD_ID, "the split value at " + splitField + " " + why(splitNode, splitValue));
+            }
         }
 
         Object[] raw = new Object[termFields.length];
@@ -107,10 +116,19 @@ final class LegacyTreeDecoder {
         }
         double[] row = new double[coder.width()];
         CodingOutcome coding = coder.code(raw, row);
+        String notNumeric = null;
+        while (coding.isRejected() && coding.reason().equals(RejectReason.BAD_VALUE) && isNumeric(coding.term())) {
+            if (notNumeric == null) {
+                notNumeric = coding.term() + ": " + coding.detail() + " (taken as missing)";
+            }
+            raw[java.util.Arrays.asList(termNames).indexOf(coding.term())] = null;
+            coding = coder.code(raw, row);
+        }
         if (coding.isRejected()) {
             return reject(coding.reason(), coding.term() + ": " + coding.detail());
         }
-        String missingDetail = coding.isOk() ? null : coding.term() + ": " + coding.detail();
+        String missingDetail = coding.isOk() ? null : notNumeric != null ? notNumeric
+                : coding.term() + ": " + coding.detail();
         int stratum = stratumCoding == null ? -1 : stratumCoding.levelIndex(raw[stratumTerm]);
         return new EventDecoder.Result(new DecodedEvent(id, time, positive, splitValue, coding.isOk() ? row : null, stratum,
                 missingDetail), null);
@@ -118,6 +136,25 @@ final class LegacyTreeDecoder {
 
     private static EventDecoder.Result reject(String reason, String detail) {
         return new EventDecoder.Result(null, new Rejection(reason, detail));
+    }
+
+    private boolean isNumeric(String term) {
+        for (TermSpec spec : monitor.terms()) {
+            if (spec.name().equals(term)) {
+                return spec.term() instanceof org.oddswatch.estimator.terms.NumericTerm;
+            }
+        }
+        return false;
+    }
+
+    private static boolean notAnIdentifier(JsonNode node) {
+        return (node.isFloatingPointNumber() && !Double.isFinite(node.doubleValue()))
+                || (node.isTextual() && node.textValue().codePoints().anyMatch(c -> c >= 0xD800 && c <= 0xDFFF));
+    }
+
+    private static String why(JsonNode node, String text) {
+        return node.isNumber() ? "is a number beyond the range of a double (" + text + ")"
+                : "holds an unpaired UTF-16 surrogate";
     }
 
     private static boolean absent(JsonNode node) {

@@ -379,7 +379,10 @@ class RecordScannerTest {
         }
         DecodedEvent b = before.event();
         DecodedEvent a = after.event();
-        assertEquals(b.id(), a.id(), label);
+        if (!b.id().equals(a.id())) {
+            // A number as id: the scanner keeps the record's text (1e3), the tree its double (1000.0).
+            assertEquals(0, new java.math.BigDecimal(b.id()).compareTo(new java.math.BigDecimal(a.id())), label);
+        }
         assertEquals(b.timeMillis(), a.timeMillis(), label);
         assertEquals(b.positive(), a.positive(), label);
         assertEquals(b.splitValue(), a.splitValue(), label);

@@ -12,6 +12,7 @@ import java.time.Duration;
 import java.util.List;
 import java.util.Map;
 import org.junit.jupiter.api.Test;
+import org.oddswatch.alerts.engine.AlertRulesConfig;
 import org.oddswatch.estimator.terms.BinaryTerm;
 import org.oddswatch.estimator.terms.CategoricalTerm;
 import org.oddswatch.estimator.terms.NumericTerm;
@@ -71,7 +72,9 @@ class DefinitionLoaderTest {
         assertEquals(Duration.ofDays(2), north.window().lateness());
         assertEquals(4, north.geometry().bucketsPerWindow());
         assertEquals(Duration.ofDays(1), north.event().maxFutureSkew());
-        assertEquals(3, north.event().futureConfirm());
+        assertEquals(5, north.event().futureConfirm());
+        assertEquals(Duration.ofHours(1), north.event().futureSpan());
+        assertEquals(1000, north.event().futureHold());
         assertEquals(0.95, north.estimates().level());
         assertEquals("wilson", north.estimates().prevalenceInterval());
         assertEquals(4096, north.estimates().patternLimit());
@@ -99,12 +102,80 @@ class DefinitionLoaderTest {
         assertTrue(e.problem().contains("multiple of step"), e.problem());
     }
 
+    /** Each line is one located error, never an arithmetic overflow or a run of minutes. */
     @Test
-    void futureConfirmIsAtLeastOne() throws Exception {
+    void durationsAreBoundedSoNothingOverflowsOrRunsForMinutes() throws Exception {
+        assertEquals("monitors.yaml:16: monitors[0].window.width: P999999999999D is longer than the longest duration"
+                + " allowed, 3660 days (P3660D)", error(VALID.replace("width: P28D", "width: P999999999999D")).getMessage());
+        assertEquals("monitors.yaml:16: monitors[0].window.width: P1000000D is longer than the longest duration"
+                + " allowed, 3660 days (P3660D)",
+                error(VALID.replace("width: P28D, step: P7D", "width: P1000000D, step: P1D")).getMessage());
+        // the boundaries: 3660 days and 1000 steps per window are allowed, one more is not
+        assertEquals(Duration.ofDays(3660), parse(VALID.replace("lateness: P2D", "lateness: P3660D"))
+                .monitor("north").window().lateness());
+        assertEquals("monitors[0].window.lateness", error(VALID.replace("lateness: P2D", "lateness: P3661D")).key());
+        assertEquals(1000, parse(VALID.replace("width: P28D, step: P7D", "width: P1000D, step: P1D"))
+                .monitor("north").geometry().bucketsPerWindow());
+        assertEquals("monitors.yaml:16: monitors[0].window.width: width P1001D is 1001 steps of P1D; at most 1000 steps"
+                + " per window are allowed (every window sums that many buckets)",
+                error(VALID.replace("width: P28D, step: P7D", "width: P1001D, step: P1D")).getMessage());
+        assertEquals("monitors.yaml:16: monitors[0].window.step: PT0.0001S is not a whole number of milliseconds",
+                error(VALID.replace("step: P7D", "step: PT0.0001S")).getMessage());
+        assertEquals("monitors.yaml:16: monitors[0].window.align: '+999999999-01-01T00:00:00Z' is outside the years"
+                + " 1 to 9999", error(VALID.replace("lateness: P2D}", "lateness: P2D, align: +999999999-01-01T00:00:00Z}"))
+                .getMessage());
+        assertEquals("monitors.yaml:1: service.refresh: P999999999999D is longer than the longest duration allowed,"
+                + " 3660 days (P3660D)", error("service: {refresh: P999999999999D}\n" + VALID).getMessage());
+    }
+
+    @Test
+    void aSecondYamlDocumentIsAnError() {
+        DefinitionException e = error(VALID + "---\nmonitors: []\n");
+        assertEquals("monitors.yaml:24: a second YAML document starts here; a definition file holds exactly one",
+                e.getMessage());
+    }
+
+    @Test
+    void aFileThatIsNotUtf8NamesTheLineOfTheFirstBadByte(@org.junit.jupiter.api.io.TempDir Path dir) throws Exception {
+        byte[] text = VALID.replace("name: south", "name: s\u00e9d").getBytes(java.nio.charset.StandardCharsets.ISO_8859_1);
+        Path file = dir.resolve("latin1.yaml");
+        java.nio.file.Files.write(file, text);
+        DefinitionException e = assertThrows(DefinitionException.class, () -> DefinitionLoader.load(file, Map.of()));
+        assertEquals(file + ":17: not valid UTF-8 (byte 0xe9 at column 12); save the definition as UTF-8",
+                e.getMessage());
+    }
+
+    /** Type errors in rule settings are located and worded without Java type names. */
+    @Test
+    void ruleSettingTypeErrorsNameTheKeyInTheDefinitionsWords() {
+        String rules = VALID.replace("window: {width: P28D, step: P7D, lateness: P2D}",
+                "window: {width: P28D, step: P7D, lateness: P2D}\n    rules: %s");
+        assertEquals("monitors.yaml:17: monitors[0].rules.oddsRatioDrift.limit: expected a number, found 'abc'",
+                error(rules.formatted("{oddsRatioDrift: {limit: abc}}")).getMessage());
+        assertEquals("monitors.yaml:17: monitors[0].rules.oddsRatioDrift: expected a mapping of settings, found a list",
+                error(rules.formatted("{oddsRatioDrift: [1]}")).getMessage());
+        assertEquals("monitors.yaml:17: monitors[0].rules.oddsRatioDrift.consecutive: expected a whole number within"
+                + " the range of an int, found '1.5'", error(rules.formatted("{oddsRatioDrift: {consecutive: 1.5}}"))
+                .getMessage());
+        assertEquals("monitors.yaml:17: monitors[0].rules.oddsRatioDrift.consecutive: expected a whole number within"
+                + " the range of an int, found '99999999999999999999'",
+                error(rules.formatted("{oddsRatioDrift: {consecutive: 99999999999999999999}}")).getMessage());
+        assertEquals("monitors.yaml:2: monitors[0].name: unsupported YAML value (a tagged or binary value); write it as"
+                + " plain text", error(VALID.replace("name: north", "name: !!binary aGVsbG8=")).getMessage());
+    }
+
+    @Test
+    void futureConfirmIsAtLeastTwoAndTheHoldHoldsThatMany() throws Exception {
         String base = VALID.replace("      time: /collectedAt\n", "      time: /collectedAt\n      futureConfirm: %s\n");
-        assertEquals(5, parse(base.formatted("5")).monitor("north").event().futureConfirm());
-        DefinitionException e = error(base.formatted("0"));
-        assertEquals("monitors.yaml:7: monitors[0].event.futureConfirm: must be at least 1", e.getMessage());
+        assertEquals(7, parse(base.formatted("7")).monitor("north").event().futureConfirm());
+        DefinitionException e = error(base.formatted("1"));
+        assertEquals("monitors.yaml:7: monitors[0].event.futureConfirm: must be at least 2 (one event alone never"
+                + " confirms a new frontier)", e.getMessage());
+        e = error(base.formatted("4\n      futureHold: 3"));
+        assertEquals("monitors.yaml:8: monitors[0].event.futureHold: must be from futureConfirm (4) to 10000",
+                e.getMessage());
+        e = error(base.formatted("4\n      futureSpan: -PT1H"));
+        assertEquals("monitors.yaml:8: monitors[0].event.futureSpan: must not be negative", e.getMessage());
     }
 
     @Test
@@ -181,8 +252,45 @@ class DefinitionLoaderTest {
         MonitorConfig bound = parse(VALID.replace("  - name: south",
                 "    rules:\n      oddsRatioDrift: {limit: 3.5, terms: [household_contact]}\n  - name: south"));
         assertEquals(3.5, bound.monitor("north").rules().oddsRatioDrift().limit());
-        assertNull(bound.monitor("north").rules().cusum(), "sections left out are off");
         assertTrue(parse(VALID).monitor("north").rules().cusum() != null, "no rules key: the defaults");
+    }
+
+    /**
+     * Listing one rule section does not switch the others off: every rule with defaults runs unless
+     * its section says {@code enabled: false}, and a definition that relied on the old meaning (an
+     * unlisted rule was off) gets a notice per rule now running.
+     */
+    @Test
+    void rulesRunUnlessSwitchedOffAndUnlistedOnesAreNoticed() throws Exception {
+        MonitorConfig listed = parse(VALID.replace("  - name: south",
+                "    rules:\n      oddsRatioDrift: {limit: 3.5}\n  - name: south"));
+        MonitorDefinition north = listed.monitor("north");
+        assertEquals(8.0, north.rules().cusum().limit(), "cusum is not listed: it runs with its defaults");
+        assertEquals(0.8, north.rules().calibration().observedExpected().min());
+        assertNull(north.rules().oddsRatioBounds(), "bounds have no defaults");
+        assertEquals(2, north.notices().size(), north.notices().toString());
+        assertTrue(north.notices().get(0).startsWith("monitors[0].rules.calibration is not listed, so it runs"),
+                north.notices().get(0));
+        assertTrue(north.notices().get(1).contains("'cusum: {enabled: false}'"), north.notices().get(1));
+        assertEquals(List.of(), parse(VALID).monitor("north").notices(), "no rules key: nothing changed meaning");
+
+        MonitorConfig off = parse(VALID.replace("  - name: south", "    rules:\n      oddsRatioDrift: {enabled: true}\n"
+                + "      calibration: {enabled: false, slopeZ: 2}\n      cusum: {enabled: false}\n  - name: south"));
+        AlertRulesConfig rules = off.monitor("north").rules();
+        assertEquals(3.0, rules.oddsRatioDrift().limit());
+        assertNull(rules.calibration());
+        assertNull(rules.cusum());
+        assertEquals(List.of(), off.monitor("north").notices());
+        assertEquals(List.of("odds-ratio-drift: on (needs a baseline)",
+                "odds-ratio-bounds: off [not-configured]: it runs only on bounds the definition gives (oddsRatioBounds.terms)",
+                "calibration: off [switched-off]: switched off in the definition (rules.calibration.enabled: false)",
+                "bernoulli-cusum: off [switched-off]: switched off in the definition (rules.cusum.enabled: false)"),
+                rules.switches().stream().map(AlertRulesConfig.RuleSwitch::describe).toList());
+
+        DefinitionException notBoolean = error(VALID.replace("  - name: south",
+                "    rules:\n      cusum: {enabled: maybe}\n  - name: south"));
+        assertEquals(18, notBoolean.line());
+        assertEquals("monitors[0].rules.cusum.enabled", notBoolean.key());
     }
 
     @Test

@@ -9,9 +9,12 @@ import java.nio.charset.StandardCharsets;
 import java.time.Duration;
 import java.time.Instant;
 import java.util.ArrayList;
+import java.util.Collections;
 import java.util.List;
 import java.util.Map;
 import org.junit.jupiter.api.Test;
+import org.oddswatch.alerts.json.Json;
+import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.estimator.result.WindowStatus;
 import org.oddswatch.ingest.decode.RejectReason;
@@ -21,6 +24,10 @@ import org.oddswatch.ingest.definition.MonitorConfig;
 class MonitorPipelineTest {
 
     /** Daily buckets, two-day windows, six hours of allowed lateness, at most two regions. */
+    /** Every rule switched off (a rule with defaults runs unless its section says enabled: false). */
+    static final String NO_RULES =
+            "    rules: {oddsRatioDrift: {enabled: false}, calibration: {enabled: false}, cusum: {enabled: false}}";
+
     static final String DEFINITION = String.join("\n",
             "monitors:",
             "  - name: resp",
@@ -42,7 +49,7 @@ class MonitorPipelineTest {
             "        undeclared: missing",
             "    window: {width: P2D, step: P1D, lateness: PT6H}",
             "    estimates: {minEventsPerParameter: 1, profileIntervals: false}",
-            "    rules: {}",
+            NO_RULES,
             "");
 
     static final Instant D0 = Instant.parse("2026-02-02T00:00:00Z");
@@ -134,69 +141,118 @@ class MonitorPipelineTest {
     }
 
     @Test
-    void eventsTooFarAheadOfTheWatermarkAreRejected() {
+    void anEventBeyondTheHorizonIsHeldAndAppliedOnceTheWatermarkCatchesUp() {
         assertEquals(Outcome.ACCEPTED, send("a", 1.0, "north").outcome());
-        RecordOutcome future = send("b", 2.01, "north");
-        assertEquals(Outcome.REJECTED, future.outcome());
-        assertEquals(RejectReason.TOO_FAR_IN_FUTURE, future.reason());
+        // More than maxFutureSkew (P1D) after the watermark: held, neither counted nor applied yet.
+        assertTrue(send("b", 2.01, "north").held());
+        assertEquals(at(1.0).toEpochMilli(), pipeline.watermark("resp/north"));
+        assertEquals(1, pipeline.snapshot().streams().get(0).heldFuture());
+        assertEquals(1, pipeline.totals().consumed());
+        // The stream's present comes within a day of it: applied, counted, and it moves the watermark.
         assertEquals(Outcome.ACCEPTED, send("c", 2.0, "north").outcome());
-        assertEquals(Instant.parse("2026-02-04T00:00:00Z").toEpochMilli(), pipeline.watermark("resp/north"));
+        assertEquals(at(2.01).toEpochMilli(), pipeline.watermark("resp/north"));
+        assertEquals(0, pipeline.snapshot().streams().get(0).heldFuture());
+        assertEquals(3, pipeline.totals().outcome(Outcome.ACCEPTED));
+        assertEquals(3, pipeline.snapshot().streams().get(0).counts().outcome(Outcome.ACCEPTED));
+        assertTrue(out.rejects.isEmpty());
     }
 
+    /**
+     * A weekday-only feed: 20 events a weekday from 08:00 to 17:00, nothing on weekends, and a
+     * three-week holiday. Every Monday (and the first day after the holiday) starts more than
+     * maxFutureSkew after Friday's last event, so those events are held until five of them span an
+     * hour, then applied: not one event is lost.
+     */
     @Test
-    void aStreamResumesAfterAGapLongerThanTheSkewOnceTheNewFrontierIsConfirmed() {
-        for (int i = 0; i < 5; i++) {
-            assertEquals(Outcome.ACCEPTED, send("a" + i, 0.1 + i * 0.2, "north").outcome());
+    void aWeekdayOnlyFeedWithWeekendsAndAHolidayLosesNothing() {
+        int sent = 0;
+        for (int week = 0; week < 10; week++) {
+            if (week >= 4 && week < 7) {
+                continue; // the holiday: three quiet weeks
+            }
+            for (int day = 0; day < 5; day++) {
+                for (int i = 0; i < 20; i++) {
+                    double days = week * 7 + day + (8 + i * 0.45) / 24.0; // D0 is a Monday
+                    RecordOutcome outcome = send("w" + week + "d" + day + "e" + i, days, "north");
+                    assertTrue(outcome.held() || outcome.accepted(), outcome.toString());
+                    sent++;
+                }
+            }
         }
-        // Three quiet days (beyond maxFutureSkew P1D): the first event after the gap starts a run...
-        assertEquals(RejectReason.TOO_FAR_IN_FUTURE, send("b0", 4.0, "north").reason());
-        // ...which an event within the horizon resets.
-        assertEquals(Outcome.ACCEPTED, send("a5", 0.95, "north").outcome());
-        // A consistent new frontier: events within one day of each other; the third (futureConfirm,
-        // default 3) is accepted and moves the watermark, the earlier two stay rejected.
-        assertEquals(RejectReason.TOO_FAR_IN_FUTURE, send("b1", 4.1, "north").reason());
-        RecordOutcome second = send("b2", 4.3, "north");
-        assertEquals(RejectReason.TOO_FAR_IN_FUTURE, second.reason());
-        assertTrue(second.detail().contains("event 2 of the 3"), second.detail());
-        assertEquals(at(0.95).toEpochMilli(), pipeline.watermark("resp/north"));
-        assertEquals(Outcome.ACCEPTED, send("b3", 4.2, "north").outcome());
-        assertEquals(at(4.2).toEpochMilli(), pipeline.watermark("resp/north"));
-        for (int i = 4; i < 10; i++) {
-            assertEquals(Outcome.ACCEPTED, send("b" + i, 4.0 + i * 0.1, "north").outcome(), "b" + i);
-        }
-        // The other stream is judged against its own watermark only.
-        assertEquals(Outcome.ACCEPTED, send("s0", 0.5, "south").outcome());
-
+        pipeline.closeAll();
         var counts = pipeline.snapshot().streams().get(0).counts();
-        assertEquals(5 + 1 + 1 + 6, counts.outcome(Outcome.ACCEPTED));
-        assertEquals(3, counts.outcome(Outcome.REJECTED), "b0 alone, then futureConfirm - 1 = 2");
-        assertEquals(3L, counts.reasons().get(RejectReason.TOO_FAR_IN_FUTURE));
-        assertEquals(counts.consumed(), counts.outcome(Outcome.ACCEPTED) + counts.outcome(Outcome.REJECTED));
-        assertEquals(List.of("b0", "b1", "b2"), out.rejects.stream().map(r -> idOf(r)).toList(),
-                "every rejected event is on the rejects output");
-        assertEquals(pipeline.totals().consumed(), line, "every record counted once");
+        assertEquals(sent, counts.outcome(Outcome.ACCEPTED), "every event of the feed is kept");
+        assertEquals(sent, counts.consumed());
+        assertEquals(sent, pipeline.totals().outcome(Outcome.ACCEPTED));
+        assertTrue(out.rejects.isEmpty(), () -> out.rejects.get(0).detail());
+        long inFinalWindows = 0;
+        for (WindowEstimate e : out.estimates) {
+            inFinalWindows += e.events();
+        }
+        assertEquals(2L * sent, inFinalWindows, "each event is in two windows of width P2D, step P1D");
     }
 
+    /**
+     * Three events dated 2099 a few seconds apart, then a thousand real events over three days:
+     * the typos never move the watermark, every real event is accepted, and once the stream has
+     * moved on a whole horizon without them the typos are rejected with the reason.
+     */
     @Test
-    void aLoneFarFutureEventIsRejectedAndDoesNotMoveTheWatermark() {
-        assertEquals(Outcome.ACCEPTED, send("a0", 1.0, "north").outcome());
+    void aHandfulOfFarFutureTyposNeverMoveTheWatermark() {
+        for (int i = 0; i < 10; i++) {
+            assertEquals(Outcome.ACCEPTED, send("a" + i, 0.1 + i * 0.05, "north").outcome());
+        }
         long before = pipeline.watermark("resp/north");
-        // A typo in the year; and two more far-future events that are not within a day of each other.
-        String typo = HouseEvents.json("t0", Instant.parse("2062-02-03T10:00:00Z"), "north", true, false, "40-64",
-                "female", false);
-        assertEquals(RejectReason.TOO_FAR_IN_FUTURE, send(typo).reason());
+        for (int t = 0; t < 3; t++) {
+            String typo = HouseEvents.json("typo" + t, Instant.parse("2099-02-03T10:00:00Z").plusSeconds(3L * t),
+                    "north", true, false, "40-64", "female", false);
+            assertTrue(send(typo).held());
+        }
         assertEquals(before, pipeline.watermark("resp/north"));
-        assertEquals(RejectReason.TOO_FAR_IN_FUTURE, send("t1", 300, "north").reason());
-        assertEquals(RejectReason.TOO_FAR_IN_FUTURE, send("t2", 310, "north").reason());
-        assertEquals(before, pipeline.watermark("resp/north"), "three runs of one, none confirmed");
-        assertEquals(Outcome.ACCEPTED, send("a1", 1.2, "north").outcome());
-        assertEquals(RejectReason.TOO_FAR_IN_FUTURE, send(typo.replace("t0", "t3")).reason());
-        assertEquals(Outcome.ACCEPTED, send("a2", 1.3, "north").outcome());
-        assertEquals(at(1.3).toEpochMilli(), pipeline.watermark("resp/north"));
+        int lateOrRejected = 0;
+        for (int i = 0; i < 1000; i++) {
+            RecordOutcome outcome = send("r" + i, 0.6 + i * 0.003, "north");
+            if (!outcome.accepted()) {
+                lateOrRejected++;
+            }
+        }
+        assertEquals(0, lateOrRejected, "all 1,000 real events are accepted");
+        assertEquals(at(0.6 + 999 * 0.003).toEpochMilli(), pipeline.watermark("resp/north"));
         var counts = pipeline.snapshot().streams().get(0).counts();
-        assertEquals(3, counts.outcome(Outcome.ACCEPTED));
-        assertEquals(4L, counts.reasons().get(RejectReason.TOO_FAR_IN_FUTURE));
-        assertEquals(counts.consumed(), counts.outcome(Outcome.ACCEPTED) + counts.outcome(Outcome.REJECTED));
+        assertEquals(1010, counts.outcome(Outcome.ACCEPTED));
+        assertEquals(3L, counts.reasons().get(RejectReason.TOO_FAR_IN_FUTURE));
+        assertEquals(List.of("typo0", "typo1", "typo2"), out.rejects.stream().map(r -> idOf(r)).toList());
+        assertTrue(out.rejects.get(0).detail().contains("without confirming it"), out.rejects.get(0).detail());
+        assertEquals(line, pipeline.totals().consumed(), "every record counted once");
+        assertEquals(0, pipeline.snapshot().streams().get(0).heldFuture());
+    }
+
+    @Test
+    void heldEventsThatNothingConfirmedAreRejectedAtTheEndOfTheInput() {
+        assertEquals(Outcome.ACCEPTED, send("a0", 1.0, "north").outcome());
+        assertTrue(send("t0", 300, "north").held());
+        assertTrue(send("t1", 300.0001, "north").held());
+        pipeline.closeAll();
+        assertEquals(2L, pipeline.totals().reasons().get(RejectReason.TOO_FAR_IN_FUTURE));
+        assertEquals(List.of("t0", "t1"), out.rejects.stream().map(r -> idOf(r)).toList());
+        assertTrue(out.rejects.get(1).detail().contains("by the end of the input"), out.rejects.get(1).detail());
+        assertEquals(at(1.0).toEpochMilli(), pipeline.watermark("resp/north"));
+    }
+
+    @Test
+    void aFullHoldDropsItsOldestEvent() {
+        MonitorPipeline small = pipeline(DEFINITION.replace("      maxFutureSkew: P1D",
+                "      maxFutureSkew: P1D\n      futureConfirm: 3\n      futureHold: 3"), out);
+        small.offer(HouseEvents.json("a0", at(1.0), "north", true, false, "40-64", "f", true)
+                .getBytes(StandardCharsets.UTF_8), RecordOrigin.line(1), false);
+        for (int t = 0; t < 4; t++) {
+            // Days apart from each other: no chain, so nothing is confirmed.
+            assertTrue(small.offer(HouseEvents.json("t" + t, at(100 + 10 * t), "north", true, false, "40-64", "f",
+                    true).getBytes(StandardCharsets.UTF_8), RecordOrigin.line(2 + t), false).held());
+        }
+        assertEquals(List.of("t0"), out.rejects.stream().map(r -> idOf(r)).toList());
+        assertTrue(out.rejects.get(0).detail().contains("the hold of 3 events is full"), out.rejects.get(0).detail());
+        assertEquals(3, small.snapshot().streams().get(0).heldFuture());
     }
 
     private static String idOf(RejectedRecord r) {
@@ -346,6 +402,59 @@ class MonitorPipelineTest {
         assertEquals(expected, actual);
     }
 
+    /**
+     * A restart in the middle of an open CUSUM episode, as the service does it: the alerts published so
+     * far are read back (here in reverse order, as from an alerts topic whose partitions hold different
+     * episodes) and restored, the records from the fixed baseline's start to the stop are re-read as
+     * state only, then the rest goes on live. The alerts equal those of an uninterrupted run byte for
+     * byte.
+     */
+    @Test
+    void restartDuringACusumEpisodeGivesTheUninterruptedAlerts() throws Exception {
+        String withCusum = DEFINITION.replace("    rules: {}",
+                "    baseline: {from: 2026-02-02T00:00:00Z, to: 2026-02-05T00:00:00Z}\n"
+                        + "    rules: {cusum: {}, guard: {minEvents: 100}}");
+        // 14 days at 2,000 events a day; the household-contact log odds ratio rises by 0.8 after the
+        // baseline period, so the upper chart signals within the first few hundred events and keeps on
+        List<String> records = new ArrayList<>();
+        for (HouseEvents.HouseEvent e : HouseEvents.events(33, 28_000, D0, 14 * 86_400_000L, 0, at(3), 0.8, "north")) {
+            records.add(e.json());
+        }
+        CollectingListener uninterrupted = new CollectingListener();
+        MonitorPipeline reference = pipeline(withCusum, uninterrupted);
+        for (int i = 0; i < records.size(); i++) {
+            reference.offer(records.get(i).getBytes(StandardCharsets.UTF_8), RecordOrigin.kafka("t", 0, i), false);
+        }
+        reference.closeAll();
+        List<String> expected = uninterrupted.alerts.stream().map(Json::write).toList();
+        assertTrue(uninterrupted.alerts.stream().filter(a -> a.rule().equals("bernoulli-cusum-up")).count() >= 8,
+                "an episode long enough to stop in: " + expected.size());
+        for (int stop : new int[] {9_000, 17_000}) {
+            CollectingListener first = new CollectingListener();
+            MonitorPipeline before = pipeline(withCusum, first);
+            for (int i = 0; i < stop; i++) {
+                before.offer(records.get(i).getBytes(StandardCharsets.UTF_8), RecordOrigin.kafka("t", 0, i), false);
+            }
+            List<Alert> readBack = new ArrayList<>();
+            for (Alert a : first.alerts) {
+                readBack.add(Json.mapper().readValue(Json.write(a),
+                        Alert.class));
+            }
+            Collections.reverse(readBack);
+            CollectingListener second = new CollectingListener();
+            MonitorPipeline after = pipeline(withCusum, second);
+            after.restoreAlerts(readBack);
+            for (int i = 0; i < records.size(); i++) {
+                after.offer(records.get(i).getBytes(StandardCharsets.UTF_8), RecordOrigin.kafka("t", 0, i), i < stop);
+            }
+            after.closeAll();
+            List<String> combined = new ArrayList<>();
+            first.alerts.forEach(a -> combined.add(Json.write(a)));
+            second.alerts.forEach(a -> combined.add(Json.write(a)));
+            assertEquals(expected, combined, "stopped after record " + stop);
+        }
+    }
+
     @Test
     void severalMonitorsOnOneInputCountEachRecordOnce() {
         String second = String.join("\n",
@@ -355,7 +464,7 @@ class MonitorPipelineTest {
                 "    terms:",
                 "      - {name: sex, field: /sex, kind: categorical, levels: [female, other], reference: female}",
                 "    window: {width: P2D, step: P1D}",
-                "    rules: {}",
+                NO_RULES,
                 "");
         CollectingListener both = new CollectingListener();
         MonitorPipeline two = pipeline(DEFINITION + second, both);
@@ -382,8 +491,8 @@ class MonitorPipelineTest {
     /** Fixed-period baseline: accumulated over [from, to), frozen once no event of it can arrive. */
     @Test
     void fixedPeriodBaselineFreezesWhenThePeriodCanTakeNoMoreEvents() {
-        String withBaseline = DEFINITION.replace("    rules: {}",
-                "    baseline: {from: 2026-02-02T00:00:00Z, to: 2026-02-05T00:00:00Z}\n    rules: {}");
+        String withBaseline = DEFINITION.replace(NO_RULES,
+                "    baseline: {from: 2026-02-02T00:00:00Z, to: 2026-02-05T00:00:00Z}\n" + NO_RULES);
         CollectingListener listener = new CollectingListener();
         MonitorPipeline withPeriod = pipeline(withBaseline, listener);
         List<String> records = HouseEvents.generate(21, 2000, D0, 6 * 86_400_000L, 0, "north");

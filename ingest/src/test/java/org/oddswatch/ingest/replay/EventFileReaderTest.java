@@ -78,6 +78,52 @@ class EventFileReaderTest {
         assertArrayEquals("e3,negative,no".getBytes(StandardCharsets.UTF_8), recorder.originals.get(2));
     }
 
+    /**
+     * One unclosed quote on line 101 of 3,001 (header + 3,000 rows): that line is the only reject,
+     * with its own line number, and the 2,999 other rows are read with theirs.
+     */
+    @Test
+    void anUnclosedQuoteCostsItsOwnRowOnly() throws Exception {
+        StringBuilder csv = new StringBuilder("id,result,note\n");
+        for (int line = 2; line <= 3001; line++) {
+            csv.append('e').append(line).append(",positive,")
+                    .append(line == 101 ? "\"opened, never closed" : line % 7 == 0 ? "\"a, b\"" : "plain").append('\n');
+        }
+        Recorder recorder = new Recorder();
+        EventFileReader.read(file("big.csv", csv.toString().getBytes(StandardCharsets.UTF_8)), InputFormat.CSV,
+                recorder);
+        assertEquals(3000, recorder.seen.size());
+        assertEquals(RejectReason.MALFORMED_CSV + " 101", recorder.seen.get(99));
+        assertArrayEquals("e101,positive,\"opened, never closed".getBytes(StandardCharsets.UTF_8),
+                recorder.originals.get(99));
+        for (int i = 0; i < 3000; i++) {
+            int line = i + 2;
+            if (line != 101) {
+                assertEquals("row " + line + " {\"id\":\"e" + line + "\",\"result\":\"positive\",\"note\":\""
+                        + (line % 7 == 0 ? "a, b" : "plain") + "\"}", recorder.seen.get(i));
+            }
+        }
+    }
+
+    /**
+     * Two broken rows whose quotes pair up across a good row into a frame that does not fit the
+     * header: each broken row costs itself only. (A frame that does fit the header is one row with
+     * a line break in a value: CSV cannot tell the two apart.)
+     */
+    @Test
+    void brokenQuotesThatPairUpAcrossRowsCostThemselvesOnly() throws Exception {
+        String csv = "id,result\n"
+                + "e2,\"positive\n"
+                + "e3,negative\n"
+                + "e4,negative\",x\n"
+                + "e5,\"two\nlines\"\n";
+        Recorder recorder = new Recorder();
+        EventFileReader.read(file("pair.csv", csv.getBytes(StandardCharsets.UTF_8)), InputFormat.CSV, recorder);
+        assertEquals(List.of(RejectReason.MALFORMED_CSV + " 2", "row 3 {\"id\":\"e3\",\"result\":\"negative\"}",
+                RejectReason.MALFORMED_CSV + " 4", "row 5 {\"id\":\"e5\",\"result\":\"two\\nlines\"}"),
+                recorder.seen);
+    }
+
     @Test
     void invalidUtf8InACsvRowIsMalformed() throws Exception {
         ByteArrayOutputStream bytes = new ByteArrayOutputStream();

@@ -18,6 +18,7 @@ import java.util.List;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 import org.oddswatch.alerts.json.Json;
+import org.oddswatch.alerts.report.ReplayReport;
 import org.oddswatch.estimator.EstimatorOptions;
 import org.oddswatch.estimator.WindowEstimator;
 import org.oddswatch.estimator.calibration.BaselineModel;
@@ -30,6 +31,7 @@ import org.oddswatch.estimator.terms.UndeclaredLevelPolicy;
 import org.oddswatch.estimator.window.WindowGeometry;
 import org.oddswatch.estimator.window.WindowStore;
 import org.oddswatch.ingest.decode.RejectReason;
+import org.oddswatch.ingest.pipeline.GapScenario;
 import org.oddswatch.ingest.pipeline.HouseEvents;
 import org.oddswatch.ingest.pipeline.HouseEvents.HouseEvent;
 import org.oddswatch.ingest.pipeline.Outcome;
@@ -271,6 +273,53 @@ class ReplayRunnerTest {
     }
 
     /**
+     * Bad Unicode costs only its record: a reject whose detail quotes an unpaired surrogate (an
+     * JSON escape of U+D800 alone as a level) is written (the surrogate as U+FFFD) and the replay goes on; bytes
+     * that are not well-formed UTF-8 are malformed-json: an encoded surrogate (ED A0 80), a code
+     * point above U+10FFFF (F4 90 80 80) and the overlong form of "/" (C0 AF), which a lenient
+     * decoder reads as "/". Source: Unicode Standard 15.0, section 3.9, table 3-7.
+     */
+    @Test
+    void badUnicodeIsRejectedAndEveryRejectIsWritten() throws Exception {
+        List<HouseEvent> events = tenWeeks().subList(0, 400);
+        java.io.ByteArrayOutputStream file = new java.io.ByteArrayOutputStream();
+        byte[][] bad = {{(byte) 0xED, (byte) 0xA0, (byte) 0x80}, {(byte) 0xF4, (byte) 0x90, (byte) 0x80, (byte) 0x80},
+                {(byte) 0xC0, (byte) 0xAF}};
+        for (int i = 0; i < events.size(); i++) {
+            String line = events.get(i).json();
+            if (i == 100) {
+                line = line.replaceFirst("\"sex\":\"[a-z]+\"", "\"sex\":\"\\\\ud800\"");
+            }
+            if (i >= 200 && i < 203) {
+                int at = line.indexOf("\"id\":\"") + 6;
+                file.writeBytes(line.substring(0, at).getBytes(StandardCharsets.UTF_8));
+                file.writeBytes(bad[i - 200]);
+                file.writeBytes(line.substring(at).getBytes(StandardCharsets.UTF_8));
+            } else {
+                file.writeBytes(line.getBytes(StandardCharsets.UTF_8));
+            }
+            file.write('\n');
+        }
+        Path input = dir.resolve("unicode.jsonl");
+        Files.write(input, file.toByteArray());
+        ReplaySummary summary = replay(input, "out");
+        assertEquals(400, summary.records().consumed());
+        assertEquals(3, summary.records().reasons().get(RejectReason.MALFORMED_JSON));
+        assertEquals(1, summary.records().reasons().get(RejectReason.UNKNOWN_LEVEL));
+        List<String> rejects = lines("out", ReplayRunner.REJECTS);
+        assertEquals(4, rejects.size());
+        JsonNode level = Json.mapper().readTree(rejects.get(0));
+        assertEquals(101, level.get("line").asInt());
+        assertTrue(level.get("detail").asText().contains("\uFFFD"), level.get("detail").asText());
+        for (int r = 1; r < 4; r++) {
+            JsonNode reject = Json.mapper().readTree(rejects.get(r));
+            assertEquals(200 + r, reject.get("line").asInt());
+            assertEquals("malformed-json", reject.get("reason").asText());
+            assertTrue(reject.get("detail").asText().startsWith("not valid UTF-8"), reject.get("detail").asText());
+        }
+    }
+
+    /**
      * Twenty weeks, two regions, events up to two days out of order (some late); from week 9 the
      * household-contact log-odds ratio rises by 1.6, so the default rules raise alerts.
      */
@@ -334,5 +383,72 @@ class ReplayRunnerTest {
             assertTrue(lines("again", ReplayRunner.ALERTS).contains(alert), "reproduced by " + command);
             assertEquals(inRange("full", ReplayRunner.ALERTS, from, to), lines("again", ReplayRunner.ALERTS));
         }
+    }
+
+    /**
+     * A CSV without the column of one term: the replay's summary, summary.json and report.md all
+     * name the failed baseline (with the estimator's reason), the rules it stops, the rule switched
+     * off, the windows no rule judged and the missing term; a healthy replay's report says nothing
+     * was left unmonitored.
+     */
+    @Test
+    void whatWasNotMonitoredShowsInTheSummaryAndTheReport() throws Exception {
+        Path definition = dir.resolve("gaps.yaml");
+        Files.writeString(definition, GapScenario.definition("clinic-tests"));
+        Path events = jsonl("gaps.csv", GapScenario.csvLines());
+        ReplaySummary summary = ReplayRunner.run(ReplayRequest.of(definition, events, dir.resolve("gaps")));
+        assertEquals(GapScenario.EXPECTED, GapScenario.keys(summary.gaps()));
+        ReplaySummary.Stream stream = summary.streams().get(0);
+        assertEquals("failed", stream.baseline());
+        assertTrue(stream.baselineNote().startsWith("cannot fit a baseline model on 2026-01-05T00:00:00Z"),
+                stream.baselineNote());
+
+        JsonNode json = Json.mapper().readTree(dir.resolve("gaps").resolve(ReplayRunner.SUMMARY).toFile());
+        JsonNode written = json.path("streams").get(0);
+        assertEquals(stream.baselineNote(), written.path("baselineNote").asText());
+        assertEquals(GapScenario.EXPECTED.size(), written.path("gaps").size());
+        assertEquals("baseline-failed", written.path("gaps").get(0).path("reason").asText());
+        assertEquals(stream.baselineNote(), written.path("gaps").get(0).path("detail").asText());
+        assertEquals("switched-off", written.path("gaps").get(3).path("reason").asText());
+        assertEquals("smoker", written.path("gaps").get(6).path("subject").asText());
+        assertEquals("term-missing", written.path("gaps").get(6).path("reason").asText());
+
+        String report = Files.readString(dir.resolve("gaps").resolve("report.md"));
+        String section = report.substring(report.indexOf("## Not monitored"), report.indexOf("## Stream clinic"));
+        for (var gap : summary.gaps()) {
+            assertTrue(section.contains("- " + gap.describe() + "\n"), gap.describe() + " in\n" + section);
+        }
+        assertTrue(section.contains("clinic: no baseline in use [baseline-failed]: cannot fit a baseline model"), section);
+        assertTrue(section.contains("clinic: rule bernoulli-cusum not running [switched-off]: switched off in the "
+                + "definition (rules.cusum.enabled: false)"), section);
+        assertTrue(section.contains("clinic: term smoker missing from every event [term-missing]: none of the 1200 "
+                + "accepted event(s) has a value for it"), section);
+
+        // the house definition: no bounds are given, the first windows hold the baseline period, and
+        // the last window (closed at the end of the file) holds a few days of events only
+        ReplaySummary healthy = ReplayRunner.run(ReplayRequest.of(definition(), jsonl("healthy.jsonl",
+                lines(tenWeeks())), dir.resolve("ok")));
+        for (String region : List.of("north", "south")) {
+            String s = "respiratory/" + region + ": ";
+            assertEquals(List.of(s + "rule odds-ratio-bounds not running [not-configured]: it runs only on bounds the "
+                    + "definition gives (oddsRatioBounds.terms)",
+                    s + "1 final window(s) not judged by odds-ratio-drift [too-few-events]: fit state too-few-events "
+                    + "(newest: the window ending 2026-04-06T00:00:00Z)",
+                    s + "1 final window(s) not judged by calibration [too-few-events]: fit state too-few-events "
+                    + "(newest: the window ending 2026-04-06T00:00:00Z)",
+                    s + "7 final window(s) not judged by any rule [baseline-period]: the window overlaps the baseline "
+                    + "period 2026-01-05T00:00:00Z to 2026-02-02T00:00:00Z, whose events are the baseline itself"),
+                    healthy.gaps().stream().filter(g -> g.stream().endsWith(region)).map(g -> g.describe()).toList());
+        }
+        String nothing = ReplayReport.render(List.of(), List.of(), List.of(), "t");
+        assertTrue(nothing.contains("## Not monitored\n\nNothing: every stream had its baseline"), nothing);
+    }
+
+    private static List<String> lines(List<HouseEvent> events) {
+        List<String> lines = new ArrayList<>();
+        for (HouseEvent event : events) {
+            lines.add(event.json());
+        }
+        return lines;
     }
 }

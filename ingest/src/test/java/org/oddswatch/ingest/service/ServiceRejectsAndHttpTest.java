@@ -103,17 +103,23 @@ class ServiceRejectsAndHttpTest {
         bad.put("bad-id", event("b6", last, "negative", "north", "18-39", "40").replace("\"b6\"", "{\"x\":1}"));
         bad.put("bad-outcome", event("b7", last, "maybe", "north", "18-39", "40"));
         bad.put("bad-time", event("b8", last, "negative", "north", "18-39", "40").replace(last.toString(), "yesterday"));
-        bad.put("too-far-in-future", event("b9", last.plus(Duration.ofDays(5)), "negative", "north", "18-39", "40"));
         bad.put("unknown-level", event("b10", last, "negative", "north", "90+", "40"));
-        bad.put("bad-value", event("b11", last, "negative", "north", "18-39", "\"old\""));
+        bad.put("bad-value", event("b11", last, "negative", "north", "18-39", "[40]"));
         bad.put("too-many-streams", event("b12", last, "negative", "east", "18-39", "40"));
         bad.put("late", event("b13", Instant.parse("2026-01-06T00:00:00Z"), "negative", "north", "18-39", "40"));
+        // Held beyond the horizon, and rejected once the stream has moved on a whole day without it
+        // (by the last record below), so its reject comes after the others.
+        bad.put("too-far-in-future", event("b9", last.plus(Duration.ofDays(5)), "negative", "north", "18-39", "40"));
         String duplicate = valid.get(valid.size() - 1).text();
+        Instant northWatermark = valid.stream().filter(e -> e.region().equals("north")).map(TestFeed.Event::time)
+                .max(Instant::compareTo).orElseThrow();
+        String movesOn = event("v1", northWatermark.plus(Duration.ofDays(1)), "negative", "north", "18-39", "40");
 
         List<byte[]> values = new ArrayList<>();
         valid.forEach(e -> values.add(e.json()));
         bad.values().forEach(v -> values.add(v.getBytes(StandardCharsets.UTF_8)));
         values.add(duplicate.getBytes(StandardCharsets.UTF_8));
+        values.add(movesOn.getBytes(StandardCharsets.UTF_8));
         KAFKA.produce(prefix + "-tests", null, values);
 
         MonitorConfig config = TestDefinitions.config(definition(prefix));
@@ -143,7 +149,7 @@ class ServiceRejectsAndHttpTest {
         assertEquals(values.size(), counts.consumed());
         assertEquals(counts.consumed(), counts.outcome(Outcome.ACCEPTED) + counts.outcome(Outcome.REJECTED)
                 + counts.outcome(Outcome.LATE) + counts.outcome(Outcome.DUPLICATE), "consumed = sum of outcomes");
-        assertEquals(valid.size(), counts.outcome(Outcome.ACCEPTED));
+        assertEquals(valid.size() + 1, counts.outcome(Outcome.ACCEPTED));
         assertEquals(bad.size() - 1, counts.outcome(Outcome.REJECTED));
         assertEquals(1, counts.outcome(Outcome.LATE));
         assertEquals(1, counts.outcome(Outcome.DUPLICATE));
@@ -191,13 +197,13 @@ class ServiceRejectsAndHttpTest {
             assertEquals(200, metrics.statusCode());
             assertTrue(metrics.headers().firstValue("Content-Type").orElse("").startsWith("text/plain"));
             assertPrometheusText(metrics.body());
-            assertTrue(metrics.body().contains("oddswatch_service_records_total{instance=\"http\",phase=\"live\"} 500.0"),
+            assertTrue(metrics.body().contains("oddswatch_service_records_total{phase=\"live\",service_instance=\"http\"} 500.0"),
                     "live record counter");
             assertTrue(metrics.body().contains("kafka_consumer_fetch_manager_records_consumed_total"),
                     "Kafka client metrics are bound");
             for (String step : List.of("poll", "read", "wait", "apply")) {
                 java.util.regex.Matcher count = java.util.regex.Pattern.compile(
-                        "oddswatch_service_loop_seconds_count\\{instance=\"http\",step=\"" + step + "\"} ([0-9.E]+)")
+                        "oddswatch_service_loop_seconds_count\\{service_instance=\"http\",step=\"" + step + "\"} ([0-9.E]+)")
                         .matcher(metrics.body());
                 assertTrue(count.find(), "loop timer of step " + step);
                 assertTrue(Double.parseDouble(count.group(1)) >= 1, "at least one batch timed in step " + step);

@@ -91,6 +91,8 @@ final class TestDefinitions {
                     rules:
                       guard: {minEvents: 200}
                       oddsRatioDrift: {limit: 3.0, clearLimit: 2.0, consecutive: 1, clearAfter: 2, terms: [household_contact]}
+                      calibration: {enabled: false}
+                      cusum: {enabled: false}
                     outputs:
                       estimatesTopic: %s-estimates
                       rejectsTopic: %s-rejects

@@ -1,8 +1,6 @@
 package org.oddswatch.alerts.report.html;
 
-import com.fasterxml.jackson.databind.JsonNode;
 import java.util.Locale;
-import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.lifecycle.AlertSubject;
 import org.oddswatch.estimator.result.CalibrationEstimate;
@@ -10,7 +8,7 @@ import org.oddswatch.estimator.result.WindowEstimate;
 
 /**
  * What an alert measured and on which chart of its stream its marker goes. An alert that carries a
- * {@code measure} field is taken at its word; otherwise the measure follows from the rule: the odds
+ * {@code measure} is taken at its word (a measure naming the slope goes on the slope chart); otherwise the measure follows from the rule: the odds
  * ratio for the drift and bounds rules, the CUSUM statistic for CUSUM rules, and for the calibration
  * rule whichever of observed/expected, slope and Hosmer–Lemeshow p-value equals the alert's observed
  * value in its window's calibration (the rule reports the first figure beyond its band).
@@ -46,14 +44,14 @@ record AlertPlacement(String measure, String chart) {
         return "cusum:" + rule + "|" + subject;
     }
 
-    /** The alert's own {@code measure} field when it has one (read from its JSON, so optional). */
+    /** The alert's own {@code measure} when it has one. */
     private static String declaredMeasure(Alert alert) {
-        JsonNode node = Json.mapper().valueToTree(alert).get("measure");
-        if (node == null || node.isNull()) {
-            return null;
-        }
-        String text = node.isTextual() ? node.textValue() : node.path("name").asText(node.toString());
-        return text.isBlank() ? null : text;
+        return alert.measure() == null || alert.measure().isBlank() ? null : alert.measure();
+    }
+
+    /** True for a measure that is a Hosmer–Lemeshow p-value (drawn at the window's O/E, its limit not drawn). */
+    static boolean isPValue(String measure) {
+        return measure.toLowerCase(Locale.ROOT).contains("hosmer");
     }
 
     private static String calibrationMeasure(Alert alert, WindowEstimate window) {

@@ -26,8 +26,9 @@ import org.oddswatch.estimator.result.WindowEstimate;
  * window, and the notes of windows whose fit was not {@code converged}. An alerts table links each
  * alert to its chart; a stream filter sits at the top; the investigation caution is on the page.
  *
- * <p>Small cells: counts from 1 to {@code withholdBelow - 1}, and every figure resting on them, are
- * left out of the data (see {@link SmallCells}); they are never charted. Deterministic: the same
+ * <p>Small cells: what the project's {@link org.oddswatch.alerts.privacy.SmallCellPolicy} withholds
+ * from a window (small counts and every figure resting on them) is left out of the page's data; it is
+ * never charted. Deterministic: the same
  * inputs give a byte-identical file.
  */
 public final class HtmlReport {
@@ -67,7 +68,7 @@ public final class HtmlReport {
     public static String render(List<WindowEstimate> estimates, List<Alert> alerts, String title,
                                 ReportOptions options) {
         String shownTitle = title == null || title.isBlank() ? "oddswatch replay" : title;
-        int withholdBelow = options.withholdBelow();
+        int withholdBelow = options.cells().limit();
         String data = ScriptSafeJson.write(ReportData.build(estimates, alerts, shownTitle, options));
         Map<String, String> parts = Map.of(
                 "title", Html.escape(shownTitle),

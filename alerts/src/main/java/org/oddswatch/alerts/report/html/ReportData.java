@@ -15,6 +15,7 @@ import java.util.TreeSet;
 import org.oddswatch.alerts.engine.AlertRulesConfig;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.lifecycle.AlertText;
+import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.estimator.result.WindowStatus;
 
@@ -34,7 +35,7 @@ final class ReportData {
     }
 
     static ObjectNode build(List<WindowEstimate> estimates, List<Alert> alerts, String title, ReportOptions options) {
-        SmallCells cells = new SmallCells(options.withholdBelow());
+        SmallCellPolicy cells = options.cells();
         List<RejectMark> rejects = options.rejects();
         Map<String, List<WindowEstimate>> byStream = new TreeMap<>();
         estimates.stream().filter(e -> e.status() == WindowStatus.FINAL)
@@ -97,6 +98,7 @@ final class ReportData {
             row.put("state", a.state().toString());
             row.put("measure", place.measure());
             row.put("chart", place.chart());
+            putNumber(row, "value", a.value() != null ? a.value() : a.observed());
             putNumber(row, "observed", a.observed());
             putNumber(row, "baseline", a.baseline());
             putNumber(row, "limit", a.limit());
@@ -128,7 +130,7 @@ final class ReportData {
     private static void recordReferenceLines(Alert a, AlertPlacement place, Map<String, TreeSet<Double>> limits,
                                              Map<String, Double> baselines) {
         boolean drift = "odds-ratio-drift".equals(a.rule());
-        boolean pValue = place.measure().contains("Hosmer");
+        boolean pValue = AlertPlacement.isPValue(place.measure());
         if (a.limit() != null && !drift && !pValue && !place.chart().startsWith("cusum:")) {
             limits.computeIfAbsent(place.chart(), k -> new TreeSet<>()).add(Compact.round(a.limit()));
         }
@@ -145,7 +147,7 @@ final class ReportData {
 
     /** Where the marker sits: the alert's observed value, or the window's O/E for a p-value alert. */
     private static Double markerValue(Alert a, AlertPlacement place, WindowEstimate window) {
-        if (place.measure().contains("Hosmer")) {
+        if (AlertPlacement.isPValue(place.measure())) {
             return window == null || window.calibration() == null ? 1.0 : window.calibration().observedExpected();
         }
         return a.observed();

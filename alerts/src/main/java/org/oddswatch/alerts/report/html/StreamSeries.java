@@ -7,6 +7,7 @@ import java.util.ArrayList;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
+import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.estimator.fit.FitState;
 import org.oddswatch.estimator.result.CalibrationEstimate;
 import org.oddswatch.estimator.result.CoefficientEstimate;
@@ -36,7 +37,7 @@ final class StreamSeries {
     }
 
     /** The arrays of {@code windows} (final windows of one stream, sorted by window end). */
-    static ObjectNode of(List<WindowEstimate> windows, SmallCells cells) {
+    static ObjectNode of(List<WindowEstimate> windows, SmallCellPolicy cells) {
         ObjectNode s = NODES.objectNode();
         ArrayNode end = s.putArray("end");
         ArrayNode start = s.putArray("start");
@@ -47,18 +48,18 @@ final class StreamSeries {
         ArrayNode pLo = prevalence.putArray("lo");
         ArrayNode pHi = prevalence.putArray("hi");
         ArrayNode notes = s.putArray("notes");
-        List<SmallCells.Withheld> withheld = new ArrayList<>(windows.size());
+        List<SmallCellPolicy.Withheld> withheld = new ArrayList<>(windows.size());
         int withheldWindows = 0;
         String method = null;
         for (WindowEstimate e : windows) {
-            SmallCells.Withheld w = cells.assess(e);
+            SmallCellPolicy.Withheld w = cells.assess(e);
             withheld.add(w);
-            withheldWindows += w.cases() ? 1 : 0;
+            withheldWindows += w.cases() != null ? 1 : 0;
             end.add(e.windowEnd().toEpochMilli());
             start.add(e.windowStart().toEpochMilli());
-            addCount(events, w.events() ? null : e.events());
-            addCount(positives, w.cases() ? null : e.cases());
-            PrevalenceEstimate pe = w.cases() ? null : e.prevalence();
+            addCount(events, w.events() != null ? null : e.events());
+            addCount(positives, w.cases() != null ? null : e.cases());
+            PrevalenceEstimate pe = w.cases() != null ? null : e.prevalence();
             Compact.add(p, pe == null ? null : pe.value());
             Compact.add(pLo, pe == null ? null : pe.lower());
             Compact.add(pHi, pe == null ? null : pe.upper());
@@ -87,7 +88,7 @@ final class StreamSeries {
     }
 
     /** A note for a window whose fit is not {@code converged}: state, method and the estimate's notes. */
-    private static void note(ArrayNode notes, WindowEstimate e, SmallCells.Withheld w) {
+    private static void note(ArrayNode notes, WindowEstimate e, SmallCellPolicy.Withheld w) {
         if (e.fit() != null && e.fit().state() == FitState.CONVERGED) {
             return;
         }
@@ -97,21 +98,21 @@ final class StreamSeries {
         if (e.fit() != null && e.fit().method() != null) {
             n.put("method", e.fit().method().toString());
         }
-        if (w.cases()) {
-            n.put("text", "Notes withheld: they rest on a small count.");
+        if (w.cases() != null) {
+            n.put("text", "Notes withheld: " + w.cases() + ".");
         } else if (!e.notes().isEmpty()) {
             n.put("text", String.join(" ", e.notes()));
         }
     }
 
-    private static ArrayNode strata(List<WindowEstimate> windows, List<SmallCells.Withheld> withheld) {
+    private static ArrayNode strata(List<WindowEstimate> windows, List<SmallCellPolicy.Withheld> withheld) {
         Map<String, double[][]> byLevel = new LinkedHashMap<>();
         for (int i = 0; i < windows.size(); i++) {
             List<StratumPrevalence> strata = windows.get(i).strata();
             for (int j = 0; j < strata.size(); j++) {
                 StratumPrevalence s = strata.get(j);
                 double[][] series = byLevel.computeIfAbsent(s.term() + "=" + s.level(), k -> empty(3, windows.size()));
-                if (!withheld.get(i).strata().get(j)) {
+                if (!withheld.get(i).stratum(j)) {
                     series[0][i] = value(s.value());
                     series[1][i] = value(s.lower());
                     series[2][i] = value(s.upper());
@@ -127,7 +128,7 @@ final class StreamSeries {
         return out;
     }
 
-    private static ArrayNode terms(List<WindowEstimate> windows, List<SmallCells.Withheld> withheld) {
+    private static ArrayNode terms(List<WindowEstimate> windows, List<SmallCellPolicy.Withheld> withheld) {
         Map<String, double[][]> byLabel = new LinkedHashMap<>();
         Map<String, CoefficientEstimate> first = new LinkedHashMap<>();
         for (int i = 0; i < windows.size(); i++) {
@@ -135,7 +136,7 @@ final class StreamSeries {
                 String label = c.level() == null ? c.term() : c.term() + "=" + c.level();
                 first.putIfAbsent(label, c);
                 double[][] series = byLabel.computeIfAbsent(label, k -> empty(5, windows.size()));
-                if (!withheld.get(i).cases()) {
+                if (withheld.get(i).cases() == null) {
                     series[0][i] = value(c.oddsRatio());
                     series[1][i] = value(c.lower());
                     series[2][i] = value(c.upper());
@@ -173,14 +174,14 @@ final class StreamSeries {
         return watched.isEmpty() ? ratios : watched;
     }
 
-    private static ObjectNode calibration(List<WindowEstimate> windows, List<SmallCells.Withheld> withheld) {
+    private static ObjectNode calibration(List<WindowEstimate> windows, List<SmallCellPolicy.Withheld> withheld) {
         double[][] oe = empty(3, windows.size());
         double[][] slope = empty(3, windows.size());
         boolean any = false;
         for (int i = 0; i < windows.size(); i++) {
             CalibrationEstimate c = windows.get(i).calibration();
             any |= c != null;
-            if (c == null || withheld.get(i).calibration()) {
+            if (c == null || withheld.get(i).calibration() != null) {
                 continue;
             }
             oe[0][i] = value(c.observedExpected());

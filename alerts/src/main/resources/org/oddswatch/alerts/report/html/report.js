@@ -154,7 +154,8 @@
               var ds = item.dataset;
               if (ds.role.indexOf('marker') === 0) {
                 var a = data.alerts[ds.data[item.dataIndex].row];
-                return a.state + ' · ' + a.rule + ' · ' + a.measure + ' ' + num(a.observed);
+                return a.state + ' · ' + a.rule + ' · ' + a.measure + ' ' + num(a.value)
+                  + (a.observed !== undefined && a.observed !== a.value ? ' (observed ' + num(a.observed) + ')' : '');
               }
               return ds.label + ': ' + (ds.percent ? pct(item.parsed.y) : num(item.parsed.y));
             } } }
@@ -344,7 +345,7 @@
       st.appendChild(el('span', 'state state-' + a.state, a.state));
       tr.appendChild(st);
       tr.appendChild(el('td', null, a.measure));
-      tr.appendChild(el('td', 'num', num(a.observed)));
+      tr.appendChild(el('td', 'num', num(a.value)));
       tr.appendChild(el('td', 'num', num(a.limit)));
       tr.appendChild(el('td', 'when', when(Date.parse(a.start)) + ' to ' + when(Date.parse(a.end))));
       var cmd = el('td', 'cmd');

@@ -19,6 +19,7 @@ import org.oddswatch.alerts.engine.AlertEngine;
 import org.oddswatch.alerts.engine.AlertRulesConfig;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.estimator.fit.FitMethod;
 import org.oddswatch.estimator.fit.FitState;
 import org.oddswatch.estimator.result.CoefficientEstimate;
@@ -55,7 +56,7 @@ class HtmlReportTest {
         String hostile = "north</script><script>alert(1)</script> & <b> <!-- \u2028\u2029";
         WindowEstimate w = with(Fixtures.windowWithZ(0, 0.5), hostile, 2010, 101, List.of(), List.of(), List.of());
         String html = HtmlReport.render(List.of(w), List.of(), "Spring </title><script>x()</script>",
-                ReportOptions.withholdingBelow(5));
+                ReportOptions.withholding(SmallCellPolicy.DEFAULT));
         assertEquals(3, count(html.toLowerCase(Locale.ROOT), "</script"), "only the page's own three script elements");
         assertTrue(html.contains("<title>Spring &lt;/title&gt;&lt;script&gt;x()&lt;/script&gt;</title>"), html.substring(0, 600));
         assertFalse(html.contains("<b>"));
@@ -79,7 +80,7 @@ class HtmlReportTest {
                         60, 3, List.of(), List.of(), List.of("one level has no positives")),
                 with(Fixtures.windowWithZ(2, 0.1), "s", 4, 0, List.of(), List.of(), List.of()),
                 with(Fixtures.windowWithZ(3, 0.1), "s", 40, 37, List.of(), List.of(), List.of()));
-        JsonNode s = island(HtmlReport.render(windows, List.of(), "t", ReportOptions.withholdingBelow(5))).get("streams").get(0);
+        JsonNode s = island(HtmlReport.render(windows, List.of(), "t", ReportOptions.withholding(SmallCellPolicy.DEFAULT))).get("streams").get(0);
         // window 1: 3 positives; window 2: 4 events; window 3: 3 negatives
         assertEquals("[2010,60,null,40]", s.get("events").toString());
         assertEquals("[101,null,null,null]", s.get("positives").toString());
@@ -123,17 +124,17 @@ class HtmlReportTest {
                 null, null), new AlertRulesConfig.OddsRatioBounds(List.of(new AlertRulesConfig.TermBounds(
                 "household_contact", null, 6.0, 1.0)), null, null, null),
                 new AlertRulesConfig.Calibration(new AlertRulesConfig.Band(0.75, null), null, null, null, null, null, null),
-                new AlertRulesConfig.Cusum(null, null, 9.0, null, null, null));
+                new AlertRulesConfig.Cusum(null, null, 9.0, null, null, null, null));
         List<WindowEstimate> windows = List.of(Fixtures.window(0, 0.7, 0.15, Fixtures.fit(FitState.CONVERGED,
                 FitMethod.NEWTON, 2000), Fixtures.calibration(1.0, 0.9, 1.1, 1.0, 0.1, 0.5)));
         JsonNode lines = island(HtmlReport.render(windows, List.of(), "t",
-                ReportOptions.withholdingBelow(5).withRules(stream -> rules))).get("streams").get(0).get("lines");
+                ReportOptions.withholding(SmallCellPolicy.DEFAULT).withRules(stream -> rules))).get("streams").get(0).get("lines");
         assertEquals("[0.75,1.25]", lines.get("oe").get("limits").toString(), "the set minimum, the default maximum");
         assertEquals("[0.7,1.3]", lines.get("slope").get("limits").toString());
         assertEquals("[1.0,6.0]", lines.get("or:household_contact=yes").get("limits").toString());
         assertTrue(lines.get("or:household_contact=yes").get("note").asText().contains("|z| ≥ 3.50"));
         assertEquals("CUSUM charts (limit h = 9.00): no signal in this replay.", lines.get("cusumNote").asText());
-        JsonNode none = island(HtmlReport.render(windows, List.of(), "t", ReportOptions.withholdingBelow(5)))
+        JsonNode none = island(HtmlReport.render(windows, List.of(), "t", ReportOptions.withholding(SmallCellPolicy.DEFAULT)))
                 .get("streams").get(0).get("lines");
         assertEquals(0, none.size(), "no settings, no lines");
     }
@@ -142,8 +143,8 @@ class HtmlReportTest {
     void sameInputGivesTheSamePage() {
         List<WindowEstimate> windows = year("s");
         List<Alert> alerts = alerts(windows);
-        assertEquals(HtmlReport.render(windows, alerts, "t", ReportOptions.withholdingBelow(5)),
-                HtmlReport.render(windows, alerts, "t", ReportOptions.withholdingBelow(5)));
+        assertEquals(HtmlReport.render(windows, alerts, "t", ReportOptions.withholding(SmallCellPolicy.DEFAULT)),
+                HtmlReport.render(windows, alerts, "t", ReportOptions.withholding(SmallCellPolicy.DEFAULT)));
     }
 
     /**
@@ -165,7 +166,7 @@ class HtmlReportTest {
             }
         }
         Path file = HtmlReport.write(dir, windows, alerts, "A year of ten streams",
-                ReportOptions.withholdingBelow(5).withRejects(rejects).withRules(stream -> AlertRulesConfig.defaults()));
+                ReportOptions.withholding(SmallCellPolicy.DEFAULT).withRejects(rejects).withRules(stream -> AlertRulesConfig.defaults()));
         long bytes = Files.size(file);
         String html = Files.readString(file, StandardCharsets.UTF_8);
         assertEquals(10, island(html).get("streams").size());
