@@ -21,13 +21,32 @@ write_data <- function(name, X, trials, positives, beta) {
              file.path(dir, sprintf("calibration-%s-baseline.csv", name)))
 }
 
-# Hosmer-Lemeshow as documented in CalibrationStatistics: individuals sorted by baseline risk; cut
-# points are the type-1 (inverse empirical distribution) quantiles of the individual risks at k/10,
-# k = 1..10; group k holds risks in (cut_{k-1}, cut_k] with duplicate cuts merged, so tied risks stay
-# together and every group is non-empty.
-hosmer_lemeshow <- function(p, y, groups = 10) {
-  cuts <- unique(quantile(p, probs = seq_len(groups) / groups, type = 1, names = FALSE))
-  grp <- cut(p, breaks = c(-Inf, cuts), right = TRUE)
+# Tied risks as documented in RiskLevels: two risks are tied when their linear predictors differ by at
+# most 1e-9 (a tolerance, so that risks equal in exact arithmetic stay tied whatever order a BLAS sums
+# X %*% beta in). The sorted distinct linear predictors are cut into levels from the lowest up: a level
+# starts at its lowest value a and holds every value up to a + 1e-9. Returns each element's level.
+risk_level <- function(eta, tolerance = 1e-9) {
+  s <- sort(unique(eta))
+  level <- integer(length(s))
+  k <- 0L
+  start <- -Inf
+  for (i in seq_along(s)) {
+    if (k == 0L || s[i] > start + tolerance) {
+      k <- k + 1L
+      start <- s[i]
+    }
+    level[i] <- k
+  }
+  level[match(eta, s)]
+}
+
+# Hosmer-Lemeshow as documented in CalibrationStatistics: individuals sorted by risk level; cut
+# points are the type-1 (inverse empirical distribution) quantiles of the individual risk levels at
+# k/10, k = 1..10; group k holds levels in (cut_{k-1}, cut_k] with duplicate cuts merged, so tied
+# risks stay together and every group is non-empty.
+hosmer_lemeshow <- function(level, p, y, groups = 10) {
+  cuts <- unique(quantile(level, probs = seq_len(groups) / groups, type = 1, names = FALSE))
+  grp <- cut(level, breaks = c(-Inf, cuts), right = TRUE)
   o <- tapply(y, grp, sum); e <- tapply(p, grp, sum); n <- tapply(p, grp, length)
   keep <- !is.na(n)
   o <- o[keep]; e <- e[keep]; n <- n[keep]
@@ -48,9 +67,10 @@ statistics <- function(name, X, trials, positives, beta, level) {
   # individual level: each pattern expands to its positives (y = 1) and negatives (y = 0)
   p_ind <- c(rep(p, positives), rep(p, trials - positives))
   y_ind <- c(rep(1, sum(positives)), rep(0, sum(trials - positives)))
-  hl <- hosmer_lemeshow(p_ind, y_ind)
+  level_ind <- risk_level(c(rep(eta, positives), rep(eta, trials - positives)))
+  hl <- hosmer_lemeshow(level_ind, p_ind, y_ind)
   brier <- mean((y_ind - p_ind)^2)
-  r <- rank(p_ind)                                                    # mid-ranks: ties count one half
+  r <- rank(level_ind)                                                # mid-ranks: tied risks count one half
   npos <- sum(y_ind); nneg <- length(y_ind) - npos
   auc <- (sum(r[y_ind == 1]) - npos * (npos + 1) / 2) / (npos * nneg)
   paste(name, f(level), f(sum(trials)), f(O), f(E), f(O / E), f(oe[1]), f(oe[2]),
@@ -59,7 +79,7 @@ statistics <- function(name, X, trials, positives, beta, level) {
 }
 
 expected <- c(sprintf(paste("# Source: %s; stats::glm (binomial, offset; epsilon 1e-14), stats::poisson.test,",
-                            "stats::pchisq, base::rank; Hosmer-Lemeshow coded here (see hosmer_lemeshow)"), R.version.string),
+                            "stats::pchisq, base::rank; Hosmer-Lemeshow and risk ties (1e-9 on the log-odds scale) coded here"), R.version.string),
               "dataset,level,events,observed,expected,oe,oe_lower,oe_upper,intercept,intercept_se,slope,slope_se,hl,hl_groups,hl_p,brier,c")
 
 # 1. Grouped covariate patterns: household contact, recent travel, 5 age bands, sex (3000 people).

@@ -6,7 +6,6 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 import static org.junit.jupiter.api.Assertions.fail;
 
 import com.fasterxml.jackson.databind.JsonNode;
-import java.io.File;
 import java.io.IOException;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
@@ -18,11 +17,11 @@ import java.util.List;
 import java.util.Map;
 import java.util.TreeMap;
 import java.util.logging.Level;
-import org.junit.jupiter.api.Assumptions;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.report.html.HtmlReport;
+import org.oddswatch.estimator.reference.ReferenceTools;
 import org.oddswatch.ingest.replay.ReplayRunner;
 import org.openqa.selenium.By;
 import org.openqa.selenium.JavascriptExecutor;
@@ -277,16 +276,12 @@ class ReplayReportBrowserTest {
         fail("the report did not finish drawing within 30 s");
     }
 
-    /** The tool's path, or a skip (a failure under ODDSWATCH_REQUIRE_REFERENCE_TOOLS=1) when absent. */
+    /** The tool's path; a skip where it is missing, a failure instead under ODDSWATCH_REQUIRE_REFERENCE_TOOLS=1. */
     private static Path tool(String variable, String fallback) {
         String configured = System.getenv(variable);
         Path path = Path.of(configured == null || configured.isBlank() ? fallback : configured);
-        boolean present = Files.isExecutable(path) && !new File(path.toString()).isDirectory();
-        String message = path + " is not installed (Debian: apt-get install chromium chromium-driver)";
-        if ("1".equals(System.getenv("ODDSWATCH_REQUIRE_REFERENCE_TOOLS"))) {
-            assertTrue(present, message);
-        }
-        Assumptions.assumeTrue(present, message);
+        ReferenceTools.require(Files.isExecutable(path) && !Files.isDirectory(path),
+                path + " (Debian: apt-get install chromium chromium-driver)");
         return path;
     }
 }

@@ -7,7 +7,6 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.MappingIterator;
 import com.fasterxml.jackson.dataformat.yaml.YAMLMapper;
-import java.io.File;
 import java.io.IOException;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
@@ -19,6 +18,7 @@ import java.util.concurrent.TimeUnit;
 import java.util.stream.Stream;
 import org.junit.jupiter.api.Assumptions;
 import org.junit.jupiter.api.Test;
+import org.oddswatch.estimator.reference.ReferenceTools;
 import org.oddswatch.ingest.definition.DefinitionException;
 import org.oddswatch.ingest.definition.DefinitionLoader;
 import org.oddswatch.ingest.definition.MonitorConfig;
@@ -97,9 +97,13 @@ class DeployFilesTest {
 
         JsonNode pod = deployment.at("/spec/template");
         JsonNode container = pod.at("/spec/containers/0");
-        for (String probe : List.of("readinessProbe", "livenessProbe", "startupProbe")) {
-            assertEquals("/health", container.at("/" + probe + "/httpGet/path").asText(), probe);
-            assertEquals("http", container.at("/" + probe + "/httpGet/port").asText(), probe);
+        // Liveness asks /status, which answers while the process runs: /health is 503 during a
+        // rebuild and while the broker is away, and restarting the pod would mend neither.
+        Map<String, String> paths = Map.of("readinessProbe", "/health", "livenessProbe", "/status",
+                "startupProbe", "/health");
+        for (Map.Entry<String, String> probe : paths.entrySet()) {
+            assertEquals(probe.getValue(), container.at("/" + probe.getKey() + "/httpGet/path").asText(), probe.getKey());
+            assertEquals("http", container.at("/" + probe.getKey() + "/httpGet/port").asText(), probe.getKey());
         }
         assertEquals(8470, container.at("/ports/0/containerPort").asInt());
         assertEquals("http", container.at("/ports/0/name").asText());
@@ -146,7 +150,7 @@ class DeployFilesTest {
     @Test
     void promtoolAcceptsThePrometheusConfiguration() throws Exception {
         // Source: promtool from Debian's prometheus package, where installed (not in CI)
-        Path promtool = onPath("promtool");
+        Path promtool = ReferenceTools.onPath("promtool");
         Assumptions.assumeTrue(promtool != null, "promtool is not installed");
         Result r = exec(promtool.toString(), "check", "config", DEPLOY.resolve("prometheus/prometheus.yml").toString());
         assertEquals(0, r.status(), r.output());
@@ -155,7 +159,7 @@ class DeployFilesTest {
 
     @Test
     void kustomizeRendersTheManifests() throws Exception {
-        Path kubectl = onPath("kubectl");
+        Path kubectl = ReferenceTools.onPath("kubectl");
         Assumptions.assumeTrue(kubectl != null, "kubectl is not installed");
         Result r = exec(kubectl.toString(), "kustomize", DEPLOY.resolve("k8s").toString());
         assertEquals(0, r.status(), r.output());
@@ -187,15 +191,5 @@ class DeployFilesTest {
         String out = new String(p.getInputStream().readAllBytes(), StandardCharsets.UTF_8);
         assertTrue(p.waitFor(60, TimeUnit.SECONDS), "finished");
         return new Result(p.exitValue(), out);
-    }
-
-    private static Path onPath(String tool) {
-        for (String dir : System.getenv().getOrDefault("PATH", "").split(File.pathSeparator)) {
-            Path candidate = Path.of(dir, tool);
-            if (Files.isExecutable(candidate)) {
-                return candidate;
-            }
-        }
-        return null;
     }
 }

@@ -3,7 +3,6 @@ package org.oddswatch.deploy.scenario;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
-import java.io.File;
 import java.io.IOException;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
@@ -16,9 +15,9 @@ import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
 import java.util.concurrent.TimeUnit;
-import org.junit.jupiter.api.Assumptions;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
+import org.oddswatch.estimator.reference.ReferenceTools;
 
 /**
  * The generator's documented true parameters ({@link TruthModel}, deploy/SCENARIOS.md) against an
@@ -79,8 +78,8 @@ class TruthRecoveryTest {
 
     @Test
     void liveRFitFindsTheDocumentedTruth() throws Exception {
-        Path rscript = onPath("Rscript");
-        Assumptions.assumeTrue(rscript != null, "R is not installed");
+        // Skipped where R is missing; fails instead under ODDSWATCH_REQUIRE_REFERENCE_TOOLS=1 (CI).
+        Path rscript = ReferenceTools.rscript();
         String data = csv();
         Path events = dir.resolve("events.csv");
         Files.writeString(events, data, StandardCharsets.UTF_8);
@@ -109,15 +108,5 @@ class TruthRecoveryTest {
             checked++;
         }
         assertEquals(TruthModel.coefficients().size(), checked, "every true coefficient checked");
-    }
-
-    private static Path onPath(String tool) {
-        for (String d : System.getenv().getOrDefault("PATH", "").split(File.pathSeparator)) {
-            Path candidate = Path.of(d, tool);
-            if (Files.isExecutable(candidate)) {
-                return candidate;
-            }
-        }
-        return null;
     }
 }

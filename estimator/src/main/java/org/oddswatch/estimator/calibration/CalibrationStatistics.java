@@ -31,12 +31,15 @@ import org.oddswatch.estimator.window.WindowData;
  *       distribution, R's quantile type 1). Cut points {@code c_k = Q(k/10)}, k = 1..10; group k holds
  *       the risks in {@code (c_(k-1), c_k]}, duplicate cut points merged. Tied risks therefore always
  *       share a group and every group is non-empty; {@code hosmerLemeshowGroups} reports the g actually
- *       formed. Statistic {@code sum_k (O_k - E_k)² / (E_k (1 - E_k / n_k))}; p-value from chi-square
- *       with g - 2 degrees of freedom, null when g &lt; 3.</li>
+ *       formed. Risks are tied when their linear predictors differ by at most 1e-9 (a tolerance, not
+ *       exact equality: risks equal in exact arithmetic stay tied whatever order {@code x . beta} was
+ *       summed in; see {@link RiskLevels}). Statistic
+ *       {@code sum_k (O_k - E_k)² / (E_k (1 - E_k / n_k))}; p-value from chi-square with g - 2 degrees
+ *       of freedom, null when g &lt; 3.</li>
  *   <li><b>Brier score</b>: {@code sum [y_i (1 - p_i)² + (n_i - y_i) p_i²] / N}.</li>
  *   <li><b>c-statistic</b>: the share of (positive, negative) pairs of individuals whose positive
- *       has the higher baseline risk, ties counting one half; from risk-sorted pattern counts in
- *       O(patterns log patterns).</li>
+ *       has the higher baseline risk, ties (the same tolerance) counting one half; from risk-sorted
+ *       pattern counts in O(patterns log patterns).</li>
  * </ul>
  *
  * <p>Special cases (each a null field, never NaN or infinity, and a note): no complete-case events

@@ -2,7 +2,8 @@ package org.oddswatch.estimator.calibration;
 
 /**
  * The Hosmer–Lemeshow statistic over risk groups of individuals, grouping as documented in
- * {@link CalibrationStatistics}: distinct risk level m (ascending, cumulative count C_m of N) closes
+ * {@link CalibrationStatistics}: risk level m of {@link RiskLevels} (ascending, risks tied within
+ * {@link RiskLevels#TIE_TOLERANCE} on the log-odds scale; cumulative count C_m of N) closes
  * a group exactly when {@code floor(G C_m / N) > floor(G C_(m-1) / N)}, i.e. when some cut point
  * {@code Q(k/G)} equals its risk. Counts are compared in exact integer arithmetic.
  *
@@ -27,7 +28,7 @@ record HosmerLemeshow(Double statistic, Integer groups, Double p) {
             long before = cumulative;
             cumulative += count;
             observed += levels.positives[m];
-            expected += levels.risk[m] * count;
+            expected += levels.expected[m];
             size += count;
             boolean closes = targetGroups * cumulative / total > targetGroups * before / total
                     || m == levels.count() - 1;

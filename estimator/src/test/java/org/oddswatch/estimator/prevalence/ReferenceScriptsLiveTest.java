@@ -2,7 +2,6 @@ package org.oddswatch.estimator.prevalence;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
-import static org.junit.jupiter.api.Assumptions.assumeTrue;
 
 import java.io.File;
 import java.io.IOException;
@@ -14,12 +13,14 @@ import java.util.concurrent.TimeUnit;
 import org.junit.jupiter.api.io.TempDir;
 import org.junit.jupiter.params.ParameterizedTest;
 import org.junit.jupiter.params.provider.ValueSource;
+import org.oddswatch.estimator.reference.ReferenceTools;
 
 /**
  * Re-runs each R script under src/test/reference/ into a temporary folder and checks that it
  * reproduces the committed fixtures (numbers to 1e-9 relative, text exactly, comment lines
- * skipped). Skips when {@code Rscript} is not installed, as on CI; the committed fixtures keep the
- * other tests independent of R.
+ * skipped). Skips when {@code Rscript} is not installed (fails instead under
+ * {@code ODDSWATCH_REQUIRE_REFERENCE_TOOLS=1}, as in CI); the committed fixtures keep the other tests
+ * independent of R.
  */
 class ReferenceScriptsLiveTest {
 
@@ -32,8 +33,8 @@ class ReferenceScriptsLiveTest {
     @ParameterizedTest
     @ValueSource(strings = {"binomial_intervals.R", "tables_and_adjustment.R", "calibration.R"})
     void scriptReproducesTheCommittedFixtures(String script) throws Exception {
-        assumeTrue(rscriptAvailable(), "Rscript not installed");
-        Process process = new ProcessBuilder("Rscript", SCRIPTS.resolve(script).toString(), out.toString())
+        Path rscript = ReferenceTools.rscript();
+        Process process = new ProcessBuilder(rscript.toString(), SCRIPTS.resolve(script).toString(), out.toString())
                 .redirectErrorStream(true).redirectOutput(out.resolve("r.log").toFile()).start();
         assertTrue(process.waitFor(120, TimeUnit.SECONDS), script + " timed out");
         assertEquals(0, process.exitValue(), script + ": " + Files.readString(out.resolve("r.log")));
@@ -74,16 +75,6 @@ class ReferenceScriptsLiveTest {
             Double.parseDouble(s);
             return true;
         } catch (NumberFormatException e) {
-            return false;
-        }
-    }
-
-    private static boolean rscriptAvailable() {
-        try {
-            Process p = new ProcessBuilder("Rscript", "--version").redirectErrorStream(true)
-                    .redirectOutput(ProcessBuilder.Redirect.DISCARD).start();
-            return p.waitFor(30, TimeUnit.SECONDS) && p.exitValue() == 0;
-        } catch (IOException | InterruptedException e) {
             return false;
         }
     }

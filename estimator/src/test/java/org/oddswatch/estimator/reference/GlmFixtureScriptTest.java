@@ -8,34 +8,22 @@ import java.io.IOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.List;
-import java.util.concurrent.TimeUnit;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
 /**
  * Re-runs src/test/reference/glm_fixtures.R when Rscript (with brglm2 and MASS) is installed and
- * checks that it reproduces the committed fixtures (numbers to 1e-9 relative); skipped otherwise (CI
- * has no R).
+ * checks that it reproduces the committed fixtures (numbers to 1e-9 relative); skipped otherwise, or
+ * failed under {@code ODDSWATCH_REQUIRE_REFERENCE_TOOLS=1} (see {@link ReferenceTools}).
  */
 class GlmFixtureScriptTest {
 
-    private static boolean rscriptAvailable() {
-        try {
-            Process p = new ProcessBuilder("Rscript", "-e", "library(brglm2); library(MASS)")
-                    .redirectErrorStream(true).start();
-            p.getInputStream().readAllBytes();
-            return p.waitFor(60, TimeUnit.SECONDS) && p.exitValue() == 0;
-        } catch (IOException | InterruptedException e) {
-            return false;
-        }
-    }
-
     @Test
     void theScriptReproducesTheCommittedFixtures(@TempDir Path out) throws Exception {
-        assumeTrue(rscriptAvailable(), "Rscript with brglm2 and MASS not installed");
+        Path rscript = ReferenceTools.rscript("brglm2", "MASS");
         Path script = Path.of("src/test/reference/glm_fixtures.R");
         assumeTrue(Files.exists(script), "run from the estimator module directory");
-        Process p = new ProcessBuilder("Rscript", script.toString(), out.toString()).redirectErrorStream(true)
+        Process p = new ProcessBuilder(rscript.toString(), script.toString(), out.toString()).redirectErrorStream(true)
                 .redirectOutput(new File(out.toFile(), "log.txt")).start();
         assertEquals(0, p.waitFor(), () -> "Rscript failed: " + read(out.resolve("log.txt")));
         Path committed = Path.of("src/test/resources/reference/glm");
