@@ -86,6 +86,7 @@ class RunCommandIT {
                 out.toString());
         assertEquals(0, replay.awaitExit(Duration.ofSeconds(90)), replay.output());
         List<String> replayed = Files.readAllLines(out.resolve("estimates.jsonl"), StandardCharsets.UTF_8);
+        assertTrue(Files.readString(out.resolve("report.html")).contains("Chart.js v"), "the packaged jar inlines Chart.js");
         // the replay also closes the windows still open at the end of the topic; all the others are identical
         for (String estimate : published) {
             assertTrue(replayed.contains(estimate), "replay lacks the published estimate " + estimate);
