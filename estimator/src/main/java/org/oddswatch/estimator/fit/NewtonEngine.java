@@ -55,6 +55,31 @@ final class NewtonEngine {
     private NewtonEngine() {
     }
 
+    /**
+     * The step length {@code t <= 1} at which a step d moves no linear predictor by more than
+     * {@link #MAX_PENALIZED_ETA_STEP}. With a grouping, the bound {@code max_g |m_g . d| + sum_c |d_c| max|z_c|}
+     * answers most steps without a pass over the rows.
+     */
+    static double cappedStepLength(FitProblem problem, IndicatorGroups groups, double[] d) {
+        if (groups != null) {
+            double bound = 0;
+            for (int[] members : groups.members) {
+                double s = 0;
+                for (int j : members) {
+                    s += d[j];
+                }
+                bound = Math.max(bound, Math.abs(s));
+            }
+            for (int c = 0; c < groups.q; c++) {
+                bound += Math.abs(d[groups.numericColumns[c]]) * groups.maxAbsZ[c];
+            }
+            if (bound <= MAX_PENALIZED_ETA_STEP) {
+                return 1;
+            }
+        }
+        return Math.min(1, MAX_PENALIZED_ETA_STEP / maxAbsChange(problem, groups, d));
+    }
+
     /** {@code max_i |x_i . d|} over the rows with trials: how far a step d moves the linear predictors. */
     static double maxAbsChange(FitProblem problem, IndicatorGroups groups, double[] d) {
         double[] trials = problem.trials();
@@ -141,7 +166,7 @@ final class NewtonEngine {
                 break;
             }
             BinomialPass accepted = null;
-            double t = penalized ? Math.min(1, MAX_PENALIZED_ETA_STEP / maxAbsChange(problem, groups, delta)) : 1;
+            double t = penalized ? cappedStepLength(problem, groups, delta) : 1;
             for (int h = 0; h <= MAX_HALVINGS; h++, t *= 0.5) {
                 BinomialPass trial = evaluate(problem, groups, move(current.beta, delta, t), penalized, false);
                 double fall = current.objective - trial.objective;
