@@ -87,23 +87,20 @@ public final class SeparationCheck {
 
     /** Decides separation of a full-rank problem (offsets are ignored). */
     public static Outcome check(FitProblem problem) {
+        return check(problem, IndicatorGroups.of(problem));
+    }
+
+    /**
+     * As above, with the problem's indicator grouping (or null): the passes over the points then read each
+     * row's group number and numeric values instead of its whole design row.
+     */
+    static Outcome check(FitProblem problem, IndicatorGroups groups) {
         int p = problem.columns();
         int n = problem.rows();
         double[] x = problem.x();
         double[] t = problem.trials();
         double[] y = problem.positives();
-        double[] c = new double[p];
-        for (int i = 0; i < n; i++) {
-            int sign = pointSigns(t[i], y[i]);
-            if (sign == 0 || sign == 3) {
-                // No point, or both (the two cancel in the objective).
-                continue;
-            }
-            double s = sign == 1 ? 1 : -1;
-            for (int j = 0; j < p; j++) {
-                c[j] += s * x[i * p + j];
-            }
-        }
+        double[] c = objective(problem, groups);
         double cMax = 0;
         for (double v : c) {
             cMax = Math.max(cMax, Math.abs(v));
@@ -129,19 +126,14 @@ public final class SeparationCheck {
                 return new Outcome(Verdict.NONE, new int[0], b, round, active.size());
             }
             MostViolated worst = new MostViolated(BATCH);
+            RowMargins rows = new RowMargins(problem, groups, b);
             for (int i = 0; i < n; i++) {
                 int sign = pointSigns(t[i], y[i]);
                 if (sign == 0) {
                     continue;
                 }
-                int base = i * p;
-                double eta = 0;
-                double norm = 0;
-                for (int j = 0; j < p; j++) {
-                    double v = x[base + j];
-                    eta += v * b[j];
-                    norm += Math.abs(v);
-                }
+                double eta = rows.eta(i);
+                double norm = rows.norm(i);
                 if ((sign & 1) != 0 && eta < -VIOLATION * norm && !inProgramme.get(2 * i)) {
                     worst.offer(eta / norm, 2 * i);
                 }
@@ -168,6 +160,121 @@ public final class SeparationCheck {
             }
         }
         return new Outcome(Verdict.UNDECIDED, new int[0], null, MAX_ROUNDS, active.size());
+    }
+
+    /** {@code c = sum_i a_i} over the points (a row with both outcomes adds nothing: its two points cancel). */
+    private static double[] objective(FitProblem problem, IndicatorGroups groups) {
+        int p = problem.columns();
+        double[] t = problem.trials();
+        double[] y = problem.positives();
+        double[] c = new double[p];
+        if (groups != null) {
+            int q = groups.q;
+            double[] bySign = new double[groups.groupCount];
+            double[] zBySign = new double[groups.groupCount * q];
+            for (int i = 0; i < problem.rows(); i++) {
+                int sign = pointSigns(t[i], y[i]);
+                if (sign == 1 || sign == 2) {
+                    double s = sign == 1 ? 1 : -1;
+                    int g = groups.group[i];
+                    bySign[g] += s;
+                    for (int a = 0; a < q; a++) {
+                        zBySign[g * q + a] += s * groups.z[i * q + a];
+                    }
+                }
+            }
+            for (int g = 0; g < groups.groupCount; g++) {
+                for (int j : groups.members[g]) {
+                    c[j] += bySign[g];
+                }
+                for (int a = 0; a < q; a++) {
+                    c[groups.numericColumns[a]] += zBySign[g * q + a];
+                }
+            }
+            return c;
+        }
+        double[] x = problem.x();
+        for (int i = 0; i < problem.rows(); i++) {
+            int sign = pointSigns(t[i], y[i]);
+            if (sign == 1 || sign == 2) {
+                double s = sign == 1 ? 1 : -1;
+                for (int j = 0; j < p; j++) {
+                    c[j] += s * x[i * p + j];
+                }
+            }
+        }
+        return c;
+    }
+
+    /**
+     * {@code x_i . b} and {@code |x_i|_1} of each row: from the design row, or with a grouping as the
+     * group's part (the sum of b over its 0/1 columns, and their count) plus the row's numeric values.
+     */
+    private static final class RowMargins {
+        private final FitProblem problem;
+        private final IndicatorGroups groups;
+        private final double[] b;
+        private final double[] groupEta;
+        private final double[] groupNorm;
+        private final double[] bz;
+
+        RowMargins(FitProblem problem, IndicatorGroups groups, double[] b) {
+            this.problem = problem;
+            this.groups = groups;
+            this.b = b;
+            if (groups == null) {
+                groupEta = null;
+                groupNorm = null;
+                bz = null;
+                return;
+            }
+            groupEta = new double[groups.groupCount];
+            groupNorm = new double[groups.groupCount];
+            for (int g = 0; g < groups.groupCount; g++) {
+                for (int j : groups.members[g]) {
+                    groupEta[g] += b[j];
+                }
+                groupNorm[g] = groups.members[g].length;
+            }
+            bz = new double[groups.q];
+            for (int a = 0; a < groups.q; a++) {
+                bz[a] = b[groups.numericColumns[a]];
+            }
+        }
+
+        double eta(int i) {
+            if (groups == null) {
+                int p = problem.columns();
+                double eta = 0;
+                for (int j = 0; j < p; j++) {
+                    eta += problem.x()[i * p + j] * b[j];
+                }
+                return eta;
+            }
+            int q = groups.q;
+            double eta = groupEta[groups.group[i]];
+            for (int a = 0; a < q; a++) {
+                eta += groups.z[i * q + a] * bz[a];
+            }
+            return eta;
+        }
+
+        double norm(int i) {
+            if (groups == null) {
+                int p = problem.columns();
+                double norm = 0;
+                for (int j = 0; j < p; j++) {
+                    norm += Math.abs(problem.x()[i * p + j]);
+                }
+                return norm;
+            }
+            int q = groups.q;
+            double norm = groupNorm[groups.group[i]];
+            for (int a = 0; a < q; a++) {
+                norm += Math.abs(groups.z[i * q + a]);
+            }
+            return norm;
+        }
     }
 
     /** Bit 1: the row has a positive point; bit 2: a negative point. */
