@@ -139,6 +139,13 @@ public final class JarProcess implements AutoCloseable {
         return process.exitValue();
     }
 
+    /** Kills the process with SIGKILL (no shutdown hook runs, nothing is flushed or committed) and waits for it. */
+    public void kill() throws InterruptedException {
+        process.toHandle().destroyForcibly();
+        process.waitFor(30, TimeUnit.SECONDS);
+        reader.join(5000);
+    }
+
     public String output() {
         synchronized (lines) {
             return String.join("\n", lines);

@@ -154,12 +154,30 @@ public final class AlertEngine {
                 }
             }
         }
+        cusumReport(estimate, out);
+        return out;
+    }
+
+    /**
+     * A final window that the caller counts as overlapping the fixed baseline period itself (so no
+     * window rule judges it and it is not counted here again): only the CUSUM's report on the events
+     * before the window's end, which keeps its once-per-final-window rhythm.
+     */
+    public List<Alert> onBaselinePeriodWindow(WindowEstimate estimate) {
+        if (estimate.status() != WindowStatus.FINAL || !stream.equals(estimate.stream())) {
+            return List.of();
+        }
+        List<Alert> out = new ArrayList<>();
+        cusumReport(estimate, out);
+        return out;
+    }
+
+    private void cusumReport(WindowEstimate estimate, List<Alert> out) {
         if (cusum != null) {
             for (Reading reading : cusum.report(estimate.windowEnd())) {
                 publishable(reading, out);
             }
         }
-        return out;
     }
 
     /** The code of a guard's refusal, else {@link GapReason#NO_ESTIMATE} (a figure the rule reads is missing). */

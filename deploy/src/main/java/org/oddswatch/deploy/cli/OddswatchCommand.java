@@ -69,6 +69,10 @@ public final class OddswatchCommand implements Runnable {
                 .isPresent()) {
             // a real cluster: connection problems of the Kafka clients matter
             System.setProperty("org.slf4j.simpleLogger.log.org.apache.kafka", "warn");
+            // except the network client's warning per failed connection attempt (several a second
+            // while a broker is away): the service says once that no broker answers, and /health
+            // and /status show it until one does
+            System.setProperty("org.slf4j.simpleLogger.log.org.apache.kafka.clients.NetworkClient", "error");
         }
     }
 

@@ -23,10 +23,11 @@ import picocli.CommandLine.Model.CommandSpec;
 @Command(name = "replay", mixinStandardHelpOptions = true,
         description = {
             "Run past events through the monitor pipeline, time driven by the events, and write a report folder.",
-            "Writes estimates.jsonl (final windows), rejects.jsonl, alerts.jsonl, summary.json and report.md into "
-            + "--out. The same definition and events give byte-identical files. Every alert message carries the "
-            + "replay command that reproduces it. Prints what was not monitored (a failed or weak baseline, a rule "
-            + "that did not run, windows a rule did not judge, a term missing from every event) with the reason."})
+            "Writes estimates.jsonl (final windows), rejects.jsonl, alerts.jsonl, summary.json, report.md and "
+            + "report.html (charts; open it in a browser) into --out. The same definition and events give "
+            + "byte-identical files. Every alert message carries the replay command that reproduces it. Prints what "
+            + "was not monitored (a failed or weak baseline, a rule that did not run, windows a rule did not judge, a "
+            + "term missing from every event) with the reason."})
 final class ReplayCommand implements Callable<Integer> {
 
     @Option(names = "--config", required = true, paramLabel = "FILE", description = "Monitor definition (YAML).")
@@ -85,6 +86,7 @@ final class ReplayCommand implements Callable<Integer> {
                 w.println("  " + gap.describe());
             }
         }
+        w.println("charts: open " + out.resolve("report.html") + " in a browser");
         if (summary.alerts() > 0) {
             w.println("alerts call for investigation; they are not a diagnosis or proof of cause (see "
                     + out.resolve("report.md") + ")");

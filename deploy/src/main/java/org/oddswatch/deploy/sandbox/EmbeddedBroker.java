@@ -1,6 +1,11 @@
 package org.oddswatch.deploy.sandbox;
 
+import java.io.IOException;
+import java.lang.reflect.Field;
+import java.nio.channels.ServerSocketChannel;
 import java.util.ArrayList;
+import java.util.Set;
+import java.util.TreeSet;
 import java.util.List;
 import java.util.Map;
 import java.util.Properties;
@@ -10,7 +15,9 @@ import org.apache.kafka.clients.admin.Admin;
 import org.apache.kafka.clients.admin.AdminClientConfig;
 import org.apache.kafka.clients.admin.NewTopic;
 import org.apache.kafka.common.errors.TopicExistsException;
+import org.apache.kafka.common.network.ListenerName;
 import org.apache.kafka.common.test.KafkaClusterTestKit;
+import org.apache.kafka.common.test.PreboundSocketFactoryManager;
 import org.apache.kafka.common.test.TestKitNodes;
 
 /**
@@ -18,11 +25,19 @@ import org.apache.kafka.common.test.TestKitNodes;
  * controller and broker, from Kafka's own test kit ({@link KafkaClusterTestKit}), internal topics
  * with replication factor 1, data in a temporary directory deleted on close.
  *
- * <p>The client listener is bound to 127.0.0.1 (port 0 picks a free one). The test kit binds the
- * controller's quorum port itself on the wildcard address; no setting changes that, so the sandbox
- * is meant for a workstation, not for a shared host.
+ * <p>Both ports, the client listener and the controller's quorum listener, are bound to 127.0.0.1
+ * only. The test kit reserves a port up front, on the wildcard address, for each of its two
+ * listener names ({@code EXTERNAL} for clients, {@code CONTROLLER}) and hands that socket to the
+ * node whatever {@code listeners} says; it opens a socket of its own, on the listener's configured
+ * host, for a listener it reserved nothing for, and for one whose reserved socket has been closed
+ * (then on the reserved port: its way of restarting a node on the same port). So the client
+ * listener is named {@code LOOPBACK} (bound as configured: 127.0.0.1 and the requested port), and
+ * before start-up the reserved sockets are closed ({@link #bindToLoopback}): the controller binds
+ * 127.0.0.1 on its reserved port, and nothing listens on the wildcard address.
  */
 public final class EmbeddedBroker implements AutoCloseable {
+
+    private static final String CLIENT_LISTENER = "LOOPBACK";
 
     private final KafkaClusterTestKit cluster;
 
@@ -42,7 +57,11 @@ public final class EmbeddedBroker implements AutoCloseable {
                 .setNumControllerNodes(1)
                 .build();
         KafkaClusterTestKit cluster = new KafkaClusterTestKit.Builder(nodes)
-                .setConfigProp("listeners", "EXTERNAL://127.0.0.1:" + port + ",CONTROLLER://127.0.0.1:0")
+                // The client listener has a name of its own, so the kit reserves no socket for it and
+                // the node binds exactly 127.0.0.1:port (see the class comment).
+                .setConfigProp("listeners", CLIENT_LISTENER + "://127.0.0.1:" + port + ",CONTROLLER://127.0.0.1:0")
+                .setConfigProp("listener.security.protocol.map", CLIENT_LISTENER + ":PLAINTEXT,CONTROLLER:PLAINTEXT")
+                .setConfigProp("inter.broker.listener.name", CLIENT_LISTENER)
                 .setConfigProp("offsets.topic.replication.factor", "1")
                 .setConfigProp("offsets.topic.num.partitions", "1")
                 .setConfigProp("transaction.state.log.replication.factor", "1")
@@ -55,6 +74,7 @@ public final class EmbeddedBroker implements AutoCloseable {
         java.io.PrintStream stdout = System.out;
         System.setOut(new java.io.PrintStream(java.io.OutputStream.nullOutputStream()));
         try {
+            bindToLoopback(cluster);
             cluster.format();
             cluster.startup();
             cluster.waitForReadyBrokers();
@@ -67,10 +87,37 @@ public final class EmbeddedBroker implements AutoCloseable {
         return new EmbeddedBroker(cluster);
     }
 
+    /**
+     * Closes the sockets the test kit reserved on the wildcard address for every listener of every
+     * node, so that start-up binds each listener on its configured host (127.0.0.1) and the same
+     * port instead. The kit keeps them in a private field; no public setting reaches them.
+     */
+    static void bindToLoopback(KafkaClusterTestKit cluster) throws ReflectiveOperationException, IOException {
+        Field field = KafkaClusterTestKit.class.getDeclaredField("socketFactoryManager");
+        field.setAccessible(true);
+        PreboundSocketFactoryManager sockets = (PreboundSocketFactoryManager) field.get(cluster);
+        TestKitNodes nodes = cluster.nodes();
+        Set<Integer> ids = new TreeSet<>(nodes.brokerNodes().keySet());
+        ids.addAll(nodes.controllerNodes().keySet());
+        for (int id : ids) {
+            for (String listener : List.of(nodes.brokerListenerName().value(), nodes.controllerListenerName().value())) {
+                ServerSocketChannel reserved = sockets.getSocketForListenerAndMarkAsUsed(id, listener);
+                if (reserved != null) {
+                    reserved.close();
+                }
+            }
+        }
+    }
+
     /** The {@code bootstrap.servers} value for any Kafka client on this machine. */
     public String bootstrapServers() {
-        // the kit names the bound port as localhost:<port>; the listener itself is on 127.0.0.1
-        return cluster.bootstrapServers().replace("localhost:", "127.0.0.1:");
+        return "127.0.0.1:" + cluster.brokers().values().iterator().next()
+                .boundPort(ListenerName.normalised(CLIENT_LISTENER));
+    }
+
+    /** The test kit's cluster (for tests that look at the nodes). */
+    KafkaClusterTestKit cluster() {
+        return cluster;
     }
 
     /** Client settings with only {@code bootstrap.servers}. */

@@ -11,8 +11,6 @@ import java.time.Duration;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.Map;
-import java.util.regex.Matcher;
-import java.util.regex.Pattern;
 import org.apache.kafka.clients.consumer.ConsumerRecord;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.extension.RegisterExtension;
@@ -32,17 +30,15 @@ class RunCommandIT {
     @RegisterExtension
     static final EmbeddedKafka KAFKA = new EmbeddedKafka(Map.of("log.retention.ms", "-1"));
 
-    private static final String INPUT = "clinic-tests";
-    private static final Path EXAMPLE = Path.of("examples/respiratory.yaml").toAbsolutePath();
+    private static final String INPUT = ExampleTopics.INPUT;
+    private static final Path EXAMPLE = ExampleTopics.EXAMPLE;
 
     @TempDir
     Path dir;
 
     @Test
     void simulateRunAndReplayAgreeOnTheTopic() throws Exception {
-        for (String topic : List.of(INPUT, "oddswatch-estimates", "oddswatch-alerts", "oddswatch-rejects")) {
-            KAFKA.createTopic(topic, 1);
-        }
+        ExampleTopics.create(KAFKA);
         Map<String, String> env = Map.of("ODDSWATCH_KAFKA_BOOTSTRAP_SERVERS", KAFKA.bootstrapServers());
 
         JarProcess missing = JarProcess.start("simulate", "--topic", "no-such-topic", "--bootstrap",
@@ -50,12 +46,7 @@ class RunCommandIT {
         assertEquals(2, missing.awaitExit(Duration.ofSeconds(60)), missing.output());
         assertTrue(missing.output().contains("topic 'no-such-topic' does not exist"), missing.output());
 
-        JarProcess simulate = JarProcess.start("simulate", "--topic", INPUT, "--bootstrap", KAFKA.bootstrapServers(),
-                "--duration", "20w", "--defects", "0.01");
-        assertEquals(0, simulate.awaitExit(Duration.ofSeconds(90)), simulate.output());
-        Matcher sent = Pattern.compile("sent (\\d+) records").matcher(simulate.output());
-        assertTrue(sent.find(), simulate.output());
-        long records = Long.parseLong(sent.group(1));
+        long records = ExampleTopics.simulate(KAFKA, "--duration", "20w", "--defects", "0.01");
 
         try (JarProcess run = JarProcess.start(env, "run", "--config", EXAMPLE.toString(), "--http", "127.0.0.1:0",
                 "--instance", "it")) {
@@ -95,6 +86,7 @@ class RunCommandIT {
                 out.toString());
         assertEquals(0, replay.awaitExit(Duration.ofSeconds(90)), replay.output());
         List<String> replayed = Files.readAllLines(out.resolve("estimates.jsonl"), StandardCharsets.UTF_8);
+        assertTrue(Files.readString(out.resolve("report.html")).contains("Chart.js v"), "the packaged jar inlines Chart.js");
         // the replay also closes the windows still open at the end of the topic; all the others are identical
         for (String estimate : published) {
             assertTrue(replayed.contains(estimate), "replay lacks the published estimate " + estimate);

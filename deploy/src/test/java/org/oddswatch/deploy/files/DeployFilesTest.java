@@ -97,9 +97,13 @@ class DeployFilesTest {
 
         JsonNode pod = deployment.at("/spec/template");
         JsonNode container = pod.at("/spec/containers/0");
-        for (String probe : List.of("readinessProbe", "livenessProbe", "startupProbe")) {
-            assertEquals("/health", container.at("/" + probe + "/httpGet/path").asText(), probe);
-            assertEquals("http", container.at("/" + probe + "/httpGet/port").asText(), probe);
+        // Liveness asks /status, which answers while the process runs: /health is 503 during a
+        // rebuild and while the broker is away, and restarting the pod would mend neither.
+        Map<String, String> paths = Map.of("readinessProbe", "/health", "livenessProbe", "/status",
+                "startupProbe", "/health");
+        for (Map.Entry<String, String> probe : paths.entrySet()) {
+            assertEquals(probe.getValue(), container.at("/" + probe.getKey() + "/httpGet/path").asText(), probe.getKey());
+            assertEquals("http", container.at("/" + probe.getKey() + "/httpGet/port").asText(), probe.getKey());
         }
         assertEquals(8470, container.at("/ports/0/containerPort").asInt());
         assertEquals("http", container.at("/ports/0/name").asText());

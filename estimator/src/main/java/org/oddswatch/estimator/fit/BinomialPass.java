@@ -3,9 +3,10 @@ package org.oddswatch.estimator.fit;
 /**
  * One pass over the grouped rows at a coefficient vector (row by row, or summed per
  * {@link IndicatorGroups indicator group} when the design allows): the binomial log-likelihood, the score
- * {@code U = X'(y - n mu)} and the information {@code I = X' diag(n mu (1-mu)) X}; for Firth fits a
- * second pass adds the hat-value correction {@code sum_i x_i h_i (1/2 - mu_i)} to the score, with
- * {@code h_i = w_i x_i' I^-1 x_i}. This is the hot loop: flat arrays, indexed loops, zero design
+ * {@code U = X'(y - n mu)} and the information {@code I = X' diag(n mu (1-mu)) X}; for Firth fits
+ * {@link #addFirthCorrection} adds the hat-value correction {@code sum_i x_i h_i (1/2 - mu_i)} to the
+ * score, with {@code h_i = w_i x_i' I^-1 x_i} (from moments summed in the same pass when grouped, by a
+ * second pass otherwise). This is the hot loop: flat arrays, indexed loops, zero design
  * entries skipped, one {@code exp} and one {@code log} per row. With {@code e = exp(-|eta|)} in
  * (0, 1], {@code log(1 + e^eta) = max(eta, 0) + log(1 + e)}; {@code Math.log(1 + e)} is used rather
  * than {@code Math.log(1 + e)} (which has no JIT intrinsic and is several times slower); its absolute
@@ -26,6 +27,16 @@ final class BinomialPass {
     /** Cholesky factor of the information, or null when not positive definite. */
     double[] factor;
     double maxAbsEta;
+    /**
+     * Grouped Firth passes only: per group the moments of {@code k_i = w_i (1/2 - mu_i)} over the rows'
+     * numeric values, {@code sum k}, {@code sum k z_a}, {@code sum k z_a z_b} and {@code sum k z_a z_b z_c}
+     * (index tuples ascending), from which {@link #addFirthCorrection} forms the correction without
+     * another pass over the rows.
+     */
+    private double[] k0;
+    private double[] k1;
+    private double[] k2;
+    private double[] k3;
 
     private BinomialPass(int p, double[] beta) {
         this.p = p;
@@ -41,7 +52,7 @@ final class BinomialPass {
         if (groups == null) {
             pass.accumulate(problem);
         } else {
-            pass.accumulateGrouped(problem, groups);
+            pass.accumulateGrouped(problem, groups, penalized);
         }
         double[] f = pass.information.clone();
         if (DenseCholesky.decompose(f, p)) {
@@ -123,7 +134,7 @@ final class BinomialPass {
      * rows the factors {@code 1 + e} are multiplied in blocks of {@link #LOG_BLOCK} and logged once per
      * block (relative error below 1.2e-13 per block, far below the rounding of the sum itself).
      */
-    private void accumulateGrouped(FitProblem problem, IndicatorGroups groups) {
+    private void accumulateGrouped(FitProblem problem, IndicatorGroups groups, boolean firth) {
         final int n = problem.rows();
         final int q = groups.q;
         final int gCount = groups.groupCount;
@@ -149,6 +160,10 @@ final class BinomialPass {
         final double[] swz = new double[gCount * q];
         final double[] srz = new double[gCount * q];
         final double[] swzz = new double[gCount * q * q];
+        final double[] m0 = firth ? new double[gCount] : null;
+        final double[] m1 = firth ? new double[gCount * q] : null;
+        final double[] m2 = firth ? new double[gCount * q * q] : null;
+        final double[] m3 = firth ? new double[gCount * q * q * q] : null;
         double ll = 0;
         double logSum = 0;
         double product = 1;
@@ -203,6 +218,15 @@ final class BinomialPass {
                 swz[g] += wz;
                 srz[g] += r * z0;
                 swzz[g] += wz * z0;
+                if (firth) {
+                    final double k = w * (0.5 - mu);
+                    final double kz = k * z0;
+                    final double kzz = kz * z0;
+                    m0[g] += k;
+                    m1[g] += kz;
+                    m2[g] += kzz;
+                    m3[g] += kzz * z0;
+                }
             } else {
                 final int zb = i * q;
                 final int gb = g * q;
@@ -216,9 +240,16 @@ final class BinomialPass {
                         swzz[zz + b] += wz * z[zb + b];
                     }
                 }
+                if (firth) {
+                    addMoments(w * (0.5 - mu), z, zb, q, g, m0, m1, m2, m3);
+                }
             }
         }
         ll -= logSum + Math.log(product);
+        k0 = m0;
+        k1 = m1;
+        k2 = m2;
+        k3 = m3;
         final double[] u = score;
         final double[] info = information;
         final int[] num = groups.numericColumns;
@@ -246,6 +277,25 @@ final class BinomialPass {
         maxAbsEta = etaMax;
     }
 
+    /** Adds {@code k}, {@code k z_a}, {@code k z_a z_b} and {@code k z_a z_b z_c} (a <= b <= c) to group g's moments. */
+    private static void addMoments(double k, double[] z, int zb, int q, int g, double[] m0, double[] m1, double[] m2,
+                                   double[] m3) {
+        m0[g] += k;
+        final int gb = g * q;
+        for (int a = 0; a < q; a++) {
+            final double ka = k * z[zb + a];
+            m1[gb + a] += ka;
+            for (int b = a; b < q; b++) {
+                final double kab = ka * z[zb + b];
+                m2[(gb + a) * q + b] += kab;
+                final int base = ((gb + a) * q + b) * q;
+                for (int c = b; c < q; c++) {
+                    m3[base + c] += kab * z[zb + c];
+                }
+            }
+        }
+    }
+
     private void addUpper(double[] info, int j, int k, double v) {
         IndicatorGroups.addUpper(info, p, j, k, v);
     }
@@ -263,13 +313,15 @@ final class BinomialPass {
      * Adds Firth's correction to the score: {@code sum_i x_i h_i (1/2 - mu_i)} with
      * {@code h_i = w_i x_i' I^-1 x_i}. Needs the factor. With an indicator grouping the quadratic form
      * is split as {@code x' A x = m_g' A m_g + 2 z' A_zm m_g + z' A_zz z} (m_g the group's 0/1 pattern,
-     * z the row's numeric values, A = I^-1), whose pattern parts are computed once per group, and the
-     * correction is summed per group like the score: {@code O(q^2)} per row instead of {@code O(p^2)}.
+     * z the row's numeric values, A = I^-1), so the correction is a combination of per-group moments of
+     * {@code w (1/2 - mu)} times monomials of z up to degree 3, which the penalized pass has already
+     * summed: no second pass over the rows, {@code O(G q^3)} work. Without a grouping a second pass
+     * computes each {@code h_i} ({@code O(p^2)} per row).
      */
     void addFirthCorrection(FitProblem problem, IndicatorGroups groups) {
         final double[] inv = DenseCholesky.inverse(factor, p);
-        if (groups != null) {
-            addFirthCorrectionGrouped(problem, groups, inv);
+        if (groups != null && k0 != null) {
+            addFirthCorrectionGrouped(groups, inv);
             return;
         }
         final int n = problem.rows();
@@ -309,80 +361,70 @@ final class BinomialPass {
         }
     }
 
-    private void addFirthCorrectionGrouped(FitProblem problem, IndicatorGroups groups, double[] inv) {
-        final int n = problem.rows();
+    /**
+     * The grouped correction from the moments of the pass (no further pass over the rows). With
+     * {@code A = I^-1}, a row of group g has {@code x' A x = P_g + 2 z.C_g + z' Z z}, where
+     * {@code P_g = m_g' A m_g}, {@code C_g = A_zm m_g} and {@code Z = A_zz}; summed with the weights
+     * {@code k_i = w_i (1/2 - mu_i)}, the group adds {@code P_g K0 + 2 C_g.K1 + <Z, K2>} to each of its 0/1
+     * columns and {@code P_g K1_e + 2 C_g.K2_e + <Z, K3_e>} to numeric column e (K the moments above).
+     */
+    private void addFirthCorrectionGrouped(IndicatorGroups groups, double[] inv) {
         final int q = groups.q;
-        final int gCount = groups.groupCount;
         final int[] num = groups.numericColumns;
-        final double[] z = groups.z;
-        final double[] trials = problem.trials();
-        final double[] offset = problem.offset();
-        final double[] etaGroup = new double[gCount];
-        final double[] pattern = new double[gCount];
-        final double[] cross = new double[gCount * q];
-        for (int g = 0; g < gCount; g++) {
-            final int[] m = groups.members[g];
-            double s = 0;
-            double form = 0;
-            for (int a : m) {
-                s += beta[a];
-                for (int b : m) {
-                    form += inv[a * p + b];
-                }
-                for (int c = 0; c < q; c++) {
-                    cross[g * q + c] += inv[num[c] * p + a];
-                }
-            }
-            etaGroup[g] = s;
-            pattern[g] = form;
-        }
-        final double[] bq = new double[q];
         final double[] zz = new double[q * q];
         for (int c = 0; c < q; c++) {
-            bq[c] = beta[num[c]];
             for (int d = 0; d < q; d++) {
                 zz[c * q + d] = inv[num[c] * p + num[d]];
             }
         }
-        final double[] sc = new double[gCount];
-        final double[] scz = new double[gCount * q];
-        for (int i = 0; i < n; i++) {
-            final double t = groups.unitTrials ? 1 : trials[i];
-            if (t == 0) {
-                continue;
-            }
-            final int g = groups.group[i];
-            final int zb = i * q;
+        final double[] cross = new double[q];
+        for (int g = 0; g < groups.groupCount; g++) {
+            final int[] m = groups.members[g];
             final int gb = g * q;
-            double eta = (offset == null ? 0 : offset[i]) + etaGroup[g];
-            double form = pattern[g];
-            for (int c = 0; c < q; c++) {
-                final double zc = z[zb + c];
-                eta += zc * bq[c];
-                double inner = 2 * cross[gb + c];
-                for (int d = 0; d < q; d++) {
-                    inner += zz[c * q + d] * z[zb + d];
+            double pattern = 0;
+            java.util.Arrays.fill(cross, 0);
+            for (int a : m) {
+                for (int b : m) {
+                    pattern += inv[a * p + b];
                 }
-                form += zc * inner;
+                for (int c = 0; c < q; c++) {
+                    cross[c] += inv[num[c] * p + a];
+                }
             }
-            final double e = Math.exp(-Math.abs(eta));
-            final double inv1 = 1 / (1 + e);
-            final double mu = eta >= 0 ? inv1 : e * inv1;
-            final double w = t * e * inv1 * inv1;
-            final double corr = w * form * (0.5 - mu);
-            sc[g] += corr;
+            double sc = pattern * k0[g];
             for (int c = 0; c < q; c++) {
-                scz[gb + c] += corr * z[zb + c];
+                sc += 2 * cross[c] * k1[gb + c];
+                for (int d = 0; d < q; d++) {
+                    sc += zz[c * q + d] * k2[moment2(gb, q, c, d)];
+                }
+            }
+            for (int a : m) {
+                score[a] += sc;
+            }
+            for (int e = 0; e < q; e++) {
+                double sce = pattern * k1[gb + e];
+                for (int c = 0; c < q; c++) {
+                    sce += 2 * cross[c] * k2[moment2(gb, q, c, e)];
+                    for (int d = 0; d < q; d++) {
+                        sce += zz[c * q + d] * k3[moment3(gb, q, c, d, e)];
+                    }
+                }
+                score[num[e]] += sce;
             }
         }
-        for (int g = 0; g < gCount; g++) {
-            for (int a : groups.members[g]) {
-                score[a] += sc[g];
-            }
-            for (int c = 0; c < q; c++) {
-                score[num[c]] += scz[g * q + c];
-            }
-        }
+    }
+
+    /** Index of {@code sum k z_a z_b} of the group starting at {@code gb = g q}, stored with a <= b. */
+    private static int moment2(int gb, int q, int a, int b) {
+        return (gb + Math.min(a, b)) * q + Math.max(a, b);
+    }
+
+    /** Index of {@code sum k z_a z_b z_c}, stored with the indices ascending. */
+    private static int moment3(int gb, int q, int a, int b, int c) {
+        int lo = Math.min(a, Math.min(b, c));
+        int hi = Math.max(a, Math.max(b, c));
+        int mid = a + b + c - lo - hi;
+        return ((gb + lo) * q + mid) * q + hi;
     }
 
     /** Largest {@code |U_j| / sqrt(I_jj)} over free coordinates (0 where the information is 0). */

@@ -79,6 +79,16 @@ final class ColumnStandardization {
         }
     }
 
+    /** {@code T' v}: a sum of raw rows {@code sum_i s_i x_i} as the same sum of recoded rows. */
+    double[] recodeSum(double[] v) {
+        double[] out = new double[p];
+        double base = constant >= 0 ? v[constant] / constantValue : 0;
+        for (int j = 0; j < p; j++) {
+            out[j] = j == constant ? base : (v[j] - centre[j] * base) / scale[j];
+        }
+        return out;
+    }
+
     /** The raw direction {@code T b'} of a direction in the recoded columns. */
     double[] toRaw(double[] recoded) {
         double[] b = new double[p];

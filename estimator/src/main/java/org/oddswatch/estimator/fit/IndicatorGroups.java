@@ -34,10 +34,13 @@ final class IndicatorGroups {
 
     /** Whether every row has exactly one trial (row storage), which lets the pass skip the trials. */
     final boolean unitTrials;
+    /** Per numeric column, the largest {@code |z|} over the rows. */
+    final double[] maxAbsZ;
 
     private IndicatorGroups(int q, int groupCount, int[] numericColumns, int[] group, double[] z, int[][] members,
-                            double[] st, double[] stz, double[] stzz, boolean unitTrials) {
+                            double[] st, double[] stz, double[] stzz, boolean unitTrials, double[] maxAbsZ) {
         this.unitTrials = unitTrials;
+        this.maxAbsZ = maxAbsZ;
         this.st = st;
         this.stz = stz;
         this.stzz = stzz;
@@ -231,6 +234,7 @@ final class IndicatorGroups {
         double[] stzz = new double[MAX_GROUPS * q * q];
         // Pass 2 (compact arrays only): patterns numbered by first appearance, and trial sums.
         boolean unit = true;
+        double[] maxAbsZ = new double[q];
         for (int i = 0; i < n; i++) {
             final long key = wide == null ? group[i] : wide[i];
             int id;
@@ -257,6 +261,9 @@ final class IndicatorGroups {
                 id = known;
             }
             group[i] = id;
+            for (int a = 0; a < q; a++) {
+                maxAbsZ[a] = Math.max(maxAbsZ[a], Math.abs(z[i * q + a]));
+            }
             // The rank check's trials-weighted sums, in row order.
             double ti = trials[i];
             unit &= ti == 1;
@@ -281,6 +288,6 @@ final class IndicatorGroups {
                 }
             }
         }
-        return new IndicatorGroups(q, keys.size(), numericColumns, group, z, members, st, stz, stzz, unit);
+        return new IndicatorGroups(q, keys.size(), numericColumns, group, z, members, st, stz, stzz, unit, maxAbsZ);
     }
 }

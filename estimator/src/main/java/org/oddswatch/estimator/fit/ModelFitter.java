@@ -32,7 +32,7 @@ public final class ModelFitter {
         FitControl watchful = control.withDivergenceStop(SeparationCheck.EXTREME_ETA);
         FitResult newton = FitDriver.firstAttempt(work, workGroups, start, watchful, false);
         if (SeparationCheck.suspicious(newton)) {
-            SeparationCheck.Outcome outcome = SeparationCheck.check(work);
+            SeparationCheck.Outcome outcome = SeparationCheck.check(work, workGroups);
             if (outcome.verdict() == SeparationCheck.Verdict.SEPARATED) {
                 return firth(work, workGroups, start, control, keep, dropped, outcome.involved(), false);
             }

@@ -60,7 +60,81 @@ final class NewtonEngine {
      */
     static final double ROUNDING = 1e-12;
 
+    /**
+     * Penalized fits: the largest change of any linear predictor a trial step may make, in log-odds. Along
+     * a direction of (quasi-)separation far beyond the Firth estimate, the likelihood is flat while
+     * {@code 0.5 log det I} still rises about linearly, so the Newton step from such a start (a diverged
+     * maximum-likelihood iterate) is huge and would be halved many times, one pass over the rows each.
+     */
+    static final double MAX_PENALIZED_ETA_STEP = 5;
+
     private NewtonEngine() {
+    }
+
+    /**
+     * The step length {@code t <= 1} at which a step d moves no linear predictor by more than
+     * {@link #MAX_PENALIZED_ETA_STEP}. With a grouping, the bound {@code max_g |m_g . d| + sum_c |d_c| max|z_c|}
+     * answers most steps without a pass over the rows.
+     */
+    static double cappedStepLength(FitProblem problem, IndicatorGroups groups, double[] d) {
+        if (groups != null) {
+            double bound = 0;
+            for (int[] members : groups.members) {
+                double s = 0;
+                for (int j : members) {
+                    s += d[j];
+                }
+                bound = Math.max(bound, Math.abs(s));
+            }
+            for (int c = 0; c < groups.q; c++) {
+                bound += Math.abs(d[groups.numericColumns[c]]) * groups.maxAbsZ[c];
+            }
+            if (bound <= MAX_PENALIZED_ETA_STEP) {
+                return 1;
+            }
+        }
+        return Math.min(1, MAX_PENALIZED_ETA_STEP / maxAbsChange(problem, groups, d));
+    }
+
+    /** {@code max_i |x_i . d|} over the rows with trials: how far a step d moves the linear predictors. */
+    static double maxAbsChange(FitProblem problem, IndicatorGroups groups, double[] d) {
+        double[] trials = problem.trials();
+        double max = 0;
+        if (groups != null) {
+            int q = groups.q;
+            double[] byGroup = new double[groups.groupCount];
+            for (int g = 0; g < groups.groupCount; g++) {
+                for (int j : groups.members[g]) {
+                    byGroup[g] += d[j];
+                }
+            }
+            double[] dz = new double[q];
+            for (int c = 0; c < q; c++) {
+                dz[c] = d[groups.numericColumns[c]];
+            }
+            for (int i = 0; i < problem.rows(); i++) {
+                double change = byGroup[groups.group[i]];
+                for (int c = 0; c < q; c++) {
+                    change += groups.z[i * q + c] * dz[c];
+                }
+                if (trials[i] != 0 && !(Math.abs(change) <= max)) {
+                    max = Math.abs(change);
+                }
+            }
+            return max;
+        }
+        int p = problem.columns();
+        double[] x = problem.x();
+        for (int i = 0; i < problem.rows(); i++) {
+            double change = 0;
+            for (int j = 0; j < p; j++) {
+                change += x[i * p + j] * d[j];
+            }
+            if (trials[i] != 0 && !(Math.abs(change) <= max)) {
+                max = Math.abs(change);
+            }
+        }
+        return max;
     }
 
     static FitResult run(FitProblem problem, double[] start, boolean[] fixed, boolean penalized, FitControl control,
@@ -95,8 +169,13 @@ final class NewtonEngine {
                 break;
             }
             double noise = noise(current, penalized);
-            boolean belowRounding = decrement / 2 <= noise;
-            if (belowRounding && previousBelowRounding && decrement >= previousDecrement) {
+            // The floor test compares the decrement with the rounding of the summed log-likelihood only: the
+            // rounding of log det I (part of a penalized fit's noise) blurs objective comparisons, not the
+            // score from which the decrement is computed.
+            boolean belowRounding = decrement / 2 <= ROUNDING * (Math.abs(current.objective) + 1);
+            // A Firth fit takes no polishing step, so at its floor it must also meet the tolerance itself.
+            if (belowRounding && previousBelowRounding && decrement >= previousDecrement
+                    && (!penalized || decrement <= control.tolerance())) {
                 stop = new FitStop(FitStop.Reason.ROUNDING_FLOOR, decrement);
                 break;
             }
@@ -109,7 +188,7 @@ final class NewtonEngine {
                 break;
             }
             BinomialPass accepted = null;
-            double t = 1;
+            double t = penalized ? cappedStepLength(problem, groups, delta) : 1;
             for (int h = 0; h <= MAX_HALVINGS; h++) {
                 BinomialPass trial = evaluate(problem, groups, move(current.beta, delta, t), penalized, penalized);
                 double fall = current.objective - trial.objective;

@@ -34,11 +34,17 @@ import org.apache.commons.math3.optim.nonlinear.scalar.GoalType;
  * objective, fewer constraints, so its optimum is at least the full one); when that optimum is 0 (at
  * most 1e-9 of the scaled objective) no point set can be separated, the full programme included, and
  * the answer is NONE; otherwise check the relaxation's solution b against every point in {@code O(n p)}
- * and, when some point has {@code a_i . b < 0} (beyond rounding, 1e-9 of {@code |x_i|_1}), add the
+ * and, when some point has {@code a_i . b < 0} (beyond rounding, 1e-9 p), add the
  * {@link #BATCH} most violated ones (ties by row order) to S and solve again. A solution that satisfies
  * every point is optimal for the full programme, so the verdict and the involved columns are those of
- * the full programme. Points and objective are scaled (each {@code a_i} by {@code 1 / |x_i|_1}, c by
- * {@code 1 / max_j |c_j|}) so the simplex's tolerances are relative. Every step is deterministic.
+ * the full programme. The programme runs on the columns recoded by {@link ColumnStandardization}
+ * (beside an intercept every other column centred on its midpoint and divided by its half-range, so it
+ * spans [-1, 1]): separation depends only on the column space, but in raw units an age in days is 10^4
+ * times an indicator and a calendar year nearly a multiple of the intercept, and the simplex, which
+ * compares to 1e-6, read rounding as separation or failed. Points and objective are scaled (each
+ * recoded {@code a_i} by {@code 1 / |a_i|_1}, c by {@code 1 / max_j |c_j|}) so the simplex's tolerances
+ * are relative; the margins of all points are read on the raw rows (or the grouping) with the raw
+ * direction {@code T b'}, and the direction reported is the raw one. Every step is deterministic.
  *
  * <p>S stays small because a separating direction or an overlap certificate needs few points
  * (typically two or three rounds). After {@link #MAX_ROUNDS} rounds, if the simplex fails, or if its
@@ -59,9 +65,7 @@ public final class SeparationCheck {
     static final int BATCH = 32;
     /** Pivots allowed to the first formulation of a round's programme. */
     static final int PIVOTS = 10_000;
-    /**
-     * Pivots allowed to the second formulation of a round's programme (no phase one), the fallback.
-     */
+    /** Pivots allowed to the second formulation of a round's programme (no phase one), the fallback. */
     static final int FALLBACK_PIVOTS = 2_000;
     /** Rounds of constraint generation before the check gives up (UNDECIDED). */
     static final int MAX_ROUNDS = 40;
@@ -91,37 +95,28 @@ public final class SeparationCheck {
         return !fit.converged() || fit.maxAbsLinearPredictor() > EXTREME_ETA;
     }
 
-    /** The fallback decision when the programme could not be solved (see the class comment). */
+    /** The fallback decision when the programme could not be solved. */
     public static boolean heuristic(FitResult fit) {
         return !fit.converged() || fit.maxAbsLinearPredictor() > HEURISTIC_ETA;
     }
 
-    /**
-     * Decides separation of a full-rank problem (offsets are ignored). The programme runs on the columns
-     * recoded by {@link ColumnStandardization} (each spanning [-1, 1], centred against the intercept when
-     * there is one); the direction reported is the raw one.
-     */
+    /** Decides separation of a full-rank problem (offsets are ignored). */
     public static Outcome check(FitProblem problem) {
+        return check(problem, IndicatorGroups.of(problem));
+    }
+
+    /**
+     * As above, with the problem's indicator grouping (or null): the passes over the points then read each
+     * row's group number and numeric values instead of its whole design row.
+     */
+    static Outcome check(FitProblem problem, IndicatorGroups groups) {
         int p = problem.columns();
         int n = problem.rows();
         double[] x = problem.x();
         double[] t = problem.trials();
         double[] y = problem.positives();
         ColumnStandardization recoding = ColumnStandardization.of(problem);
-        double[] row = new double[p];
-        double[] c = new double[p];
-        for (int i = 0; i < n; i++) {
-            int sign = pointSigns(t[i], y[i]);
-            if (sign == 0 || sign == 3) {
-                // No point, or both (the two cancel in the objective).
-                continue;
-            }
-            double s = sign == 1 ? 1 : -1;
-            recoding.row(x, i, row);
-            for (int j = 0; j < p; j++) {
-                c[j] += s * row[j];
-            }
-        }
+        double[] c = recoding.recodeSum(objective(problem, groups));
         double cMax = 0;
         for (double v : c) {
             cMax = Math.max(cMax, Math.abs(v));
@@ -143,44 +138,44 @@ public final class SeparationCheck {
             for (int j = 0; j < p; j++) {
                 value += c[j] * b[j];
             }
+            double[] raw = recoding.toRaw(b);
             if (value <= POSITIVE) {
-                return new Outcome(Verdict.NONE, new int[0], recoding.toRaw(b), round, active.size());
+                return new Outcome(Verdict.NONE, new int[0], raw, round, active.size());
             }
             MostViolated worst = new MostViolated(BATCH);
+            // x'_i . b' = x_i . T b': the margins are read on the raw rows (or the grouping) with the raw
+            // direction; every recoded row has |x'_i|_1 <= p, which scales the rounding allowance.
+            RowMargins rows = new RowMargins(problem, groups, raw);
+            double allowance = VIOLATION * p;
             boolean programmeViolated = false;
             for (int i = 0; i < n; i++) {
                 int sign = pointSigns(t[i], y[i]);
                 if (sign == 0) {
                     continue;
                 }
-                recoding.row(x, i, row);
-                double eta = 0;
-                double norm = 0;
-                for (int j = 0; j < p; j++) {
-                    eta += row[j] * b[j];
-                    norm += Math.abs(row[j]);
-                }
-                if ((sign & 1) != 0 && eta < -VIOLATION * norm) {
+                double eta = rows.eta(i);
+                if ((sign & 1) != 0 && eta < -allowance) {
                     if (inProgramme.get(2 * i)) {
                         programmeViolated = true;
                     } else {
-                        worst.offer(eta / norm, 2 * i);
+                        worst.offer(eta, 2 * i);
                     }
                 }
-                if ((sign & 2) != 0 && -eta < -VIOLATION * norm) {
+                if ((sign & 2) != 0 && -eta < -allowance) {
                     if (inProgramme.get(2 * i + 1)) {
                         programmeViolated = true;
                     } else {
-                        worst.offer(-eta / norm, 2 * i + 1);
+                        worst.offer(-eta, 2 * i + 1);
                     }
                 }
             }
             if (worst.size() == 0) {
                 // A solution that violates its own constraints beyond rounding is no certificate.
                 return programmeViolated ? new Outcome(Verdict.UNDECIDED, new int[0], null, round, active.size())
-                        : new Outcome(Verdict.SEPARATED, recoding.involved(b, INVOLVED), recoding.toRaw(b), round,
+                        : new Outcome(Verdict.SEPARATED, recoding.involved(b, INVOLVED), raw, round,
                                 active.size());
             }
+            double[] row = new double[p];
             for (int k : worst.pointsInOrder()) {
                 inProgramme.set(k);
                 int i = k / 2;
@@ -198,6 +193,100 @@ public final class SeparationCheck {
             }
         }
         return new Outcome(Verdict.UNDECIDED, new int[0], null, MAX_ROUNDS, active.size());
+    }
+
+    /** {@code c = sum_i a_i} over the points (a row with both outcomes adds nothing: its two points cancel). */
+    private static double[] objective(FitProblem problem, IndicatorGroups groups) {
+        int p = problem.columns();
+        double[] t = problem.trials();
+        double[] y = problem.positives();
+        double[] c = new double[p];
+        if (groups != null) {
+            int q = groups.q;
+            double[] bySign = new double[groups.groupCount];
+            double[] zBySign = new double[groups.groupCount * q];
+            for (int i = 0; i < problem.rows(); i++) {
+                int sign = pointSigns(t[i], y[i]);
+                if (sign == 1 || sign == 2) {
+                    double s = sign == 1 ? 1 : -1;
+                    int g = groups.group[i];
+                    bySign[g] += s;
+                    for (int a = 0; a < q; a++) {
+                        zBySign[g * q + a] += s * groups.z[i * q + a];
+                    }
+                }
+            }
+            for (int g = 0; g < groups.groupCount; g++) {
+                for (int j : groups.members[g]) {
+                    c[j] += bySign[g];
+                }
+                for (int a = 0; a < q; a++) {
+                    c[groups.numericColumns[a]] += zBySign[g * q + a];
+                }
+            }
+            return c;
+        }
+        double[] x = problem.x();
+        for (int i = 0; i < problem.rows(); i++) {
+            int sign = pointSigns(t[i], y[i]);
+            if (sign == 1 || sign == 2) {
+                double s = sign == 1 ? 1 : -1;
+                for (int j = 0; j < p; j++) {
+                    c[j] += s * x[i * p + j];
+                }
+            }
+        }
+        return c;
+    }
+
+    /**
+     * {@code x_i . b} of each row: from the design row, or with a grouping as the group's part (the sum of
+     * b over its 0/1 columns) plus the row's numeric values.
+     */
+    private static final class RowMargins {
+        private final FitProblem problem;
+        private final IndicatorGroups groups;
+        private final double[] b;
+        private final double[] groupEta;
+        private final double[] bz;
+
+        RowMargins(FitProblem problem, IndicatorGroups groups, double[] b) {
+            this.problem = problem;
+            this.groups = groups;
+            this.b = b;
+            if (groups == null) {
+                groupEta = null;
+                bz = null;
+                return;
+            }
+            groupEta = new double[groups.groupCount];
+            for (int g = 0; g < groups.groupCount; g++) {
+                for (int j : groups.members[g]) {
+                    groupEta[g] += b[j];
+                }
+            }
+            bz = new double[groups.q];
+            for (int a = 0; a < groups.q; a++) {
+                bz[a] = b[groups.numericColumns[a]];
+            }
+        }
+
+        double eta(int i) {
+            if (groups == null) {
+                int p = problem.columns();
+                double eta = 0;
+                for (int j = 0; j < p; j++) {
+                    eta += problem.x()[i * p + j] * b[j];
+                }
+                return eta;
+            }
+            int q = groups.q;
+            double eta = groupEta[groups.group[i]];
+            for (int a = 0; a < q; a++) {
+                eta += groups.z[i * q + a] * bz[a];
+            }
+            return eta;
+        }
     }
 
     /** Bit 1: the row has a positive point; bit 2: a negative point. */

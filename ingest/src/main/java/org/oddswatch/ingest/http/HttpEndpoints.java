@@ -27,12 +27,47 @@ import org.slf4j.LoggerFactory;
  *   <li>{@code GET /status}: the JSON of the status supplier (streams, last final windows, counts, lag).</li>
  * </ul>
  * Other paths answer 404, other methods 405.
+ *
+ * <p>A client that opens a connection and never finishes its request must not hold up the probes.
+ * The JDK server reads a request on one of the executor's threads with no read timeout of its own,
+ * so the endpoints run {@value #WORKERS} threads and bound the time a request and a response may
+ * take through the server's documented system properties {@code sun.net.httpserver.maxReqTime}
+ * and {@code sun.net.httpserver.maxRspTime} (seconds; the {@code jdk.httpserver} module
+ * description lists them), set here to {@value #MAX_REQUEST_SECONDS} and
+ * {@value #MAX_RESPONSE_SECONDS} s unless given on the command line: a stalled connection is closed
+ * after at most that time, and a probe gets a free thread at once while fewer than
+ * {@value #WORKERS} connections stall. The server reads the properties once, when it is first
+ * used in the JVM, so they are set before the first server is created.
  */
 public final class HttpEndpoints implements AutoCloseable {
 
     private static final Logger LOG = LoggerFactory.getLogger(HttpEndpoints.class);
     private static final String JSON = "application/json";
     private static final String PROMETHEUS_TEXT = "text/plain; version=0.0.4; charset=utf-8";
+    /** Threads serving requests. */
+    static final int WORKERS = 8;
+    /** Longest time to receive a request's line and headers, in seconds. */
+    static final int MAX_REQUEST_SECONDS = 2;
+    /** Longest time to send a response, in seconds (a /metrics scrape of a large registry included). */
+    static final int MAX_RESPONSE_SECONDS = 30;
+
+    static {
+        boundRequestTimes();
+    }
+
+    /** Sets the JDK server's request and response time limits unless the command line gave them. */
+    static void boundRequestTimes() {
+        if (System.getProperty("sun.net.httpserver.maxReqTime") == null) {
+            System.setProperty("sun.net.httpserver.maxReqTime", Integer.toString(MAX_REQUEST_SECONDS));
+        }
+        if (System.getProperty("sun.net.httpserver.maxRspTime") == null) {
+            System.setProperty("sun.net.httpserver.maxRspTime", Integer.toString(MAX_RESPONSE_SECONDS));
+        }
+        // How often the server checks the limits (milliseconds; 1000 by default).
+        if (System.getProperty("sun.net.httpserver.timerMillis") == null) {
+            System.setProperty("sun.net.httpserver.timerMillis", "250");
+        }
+    }
 
     private final HttpServer server;
     private final ExecutorService executor;
@@ -60,7 +95,7 @@ public final class HttpEndpoints implements AutoCloseable {
                 : new Reply(503, JSON, Json.write(Map.of("status", "rebuilding")))));
         server.createContext("/status", exchange -> respond(exchange, () ->
                 new Reply(200, JSON, Json.write(status.get()))));
-        ExecutorService executor = Executors.newFixedThreadPool(2, runnable -> {
+        ExecutorService executor = Executors.newFixedThreadPool(WORKERS, runnable -> {
             Thread thread = new Thread(runnable, "oddswatch-http");
             thread.setDaemon(true);
             return thread;

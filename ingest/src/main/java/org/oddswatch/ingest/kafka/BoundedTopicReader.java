@@ -89,7 +89,7 @@ public final class BoundedTopicReader implements AutoCloseable {
             if (!records.isEmpty()) {
                 lastProgress = System.nanoTime();
             } else if (System.nanoTime() - lastProgress > timeout.toNanos()) {
-                throw new IllegalStateException("no progress reading " + topic + " for " + timeout);
+                throw new org.apache.kafka.common.errors.TimeoutException("no progress reading " + topic + " for " + timeout);
             }
             for (ConsumerRecord<byte[], byte[]> r : records) {
                 if (r.offset() < end.get(new TopicPartition(r.topic(), r.partition()))) {

@@ -14,7 +14,9 @@ import org.apache.kafka.clients.producer.ProducerConfig;
  *       {@code group.id} from the service settings, {@code auto.offset.reset=earliest} unless given,
  *       {@code isolation.level=read_committed} unless given;</li>
  *   <li>producers: {@code enable.idempotence=true}, {@code acks=all} (no duplicates from retries,
- *       no loss on leader change).</li>
+ *       no loss on leader change), {@code delivery.timeout.ms} unlimited unless given (an output
+ *       waits out a broker outage in the producer, in order, instead of expiring: the service stops
+ *       reading input meanwhile, so what waits is bounded).</li>
  * </ul>
  */
 public final class KafkaClientSettings {
@@ -61,6 +63,7 @@ public final class KafkaClientSettings {
         props.put(ProducerConfig.ENABLE_IDEMPOTENCE_CONFIG, "true");
         props.put(ProducerConfig.ACKS_CONFIG, "all");
         props.putIfAbsent(ProducerConfig.LINGER_MS_CONFIG, "10");
+        props.putIfAbsent(ProducerConfig.DELIVERY_TIMEOUT_MS_CONFIG, Integer.toString(Integer.MAX_VALUE));
         props.putIfAbsent(ProducerConfig.COMPRESSION_TYPE_CONFIG, "none");
         props.putIfAbsent(ProducerConfig.CLIENT_ID_CONFIG, clientId);
         return props;

@@ -5,8 +5,10 @@ import java.io.IOException;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
+import java.util.LinkedHashSet;
 import java.util.List;
 import java.util.Map;
+import java.util.Set;
 import io.micrometer.core.instrument.Gauge;
 import io.micrometer.core.instrument.MeterRegistry;
 import org.oddswatch.alerts.engine.ReplayHint;
@@ -67,6 +69,8 @@ public final class MonitorPipeline {
     private final List<RecordOutcome> decidedHeld = new ArrayList<>();
     /** The record being offered when a stream holds it (shared by the monitors of the input), else null. */
     private HeldRecord heldNow;
+    /** Live (not re-read) records some stream still holds: the service commits no offset past them. */
+    private final Set<HeldRecord> liveHeld = new LinkedHashSet<>();
     /** Removes the partition's stream-count gauge ({@link #forPartition} with a registry), else null. */
     private Runnable streamsGaugeRemoval;
 
@@ -270,6 +274,9 @@ public final class MonitorPipeline {
         if (held != null) {
             held.inOffer = false;
             held.merge(overall);
+            if (!suppressOutput && held.holders > 0) {
+                liveHeld.add(held);
+            }
             if (!held.decided()) {
                 return RecordOutcome.HELD; // counted when the holding streams decide
             }
@@ -283,6 +290,20 @@ public final class MonitorPipeline {
     }
 
     /**
+     * The smallest source offset of a live record that some stream still holds beyond its time
+     * horizon, or {@link Long#MAX_VALUE} when none is held. The live service commits no offset past
+     * it: a held record is in no window yet, so a restart must read it again (the rebuild re-reads
+     * what lies between it and the last record applied, as it does for any uncommitted record).
+     */
+    public long oldestHeldOffset() {
+        long oldest = Long.MAX_VALUE;
+        for (HeldRecord record : liveHeld) {
+            oldest = Math.min(oldest, record.origin.offset());
+        }
+        return oldest;
+    }
+
+    /**
      * A held event's decided outcome: counted and reported like an outcome of {@code offer} (in the
      * stream, to the listener, to rejects), and once all streams holding the record decided, in the
      * record totals.
@@ -291,6 +312,9 @@ public final class MonitorPipeline {
                           boolean suppress) {
         report(stream, outcome, event, record.original, record.origin, suppress);
         record.holders--;
+        if (record.holders == 0) {
+            liveHeld.remove(record);
+        }
         record.merge(outcome);
         if (!record.inOffer && record.decided()) {
             record.totalsCounted = true;

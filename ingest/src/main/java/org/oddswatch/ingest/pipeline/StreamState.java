@@ -347,7 +347,8 @@ final class StreamState {
         if (engine != null) {
             // every final window, also those overlapping the baseline period: the engine judges no such
             // window, but the CUSUM reports the events after the period once per final window
-            emitAlerts(engine.onFinalEstimate(estimate), suppress);
+            emitAlerts(inBaselinePeriod ? engine.onBaselinePeriodWindow(estimate) : engine.onFinalEstimate(estimate),
+                    suppress);
         } else if (!inBaselinePeriod) {
             windowsBeforeFreeze++;
             lastUnjudgedEnd = stop;

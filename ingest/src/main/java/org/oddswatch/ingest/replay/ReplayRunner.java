@@ -20,6 +20,7 @@ import org.oddswatch.alerts.privacy.PublishedAlert;
 import org.oddswatch.alerts.privacy.PublishedEstimate;
 import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.alerts.report.ReplayReport;
+import org.oddswatch.alerts.report.html.HtmlReport;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.ingest.definition.DefinitionException;
 import org.oddswatch.ingest.definition.DefinitionLoader;
@@ -42,7 +43,8 @@ import org.oddswatch.ingest.pipeline.StreamStatus;
  *   <li>{@code rejects.jsonl}: rejected and late records with their line number, reason and bytes;</li>
  *   <li>{@code alerts.jsonl}: alert messages in the order raised;</li>
  *   <li>{@code summary.json}: counts by outcome and reason, windows per stream;</li>
- *   <li>{@code report.md}: the readable report of the alerts module.</li>
+ *   <li>{@code report.md}: the readable report of the alerts module;</li>
+ *   <li>{@code report.html}: the same replay as charts in one self-contained page ({@link HtmlReport}).</li>
  * </ul>
  * At the end of the file every window that has received events is closed. The same definition and
  * file give byte-identical output.
@@ -104,8 +106,11 @@ public final class ReplayRunner {
         Files.writeString(request.out().resolve(SUMMARY),
                 Json.mapper().writerWithDefaultPrettyPrinter().writeValueAsString(summary) + "\n",
                 StandardCharsets.UTF_8);
+        SmallCellPolicy cells = strictest(monitors);
         ReplayReport.write(request.out(), outputs.estimates, outputs.alerts, summary.gaps(), title(monitors, request),
-                strictest(monitors));
+                cells);
+        HtmlReport.write(request.out(), outputs.estimates, outputs.alerts, title(monitors, request),
+                ReplayPageOptions.of(request.out().resolve(REJECTS), monitors, cells));
         return summary;
     }
 

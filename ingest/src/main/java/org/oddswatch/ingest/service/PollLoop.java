@@ -11,13 +11,21 @@ import java.util.Map;
 import java.util.OptionalLong;
 import java.util.Set;
 import java.util.function.LongSupplier;
+import org.apache.kafka.clients.CommonClientConfigs;
+import org.apache.kafka.clients.consumer.CommitFailedException;
+import org.apache.kafka.clients.consumer.ConsumerConfig;
 import org.apache.kafka.clients.consumer.ConsumerRebalanceListener;
 import org.apache.kafka.clients.consumer.ConsumerRecord;
 import org.apache.kafka.clients.consumer.ConsumerRecords;
 import org.apache.kafka.clients.consumer.KafkaConsumer;
 import org.apache.kafka.clients.consumer.OffsetAndMetadata;
 import org.apache.kafka.clients.consumer.OffsetAndTimestamp;
+import org.apache.kafka.common.KafkaException;
+import org.apache.kafka.common.Metric;
 import org.apache.kafka.common.TopicPartition;
+import org.apache.kafka.common.errors.RebalanceInProgressException;
+import org.apache.kafka.common.errors.RetriableException;
+import org.apache.kafka.common.errors.TimeoutException;
 import org.apache.kafka.common.errors.WakeupException;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.ingest.definition.MonitorConfig;
@@ -54,7 +62,18 @@ import org.slf4j.LoggerFactory;
  * then their pipelines are dropped. On assign a fresh pipeline is created per partition and the
  * partition paused; the blocking look-ups of the rebuild (committed offsets, the committed record's
  * timestamp, offsets for times, the published alerts) run in the loop, not in the callback; then the
- * partition is sought back and resumed.
+ * partition is sought back and resumed. A commit that meets a rebalance in progress
+ * ({@link RebalanceInProgressException}, {@link CommitFailedException}) is kept and tried again
+ * after the next poll has completed the rebalance; partitions that leave are committed in
+ * {@link #onPartitionsRevoked}, so a join or a leave neither loses nor repeats applied work.
+ *
+ * <p>Broker outages: every blocking broker call is bounded ({@code brokerWait} for storing outputs
+ * and committing, the consumer's {@code default.api.timeout.ms} for the rebuild look-ups). A call
+ * that fails or times out is tried again with exponential backoff ({@link BrokerRetry}); meanwhile
+ * input is paused (outputs not yet stored wait in the producer, which does not expire them), the
+ * service is not ready and {@code /status} names the reason. Outputs lost to the producer
+ * ({@link KafkaOutputPublisher#storeFailure()}) are produced again by rebuilding every partition from
+ * its last commit. Nothing but {@link #stop()} or an error that is not the broker's ends the loop.
  */
 final class PollLoop implements Runnable, ConsumerRebalanceListener {
 
@@ -62,6 +81,12 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
     private static final Duration POLL = Duration.ofMillis(100);
     private static final long SNAPSHOT_NANOS = 200_000_000L;
     private static final long IDLE_CHECK_NANOS = 1_000_000_000L;
+    /** Longest wait at the start for a broker connection before the loop says the broker is unreachable. */
+    private static final long MAX_START_WAIT_NANOS = 10_000_000_000L;
+    /** Longest wait for outputs to be stored and for a commit, per try. */
+    private static final Duration MAX_BROKER_WAIT = Duration.ofSeconds(5);
+    /** Longest backoff between tries of a failing broker operation. */
+    private static final long MAX_BACKOFF_NANOS = 30_000_000_000L;
     /** Reason code of records the pipeline failed on (see {@link #pipelineFailed}). */
     static final String PIPELINE_ERROR = "pipeline-error";
 
@@ -75,6 +100,15 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
     private final BatchWorker worker;
     private final ReadShare readShare = new ReadShare();
     private final Duration timeout;
+    private final Duration brokerWait;
+    private final BrokerRetry commitRetry;
+    private final BrokerRetry planRetry;
+    private final BrokerRetry connectionRetry;
+    private final String bootstrapServers;
+    private boolean startWarned;
+    private boolean inputPaused;
+    private boolean commitDeferredLogged;
+    private long noConnectionSinceNanos;
     private final long commitIntervalNanos;
     private final boolean resetToLatest;
     private final LongSupplier wallClockMillis;
@@ -108,7 +142,16 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
         this.archive = archive;
         this.meters = meters;
         this.worker = worker;
-        this.timeout = Duration.ofSeconds(30);
+        // The consumer's own bound on blocking calls (30 s unless given): rebuild look-ups; storing
+        // outputs and committing wait at most 5 s per try, so an outage shows within seconds.
+        String apiTimeout = config.kafka().get(ConsumerConfig.DEFAULT_API_TIMEOUT_MS_CONFIG);
+        this.timeout = apiTimeout == null ? Duration.ofSeconds(30) : Duration.ofMillis(Long.parseLong(apiTimeout.trim()));
+        this.brokerWait = timeout.compareTo(MAX_BROKER_WAIT) < 0 ? timeout : MAX_BROKER_WAIT;
+        long firstBackoff = Math.max(commitInterval.toNanos(), 100_000_000L);
+        this.commitRetry = new BrokerRetry(firstBackoff, MAX_BACKOFF_NANOS);
+        this.planRetry = new BrokerRetry(firstBackoff, MAX_BACKOFF_NANOS);
+        this.connectionRetry = new BrokerRetry(firstBackoff, MAX_BACKOFF_NANOS);
+        this.bootstrapServers = String.valueOf(config.kafka().get(CommonClientConfigs.BOOTSTRAP_SERVERS_CONFIG));
         this.commitIntervalNanos = commitInterval.toNanos();
         this.resetToLatest = resetToLatest;
         this.wallClockMillis = wallClockMillis;
@@ -150,12 +193,19 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
                 if (!records.isEmpty()) {
                     meters.pollTurn(reading - polling, waiting - reading, System.nanoTime() - waiting);
                 }
-                planPendingRebuilds();
+                long now = System.nanoTime();
+                if (planRetry.due(now)) {
+                    planPendingRebuilds();
+                }
                 noteProcessedPositions(records);
                 finishRebuilds();
-                if (System.nanoTime() - lastCommitNanos >= commitIntervalNanos) {
+                Exception lost = publisher.storeFailure();
+                if (lost != null) {
+                    rebuildFromCommits(lost);
+                } else if (now - lastCommitNanos >= commitIntervalNanos && commitRetry.due(now)) {
                     flushAndCommit(states.keySet());
                 }
+                checkConnection(now);
                 tick();
                 submit(batch);
             }
@@ -169,8 +219,14 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
                 worker.await();
             } finally {
                 try {
-                    if (!states.isEmpty()) {
-                        flushAndCommit(states.keySet());
+                    if (!states.isEmpty() && publisher.storeFailure() == null) {
+                        try {
+                            flushAndCommit(states.keySet());
+                        } catch (WakeupException e) {
+                            // stop() woke the consumer up after its last poll: the wake-up is used
+                            // up now, so the last commit can be made.
+                            flushAndCommit(states.keySet());
+                        }
                     }
                 } finally {
                     worker.close();
@@ -285,8 +341,6 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
                 } else {
                     try {
                         outcome = state.pipeline.offerRead(part.read()[i], value, origin, suppress);
-                    } catch (KafkaOutputPublisher.OutputFailedException e) {
-                        throw e;
                     } catch (RuntimeException e) {
                         outcome = pipelineFailed(state, value, origin, suppress, e);
                     }
@@ -301,10 +355,17 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
             }
             // The partition's fields are written once per batch, not per record: the poll thread
             // reads objects allocated next to them.
+            state.pipeline.drainDecidedHeld(counts::add); // records held beyond the horizon, decided now
+            // no commit past a record still held beyond its stream's horizon (it is in no window yet)
+            long held = state.pipeline.oldestHeldOffset();
+            if (held != Long.MAX_VALUE && held > state.lastCommitted) {
+                nextCommit = nextCommit < 0 ? held : Math.min(nextCommit, held);
+            } else if (held != Long.MAX_VALUE) {
+                nextCommit = -1;
+            }
             if (nextCommit >= 0) {
                 state.nextCommit = nextCommit;
             }
-            state.pipeline.drainDecidedHeld(counts::add); // records held beyond the horizon, decided now
             state.pipeline.batchDone();
             state.rebuiltRecords += rebuilt;
             meters.rebuildRecords(rebuilt);
@@ -331,8 +392,22 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
         return outcome;
     }
 
-    private void flushAndCommit(Collection<TopicPartition> partitions) {
-        publisher.flush();
+    /**
+     * Waits (at most {@code brokerWait}) until every output sent so far is stored, then commits the
+     * offsets after the last live record applied of each of {@code partitions}.
+     *
+     * @return true when committed (or nothing to commit); false when the commit is left for a later
+     *     try: outputs not stored yet or lost (then nothing is committed), a rebalance in progress
+     *     (tried again after the next poll), or the broker not answering (backoff, input paused)
+     */
+    private boolean flushAndCommit(Collection<TopicPartition> partitions) {
+        if (!publisher.awaitStored(brokerWait)) {
+            brokerFailed(commitRetry, publisher.pending() + " outputs not stored by the broker within " + brokerWait);
+            return false;
+        }
+        if (publisher.storeFailure() != null) {
+            return false;
+        }
         Map<TopicPartition, OffsetAndMetadata> offsets = new HashMap<>();
         for (TopicPartition tp : partitions) {
             PartitionState state = states.get(tp);
@@ -341,11 +416,134 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
             }
         }
         if (!offsets.isEmpty()) {
-            consumer.commitSync(offsets, timeout);
+            try {
+                consumer.commitSync(offsets, brokerWait);
+            } catch (RebalanceInProgressException | CommitFailedException e) {
+                // The group is rebalancing (or has just moved on a generation): the offsets stay
+                // pending. The next poll completes the rebalance; partitions that leave this
+                // instance are committed in onPartitionsRevoked, the others on the next try.
+                if (!commitDeferredLogged) {
+                    LOG.info("commit deferred until the group's rebalance completes: {}", e.getClass().getSimpleName());
+                    commitDeferredLogged = true;
+                }
+                return false;
+            } catch (RetriableException e) {
+                brokerFailed(commitRetry, "commit failed: " + e);
+                return false;
+            }
+            commitDeferredLogged = false;
             offsets.forEach((tp, om) -> states.get(tp).lastCommitted = om.offset());
-            snapshot = buildSnapshot();
         }
+        brokerRecovered(commitRetry, "outputs stored and offsets committed");
         lastCommitNanos = System.nanoTime();
+        snapshot = buildSnapshot();
+        return true;
+    }
+
+    /**
+     * A broker operation failed: it is tried again after its backoff; meanwhile input is paused (what
+     * is applied only adds outputs that cannot be stored) and the service is not ready.
+     */
+    private void brokerFailed(BrokerRetry retry, String reason) {
+        if (retry.failed(reason, System.nanoTime())) {
+            LOG.warn("Kafka broker not available ({}); input paused, retrying with backoff, /health not ready", reason);
+        }
+        pauseInput();
+        snapshot = buildSnapshot();
+    }
+
+    private void brokerRecovered(BrokerRetry retry, String what) {
+        long nanos = retry.succeeded(System.nanoTime());
+        if (nanos >= 0) {
+            LOG.info("Kafka broker available again after {} ms: {}", nanos / 1_000_000, what);
+        }
+        if (inputPaused && !commitRetry.failing() && !planRetry.failing() && !connectionRetry.failing()) {
+            inputPaused = false;
+            List<TopicPartition> live = new ArrayList<>();
+            for (PartitionState state : states.values()) {
+                if (state.planned) {
+                    live.add(state.partition);
+                }
+            }
+            consumer.resume(live);
+        }
+    }
+
+    private void pauseInput() {
+        if (!inputPaused) {
+            inputPaused = true;
+            consumer.pause(states.keySet());
+        }
+    }
+
+    /**
+     * Outputs were lost to the producer (an error other than the record's own, see
+     * {@link KafkaOutputPublisher}): every partition gets a fresh pipeline and is rebuilt from its
+     * last commit, which produces the outputs since then again (same keys, same content).
+     */
+    private void rebuildFromCommits(Exception lost) {
+        brokerFailed(commitRetry, "outputs could not be stored: " + lost);
+        if (!publisher.awaitStored(brokerWait)) {
+            return; // wait for every send outstanding to end before starting over
+        }
+        LOG.warn("outputs could not be stored ({}); every partition is rebuilt from its last commit and its "
+                + "outputs since then are produced again", lost.toString());
+        publisher.clearStoreFailure();
+        List<TopicPartition> all = new ArrayList<>(states.keySet());
+        drop(all);
+        for (TopicPartition tp : all) {
+            states.put(tp, new PartitionState(tp, pipelines.create(tp)));
+        }
+        consumer.pause(all);
+        snapshot = buildSnapshot();
+    }
+
+    /**
+     * Whether the consumer has any broker connection: while it has none for {@code brokerWait}
+     * (at the start: twice the look-up timeout, at most 10 s) the service is not ready, and one line says so.
+     */
+    private void checkConnection(long now) {
+        Double connections = connectionCount();
+        if (connections == null) {
+            return;
+        }
+        if (connections > 0) {
+            noConnectionSinceNanos = 0;
+            if (connectionRetry.failing()) {
+                // The broker answers again: what waits for it is tried at once, not after its backoff.
+                commitRetry.retryNow(now);
+                planRetry.retryNow(now);
+                brokerRecovered(connectionRetry, "connected to " + bootstrapServers);
+            }
+            return;
+        }
+        if (noConnectionSinceNanos == 0) {
+            noConnectionSinceNanos = now;
+        }
+        long limit = assignedOnce ? brokerWait.toNanos() : Math.min(MAX_START_WAIT_NANOS, 2 * timeout.toNanos());
+        if (now - noConnectionSinceNanos >= limit && !connectionRetry.failing()) {
+            String reason = "no connection to any Kafka broker at " + bootstrapServers + " for "
+                    + (now - noConnectionSinceNanos) / 1_000_000_000L + " s";
+            if (!assignedOnce && !startWarned) {
+                startWarned = true;
+                LOG.error("{}; retrying quietly in the background, /health stays not ready until it answers", reason);
+                connectionRetry.failed(reason, now);
+                snapshot = buildSnapshot();
+            } else {
+                brokerFailed(connectionRetry, reason);
+            }
+        }
+    }
+
+    /** The consumer's {@code connection-count} metric, or null when the client has none. */
+    private Double connectionCount() {
+        for (Map.Entry<org.apache.kafka.common.MetricName, ? extends Metric> e : consumer.metrics().entrySet()) {
+            if (e.getKey().name().equals("connection-count") && e.getKey().group().equals("consumer-metrics")) {
+                Object value = e.getValue().metricValue();
+                return value instanceof Number n ? n.doubleValue() : null;
+            }
+        }
+        return null;
     }
 
     // ---- rebalance -------------------------------------------------------------------------
@@ -354,7 +552,13 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
     public void onPartitionsRevoked(Collection<TopicPartition> partitions) {
         worker.await(); // the batch in flight may hold records of these partitions
         try {
-            flushAndCommit(partitions);
+            if (publisher.storeFailure() == null && !flushAndCommit(partitions)) {
+                LOG.warn("partitions revoked before their last outputs were committed (the new owner produces the "
+                        + "outputs since the last commit again, same keys and content): {}", partitions);
+            }
+        } catch (KafkaException e) {
+            // A callback that throws would stop the poll; the hand-over goes on without this commit.
+            LOG.warn("commit on revoke failed ({}): the new owner re-reads from the last commit", e.toString());
         } finally {
             drop(partitions);
         }
@@ -395,6 +599,12 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
 
     // ---- rebuild ---------------------------------------------------------------------------
 
+    /**
+     * Plans the rebuild of newly assigned partitions. Every look-up (alerts published, committed
+     * offsets, partition bounds, the committed record's time, offsets for times) is made before any
+     * state changes, so a look-up that fails (the broker away) leaves the partitions paused and
+     * unplanned, to be tried again after a backoff.
+     */
     private void planPendingRebuilds() {
         List<PartitionState> pending = new ArrayList<>();
         for (PartitionState state : states.values()) {
@@ -408,52 +618,65 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
         long started = System.nanoTime();
         Set<TopicPartition> tps = new HashSet<>();
         pending.forEach(s -> tps.add(s.partition));
-        restoreAlerts(pending);
-
-        Map<TopicPartition, OffsetAndMetadata> committed = consumer.committed(tps, timeout);
-        Map<TopicPartition, Long> beginning = consumer.beginningOffsets(tps, timeout);
-        Map<TopicPartition, Long> end = consumer.endOffsets(tps, timeout);
-        Map<TopicPartition, Long> startTimes = new HashMap<>();
+        Map<TopicPartition, Long> until = new HashMap<>();
+        Map<TopicPartition, Long> seekTo = new HashMap<>();
+        Map<PartitionState, List<Alert>> alerts;
+        try {
+            alerts = publishedAlerts(pending);
+            Map<TopicPartition, OffsetAndMetadata> committed = consumer.committed(tps, timeout);
+            Map<TopicPartition, Long> beginning = consumer.beginningOffsets(tps, timeout);
+            Map<TopicPartition, Long> end = consumer.endOffsets(tps, timeout);
+            Map<TopicPartition, Long> startTimes = new HashMap<>();
+            for (PartitionState state : pending) {
+                TopicPartition tp = state.partition;
+                OffsetAndMetadata c = committed.get(tp);
+                long upTo;
+                Long recordMillis;
+                if (c != null) {
+                    upTo = c.offset();
+                    recordMillis = recordTimestamp(tp, upTo, beginning.get(tp), end.get(tp));
+                } else if (resetToLatest) {
+                    upTo = end.get(tp);
+                    recordMillis = wallClockMillis.getAsLong();
+                } else {
+                    upTo = beginning.get(tp);
+                    recordMillis = null;
+                }
+                until.put(tp, upTo);
+                LOG.info("rebuild plan {}: committed {}, partition [{}, {}), record time {}", tp,
+                        c == null ? null : c.offset(), beginning.get(tp), end.get(tp),
+                        recordMillis == null ? null : java.time.Instant.ofEpochMilli(recordMillis));
+                if (recordMillis == null || upTo <= beginning.get(tp)) {
+                    seekTo.put(tp, upTo);
+                } else {
+                    startTimes.put(tp, Math.max(0, spans.get(tp.topic()).startMillis(recordMillis)));
+                }
+            }
+            if (!startTimes.isEmpty()) {
+                Map<TopicPartition, OffsetAndTimestamp> found = consumer.offsetsForTimes(startTimes, timeout);
+                for (TopicPartition tp : startTimes.keySet()) {
+                    OffsetAndTimestamp at = found.get(tp);
+                    long from = at == null ? until.get(tp) : Math.min(at.offset(), until.get(tp));
+                    seekTo.put(tp, Math.max(from, beginning.get(tp)));
+                    LOG.info("rebuilding {} from offset {} to {} ({})", tp, from, until.get(tp), spans.get(tp.topic()));
+                }
+            }
+        } catch (RetriableException e) {
+            brokerFailed(planRetry, "rebuild look-ups failed: " + e);
+            return;
+        }
         for (PartitionState state : pending) {
             TopicPartition tp = state.partition;
-            OffsetAndMetadata c = committed.get(tp);
-            long until;
-            Long recordMillis;
-            if (c != null) {
-                until = c.offset();
-                recordMillis = recordTimestamp(tp, until, beginning.get(tp), end.get(tp));
-            } else if (resetToLatest) {
-                until = end.get(tp);
-                recordMillis = wallClockMillis.getAsLong();
-            } else {
-                until = beginning.get(tp);
-                recordMillis = null;
-            }
-            state.rebuildUntil = until;
+            state.pipeline.restoreAlerts(alerts.get(state));
+            state.rebuildUntil = until.get(tp);
             state.rebuildStartedNanos = started;
-            LOG.info("rebuild plan {}: committed {}, partition [{}, {}), record time {}", tp, c == null ? null : c.offset(),
-                    beginning.get(tp), end.get(tp), recordMillis == null ? null : java.time.Instant.ofEpochMilli(recordMillis));
-            if (recordMillis == null || until <= beginning.get(tp)) {
-                consumer.seek(tp, until);
-            } else {
-                startTimes.put(tp, Math.max(0, spans.get(tp.topic()).startMillis(recordMillis)));
-            }
-        }
-        if (!startTimes.isEmpty()) {
-            Map<TopicPartition, OffsetAndTimestamp> found = consumer.offsetsForTimes(startTimes, timeout);
-            for (Map.Entry<TopicPartition, Long> e : startTimes.entrySet()) {
-                TopicPartition tp = e.getKey();
-                PartitionState state = states.get(tp);
-                OffsetAndTimestamp at = found.get(tp);
-                long from = at == null ? state.rebuildUntil : Math.min(at.offset(), state.rebuildUntil);
-                consumer.seek(tp, Math.max(from, beginning.get(tp)));
-                LOG.info("rebuilding {} from offset {} to {} ({})", tp, from, state.rebuildUntil, spans.get(tp.topic()));
-            }
-        }
-        for (PartitionState state : pending) {
+            consumer.seek(tp, seekTo.get(tp));
             state.planned = true;
         }
-        consumer.resume(tps);
+        if (!inputPaused) {
+            consumer.resume(tps);
+        }
+        brokerRecovered(planRetry, "rebuild look-ups answered");
         meters.rebuildStarted(pending.size());
         snapshot = buildSnapshot();
     }
@@ -477,10 +700,11 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
                 }
             }
         }
-        throw new IllegalStateException("could not read the record at " + tp + "@" + target + " within " + timeout);
+        throw new TimeoutException("could not read the record at " + tp + "@" + target + " within " + timeout);
     }
 
-    private void restoreAlerts(List<PartitionState> pending) {
+    /** The published alerts of each pending partition's monitors (read before any state changes). */
+    private Map<PartitionState, List<Alert>> publishedAlerts(List<PartitionState> pending) {
         Set<String> alertTopics = new HashSet<>();
         for (PartitionState state : pending) {
             for (MonitorDefinition monitor : config.monitorsFor(state.partition.topic())) {
@@ -488,6 +712,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
             }
         }
         List<Alert> published = archive.read(alertTopics);
+        Map<PartitionState, List<Alert>> out = new HashMap<>();
         for (PartitionState state : pending) {
             List<Alert> mine = new ArrayList<>();
             for (Alert alert : published) {
@@ -495,8 +720,9 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
                     mine.add(alert);
                 }
             }
-            state.pipeline.restoreAlerts(mine);
+            out.put(state, mine);
         }
+        return out;
     }
 
     private static boolean belongsTo(String stream, List<MonitorDefinition> monitors) {
@@ -519,8 +745,18 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
         }
     }
 
+    /** Why the broker is being waited for (the first failing operation), or null. */
+    private String brokerTrouble() {
+        for (BrokerRetry retry : List.of(connectionRetry, commitRetry, planRetry)) {
+            if (retry.failing()) {
+                return retry.reason();
+            }
+        }
+        return null;
+    }
+
     private boolean ready() {
-        if (!assignedOnce || closing) {
+        if (!assignedOnce || closing || brokerTrouble() != null) {
             return false;
         }
         for (PartitionState state : states.values()) {
@@ -536,7 +772,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
     private void tick() {
         long now = System.nanoTime();
         Duration refresh = config.service().refresh();
-        if (refresh != null && !refresh.isZero() && now - lastRefreshNanos >= refresh.toNanos()) {
+        if (refresh != null && !refresh.isZero() && now - lastRefreshNanos >= refresh.toNanos() && !inputPaused) {
             for (PartitionState state : states.values()) {
                 if (live(state)) {
                     state.pipeline.emitInterim();
@@ -618,7 +854,8 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
             }
         }
         meters.monitoringGaps(inputs);
-        return new ServiceStatus(ready() ? "ready" : (closing ? "stopped" : "rebuilding"), counts.snapshot(),
-                partitions, inputs);
+        String reason = brokerTrouble();
+        String state = ready() ? "ready" : closing ? "stopped" : reason != null ? "waiting-for-broker" : "rebuilding";
+        return new ServiceStatus(state, reason, counts.snapshot(), partitions, inputs);
     }
 }

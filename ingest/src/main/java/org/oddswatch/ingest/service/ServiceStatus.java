@@ -7,15 +7,17 @@ import org.oddswatch.ingest.pipeline.PipelineSnapshot;
 /**
  * What {@code /status} shows: a snapshot taken by the poll loop (at most a fraction of a second old).
  *
- * @param state {@code starting}, {@code rebuilding}, {@code ready} or {@code stopped}
+ * @param state {@code starting}, {@code rebuilding}, {@code ready}, {@code waiting-for-broker} (the
+ *     broker does not answer: input paused, retried with backoff) or {@code stopped}
+ * @param reason why the service is waiting for the broker, or null
  * @param counts live records consumed since start by outcome and reason (the suppressed re-read
  *     is not counted): {@code consumed = accepted + rejected + late + duplicate}
  * @param partitions the assigned input partitions
  * @param inputs per assigned partition, its pipeline: every stream with watermark, last final window
  *     and counts
  */
-public record ServiceStatus(String state, OutcomeCounts.Snapshot counts, List<PartitionStatus> partitions,
-                            List<PipelineSnapshot> inputs) {
+public record ServiceStatus(String state, String reason, OutcomeCounts.Snapshot counts,
+                            List<PartitionStatus> partitions, List<PipelineSnapshot> inputs) {
 
     public ServiceStatus {
         partitions = List.copyOf(partitions);
@@ -23,11 +25,11 @@ public record ServiceStatus(String state, OutcomeCounts.Snapshot counts, List<Pa
     }
 
     static ServiceStatus starting() {
-        return new ServiceStatus("starting", new OutcomeCounts().snapshot(), List.of(), List.of());
+        return new ServiceStatus("starting", null, new OutcomeCounts().snapshot(), List.of(), List.of());
     }
 
     ServiceStatus stopped() {
-        return new ServiceStatus("stopped", counts, partitions, inputs);
+        return new ServiceStatus("stopped", null, counts, partitions, inputs);
     }
 
     /**

@@ -84,6 +84,27 @@ public final class EmbeddedKafka implements TestBroker, AutoCloseable, BeforeAll
         return running().bootstrapServers().replace("localhost:", "127.0.0.1:");
     }
 
+    /**
+     * Shuts the broker down (the controller keeps running): clients lose every connection and the
+     * client port refuses them until {@link #restartBroker()}. Data and committed offsets are kept.
+     */
+    public synchronized void stopBroker() {
+        running().brokers().values().forEach(b -> b.shutdown());
+    }
+
+    /** Starts the broker stopped by {@link #stopBroker()} again on the same port and waits until it is ready. */
+    public synchronized void restartBroker() {
+        try {
+            running().brokers().values().forEach(b -> b.startup());
+            running().waitForReadyBrokers();
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+            throw new IllegalStateException(e);
+        } catch (Exception e) {
+            throw new IllegalStateException("could not restart the embedded broker: " + e.getMessage(), e);
+        }
+    }
+
     private KafkaClusterTestKit running() {
         if (cluster == null) {
             throw new IllegalStateException("embedded Kafka is not started");

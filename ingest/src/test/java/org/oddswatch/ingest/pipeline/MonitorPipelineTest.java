@@ -411,9 +411,10 @@ class MonitorPipelineTest {
      */
     @Test
     void restartDuringACusumEpisodeGivesTheUninterruptedAlerts() throws Exception {
-        String withCusum = DEFINITION.replace("    rules: {}",
+        String withCusum = DEFINITION.replace(NO_RULES,
                 "    baseline: {from: 2026-02-02T00:00:00Z, to: 2026-02-05T00:00:00Z}\n"
-                        + "    rules: {cusum: {}, guard: {minEvents: 100}}");
+                        + "    rules: {oddsRatioDrift: {enabled: false}, calibration: {enabled: false}, cusum: {},"
+                        + " guard: {minEvents: 100}}");
         // 14 days at 2,000 events a day; the household-contact log odds ratio rises by 0.8 after the
         // baseline period, so the upper chart signals within the first few hundred events and keeps on
         List<String> records = new ArrayList<>();
@@ -429,6 +430,7 @@ class MonitorPipelineTest {
         List<String> expected = uninterrupted.alerts.stream().map(Json::write).toList();
         assertTrue(uninterrupted.alerts.stream().filter(a -> a.rule().equals("bernoulli-cusum-up")).count() >= 8,
                 "an episode long enough to stop in: " + expected.size());
+        assertTrue(withCusum.contains("cusum: {},"), "the definition switches the CUSUM on");
         for (int stop : new int[] {9_000, 17_000}) {
             CollectingListener first = new CollectingListener();
             MonitorPipeline before = pipeline(withCusum, first);

@@ -197,7 +197,7 @@ class ServiceRecoveryTest {
         createTopics(prefix, input, 1);
         // the drift rule and the default CUSUM
         String yaml = TestDefinitions.driftYaml(KAFKA.bootstrapServers(), prefix, input, null)
-                .replace("      oddsRatioDrift: {", "      cusum: {}\n      oddsRatioDrift: {");
+                .replace("cusum: {enabled: false}", "cusum: {}");
         MonitorConfig config = TestDefinitions.config(yaml);
         int first = cut < 0 ? feed.size() : cut;
         ServiceTestSupport.produce(KAFKA, input, feed.subList(0, first), false, true);
