@@ -7,6 +7,7 @@ import java.util.Comparator;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
+import java.util.NavigableMap;
 import org.oddswatch.alerts.gaps.GapReason;
 import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.alerts.lifecycle.Alert;
@@ -28,6 +29,9 @@ import org.oddswatch.alerts.rules.Reading;
 import org.oddswatch.alerts.rules.WindowRule;
 import org.oddswatch.alerts.rules.Zone;
 import org.oddswatch.estimator.calibration.BaselineModel;
+import org.oddswatch.estimator.result.ChartSubject;
+import org.oddswatch.estimator.result.CusumValue;
+import org.oddswatch.estimator.result.DriftValue;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.estimator.result.WindowStatus;
 import org.oddswatch.estimator.window.WindowGeometry;
@@ -55,6 +59,9 @@ public final class AlertEngine {
     private final AlertRulesConfig rules;
     /** The guard of each window rule, by rule name, to tell why a window was not judged. */
     private final Map<String, InformationGuard> guards = new LinkedHashMap<>();
+    /** The chart values of the latest final window: its end, the drift statistics (the CUSUM's are in the rule). */
+    private Instant chartsEnd;
+    private final List<DriftValue> drift = new ArrayList<>();
     /** Final windows a running rule did not judge, by rule and reason, in first-seen order. */
     private final Map<List<Object>, Unjudged> unjudged = new LinkedHashMap<>();
 
@@ -138,6 +145,7 @@ public final class AlertEngine {
             return List.of();
         }
         List<Alert> out = new ArrayList<>();
+        startCharts(estimate);
         if (overlapsBaseline(estimate.windowStart().toEpochMilli(), estimate.windowEnd().toEpochMilli())) {
             if (!windowRules.isEmpty()) {
                 unjudged(null, GapReason.BASELINE_PERIOD, estimate.windowEnd(), inBaselinePeriod(baseline.periodStart(),
@@ -149,6 +157,10 @@ public final class AlertEngine {
                     if (reading.zone() == Zone.UNKNOWN) {
                         unjudged(rule.name(), whyUnknown(rule.name(), estimate, reading), estimate.windowEnd(),
                                 reading.detail());
+                    } else if (OddsRatioDriftRule.NAME.equals(rule.name()) && reading.evidence() != null
+                            && reading.evidence().z() != null) {
+                        drift.add(new DriftValue(rule.name(), new ChartSubject(reading.subject().term(),
+                                reading.subject().level()), reading.evidence().z()));
                     }
                     publishable(reading, out);
                 }
@@ -168,8 +180,33 @@ public final class AlertEngine {
             return List.of();
         }
         List<Alert> out = new ArrayList<>();
+        startCharts(estimate);
         cusumReport(estimate, out);
         return out;
+    }
+
+    private void startCharts(WindowEstimate estimate) {
+        chartsEnd = estimate.windowEnd();
+        drift.clear();
+    }
+
+    /**
+     * The final estimate with what charts need, as the rules computed it for this window in the
+     * latest {@link #onFinalEstimate} or {@link #onBaselinePeriodWindow}: the drift statistic
+     * {@code z} of each watched coefficient the drift rule judged, and every CUSUM chart's value at the
+     * window's end and its largest value since the previous final window's end. An estimate the
+     * engine has not just judged, or one without such values, comes back unchanged.
+     */
+    public WindowEstimate withCharts(WindowEstimate estimate) {
+        if (estimate.status() != WindowStatus.FINAL || !estimate.windowEnd().equals(chartsEnd)
+                || !stream.equals(estimate.stream())) {
+            return estimate;
+        }
+        List<CusumValue> cusumValues = cusum == null ? List.of() : cusum.reportedValues();
+        if (drift.isEmpty() && cusumValues.isEmpty()) {
+            return estimate;
+        }
+        return estimate.withCharts(drift, cusumValues);
     }
 
     private void cusumReport(WindowEstimate estimate, List<Alert> out) {
@@ -291,9 +328,45 @@ public final class AlertEngine {
                 .toList();
         for (Alert a : mine) {
             String key = Reading.key(a.rule(), a.subject());
-            tracker.restore(key, a.id(), a.state() != AlertState.CLEARED, a.windowEnd());
+            Integer run = a.evidence() == null ? null : a.evidence().consecutiveWindows();
+            tracker.restore(key, a.id(), a.state() != AlertState.CLEARED, a.windowEnd(), run == null ? 0 : run);
             lastByKey.put(key, a);
         }
+    }
+
+    /**
+     * Continues the CUSUM charts after a restart from the values published with this stream's final
+     * windows (read back from the estimates topic): each chart from the earliest window ending at or
+     * after {@code notBeforeMillis} whose entry for it is complete ({@link BernoulliCusumRule#resume}).
+     * The caller re-feeds every event at or after {@code notBeforeMillis}; the charts then give the
+     * uninterrupted run's values, readings and messages for every window after the one they resumed
+     * from. Call before any event. A chart without such an entry starts at 0 with the events
+     * re-fed, as before.
+     *
+     * @param published this stream's published CUSUM values by final window end
+     * @return the charts resumed
+     */
+    public int resumeCharts(NavigableMap<Instant, List<CusumValue>> published, long notBeforeMillis) {
+        if (cusum == null) {
+            return 0;
+        }
+        int resumed = 0;
+        for (Map.Entry<Instant, List<CusumValue>> e : published.tailMap(Instant.ofEpochMilli(notBeforeMillis), true)
+                .entrySet()) {
+            for (CusumValue value : e.getValue()) {
+                resumed += cusum.resume(e.getKey(), value) ? 1 : 0;
+            }
+        }
+        // the windows a resumed chart will not read again: their readings after the newest message
+        // restored bring the episode runs to where they stood (they publish nothing: any message they
+        // would give was published then)
+        for (Reading reading : cusum.publishedReadings(published)) {
+            Instant upTo = tracker.publishedUpTo(reading.key());
+            if (upTo == null || reading.windowEnd().isAfter(upTo)) {
+                tracker.step(reading);
+            }
+        }
+        return resumed;
     }
 
     private void publishable(Reading reading, List<Alert> out) {

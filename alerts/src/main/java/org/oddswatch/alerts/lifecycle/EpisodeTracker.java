@@ -35,8 +35,13 @@ public final class EpisodeTracker {
         switch (r.zone()) {
             case BEYOND -> {
                 ep.insideRun = 0;
-                ep.beyondRun = ep.direction == r.direction() ? ep.beyondRun + 1 : 1;
+                ep.beyondRun = ep.direction == r.direction() || ep.directionUnknown ? ep.beyondRun + 1 : 1;
                 ep.direction = r.direction();
+                ep.directionUnknown = false;
+                if (ep.restoredRun > 0 && r.windowEnd().equals(ep.publishedUpTo)) {
+                    // the reading of the newest message published: its run is the message's own
+                    ep.beyondRun = ep.restoredRun;
+                }
                 if (ep.open) {
                     state = AlertState.CONTINUING;
                 } else if (ep.beyondRun >= r.raiseAfter()) {
@@ -48,6 +53,7 @@ public final class EpisodeTracker {
             case INSIDE -> {
                 ep.beyondRun = 0;
                 ep.direction = 0;
+                ep.directionUnknown = false;
                 if (ep.open && ++ep.insideRun >= r.clearAfter()) {
                     ep.open = false;
                     ep.insideRun = 0;
@@ -57,6 +63,7 @@ public final class EpisodeTracker {
             default -> {
                 ep.beyondRun = 0;
                 ep.direction = 0;
+                ep.directionUnknown = false;
                 ep.insideRun = 0;
             }
         }
@@ -73,15 +80,35 @@ public final class EpisodeTracker {
 
     /** Marks an episode as published up to {@code windowEnd}, open or not (from the alerts topic). */
     public void restore(String key, String id, boolean open, Instant windowEnd) {
+        restore(key, id, open, windowEnd, 0);
+    }
+
+    /**
+     * Marks an episode as published up to {@code windowEnd}, open or not, with the run of readings
+     * beyond the limit that the newest message named ({@code consecutiveWindows}; 0 for a clearing).
+     * The run stands as it was after that message: a later reading beyond the limit extends it, and a
+     * replayed reading of that message's own window sets it to the message's run again, so the runs
+     * (and the {@code consecutiveWindows} of later messages) are those of an uninterrupted run even
+     * when the rebuild re-feeds fewer readings than the run is long.
+     */
+    public void restore(String key, String id, boolean open, Instant windowEnd, int run) {
         Episode ep = episodes.computeIfAbsent(key, k -> new Episode());
         ep.id = id;
         ep.open = open;
-        ep.beyondRun = 0;
+        ep.beyondRun = open ? run : 0;
+        ep.restoredRun = open ? run : 0;
+        ep.directionUnknown = open && run > 0;
         ep.insideRun = 0;
         ep.direction = 0;
         if (ep.publishedUpTo == null || windowEnd.isAfter(ep.publishedUpTo)) {
             ep.publishedUpTo = windowEnd;
         }
+    }
+
+    /** The window end of the newest message published for this key (restored or stepped), or null. */
+    public Instant publishedUpTo(String key) {
+        Episode ep = episodes.get(key);
+        return ep == null ? null : ep.publishedUpTo;
     }
 
     /** Whether the episode of this key is open. */
@@ -107,5 +134,8 @@ public final class EpisodeTracker {
         int direction;
         int insideRun;
         Instant publishedUpTo;
+        /** The run the newest restored message named, and whether the run's direction is still to be seen. */
+        int restoredRun;
+        boolean directionUnknown;
     }
 }

@@ -11,6 +11,8 @@ import org.oddswatch.alerts.lifecycle.AlertSubject;
 import org.oddswatch.alerts.lifecycle.Evidence;
 import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.estimator.calibration.BaselineModel;
+import org.oddswatch.estimator.result.ChartSubject;
+import org.oddswatch.estimator.result.CusumValue;
 import org.oddswatch.estimator.terms.Column;
 import org.oddswatch.estimator.window.WindowGeometry;
 
@@ -42,8 +44,11 @@ import org.oddswatch.estimator.window.WindowGeometry;
  * windows in a row without a signal, each ending with the chart below the clear limit.
  *
  * <p>The charts' values and the readings are a function of the events before each report's time
- * alone (no episode state is kept here, nothing is restored), so a rebuild that re-feeds the same
- * events reproduces them exactly.
+ * alone (no episode state is kept here), so a rebuild that re-feeds the same events reproduces them
+ * exactly. A rebuild that re-feeds only the newer events instead {@link #resume resumes} each chart
+ * from the values published with a final window ({@link #reportedValues}): the chart then takes no
+ * event before that window's end and gives no reading for a window ending at or before it, so from
+ * there on it is a function of the values resumed and the events after that window's end.
  *
  * <p>Published times and counts: an alert's window runs from the start of the bucket holding the
  * excursion's first event to the final window's end, so no event's own time is published; counts in
@@ -66,6 +71,7 @@ public final class BernoulliCusumRule {
     private final PriorityQueue<Pending> pending = new PriorityQueue<>(
             Comparator.comparingLong(Pending::time).thenComparing(Pending::id));
     private long lastReportEnd = Long.MIN_VALUE;
+    private List<CusumValue> lastValues = List.of();
 
     public BernoulliCusumRule(Cusum settings, InformationGuard guard, BaselineModel baseline) {
         this(settings, guard, baseline, null, SmallCellPolicy.DEFAULT);
@@ -124,7 +130,7 @@ public final class BernoulliCusumRule {
                 continue;
             }
             for (Chart chart : charts) {
-                if (chart.column < 0 || p.row[chart.column] == 1.0) {
+                if ((chart.column < 0 || p.row[chart.column] == 1.0) && p.time >= chart.resumedAt) {
                     chart.add(p, risk);
                 }
             }
@@ -143,10 +149,77 @@ public final class BernoulliCusumRule {
         }
         close(end);
         List<Reading> out = new ArrayList<>(charts.size());
+        List<CusumValue> values = new ArrayList<>(charts.size());
         for (Chart chart : charts) {
-            out.add(chart.report(windowEnd, lastReportEnd));
+            Reading reading = chart.report(windowEnd, lastReportEnd);
+            values.add(chart.value(reading.zone()));
+            if (end > chart.resumedAt) {
+                out.add(reading);
+            }
         }
         lastReportEnd = end;
+        lastValues = List.copyOf(values);
+        return out;
+    }
+
+    /**
+     * The charts' values at the latest {@link #report}, in chart order (empty before the first): the
+     * statistic at the window's end and its largest value since the report before (see
+     * {@link CusumValue}). A function of the events before the window's end alone.
+     */
+    public List<CusumValue> reportedValues() {
+        return lastValues;
+    }
+
+    /**
+     * Continues one chart from its values at the end of the final window {@code windowEnd}, as
+     * {@link #reportedValues} gave them then: its statistic, its events, its current excursion, and
+     * from then on it takes only events at or after {@code windowEnd} and reads only windows ending
+     * after it. Call before any event is offered. An entry of no chart here (another rule or subject,
+     * or another limit), one that is not {@link CusumValue#complete() complete}, or one for a chart
+     * already resumed is ignored.
+     *
+     * @return whether a chart was resumed
+     */
+    public boolean resume(Instant windowEnd, CusumValue value) {
+        if (!value.complete()) {
+            return false;
+        }
+        for (Chart chart : charts) {
+            if (chart.matches(value) && chart.resumedAt == Long.MIN_VALUE) {
+                chart.resume(windowEnd.toEpochMilli(), value);
+                return true;
+            }
+        }
+        return false;
+    }
+
+    /**
+     * The readings the charts gave at published final windows, rebuilt from their published values:
+     * for every resumed chart, one reading per entry of it in {@code published} with window end at or
+     * before the window it was resumed from, in window order, with the zone the entry names. They
+     * carry no message; the episode lifecycle replays them so its runs (windows in a row beyond or
+     * inside the limits) stand where they stood in the uninterrupted run.
+     */
+    public List<Reading> publishedReadings(java.util.NavigableMap<Instant, List<CusumValue>> published) {
+        List<Reading> out = new ArrayList<>();
+        for (Chart chart : charts) {
+            if (chart.resumedAt == Long.MIN_VALUE) {
+                continue;
+            }
+            for (var e : published.headMap(Instant.ofEpochMilli(chart.resumedAt), true).entrySet()) {
+                for (CusumValue v : e.getValue()) {
+                    if (chart.matches(v) && v.zone() != null) {
+                        Zone zone = Zone.valueOf(v.zone().toUpperCase(java.util.Locale.ROOT));
+                        out.add(new Reading(chart.rule, chart.subject, zone, zone == Zone.BEYOND
+                                ? (chart.multiplier > 1 ? 1 : -1) : 0, 1, clearAfter, e.getKey(), e.getKey(),
+                                v.value(), null, v.limit(), clearFraction * v.limit(), null, 0, "",
+                                new Measurement(Measurement.CUSUM_LLR, v.value(), null)));
+                    }
+                }
+            }
+        }
+        out.sort(Comparator.comparing(Reading::windowEnd));
         return out;
     }
 
@@ -190,6 +263,13 @@ public final class BernoulliCusumRule {
             expected += risk;
         }
 
+        void resume(long startTime, long n, long positives, double sumRisk) {
+            start = startTime;
+            events = n;
+            observed = positives;
+            expected = sumRisk;
+        }
+
         void copy(Span other) {
             start = other.start;
             events = other.events;
@@ -214,6 +294,10 @@ public final class BernoulliCusumRule {
         long sinceReport;
         int signals;
         double peak;
+        /** The largest value since the report before: the value there, then after each event, before a restart. */
+        double highest;
+        /** The end of the window it was resumed from: it takes no earlier event and reads no earlier window. */
+        long resumedAt = Long.MIN_VALUE;
         /** From the start of the first signalling excursion since the report before. */
         final Span signalled = new Span();
 
@@ -234,6 +318,7 @@ public final class BernoulliCusumRule {
             }
             double w = (p.positive ? logMultiplier : 0.0) - Math.log1p(risk * (multiplier - 1.0));
             boolean above = chart.add(w);
+            highest = Math.max(highest, chart.value());
             excursion.add(p.positive, risk);
             if (signals > 0) {
                 signalled.add(p.positive, risk);
@@ -248,6 +333,43 @@ public final class BernoulliCusumRule {
                 signals++;
                 peak = Math.max(peak, chart.value());
                 chart.reset();
+            }
+        }
+
+        /**
+         * The value at the report being made, the highest since the report before, and the state to
+         * continue from (counts under the small-cell rule); starts the next span.
+         */
+        CusumValue value(Zone zone) {
+            ChartSubject s = new ChartSubject(subject.term(), subject.level());
+            CusumValue.Excursion run = chart.value() == 0.0 ? null : new CusumValue.Excursion(floor(excursion.start),
+                    shown(excursion.events), cells.small(excursion.observed)
+                            || cells.small(excursion.events - excursion.observed) ? null : excursion.observed,
+                    excursion.expected);
+            CusumValue v = new CusumValue(rule, s, chart.value(), Math.max(highest, chart.value()), chart.limit(),
+                    zone.name().toLowerCase(java.util.Locale.ROOT), shown(processed), run);
+            highest = chart.value();
+            return v;
+        }
+
+        private Long shown(long count) {
+            return cells.small(count) ? null : count;
+        }
+
+        /** Whether {@code v} is an entry of this chart: same rule, subject and limit. */
+        boolean matches(CusumValue v) {
+            return rule.equals(v.rule()) && v.subject() != null && subject.term().equals(v.subject().term())
+                    && java.util.Objects.equals(subject.level(), v.subject().level()) && chart.limit() == v.limit();
+        }
+
+        void resume(long windowEnd, CusumValue v) {
+            resumedAt = windowEnd;
+            chart.resume(v.value());
+            processed = v.events();
+            highest = v.value();
+            if (v.excursion() != null) {
+                excursion.resume(v.excursion().start().toEpochMilli(), v.excursion().events(),
+                        v.excursion().positives(), v.excursion().expected());
             }
         }
 

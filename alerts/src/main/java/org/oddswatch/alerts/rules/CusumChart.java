@@ -33,6 +33,18 @@ public final class CusumChart {
         return limit;
     }
 
+    /**
+     * Sets the statistic to a value the chart had before (continuing a chart after a restart).
+     *
+     * @throws IllegalArgumentException when {@code value} is negative or not finite
+     */
+    public void resume(double value) {
+        if (!(value >= 0) || !Double.isFinite(value)) {
+            throw new IllegalArgumentException("a CUSUM value is finite and non-negative: " + value);
+        }
+        this.value = value;
+    }
+
     /** Restarts the chart at 0 (after a signal). */
     public void reset() {
         value = 0.0;

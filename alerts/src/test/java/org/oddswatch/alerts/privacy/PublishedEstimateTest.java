@@ -72,6 +72,27 @@ class PublishedEstimateTest {
         assertEquals(Json.write(fiveCases), PublishedEstimate.json(fiveCases, FIVE), "5 positives: published unchanged");
     }
 
+    /** The chart values (statistics resting on the window's events) go with the window's counts. */
+    @Test
+    void chartValuesAreWithheldWithTheWindowsCounts() throws Exception {
+        List<org.oddswatch.estimator.result.DriftValue> drift = List.of(new org.oddswatch.estimator.result.DriftValue(
+                "odds-ratio-drift", new org.oddswatch.estimator.result.ChartSubject("household_contact", "yes"), 1.5));
+        List<org.oddswatch.estimator.result.CusumValue> cusum = List.of(new org.oddswatch.estimator.result.CusumValue(
+                "bernoulli-cusum-up", new org.oddswatch.estimator.result.ChartSubject("calibration", null), 2.5, 3.0,
+                5.0, "between", 4000L, null));
+        JsonNode four = published(estimate(2010, 4).withCharts(drift, cusum), FIVE);
+        assertFalse(four.has("drift"), four.toString());
+        assertFalse(four.has("cusum"));
+        assertEquals("positives from 1 to 4", withheld(four).get("drift"));
+        assertEquals("positives from 1 to 4", withheld(four).get("cusum"));
+        WindowEstimate five = estimate(2010, 5).withCharts(drift, cusum);
+        assertEquals(Json.write(five), PublishedEstimate.json(five, FIVE), "5 positives: published unchanged");
+        JsonNode shown = published(five, FIVE);
+        assertEquals(1.5, shown.get("drift").get(0).get("z").asDouble(), 0.0);
+        assertEquals(3.0, shown.get("cusum").get(0).get("max").asDouble(), 0.0);
+        assertFalse(shown.get("cusum").get(0).has("excursion"), "the chart stands at 2.5 with no run: none written");
+    }
+
     @Test
     void windowNegativesOfFourAreWithheldAndFiveAreShown() throws Exception {
         JsonNode four = published(estimate(100, 96), FIVE);

@@ -12,16 +12,36 @@ import java.util.List;
  * @param strata prevalence by level of the stratifying term, or an empty list
  * @param calibration calibration of the baseline model, or null without a baseline
  * @param notes plain-language notes on special cases (zero cells, separation, clipping, ...)
+ * @param drift the drift statistic of each watched coefficient in a final window, where the alert
+ *     rules computed one; null (left out of the JSON) otherwise
+ * @param cusum the CUSUM charts' values at the end of a final window, where a CUSUM rule runs; null
+ *     (left out of the JSON) otherwise
  */
 public record WindowEstimate(String stream, Instant windowStart, Instant windowEnd, WindowStatus status, long events,
                              long cases, PrevalenceEstimate prevalence, List<StratumPrevalence> strata, FitSummary fit,
                              List<CoefficientEstimate> coefficients, CalibrationEstimate calibration,
-                             List<String> notes) {
+                             List<String> notes, List<DriftValue> drift, List<CusumValue> cusum) {
 
     public WindowEstimate {
         strata = strata == null ? List.of() : List.copyOf(strata);
         coefficients = coefficients == null ? List.of() : List.copyOf(coefficients);
         notes = notes == null ? List.of() : List.copyOf(notes);
+        drift = drift == null || drift.isEmpty() ? null : List.copyOf(drift);
+        cusum = cusum == null || cusum.isEmpty() ? null : List.copyOf(cusum);
+    }
+
+    /** An estimate without chart values (what the estimator itself gives). */
+    public WindowEstimate(String stream, Instant windowStart, Instant windowEnd, WindowStatus status, long events,
+                          long cases, PrevalenceEstimate prevalence, List<StratumPrevalence> strata, FitSummary fit,
+                          List<CoefficientEstimate> coefficients, CalibrationEstimate calibration, List<String> notes) {
+        this(stream, windowStart, windowEnd, status, events, cases, prevalence, strata, fit, coefficients, calibration,
+                notes, null, null);
+    }
+
+    /** This estimate with the given chart values (an empty or null list leaves that field out). */
+    public WindowEstimate withCharts(List<DriftValue> driftValues, List<CusumValue> cusumValues) {
+        return new WindowEstimate(stream, windowStart, windowEnd, status, events, cases, prevalence, strata, fit,
+                coefficients, calibration, notes, driftValues, cusumValues);
     }
 
     /** The coefficient of {@code term} (and {@code level}, which may be null), or null. */

@@ -64,6 +64,9 @@ public final class MonitorPipeline {
     private final RecordReader reader;
     private final OutcomeCounts totals = new OutcomeCounts();
     private final Map<String, List<Alert>> pendingRestore = new LinkedHashMap<>();
+    /** CUSUM values to resume the charts of streams not seen yet from, and the rebuild's re-read start. */
+    private CusumHistory chartHistory;
+    private long chartsRereadFrom;
     private long rebuilt;
     /** Record-level outcomes of held records decided since the last {@link #drainDecidedHeld}. */
     private final List<RecordOutcome> decidedHeld = new ArrayList<>();
@@ -435,6 +438,9 @@ public final class MonitorPipeline {
             stream.restore(restore);
             reportOpen(restore);
         }
+        if (chartHistory != null) {
+            stream.resumeCharts(chartHistory.of(name), chartsRereadFrom);
+        }
         route.streams.put(splitValue, stream);
         streamsByName.put(name, stream);
         return stream;
@@ -508,6 +514,23 @@ public final class MonitorPipeline {
             } else {
                 pendingRestore.computeIfAbsent(entry.getKey(), s -> new ArrayList<>()).addAll(entry.getValue());
             }
+        }
+    }
+
+    /**
+     * Continues the CUSUM charts after a restart from the values published with final windows, for
+     * the streams with a baseline file ({@link StreamState#resumeCharts}): at once for a stream that
+     * exists, else before its first event here. Call before the rebuild re-feeds any record.
+     *
+     * @param rereadFromMillis the earliest event time the rebuild is sure to re-read: every event at
+     *     or after it lies at or after the offset the rebuild starts from (its record time is at or
+     *     after its event time)
+     */
+    public void resumeCharts(CusumHistory published, long rereadFromMillis) {
+        chartHistory = published;
+        chartsRereadFrom = rereadFromMillis;
+        for (StreamState stream : streamsByName.values()) {
+            stream.resumeCharts(published.of(stream.name()), rereadFromMillis);
         }
     }
 

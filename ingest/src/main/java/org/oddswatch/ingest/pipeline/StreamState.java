@@ -3,6 +3,7 @@ package org.oddswatch.ingest.pipeline;
 import java.time.Instant;
 import java.util.ArrayList;
 import java.util.List;
+import java.util.NavigableMap;
 import org.oddswatch.alerts.engine.AlertEngine;
 import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.alerts.gaps.BaselineInformation;
@@ -11,6 +12,7 @@ import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.estimator.WindowEstimator;
 import org.oddswatch.estimator.calibration.BaselineModel;
+import org.oddswatch.estimator.result.CusumValue;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.estimator.result.WindowStatus;
 import org.oddswatch.estimator.window.WindowGeometry;
@@ -292,6 +294,23 @@ final class StreamState {
     }
 
     /**
+     * Continues the CUSUM charts of a stream with a baseline file from the values published with its
+     * final windows ({@link AlertEngine#resumeCharts}), from the first window that lies wholly within
+     * what the rebuild re-reads: every window ending after it is then estimated and judged as in the
+     * uninterrupted run. A fixed-period baseline needs nothing: its rebuild re-reads the period and
+     * everything after it.
+     *
+     * @param rereadFromMillis the earliest event time the rebuild is sure to re-read
+     * @return the charts resumed
+     */
+    int resumeCharts(NavigableMap<Instant, List<CusumValue>> published, long rereadFromMillis) {
+        if (engine == null || pending != null || rereadFromMillis > Long.MAX_VALUE - geometry.widthMillis()) {
+            return 0;
+        }
+        return engine.resumeCharts(published, rereadFromMillis + geometry.widthMillis());
+    }
+
+    /**
      * Makes every window ending at or before bucket {@code newFinal} final. Events before the start
      * of bucket {@code newFinal} can no longer be accepted (their buckets' first windows are final),
      * so the sequential rule may process them: it sees the same events in the same order whatever
@@ -336,23 +355,27 @@ final class StreamState {
         warmStart = reproducibleStart(estimator.coefficientVector(estimate));
         lastFinal = estimate;
         finalWindows++;
-        if (!suppress) {
-            listener.onEstimate(estimate);
-            listener.onFinalFit(estimate, fitNanos);
-        }
         boolean inBaselinePeriod = overlapsBaselinePeriod(start, stop);
         if (inBaselinePeriod) {
             windowsInBaselinePeriod++;
         }
+        List<Alert> alerts = List.of();
+        WindowEstimate published = estimate;
         if (engine != null) {
             // every final window, also those overlapping the baseline period: the engine judges no such
             // window, but the CUSUM reports the events after the period once per final window
-            emitAlerts(inBaselinePeriod ? engine.onBaselinePeriodWindow(estimate) : engine.onFinalEstimate(estimate),
-                    suppress);
+            alerts = inBaselinePeriod ? engine.onBaselinePeriodWindow(estimate) : engine.onFinalEstimate(estimate);
+            published = engine.withCharts(estimate);
         } else if (!inBaselinePeriod) {
             windowsBeforeFreeze++;
             lastUnjudgedEnd = stop;
         }
+        // the estimate (with its chart values) before the window's alerts, as always
+        if (!suppress) {
+            listener.onEstimate(published);
+            listener.onFinalFit(published, fitNanos);
+        }
+        emitAlerts(alerts, suppress);
     }
 
     private boolean overlapsBaselinePeriod(Instant start, Instant stop) {

@@ -30,6 +30,7 @@ import org.apache.kafka.common.errors.WakeupException;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.definition.MonitorDefinition;
+import org.oddswatch.ingest.pipeline.CusumHistory;
 import org.oddswatch.ingest.kafka.KafkaOutputPublisher;
 import org.oddswatch.ingest.pipeline.MonitorPipeline;
 import org.oddswatch.ingest.pipeline.Outcome;
@@ -621,12 +622,14 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
         Map<TopicPartition, Long> until = new HashMap<>();
         Map<TopicPartition, Long> seekTo = new HashMap<>();
         Map<PartitionState, List<Alert>> alerts;
+        CusumHistory charts;
+        Map<TopicPartition, Long> startTimes = new HashMap<>();
         try {
             alerts = publishedAlerts(pending);
+            charts = publishedCharts(pending);
             Map<TopicPartition, OffsetAndMetadata> committed = consumer.committed(tps, timeout);
             Map<TopicPartition, Long> beginning = consumer.beginningOffsets(tps, timeout);
             Map<TopicPartition, Long> end = consumer.endOffsets(tps, timeout);
-            Map<TopicPartition, Long> startTimes = new HashMap<>();
             for (PartitionState state : pending) {
                 TopicPartition tp = state.partition;
                 OffsetAndMetadata c = committed.get(tp);
@@ -668,6 +671,12 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
         for (PartitionState state : pending) {
             TopicPartition tp = state.partition;
             state.pipeline.restoreAlerts(alerts.get(state));
+            Long rereadFrom = startTimes.get(tp);
+            if (rereadFrom != null) {
+                // events at or after the re-read's start time are re-read (record time >= event time);
+                // charts of streams with a baseline file continue from a published window after it
+                state.pipeline.resumeCharts(charts, rereadFrom);
+            }
             state.rebuildUntil = until.get(tp);
             state.rebuildStartedNanos = started;
             consumer.seek(tp, seekTo.get(tp));
@@ -701,6 +710,19 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
             }
         }
         throw new TimeoutException("could not read the record at " + tp + "@" + target + " within " + timeout);
+    }
+
+    /** The CUSUM values published with the final estimates of the pending partitions' monitors. */
+    private CusumHistory publishedCharts(List<PartitionState> pending) {
+        Set<String> estimatesTopics = new HashSet<>();
+        for (PartitionState state : pending) {
+            for (MonitorDefinition monitor : config.monitorsFor(state.partition.topic())) {
+                if (monitor.rules() == null || monitor.rules().cusum() != null) {
+                    estimatesTopics.add(monitor.outputs().estimatesTopic());
+                }
+            }
+        }
+        return estimatesTopics.isEmpty() ? new CusumHistory() : archive.readCharts(estimatesTopics);
     }
 
     /** The published alerts of each pending partition's monitors (read before any state changes). */

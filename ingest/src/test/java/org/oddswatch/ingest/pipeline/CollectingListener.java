@@ -6,7 +6,7 @@ import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.estimator.result.WindowEstimate;
 
 /** Keeps everything a pipeline emits, in order. */
-final class CollectingListener implements PipelineListener {
+class CollectingListener implements PipelineListener {
 
     final List<WindowEstimate> estimates = new ArrayList<>();
     final List<RejectedRecord> rejects = new ArrayList<>();

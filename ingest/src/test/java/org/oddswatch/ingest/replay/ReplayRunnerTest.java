@@ -150,6 +150,17 @@ class ReplayRunnerTest {
             }
         }
         assertEquals(13 * 2, expected.size());
+        // the replay adds what the alert rules computed per window (drift z, CUSUM values); the
+        // estimator's own figures must equal the direct computation
+        List<String> estimatorsOwn = new ArrayList<>();
+        int withDrift = 0;
+        for (String line : written) {
+            WindowEstimate e = Json.mapper().readValue(line, WindowEstimate.class);
+            withDrift += e.drift() == null ? 0 : 1;
+            estimatorsOwn.add(Json.write(e.withCharts(null, null)));
+        }
+        assertTrue(withDrift > 0, "the drift z of windows after the baseline period");
+        written = estimatorsOwn;
         List<String> sorted = new ArrayList<>(written);
         sorted.sort(java.util.Comparator.comparing(s -> s.contains("respiratory/north") ? 0 : 1));
         assertEquals(expected, sorted);

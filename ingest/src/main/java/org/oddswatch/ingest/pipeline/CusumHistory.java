@@ -1,0 +1,65 @@
+package org.oddswatch.ingest.pipeline;
+
+import java.io.IOException;
+import java.time.Instant;
+import java.util.HashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.NavigableMap;
+import java.util.TreeMap;
+import org.oddswatch.alerts.json.Json;
+import org.oddswatch.estimator.result.CusumValue;
+import org.oddswatch.estimator.result.WindowEstimate;
+import org.oddswatch.estimator.result.WindowStatus;
+
+/**
+ * The CUSUM values published with final window estimates (the {@code cusum} field of the estimates
+ * topic or file), by stream and window end, read back so a restarted service continues its charts
+ * ({@link MonitorPipeline#resumeCharts}). Interim estimates, estimates without CUSUM values (none
+ * configured, or withheld with the window's counts) and text that is not an estimate are passed
+ * over. A window read twice keeps the later copy (they are equal: estimates are deterministic).
+ */
+public final class CusumHistory {
+
+    private final Map<String, NavigableMap<Instant, List<CusumValue>>> byStream = new HashMap<>();
+    private long skipped;
+
+    /**
+     * Adds one published estimate.
+     *
+     * @return whether it was read (false: not an estimate's JSON)
+     */
+    public boolean add(byte[] json) {
+        WindowEstimate e;
+        try {
+            e = Json.mapper().readValue(json, WindowEstimate.class);
+        } catch (IOException | RuntimeException ex) {
+            skipped++;
+            return false;
+        }
+        if (e == null || e.stream() == null || e.windowEnd() == null) {
+            skipped++;
+            return false;
+        }
+        if (e.status() == WindowStatus.FINAL && e.cusum() != null) {
+            byStream.computeIfAbsent(e.stream(), s -> new TreeMap<>()).put(e.windowEnd(), e.cusum());
+        }
+        return true;
+    }
+
+    /** One stream's values by window end (empty when none). */
+    public NavigableMap<Instant, List<CusumValue>> of(String stream) {
+        NavigableMap<Instant, List<CusumValue>> values = byStream.get(stream);
+        return values == null ? new TreeMap<>() : values;
+    }
+
+    /** Records that were not estimates' JSON. */
+    public long skipped() {
+        return skipped;
+    }
+
+    /** Windows held, over all streams. */
+    public int windows() {
+        return byStream.values().stream().mapToInt(Map::size).sum();
+    }
+}
