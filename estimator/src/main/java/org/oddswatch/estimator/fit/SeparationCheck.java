@@ -63,9 +63,12 @@ public final class SeparationCheck {
     public static final double HEURISTIC_ETA = 30;
     /** Violated points added to the programme per round. */
     static final int BATCH = 32;
-    /** Pivots allowed to the first formulation of a round's programme. */
-    static final int PIVOTS = 10_000;
-    /** Pivots allowed to the second formulation of a round's programme (no phase one), the fallback. */
+    /**
+     * Pivots per constraint allowed to the split formulation (tried first) and to the formulation with a
+     * phase one (the second): a degenerate phase one otherwise ran thousands of pivots (seconds).
+     */
+    static final int PIVOTS_PER_CONSTRAINT = 20;
+    /** Pivots allowed to the last formulation of a round's programme (free variables, no phase one). */
     static final int FALLBACK_PIVOTS = 2_000;
     /** Rounds of constraint generation before the check gives up (UNDECIDED). */
     static final int MAX_ROUNDS = 40;
@@ -298,19 +301,79 @@ public final class SeparationCheck {
     }
 
     /**
-     * The programme over the given points: its optimal b, or null when the simplex fails in both
-     * formulations. First as written ({@code a_i . b >= 0}, {@code -1 <= b_j <= 1}), with at most
-     * {@link #PIVOTS} pivots; when Commons Math's phase one reports this programme infeasible (it is
-     * not: b = 0 is feasible, but every point constraint has right-hand side 0, so the phase-one tableau
-     * is degenerate) or runs out of pivots, again with every constraint as {@code <=} with a non-negative
-     * right-hand side ({@code -a_i . b <= 0}, {@code -b_j <= 1}), which starts from b = 0 with no phase
-     * one. The second form is fast but its solutions less often satisfy their own constraints to
-     * rounding, so it is only the fallback (those solutions are checked like any other, see the class
-     * comment).
+     * The programme over the given points: its optimal b, or null when the simplex fails in every
+     * formulation. First split ({@link #solveSplit}: {@code b = u - v}, every constraint {@code <=} with a
+     * non-negative right-hand side, so it starts from b = 0 with no phase one), with at most
+     * {@link #PIVOTS_PER_CONSTRAINT} pivots per constraint; its solution is kept when it satisfies every
+     * given point to rounding ({@link #VIOLATION}; the box is only a normalisation, so a component a
+     * rounding beyond 1 is harmless). Otherwise as written ({@code a_i . b >= 0}, {@code -1 <= b_j <= 1},
+     * same pivot cap), which needs a phase one: Commons Math's phase one is degenerate here (every point
+     * constraint has right-hand side 0) and with Bland's rule could run thousands of pivots, seconds of
+     * CPU, before the cap was per constraint. When that fails too, with free variables and every
+     * constraint as {@code <=} ({@code -a_i . b <= 0}, {@code -b_j <= 1}, at most {@link #FALLBACK_PIVOTS}
+     * pivots). Every solution is then checked against all points like any other (see the class comment).
      */
     private static double[] solve(double[] c, List<double[]> points, int p) {
-        double[] b = solve(c, points, p, false);
+        double[] b = solveSplit(c, points, p);
+        if (b != null && feasible(b, points)) {
+            return b;
+        }
+        b = solve(c, points, p, false);
         return b != null ? b : solve(c, points, p, true);
+    }
+
+    /** Whether b satisfies every given point to rounding: {@code a_i . b >= -}{@link #VIOLATION}. */
+    private static boolean feasible(double[] b, List<double[]> points) {
+        for (double[] a : points) {
+            double m = 0;
+            for (int j = 0; j < a.length; j++) {
+                m += a[j] * b[j];
+            }
+            if (m < -VIOLATION) {
+                return false;
+            }
+        }
+        return true;
+    }
+
+    /**
+     * The programme with {@code b = u - v}, {@code u, v >= 0}: maximise {@code c . u - c . v} subject to
+     * {@code -a_i . u + a_i . v <= 0}, {@code u_j <= 1}, {@code v_j <= 1}. Every right-hand side is
+     * non-negative, so the slack basis (b = 0) is feasible and there is no phase one; every variable is
+     * non-negative, so Commons Math adds no shared shift variable for free ones.
+     */
+    private static double[] solveSplit(double[] c, List<double[]> points, int p) {
+        List<LinearConstraint> constraints = new ArrayList<>(points.size() + 2 * p);
+        for (double[] a : points) {
+            double[] row = new double[2 * p];
+            for (int j = 0; j < p; j++) {
+                row[j] = -a[j];
+                row[p + j] = a[j];
+            }
+            constraints.add(new LinearConstraint(row, Relationship.LEQ, 0));
+        }
+        for (int j = 0; j < 2 * p; j++) {
+            double[] unit = new double[2 * p];
+            unit[j] = 1;
+            constraints.add(new LinearConstraint(unit, Relationship.LEQ, 1));
+        }
+        double[] objective = new double[2 * p];
+        for (int j = 0; j < p; j++) {
+            objective[j] = c[j];
+            objective[p + j] = -c[j];
+        }
+        try {
+            double[] uv = new SimplexSolver().optimize(new MaxIter(PIVOTS_PER_CONSTRAINT * (points.size() + 2 * p)),
+                    new LinearObjectiveFunction(objective, 0), new LinearConstraintSet(constraints),
+                    GoalType.MAXIMIZE, new NonNegativeConstraint(true), PivotSelectionRule.BLAND).getPoint();
+            double[] b = new double[p];
+            for (int j = 0; j < p; j++) {
+                b[j] = uv[j] - uv[p + j];
+            }
+            return b;
+        } catch (MathIllegalStateException e) {
+            return null;
+        }
     }
 
     private static double[] solve(double[] c, List<double[]> points, int p, boolean allAtMost) {
@@ -339,7 +402,7 @@ public final class SeparationCheck {
             }
         }
         try {
-            PointValuePair optimum = new SimplexSolver().optimize(new MaxIter(allAtMost ? FALLBACK_PIVOTS : PIVOTS),
+            PointValuePair optimum = new SimplexSolver().optimize(new MaxIter(allAtMost ? FALLBACK_PIVOTS : PIVOTS_PER_CONSTRAINT * (points.size() + 2 * p)),
                     new LinearObjectiveFunction(c, 0), new LinearConstraintSet(constraints), GoalType.MAXIMIZE,
                     new NonNegativeConstraint(false), PivotSelectionRule.BLAND);
             return optimum.getPoint();

@@ -132,10 +132,10 @@ class RandomDesignReferenceTest {
     /**
      * The exact check on its own, on every design (not only those whose Newton fit looked divergent):
      * raw columns such as ages in days and calendar years must not turn rounding into a separating
-     * direction, nor hide one. UNDECIDED (Commons Math's simplex failed in both formulations, or returned
+     * direction, nor hide one. UNDECIDED (Commons Math's simplex failed in every formulation, or returned
      * a point violating its own constraints) is no wrong answer, since ModelFitter then decides from a
-     * Newton fit, but it must stay rare: 7 of the 2,109 designs when this test was written, against 107
-     * with the first formulation alone.
+     * Newton fit, but it must stay rare: 107 of the 2,109 designs with the phase-one formulation alone,
+     * 7 with the all-{@code <=} fallback, none since the split formulation is tried first.
      */
     @Test
     void theSeparationCheckAgreesWithHighsOnEveryDesign() {
