@@ -155,7 +155,7 @@ class RandomDesignReferenceTest {
         }
         assertAll(
                 () -> assertEquals(List.of(), wrong, "designs where the separation check contradicts HiGHS"),
-                () -> assertTrue(undecided.size() <= 10, "designs the check left undecided: " + undecided));
+                () -> assertTrue(undecided.isEmpty(), "designs the check left undecided: " + undecided));
     }
 
     @Test
