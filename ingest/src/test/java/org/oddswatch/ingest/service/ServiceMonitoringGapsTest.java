@@ -1,9 +1,12 @@
 package org.oddswatch.ingest.service;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertNotNull;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import com.fasterxml.jackson.dataformat.yaml.YAMLFactory;
 import io.micrometer.prometheusmetrics.PrometheusConfig;
 import io.micrometer.prometheusmetrics.PrometheusMeterRegistry;
 import java.net.InetSocketAddress;
@@ -12,9 +15,12 @@ import java.net.http.HttpClient;
 import java.net.http.HttpRequest;
 import java.net.http.HttpResponse;
 import java.nio.charset.StandardCharsets;
+import java.nio.file.Path;
 import java.time.Duration;
 import java.util.ArrayList;
 import java.util.List;
+import java.util.Set;
+import java.util.TreeSet;
 import java.util.regex.Matcher;
 import java.util.regex.Pattern;
 import org.junit.jupiter.api.Test;
@@ -111,6 +117,7 @@ class ServiceMonitoringGapsTest {
                 count++;
             }
             assertEquals(GapScenario.EXPECTED.size(), count, gapLines(metrics));
+            shippedRuleSelectsTheUnchosenGaps(metrics);
         }
     }
 
@@ -130,5 +137,38 @@ class ServiceMonitoringGapsTest {
             Thread.currentThread().interrupt();
             throw new IllegalStateException(e);
         }
+    }
+
+    /**
+     * The shipped Prometheus rule {@code OddswatchStreamNotMonitored} selects, on this real scrape,
+     * the failed baseline and the missing term (gaps nobody chose) and not the rule switched off on
+     * purpose or the windows inside the baseline period. Its label matcher {@code reason=~"..."} is
+     * a fully anchored RE2 alternation (Prometheus query documentation, "Time series selectors"),
+     * which java.util.regex reads the same way for these literals.
+     */
+    private static void shippedRuleSelectsTheUnchosenGaps(String metrics) throws Exception {
+        JsonNode rules = new ObjectMapper(new YAMLFactory()).readTree(
+                Path.of("..", "deploy", "prometheus", "oddswatch-rules.yml").toFile());
+        String expr = null;
+        for (JsonNode group : rules.get("groups")) {
+            for (JsonNode rule : group.get("rules")) {
+                if ("OddswatchStreamNotMonitored".equals(rule.path("alert").asText())) {
+                    expr = rule.get("expr").asText();
+                }
+            }
+        }
+        assertNotNull(expr, "the rules file has OddswatchStreamNotMonitored");
+        Matcher selector = Pattern.compile("oddswatch_monitoring_gaps\\{reason=~\"([^\"]+)\"\\}").matcher(expr);
+        assertTrue(selector.find(), expr);
+        Pattern reasons = Pattern.compile(selector.group(1));
+        Set<String> selected = new TreeSet<>();
+        Matcher line = Pattern.compile("(?m)^oddswatch_monitoring_gaps\\{.*reason=\"([^\"]+)\".*\\} (\\S+)$")
+                .matcher(metrics);
+        while (line.find()) {
+            if (reasons.matcher(line.group(1)).matches() && Double.parseDouble(line.group(2)) > 0) {
+                selected.add(line.group(1));
+            }
+        }
+        assertEquals(Set.of("baseline-failed", "term-missing"), selected, gapLines(metrics));
     }
 }
