@@ -290,18 +290,6 @@ public final class AlertEngine {
         cusum.offer(eventTimeMillis, id, row, positive);
     }
 
-    /**
-     * Says that no event before {@code closedBeforeMillis} can arrive any more. The sequential rule
-     * processes its buffered events when a final window ending after them is reported
-     * ({@link #onFinalEstimate}): at most one message per chart and final window, and the charts'
-     * values at each report are a function of the events before that window's end only, however often
-     * and whenever this is called. So this publishes nothing and returns an empty list; it is kept so
-     * callers need not know which rules are sequential.
-     */
-    public List<Alert> onEventsClosed(long closedBeforeMillis) {
-        return List.of();
-    }
-
     /** Current CUSUM chart values (empty without a CUSUM), for meters. */
     public List<CusumReading> cusumReadings() {
         return cusum == null ? List.of() : cusum.readings();

@@ -68,7 +68,6 @@ class CusumEpisodesTest {
             Instant start = Instant.ofEpochMilli(FIRST + w * WEEK);
             Instant end = Instant.ofEpochMilli(FIRST + (w + 1) * WEEK);
             out.addAll(e.onFinalEstimate(Fixtures.bareWindow(start, end)));
-            out.addAll(e.onEventsClosed(end.toEpochMilli()));
         }
         return out;
     }

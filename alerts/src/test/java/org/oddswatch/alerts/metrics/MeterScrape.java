@@ -40,7 +40,6 @@ final class MeterScrape {
             meters.onAlert(a);
         }
         engine.onEvent(Fixtures.start(0).toEpochMilli(), "e1", new double[] {1, 1, 4.2}, true);
-        engine.onEventsClosed(Fixtures.start(1).toEpochMilli());
         meters.onCusum(Fixtures.STREAM, engine.cusumReadings());
         meters.recordFit(Fixtures.STREAM, Duration.ofMillis(12).toNanos(), 3);
         meters.countEvent("monitor", Fixtures.STREAM, "accepted", null);

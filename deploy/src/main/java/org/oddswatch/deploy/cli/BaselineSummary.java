@@ -3,6 +3,7 @@ package org.oddswatch.deploy.cli;
 import java.time.Instant;
 import java.util.List;
 import java.util.Locale;
+import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.estimator.calibration.BaselineModel;
 import org.oddswatch.estimator.terms.Column;
 import org.oddswatch.ingest.baseline.BuiltBaseline;
@@ -20,7 +21,7 @@ final class BaselineSummary {
     static String describe(BuiltBaseline b, Instant from, Instant to) {
         StringBuilder text = new StringBuilder();
         text.append(b.stream()).append(": ").append(b.state()).append(", ").append(count(b.events()))
-                .append(" events, ").append(small(b.positives()) || small(b.events() - b.positives()) ? "<5"
+                .append(" events, ").append(small(b.positives()) || small(b.events() - b.positives()) ? SmallCellPolicy.DEFAULT.withheldLabel()
                         : Long.toString(b.positives())).append(" positives from ").append(from).append(" to ")
                 .append(to);
         text.append(b.file() == null ? ", no file written" : " -> " + b.file()).append('\n');
@@ -44,10 +45,10 @@ final class BaselineSummary {
     }
 
     private static String count(long n) {
-        return small(n) ? "<5" : Long.toString(n);
+        return small(n) ? SmallCellPolicy.DEFAULT.withheldLabel() : Long.toString(n);
     }
 
     private static boolean small(long n) {
-        return n > 0 && n < 5;
+        return SmallCellPolicy.DEFAULT.small(n);
     }
 }

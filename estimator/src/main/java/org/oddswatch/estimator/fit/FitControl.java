@@ -58,9 +58,4 @@ public record FitControl(int maxIterations, double tolerance, double divergenceE
     public FitControl forObjectiveOnly() {
         return new FitControl(maxIterations, Math.max(tolerance, 1e-10), divergenceEta);
     }
-
-    /** The same settings without a divergence stop. */
-    public FitControl withoutDivergenceStop() {
-        return new FitControl(maxIterations, tolerance, Double.POSITIVE_INFINITY);
-    }
 }

@@ -216,9 +216,6 @@ final class NewtonEngine {
                 stop = new FitStop(FitStop.Reason.NO_IMPROVEMENT, decrement);
                 break;
             }
-            if (!penalized) {
-                finish(problem, groups, accepted, penalized);
-            }
             iterations++;
             current = accepted;
             trace[iterations] = current.objective;
@@ -311,13 +308,7 @@ final class NewtonEngine {
 
     /** {@code lambda^2 = g_f' d}: the score times the Newton direction over the free coordinates. */
     private static double decrement(BinomialPass pass, double[] delta, boolean[] fixed) {
-        double sum = 0;
-        for (int j = 0; j < pass.p; j++) {
-            if (fixed == null || !fixed[j]) {
-                sum += pass.score[j] * delta[j];
-            }
-        }
-        return Math.max(sum, 0);
+        return Math.max(slope(pass, delta, fixed), 0);
     }
 
     /** One more Newton step (the direction already computed at {@code current}), kept unless it lowers the objective. */

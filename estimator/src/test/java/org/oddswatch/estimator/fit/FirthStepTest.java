@@ -79,7 +79,7 @@ class FirthStepTest {
         assertTrue(cold.converged());
         assertTrue(fromDiverged.converged());
         assertTrue(fromDiverged.warmStartUsed(), "converged from the diverged start itself, not after a cold restart");
-        // Source: a converged fit does not depend on its start (the property FitPropertiesTest checks for
+        // Property (not an outside value): a converged fit does not depend on its start (the property FitPropertiesTest checks for
         // maximum likelihood); the cold-start Firth fit is itself checked against brglm2 in GlmReferenceTest.
         // Tolerance: the decrement test puts a Firth iterate within about 1e-6 standard errors of the maximum
         // (its linearly converging step gains less from the polishing step than Newton's).

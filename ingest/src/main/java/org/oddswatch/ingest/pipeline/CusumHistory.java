@@ -22,7 +22,6 @@ import org.oddswatch.estimator.result.WindowStatus;
 public final class CusumHistory {
 
     private final Map<String, NavigableMap<Instant, List<CusumValue>>> byStream = new HashMap<>();
-    private long skipped;
 
     /**
      * Adds one published estimate.
@@ -34,11 +33,9 @@ public final class CusumHistory {
         try {
             e = Json.mapper().readValue(json, WindowEstimate.class);
         } catch (IOException | RuntimeException ex) {
-            skipped++;
             return false;
         }
         if (e == null || e.stream() == null || e.windowEnd() == null) {
-            skipped++;
             return false;
         }
         if (e.status() == WindowStatus.FINAL && e.cusum() != null) {
@@ -51,11 +48,6 @@ public final class CusumHistory {
     public NavigableMap<Instant, List<CusumValue>> of(String stream) {
         NavigableMap<Instant, List<CusumValue>> values = byStream.get(stream);
         return values == null ? new TreeMap<>() : values;
-    }
-
-    /** Records that were not estimates' JSON. */
-    public long skipped() {
-        return skipped;
     }
 
     /** Windows held, over all streams. */

@@ -324,7 +324,6 @@ public final class MonitorPipeline {
             count(totals, record.best, suppress);
             if (!suppress) {
                 decidedHeld.add(record.best);
-                listener.onHeldDecided(record.origin, record.best);
             }
         }
     }

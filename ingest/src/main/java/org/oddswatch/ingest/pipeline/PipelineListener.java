@@ -43,14 +43,6 @@ public interface PipelineListener {
     }
 
     /**
-     * The record-level outcome of a record that {@code offer}/{@code offerRead} returned as
-     * {@link RecordOutcome#HELD}, once it is decided (accepted when any monitor accepted it). A
-     * listener that counts records by the return value of {@code offer} adds this one here.
-     */
-    default void onHeldDecided(RecordOrigin origin, RecordOutcome outcome) {
-    }
-
-    /**
      * The records offered since the last call are a batch that is done ({@link MonitorPipeline#batchDone}):
      * a listener that sums per-record work (counters) may add it up here, on the thread that offered
      * the records.

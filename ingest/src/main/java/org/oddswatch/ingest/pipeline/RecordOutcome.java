@@ -17,7 +17,7 @@ public record RecordOutcome(Outcome outcome, String reason, String detail) {
     /**
      * Not decided yet: every stream that received the record holds it beyond its time horizon.
      * Not counted ({@link OutcomeCounts#add} skips it); the decided outcome follows through
-     * {@link PipelineListener#onOutcome} and {@link PipelineListener#onHeldDecided}.
+     * {@link PipelineListener#onOutcome} and {@link MonitorPipeline#drainDecidedHeld}.
      */
     public static final RecordOutcome HELD = new RecordOutcome(null, "held",
             "held beyond the time horizon until the stream's events confirm or dismiss it");

@@ -265,7 +265,6 @@ final class StreamState {
         long newest = store.bucketCount() == 0 ? finalThrough : store.newestBucket();
         finalizeThrough(newest + bucketsPerWindow, false);
         if (engine != null) {
-            emitAlerts(engine.onEventsClosed(Long.MAX_VALUE), false);
             listener.onCusum(name, engine.cusumReadings());
         }
     }
@@ -337,7 +336,6 @@ final class StreamState {
             finalThrough = newFinal;
             expireBefore(newFinal + 1 - bucketsPerWindow);
             if (engine != null) {
-                emitAlerts(engine.onEventsClosed(geometry.bucketStart(newFinal)), suppress);
                 if (!suppress) {
                     listener.onCusum(name, engine.cusumReadings());
                 }

@@ -1,5 +1,6 @@
 package org.oddswatch.ingest.service;
 
+import io.micrometer.core.instrument.FunctionCounter;
 import io.micrometer.core.instrument.MeterRegistry;
 import io.micrometer.core.instrument.Tag;
 import io.micrometer.core.instrument.binder.kafka.KafkaClientMetrics;
@@ -107,6 +108,11 @@ public final class MonitorService implements AutoCloseable {
         List<Tag> tags = List.of(Tag.of(ServiceMeters.SERVICE_INSTANCE, instance));
         this.clientMetrics = List.of(new KafkaClientMetrics(consumer, tags), new KafkaClientMetrics(publisher.producer(), tags));
         clientMetrics.forEach(m -> m.bindTo(registry));
+        // an output the broker refused for what it is is skipped (one output must not stop the
+        // service): counted here, so a dropped output shows on /metrics and not only in the log
+        FunctionCounter.builder("oddswatch.service.outputs.refused", publisher, KafkaOutputPublisher::refused)
+                .tags(tags).description("outputs the broker refused for what they are (too large, invalid), skipped")
+                .register(registry);
         AlertArchive archive = new AlertArchive(settings.reader("oddswatch-" + instance + "-alerts"), Duration.ofSeconds(30));
         // Alerts and final estimates also feed the alert meters (bound once per registry), the log
         // and each monitor's webhook.
