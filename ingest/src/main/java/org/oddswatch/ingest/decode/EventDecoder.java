@@ -36,7 +36,6 @@ import org.oddswatch.ingest.definition.TermSpec;
  */
 public final class EventDecoder {
 
-    private final MonitorDefinition monitor;
     private final DesignCoder coder;
     private final JsonPointer idField;
     private final JsonPointer timeField;
@@ -51,7 +50,6 @@ public final class EventDecoder {
     private final CategoricalTerm stratumCoding;
 
     public EventDecoder(MonitorDefinition monitor) {
-        this.monitor = monitor;
         this.coder = monitor.designCoder();
         this.idField = monitor.event().id();
         this.timeField = monitor.event().time();
@@ -68,10 +66,6 @@ public final class EventDecoder {
         }
         stratumTerm = monitor.stratumTermIndex();
         stratumCoding = stratumTerm < 0 ? null : (CategoricalTerm) terms.get(stratumTerm).term();
-    }
-
-    public MonitorDefinition monitor() {
-        return monitor;
     }
 
     public DesignCoder coder() {

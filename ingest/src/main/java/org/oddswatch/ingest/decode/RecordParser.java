@@ -1,6 +1,7 @@
 package org.oddswatch.ingest.decode;
 
 import com.fasterxml.jackson.core.JsonFactoryBuilder;
+import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.core.StreamReadConstraints;
 import com.fasterxml.jackson.core.exc.StreamConstraintsException;
 import com.fasterxml.jackson.databind.DeserializationFeature;
@@ -73,10 +74,11 @@ public final class RecordParser {
                 throw new UnreadableRecordException(RejectReason.TOO_DEEP, "nesting deeper than " + limits.maxDepth());
             }
             throw new UnreadableRecordException(RejectReason.OVERSIZED, message);
+        } catch (JsonProcessingException e) {
+            throw new UnreadableRecordException(RejectReason.MALFORMED_JSON, firstLine(e.getOriginalMessage()));
         } catch (IOException | RuntimeException e) {
-            // RuntimeException: a number Jackson reads but BigDecimal cannot hold (1e9999999999)
-            throw new UnreadableRecordException(RejectReason.MALFORMED_JSON, firstLine(e instanceof
-                    com.fasterxml.jackson.core.JsonProcessingException j ? j.getOriginalMessage() : e.getMessage()));
+            // RuntimeException: should a number be one that BigDecimal cannot hold, it costs only its record
+            throw new UnreadableRecordException(RejectReason.MALFORMED_JSON, firstLine(e.getMessage()));
         }
         if (tree.isMissingNode()) {
             throw new UnreadableRecordException(RejectReason.MALFORMED_JSON, "the record is empty");
