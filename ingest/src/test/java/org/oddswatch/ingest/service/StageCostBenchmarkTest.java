@@ -146,7 +146,7 @@ class StageCostBenchmarkTest {
             report.append(String.format(Locale.ROOT, "| %s | %.0f | %.0f | %.0f |%n", stages[s], BenchStats.lowest(cpuNanos[s]),
                     BenchStats.median(cpuNanos[s]), BenchStats.median(bytes[s])));
         }
-        report.append(String.format(Locale.ROOT, "%nDecoding alone (scan and decode minus scan): %.0f ns/record (lowest"
+        report.append(String.format(Locale.ROOT, "%nDecoding alone (parse and decode minus parse): %.0f ns/record (lowest"
                 + " of each).%n", BenchStats.lowest(cpuNanos[2]) - BenchStats.lowest(cpuNanos[1])));
         System.out.println(report);
         Files.createDirectories(Path.of("target"));
