@@ -11,9 +11,9 @@ import org.oddswatch.alerts.baseline.BaselineFile;
 import org.oddswatch.alerts.gaps.BaselineInformation;
 import org.oddswatch.estimator.WindowEstimator;
 import org.oddswatch.estimator.calibration.BaselineModel;
+import org.oddswatch.estimator.terms.DesignCoder;
 import org.oddswatch.estimator.window.WindowStore;
 import org.oddswatch.ingest.decode.DecodedEvent;
-import org.oddswatch.ingest.decode.EventDecoder;
 import org.oddswatch.ingest.definition.BaselineSpec;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.definition.MonitorDefinition;
@@ -45,17 +45,17 @@ public final class BaselineBuilder {
     /** One monitor's coder and its per-stream (or pooled) accumulation. */
     private static final class Accumulator {
         final MonitorDefinition monitor;
-        final EventDecoder decoder;
+        final DesignCoder coder;
         final Map<String, WindowStore> stores = new LinkedHashMap<>();
         final Map<String, long[]> counts = new LinkedHashMap<>();
 
         Accumulator(MonitorDefinition monitor) {
             this.monitor = monitor;
-            this.decoder = new EventDecoder(monitor);
+            this.coder = monitor.designCoder();
         }
 
         void add(String stream, DecodedEvent event) {
-            stores.computeIfAbsent(stream, s -> new WindowStore(decoder.coder(), monitor.estimates().patternLimit(),
+            stores.computeIfAbsent(stream, s -> new WindowStore(coder, monitor.estimates().patternLimit(),
                     monitor.strata())).add(0, event.row(), event.positive(), event.stratum());
             long[] c = counts.computeIfAbsent(stream, s -> new long[2]);
             c[0]++;
@@ -109,7 +109,7 @@ public final class BaselineBuilder {
 
     private static void fit(Accumulator accumulator, BaselineRequest request, List<BuiltBaseline> built) {
         MonitorDefinition monitor = accumulator.monitor;
-        WindowEstimator estimator = new WindowEstimator(accumulator.decoder.coder(), monitor.estimatorOptions());
+        WindowEstimator estimator = new WindowEstimator(accumulator.coder, monitor.estimatorOptions());
         if (accumulator.stores.isEmpty()) {
             built.add(new BuiltBaseline(monitor.name(), monitor.name(), null, 0, 0, null,
                     "no accepted events between " + request.from() + " and " + request.to(), null));

@@ -17,12 +17,6 @@ package org.oddswatch.ingest.decode;
 public record DecodedEvent(String id, long timeMillis, boolean positive, String splitValue, double[] row,
                            int stratum, String missingDetail, long absentTerms) {
 
-    /** An event whose terms all had a value, or whose absent terms are not tracked. */
-    public DecodedEvent(String id, long timeMillis, boolean positive, String splitValue, double[] row, int stratum,
-                        String missingDetail) {
-        this(id, timeMillis, positive, splitValue, row, stratum, missingDetail, 0L);
-    }
-
     public boolean complete() {
         return row != null;
     }

@@ -7,9 +7,10 @@ import java.util.Locale;
 
 /**
  * RFC 3339 date-time text to epoch milliseconds. The common shape
- * {@code yyyy-MM-ddTHH:mm:ss[.fraction](Z|+hh:mm|-hh:mm)} is read by hand (it is on the hot path of
- * every event); anything else goes to {@link DateTimeFormatter#ISO_OFFSET_DATE_TIME}, so the result
- * is always the same as the formatter's. Fractions below a millisecond are dropped (floor).
+ * {@code yyyy-MM-ddTHH:mm:ss[.fraction](Z|+hh:mm|-hh:mm)} is read by hand (every event's time is
+ * read, and the hand-written reading costs a fraction of the formatter's); anything else goes to
+ * {@link DateTimeFormatter#ISO_OFFSET_DATE_TIME}, so the result is always the same as the
+ * formatter's. Fractions below a millisecond are dropped (floor).
  */
 final class Rfc3339 {
 
@@ -20,34 +21,30 @@ final class Rfc3339 {
 
     /** @throws DateTimeParseException when the text is not an offset date-time */
     static long toEpochMillis(String text) {
-        long fast = fast(text);
-        if (fast != Long.MIN_VALUE) {
-            return fast;
+        long common = readCommonShape(text);
+        if (common != Long.MIN_VALUE) {
+            return common;
         }
         return OffsetDateTime.parse(text.toUpperCase(Locale.ROOT), DateTimeFormatter.ISO_OFFSET_DATE_TIME)
                 .toInstant().toEpochMilli();
     }
 
-    /** The value, or Long.MIN_VALUE when the text is not of the common shape (or not a valid date). */
-    static long fast(String s) {
-        return fast(s.toCharArray(), 0, s.length());
-    }
-
     /**
-     * {@link #fast(String)} on {@code c[from, from + n)}, without making a string: the scanner reads
-     * event times straight from the parser's buffer.
+     * The epoch milliseconds of text of the common shape, or {@link Long#MIN_VALUE} when the text has
+     * another shape or is not a valid date-time (the formatter then decides).
      */
-    static long fast(char[] c, int from, int n) {
-        if (n < 20 || c[from + 4] != '-' || c[from + 7] != '-' || (c[from + 10] != 'T' && c[from + 10] != 't')
-                || c[from + 13] != ':' || c[from + 16] != ':') {
+    static long readCommonShape(String text) {
+        int n = text.length();
+        if (n < 20 || text.charAt(4) != '-' || text.charAt(7) != '-' || (text.charAt(10) != 'T' && text.charAt(10) != 't')
+                || text.charAt(13) != ':' || text.charAt(16) != ':') {
             return Long.MIN_VALUE;
         }
-        int year = digits(c, from, 4);
-        int month = digits(c, from + 5, 2);
-        int day = digits(c, from + 8, 2);
-        int hour = digits(c, from + 11, 2);
-        int minute = digits(c, from + 14, 2);
-        int second = digits(c, from + 17, 2);
+        int year = digits(text, 0, 4);
+        int month = digits(text, 5, 2);
+        int day = digits(text, 8, 2);
+        int hour = digits(text, 11, 2);
+        int minute = digits(text, 14, 2);
+        int second = digits(text, 17, 2);
         if (year < 0 || month < 1 || month > 12 || day < 1 || hour < 0 || hour > 23 || minute < 0 || minute > 59
                 || second < 0 || second > 59) {
             return Long.MIN_VALUE;
@@ -59,11 +56,11 @@ final class Rfc3339 {
         }
         int i = 19;
         long millis = 0;
-        if (i < n && c[from + i] == '.') {
+        if (i < n && text.charAt(i) == '.') {
             int start = ++i;
-            while (i < n && c[from + i] >= '0' && c[from + i] <= '9') {
+            while (i < n && text.charAt(i) >= '0' && text.charAt(i) <= '9') {
                 if (i - start < 3) {
-                    millis = millis * 10 + (c[from + i] - '0');
+                    millis = millis * 10 + (text.charAt(i) - '0');
                 }
                 i++;
             }
@@ -79,12 +76,12 @@ final class Rfc3339 {
             return Long.MIN_VALUE;
         }
         int offsetSeconds;
-        char zone = c[from + i];
+        char zone = text.charAt(i);
         if ((zone == 'Z' || zone == 'z') && i == n - 1) {
             offsetSeconds = 0;
-        } else if ((zone == '+' || zone == '-') && i == n - 6 && c[from + i + 3] == ':') {
-            int oh = digits(c, from + i + 1, 2);
-            int om = digits(c, from + i + 4, 2);
+        } else if ((zone == '+' || zone == '-') && i == n - 6 && text.charAt(i + 3) == ':') {
+            int oh = digits(text, i + 1, 2);
+            int om = digits(text, i + 4, 2);
             if (oh < 0 || oh > 18 || om < 0 || om > 59 || (oh == 18 && om > 0)) {
                 return Long.MIN_VALUE;
             }
@@ -97,10 +94,10 @@ final class Rfc3339 {
         return seconds * 1000L + millis;
     }
 
-    private static int digits(char[] text, int from, int count) {
+    private static int digits(String text, int from, int count) {
         int value = 0;
         for (int i = from; i < from + count; i++) {
-            char c = text[i];
+            char c = text.charAt(i);
             if (c < '0' || c > '9') {
                 return -1;
             }

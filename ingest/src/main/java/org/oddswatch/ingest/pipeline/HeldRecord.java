@@ -14,7 +14,7 @@ final class HeldRecord {
     int holders;
     /** The record-level outcome so far: accepted when any monitor accepted it, else the first one. */
     RecordOutcome best;
-    /** True while the record's own {@code offerRead} call is still running. */
+    /** True while the record's own {@code offer} call is still running. */
     boolean inOffer = true;
     boolean totalsCounted;
 

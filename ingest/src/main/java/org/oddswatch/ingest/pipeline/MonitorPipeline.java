@@ -1,79 +1,46 @@
 package org.oddswatch.ingest.pipeline;
 
 import com.fasterxml.jackson.databind.JsonNode;
-import java.io.IOException;
-import java.nio.file.Path;
-import java.util.ArrayList;
-import java.util.LinkedHashMap;
-import java.util.LinkedHashSet;
-import java.util.List;
-import java.util.Map;
-import java.util.Set;
 import io.micrometer.core.instrument.Gauge;
 import io.micrometer.core.instrument.MeterRegistry;
+import java.util.ArrayList;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.function.Consumer;
 import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.alerts.lifecycle.Alert;
-import org.oddswatch.alerts.lifecycle.AlertState;
-import org.oddswatch.estimator.WindowEstimator;
-import org.oddswatch.estimator.calibration.BaselineModel;
-import org.oddswatch.estimator.window.WindowStore;
 import org.oddswatch.ingest.decode.DecodedEvent;
-import org.oddswatch.ingest.decode.EventDecoder;
-import org.oddswatch.ingest.decode.EventRecord;
-import org.oddswatch.ingest.decode.RecordScanner;
+import org.oddswatch.ingest.decode.Decoding;
+import org.oddswatch.ingest.decode.RecordParser;
 import org.oddswatch.ingest.decode.RejectReason;
 import org.oddswatch.ingest.decode.Rejection;
-import org.oddswatch.ingest.definition.BaselineSpec;
+import org.oddswatch.ingest.decode.UnreadableRecordException;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 
 /**
- * The path of one input (topic or file): parse each record once, hand it to every monitor reading
- * the input, route it to the stream of its split value, apply the time rules and dedupe, update the
- * windows, close windows as the watermark passes them, run the alert rules, and report everything to
- * a {@link PipelineListener}. Every record ends in exactly one counted outcome per monitor, and once in
+ * The path of one input (topic or file): parse each record once ({@link RecordParser}), decode the
+ * tree for every monitor reading the input ({@link org.oddswatch.ingest.decode.EventDecoder}), route
+ * the event to the stream of its split value, apply the time rules and dedupe, update the windows,
+ * close windows as the watermark passes them, run the alert rules, and report everything to a
+ * {@link PipelineListener}. Every record ends in exactly one counted outcome per monitor, and once in
  * the record totals. Deterministic: the same records in the same order give the same output, byte for
- * byte. Not thread-safe: one pipeline, one thread at a time; only its {@link RecordReader}s (the
- * stateless parsing and decoding half) may run on another thread, one reader per thread.
+ * byte. Not thread-safe: one pipeline, one thread at a time.
  */
 public final class MonitorPipeline {
 
-    /** One monitor's decoder, estimator and streams. */
-    private static final class MonitorRoute {
-        final MonitorDefinition monitor;
-        final EventDecoder decoder;
-        final WindowEstimator estimator;
-        final BaselineModel sharedBaseline;
-        final Map<String, StreamState> streams = new LinkedHashMap<>();
-        final OutcomeCounts unrouted = new OutcomeCounts();
-
-        MonitorRoute(MonitorDefinition monitor, BaselineModel sharedBaseline) {
-            this.monitor = monitor;
-            this.decoder = new EventDecoder(monitor);
-            this.estimator = new WindowEstimator(decoder.coder(), monitor.estimatorOptions());
-            this.sharedBaseline = sharedBaseline;
-        }
-    }
-
     private final String input;
+    private final RecordParser parser;
     private final List<MonitorRoute> routes = new ArrayList<>();
     private final Map<String, StreamState> streamsByName = new LinkedHashMap<>();
     private final PipelineListener listener;
     private final PipelineSettings settings;
-    /** This pipeline's own reader (one streaming pass per record for all monitors, no JSON tree). */
-    private final RecordReader reader;
+    private final StreamFactory streamFactory;
+    private final HeldRecords held = new HeldRecords();
     private final OutcomeCounts totals = new OutcomeCounts();
-    private final Map<String, List<Alert>> pendingRestore = new LinkedHashMap<>();
-    /** CUSUM values to resume the charts of streams not seen yet from, and the rebuild's re-read start. */
-    private CusumHistory chartHistory;
-    private long chartsRereadFrom;
+    /** Records offered with output suppressed (re-read while rebuilding state), not counted in the totals. */
     private long rebuilt;
-    /** Record-level outcomes of held records decided since the last {@link #drainDecidedHeld}. */
-    private final List<RecordOutcome> decidedHeld = new ArrayList<>();
-    /** The record being offered when a stream holds it (shared by the monitors of the input), else null. */
-    private HeldRecord heldNow;
-    /** Live (not re-read) records some stream still holds: the service commits no offset past them. */
-    private final Set<HeldRecord> liveHeld = new LinkedHashSet<>();
     /** Removes the partition's stream-count gauge ({@link #forPartition} with a registry), else null. */
     private Runnable streamsGaugeRemoval;
 
@@ -87,21 +54,11 @@ public final class MonitorPipeline {
         this.input = input;
         this.listener = listener;
         this.settings = settings;
+        this.parser = new RecordParser(settings.limits());
+        this.streamFactory = new StreamFactory(listener, settings, this::resolved);
         for (MonitorDefinition monitor : monitors) {
-            BaselineModel shared = null;
-            BaselineSpec spec = monitor.baseline();
-            if (spec != null && !spec.isFixedPeriod() && !spec.file().contains("{split}")) {
-                Path file = spec.fileFor(monitor.definitionDir(), null);
-                try {
-                    shared = settings.baselines().read(file, monitor);
-                } catch (IOException | RuntimeException e) {
-                    throw new IllegalArgumentException("monitor " + monitor.name() + ": cannot read baseline file "
-                            + file + ": " + e.getMessage(), e);
-                }
-            }
-            routes.add(new MonitorRoute(monitor, shared));
+            routes.add(streamFactory.route(monitor));
         }
-        this.reader = new RecordReader();
     }
 
     /**
@@ -128,10 +85,6 @@ public final class MonitorPipeline {
         return pipeline;
     }
 
-    public String input() {
-        return input;
-    }
-
     /** The watermark (largest event time) of a stream, or {@link Long#MIN_VALUE} when unknown. */
     public long watermark(String stream) {
         StreamState state = streamsByName.get(stream);
@@ -144,149 +97,44 @@ public final class MonitorPipeline {
     }
 
     /**
-     * Offers one record value: {@link #read} and {@link #offerRead} in one step.
+     * Offers one record value: parses it once, then {@link #offerTree}; a value that is not one JSON
+     * object within the limits goes to {@link #offerUnreadable} with its reason.
      *
      * @param suppressOutput true while rebuilding state: state is updated, nothing is emitted and
      *     nothing is counted (the record was handled before the restart)
      * @return the record's outcome (accepted when any monitor accepted it)
      */
     public RecordOutcome offer(byte[] value, RecordOrigin origin, boolean suppressOutput) {
-        return offerRead(reader.read(value), value, origin, suppressOutput);
-    }
-
-    /** Offers a record that is already a JSON tree (a CSV row); {@code original} is kept for rejects. */
-    public RecordOutcome offerTree(JsonNode tree, byte[] original, RecordOrigin origin, boolean suppressOutput) {
-        return offerRead(reader.read(EventRecord.of(tree)), original, origin, suppressOutput);
-    }
-
-    /**
-     * A record as every monitor of the input decoded it: unreadable (with the reason), or one
-     * decoding result per monitor, in definition order. Depends on the bytes and the definition
-     * only, never on a stream's state.
-     */
-    public static final class ReadRecord {
-        private final Rejection unreadable;
-        /** The result of an input's only monitor (the common case: no array per record), or null. */
-        private final EventDecoder.Result only;
-        /** One result per monitor when the input has several, else null. */
-        private final EventDecoder.Result[] results;
-
-        private ReadRecord(Rejection unreadable, EventDecoder.Result only, EventDecoder.Result[] results) {
-            this.unreadable = unreadable;
-            this.only = only;
-            this.results = results;
+        JsonNode tree;
+        try {
+            tree = parser.parse(value);
+        } catch (UnreadableRecordException e) {
+            return offerUnreadable(value, origin, e.rejection().reason(), e.rejection().detail(), suppressOutput);
         }
-
-        private EventDecoder.Result result(int route) {
-            return results == null ? only : results[route];
-        }
+        return offerTree(tree, value, origin, suppressOutput);
     }
 
     /**
-     * Reads records for this pipeline: the parsing and decoding half of {@link #offer}, which needs
-     * no stream state, so it can run on another thread than the pipeline (one reader per thread: it
-     * reuses its parse buffers). The pipeline has one of its own.
-     */
-    public final class RecordReader {
-        // Its own copies: a reader on another thread never touches the pipeline's objects per
-        // record (they sit next to counters the pipeline thread writes all the time).
-        private final RecordScanner scanner = new RecordScanner(settings.limits(), monitors());
-        private final EventDecoder.Bound[] decoders = decoders(scanner);
-
-        public ReadRecord read(byte[] value) {
-            return read(scanner.scan(value));
-        }
-
-        private ReadRecord read(RecordScanner.Scanned scanned) {
-            return scanned.ok() ? read(scanned.record()) : new ReadRecord(scanned.rejection(), null, null);
-        }
-
-        /**
-         * Reads a batch of values, in order, with one parser for the batch ({@link RecordScanner#scanAll}):
-         * value {@code i} ends in {@code read[offset + i]}, or its error (a defect) in
-         * {@code failed[offset + i]}. The same results as {@link #read(byte[])} value by value.
-         */
-        public void readAll(List<byte[]> values, ReadRecord[] read, RuntimeException[] failed, int offset) {
-            scanner.scanAll(values, new RecordScanner.ScanSink() {
-                @Override
-                public void accept(int index, RecordScanner.Scanned scanned) {
-                    read[offset + index] = read(scanned);
-                }
-
-                @Override
-                public void failed(int index, RuntimeException error) {
-                    failed[offset + index] = error;
-                }
-            });
-        }
-
-        ReadRecord read(EventRecord record) {
-            if (decoders.length == 1) {
-                return new ReadRecord(null, decoders[0].decode(record), null);
-            }
-            EventDecoder.Result[] results = new EventDecoder.Result[decoders.length];
-            for (int r = 0; r < results.length; r++) {
-                results[r] = decoders[r].decode(record);
-            }
-            return new ReadRecord(null, null, results);
-        }
-    }
-
-    private EventDecoder.Bound[] decoders(RecordScanner scanner) {
-        EventDecoder.Bound[] decoders = new EventDecoder.Bound[routes.size()];
-        for (int r = 0; r < decoders.length; r++) {
-            decoders[r] = routes.get(r).decoder.boundTo(scanner);
-        }
-        return decoders;
-    }
-
-    /** A new reader for another thread (the service's poll thread). */
-    public RecordReader newReader() {
-        return new RecordReader();
-    }
-
-    private List<MonitorDefinition> monitors() {
-        List<MonitorDefinition> monitors = new ArrayList<>();
-        for (MonitorRoute route : routes) {
-            monitors.add(route.monitor);
-        }
-        return monitors;
-    }
-
-    /**
-     * The stateful half of {@link #offer}: routes a record read by a {@link RecordReader} of this
-     * pipeline, applies the time rules and dedupe, updates the windows and reports the outcome.
+     * Offers a record that is already a JSON tree (a parsed value, or a CSV row): every monitor of the
+     * input decodes it, routes it, applies the time rules and dedupe, updates the windows and reports
+     * the outcome.
      *
      * @param original the record's bytes, for rejects
      */
-    public RecordOutcome offerRead(ReadRecord read, byte[] original, RecordOrigin origin, boolean suppressOutput) {
-        if (read.unreadable != null) {
-            return offerUnreadable(original, origin, read.unreadable.reason(), read.unreadable.detail(),
-                    suppressOutput);
-        }
+    public RecordOutcome offerTree(JsonNode tree, byte[] original, RecordOrigin origin, boolean suppressOutput) {
         RecordOutcome overall = null;
-        heldNow = null;
-        for (int r = 0; r < routes.size(); r++) {
-            RecordOutcome outcome = offerTo(routes.get(r), read.result(r), original, origin, suppressOutput);
+        held.beginOffer();
+        for (MonitorRoute route : routes) {
+            RecordOutcome outcome = offerTo(route, route.decoder.decode(tree), original, origin, suppressOutput);
             if (!outcome.held() && (overall == null || (outcome.accepted() && !overall.accepted()))) {
                 overall = outcome;
             }
         }
-        HeldRecord held = heldNow;
-        heldNow = null;
-        if (held != null) {
-            held.inOffer = false;
-            held.merge(overall);
-            if (!suppressOutput && held.holders > 0) {
-                liveHeld.add(held);
-            }
-            if (!held.decided()) {
-                return RecordOutcome.HELD; // counted when the holding streams decide
-            }
-            held.totalsCounted = true;
-            overall = held.best;
-        } else if (overall == null) {
+        overall = held.endOffer(overall, suppressOutput);
+        if (overall == null) {
             overall = RecordOutcome.rejected(RejectReason.MISSING_FIELD, "no monitor reads this input");
+        } else if (overall.held()) {
+            return overall; // counted when the holding streams decide
         }
         count(totals, overall, suppressOutput);
         return overall;
@@ -299,11 +147,7 @@ public final class MonitorPipeline {
      * what lies between it and the last record applied, as it does for any uncommitted record).
      */
     public long oldestHeldOffset() {
-        long oldest = Long.MAX_VALUE;
-        for (HeldRecord record : liveHeld) {
-            oldest = Math.min(oldest, record.origin.offset());
-        }
-        return oldest;
+        return held.oldestLiveOffset();
     }
 
     /**
@@ -314,30 +158,22 @@ public final class MonitorPipeline {
     private void resolved(StreamState stream, HeldRecord record, DecodedEvent event, RecordOutcome outcome,
                           boolean suppress) {
         report(stream, outcome, event, record.original, record.origin, suppress);
-        record.holders--;
-        if (record.holders == 0) {
-            liveHeld.remove(record);
-        }
-        record.merge(outcome);
-        if (!record.inOffer && record.decided()) {
-            record.totalsCounted = true;
-            count(totals, record.best, suppress);
-            if (!suppress) {
-                decidedHeld.add(record.best);
-            }
+        RecordOutcome decided = held.resolved(record, outcome, suppress);
+        if (decided != null) {
+            count(totals, decided, suppress);
         }
     }
 
     private void report(StreamState stream, RecordOutcome outcome, DecodedEvent event, byte[] original,
                         RecordOrigin origin, boolean suppress) {
         count(stream.counts(), outcome, suppress);
-        if (!suppress) {
-            listener.onOutcome(stream.monitorName(), stream.name(), outcome);
-            if (outcome.accepted()) {
-                listener.onAccepted(stream.monitorName(), stream.name(), event);
-            }
+        if (suppress) {
+            return;
         }
-        if (!suppress && (outcome.outcome() == Outcome.REJECTED || outcome.outcome() == Outcome.LATE)) {
+        listener.onOutcome(stream.monitorName(), stream.name(), outcome);
+        if (outcome.accepted()) {
+            listener.onAccepted(stream.monitorName(), stream.name(), event);
+        } else if (outcome.outcome() == Outcome.REJECTED || outcome.outcome() == Outcome.LATE) {
             listener.onReject(new RejectedRecord(stream.monitorName(), stream.name(), outcome.outcome(),
                     outcome.reason(), outcome.detail(), origin, original));
         }
@@ -348,10 +184,7 @@ public final class MonitorPipeline {
                                          boolean suppressOutput) {
         RecordOutcome outcome = RecordOutcome.rejected(reason, detail);
         for (MonitorRoute route : routes) {
-            count(route.unrouted, outcome, suppressOutput);
-            if (!suppressOutput) {
-                listener.onOutcome(route.monitor.name(), null, outcome);
-            }
+            countUnrouted(route, outcome, suppressOutput);
         }
         count(totals, outcome, suppressOutput);
         if (!suppressOutput) {
@@ -360,19 +193,15 @@ public final class MonitorPipeline {
         return outcome;
     }
 
-    private RecordOutcome offerTo(MonitorRoute route, EventDecoder.Result decoded, byte[] original, RecordOrigin origin,
+    private RecordOutcome offerTo(MonitorRoute route, Decoding decoded, byte[] original, RecordOrigin origin,
                                   boolean suppress) {
         if (!decoded.ok()) {
             return rejectUnrouted(route, null, decoded.rejection(), original, origin, suppress);
         }
         DecodedEvent event = decoded.event();
         if (!settings.inRange(event.timeMillis())) {
-            RecordOutcome outcome = RecordOutcome.rejected(RejectReason.OUTSIDE_RANGE, "outside the replay range");
-            count(route.unrouted, outcome, suppress);
-            if (!suppress) {
-                listener.onOutcome(route.monitor.name(), null, outcome);
-            }
-            return outcome;
+            return countUnrouted(route, RecordOutcome.rejected(RejectReason.OUTSIDE_RANGE, "outside the replay range"),
+                    suppress);
         }
         StreamState stream = route.streams.get(event.splitValue());
         if (stream == null) {
@@ -384,15 +213,13 @@ public final class MonitorPipeline {
                         "split value '" + event.splitValue() + "' would be stream " + (route.streams.size() + 1)
                                 + " of at most " + route.monitor.split().maxStreams()), original, origin, suppress);
             }
-            stream = newStream(route, streamName, event.splitValue());
+            stream = streamFactory.open(route, streamName, event.splitValue());
+            route.streams.put(event.splitValue(), stream);
+            streamsByName.put(streamName, stream);
         }
         RecordOutcome outcome = stream.offer(event, suppress);
         if (outcome.held()) {
-            if (heldNow == null) {
-                heldNow = new HeldRecord(original, origin);
-            }
-            heldNow.holders++;
-            stream.hold(event, heldNow, suppress);
+            held.hold(stream, event, original, origin, suppress);
             return outcome;
         }
         report(stream, outcome, event, original, origin, suppress);
@@ -401,48 +228,22 @@ public final class MonitorPipeline {
 
     private RecordOutcome rejectUnrouted(MonitorRoute route, String stream, Rejection rejection, byte[] original,
                                          RecordOrigin origin, boolean suppress) {
-        RecordOutcome outcome = RecordOutcome.rejected(rejection.reason(), rejection.detail());
-        count(route.unrouted, outcome, suppress);
+        RecordOutcome outcome = countUnrouted(route, RecordOutcome.rejected(rejection.reason(), rejection.detail()),
+                suppress);
         if (!suppress) {
-            listener.onOutcome(route.monitor.name(), null, outcome);
             listener.onReject(new RejectedRecord(route.monitor.name(), stream, Outcome.REJECTED, rejection.reason(),
                     rejection.detail(), origin, original));
         }
         return outcome;
     }
 
-    private StreamState newStream(MonitorRoute route, String name, String splitValue) {
-        MonitorDefinition monitor = route.monitor;
-        int strata = monitor.strata();
-        int patternLimit = monitor.estimates().patternLimit();
-        WindowStore store = new WindowStore(route.decoder.coder(), patternLimit, strata);
-        BaselineSpec spec = monitor.baseline();
-        WindowStore baselineStore = null;
-        BaselineModel fileBaseline = route.sharedBaseline;
-        String note = null;
-        if (spec != null && spec.isFixedPeriod()) {
-            baselineStore = new WindowStore(route.decoder.coder(), patternLimit, strata);
-        } else if (spec != null && fileBaseline == null) {
-            Path file = spec.fileFor(monitor.definitionDir(), splitValue);
-            try {
-                fileBaseline = settings.baselines().read(file, monitor);
-            } catch (IOException | RuntimeException e) {
-                note = "cannot read baseline file " + file + ": " + e.getMessage();
-            }
+    /** Counts and reports the outcome of a record one monitor rejected before it reached a stream. */
+    private RecordOutcome countUnrouted(MonitorRoute route, RecordOutcome outcome, boolean suppress) {
+        count(route.unrouted, outcome, suppress);
+        if (!suppress) {
+            listener.onOutcome(route.monitor.name(), null, outcome);
         }
-        StreamState stream = new StreamState(name, monitor, route.estimator, store, baselineStore, fileBaseline, note,
-                listener, settings.replayHint(), this::resolved);
-        List<Alert> restore = pendingRestore.remove(name);
-        if (restore != null) {
-            stream.restore(restore);
-            reportOpen(restore);
-        }
-        if (chartHistory != null) {
-            stream.resumeCharts(chartHistory.of(name), chartsRereadFrom);
-        }
-        route.streams.put(splitValue, stream);
-        streamsByName.put(name, stream);
-        return stream;
+        return outcome;
     }
 
     private void count(OutcomeCounts counts, RecordOutcome outcome, boolean suppress) {
@@ -460,11 +261,8 @@ public final class MonitorPipeline {
      * suppressed): a caller that counts records by the return value of {@code offer}, which was
      * {@link RecordOutcome#HELD} for them, counts them here.
      */
-    public void drainDecidedHeld(java.util.function.Consumer<RecordOutcome> into) {
-        if (!decidedHeld.isEmpty()) {
-            decidedHeld.forEach(into);
-            decidedHeld.clear();
-        }
+    public void drainDecidedHeld(Consumer<RecordOutcome> into) {
+        held.drainDecided(into);
     }
 
     /** Tells the listener that the records offered so far are a finished batch ({@link PipelineListener#onBatchDone}). */
@@ -474,9 +272,7 @@ public final class MonitorPipeline {
 
     /** Emits an interim estimate of every stream's open window (live refresh tick). */
     public void emitInterim() {
-        for (StreamState stream : streamsByName.values()) {
-            stream.emitInterim();
-        }
+        streamsByName.values().forEach(StreamState::emitInterim);
     }
 
     /** Moves a stream's watermark to {@code eventTime} if later (idle timeout, live only). */
@@ -489,9 +285,7 @@ public final class MonitorPipeline {
 
     /** End of input: closes every window that has received events, in stream creation order. */
     public void closeAll() {
-        for (StreamState stream : streamsByName.values()) {
-            stream.closeAll();
-        }
+        streamsByName.values().forEach(StreamState::closeAll);
     }
 
     /**
@@ -501,19 +295,7 @@ public final class MonitorPipeline {
      * here: at once for a stream that exists, else on its first event in this pipeline.
      */
     public void restoreAlerts(List<Alert> published) {
-        Map<String, List<Alert>> byStream = new LinkedHashMap<>();
-        for (Alert alert : published) {
-            byStream.computeIfAbsent(alert.stream(), s -> new ArrayList<>()).add(alert);
-        }
-        for (Map.Entry<String, List<Alert>> entry : byStream.entrySet()) {
-            StreamState stream = streamsByName.get(entry.getKey());
-            if (stream != null) {
-                stream.restore(entry.getValue());
-                reportOpen(entry.getValue());
-            } else {
-                pendingRestore.computeIfAbsent(entry.getKey(), s -> new ArrayList<>()).addAll(entry.getValue());
-            }
-        }
+        streamFactory.restoreAlerts(published, streamsByName);
     }
 
     /**
@@ -526,29 +308,7 @@ public final class MonitorPipeline {
      *     after its event time)
      */
     public void resumeCharts(CusumHistory published, long rereadFromMillis) {
-        chartHistory = published;
-        chartsRereadFrom = rereadFromMillis;
-        for (StreamState stream : streamsByName.values()) {
-            stream.resumeCharts(published.of(stream.name()), rereadFromMillis);
-        }
-    }
-
-    /**
-     * Tells the listener the latest message of every episode still open among one stream's restored
-     * alerts. Only for a stream this pipeline holds: the alerts topic also holds the episodes of
-     * streams other partitions (and instances) hold, which must not show here.
-     */
-    private void reportOpen(List<Alert> streamAlerts) {
-        Map<List<String>, Alert> latestByEpisode = new LinkedHashMap<>();
-        for (Alert alert : streamAlerts) {
-            latestByEpisode.put(List.of(alert.rule(), alert.subject().term(), String.valueOf(alert.subject().level())),
-                    alert);
-        }
-        for (Alert latest : latestByEpisode.values()) {
-            if (latest.state() != AlertState.CLEARED) {
-                listener.onAlertRestored(latest);
-            }
-        }
+        streamFactory.resumeCharts(published, rereadFromMillis, streamsByName.values());
     }
 
     /**

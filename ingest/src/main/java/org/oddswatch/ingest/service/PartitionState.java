@@ -13,10 +13,6 @@ final class PartitionState {
 
     final TopicPartition partition;
     final MonitorPipeline pipeline;
-    /** Reads (parses and decodes) this partition's records on the poll thread. */
-    final MonitorPipeline.RecordReader reader;
-    /** The worker's reader, made by the worker on its first batch. */
-    MonitorPipeline.RecordReader workerReader;
     /** Records below this offset were processed before (by this or another instance): state only. */
     long rebuildUntil = -1;
     /** False from assignment until the seek-back position is set (the partition is paused meanwhile). */
@@ -33,6 +29,5 @@ final class PartitionState {
     PartitionState(TopicPartition partition, MonitorPipeline pipeline) {
         this.partition = partition;
         this.pipeline = pipeline;
-        this.reader = pipeline.newReader();
     }
 }

@@ -239,20 +239,13 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
 
     // ---- records ---------------------------------------------------------------------------
 
-    /**
-     * One partition's records of a poll, each read (parsed and decoded) or the error reading it
-     * raised; the first {@code readHere} on this thread, the rest on the worker; and the consumer
-     * position after them.
-     */
-    private record PartitionBatch(PartitionState state, byte[][] values, long[] offsets,
-                                  MonitorPipeline.ReadRecord[] read, RuntimeException[] failed, int readHere,
-                                  long positionAfter) {
+    /** One partition's records of a poll, and the consumer position after them. */
+    private record PartitionBatch(PartitionState state, byte[][] values, long[] offsets, long positionAfter) {
     }
 
     /**
-     * Reads the first part of the records of planned partitions with each partition's reader (the
-     * worker reads the rest before applying them: see {@link ReadShare}). This runs while the worker
-     * still applies the previous batch: reading needs no stream state.
+     * Takes the records of planned partitions out of a poll; the worker parses and applies them
+     * ({@link MonitorPipeline#offer}), in poll order.
      */
     private List<PartitionBatch> read(ConsumerRecords<byte[], byte[]> records) {
         List<PartitionBatch> batch = new ArrayList<>();
@@ -272,24 +265,9 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
                 values[i] = record.value() == null ? NO_BYTES : record.value();
                 offsets[i] = record.offset();
             }
-            MonitorPipeline.ReadRecord[] read = new MonitorPipeline.ReadRecord[n];
-            RuntimeException[] failed = new RuntimeException[n];
-            int here = readShare.of(n);
-            readRange(state.reader, values, 0, here, read, failed);
-            batch.add(new PartitionBatch(state, values, offsets, read, failed, here, consumer.position(tp)));
+            batch.add(new PartitionBatch(state, values, offsets, consumer.position(tp)));
         }
         return batch;
-    }
-
-    /**
-     * Reads records {@code [from, to)} into {@code read}, or their error into {@code failed}, with
-     * one parser for the range.
-     */
-    private static void readRange(MonitorPipeline.RecordReader reader, byte[][] values, int from, int to,
-                                  MonitorPipeline.ReadRecord[] read, RuntimeException[] failed) {
-        if (from < to) {
-            reader.readAll(java.util.Arrays.asList(values).subList(from, to), read, failed, from);
-        }
     }
 
     /** The value of a record without one (a tombstone): read as empty, so it is rejected as such. */
@@ -322,11 +300,6 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
             TopicPartition tp = state.partition;
             byte[][] values = part.values();
             long[] offsets = part.offsets();
-            if (state.workerReader == null) {
-                // Made here, so its buffers sit in this thread's memory, away from the poll thread's.
-                state.workerReader = state.pipeline.newReader();
-            }
-            readRange(state.workerReader, values, part.readHere(), values.length, part.read(), part.failed());
             long live = 0;
             long rebuilt = 0;
             long nextCommit = -1;
@@ -336,15 +309,10 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
                 byte[] value = values[i];
                 RecordOrigin origin = RecordOrigin.kafka(tp.topic(), tp.partition(), offset);
                 RecordOutcome outcome;
-                RuntimeException failed = part.failed()[i];
-                if (failed != null) {
-                    outcome = pipelineFailed(state, value, origin, suppress, failed);
-                } else {
-                    try {
-                        outcome = state.pipeline.offerRead(part.read()[i], value, origin, suppress);
-                    } catch (RuntimeException e) {
-                        outcome = pipelineFailed(state, value, origin, suppress, e);
-                    }
+                try {
+                    outcome = state.pipeline.offer(value, origin, suppress);
+                } catch (RuntimeException e) {
+                    outcome = pipelineFailed(state, value, origin, suppress, e);
                 }
                 if (suppress) {
                     rebuilt++;

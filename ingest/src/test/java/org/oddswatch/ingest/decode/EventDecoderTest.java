@@ -72,27 +72,27 @@ class EventDecoderTest {
         return json.append('}').toString();
     }
 
-    private EventDecoder.Result decode(String json) {
-        RecordParser.Parsed parsed = parser.parse(json.getBytes(StandardCharsets.UTF_8));
-        assertTrue(parsed.ok(), () -> "parse failed: " + parsed.rejection());
-        return decoder.decode(parsed.tree());
+    private Decoding decode(String json) {
+        return decode(json.getBytes(StandardCharsets.UTF_8));
     }
 
-    private String parseReason(String json) {
-        RecordParser.Parsed parsed = parser.parse(json.getBytes(StandardCharsets.UTF_8));
-        assertFalse(parsed.ok(), json);
-        return parsed.rejection().reason();
+    private Decoding decode(byte[] json) {
+        try {
+            return decoder.decode(parser.parse(json));
+        } catch (UnreadableRecordException e) {
+            throw new AssertionError("parse failed: " + e.rejection(), e);
+        }
     }
 
     private String decodeReason(String json) {
-        EventDecoder.Result result = decode(json);
+        Decoding result = decode(json);
         assertFalse(result.ok(), json);
         return result.rejection().reason();
     }
 
     @Test
     void decodesACompleteEvent() {
-        EventDecoder.Result result = decode(event("id", "\"e1\""));
+        Decoding result = decode(event("id", "\"e1\""));
         assertTrue(result.ok());
         DecodedEvent e = result.event();
         assertEquals("e1", e.id());
@@ -103,21 +103,6 @@ class EventDecoderTest {
         assertArrayEquals(new double[] {1, 1, 4.2, 0, 1, 0, 1}, e.row(), 1e-12);
         assertEquals(2, e.stratum());
         assertNull(e.missingDetail());
-    }
-
-    @Test
-    void parserReasons() {
-        assertEquals(RejectReason.MALFORMED_JSON, parseReason("{\"id\": 1,"));
-        assertEquals(RejectReason.MALFORMED_JSON, parseReason("{\"id\": 1} trailing"));
-        assertEquals(RejectReason.MALFORMED_JSON, parseReason(""));
-        assertEquals(RejectReason.NOT_AN_OBJECT, parseReason("[1, 2]"));
-        assertEquals(RejectReason.NOT_AN_OBJECT, parseReason("\"text\""));
-        assertEquals(RejectReason.OVERSIZED, parseReason("{\"pad\": \"" + "x".repeat(400) + "\"}"));
-        assertEquals(RejectReason.TOO_DEEP, parseReason("{\"a\":{\"b\":{\"c\":{\"d\":{\"e\":{\"f\":1}}}}}}"));
-        assertTrue(parser.parse("{\"a\":{\"b\":{\"c\":{\"d\":1}}}}".getBytes(StandardCharsets.UTF_8)).ok());
-        byte[] notUtf8 = {'{', '"', 'a', '"', ':', '"', (byte) 0xC3, (byte) 0x28, '"', '}'};
-        assertEquals(RejectReason.MALFORMED_JSON, parser.parse(notUtf8).rejection().reason());
-        assertEquals(RejectReason.MALFORMED_JSON, parser.parse(null).rejection().reason());
     }
 
     @Test
@@ -161,7 +146,7 @@ class EventDecoderTest {
         assertEquals(RejectReason.UNKNOWN_LEVEL, decodeReason(event("sex", "\"other\"")));
         assertEquals(RejectReason.UNKNOWN_LEVEL, decodeReason(event("exposure", "{\"household\": \"maybe\"}")));
         assertEquals(RejectReason.BAD_VALUE, decodeReason(event("exposure", "{\"household\": [\"yes\"]}")));
-        EventDecoder.Result result = decode(event("sex", "\"other\""));
+        Decoding result = decode(event("sex", "\"other\""));
         assertTrue(result.rejection().detail().startsWith("sex: "), result.rejection().detail());
     }
 
@@ -170,7 +155,7 @@ class EventDecoderTest {
     void missingCovariatesAreAcceptedWithoutARow() {
         for (String json : new String[] {event("age", null), event("age", "null"), event("ageBand", "\"unknown\""),
                 event("exposure", "{}"), event("sex", "\"\"")}) {
-            EventDecoder.Result result = decode(json);
+            Decoding result = decode(json);
             assertTrue(result.ok(), json);
             assertNull(result.event().row(), json);
             assertFalse(result.event().complete());
@@ -184,7 +169,7 @@ class EventDecoderTest {
     @Test
     void aNonNumericValueOfANumericTermIsTakenAsMissing() {
         for (String age : new String[] {"\"old\"", "true", "1e400", "\"NaN-ish\""}) {
-            EventDecoder.Result result = decode(event("age", age));
+            Decoding result = decode(event("age", age));
             assertTrue(result.ok(), age);
             assertNull(result.event().row(), age);
             assertTrue(result.event().missingDetail().startsWith("age_years: "), result.event().missingDetail());
@@ -195,75 +180,72 @@ class EventDecoderTest {
         assertEquals(RejectReason.UNKNOWN_LEVEL, decodeReason(event("age", "\"old\"").replace("\"male\"", "\"x\"")));
     }
 
-    private EventDecoder.Result scan(byte[] json) {
-        RecordScanner scanner = new RecordScanner(new RecordLimits(400, 5), java.util.List.of(monitor));
-        RecordScanner.Scanned scanned = scanner.scan(json);
-        return scanned.ok() ? decoder.decode(scanned.record()) : new EventDecoder.Result(null, scanned.rejection());
-    }
-
-    private EventDecoder.Result scan(String json) {
-        return scan(json.getBytes(StandardCharsets.UTF_8));
-    }
-
-    /** Numeric ids keep the record's text: 0 and -0, 1.5 and 1.50 are different events. */
-    @Test
-    void numericIdsAndSplitValuesKeepTheirTextAndMustBeFinite() {
-        assertEquals("0", scan(event("id", "0")).event().id());
-        assertEquals("-0", scan(event("id", "-0")).event().id());
-        assertEquals("1.50", scan(event("id", "1.50")).event().id());
-        assertEquals("12345678901234567890123", scan(event("id", "12345678901234567890123")).event().id());
-        for (String bad : new String[] {"1e400", "7e400", "-1e400"}) {
-            EventDecoder.Result id = scan(event("id", bad));
-            assertEquals(RejectReason.BAD_ID, id.rejection().reason(), bad);
-            assertTrue(id.rejection().detail().contains("beyond the range of a double (" + bad + ")"),
-                    id.rejection().detail());
-            EventDecoder.Result split = scan(event("region", bad));
-            assertEquals(RejectReason.BAD_ID, split.rejection().reason(), bad);
-            assertEquals(RejectReason.BAD_ID, decodeReason(event("region", bad)), "the tree path too");
-        }
-        assertEquals("7", scan(event("region", "7")).event().splitValue());
-        EventDecoder.Result surrogate = scan(event("id", "\"a\\ud800\""));
-        assertEquals(RejectReason.BAD_ID, surrogate.rejection().reason());
-        assertEquals(RejectReason.BAD_ID, scan(event("region", "\"\\udc00x\"")).rejection().reason());
-        assertEquals("a\uD83D\uDE00", scan(event("id", "\"a\\ud83d\\ude00\"")).event().id(), "a pair is fine");
-    }
-
     /**
-     * Bytes that are not well-formed UTF-8 are malformed-json on both paths. Source: Unicode
-     * Standard 15.0, section 3.9, table 3-7 (well-formed byte sequences).
+     * Numeric ids keep the digits the parser read: 1.5 and 1.50 are different events; a whole number
+     * is its value (-0 is 0); an exponent is written in BigDecimal's form. Source: the JDK's
+     * {@link java.math.BigDecimal#toString()} (scientific notation for 1e3 is "1E+3").
      */
     @Test
-    void illFormedUtf8IsMalformedJson() {
-        int[][] bad = {{0xC0, 0xAF}, {0xC1, 0xBF}, {0xE0, 0x80, 0xAF}, {0xED, 0xA0, 0x80}, {0xF0, 0x80, 0x80, 0xAF},
-                {0xF4, 0x90, 0x80, 0x80}, {0xF5, 0x80, 0x80, 0x80}, {0x80}, {0xE2, 0x82}};
-        for (int[] sequence : bad) {
-            byte[] json = withIdBytes(sequence);
-            assertEquals(RejectReason.MALFORMED_JSON, parser.parse(json).rejection().reason(),
-                    java.util.Arrays.toString(sequence));
-            EventDecoder.Result scanned = scan(json);
-            assertFalse(scanned.ok());
-            assertTrue(scanned.rejection().detail().startsWith("not valid UTF-8 at byte 7"), scanned.rejection().detail());
+    void numericIdsAndSplitValuesKeepTheirDigitsAndMustBeFinite() {
+        assertEquals("0", decode(event("id", "0")).event().id());
+        assertEquals("0", decode(event("id", "-0")).event().id(), "a whole number is its value");
+        assertEquals("1.50", decode(event("id", "1.50")).event().id());
+        assertEquals("1.5", decode(event("id", "1.5")).event().id());
+        assertEquals("1E+3", decode(event("id", "1e3")).event().id());
+        assertEquals("1000", decode(event("id", "1000")).event().id());
+        assertEquals("12345678901234567890123", decode(event("id", "12345678901234567890123")).event().id());
+        for (String bad : new String[] {"1e400", "7e400", "-1e400"}) {
+            String text = new java.math.BigDecimal(bad).toString();
+            Decoding id = decode(event("id", bad));
+            assertEquals(RejectReason.BAD_ID, id.rejection().reason(), bad);
+            assertTrue(id.rejection().detail().contains("beyond the range of a double (" + text + ")"),
+                    id.rejection().detail());
+            assertEquals(RejectReason.BAD_ID, decodeReason(event("region", bad)), bad);
         }
-        // The boundaries themselves are well-formed: U+0080, U+07FF, U+0800, U+D7FF, U+E000, U+10000, U+10FFFF.
-        int[][] good = {{0xC2, 0x80}, {0xDF, 0xBF}, {0xE0, 0xA0, 0x80}, {0xED, 0x9F, 0xBF}, {0xEE, 0x80, 0x80},
-                {0xF0, 0x90, 0x80, 0x80}, {0xF4, 0x8F, 0xBF, 0xBF}};
-        for (int[] sequence : good) {
-            byte[] json = withIdBytes(sequence);
-            assertTrue(scan(json).ok(), java.util.Arrays.toString(sequence));
-            assertEquals(new String(json, StandardCharsets.UTF_8).substring(7, 7 + (sequence.length == 4 ? 2 : 1)),
-                    scan(json).event().id());
-        }
+        assertEquals("7", decode(event("region", "7")).event().splitValue());
+        assertEquals("7", decode(event("region", "7.0")).event().splitValue(), "a whole value as its digits");
+        assertEquals("7.5", decode(event("region", "7.5")).event().splitValue());
+        Decoding surrogate = decode(event("id", "\"a\\ud800\""));
+        assertEquals(RejectReason.BAD_ID, surrogate.rejection().reason());
+        assertEquals(RejectReason.BAD_ID, decode(event("region", "\"\\udc00x\"")).rejection().reason());
+        assertEquals("a\uD83D\uDE00", decode(event("id", "\"a\\ud83d\\ude00\"")).event().id(), "a pair is fine");
     }
 
-    /** An event whose id is exactly {@code sequence} (the id's first byte is byte 7 of the record). */
-    private static byte[] withIdBytes(int[] sequence) {
-        java.io.ByteArrayOutputStream out = new java.io.ByteArrayOutputStream();
-        out.writeBytes("{\"id\":\"".getBytes(StandardCharsets.UTF_8));
-        for (int b : sequence) {
-            out.write(b);
-        }
-        out.writeBytes(event("id", null).replaceFirst("\\{", "\",").getBytes(StandardCharsets.UTF_8));
-        return out.toByteArray();
+    /** Times given as numbers: whole epoch milliseconds only, also written with a fraction or exponent. */
+    @Test
+    void numericTimesMustBeWholeMilliseconds() {
+        assertEquals(1_770_000_000_000L, decode(event("collectedAt", "1.77e12")).event().timeMillis());
+        assertEquals(1_770_000_000_000L, decode(event("collectedAt", "1770000000000.0")).event().timeMillis());
+        Decoding fraction = decode(event("collectedAt", "1.5"));
+        assertEquals(new Rejection(RejectReason.BAD_TIME, "time 1.5 is not whole epoch milliseconds"),
+                fraction.rejection());
+        assertEquals(RejectReason.BAD_TIME, decodeReason(event("collectedAt", "1e400")));
+        assertEquals(new Rejection(RejectReason.BAD_TIME, "time 99999999999999999999999 is out of range"),
+                decode(event("collectedAt", "99999999999999999999999")).rejection());
+    }
+
+    /** One parsed record serves every monitor reading the input; each reads its own fields. */
+    @Test
+    void oneTreeServesEveryMonitor() throws Exception {
+        MonitorDefinition odd = DefinitionLoader.parse("odd.yaml", String.join("\n",
+                "monitors:",
+                "  - name: odd",
+                "    input: {topic: clinic-tests}",
+                "    event:",
+                "      id: /meta/ids/0",
+                "      time: /a~1b",
+                "      outcome: {field: /c~0d}",
+                "    window: {width: P28D, step: P7D}",
+                ""), Map.of(), null).monitors().get(0);
+        com.fasterxml.jackson.databind.JsonNode tree = parser.parse((event("id", "\"e1\"").replaceFirst("\\{",
+                "{\"meta\":{\"ids\":[\"o1\"]},\"a/b\":1770000000000,\"c~d\":\"positive\",")).getBytes(StandardCharsets.UTF_8));
+        assertEquals("e1", decoder.decode(tree).event().id());
+        DecodedEvent other = new EventDecoder(odd).decode(tree).event();
+        assertEquals("o1", other.id());
+        assertEquals(1_770_000_000_000L, other.timeMillis());
+        assertEquals(new Rejection(RejectReason.MISSING_FIELD, "no event id at /meta/ids/0"),
+                new EventDecoder(odd).decode(parser.parse(event("id", "\"e1\"").getBytes(StandardCharsets.UTF_8)))
+                        .rejection());
     }
 
     @Test

@@ -15,7 +15,8 @@ import java.util.List;
 import java.util.Locale;
 import org.junit.jupiter.api.Tag;
 import org.junit.jupiter.api.Test;
-import org.oddswatch.ingest.decode.RecordScanner;
+import org.oddswatch.ingest.decode.EventDecoder;
+import org.oddswatch.ingest.decode.RecordParser;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.pipeline.MonitorPipeline;
 import org.oddswatch.ingest.pipeline.Outcome;
@@ -28,9 +29,9 @@ import org.oddswatch.ingest.pipeline.RecordOutcome;
  * ({@code mvn -B -Pbench -pl ingest verify -Dtest=StageCostBenchmarkTest -Dsurefire.failIfNoSpecifiedTests=false};
  * writes {@code target/benchmark-stages.md}): the benchmark's house-scenario events in batches of
  * 25,000 (about one 4 MiB fetch), (1) a bare Jackson token walk of each record, for scale, (2)
- * {@link RecordScanner#scanAll} alone, (3) {@link MonitorPipeline.RecordReader#readAll} (scan and
- * decode), (4) {@link MonitorPipeline#offerRead} (time rules, dedupe, windows, fits; a listener that
- * does nothing). Thread CPU time and bytes allocated per record, lowest of the rounds (thread CPU
+ * {@link RecordParser#parse} alone, (3) parse and {@link EventDecoder#decode}, (4)
+ * {@link MonitorPipeline#offer} (parse, decode, then time rules, dedupe, windows, fits; a listener
+ * that does nothing): the apply step alone costs (4) minus (3). Thread CPU time and bytes allocated per record, lowest of the rounds (thread CPU
  * leaves out time the thread was not running; the machine is shared).
  */
 @Tag("benchmark")
@@ -64,8 +65,8 @@ class StageCostBenchmarkTest {
         }
         MonitorConfig config = TestDefinitions.config(TestDefinitions.yaml("127.0.0.1:9", TOPIC, "bench", "bench-group",
                 8, "P3650D"));
-        String[] stages = {"Jackson token walk, a parser per record (for scale)", "scan a batch (`RecordScanner.scanAll`)",
-                "scan and decode (`RecordReader.readAll`)", "apply (`MonitorPipeline.offerRead`)"};
+        String[] stages = {"Jackson token walk, a parser per record (for scale)", "parse (`RecordParser.parse`)",
+                "parse and decode (`EventDecoder.decode`)", "parse, decode and apply (`MonitorPipeline.offer`)"};
         double[][] cpuNanos = new double[stages.length][ROUNDS];
         double[][] bytes = new double[stages.length][ROUNDS];
         JsonFactory factory = new JsonFactory();
@@ -90,37 +91,40 @@ class StageCostBenchmarkTest {
             }
             c[1] = cpu();
             a[1] = allocated();
-            RecordScanner scanner = new RecordScanner(config.limits(), config.monitorsFor(TOPIC));
-            long[] scanned = {0};
+            RecordParser parser = new RecordParser(config.limits());
+            long parsed = 0;
             for (List<byte[]> batch : batches) {
-                scanner.scanAll(batch, (index, result) -> scanned[0] += result.ok() ? 1 : 0);
+                for (byte[] value : batch) {
+                    parsed += parse(parser, value).isObject() ? 1 : 0;
+                }
             }
             c[2] = cpu();
             a[2] = allocated();
-            MonitorPipeline pipeline = MonitorPipeline.forPartition(config, TOPIC, 0, new PipelineListener() {
-            }, null);
-            MonitorPipeline.RecordReader reader = pipeline.newReader();
-            List<MonitorPipeline.ReadRecord[]> reads = new ArrayList<>();
+            EventDecoder decoder = new EventDecoder(config.monitorsFor(TOPIC).get(0));
+            long decoded = 0;
             for (List<byte[]> batch : batches) {
-                MonitorPipeline.ReadRecord[] read = new MonitorPipeline.ReadRecord[batch.size()];
-                reader.readAll(batch, read, new RuntimeException[batch.size()], 0);
-                reads.add(read);
+                for (byte[] value : batch) {
+                    decoded += decoder.decode(parse(parser, value)).ok() ? 1 : 0;
+                }
             }
             c[3] = cpu();
             a[3] = allocated();
+            MonitorPipeline pipeline = MonitorPipeline.forPartition(config, TOPIC, 0, new PipelineListener() {
+            }, null);
             long accepted = 0;
             for (int b = 0; b < batches.size(); b++) {
                 List<byte[]> batch = batches.get(b);
                 for (int i = 0; i < batch.size(); i++) {
-                    RecordOutcome outcome = pipeline.offerRead(reads.get(b)[i], batch.get(i),
-                            RecordOrigin.kafka(TOPIC, 0, (long) b * BATCH + i), false);
+                    RecordOutcome outcome = pipeline.offer(batch.get(i), RecordOrigin.kafka(TOPIC, 0, (long) b * BATCH + i),
+                            false);
                     accepted += outcome.outcome() == Outcome.ACCEPTED ? 1 : 0;
                 }
             }
             c[4] = cpu();
             a[4] = allocated();
             assertEquals(19L * EVENTS, tokens, "19 tokens per record");
-            assertEquals(EVENTS, scanned[0], "every record scanned");
+            assertEquals(EVENTS, parsed, "every record parsed");
+            assertEquals(EVENTS, decoded, "every record decoded");
             assertEquals(EVENTS, accepted, "every record accepted");
             for (int s = 0; s < stages.length; s++) {
                 cpuNanos[s][round] = (c[s + 1] - c[s]) / (double) EVENTS;
@@ -142,7 +146,7 @@ class StageCostBenchmarkTest {
             report.append(String.format(Locale.ROOT, "| %s | %.0f | %.0f | %.0f |%n", stages[s], BenchStats.lowest(cpuNanos[s]),
                     BenchStats.median(cpuNanos[s]), BenchStats.median(bytes[s])));
         }
-        report.append(String.format(Locale.ROOT, "%nDecoding alone (scan and decode minus scan): %.0f ns/record (lowest"
+        report.append(String.format(Locale.ROOT, "%nDecoding alone (parse and decode minus parse): %.0f ns/record (lowest"
                 + " of each).%n", BenchStats.lowest(cpuNanos[2]) - BenchStats.lowest(cpuNanos[1])));
         System.out.println(report);
         Files.createDirectories(Path.of("target"));
@@ -150,4 +154,12 @@ class StageCostBenchmarkTest {
     }
 
 
+
+    private static com.fasterxml.jackson.databind.JsonNode parse(RecordParser parser, byte[] value) {
+        try {
+            return parser.parse(value);
+        } catch (org.oddswatch.ingest.decode.UnreadableRecordException e) {
+            throw new AssertionError(e.rejection().toString(), e);
+        }
+    }
 }

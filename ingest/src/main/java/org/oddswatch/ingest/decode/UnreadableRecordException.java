@@ -1,0 +1,19 @@
+package org.oddswatch.ingest.decode;
+
+/**
+ * A record value that is not one JSON object within the record limits ({@link RecordParser}); no
+ * monitor can read it. Bad input, not a defect: it carries no stack trace.
+ */
+public final class UnreadableRecordException extends Exception {
+
+    private final transient Rejection rejection;
+
+    UnreadableRecordException(String reason, String detail) {
+        super(reason + ": " + detail, null, false, false);
+        this.rejection = new Rejection(reason, detail);
+    }
+
+    public Rejection rejection() {
+        return rejection;
+    }
+}
