@@ -31,8 +31,8 @@ import org.slf4j.LoggerFactory;
  * all monitors, with its poll loop on one thread ({@link PollLoop}) and a worker beside it
  * ({@link BatchWorker}: records are parsed on both and applied on the worker, in poll order), one
  * idempotent producer for estimates, rejects and alerts, and one pipeline per assigned partition.
- * The pipelines report to {@link ServiceOutputs}: the output stage (topics, log, webhook, estimates
- * file) and the meters of the registry.
+ * {@link ServiceOutputs} holds what the pipelines report to: the output stage (topics, log, webhook,
+ * estimates file), then the meters of the registry.
  *
  * <p>Delivery: at least once. Input offsets are committed synchronously only after every output
  * caused by the records before them is acknowledged, so after a crash the records after the last
@@ -116,7 +116,7 @@ public final class MonitorService implements AutoCloseable {
         AlertArchive archive = new AlertArchive(settings.reader("oddswatch-" + instance + "-alerts"), Duration.ofSeconds(30));
         this.outputs = new ServiceOutputs(publisher, registry, config.monitors());
         PollLoop.PipelineFactory factory = tp -> new MonitorPipeline(tp.toString(), config.monitorsFor(tp.topic()),
-                outputs, withTopicHint(pipelineSettings, config, tp.topic()));
+                outputs.listener(), withTopicHint(pipelineSettings, config, tp.topic()));
         this.loop = new PollLoop(config, consumer, lookup, publisher, factory, archive,
                 new ServiceMeters(registry, instance), commitInterval, latest, wallClockMillis,
                 new BatchWorker("oddswatch-pipeline-" + instance));

@@ -12,9 +12,11 @@ import org.oddswatch.estimator.result.WindowStatus;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 import org.oddswatch.ingest.pipeline.PipelineListener;
 import org.oddswatch.ingest.pipeline.RecordOutcome;
+import org.oddswatch.ingest.pipeline.RejectedRecord;
 
 /**
- * Feeds the pipelines' events to the three meter binders of a registry: {@link RecordMeters} (each
+ * Passes each output on to the output stage first, then feeds the pipelines' events to the three
+ * meter binders of a registry: {@link RecordMeters} (each
  * record's outcome; accepted ones added once per batch), {@link FitMeters} (each final window's fit
  * and figures, under its monitor's small-cell rule) and {@link AlertMeters} (alerts, restored open
  * episodes, CUSUM values). Pipelines call none of these while rebuilding, except
@@ -23,12 +25,19 @@ import org.oddswatch.ingest.pipeline.RecordOutcome;
  */
 final class PipelineMeters implements PipelineListener {
 
+    private final PipelineListener outputs;
     private final List<MonitorDefinition> monitors;
     private final RecordMeters records = new RecordMeters();
     private final FitMeters fits = new FitMeters();
     private final AlertMeters alerts = new AlertMeters();
 
-    PipelineMeters(MeterRegistry registry, List<MonitorDefinition> monitors) {
+    /**
+     * @param outputs where estimates, alerts and rejects go before they are metered (the output stage)
+     * @param registry where the binders register their meters
+     * @param monitors the monitors, for each stream's small-cell rule
+     */
+    PipelineMeters(PipelineListener outputs, MeterRegistry registry, List<MonitorDefinition> monitors) {
+        this.outputs = outputs;
         this.monitors = List.copyOf(monitors);
         records.bindTo(registry);
         fits.bindTo(registry);
@@ -51,6 +60,7 @@ final class PipelineMeters implements PipelineListener {
 
     @Override
     public void onEstimate(WindowEstimate estimate) {
+        outputs.onEstimate(estimate);
         if (estimate.status() == WindowStatus.FINAL) {
             fits.finalEstimate(estimate, MonitorDefinition.ofStream(monitors, estimate.stream()).outputs().smallCells());
         }
@@ -62,7 +72,13 @@ final class PipelineMeters implements PipelineListener {
     }
 
     @Override
+    public void onReject(RejectedRecord record) {
+        outputs.onReject(record);
+    }
+
+    @Override
     public void onAlert(Alert alert) {
+        outputs.onAlert(alert);
         alerts.alert(alert);
     }
 

@@ -21,6 +21,7 @@ import org.oddswatch.alerts.rules.Measurement;
 import org.oddswatch.alerts.metrics.OddswatchMeters;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.pipeline.MonitorPipeline;
+import org.oddswatch.ingest.pipeline.PipelineListener;
 import org.oddswatch.ingest.pipeline.PipelineSettings;
 import org.oddswatch.ingest.pipeline.RecordOrigin;
 
@@ -56,7 +57,7 @@ class StreamSeriesLifecycleTest {
     }
 
     private static PipelineMeters listener(MonitorConfig config, MeterRegistry registry) {
-        return new PipelineMeters(registry, config.monitors());
+        return new PipelineMeters(new PipelineListener() { }, registry, config.monitors());
     }
 
     private static Set<String> tagValues(MeterRegistry registry, String key) {
