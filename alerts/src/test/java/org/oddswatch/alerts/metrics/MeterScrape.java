@@ -2,6 +2,8 @@ package org.oddswatch.alerts.metrics;
 
 import io.micrometer.prometheusmetrics.PrometheusConfig;
 import io.micrometer.prometheusmetrics.PrometheusMeterRegistry;
+import io.micrometer.core.instrument.binder.MeterBinder;
+import java.net.URI;
 import java.time.Duration;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
@@ -13,8 +15,9 @@ import org.oddswatch.alerts.Fixtures;
 import org.oddswatch.alerts.engine.AlertEngine;
 import org.oddswatch.alerts.engine.AlertRulesConfig;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.output.WebhookSink;
 
-/** A Prometheus registry fed with one stream's estimates, alerts, CUSUM, fits, events and webhook counts. */
+/** A Prometheus registry fed, through the binders, with one stream's estimates, alerts, CUSUM, fits, records and webhook counts. */
 final class MeterScrape {
 
     /** One parsed sample line: series name, labels, value. */
@@ -30,22 +33,27 @@ final class MeterScrape {
     /** Text of a scrape after a realistic sequence of updates. */
     static String scrape() {
         PrometheusMeterRegistry registry = new PrometheusMeterRegistry(PrometheusConfig.DEFAULT);
-        OddswatchMeters meters = new OddswatchMeters();
-        meters.bindTo(registry);
+        RecordMeters records = new RecordMeters();
+        FitMeters fits = new FitMeters();
+        AlertMeters alerts = new AlertMeters();
+        WebhookSink webhook = new WebhookSink("monitor", URI.create("http://127.0.0.1:9/hook"), Duration.ofSeconds(1), 1);
+        for (MeterBinder binder : List.of(records, fits, alerts, webhook)) {
+            binder.bindTo(registry);
+        }
+        webhook.close();
         AlertEngine engine = new AlertEngine(Fixtures.STREAM, AlertRulesConfig.defaults(), Fixtures.baseline(), null);
         var w = Fixtures.window(0, Math.log(4.0), 0.15, Fixtures.fit(org.oddswatch.estimator.fit.FitState.CONVERGED,
                 org.oddswatch.estimator.fit.FitMethod.NEWTON, 2000), Fixtures.calibration(1.1, 0.9, 1.3, 0.95, 0.1, 0.4));
-        meters.onEstimate(w, org.oddswatch.alerts.privacy.SmallCellPolicy.DEFAULT);
+        fits.finalEstimate(w, org.oddswatch.alerts.privacy.SmallCellPolicy.DEFAULT);
         for (Alert a : engine.onFinalEstimate(w)) {
-            meters.onAlert(a);
+            alerts.alert(a);
         }
         engine.onEvent(Fixtures.start(0).toEpochMilli(), "e1", new double[] {1, 1, 4.2}, true);
-        meters.onCusum(Fixtures.STREAM, engine.cusumReadings());
-        meters.recordFit(Fixtures.STREAM, Duration.ofMillis(12).toNanos(), 3);
-        meters.countEvent("monitor", Fixtures.STREAM, "accepted", null);
-        meters.countEvent("monitor", Fixtures.STREAM, "rejected", "bad-time");
-        meters.webhookAttempt("success");
-        meters.webhookFailure("queue-full");
+        alerts.cusum(Fixtures.STREAM, engine.cusumReadings());
+        fits.fitted(Fixtures.STREAM, Duration.ofMillis(12).toNanos(), 3);
+        records.accepted("monitor", Fixtures.STREAM);
+        records.flush();
+        records.count("monitor", Fixtures.STREAM, "rejected", "bad-time");
         return registry.scrape();
     }
 

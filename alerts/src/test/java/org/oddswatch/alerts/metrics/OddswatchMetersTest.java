@@ -2,8 +2,10 @@ package org.oddswatch.alerts.metrics;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertNull;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import io.micrometer.core.instrument.simple.SimpleMeterRegistry;
 import java.lang.reflect.Field;
 import java.lang.reflect.Modifier;
 import java.nio.file.Files;
@@ -15,12 +17,16 @@ import java.util.Set;
 import java.util.TreeSet;
 import java.util.stream.Collectors;
 import org.junit.jupiter.api.Test;
+import org.oddswatch.alerts.Fixtures;
+import org.oddswatch.alerts.engine.AlertEngine;
+import org.oddswatch.alerts.engine.AlertRulesConfig;
+import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.metrics.MeterScrape.Sample;
 
 /**
- * Scrapes a Prometheus registry the binder fed and checks it against the meter table in
+ * Scrapes a Prometheus registry the binders fed and checks it against the meter table in
  * {@code alerts/README.md}: every documented series is exposed with exactly the documented tags,
- * and every meter name the binder declares is documented.
+ * and every meter name {@link OddswatchMeters} declares is documented.
  */
 class OddswatchMetersTest {
 
@@ -52,7 +58,7 @@ class OddswatchMetersTest {
     void everyDocumentedSeriesIsExposedWithItsTags() throws Exception {
         List<Sample> samples = MeterScrape.parse(MeterScrape.scrape());
         List<Documented> rows = documented();
-        assertTrue(rows.size() >= 17, "rows: " + rows.size());
+        assertTrue(rows.size() >= 18, "rows: " + rows.size());
         for (Documented d : rows) {
             List<Sample> found = samples.stream().filter(s -> s.name().equals(d.series())).toList();
             assertFalse(found.isEmpty(), d.series() + " (" + d.meter() + ") is not in the scrape");
@@ -81,12 +87,34 @@ class OddswatchMetersTest {
         assertEquals("odds-ratio-drift", state.labels().get("rule"));
         assertEquals("household_contact", state.labels().get("term"));
         assertEquals("yes", state.labels().get("level"));
+        // One raised message per open episode; a restored episode (AlertMeters.restored) is not counted.
+        List<Sample> messages = samples.stream().filter(s -> s.name().equals("oddswatch_alerts_total")).toList();
+        long open = samples.stream().filter(s -> s.name().equals("oddswatch_alert_state") && s.value().equals("1.0"))
+                .count();
+        assertEquals(open, messages.stream().filter(s -> "raised".equals(s.labels().get("state")))
+                .mapToDouble(s -> Double.parseDouble(s.value())).sum(), 0.0);
+        assertTrue(messages.stream().allMatch(s -> "raised".equals(s.labels().get("state"))), messages.toString());
         Sample or = samples.stream().filter(s -> s.name().equals("oddswatch_odds_ratio")
                 && "household_contact".equals(s.labels().get("term"))).findFirst().orElseThrow();
         assertEquals(4.0, Double.parseDouble(or.value()), 1e-12);
-        Sample rejected = samples.stream().filter(s -> s.name().equals("oddswatch_events_total")
+        Sample rejected = samples.stream().filter(s -> s.name().equals("oddswatch_records_total")
                 && "rejected".equals(s.labels().get("outcome"))).findFirst().orElseThrow();
         assertEquals("bad-time", rejected.labels().get("reason"));
         assertEquals(1.0, Double.parseDouble(rejected.value()));
+    }
+
+    @Test
+    void aRestoredEpisodeShowsItsStateButIsNotCountedAsAMessage() {
+        SimpleMeterRegistry registry = new SimpleMeterRegistry();
+        AlertMeters meters = new AlertMeters();
+        meters.bindTo(registry);
+        Alert raised = new AlertEngine(Fixtures.STREAM, AlertRulesConfig.defaults(), Fixtures.baseline(), null)
+                .onFinalEstimate(Fixtures.windowWithZ(0, 4)).get(0);
+        meters.restored(raised);
+        assertEquals(1.0, registry.get(OddswatchMeters.ALERT_STATE).gauge().value());
+        assertNull(registry.find(OddswatchMeters.ALERTS).counter(), "restoring publishes nothing");
+        meters.alert(raised);
+        assertEquals(1.0, registry.get(OddswatchMeters.ALERTS).tag("state", "raised").tag("rule", raised.rule())
+                .counter().count());
     }
 }

@@ -46,7 +46,7 @@ class PrometheusRulesFileTest {
         Sample state = scrape.stream().filter(s -> s.name().startsWith("oddswatch_alert_state")).findFirst().orElseThrow();
         assertTrue(exprs.stream().anyMatch(e -> e.contains(state.name() + ")") && e.contains("== 1")),
                 "a rule fires on " + state.name());
-        for (String series : List.of("oddswatch_webhook_failures_total", "oddswatch_events_total")) {
+        for (String series : List.of("oddswatch_webhook_failures_total", "oddswatch_records_total")) {
             assertTrue(scrape.stream().anyMatch(s -> s.name().equals(series)), series + " is exposed");
         }
     }
@@ -103,12 +103,12 @@ class PrometheusRulesFileTest {
         JsonNode root = new ObjectMapper(new YAMLFactory()).readTree(RULES.toFile());
         for (JsonNode group : root.get("groups")) {
             for (JsonNode rule : group.get("rules")) {
-                if ("OddswatchEventsRejected".equals(rule.path("alert").asText())) {
+                if ("OddswatchRecordsRejected".equals(rule.path("alert").asText())) {
                     return rule.get("expr").asText();
                 }
             }
         }
-        throw new AssertionError("no OddswatchEventsRejected rule");
+        throw new AssertionError("no OddswatchRecordsRejected rule");
     }
 
     @Test
@@ -117,19 +117,20 @@ class PrometheusRulesFileTest {
         io.micrometer.prometheusmetrics.PrometheusMeterRegistry registry =
                 new io.micrometer.prometheusmetrics.PrometheusMeterRegistry(
                         io.micrometer.prometheusmetrics.PrometheusConfig.DEFAULT);
-        OddswatchMeters meters = new OddswatchMeters();
+        RecordMeters meters = new RecordMeters();
         meters.bindTo(registry);
-        meters.countEvent("resp", "resp/north", "accepted", null);
-        meters.countEvent("resp", null, "rejected", "too-many-streams");
+        meters.count("resp", "resp/north", "accepted", null);
+        meters.count("resp", null, "rejected", "too-many-streams");
         List<Sample> before = MeterScrape.parse(registry.scrape());
         // 1,000 records of monitor resp: 980 accepted in two streams, 20 (2 %) rejected unrouted.
         for (int i = 0; i < 490; i++) {
-            meters.countEvent("resp", "resp/north", "accepted", null);
-            meters.countEvent("resp", "resp/south", "accepted", null);
+            meters.accepted("resp", "resp/north");
+            meters.accepted("resp", "resp/south");
         }
         for (int i = 0; i < 20; i++) {
-            meters.countEvent("resp", null, "rejected", i % 2 == 0 ? "too-many-streams" : "malformed-json");
+            meters.count("resp", null, "rejected", i % 2 == 0 ? "too-many-streams" : "malformed-json");
         }
+        meters.flush();
         List<Sample> twoPercent = MeterScrape.parse(registry.scrape());
         assertEquals(java.util.Set.of(), rule.firing(before, twoPercent), "2 % rejected: quiet");
         // The former rule (share per stream) fired on the unrouted series, where every record is a reject.
@@ -137,7 +138,7 @@ class PrometheusRulesFileTest {
         assertEquals(java.util.Set.of("none"), perStream.firing(before, twoPercent));
 
         for (int i = 0; i < 40; i++) {
-            meters.countEvent("resp", "resp/north", "rejected", "bad-time");
+            meters.count("resp", "resp/north", "rejected", "bad-time");
         }
         // 60 of 1,040 records (5.8 %) rejected: above 5 %, fires for the monitor.
         assertEquals(java.util.Set.of("resp"), rule.firing(before, MeterScrape.parse(registry.scrape())));

@@ -37,18 +37,18 @@ class SmallCellMetersTest {
     @Test
     void withheldFiguresReadNaNAndShownOnesTheirValue() {
         PrometheusMeterRegistry registry = new PrometheusMeterRegistry(PrometheusConfig.DEFAULT);
-        OddswatchMeters meters = new OddswatchMeters();
+        FitMeters meters = new FitMeters();
         meters.bindTo(registry);
         CalibrationEstimate cal = Fixtures.calibration(1.1, 0.9, 1.3, 0.95, 0.1, 0.4);
 
-        meters.onEstimate(window(2010, 5, cal), SmallCellPolicy.DEFAULT);
+        meters.finalEstimate(window(2010, 5, cal), SmallCellPolicy.DEFAULT);
         List<Sample> five = MeterScrape.parse(registry.scrape());
         assertEquals(5 / 2010.0, value(five, "oddswatch_prevalence", null), 1e-15);
         assertEquals(4.0, value(five, "oddswatch_odds_ratio", "household_contact"), 1e-12);
         assertEquals(2010.0, value(five, "oddswatch_window_events", null));
         assertEquals(1.1, value(five, "oddswatch_calibration_observed_expected", null), 1e-12);
 
-        meters.onEstimate(window(2010, 4, cal), SmallCellPolicy.DEFAULT);
+        meters.finalEstimate(window(2010, 4, cal), SmallCellPolicy.DEFAULT);
         List<Sample> four = MeterScrape.parse(registry.scrape());
         for (String series : List.of("oddswatch_prevalence", "oddswatch_prevalence_lower", "oddswatch_prevalence_upper",
                 "oddswatch_calibration_observed_expected", "oddswatch_calibration_slope")) {
@@ -58,9 +58,9 @@ class SmallCellMetersTest {
         assertTrue(Double.isNaN(value(four, "oddswatch_odds_ratio_upper", "household_contact")));
         assertEquals(2010.0, value(four, "oddswatch_window_events", null), "the events stay");
 
-        meters.onEstimate(window(4, 1, null), SmallCellPolicy.DEFAULT);
+        meters.finalEstimate(window(4, 1, null), SmallCellPolicy.DEFAULT);
         assertTrue(Double.isNaN(value(MeterScrape.parse(registry.scrape()), "oddswatch_window_events", null)));
-        meters.onEstimate(window(5, 0, null), SmallCellPolicy.DEFAULT);
+        meters.finalEstimate(window(5, 0, null), SmallCellPolicy.DEFAULT);
         assertEquals(5.0, value(MeterScrape.parse(registry.scrape()), "oddswatch_window_events", null));
     }
 }

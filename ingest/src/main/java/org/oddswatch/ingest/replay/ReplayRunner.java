@@ -1,10 +1,8 @@
 package org.oddswatch.ingest.replay;
 
 import com.fasterxml.jackson.databind.node.ObjectNode;
-import java.io.BufferedWriter;
 import java.io.IOException;
 import java.io.UncheckedIOException;
-import java.io.Writer;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -16,7 +14,9 @@ import java.util.Map;
 import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
-import org.oddswatch.alerts.privacy.PublishedAlert;
+import org.oddswatch.alerts.output.JsonLinesSink;
+import org.oddswatch.alerts.output.OutputSink;
+import org.oddswatch.alerts.output.Published;
 import org.oddswatch.alerts.privacy.PublishedEstimate;
 import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.alerts.report.ReplayReport;
@@ -26,12 +26,11 @@ import org.oddswatch.ingest.definition.DefinitionException;
 import org.oddswatch.ingest.definition.DefinitionLoader;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.definition.MonitorDefinition;
+import org.oddswatch.ingest.output.OutputStage;
 import org.oddswatch.ingest.pipeline.MonitorPipeline;
-import org.oddswatch.ingest.pipeline.PipelineListener;
 import org.oddswatch.ingest.pipeline.PipelineSettings;
 import org.oddswatch.ingest.pipeline.PipelineSnapshot;
 import org.oddswatch.ingest.pipeline.RecordOrigin;
-import org.oddswatch.ingest.pipeline.RejectedRecord;
 import org.oddswatch.ingest.pipeline.StreamStatus;
 
 /**
@@ -93,10 +92,13 @@ public final class ReplayRunner {
                 .withReplayHint(new ReplayHint(request.config() == null ? config.file() : request.config().toString(),
                         request.input().toString(), null));
         InputFormat format = request.effectiveFormat();
-        FileOutputs outputs = new FileOutputs(request.out(), new WindowRange(request.from(), request.to()), monitors);
+        Path out = request.out();
+        JsonLinesSink files = JsonLinesSink.replayFiles(out.resolve(ESTIMATES), out.resolve(ALERTS), out.resolve(REJECTS));
+        ReportOutputs outputs = new ReportOutputs(new WindowRange(request.from(), request.to()), files);
         MonitorPipeline pipeline;
-        try (outputs) {
-            pipeline = new MonitorPipeline(request.input().toString(), monitors, outputs, settings);
+        try (files) {
+            pipeline = new MonitorPipeline(request.input().toString(), monitors,
+                    new OutputStage(monitors, monitor -> List.of(outputs)), settings);
             EventFileReader.read(request.input(), format, new PipelineFeed(pipeline));
             pipeline.closeAll();
         } catch (UncheckedIOException e) {
@@ -132,7 +134,7 @@ public final class ReplayRunner {
     }
 
     private static ReplaySummary summary(ReplayRequest request, InputFormat format, PipelineSnapshot snapshot,
-                                         FileOutputs outputs) {
+                                         ReportOutputs outputs) {
         List<ReplaySummary.Monitor> monitors = new ArrayList<>();
         for (PipelineSnapshot.MonitorStatus monitor : snapshot.monitors()) {
             monitors.add(new ReplaySummary.Monitor(monitor.monitor(), monitor.streams(), monitor.unrouted()));
@@ -180,75 +182,44 @@ public final class ReplayRunner {
         }
     }
 
-    /** Writes the three JSON Lines files and keeps estimates and alerts (of the range) for the report. */
-    private static final class FileOutputs implements PipelineListener, AutoCloseable {
+    /**
+     * Passes the range's estimates and alerts (and every reject) on to the files, and keeps the
+     * range's estimates and alerts for the reports.
+     */
+    private static final class ReportOutputs implements OutputSink {
         private final WindowRange range;
-        private final List<MonitorDefinition> monitors;
-        private final Writer estimatesFile;
-        private final Writer rejectsFile;
-        private final Writer alertsFile;
+        private final OutputSink files;
         final List<WindowEstimate> estimates = new ArrayList<>();
         final List<Alert> alerts = new ArrayList<>();
         final Map<String, WindowEstimate[]> windowSpan = new LinkedHashMap<>();
         long rejects;
 
-        FileOutputs(Path dir, WindowRange range, List<MonitorDefinition> monitors) throws IOException {
+        ReportOutputs(WindowRange range, OutputSink files) {
             this.range = range;
-            this.monitors = monitors;
-            estimatesFile = writer(dir.resolve(ESTIMATES));
-            rejectsFile = writer(dir.resolve(REJECTS));
-            alertsFile = writer(dir.resolve(ALERTS));
-        }
-
-        private static Writer writer(Path file) throws IOException {
-            return new BufferedWriter(Files.newBufferedWriter(file, StandardCharsets.UTF_8), 1 << 16);
+            this.files = files;
         }
 
         @Override
-        public void onEstimate(WindowEstimate estimate) {
-            if (!range.contains(estimate.windowStart(), estimate.windowEnd())) {
-                return;
+        public void estimate(WindowEstimate estimate, Published published) {
+            if (range.contains(estimate.windowStart(), estimate.windowEnd())) {
+                estimates.add(estimate);
+                windowSpan.computeIfAbsent(estimate.stream(), s -> new WindowEstimate[] {estimate, estimate})[1] = estimate;
+                files.estimate(estimate, published);
             }
-            estimates.add(estimate);
-            windowSpan.computeIfAbsent(estimate.stream(), s -> new WindowEstimate[] {estimate, estimate})[1] = estimate;
-            line(estimatesFile, PublishedEstimate.json(estimate, cellsOf(estimate.stream())));
         }
 
         @Override
-        public void onReject(RejectedRecord record) {
+        public void alert(Alert alert, Published published) {
+            if (range.contains(alert.windowStart(), alert.windowEnd())) {
+                alerts.add(alert);
+                files.alert(alert, published);
+            }
+        }
+
+        @Override
+        public void reject(Published reject, String messageJson) {
             rejects++;
-            line(rejectsFile, Json.write(record.toJson()));
-        }
-
-        @Override
-        public void onAlert(Alert alert) {
-            if (!range.contains(alert.windowStart(), alert.windowEnd())) {
-                return;
-            }
-            alerts.add(alert);
-            line(alertsFile, PublishedAlert.json(alert, cellsOf(alert.stream())));
-        }
-
-        private SmallCellPolicy cellsOf(String stream) {
-            return MonitorDefinition.ofStream(monitors, stream).outputs().smallCells();
-        }
-
-        private static void line(Writer writer, String json) {
-            try {
-                writer.write(json);
-                writer.write('\n');
-            } catch (IOException e) {
-                throw new UncheckedIOException(e);
-            }
-        }
-
-        @Override
-        public void close() throws IOException {
-            try (Writer a = estimatesFile; Writer b = rejectsFile; Writer c = alertsFile) {
-                a.flush();
-                b.flush();
-                c.flush();
-            }
+            files.reject(reject, messageJson);
         }
     }
 }

@@ -17,7 +17,7 @@ import org.apache.kafka.clients.consumer.CooperativeStickyAssignor;
 import org.apache.kafka.clients.consumer.KafkaConsumer;
 import org.apache.kafka.common.serialization.ByteArrayDeserializer;
 import org.oddswatch.alerts.engine.ReplayHint;
-import org.oddswatch.alerts.sinks.WebhookAlertSink;
+import org.oddswatch.alerts.output.WebhookSink;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.kafka.KafkaClientSettings;
 import org.oddswatch.ingest.kafka.KafkaOutputPublisher;
@@ -30,9 +30,9 @@ import org.slf4j.LoggerFactory;
  * The live service: one Kafka consumer in the configured group, subscribed to the input topics of
  * all monitors, with its poll loop on one thread ({@link PollLoop}) and a worker beside it
  * ({@link BatchWorker}: records are parsed on both and applied on the worker, in poll order), one
- * idempotent producer for estimates, rejects and alerts, and one pipeline per assigned partition. Alerts also go to the log
- * and the monitor's webhook; estimates, alerts and record outcomes feed the
- * {@link org.oddswatch.alerts.metrics.OddswatchMeters} of the registry ({@link AlertMetersListener}).
+ * idempotent producer for estimates, rejects and alerts, and one pipeline per assigned partition.
+ * {@link ServiceOutputs} holds what the pipelines report to: the output stage (topics, log, webhook,
+ * estimates file), then the meters of the registry.
  *
  * <p>Delivery: at least once. Input offsets are committed synchronously only after every output
  * caused by the records before them is acknowledged, so after a crash the records after the last
@@ -52,7 +52,7 @@ public final class MonitorService implements AutoCloseable {
     private final KafkaConsumer<byte[], byte[]> consumer;
     private final KafkaConsumer<byte[], byte[]> lookup;
     private final KafkaOutputPublisher publisher;
-    private final AlertMetersListener outputs;
+    private final ServiceOutputs outputs;
     private final List<KafkaClientMetrics> clientMetrics;
     private final PollLoop loop;
     private final Thread thread;
@@ -114,11 +114,9 @@ public final class MonitorService implements AutoCloseable {
                 .tags(tags).description("outputs the broker refused for what they are (too large, invalid), skipped")
                 .register(registry);
         AlertArchive archive = new AlertArchive(settings.reader("oddswatch-" + instance + "-alerts"), Duration.ofSeconds(30));
-        // Alerts and final estimates also feed the alert meters (bound once per registry), the log
-        // and each monitor's webhook.
-        this.outputs = new AlertMetersListener(publisher, registry, config.monitors());
+        this.outputs = new ServiceOutputs(publisher, registry, config.monitors());
         PollLoop.PipelineFactory factory = tp -> new MonitorPipeline(tp.toString(), config.monitorsFor(tp.topic()),
-                outputs, withTopicHint(pipelineSettings, config, tp.topic()));
+                outputs.listener(), withTopicHint(pipelineSettings, config, tp.topic()));
         this.loop = new PollLoop(config, consumer, lookup, publisher, factory, archive,
                 new ServiceMeters(registry, instance), commitInterval, latest, wallClockMillis,
                 new BatchWorker("oddswatch-pipeline-" + instance));
@@ -193,7 +191,7 @@ public final class MonitorService implements AutoCloseable {
     }
 
     /** The webhook sink of a monitor, or null when it has none. */
-    WebhookAlertSink webhook(String monitor) {
+    WebhookSink webhook(String monitor) {
         return outputs.webhook(monitor);
     }
 

@@ -91,8 +91,8 @@ class ServiceAlertOutputsTest {
             assertTrue(or.find(), grep(body, "oddswatch_odds_ratio"));
             // The generator's odds ratio after the drift is exp(1.0 + 1.5) = 12.2; the last window must be well above 3.
             assertTrue(Double.parseDouble(or.group(1)) > 3.0, or.group());
-            assertTrue(body.contains("oddswatch_events_total{monitor=\"resp\",outcome=\"accepted\",reason=\"none\",stream=\"resp\"} "
-                    + DRIFTING.size() + ".0"), grep(body, "oddswatch_events_total"));
+            assertTrue(body.contains("oddswatch_records_total{monitor=\"resp\",outcome=\"accepted\",reason=\"none\",stream=\"resp\"} "
+                    + DRIFTING.size() + ".0"), grep(body, "oddswatch_records_total"));
             assertTrue(body.contains("oddswatch_fit_iterations_count{stream=\"resp\"}"), grep(body, "oddswatch_fit"));
         }
 
@@ -107,7 +107,7 @@ class ServiceAlertOutputsTest {
             assertTrue(gauge != null, "alert-state gauge restored");
             assertEquals(1.0, gauge.value());
             assertTrue(restarted.find("oddswatch.prevalence").gauges().isEmpty(), "nothing fed while rebuilding");
-            assertTrue(restarted.find("oddswatch.events").counters().isEmpty(), "rebuilt records are not counted");
+            assertTrue(restarted.find("oddswatch.records").counters().isEmpty(), "rebuilt records are not counted");
         }
     }
 

@@ -24,7 +24,7 @@ import org.oddswatch.alerts.json.Json;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.kafka.TestBroker;
-import org.oddswatch.ingest.kafka.KafkaOutputPublisher;
+import org.oddswatch.ingest.output.OutputStage;
 import org.oddswatch.ingest.replay.ReplayRequest;
 import org.oddswatch.ingest.replay.ReplayRunner;
 
@@ -112,8 +112,8 @@ final class ServiceTestSupport {
             Map<String, String> out = new TreeMap<>();
             for (String json : Files.readAllLines(dir.resolve("out").resolve(ReplayRunner.ESTIMATES))) {
                 WindowEstimate estimate = Json.mapper().readValue(json, WindowEstimate.class);
-                if (out.put(KafkaOutputPublisher.estimateKey(estimate), json) != null) {
-                    fail("replay wrote two estimates for " + KafkaOutputPublisher.estimateKey(estimate));
+                if (out.put(OutputStage.estimateKey(estimate), json) != null) {
+                    fail("replay wrote two estimates for " + OutputStage.estimateKey(estimate));
                 }
             }
             return out;

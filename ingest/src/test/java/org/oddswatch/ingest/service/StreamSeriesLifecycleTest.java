@@ -56,8 +56,8 @@ class StreamSeriesLifecycleTest {
                 PipelineSettings.defaults().withLimits(config.limits()));
     }
 
-    private static AlertMetersListener listener(MonitorConfig config, MeterRegistry registry) {
-        return new AlertMetersListener(new PipelineListener() { }, registry, config.monitors());
+    private static PipelineMeters listener(MonitorConfig config, MeterRegistry registry) {
+        return new PipelineMeters(new PipelineListener() { }, registry, config.monitors());
     }
 
     private static Set<String> tagValues(MeterRegistry registry, String key) {
@@ -72,7 +72,7 @@ class StreamSeriesLifecycleTest {
     }
 
     private static double events(MeterRegistry registry, String monitor, String stream, String reason) {
-        return registry.get(OddswatchMeters.EVENTS).tag("monitor", monitor).tag("stream", stream).tag("reason", reason)
+        return registry.get(OddswatchMeters.RECORDS).tag("monitor", monitor).tag("stream", stream).tag("reason", reason)
                 .counter().count();
     }
 
@@ -115,7 +115,7 @@ class StreamSeriesLifecycleTest {
         pipeline.batchDone();
         assertEquals(1.0, events(registry, "resp", OddswatchMeters.NONE, "malformed-json"));
         assertEquals(1.0, events(registry, "resp2", OddswatchMeters.NONE, "malformed-json"));
-        double all = registry.find(OddswatchMeters.EVENTS).counters().stream().mapToDouble(c -> c.count()).sum();
+        double all = registry.find(OddswatchMeters.RECORDS).counters().stream().mapToDouble(c -> c.count()).sum();
         assertEquals(2.0, all, "one count in each monitor's series, none elsewhere");
         assertEquals(Set.of("resp", "resp2"), tagValues(registry, "monitor"));
     }
@@ -124,7 +124,7 @@ class StreamSeriesLifecycleTest {
     void releasedStreamsLeaveTheRegistryAndOthersStay() {
         MonitorConfig config = config(8, false);
         MeterRegistry registry = new SimpleMeterRegistry();
-        AlertMetersListener listener = listener(config, registry);
+        PipelineMeters listener = listener(config, registry);
         MonitorPipeline p0 = MonitorPipeline.forPartition(config, INPUT, 0, listener, registry);
         MonitorPipeline p1 = MonitorPipeline.forPartition(config, INPUT, 1, listener, registry);
         Instant start = Instant.parse("2026-01-05T06:00:00Z");
@@ -148,7 +148,7 @@ class StreamSeriesLifecycleTest {
         MonitorPipeline again = MonitorPipeline.forPartition(config, INPUT, 0, listener, registry);
         again.offer(event(50_000, "north", start), RecordOrigin.kafka(INPUT, 0, 0), false);
         again.batchDone();
-        assertEquals(1.0, registry.get(OddswatchMeters.EVENTS).tag("stream", "resp/north").tag("outcome", "accepted")
+        assertEquals(1.0, registry.get(OddswatchMeters.RECORDS).tag("stream", "resp/north").tag("outcome", "accepted")
                 .counter().count());
     }
 

@@ -1,5 +1,8 @@
-package org.oddswatch.alerts.sinks;
+package org.oddswatch.alerts.output;
 
+import io.micrometer.core.instrument.FunctionCounter;
+import io.micrometer.core.instrument.MeterRegistry;
+import io.micrometer.core.instrument.binder.MeterBinder;
 import java.io.IOException;
 import java.net.URI;
 import java.net.http.HttpClient;
@@ -7,72 +10,68 @@ import java.net.http.HttpRequest;
 import java.net.http.HttpResponse;
 import java.net.http.HttpTimeoutException;
 import java.time.Duration;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
 import java.util.concurrent.ArrayBlockingQueue;
 import java.util.concurrent.RejectedExecutionException;
 import java.util.concurrent.ThreadPoolExecutor;
 import java.util.concurrent.TimeUnit;
 import java.util.concurrent.atomic.AtomicLong;
-import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
-import org.oddswatch.alerts.privacy.PublishedAlert;
-import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.alerts.metrics.OddswatchMeters;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
 /**
- * HTTP POST of the alert JSON ({@code Content-Type: application/json}) to one URL. Delivery runs on
- * one daemon thread fed by a bounded queue, so {@link #publish} only enqueues and returns at once.
- * Each attempt has a request timeout; a 2xx response is success; any other status, an I/O error or
- * a timeout is retried up to {@code attempts} attempts in all, waiting {@code backoff}, then twice
- * that, and so on. When every attempt failed, or the queue is full, the alert is dropped from this
- * sink (it is still in the alerts topic and the log), counted and logged. The {@code Idempotency-Key}
- * header carries {@code <alert id>:<state>:<windowEnd>} so a receiver can discard a duplicate of a
- * retried delivery.
+ * HTTP POST of each alert's JSON ({@code Content-Type: application/json}) to one monitor's URL.
+ * Delivery runs on one daemon thread fed by a bounded queue, so {@link #alert} only enqueues and
+ * returns at once: the poll loop never waits for a receiver. Each attempt has a request timeout; a
+ * 2xx response is success; any other status, an I/O error or a timeout is retried up to
+ * {@code attempts} attempts in all, waiting {@code backoff}, then twice that, and so on (at most
+ * 60 s). When every attempt failed, or the queue is full, the alert is dropped from this sink (it is
+ * still on the alerts topic and in the log), counted and logged at ERROR. The
+ * {@code Idempotency-Key} header carries {@code <alert id>:<state>:<windowEnd>} so a receiver can
+ * discard a duplicate of a retried delivery.
+ *
+ * <p>Meters ({@link #bindTo}): {@value OddswatchMeters#WEBHOOK_ATTEMPTS} by {@code monitor} and
+ * {@code outcome} ({@code success}, {@code status}, {@code error}, {@code timeout}) and
+ * {@value OddswatchMeters#WEBHOOK_FAILURES} by {@code monitor} and {@code reason}
+ * ({@code attempts-exhausted}, {@code queue-full}, {@code interrupted}).
  */
-public final class WebhookAlertSink implements AlertSink {
+public final class WebhookSink implements OutputSink, MeterBinder {
 
-    private static final Logger LOG = LoggerFactory.getLogger(WebhookAlertSink.class);
+    private static final Logger LOG = LoggerFactory.getLogger(WebhookSink.class);
+    private static final List<String> OUTCOMES = List.of("success", "status", "error", "timeout");
+    private static final List<String> REASONS = List.of("attempts-exhausted", "queue-full", "interrupted");
 
+    private final String monitor;
     private final URI url;
     private final Duration timeout;
     private final int attempts;
     private final Duration backoff;
     private final HttpClient client;
     private final ThreadPoolExecutor executor;
-    private final OddswatchMeters meters;
-    private final SmallCellPolicy cells;
-    private final AtomicLong delivered = new AtomicLong();
-    private final AtomicLong failedAttempts = new AtomicLong();
-    private final AtomicLong retries = new AtomicLong();
-    private final AtomicLong failures = new AtomicLong();
-    private final AtomicLong dropped = new AtomicLong();
+    private final Map<String, AtomicLong> attemptsByOutcome = counts(OUTCOMES);
+    private final Map<String, AtomicLong> failuresByReason = counts(REASONS);
 
     /**
+     * @param monitor the monitor whose alerts this sink posts (a meter tag)
      * @param url where to POST
      * @param timeout per-attempt request (and connect) timeout
      * @param attempts attempts in all, at least 1
      * @param backoff wait before the first retry; doubled for each further retry
      * @param queueCapacity alerts waiting for delivery before new ones are dropped
-     * @param meters where attempts and failures are counted, or null
      */
-    public WebhookAlertSink(URI url, Duration timeout, int attempts, Duration backoff, int queueCapacity,
-                            OddswatchMeters meters) {
-        this(url, timeout, attempts, backoff, queueCapacity, meters, SmallCellPolicy.DEFAULT);
-    }
-
-    /** As above, posting the alert JSON under the monitor's small-cell rule ({@link PublishedAlert}). */
-    public WebhookAlertSink(URI url, Duration timeout, int attempts, Duration backoff, int queueCapacity,
-                            OddswatchMeters meters, SmallCellPolicy cells) {
-        this.cells = cells;
+    public WebhookSink(String monitor, URI url, Duration timeout, int attempts, Duration backoff, int queueCapacity) {
         if (attempts < 1 || queueCapacity < 1) {
             throw new IllegalArgumentException("attempts and queue capacity must be at least 1");
         }
+        this.monitor = monitor;
         this.url = url;
         this.timeout = timeout;
         this.attempts = attempts;
         this.backoff = backoff;
-        this.meters = meters;
         this.client = HttpClient.newBuilder().connectTimeout(timeout).build();
         this.executor = new ThreadPoolExecutor(1, 1, 0, TimeUnit.MILLISECONDS, new ArrayBlockingQueue<>(queueCapacity),
                 runnable -> {
@@ -82,20 +81,33 @@ public final class WebhookAlertSink implements AlertSink {
                 });
     }
 
-    /** Defaults: 4 attempts, 500 ms first backoff, 1000 queued alerts. */
-    public WebhookAlertSink(URI url, Duration timeout, OddswatchMeters meters) {
-        this(url, timeout, 4, Duration.ofMillis(500), 1000, meters);
+    /** Defaults: 500 ms first backoff, 1000 queued alerts. */
+    public WebhookSink(String monitor, URI url, Duration timeout, int attempts) {
+        this(monitor, url, timeout, attempts, Duration.ofMillis(500), 1000);
+    }
+
+    private static Map<String, AtomicLong> counts(List<String> keys) {
+        Map<String, AtomicLong> map = new LinkedHashMap<>();
+        keys.forEach(key -> map.put(key, new AtomicLong()));
+        return map;
     }
 
     @Override
-    public void publish(Alert alert) {
-        String body = PublishedAlert.json(alert, cells);
+    public void bindTo(MeterRegistry registry) {
+        attemptsByOutcome.forEach((outcome, count) -> FunctionCounter.builder(OddswatchMeters.WEBHOOK_ATTEMPTS, count,
+                AtomicLong::get).description("Webhook delivery attempts by outcome").tags("monitor", monitor,
+                "outcome", outcome).register(registry));
+        failuresByReason.forEach((reason, count) -> FunctionCounter.builder(OddswatchMeters.WEBHOOK_FAILURES, count,
+                AtomicLong::get).description("Alerts the webhook could not deliver").tags("monitor", monitor,
+                "reason", reason).register(registry));
+    }
+
+    @Override
+    public void alert(Alert alert, Published published) {
         try {
-            executor.execute(() -> deliver(alert, body));
+            executor.execute(() -> deliver(alert, published.json()));
         } catch (RejectedExecutionException e) {
-            dropped.incrementAndGet();
-            failures.incrementAndGet();
-            count(null, "queue-full");
+            failuresByReason.get("queue-full").incrementAndGet();
             LOG.error("webhook {}: queue full, alert {} ({}) dropped from this sink", url, alert.id(), alert.state());
         }
     }
@@ -111,8 +123,7 @@ public final class WebhookAlertSink implements AlertSink {
             try {
                 HttpResponse<Void> response = client.send(request, HttpResponse.BodyHandlers.discarding());
                 if (response.statusCode() / 100 == 2) {
-                    delivered.incrementAndGet();
-                    count("success", null);
+                    attemptsByOutcome.get("success").incrementAndGet();
                     return;
                 }
                 outcome = "status";
@@ -127,67 +138,38 @@ public final class WebhookAlertSink implements AlertSink {
                 LOG.warn("webhook {}: alert {} attempt {}/{} failed: {}", url, alert.id(), attempt, attempts,
                         e.toString());
             } catch (InterruptedException e) {
-                Thread.currentThread().interrupt();
-                failures.incrementAndGet();
-                count(null, "interrupted");
-                LOG.error("webhook {}: interrupted, alert {} not delivered", url, alert.id());
+                interrupted(alert);
                 return;
             }
-            failedAttempts.incrementAndGet();
-            count(outcome, null);
+            attemptsByOutcome.get(outcome).incrementAndGet();
             if (attempt < attempts) {
-                retries.incrementAndGet();
                 try {
                     Thread.sleep(wait);
                 } catch (InterruptedException e) {
-                    Thread.currentThread().interrupt();
-                    failures.incrementAndGet();
-                    count(null, "interrupted");
+                    interrupted(alert);
                     return;
                 }
                 wait = Math.min(wait * 2, 60_000);
             }
         }
-        failures.incrementAndGet();
-        count(null, "attempts-exhausted");
+        failuresByReason.get("attempts-exhausted").incrementAndGet();
         LOG.error("webhook {}: alert {} ({}) not delivered after {} attempts", url, alert.id(), alert.state(), attempts);
     }
 
-    private void count(String attemptOutcome, String failureReason) {
-        if (meters == null) {
-            return;
-        }
-        if (attemptOutcome != null) {
-            meters.webhookAttempt(attemptOutcome);
-        }
-        if (failureReason != null) {
-            meters.webhookFailure(failureReason);
-        }
+    private void interrupted(Alert alert) {
+        Thread.currentThread().interrupt();
+        failuresByReason.get("interrupted").incrementAndGet();
+        LOG.error("webhook {}: interrupted, alert {} not delivered", url, alert.id());
     }
 
     /** Alerts delivered with a 2xx response. */
     public long delivered() {
-        return delivered.get();
-    }
-
-    /** Attempts that failed (status, error or timeout). */
-    public long failedAttempts() {
-        return failedAttempts.get();
-    }
-
-    /** Retries made (attempts after the first). */
-    public long retries() {
-        return retries.get();
+        return attemptsByOutcome.get("success").get();
     }
 
     /** Alerts given up on: attempts exhausted, dropped on a full queue, or interrupted. */
     public long failures() {
-        return failures.get();
-    }
-
-    /** Alerts dropped because the queue was full. */
-    public long dropped() {
-        return dropped.get();
+        return failuresByReason.values().stream().mapToLong(AtomicLong::get).sum();
     }
 
     /** Waits until every accepted alert was delivered or given up on; false on timeout. */

@@ -1,4 +1,4 @@
-package org.oddswatch.alerts.sinks;
+package org.oddswatch.alerts.output;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTimeoutPreemptively;
@@ -24,9 +24,11 @@ import org.oddswatch.alerts.engine.AlertRulesConfig;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.metrics.OddswatchMeters;
+import org.oddswatch.alerts.privacy.PublishedAlert;
+import org.oddswatch.alerts.privacy.SmallCellPolicy;
 
 /** The webhook against a real HTTP server on the loopback interface. */
-class WebhookAlertSinkTest {
+class WebhookSinkTest {
 
     private HttpServer server;
     private final CountDownLatch release = new CountDownLatch(1);
@@ -52,8 +54,13 @@ class WebhookAlertSinkTest {
         return URI.create("http://127.0.0.1:" + server.getAddress().getPort() + "/hook");
     }
 
+    /** The alert as the output stage hands it on (nothing withheld in these fixtures). */
+    private static Published published(Alert alert) {
+        return new Published("resp", alert.id(), PublishedAlert.json(alert, SmallCellPolicy.DEFAULT));
+    }
+
     private static double count(SimpleMeterRegistry r, String name, String tag, String value) {
-        var c = r.find(name).tag(tag, value).counter();
+        var c = r.find(name).tag(tag, value).functionCounter();
         return c == null ? 0 : c.count();
     }
 
@@ -70,16 +77,12 @@ class WebhookAlertSinkTest {
             exchange.close();
         });
         SimpleMeterRegistry registry = new SimpleMeterRegistry();
-        OddswatchMeters meters = new OddswatchMeters();
-        meters.bindTo(registry);
         Alert a = alert();
-        try (WebhookAlertSink sink = new WebhookAlertSink(url, Duration.ofSeconds(5), 4, Duration.ofMillis(20), 10,
-                meters)) {
-            sink.publish(a);
+        try (WebhookSink sink = new WebhookSink("resp", url, Duration.ofSeconds(5), 4, Duration.ofMillis(20), 10)) {
+            sink.bindTo(registry);
+            sink.alert(a, published(a));
             assertTrue(sink.awaitIdle(Duration.ofSeconds(30)));
             assertEquals(1, sink.delivered());
-            assertEquals(2, sink.failedAttempts());
-            assertEquals(2, sink.retries());
             assertEquals(0, sink.failures());
         }
         assertEquals(3, calls.get());
@@ -98,17 +101,17 @@ class WebhookAlertSinkTest {
             exchange.close();
         });
         SimpleMeterRegistry registry = new SimpleMeterRegistry();
-        OddswatchMeters meters = new OddswatchMeters();
-        meters.bindTo(registry);
-        try (WebhookAlertSink sink = new WebhookAlertSink(url, Duration.ofSeconds(5), 3, Duration.ofMillis(5), 10,
-                meters)) {
-            sink.publish(alert());
+        try (WebhookSink sink = new WebhookSink("resp", url, Duration.ofSeconds(5), 3, Duration.ofMillis(5), 10)) {
+            sink.bindTo(registry);
+            sink.alert(alert(), published(alert()));
             assertTrue(sink.awaitIdle(Duration.ofSeconds(30)));
             assertEquals(0, sink.delivered());
-            assertEquals(3, sink.failedAttempts());
             assertEquals(1, sink.failures());
         }
+        assertEquals(3.0, count(registry, OddswatchMeters.WEBHOOK_ATTEMPTS, "outcome", "status"));
         assertEquals(1.0, count(registry, OddswatchMeters.WEBHOOK_FAILURES, "reason", "attempts-exhausted"));
+        assertEquals("resp", registry.get(OddswatchMeters.WEBHOOK_FAILURES).tag("reason", "attempts-exhausted")
+                .functionCounter().getId().getTag("monitor"));
     }
 
     @Test
@@ -124,23 +127,19 @@ class WebhookAlertSinkTest {
             exchange.close();
         });
         SimpleMeterRegistry registry = new SimpleMeterRegistry();
-        OddswatchMeters meters = new OddswatchMeters();
-        meters.bindTo(registry);
-        try (WebhookAlertSink sink = new WebhookAlertSink(url, Duration.ofMillis(300), 2, Duration.ofMillis(10), 1,
-                meters)) {
+        try (WebhookSink sink = new WebhookSink("resp", url, Duration.ofMillis(300), 2, Duration.ofMillis(10), 1)) {
+            sink.bindTo(registry);
             // publish must return while the server still holds the request: the server is released
             // only after every publish call below has returned (a deadlock guard, not a timing check)
             assertTimeoutPreemptively(Duration.ofSeconds(30), () -> {
-                sink.publish(alert());
+                sink.alert(alert(), published(alert()));
                 assertTrue(entered.await(30, TimeUnit.SECONDS), "the request reached the server");
                 assertEquals(1, release.getCount(), "the server has not answered");
-                sink.publish(alert()); // queued (capacity 1)
-                sink.publish(alert()); // queue full: dropped and counted
+                sink.alert(alert(), published(alert())); // queued (capacity 1)
+                sink.alert(alert(), published(alert())); // queue full: dropped and counted
             });
-            assertEquals(1, sink.dropped());
             assertTrue(sink.awaitIdle(Duration.ofSeconds(30)));
             // both accepted alerts time out on each of their 2 attempts
-            assertEquals(4, sink.failedAttempts());
             assertEquals(3, sink.failures(), "two exhausted, one dropped");
         }
         assertEquals(4.0, count(registry, OddswatchMeters.WEBHOOK_ATTEMPTS, "outcome", "timeout"));

@@ -1,0 +1,37 @@
+package org.oddswatch.alerts.output;
+
+import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.estimator.result.WindowEstimate;
+
+/**
+ * Where outputs go: a topic, a file, the log, a webhook. The output stage decides which monitor an
+ * output belongs to and writes its JSON once (small cells withheld); every sink gets the same text.
+ * A sink takes only what it publishes (the others are no-ops). Calls come from the thread that runs
+ * the pipeline, so a sink must return quickly: one that talks to the network hands the work to its
+ * own thread. A live sink never throws on a delivery failure; it logs and counts it.
+ */
+public interface OutputSink extends AutoCloseable {
+
+    /** A window estimate, final or interim ({@link WindowEstimate#status()}). */
+    default void estimate(WindowEstimate estimate, Published published) {
+    }
+
+    /** An alert message: raised, continuing or cleared. */
+    default void alert(Alert alert, Published published) {
+    }
+
+    /**
+     * A rejected or late input record.
+     *
+     * @param reject the reject with the record's bytes whole (files keep it so)
+     * @param messageJson the same reject with a long value or detail cut so that it fits one message
+     *     (the same text as {@code reject.json()} when nothing is cut)
+     */
+    default void reject(Published reject, String messageJson) {
+    }
+
+    /** Releases resources; pending deliveries may finish within a short grace period. */
+    @Override
+    default void close() {
+    }
+}

@@ -1,0 +1,144 @@
+package org.oddswatch.ingest.output;
+
+import com.fasterxml.jackson.databind.node.ObjectNode;
+import java.util.Arrays;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.function.Function;
+import org.oddswatch.alerts.json.Json;
+import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.output.OutputSink;
+import org.oddswatch.alerts.output.Published;
+import org.oddswatch.alerts.privacy.PublishedAlert;
+import org.oddswatch.alerts.privacy.PublishedEstimate;
+import org.oddswatch.estimator.result.WindowEstimate;
+import org.oddswatch.ingest.definition.MonitorDefinition;
+import org.oddswatch.ingest.pipeline.PipelineListener;
+import org.oddswatch.ingest.pipeline.RecordOrigin;
+import org.oddswatch.ingest.pipeline.RejectedRecord;
+
+/**
+ * The one place where the pipeline's outputs leave it, the same for the live service and for a
+ * replay: each estimate, alert and reject is assigned to its monitor, written as JSON once under
+ * that monitor's small-cell rule ({@link PublishedEstimate}, {@link PublishedAlert}) and handed to
+ * the monitor's sinks in their order (topics, files, the log, a webhook).
+ * <ul>
+ *   <li>estimates: key {@code <stream>|<windowEnd RFC 3339>}; an interim and the final estimate of
+ *       a window share the key, so a compacted topic keeps the final one;</li>
+ *   <li>alerts: key the alert id;</li>
+ *   <li>rejects: key {@code <topic>/<partition>/<offset>} of the source record ({@code line/<n>}
+ *       in a file), given whole and as a message that fits the producer's default
+ *       {@code max.request.size} of 1 MiB: a value longer than {@value #REJECT_VALUE_LIMIT} bytes is
+ *       cut at the last whole UTF-8 character before it ({@code valueTruncated: true},
+ *       {@code valueBytes}: the original length) and a detail longer than
+ *       {@value #REJECT_DETAIL_LIMIT} characters is cut likewise. A reject no monitor could tell
+ *       apart (the record could not be read at all) goes to the first monitor of its source topic,
+ *       so nothing is lost.</li>
+ * </ul>
+ * A stream's monitor is found by {@link MonitorDefinition#ofStream}. The stage does not close its
+ * sinks: whoever made them does.
+ */
+public final class OutputStage implements PipelineListener {
+
+    /** Most bytes of a rejected record's value copied into its reject message. */
+    public static final int REJECT_VALUE_LIMIT = 32 * 1024;
+    /** Most characters of a reject message's detail text. */
+    public static final int REJECT_DETAIL_LIMIT = 2000;
+
+    private final List<MonitorDefinition> monitors;
+    private final Map<String, List<OutputSink>> sinks = new LinkedHashMap<>();
+
+    /**
+     * @param monitors the monitors whose outputs pass here
+     * @param sinksOf the sinks of each monitor, in the order they receive an output
+     */
+    public OutputStage(List<MonitorDefinition> monitors, Function<MonitorDefinition, List<OutputSink>> sinksOf) {
+        this.monitors = List.copyOf(monitors);
+        for (MonitorDefinition monitor : monitors) {
+            sinks.put(monitor.name(), List.copyOf(sinksOf.apply(monitor)));
+        }
+    }
+
+    /** The key of an estimate on the estimates topic. */
+    public static String estimateKey(WindowEstimate estimate) {
+        return estimate.stream() + "|" + estimate.windowEnd();
+    }
+
+    @Override
+    public void onEstimate(WindowEstimate estimate) {
+        MonitorDefinition monitor = MonitorDefinition.ofStream(monitors, estimate.stream());
+        Published published = new Published(monitor.name(), estimateKey(estimate),
+                PublishedEstimate.json(estimate, monitor.outputs().smallCells()));
+        for (OutputSink sink : sinks.get(monitor.name())) {
+            sink.estimate(estimate, published);
+        }
+    }
+
+    @Override
+    public void onAlert(Alert alert) {
+        MonitorDefinition monitor = MonitorDefinition.ofStream(monitors, alert.stream());
+        Published published = new Published(monitor.name(), alert.id(),
+                PublishedAlert.json(alert, monitor.outputs().smallCells()));
+        for (OutputSink sink : sinks.get(monitor.name())) {
+            sink.alert(alert, published);
+        }
+    }
+
+    @Override
+    public void onReject(RejectedRecord rejected) {
+        MonitorDefinition monitor = monitorOf(rejected);
+        RecordOrigin origin = rejected.origin();
+        String key = origin.topic() == null ? "line/" + origin.lineNumber()
+                : origin.topic() + "/" + origin.partition() + "/" + origin.offset();
+        Published whole = new Published(monitor.name(), key, Json.write(rejected.toJson()));
+        String message = messageJson(rejected, whole.json());
+        for (OutputSink sink : sinks.get(monitor.name())) {
+            sink.reject(whole, message);
+        }
+    }
+
+    private MonitorDefinition monitorOf(RejectedRecord rejected) {
+        for (MonitorDefinition monitor : monitors) {
+            if (monitor.name().equals(rejected.monitor())) {
+                return monitor;
+            }
+        }
+        for (MonitorDefinition monitor : monitors) {
+            if (monitor.topic().equals(rejected.origin().topic())) {
+                return monitor;
+            }
+        }
+        return monitors.get(0);
+    }
+
+    /** The reject cut to fit one message, or {@code whole} when nothing is too long. */
+    static String messageJson(RejectedRecord rejected, String whole) {
+        byte[] value = rejected.value();
+        String detail = rejected.detail();
+        boolean longValue = value != null && value.length > REJECT_VALUE_LIMIT;
+        boolean longDetail = detail != null && detail.length() > REJECT_DETAIL_LIMIT;
+        if (!longValue && !longDetail) {
+            return whole;
+        }
+        RejectedRecord bounded = new RejectedRecord(rejected.monitor(), rejected.stream(), rejected.outcome(),
+                rejected.reason(), longDetail ? detail.substring(0, REJECT_DETAIL_LIMIT) + "..." : detail,
+                rejected.origin(), longValue ? utf8Prefix(value, REJECT_VALUE_LIMIT) : value);
+        ObjectNode json = Json.mapper().valueToTree(bounded.toJson());
+        if (longValue) {
+            json.put("valueTruncated", true);
+            json.put("valueBytes", value.length);
+        }
+        return Json.write(json);
+    }
+
+    /** The first bytes of {@code value}, at most {@code limit}, not ending inside a UTF-8 sequence. */
+    static byte[] utf8Prefix(byte[] value, int limit) {
+        int cut = limit;
+        // Step back over continuation bytes (10xxxxxx) to the lead byte, at most three of them.
+        for (int i = 0; i < 3 && cut > 0 && (value[cut] & 0xC0) == 0x80; i++) {
+            cut--;
+        }
+        return Arrays.copyOf(value, cut);
+    }
+}
