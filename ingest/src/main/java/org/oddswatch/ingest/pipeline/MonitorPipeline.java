@@ -9,9 +9,6 @@ import java.util.LinkedHashSet;
 import java.util.List;
 import java.util.Map;
 import java.util.Set;
-import io.micrometer.core.instrument.Gauge;
-import io.micrometer.core.instrument.MeterRegistry;
-import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.lifecycle.AlertState;
 import org.oddswatch.estimator.WindowEstimator;
@@ -24,7 +21,6 @@ import org.oddswatch.ingest.decode.RecordScanner;
 import org.oddswatch.ingest.decode.RejectReason;
 import org.oddswatch.ingest.decode.Rejection;
 import org.oddswatch.ingest.definition.BaselineSpec;
-import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 
 /**
@@ -74,8 +70,8 @@ public final class MonitorPipeline {
     private HeldRecord heldNow;
     /** Live (not re-read) records some stream still holds: the service commits no offset past them. */
     private final Set<HeldRecord> liveHeld = new LinkedHashSet<>();
-    /** Removes the partition's stream-count gauge ({@link #forPartition} with a registry), else null. */
-    private Runnable streamsGaugeRemoval;
+    /** Runs when the pipeline is released ({@link #onRelease}), else null. */
+    private Runnable onRelease;
 
     /**
      * @param input the topic or file name, for status
@@ -104,28 +100,9 @@ public final class MonitorPipeline {
         this.reader = new RecordReader();
     }
 
-    /**
-     * The pipeline of one Kafka partition: the monitors reading {@code topic}, the definition's record
-     * limits, baseline files in the alerts format, and replay hints naming the topic.
-     *
-     * @param registry meter registry for a gauge of this partition's streams, or null
-     */
-    public static MonitorPipeline forPartition(MonitorConfig config, String topic, int partition,
-                                               PipelineListener listener, MeterRegistry registry) {
-        PipelineSettings settings = PipelineSettings.defaults()
-                .withLimits(config.limits())
-                .withReplayHint(new ReplayHint(config.file(), null, topic));
-        MonitorPipeline pipeline = new MonitorPipeline(topic + "-" + partition, config.monitorsFor(topic), listener,
-                settings);
-        if (registry != null) {
-            Gauge gauge = Gauge.builder("oddswatch.pipeline.streams", pipeline, p -> p.streamsByName.size())
-                    .description("streams held by one partition's pipeline")
-                    .tag("topic", topic)
-                    .tag("partition", Integer.toString(partition))
-                    .register(registry);
-            pipeline.streamsGaugeRemoval = () -> registry.remove(gauge);
-        }
-        return pipeline;
+    /** Sets what {@link #release()} runs after telling the listener (its owner unbinds meters of its own). */
+    public void onRelease(Runnable action) {
+        this.onRelease = action;
     }
 
     public String input() {
@@ -553,13 +530,13 @@ public final class MonitorPipeline {
 
     /**
      * The pipeline's streams leave this instance (its partition was revoked or lost): tells the
-     * listener ({@link PipelineListener#onStreamsReleased}) so their meters go, and removes the
-     * partition's stream-count gauge. The pipeline is not used afterwards.
+     * listener ({@link PipelineListener#onStreamsReleased}) so their meters go, then runs the
+     * {@link #onRelease} action. The pipeline is not used afterwards.
      */
     public void release() {
         listener.onStreamsReleased(streams());
-        if (streamsGaugeRemoval != null) {
-            streamsGaugeRemoval.run();
+        if (onRelease != null) {
+            onRelease.run();
         }
     }
 

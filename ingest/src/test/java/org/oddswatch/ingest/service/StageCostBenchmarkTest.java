@@ -20,6 +20,7 @@ import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.pipeline.MonitorPipeline;
 import org.oddswatch.ingest.pipeline.Outcome;
 import org.oddswatch.ingest.pipeline.PipelineListener;
+import org.oddswatch.ingest.pipeline.PipelineSettings;
 import org.oddswatch.ingest.pipeline.RecordOrigin;
 import org.oddswatch.ingest.pipeline.RecordOutcome;
 
@@ -97,8 +98,8 @@ class StageCostBenchmarkTest {
             }
             c[2] = cpu();
             a[2] = allocated();
-            MonitorPipeline pipeline = MonitorPipeline.forPartition(config, TOPIC, 0, new PipelineListener() {
-            }, null);
+            MonitorPipeline pipeline = new MonitorPipeline(TOPIC + "-0", config.monitorsFor(TOPIC), new PipelineListener() {
+            }, PipelineSettings.defaults().withLimits(config.limits()));
             MonitorPipeline.RecordReader reader = pipeline.newReader();
             List<MonitorPipeline.ReadRecord[]> reads = new ArrayList<>();
             for (List<byte[]> batch : batches) {
