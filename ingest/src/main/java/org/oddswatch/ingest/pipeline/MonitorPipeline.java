@@ -105,6 +105,11 @@ public final class MonitorPipeline {
         this.onRelease = action;
     }
 
+    /** The number of streams held; a plain field read, so a gauge may read it from another thread (a recent value). */
+    public int streamCount() {
+        return streamsByName.size();
+    }
+
     public String input() {
         return input;
     }

@@ -1,7 +1,15 @@
 package org.oddswatch.ingest.service;
 
+import org.apache.kafka.clients.consumer.ConsumerRecord;
 import org.apache.kafka.common.TopicPartition;
 import org.oddswatch.ingest.pipeline.MonitorPipeline;
+import org.oddswatch.ingest.pipeline.Outcome;
+import org.oddswatch.ingest.pipeline.PipelineListener;
+import org.oddswatch.ingest.pipeline.RecordOrigin;
+import org.oddswatch.ingest.pipeline.RecordOutcome;
+import org.oddswatch.ingest.pipeline.RejectedRecord;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
 
 /**
  * One input partition this instance owns: its pipeline (the streams keyed to the partition), where
@@ -19,6 +27,12 @@ import org.oddswatch.ingest.pipeline.MonitorPipeline;
  * {@code ASSIGNED}.
  */
 final class OwnedPartition {
+
+    private static final Logger LOG = LoggerFactory.getLogger(OwnedPartition.class);
+    /** Reason code of records the pipeline failed on (see {@link #offer}). */
+    static final String PIPELINE_ERROR = "pipeline-error";
+    /** The value of a record without one (a tombstone): read as empty, so it is rejected as such. */
+    private static final byte[] NO_BYTES = new byte[0];
 
     /** Where a partition stands: see the class comment. */
     enum Phase { ASSIGNED, REBUILDING, LIVE }
@@ -40,10 +54,6 @@ final class OwnedPartition {
         this.pipeline = pipeline;
     }
 
-    Phase phase() {
-        return phase;
-    }
-
     boolean is(Phase p) {
         return phase == p;
     }
@@ -56,6 +66,27 @@ final class OwnedPartition {
         phase = Phase.REBUILDING;
         rebuildUntil = until;
         rebuildStartedNanos = nowNanos;
+    }
+
+    /**
+     * Hands one record to the pipeline. A record the pipeline fails on (a defect, not bad input: bad
+     * input has its reason codes) is logged, sent to {@code rejects} as {@code pipeline-error} (unless
+     * suppressed) and counted, so one record cannot stop the service or, after a restart, stop it again.
+     */
+    RecordOutcome offer(ConsumerRecord<byte[], byte[]> record, boolean suppress, PipelineListener rejects) {
+        byte[] value = record.value() == null ? NO_BYTES : record.value();
+        RecordOrigin origin = RecordOrigin.kafka(record.topic(), record.partition(), record.offset());
+        try {
+            return pipeline.offer(value, origin, suppress);
+        } catch (RuntimeException e) {
+            LOG.error("the pipeline failed on {}@{}; the record goes to rejects as {}", partition, record.offset(),
+                    PIPELINE_ERROR, e);
+            if (!suppress) {
+                rejects.onReject(new RejectedRecord(null, null, Outcome.REJECTED, PIPELINE_ERROR, String.valueOf(e),
+                        origin, value));
+            }
+            return RecordOutcome.rejected(PIPELINE_ERROR, String.valueOf(e));
+        }
     }
 
     /** Whether the record at {@code offset} is re-read with output suppressed. */

@@ -72,7 +72,7 @@ final class PartitionPipelines {
         @Override
         public void bindTo(MeterRegistry meterRegistry) {
             registry = meterRegistry;
-            gauge = Gauge.builder("oddswatch.pipeline.streams", pipeline, p -> p.streams().size())
+            gauge = Gauge.builder("oddswatch.pipeline.streams", pipeline, MonitorPipeline::streamCount)
                     .description("streams held by one partition's pipeline")
                     .tag("topic", partition.topic())
                     .tag("partition", Integer.toString(partition.partition()))

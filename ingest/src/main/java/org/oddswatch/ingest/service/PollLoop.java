@@ -19,11 +19,8 @@ import org.apache.kafka.common.errors.RetriableException;
 import org.apache.kafka.common.errors.WakeupException;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.kafka.KafkaOutputPublisher;
-import org.oddswatch.ingest.pipeline.Outcome;
 import org.oddswatch.ingest.pipeline.OutcomeCounts;
-import org.oddswatch.ingest.pipeline.RecordOrigin;
 import org.oddswatch.ingest.pipeline.RecordOutcome;
-import org.oddswatch.ingest.pipeline.RejectedRecord;
 import org.oddswatch.ingest.service.BrokerWatch.Operation;
 import org.oddswatch.ingest.service.OwnedPartition.Phase;
 import org.slf4j.Logger;
@@ -31,32 +28,21 @@ import org.slf4j.LoggerFactory;
 
 /**
  * The poll loop of the service's one consumer, on one thread: the only user of the consumer and of
- * the pipelines. Other threads see only the {@link StatusBoard} snapshot. Shaped like Kafka's own
- * consumer examples; per turn:
- * <ol>
- * <li>poll;</li>
- * <li>handle the records partition by partition, in offset order: each to its partition's pipeline
- *     ({@code MonitorPipeline.offer}), with output suppressed below the rebuild end;</li>
- * <li>plan the rebuild of partitions just assigned ({@link RebuildPlanner}) and make the partitions
- *     whose re-read has reached its end live ({@link OwnedPartition} holds the life cycle
- *     {@code ASSIGNED -> REBUILDING -> LIVE});</li>
- * <li>at most every {@code commitInterval}, commit what is done: outputs stored first, then the
- *     offsets after the last live record of each partition, never past a held record
- *     ({@link OffsetCommitter});</li>
- * <li>watch the broker connection ({@link BrokerWatch}), run the refresh and idle timers
- *     ({@link LiveTimers}) and publish the status.</li>
- * </ol>
+ * the pipelines (other threads see only the {@link StatusBoard} snapshot). Shaped like Kafka's own
+ * consumer examples; per turn: poll; hand each record, partition by partition in offset order, to
+ * its partition's pipeline (output suppressed below the rebuild end); plan the rebuild of partitions
+ * just assigned ({@link RebuildPlanner}) and make those whose re-read is done live (the life cycle
+ * {@code ASSIGNED -> REBUILDING -> LIVE} of {@link OwnedPartition}); at most every
+ * {@code commitInterval}, commit what is done ({@link OffsetCommitter}); watch the broker
+ * ({@link BrokerWatch}); run the timers ({@link LiveTimers}); publish the status.
  *
- * <p>Rebalance callbacks are short and never wait for window fits (nothing else runs while poll
- * does): on revoke, commit what is safe (outputs stored, offsets of the records applied) and release
- * the partitions' pipelines; on lost, release them; on assign, make a pipeline per partition and
- * pause it until its rebuild is planned in the loop. A commit that meets a rebalance in progress is
- * tried again after the next poll, so a join or a leave neither loses nor repeats applied work.
- *
- * <p>Broker outages: every blocking broker call is bounded; a failing one is retried with backoff
- * while input is paused and {@code /status} says {@code waiting-for-broker} with the reason. Outputs
- * lost to the producer are produced again by rebuilding every partition from its last commit.
- * Nothing but {@link #stop()} or an error that is not the broker's ends the loop.
+ * <p>Rebalance callbacks run inside poll, never while records are applied, and stay short: on
+ * revoke, commit what is applied and release the pipelines; on lost, release them; on assign, make
+ * the pipelines and pause the partitions until the loop plans their rebuild. A commit that meets a
+ * rebalance in progress is tried again after the next poll, so a join or a leave neither loses nor
+ * repeats applied work. Outputs lost to the producer are produced again by rebuilding every
+ * partition from its last commit. Nothing but {@link #stop()} or an error that is not the broker's
+ * ends the loop.
  */
 final class PollLoop implements Runnable, ConsumerRebalanceListener {
 
@@ -65,10 +51,6 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
     private static final long STATUS_NANOS = 200_000_000L;
     /** Longest wait for outputs to be stored and for a commit, per try. */
     private static final Duration MAX_BROKER_WAIT = Duration.ofSeconds(5);
-    /** Reason code of records the pipeline failed on (see {@link #pipelineFailed}). */
-    static final String PIPELINE_ERROR = "pipeline-error";
-    /** The value of a record without one (a tombstone): read as empty, so it is rejected as such. */
-    private static final byte[] NO_BYTES = new byte[0];
 
     private final MonitorConfig config;
     private final KafkaConsumer<byte[], byte[]> consumer;
@@ -91,7 +73,6 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
     /**
      * @param lookup a consumer without a group, for reading the record at a committed offset
      * @param commitInterval how often outputs are flushed and offsets committed (also on revoke and stop)
-     * @param resetToLatest whether a partition without a commit starts at its end
      * @param wallClockMillis the wall clock: idle timeout and an empty-group start at "latest" only
      */
     PollLoop(MonitorConfig config, KafkaConsumer<byte[], byte[]> consumer, KafkaConsumer<byte[], byte[]> lookup,
@@ -107,7 +88,8 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
         String apiTimeout = config.kafka().get(ConsumerConfig.DEFAULT_API_TIMEOUT_MS_CONFIG);
         Duration timeout = apiTimeout == null ? Duration.ofSeconds(30) : Duration.ofMillis(Long.parseLong(apiTimeout.trim()));
         Duration brokerWait = timeout.compareTo(MAX_BROKER_WAIT) < 0 ? timeout : MAX_BROKER_WAIT;
-        this.planner = new RebuildPlanner(config, consumer, lookup, archive, timeout, resetToLatest, wallClockMillis);
+        this.planner = new RebuildPlanner(config, consumer, lookup, archive, meters, timeout, resetToLatest,
+                wallClockMillis);
         this.committer = new OffsetCommitter(consumer, publisher, brokerWait);
         this.broker = new BrokerWatch(consumer, owned,
                 String.valueOf(config.kafka().get(CommonClientConfigs.BOOTSTRAP_SERVERS_CONFIG)), brokerWait, timeout,
@@ -144,8 +126,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
                     meters.polled(applying - polling, System.nanoTime() - applying);
                 }
                 long now = System.nanoTime();
-                planRebuilds(now);
-                finishRebuilds(now);
+                advanceLifeCycles(now);
                 commitIfDue(now);
                 if (broker.checkConnection(now, assignedOnce)) {
                     publishStatus();
@@ -178,8 +159,6 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
         }
     }
 
-    // ---- records ---------------------------------------------------------------------------
-
     /** Every record of a poll to its partition's pipeline, partition by partition. */
     private void handle(ConsumerRecords<byte[], byte[]> records) {
         for (TopicPartition tp : records.partitions()) {
@@ -192,7 +171,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
             long afterLastLive = -1;
             for (ConsumerRecord<byte[], byte[]> record : records.records(tp)) {
                 boolean suppress = p.suppresses(record.offset());
-                RecordOutcome outcome = offer(p, record, suppress);
+                RecordOutcome outcome = p.offer(record, suppress, publisher);
                 if (suppress) {
                     rebuilt++;
                 } else {
@@ -209,69 +188,24 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
         }
     }
 
-    private RecordOutcome offer(OwnedPartition p, ConsumerRecord<byte[], byte[]> record, boolean suppress) {
-        byte[] value = record.value() == null ? NO_BYTES : record.value();
-        RecordOrigin origin = RecordOrigin.kafka(record.topic(), record.partition(), record.offset());
-        try {
-            return p.pipeline.offer(value, origin, suppress);
-        } catch (RuntimeException e) {
-            return pipelineFailed(value, origin, suppress, e);
-        }
-    }
-
-    /**
-     * A record the pipeline failed on (a defect, not bad input: bad input has its reason codes) is
-     * logged, sent to rejects as {@code pipeline-error} and counted, so one record cannot stop the
-     * service or, after a restart, stop it again.
-     */
-    private RecordOutcome pipelineFailed(byte[] value, RecordOrigin origin, boolean suppress, RuntimeException e) {
-        LOG.error("the pipeline failed on {}-{}@{}; the record goes to rejects as {}", origin.topic(),
-                origin.partition(), origin.offset(), PIPELINE_ERROR, e);
-        if (!suppress) {
-            publisher.onReject(new RejectedRecord(null, null, Outcome.REJECTED, PIPELINE_ERROR, String.valueOf(e),
-                    origin, value));
-        }
-        return RecordOutcome.rejected(PIPELINE_ERROR, String.valueOf(e));
-    }
-
-    // ---- life cycle ------------------------------------------------------------------------
-
-    /** ASSIGNED partitions to REBUILDING, once the broker answers the look-ups. */
-    private void planRebuilds(long now) {
-        List<OwnedPartition> pending = new ArrayList<>();
-        owned.values().stream().filter(p -> p.is(Phase.ASSIGNED)).forEach(pending::add);
-        if (pending.isEmpty() || !broker.due(Operation.REBUILD_LOOKUP, now)) {
-            return;
-        }
-        try {
-            planner.plan(pending, now);
-        } catch (RetriableException e) {
-            broker.failed(Operation.REBUILD_LOOKUP, "rebuild look-ups failed: " + e);
-            publishStatus();
-            return;
-        }
-        if (!broker.inputPaused()) {
-            consumer.resume(pending.stream().map(p -> p.partition).toList());
-        }
-        broker.succeeded(Operation.REBUILD_LOOKUP, "rebuild look-ups answered");
-        meters.rebuildStarted(pending.size());
-        publishStatus();
-    }
-
-    /** REBUILDING partitions whose position has reached the rebuild end to LIVE. */
-    private void finishRebuilds(long now) {
-        boolean changed = false;
-        for (OwnedPartition p : owned.values()) {
-            if (p.is(Phase.REBUILDING)) {
-                long nanos = p.reachedRebuildEnd(consumer.position(p.partition), now);
-                if (nanos >= 0) {
-                    LOG.info("{} rebuilt: {} records re-read in {} ms", p.partition, p.rebuiltRecords(), nanos / 1_000_000);
-                    meters.rebuildFinished(nanos);
-                    changed = true;
+    /** ASSIGNED partitions to REBUILDING once the broker answers the look-ups; REBUILDING ones to LIVE when done. */
+    private void advanceLifeCycles(long now) {
+        if (broker.due(Operation.REBUILD_LOOKUP, now)) {
+            try {
+                List<TopicPartition> planned = planner.planPending(owned.values(), now);
+                if (!planned.isEmpty()) {
+                    if (!broker.inputPaused()) {
+                        consumer.resume(planned);
+                    }
+                    broker.succeeded(Operation.REBUILD_LOOKUP, "rebuild look-ups answered");
+                    publishStatus();
                 }
+            } catch (RetriableException e) {
+                broker.failed(Operation.REBUILD_LOOKUP, "rebuild look-ups failed: " + e);
+                publishStatus();
             }
         }
-        if (changed) {
+        if (planner.finishDone(owned.values(), now)) {
             publishStatus();
         }
     }
@@ -320,8 +254,6 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
         publishStatus();
     }
 
-    // ---- commits ---------------------------------------------------------------------------
-
     private void commitIfDue(long now) {
         Exception lost = committer.outputsLost();
         if (lost != null) {
@@ -368,8 +300,6 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
         consumer.pause(all);
         publishStatus();
     }
-
-    // ---- status ----------------------------------------------------------------------------
 
     private boolean ready() {
         if (!assignedOnce || closing || broker.trouble() != null) {

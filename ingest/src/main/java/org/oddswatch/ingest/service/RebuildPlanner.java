@@ -3,6 +3,7 @@ package org.oddswatch.ingest.service;
 import java.time.Duration;
 import java.time.Instant;
 import java.util.ArrayList;
+import java.util.Collection;
 import java.util.HashMap;
 import java.util.HashSet;
 import java.util.List;
@@ -34,8 +35,9 @@ import org.slf4j.LoggerFactory;
  * on) and, from the final estimates published, the CUSUM values its charts resume from. Every
  * look-up is made before any state changes, so a look-up that fails (the broker away: a
  * {@link org.apache.kafka.common.errors.RetriableException}) leaves the partitions paused and
- * {@code ASSIGNED}, to be planned again after a backoff. Runs on the poll-loop thread, never in a
- * rebalance callback.
+ * {@code ASSIGNED}, to be planned again after a backoff. A partition goes {@code LIVE} once the
+ * consumer position has passed {@code C} ({@link #finishDone}). Runs on the poll-loop thread, never
+ * in a rebalance callback.
  */
 final class RebuildPlanner {
 
@@ -46,6 +48,7 @@ final class RebuildPlanner {
     private final KafkaConsumer<byte[], byte[]> consumer;
     private final KafkaConsumer<byte[], byte[]> lookup;
     private final AlertArchive archive;
+    private final ServiceLoopMetrics meters;
     private final Duration timeout;
     private final boolean resetToLatest;
     private final LongSupplier wallClockMillis;
@@ -57,11 +60,13 @@ final class RebuildPlanner {
      * @param resetToLatest whether a partition without a commit starts at its end
      */
     RebuildPlanner(MonitorConfig config, KafkaConsumer<byte[], byte[]> consumer, KafkaConsumer<byte[], byte[]> lookup,
-                   AlertArchive archive, Duration timeout, boolean resetToLatest, LongSupplier wallClockMillis) {
+                   AlertArchive archive, ServiceLoopMetrics meters, Duration timeout, boolean resetToLatest,
+                   LongSupplier wallClockMillis) {
         this.config = config;
         this.consumer = consumer;
         this.lookup = lookup;
         this.archive = archive;
+        this.meters = meters;
         this.timeout = timeout;
         this.resetToLatest = resetToLatest;
         this.wallClockMillis = wallClockMillis;
@@ -71,13 +76,18 @@ final class RebuildPlanner {
     }
 
     /**
-     * Looks up where each of {@code pending} (all {@code ASSIGNED}) is rebuilt from, then restores
+     * Looks up where each {@code ASSIGNED} partition of {@code owned} is rebuilt from, then restores
      * their alerts and charts, seeks them and makes them {@code REBUILDING}. The partitions stay
      * paused: the caller resumes them.
      *
+     * @return the partitions planned (none when none was pending)
      * @throws org.apache.kafka.common.errors.RetriableException when a look-up failed; nothing changed
      */
-    void plan(List<OwnedPartition> pending, long nowNanos) {
+    List<TopicPartition> planPending(Collection<OwnedPartition> owned, long nowNanos) {
+        List<OwnedPartition> pending = owned.stream().filter(p -> p.is(OwnedPartition.Phase.ASSIGNED)).toList();
+        if (pending.isEmpty()) {
+            return List.of();
+        }
         Set<TopicPartition> tps = new HashSet<>();
         pending.forEach(p -> tps.add(p.partition));
         Map<OwnedPartition, List<Alert>> alerts = publishedAlerts(pending);
@@ -134,6 +144,29 @@ final class RebuildPlanner {
             consumer.seek(tp, seekTo.get(tp));
             p.rebuildPlanned(until.get(tp), nowNanos);
         }
+        meters.rebuildStarted(pending.size());
+        return new ArrayList<>(tps);
+    }
+
+    /**
+     * Makes the {@code REBUILDING} partitions of {@code owned} whose consumer position has reached
+     * the rebuild end (every record before it handled) {@code LIVE}.
+     *
+     * @return whether any partition went live
+     */
+    boolean finishDone(Collection<OwnedPartition> owned, long nowNanos) {
+        boolean any = false;
+        for (OwnedPartition p : owned) {
+            if (p.is(OwnedPartition.Phase.REBUILDING)) {
+                long nanos = p.reachedRebuildEnd(consumer.position(p.partition), nowNanos);
+                if (nanos >= 0) {
+                    LOG.info("{} rebuilt: {} records re-read in {} ms", p.partition, p.rebuiltRecords(), nanos / 1_000_000);
+                    meters.rebuildFinished(nanos);
+                    any = true;
+                }
+            }
+        }
+        return any;
     }
 
     /**
