@@ -43,7 +43,6 @@ final class OwnedPartition {
     /** Records below this offset were processed before (by this or another instance): state only. */
     private long rebuildUntil = -1;
     private long rebuildStartedNanos;
-    private long rebuiltRecords;
     /** Offset after the last live record processed that may be committed, or -1 when none since assignment. */
     long nextCommit = -1;
     /** The last offset this instance committed, or -1. */
@@ -92,14 +91,6 @@ final class OwnedPartition {
     /** Whether the record at {@code offset} is re-read with output suppressed. */
     boolean suppresses(long offset) {
         return offset < rebuildUntil;
-    }
-
-    void rebuilt(long records) {
-        rebuiltRecords += records;
-    }
-
-    long rebuiltRecords() {
-        return rebuiltRecords;
     }
 
     /**

@@ -183,7 +183,6 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
             p.pipeline.drainDecidedHeld(counts::add); // records held beyond the horizon, decided now
             p.handled(afterLastLive, p.pipeline.oldestHeldOffset());
             p.pipeline.batchDone();
-            p.rebuilt(rebuilt);
             meters.handled(live, rebuilt);
         }
     }

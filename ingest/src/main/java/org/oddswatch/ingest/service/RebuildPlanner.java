@@ -160,7 +160,8 @@ final class RebuildPlanner {
             if (p.is(OwnedPartition.Phase.REBUILDING)) {
                 long nanos = p.reachedRebuildEnd(consumer.position(p.partition), nowNanos);
                 if (nanos >= 0) {
-                    LOG.info("{} rebuilt: {} records re-read in {} ms", p.partition, p.rebuiltRecords(), nanos / 1_000_000);
+                    LOG.info("{} rebuilt: {} records re-read in {} ms", p.partition,
+                            p.pipeline.snapshot().rebuilt(), nanos / 1_000_000);
                     meters.rebuildFinished(nanos);
                     any = true;
                 }
