@@ -27,8 +27,8 @@ import org.slf4j.LoggerFactory;
 /**
  * The live service: one Kafka consumer in the configured group, subscribed to the input topics of
  * all monitors, with its poll loop on one thread ({@link PollLoop}: records are decoded and applied
- * there, in poll order), one
- * idempotent producer for estimates, rejects and alerts, and one pipeline per assigned partition. Alerts also go to the log
+ * there, in poll order), one idempotent producer for estimates, rejects and alerts, and one pipeline
+ * per assigned partition ({@link PartitionPipelines}). Alerts also go to the log
  * and the monitor's webhook; estimates, alerts and record outcomes feed the
  * {@link org.oddswatch.alerts.metrics.OddswatchMeters} of the registry ({@link AlertMetersListener}).
  *

@@ -36,7 +36,7 @@ import org.slf4j.LoggerFactory;
  * look-up is made before any state changes, so a look-up that fails (the broker away: a
  * {@link org.apache.kafka.common.errors.RetriableException}) leaves the partitions paused and
  * {@code ASSIGNED}, to be planned again after a backoff. A partition goes {@code LIVE} once the
- * consumer position has passed {@code C} ({@link #finishDone}). Runs on the poll-loop thread, never
+ * consumer position has reached {@code C} ({@link #finishDone}). Runs on the poll-loop thread, never
  * in a rebalance callback.
  */
 final class RebuildPlanner {
