@@ -100,14 +100,6 @@ public final class KafkaOutputPublisher implements OutputSink {
     }
 
     /**
-     * A record the pipeline failed on, which therefore never reached its output stage: sent to the
-     * rejects topic as the stage would send it.
-     */
-    public void onReject(RejectedRecord rejected) {
-        new OutputStage(monitors, monitor -> List.of(this)).onReject(rejected);
-    }
-
-    /**
      * Waits until every output sent so far is acknowledged or has failed, for at most {@code wait}
      * (the producer is flushed on its own thread meanwhile, so the wait is bounded even while the
      * broker is away).

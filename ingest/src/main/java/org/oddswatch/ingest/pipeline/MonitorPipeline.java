@@ -1,14 +1,11 @@
 package org.oddswatch.ingest.pipeline;
 
 import com.fasterxml.jackson.databind.JsonNode;
-import io.micrometer.core.instrument.Gauge;
-import io.micrometer.core.instrument.MeterRegistry;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
 import java.util.function.Consumer;
-import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.ingest.decode.DecodedEvent;
 import org.oddswatch.ingest.decode.Decoding;
@@ -16,7 +13,6 @@ import org.oddswatch.ingest.decode.RecordParser;
 import org.oddswatch.ingest.decode.RejectReason;
 import org.oddswatch.ingest.decode.Rejection;
 import org.oddswatch.ingest.decode.UnreadableRecordException;
-import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 
 /**
@@ -41,8 +37,8 @@ public final class MonitorPipeline {
     private final OutcomeCounts totals = new OutcomeCounts();
     /** Records offered with output suppressed (re-read while rebuilding state), not counted in the totals. */
     private long rebuilt;
-    /** Removes the partition's stream-count gauge ({@link #forPartition} with a registry), else null. */
-    private Runnable streamsGaugeRemoval;
+    /** Runs when the pipeline is released ({@link #onRelease}), else null. */
+    private Runnable onRelease;
 
     /**
      * @param input the topic or file name, for status
@@ -61,28 +57,14 @@ public final class MonitorPipeline {
         }
     }
 
-    /**
-     * The pipeline of one Kafka partition: the monitors reading {@code topic}, the definition's record
-     * limits, baseline files in the alerts format, and replay hints naming the topic.
-     *
-     * @param registry meter registry for a gauge of this partition's streams, or null
-     */
-    public static MonitorPipeline forPartition(MonitorConfig config, String topic, int partition,
-                                               PipelineListener listener, MeterRegistry registry) {
-        PipelineSettings settings = PipelineSettings.defaults()
-                .withLimits(config.limits())
-                .withReplayHint(new ReplayHint(config.file(), null, topic));
-        MonitorPipeline pipeline = new MonitorPipeline(topic + "-" + partition, config.monitorsFor(topic), listener,
-                settings);
-        if (registry != null) {
-            Gauge gauge = Gauge.builder("oddswatch.pipeline.streams", pipeline, p -> p.streamsByName.size())
-                    .description("streams held by one partition's pipeline")
-                    .tag("topic", topic)
-                    .tag("partition", Integer.toString(partition))
-                    .register(registry);
-            pipeline.streamsGaugeRemoval = () -> registry.remove(gauge);
-        }
-        return pipeline;
+    /** Sets what {@link #release()} runs after telling the listener (its owner unbinds meters of its own). */
+    public void onRelease(Runnable action) {
+        this.onRelease = action;
+    }
+
+    /** The number of streams held (read by the per-partition gauge without copying a list). */
+    public int streamCount() {
+        return streamsByName.size();
     }
 
     /** The watermark (largest event time) of a stream, or {@link Long#MIN_VALUE} when unknown. */
@@ -313,13 +295,13 @@ public final class MonitorPipeline {
 
     /**
      * The pipeline's streams leave this instance (its partition was revoked or lost): tells the
-     * listener ({@link PipelineListener#onStreamsReleased}) so their meters go, and removes the
-     * partition's stream-count gauge. The pipeline is not used afterwards.
+     * listener ({@link PipelineListener#onStreamsReleased}) so their meters go, and runs the
+     * {@link #onRelease} action. The pipeline is not used afterwards.
      */
     public void release() {
         listener.onStreamsReleased(streams());
-        if (streamsGaugeRemoval != null) {
-            streamsGaugeRemoval.run();
+        if (onRelease != null) {
+            onRelease.run();
         }
     }
 

@@ -16,23 +16,21 @@ import org.apache.kafka.clients.consumer.ConsumerConfig;
 import org.apache.kafka.clients.consumer.CooperativeStickyAssignor;
 import org.apache.kafka.clients.consumer.KafkaConsumer;
 import org.apache.kafka.common.serialization.ByteArrayDeserializer;
-import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.alerts.output.WebhookSink;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.kafka.KafkaClientSettings;
 import org.oddswatch.ingest.kafka.KafkaOutputPublisher;
-import org.oddswatch.ingest.pipeline.MonitorPipeline;
 import org.oddswatch.ingest.pipeline.PipelineSettings;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
 /**
  * The live service: one Kafka consumer in the configured group, subscribed to the input topics of
- * all monitors, with its poll loop on one thread ({@link PollLoop}) and a worker beside it
- * ({@link BatchWorker}: records are parsed on both and applied on the worker, in poll order), one
- * idempotent producer for estimates, rejects and alerts, and one pipeline per assigned partition.
- * {@link ServiceOutputs} holds what the pipelines report to: the output stage (topics, log, webhook,
- * estimates file), then the meters of the registry.
+ * all monitors, with its poll loop on one thread ({@link PollLoop}: records are decoded and applied
+ * there, in poll order), one idempotent producer for estimates, rejects and alerts, and one pipeline
+ * per assigned partition ({@link PartitionPipelines}). {@link ServiceOutputs} holds what the
+ * pipelines report to: the output stage (topics, log, webhook, estimates file), then the meters of
+ * the registry.
  *
  * <p>Delivery: at least once. Input offsets are committed synchronously only after every output
  * caused by the records before them is acknowledged, so after a crash the records after the last
@@ -105,7 +103,7 @@ public final class MonitorService implements AutoCloseable {
         this.lookup = new KafkaConsumer<>(settings.reader("oddswatch-" + instance + "-lookup"),
                 new ByteArrayDeserializer(), new ByteArrayDeserializer());
         this.publisher = new KafkaOutputPublisher(settings.producer("oddswatch-" + instance + "-out"), config.monitors());
-        List<Tag> tags = List.of(Tag.of(ServiceMeters.SERVICE_INSTANCE, instance));
+        List<Tag> tags = List.of(Tag.of(ServiceLoopMetrics.SERVICE_INSTANCE, instance));
         this.clientMetrics = List.of(new KafkaClientMetrics(consumer, tags), new KafkaClientMetrics(publisher.producer(), tags));
         clientMetrics.forEach(m -> m.bindTo(registry));
         // an output the broker refused for what it is is skipped (one output must not stop the
@@ -115,24 +113,13 @@ public final class MonitorService implements AutoCloseable {
                 .register(registry);
         AlertArchive archive = new AlertArchive(settings.reader("oddswatch-" + instance + "-alerts"), Duration.ofSeconds(30));
         this.outputs = new ServiceOutputs(publisher, registry, config.monitors());
-        PollLoop.PipelineFactory factory = tp -> new MonitorPipeline(tp.toString(), config.monitorsFor(tp.topic()),
-                outputs.listener(), withTopicHint(pipelineSettings, config, tp.topic()));
-        this.loop = new PollLoop(config, consumer, lookup, publisher, factory, archive,
-                new ServiceMeters(registry, instance), commitInterval, latest, wallClockMillis,
-                new BatchWorker("oddswatch-pipeline-" + instance));
+        // The poll loop, its pipelines (one per assigned partition) and its meters.
+        ServiceLoopMetrics loopMetrics = new ServiceLoopMetrics(instance);
+        loopMetrics.bindTo(registry);
+        this.loop = new PollLoop(config, consumer, lookup, publisher,
+                new PartitionPipelines(config, pipelineSettings, outputs.listener(), registry), archive, loopMetrics,
+                commitInterval, latest, wallClockMillis);
         this.thread = new Thread(this::runLoop, "oddswatch-poll-" + instance);
-    }
-
-    /**
-     * Alerts of the live service name the replay that reproduces them from the topic
-     * ({@code oddswatch replay --config DEF --topic T ...}), unless the caller set a hint.
-     */
-    private static PipelineSettings withTopicHint(PipelineSettings settings, MonitorConfig config, String topic) {
-        ReplayHint hint = settings.replayHint();
-        if (hint != null && (hint.configPath() != null || hint.inputFile() != null || hint.topic() != null)) {
-            return settings;
-        }
-        return settings.withReplayHint(new ReplayHint(config.file(), null, topic));
     }
 
     /** Starts the poll loop thread. */

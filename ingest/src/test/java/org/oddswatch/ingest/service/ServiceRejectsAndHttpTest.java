@@ -202,7 +202,7 @@ class ServiceRejectsAndHttpTest {
                     "live record counter");
             assertTrue(metrics.body().contains("kafka_consumer_fetch_manager_records_consumed_total"),
                     "Kafka client metrics are bound");
-            for (String step : List.of("poll", "read", "wait", "apply")) {
+            for (String step : List.of("poll", "apply", "commit")) {
                 java.util.regex.Matcher count = java.util.regex.Pattern.compile(
                         "oddswatch_service_loop_seconds_count\\{service_instance=\"http\",step=\"" + step + "\"} ([0-9.E]+)")
                         .matcher(metrics.body());

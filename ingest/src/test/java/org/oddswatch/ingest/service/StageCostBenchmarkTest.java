@@ -21,6 +21,7 @@ import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.pipeline.MonitorPipeline;
 import org.oddswatch.ingest.pipeline.Outcome;
 import org.oddswatch.ingest.pipeline.PipelineListener;
+import org.oddswatch.ingest.pipeline.PipelineSettings;
 import org.oddswatch.ingest.pipeline.RecordOrigin;
 import org.oddswatch.ingest.pipeline.RecordOutcome;
 
@@ -109,8 +110,8 @@ class StageCostBenchmarkTest {
             }
             c[3] = cpu();
             a[3] = allocated();
-            MonitorPipeline pipeline = MonitorPipeline.forPartition(config, TOPIC, 0, new PipelineListener() {
-            }, null);
+            MonitorPipeline pipeline = new MonitorPipeline(TOPIC + "-0", config.monitorsFor(TOPIC), new PipelineListener() {
+            }, PipelineSettings.defaults().withLimits(config.limits()));
             long accepted = 0;
             for (int b = 0; b < batches.size(); b++) {
                 List<byte[]> batch = batches.get(b);

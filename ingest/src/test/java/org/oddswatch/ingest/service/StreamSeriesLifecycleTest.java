@@ -13,6 +13,7 @@ import java.time.Instant;
 import java.util.List;
 import java.util.Set;
 import java.util.TreeSet;
+import org.apache.kafka.common.TopicPartition;
 import org.junit.jupiter.api.Test;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.lifecycle.AlertState;
@@ -125,8 +126,10 @@ class StreamSeriesLifecycleTest {
         MonitorConfig config = config(8, false);
         MeterRegistry registry = new SimpleMeterRegistry();
         PipelineMeters listener = listener(config, registry);
-        MonitorPipeline p0 = MonitorPipeline.forPartition(config, INPUT, 0, listener, registry);
-        MonitorPipeline p1 = MonitorPipeline.forPartition(config, INPUT, 1, listener, registry);
+        MonitorPipeline p0 = new PartitionPipelines(config, PipelineSettings.defaults().withLimits(config.limits()), listener, registry)
+                .open(new TopicPartition(INPUT, 0));
+        MonitorPipeline p1 = new PartitionPipelines(config, PipelineSettings.defaults().withLimits(config.limits()), listener, registry)
+                .open(new TopicPartition(INPUT, 1));
         Instant start = Instant.parse("2026-01-05T06:00:00Z");
         for (int i = 0; i < 400; i++) {
             Instant t = start.plusSeconds(3600L * 6 * i); // 100 days: several final windows
@@ -145,7 +148,8 @@ class StreamSeriesLifecycleTest {
         assertEquals(Set.of("1"), tagValues(registry, "partition"), "the released partition's gauge is gone");
 
         // The stream comes back (the partition is assigned again): fresh series, counting from zero.
-        MonitorPipeline again = MonitorPipeline.forPartition(config, INPUT, 0, listener, registry);
+        MonitorPipeline again = new PartitionPipelines(config, PipelineSettings.defaults().withLimits(config.limits()), listener, registry)
+                .open(new TopicPartition(INPUT, 0));
         again.offer(event(50_000, "north", start), RecordOrigin.kafka(INPUT, 0, 0), false);
         again.batchDone();
         assertEquals(1.0, registry.get(OddswatchMeters.RECORDS).tag("stream", "resp/north").tag("outcome", "accepted")

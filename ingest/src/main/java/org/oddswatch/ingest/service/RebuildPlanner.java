@@ -1,0 +1,238 @@
+package org.oddswatch.ingest.service;
+
+import java.time.Duration;
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.Collection;
+import java.util.HashMap;
+import java.util.HashSet;
+import java.util.List;
+import java.util.Map;
+import java.util.Set;
+import java.util.function.LongSupplier;
+import org.apache.kafka.clients.consumer.ConsumerRecord;
+import org.apache.kafka.clients.consumer.KafkaConsumer;
+import org.apache.kafka.clients.consumer.OffsetAndMetadata;
+import org.apache.kafka.clients.consumer.OffsetAndTimestamp;
+import org.apache.kafka.common.TopicPartition;
+import org.apache.kafka.common.errors.TimeoutException;
+import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.ingest.definition.MonitorConfig;
+import org.oddswatch.ingest.definition.MonitorDefinition;
+import org.oddswatch.ingest.pipeline.CusumHistory;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
+
+/**
+ * Plans the rebuild of newly assigned partitions (window state lives only in memory): for each, the
+ * committed offset {@code C} (none: the beginning, or the end with {@code auto.offset.reset=latest},
+ * taking the wall clock as the record time), the timestamp {@code T} of the record at {@code C} (or
+ * of the one before, when {@code C} is the end), and the offset of the first record at or after
+ * {@link RebuildSpan#startMillis}{@code (T)}. The partition is sought there and re-read up to
+ * {@code C} with output suppressed.
+ *
+ * <p>Before the re-read, each pipeline gets the published alerts of its monitors (open episodes go
+ * on) and, from the final estimates published, the CUSUM values its charts resume from. Every
+ * look-up is made before any state changes, so a look-up that fails (the broker away: a
+ * {@link org.apache.kafka.common.errors.RetriableException}) leaves the partitions paused and
+ * {@code ASSIGNED}, to be planned again after a backoff. A partition goes {@code LIVE} once the
+ * consumer position has reached {@code C} ({@link #finishDone}). Runs on the poll-loop thread, never
+ * in a rebalance callback.
+ */
+final class RebuildPlanner {
+
+    private static final Logger LOG = LoggerFactory.getLogger(RebuildPlanner.class);
+    private static final Duration LOOKUP_POLL = Duration.ofMillis(100);
+
+    private final MonitorConfig config;
+    private final KafkaConsumer<byte[], byte[]> consumer;
+    private final KafkaConsumer<byte[], byte[]> lookup;
+    private final AlertArchive archive;
+    private final ServiceLoopMetrics meters;
+    private final Duration timeout;
+    private final boolean resetToLatest;
+    private final LongSupplier wallClockMillis;
+    private final Map<String, RebuildSpan> spans = new HashMap<>();
+
+    /**
+     * @param lookup a consumer of its own (no group) that reads the record at a committed offset
+     * @param timeout bound of each blocking look-up
+     * @param resetToLatest whether a partition without a commit starts at its end
+     */
+    RebuildPlanner(MonitorConfig config, KafkaConsumer<byte[], byte[]> consumer, KafkaConsumer<byte[], byte[]> lookup,
+                   AlertArchive archive, ServiceLoopMetrics meters, Duration timeout, boolean resetToLatest,
+                   LongSupplier wallClockMillis) {
+        this.config = config;
+        this.consumer = consumer;
+        this.lookup = lookup;
+        this.archive = archive;
+        this.meters = meters;
+        this.timeout = timeout;
+        this.resetToLatest = resetToLatest;
+        this.wallClockMillis = wallClockMillis;
+        for (String topic : config.topics()) {
+            spans.put(topic, RebuildSpan.of(config.monitorsFor(topic), config.service().rebuildMargin()));
+        }
+    }
+
+    /**
+     * Looks up where each {@code ASSIGNED} partition of {@code owned} is rebuilt from, then restores
+     * their alerts and charts, seeks them and makes them {@code REBUILDING}. The partitions stay
+     * paused: the caller resumes them.
+     *
+     * @return the partitions planned (none when none was pending)
+     * @throws org.apache.kafka.common.errors.RetriableException when a look-up failed; nothing changed
+     */
+    List<TopicPartition> planPending(Collection<OwnedPartition> owned, long nowNanos) {
+        List<OwnedPartition> pending = owned.stream().filter(p -> p.is(OwnedPartition.Phase.ASSIGNED)).toList();
+        if (pending.isEmpty()) {
+            return List.of();
+        }
+        Set<TopicPartition> tps = new HashSet<>();
+        pending.forEach(p -> tps.add(p.partition));
+        Map<OwnedPartition, List<Alert>> alerts = publishedAlerts(pending);
+        CusumHistory charts = publishedCharts(pending);
+        Map<TopicPartition, OffsetAndMetadata> committed = consumer.committed(tps, timeout);
+        Map<TopicPartition, Long> beginning = consumer.beginningOffsets(tps, timeout);
+        Map<TopicPartition, Long> end = consumer.endOffsets(tps, timeout);
+        Map<TopicPartition, Long> until = new HashMap<>();
+        Map<TopicPartition, Long> seekTo = new HashMap<>();
+        Map<TopicPartition, Long> startTimes = new HashMap<>();
+        for (TopicPartition tp : tps) {
+            OffsetAndMetadata c = committed.get(tp);
+            long upTo;
+            Long recordMillis;
+            if (c != null) {
+                upTo = c.offset();
+                recordMillis = recordTimestamp(tp, upTo, beginning.get(tp), end.get(tp));
+            } else if (resetToLatest) {
+                upTo = end.get(tp);
+                recordMillis = wallClockMillis.getAsLong();
+            } else {
+                upTo = beginning.get(tp);
+                recordMillis = null;
+            }
+            until.put(tp, upTo);
+            LOG.info("rebuild plan {}: committed {}, partition [{}, {}), record time {}", tp,
+                    c == null ? null : c.offset(), beginning.get(tp), end.get(tp),
+                    recordMillis == null ? null : Instant.ofEpochMilli(recordMillis));
+            if (recordMillis == null || upTo <= beginning.get(tp)) {
+                seekTo.put(tp, upTo);
+            } else {
+                startTimes.put(tp, Math.max(0, spans.get(tp.topic()).startMillis(recordMillis)));
+            }
+        }
+        if (!startTimes.isEmpty()) {
+            Map<TopicPartition, OffsetAndTimestamp> found = consumer.offsetsForTimes(startTimes, timeout);
+            for (TopicPartition tp : startTimes.keySet()) {
+                OffsetAndTimestamp at = found.get(tp);
+                long from = at == null ? until.get(tp) : Math.min(at.offset(), until.get(tp));
+                seekTo.put(tp, Math.max(from, beginning.get(tp)));
+                LOG.info("rebuilding {} from offset {} to {} ({})", tp, from, until.get(tp), spans.get(tp.topic()));
+            }
+        }
+        // every look-up answered: only now does state change
+        for (OwnedPartition p : pending) {
+            TopicPartition tp = p.partition;
+            p.pipeline.restoreAlerts(alerts.get(p));
+            Long rereadFrom = startTimes.get(tp);
+            if (rereadFrom != null) {
+                // events at or after the re-read's start time are re-read (record time >= event time);
+                // charts of streams with a baseline file continue from a published window after it
+                p.pipeline.resumeCharts(charts, rereadFrom);
+            }
+            consumer.seek(tp, seekTo.get(tp));
+            p.rebuildPlanned(until.get(tp), nowNanos);
+        }
+        meters.rebuildStarted(pending.size());
+        return new ArrayList<>(tps);
+    }
+
+    /**
+     * Makes the {@code REBUILDING} partitions of {@code owned} whose consumer position has reached
+     * the rebuild end (every record before it handled) {@code LIVE}.
+     *
+     * @return whether any partition went live
+     */
+    boolean finishDone(Collection<OwnedPartition> owned, long nowNanos) {
+        boolean any = false;
+        for (OwnedPartition p : owned) {
+            if (p.is(OwnedPartition.Phase.REBUILDING)) {
+                long nanos = p.reachedRebuildEnd(consumer.position(p.partition), nowNanos);
+                if (nanos >= 0) {
+                    LOG.info("{} rebuilt: {} records re-read in {} ms", p.partition,
+                            p.pipeline.snapshot().rebuilt(), nanos / 1_000_000);
+                    meters.rebuildFinished(nanos);
+                    any = true;
+                }
+            }
+        }
+        return any;
+    }
+
+    /**
+     * Timestamp of the record at {@code offset}, or of the one before it when {@code offset} is the
+     * end of the partition; null when the partition holds neither.
+     */
+    private Long recordTimestamp(TopicPartition tp, long offset, long beginning, long end) {
+        long target = offset < end ? offset : offset - 1;
+        if (target < beginning || target >= end) {
+            return null;
+        }
+        lookup.assign(List.of(tp));
+        lookup.seek(tp, target);
+        long deadline = System.nanoTime() + timeout.toNanos();
+        while (System.nanoTime() < deadline) {
+            for (ConsumerRecord<byte[], byte[]> r : lookup.poll(LOOKUP_POLL).records(tp)) {
+                if (r.offset() >= target) {
+                    return r.timestamp();
+                }
+            }
+        }
+        throw new TimeoutException("could not read the record at " + tp + "@" + target + " within " + timeout);
+    }
+
+    /** The CUSUM values published with the final estimates of the pending partitions' monitors. */
+    private CusumHistory publishedCharts(List<OwnedPartition> pending) {
+        Set<String> estimatesTopics = new HashSet<>();
+        for (OwnedPartition p : pending) {
+            for (MonitorDefinition monitor : config.monitorsFor(p.partition.topic())) {
+                if (monitor.rules() == null || monitor.rules().cusum() != null) {
+                    estimatesTopics.add(monitor.outputs().estimatesTopic());
+                }
+            }
+        }
+        return estimatesTopics.isEmpty() ? new CusumHistory() : archive.readCharts(estimatesTopics);
+    }
+
+    /** The published alerts of each pending partition's monitors. */
+    private Map<OwnedPartition, List<Alert>> publishedAlerts(List<OwnedPartition> pending) {
+        Set<String> alertTopics = new HashSet<>();
+        for (OwnedPartition p : pending) {
+            for (MonitorDefinition monitor : config.monitorsFor(p.partition.topic())) {
+                alertTopics.add(monitor.outputs().alertsTopic());
+            }
+        }
+        List<Alert> published = archive.read(alertTopics);
+        Map<OwnedPartition, List<Alert>> out = new HashMap<>();
+        for (OwnedPartition p : pending) {
+            List<Alert> mine = new ArrayList<>();
+            for (Alert alert : published) {
+                if (belongsTo(alert.stream(), config.monitorsFor(p.partition.topic()))) {
+                    mine.add(alert);
+                }
+            }
+            out.put(p, mine);
+        }
+        return out;
+    }
+
+    private static boolean belongsTo(String stream, List<MonitorDefinition> monitors) {
+        for (MonitorDefinition monitor : monitors) {
+            if (stream.equals(monitor.name()) || stream.startsWith(monitor.name() + "/")) {
+                return true;
+            }
+        }
+        return false;
+    }
+}

@@ -1,0 +1,145 @@
+package org.oddswatch.ingest.service;
+
+import io.micrometer.core.instrument.Counter;
+import io.micrometer.core.instrument.Gauge;
+import io.micrometer.core.instrument.MeterRegistry;
+import io.micrometer.core.instrument.MultiGauge;
+import io.micrometer.core.instrument.Tag;
+import io.micrometer.core.instrument.Tags;
+import io.micrometer.core.instrument.Timer;
+import io.micrometer.core.instrument.binder.MeterBinder;
+import java.util.ArrayList;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.concurrent.TimeUnit;
+import java.util.concurrent.atomic.AtomicInteger;
+import org.oddswatch.alerts.gaps.MonitoringGap;
+import org.oddswatch.ingest.pipeline.PipelineSnapshot;
+import org.oddswatch.ingest.pipeline.StreamStatus;
+
+/**
+ * Meters of the service's poll loop, bound like Micrometer's own binders: construct, then
+ * {@link #bindTo} one registry before the loop starts (the loop records into the meters bound last).
+ * All carry the tag {@value #SERVICE_INSTANCE} (the service's instance name: not {@code instance},
+ * which Prometheus sets to the scrape target and would rename to {@code exported_instance}).
+ * <ul>
+ * <li>{@code oddswatch.service.records} (counter, tag {@code phase}: {@code live}, {@code rebuild}):
+ *     input records handled; the suppressed re-read of a rebuild counts as {@code rebuild};</li>
+ * <li>{@code oddswatch.service.rebuilds} (counter): partitions whose state was rebuilt;</li>
+ * <li>{@code oddswatch.service.rebuild.duration} (timer): from a partition's rebuild plan to live;</li>
+ * <li>{@code oddswatch.service.ready} (gauge): 1 once every partition is live and the broker answers;</li>
+ * <li>{@code oddswatch.service.loop} (timer, tag {@code step}): time per polled batch in
+ *     {@code poll} ({@code KafkaConsumer.poll}, fetch waits included) and {@code apply} (every record
+ *     of the batch through its pipeline), and per commit in {@code commit} (waiting for the outputs
+ *     to be stored, then the offset commit);</li>
+ * <li>{@code oddswatch.monitoring.gaps} (multi-gauge): one series per thing a stream of this instance
+ *     does not monitor ({@link MonitoringGap}), tagged {@code monitor}, {@code stream}, {@code scope}
+ *     ({@code baseline}, {@code rule}, {@code windows}, {@code term}), {@code subject} (the rule or term
+ *     named in the definition, {@code none} for the baseline) and {@code reason} (a code from a fixed
+ *     set); the value is the number of final windows not judged for {@code windows}, else 1. A series
+ *     goes away when its gap does or its stream leaves the instance.</li>
+ * </ul>
+ * Tags never carry record values. The per-partition stream count is bound by
+ * {@link PartitionPipelines}; the Kafka clients' metrics by Micrometer's {@code KafkaClientMetrics}.
+ */
+final class ServiceLoopMetrics implements MeterBinder {
+
+    /** Tag of the service's instance name on the service's and the Kafka clients' meters. */
+    static final String SERVICE_INSTANCE = "service_instance";
+
+    private final Tags tags;
+    private final AtomicInteger ready = new AtomicInteger();
+    private Counter live;
+    private Counter rebuild;
+    private Counter rebuilds;
+    private Timer rebuildDuration;
+    private Timer poll;
+    private Timer apply;
+    private Timer commit;
+    private MultiGauge gaps;
+
+    ServiceLoopMetrics(String instance) {
+        this.tags = Tags.of(Tag.of(SERVICE_INSTANCE, instance));
+    }
+
+    @Override
+    public void bindTo(MeterRegistry registry) {
+        live = records(registry, "live");
+        rebuild = records(registry, "rebuild");
+        rebuilds = Counter.builder("oddswatch.service.rebuilds").tags(tags)
+                .description("partitions whose state was rebuilt").register(registry);
+        rebuildDuration = Timer.builder("oddswatch.service.rebuild.duration").tags(tags)
+                .description("time to rebuild one partition's state").register(registry);
+        Gauge.builder("oddswatch.service.ready", ready, AtomicInteger::get).tags(tags)
+                .description("1 once state is rebuilt and the service is live").register(registry);
+        poll = loopStep(registry, "poll");
+        apply = loopStep(registry, "apply");
+        commit = loopStep(registry, "commit");
+        gaps = MultiGauge.builder("oddswatch.monitoring.gaps")
+                .description("what a stream does not monitor, by reason: windows not judged, else 1")
+                .register(registry);
+    }
+
+    private Counter records(MeterRegistry registry, String phase) {
+        return Counter.builder("oddswatch.service.records").tag("phase", phase).tags(tags)
+                .description("input records consumed").register(registry);
+    }
+
+    private Timer loopStep(MeterRegistry registry, String step) {
+        return Timer.builder("oddswatch.service.loop").tag("step", step).tags(tags)
+                .description("time per polled batch (poll, apply) or per commit in one step of the poll loop")
+                .register(registry);
+    }
+
+    /** One polled batch: time in poll and applying its records to the pipelines (ns). */
+    void polled(long pollNanos, long applyNanos) {
+        poll.record(pollNanos, TimeUnit.NANOSECONDS);
+        apply.record(applyNanos, TimeUnit.NANOSECONDS);
+    }
+
+    /** Records of one partition handled: live ones and ones re-read to rebuild state. */
+    void handled(long liveRecords, long rebuildRecords) {
+        if (liveRecords > 0) {
+            live.increment(liveRecords);
+        }
+        if (rebuildRecords > 0) {
+            rebuild.increment(rebuildRecords);
+        }
+    }
+
+    /** One commit step that committed, storing the outputs included (ns). */
+    void committed(long nanos) {
+        commit.record(nanos, TimeUnit.NANOSECONDS);
+    }
+
+    void rebuildStarted(int partitions) {
+        rebuilds.increment(partitions);
+    }
+
+    void rebuildFinished(long nanos) {
+        rebuildDuration.record(nanos, TimeUnit.NANOSECONDS);
+    }
+
+    void ready(boolean isReady) {
+        ready.set(isReady ? 1 : 0);
+    }
+
+    /** Replaces the gap series by those of the streams in {@code inputs}. */
+    void monitoringGaps(List<PipelineSnapshot> inputs) {
+        Map<Tags, Double> values = new LinkedHashMap<>();
+        for (PipelineSnapshot input : inputs) {
+            for (StreamStatus stream : input.streams()) {
+                for (MonitoringGap gap : stream.gaps()) {
+                    Tags series = Tags.of("monitor", stream.monitor(), "stream", stream.stream(),
+                            "scope", gap.scope().label(), "subject", gap.subject() == null ? "none" : gap.subject(),
+                            "reason", gap.reason().code());
+                    values.merge(series, gap.windows() == null ? 1.0 : gap.windows(), Double::sum);
+                }
+            }
+        }
+        List<MultiGauge.Row<?>> rows = new ArrayList<>(values.size());
+        values.forEach((series, value) -> rows.add(MultiGauge.Row.of(series, value)));
+        gaps.register(rows, true);
+    }
+}
