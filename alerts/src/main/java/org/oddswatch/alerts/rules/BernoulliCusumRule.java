@@ -116,11 +116,6 @@ public final class BernoulliCusumRule {
         pending.add(new Pending(eventTimeMillis, id == null ? "" : id, row.clone(), positive));
     }
 
-    /** Events buffered and not yet processed. */
-    public int pendingEvents() {
-        return pending.size();
-    }
-
     /** Processes every buffered event with time before {@code closedBeforeMillis}, in (time, id) order. */
     public void close(long closedBeforeMillis) {
         while (!pending.isEmpty() && pending.peek().time < closedBeforeMillis) {

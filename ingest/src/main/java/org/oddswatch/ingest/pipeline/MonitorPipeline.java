@@ -138,11 +138,6 @@ public final class MonitorPipeline {
         return state == null ? Long.MIN_VALUE : state.watermark();
     }
 
-    /** The status of every stream, in monitor then creation order. */
-    public List<StreamStatus> streamStatus() {
-        return snapshot().streams();
-    }
-
     /**
      * Offers one record value: {@link #read} and {@link #offerRead} in one step.
      *
