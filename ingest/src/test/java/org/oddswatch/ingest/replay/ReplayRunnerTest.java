@@ -110,7 +110,7 @@ class ReplayRunnerTest {
                 new CategoricalTerm("age_band", BANDS, "18-39", UndeclaredLevelPolicy.MISSING, null, false),
                 new CategoricalTerm("sex", List.of("female", "male"), "female", UndeclaredLevelPolicy.REJECT, null,
                         false)));
-        WindowEstimator estimator = new WindowEstimator(coder, EstimatorOptions.defaults().withStratumTerm("age_band"));
+        WindowEstimator estimator = new WindowEstimator(coder, EstimatorOptions.defaults().withStratifyBy("age_band"));
         WindowGeometry geometry = new WindowGeometry(4 * WEEK, WEEK, START.toEpochMilli(), Duration.ofDays(1).toMillis());
         List<String> expected = new ArrayList<>();
         for (String region : List.of("north", "south")) {
@@ -210,7 +210,7 @@ class ReplayRunnerTest {
     /**
      * What a restart relies on: a stream that starts mid-way (as after re-reading from an offset)
      * gives bit-identical estimates from the second window whose data are complete on, because the
-     * warm start is rounded (StreamState.reproducibleStart) and so no longer carries the history.
+     * warm start is rounded (WindowCloser.reproducibleStart) and so no longer carries the history.
      */
     @Test
     void aStreamStartedMidWayAgreesFromItsSecondCompleteWindow() throws Exception {
