@@ -133,7 +133,7 @@ class DedupeWindowTest {
     }
 
     @Test
-    void growsForManyHeldIdsAndShrinksAgainOnceTheyExpire() {
+    void growsForManyIdsAndShrinksAgainOnceTheyExpire() {
         DedupeWindow held = new DedupeWindow();
         for (int i = 0; i < 20_000; i++) {
             assertTrue(held.add("burst-" + i, 0));
