@@ -33,13 +33,13 @@ public final class WindowEstimator {
     private final CategoricalTerm stratumTerm;
 
     /**
-     * @throws IllegalArgumentException when {@code options.stratumTerm()} names no categorical term
+     * @throws IllegalArgumentException when {@code options.stratifyBy()} names no categorical term
      *     of the coder
      */
     public WindowEstimator(DesignCoder coder, EstimatorOptions options) {
         this.coder = coder;
         this.options = options;
-        this.stratumTerm = stratum(coder, options.stratumTerm());
+        this.stratumTerm = stratum(coder, options.stratifyBy());
     }
 
     private static CategoricalTerm stratum(DesignCoder coder, String name) {
@@ -51,11 +51,6 @@ public final class WindowEstimator {
             throw new IllegalArgumentException("stratum term '" + name + "' is not a categorical term of the model");
         }
         return c;
-    }
-
-    /** The stratifying term, or null; a {@code WindowStore} needs its number of levels. */
-    public CategoricalTerm stratumTerm() {
-        return stratumTerm;
     }
 
     /**

@@ -83,7 +83,7 @@ class WindowEstimatorTest {
     @Test
     void anOrdinaryWindowRecoversTheScenarioAndReportsWatchedTermsInFull() {
         WindowData data = scenarioWindow(1, 20_000, 0.01);
-        EstimatorOptions options = EstimatorOptions.defaults().withStratumTerm("region");
+        EstimatorOptions options = EstimatorOptions.defaults().withStratifyBy("region");
         WindowEstimate e = estimate(HouseScenario.coder(false), options, data);
         assertAllFinite(e, "estimate");
         assertEquals(FitState.CONVERGED, e.fit().state());
@@ -125,7 +125,7 @@ class WindowEstimatorTest {
     void anEmptyWindowHasNoModelAndNoPrevalenceValue() {
         DesignCoder coder = HouseScenario.coder(false);
         WindowData empty = new WindowStore(coder, 100, 4).window(0, 1);
-        WindowEstimate e = estimate(coder, EstimatorOptions.defaults().withStratumTerm("region"), empty);
+        WindowEstimate e = estimate(coder, EstimatorOptions.defaults().withStratifyBy("region"), empty);
         assertAllFinite(e, "estimate");
         assertEquals(FitState.NO_MODEL, e.fit().state());
         assertNull(e.prevalence().value());
@@ -285,6 +285,6 @@ class WindowEstimatorTest {
     void anUnknownStratumTermIsRefused() {
         List<Term> terms = HouseScenario.terms(false);
         assertThrows(IllegalArgumentException.class, () -> new WindowEstimator(new DesignCoder(terms),
-                EstimatorOptions.defaults().withStratumTerm("sex")));
+                EstimatorOptions.defaults().withStratifyBy("sex")));
     }
 }

@@ -56,21 +56,10 @@ public final class AlertEngine {
     private final Map<String, Alert> lastByKey = new LinkedHashMap<>();
     private final long baselineFrom;
     private final long baselineTo;
-    private final AlertRulesConfig rules;
-    /** The guard of each window rule, by rule name, to tell why a window was not judged. */
-    private final Map<String, InformationGuard> guards = new LinkedHashMap<>();
     /** The chart values of the latest final window: its end, the drift statistics (the CUSUM's are in the rule). */
     private Instant chartsEnd;
     private final List<DriftValue> drift = new ArrayList<>();
-    /** Final windows a running rule did not judge, by rule and reason, in first-seen order. */
-    private final Map<List<Object>, Unjudged> unjudged = new LinkedHashMap<>();
-
-    /** Windows one rule did not judge for one reason: how many, the newest one's end and reason in words. */
-    private static final class Unjudged {
-        long windows;
-        Instant lastWindowEnd;
-        String detail;
-    }
+    private final RuleGaps gaps;
 
     /**
      * @param stream the stream name
@@ -94,18 +83,18 @@ public final class AlertEngine {
         this.replay = replay == null ? new ReplayHint(null, null, null) : replay;
         this.tracker = new EpisodeTracker(stream);
         AlertRulesConfig r = rules == null ? AlertRulesConfig.defaults() : rules;
-        this.rules = r;
+        this.gaps = new RuleGaps(stream, r);
         if (baseline != null && r.oddsRatioDrift() != null) {
             windowRules.add(new OddsRatioDriftRule(r.oddsRatioDrift(),
-                    guard(OddsRatioDriftRule.NAME, r.guardFor(r.oddsRatioDrift().guard())), baseline));
+                    gaps.guard(OddsRatioDriftRule.NAME, r.guardFor(r.oddsRatioDrift().guard())), baseline));
         }
         if (r.oddsRatioBounds() != null) {
             windowRules.add(new OddsRatioBoundsRule(r.oddsRatioBounds(),
-                    guard(OddsRatioBoundsRule.NAME, r.guardFor(r.oddsRatioBounds().guard()))));
+                    gaps.guard(OddsRatioBoundsRule.NAME, r.guardFor(r.oddsRatioBounds().guard()))));
         }
         if (baseline != null && r.calibration() != null) {
             windowRules.add(new CalibrationRule(r.calibration(),
-                    guard(CalibrationRule.NAME, r.guardFor(r.calibration().guard()))));
+                    gaps.guard(CalibrationRule.NAME, r.guardFor(r.calibration().guard()))));
         }
         cusum = baseline != null && r.cusum() != null
                 ? new BernoulliCusumRule(r.cusum(), new InformationGuard(r.guardFor(r.cusum().guard())), baseline,
@@ -115,22 +104,12 @@ public final class AlertEngine {
         baselineTo = baseline == null ? Long.MIN_VALUE : parse(baseline.periodEnd(), Long.MIN_VALUE);
     }
 
-    private InformationGuard guard(String rule, AlertRulesConfig.Guard settings) {
-        InformationGuard guard = new InformationGuard(settings);
-        guards.put(rule, guard);
-        return guard;
-    }
-
     private static long parse(String instant, long fallback) {
         try {
             return instant == null ? fallback : Instant.parse(instant).toEpochMilli();
         } catch (DateTimeParseException e) {
             return fallback;
         }
-    }
-
-    public String stream() {
-        return stream;
     }
 
     /**
@@ -148,15 +127,14 @@ public final class AlertEngine {
         startCharts(estimate);
         if (overlapsBaseline(estimate.windowStart().toEpochMilli(), estimate.windowEnd().toEpochMilli())) {
             if (!windowRules.isEmpty()) {
-                unjudged(null, GapReason.BASELINE_PERIOD, estimate.windowEnd(), inBaselinePeriod(baseline.periodStart(),
+                gaps.unjudged(null, GapReason.BASELINE_PERIOD, estimate.windowEnd(), inBaselinePeriod(baseline.periodStart(),
                         baseline.periodEnd()));
             }
         } else {
             for (WindowRule rule : windowRules) {
                 for (Reading reading : rule.evaluate(estimate)) {
                     if (reading.zone() == Zone.UNKNOWN) {
-                        unjudged(rule.name(), whyUnknown(rule.name(), estimate, reading), estimate.windowEnd(),
-                                reading.detail());
+                        gaps.unknown(rule.name(), estimate, reading);
                     } else if (OddsRatioDriftRule.NAME.equals(rule.name()) && reading.evidence() != null
                             && reading.evidence().z() != null) {
                         drift.add(new DriftValue(rule.name(), new ChartSubject(reading.subject().term(),
@@ -217,33 +195,10 @@ public final class AlertEngine {
         }
     }
 
-    /** The code of a guard's refusal, else {@link GapReason#NO_ESTIMATE} (a figure the rule reads is missing). */
-    private GapReason whyUnknown(String rule, WindowEstimate estimate, Reading reading) {
-        if (CalibrationRule.NAME.equals(rule) && estimate.calibration() == null) {
-            return estimate.fit() == null ? GapReason.NO_FIT : GapReason.NO_ESTIMATE;
-        }
-        InformationGuard guard = guards.get(rule);
-        GapReason reason = guard == null ? null : guard.refusalReason(estimate.fit(), reading.events());
-        return reason == null ? GapReason.NO_ESTIMATE : reason;
-    }
-
     /** Why no rule judges a window overlapping the baseline period, in words. */
     public static String inBaselinePeriod(Object from, Object to) {
         return "the window overlaps the baseline period " + from + " to " + to
                 + ", whose events are the baseline itself";
-    }
-
-    /**
-     * Counts a window once per rule and reason (a rule with several subjects reads it several
-     * times); a null rule stands for every rule.
-     */
-    private void unjudged(String rule, GapReason reason, Instant windowEnd, String detail) {
-        Unjudged u = unjudged.computeIfAbsent(java.util.Arrays.asList(rule, reason), k -> new Unjudged());
-        if (!windowEnd.equals(u.lastWindowEnd)) {
-            u.windows++;
-            u.lastWindowEnd = windowEnd;
-        }
-        u.detail = detail;
     }
 
     /**
@@ -256,20 +211,7 @@ public final class AlertEngine {
      * @param noBaselineDetail the same in words
      */
     public List<MonitoringGap> gaps(GapReason noBaseline, String noBaselineDetail) {
-        List<MonitoringGap> gaps = new ArrayList<>();
-        for (AlertRulesConfig.RuleSwitch rule : rules.switches()) {
-            if (!rule.on()) {
-                gaps.add(MonitoringGap.rule(stream, rule.rule(), rule.offReason(), rule.offDetail()));
-            } else if (rule.needsBaseline() && baseline == null) {
-                gaps.add(MonitoringGap.rule(stream, rule.rule(), noBaseline, noBaselineDetail));
-            }
-        }
-        for (Map.Entry<List<Object>, Unjudged> e : unjudged.entrySet()) {
-            gaps.add(MonitoringGap.windows(stream, (String) e.getKey().get(0), (GapReason) e.getKey().get(1),
-                    e.getValue().detail + " (newest: the window ending " + e.getValue().lastWindowEnd + ")",
-                    e.getValue().windows));
-        }
-        return gaps;
+        return gaps.list(baseline != null, noBaseline, noBaselineDetail);
     }
 
     private boolean overlapsBaseline(long from, long to) {

@@ -111,12 +111,6 @@ public final class EpisodeTracker {
         return ep == null ? null : ep.publishedUpTo;
     }
 
-    /** Whether the episode of this key is open. */
-    public boolean isOpen(String key) {
-        Episode ep = episodes.get(key);
-        return ep != null && ep.open;
-    }
-
     /**
      * One transition.
      *

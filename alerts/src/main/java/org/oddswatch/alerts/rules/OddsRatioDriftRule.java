@@ -65,11 +65,6 @@ public final class OddsRatioDriftRule implements WindowRule {
         return NAME;
     }
 
-    /** The subjects this rule follows, in design order. */
-    public List<AlertSubject> subjects() {
-        return watched.stream().map(WatchedColumn::subject).toList();
-    }
-
     @Override
     public List<Reading> evaluate(WindowEstimate e) {
         String refusal = e.fit() == null ? "no model fit" : guard.refusal(e.fit(), e.fit().events());

@@ -12,6 +12,7 @@ import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.replay.InputFormat;
 import picocli.CommandLine.ArgGroup;
 import picocli.CommandLine.Command;
+import picocli.CommandLine.Mixin;
 import picocli.CommandLine.Option;
 import picocli.CommandLine.Spec;
 import picocli.CommandLine.Model.CommandSpec;
@@ -29,8 +30,8 @@ import picocli.CommandLine.Model.CommandSpec;
             + "per stream the events, positives, odds ratios and the state of what it froze."})
 final class BaselineCommand implements Callable<Integer> {
 
-    @Option(names = "--config", required = true, paramLabel = "FILE", description = "Monitor definition (YAML).")
-    Path config;
+    @Mixin
+    DefinitionFile config;
 
     @ArgGroup(exclusive = true, multiplicity = "1")
     InputArgs input;
@@ -50,8 +51,8 @@ final class BaselineCommand implements Callable<Integer> {
     @Option(names = "--pooled", description = "One baseline per monitor over all split values.")
     boolean pooled;
 
-    @Option(names = "--format", paramLabel = "FORMAT", description = "Input format: jsonl or csv (default: by the file name).")
-    String format;
+    @Mixin
+    FormatOption format;
 
     @Option(names = "--allow-weak", description = "Also write a model fitted from too little information (fewer than "
             + "10 events of the rarer outcome per coefficient); it is flagged weak wherever it is used.")
@@ -65,14 +66,14 @@ final class BaselineCommand implements Callable<Integer> {
         if (!from.isBefore(to)) {
             throw UserError.config("--from must lie before --to");
         }
-        MonitorConfig definition = Definitions.load(config, spec.commandLine().getErr());
+        MonitorConfig definition = config.load(spec.commandLine().getErr());
         if (monitor != null && definition.monitor(monitor) == null) {
-            throw UserError.config("no monitor named '" + monitor + "' in " + config);
+            throw UserError.config("no monitor named '" + monitor + "' in " + config.path);
         }
-        InputFormat inputFormat = format == null ? null : ReplayCommand.parseFormat(format);
+        InputFormat inputFormat = format.format();
         List<BuiltBaseline> built;
         if (input.file != null) {
-            Definitions.requireFile(input.file, "--input");
+            DefinitionFile.requireFile(input.file, "--input");
             built = BaselineBuilder.build(definition, new BaselineRequest(input.file, inputFormat, from, to, out,
                     monitor, pooled, allowWeak));
         } else {

@@ -11,6 +11,7 @@ import org.oddswatch.ingest.definition.MonitorDefinition;
 import org.oddswatch.ingest.definition.TermSpec;
 import org.oddswatch.ingest.replay.InputFormat;
 import picocli.CommandLine.Command;
+import picocli.CommandLine.Mixin;
 import picocli.CommandLine.Option;
 import picocli.CommandLine.Spec;
 import picocli.CommandLine.Model.CommandSpec;
@@ -25,8 +26,8 @@ import picocli.CommandLine.Model.CommandSpec;
             + "Exit status 2 when the definition is invalid."})
 final class CheckCommand implements Callable<Integer> {
 
-    @Option(names = "--config", required = true, paramLabel = "FILE", description = "Monitor definition (YAML).")
-    Path config;
+    @Mixin
+    DefinitionFile config;
 
     @Option(names = "--events", paramLabel = "FILE", description = "Sample events, JSON Lines or CSV.")
     Path events;
@@ -34,18 +35,18 @@ final class CheckCommand implements Callable<Integer> {
     @Spec
     CommandSpec spec;
 
-    @Option(names = "--format", paramLabel = "FORMAT", description = "Format of --events: jsonl or csv (default: by the file name).")
-    String format;
+    @Mixin
+    FormatOption format;
 
     @Override
     public Integer call() throws Exception {
-        MonitorConfig definition = Definitions.load(config);
+        MonitorConfig definition = DefinitionFile.load(config.path);
         PrintWriter out = spec.commandLine().getOut();
         if (events == null) {
             out.print(describe(definition));
         } else {
-            Definitions.requireFile(events, "--events");
-            InputFormat inputFormat = format == null ? null : ReplayCommand.parseFormat(format);
+            DefinitionFile.requireFile(events, "--events");
+            InputFormat inputFormat = format.format();
             CheckReport report = DefinitionChecker.check(definition, events, inputFormat);
             out.print(describe(definition));
             String text = report.describe();
@@ -59,7 +60,7 @@ final class CheckCommand implements Callable<Integer> {
 
     private String describe(MonitorConfig definition) {
         StringBuilder b = new StringBuilder();
-        b.append(config).append(": valid, ").append(definition.monitors().size()).append(" monitor(s)\n");
+        b.append(config.path).append(": valid, ").append(definition.monitors().size()).append(" monitor(s)\n");
         List<CheckReport.MonitorFacts> facts = DefinitionChecker.facts(definition);
         for (int i = 0; i < definition.monitors().size(); i++) {
             MonitorDefinition m = definition.monitors().get(i);

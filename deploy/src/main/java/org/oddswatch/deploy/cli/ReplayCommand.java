@@ -15,6 +15,7 @@ import org.oddswatch.ingest.replay.ReplaySummary;
 import org.oddswatch.ingest.service.RebuildSpan;
 import picocli.CommandLine.ArgGroup;
 import picocli.CommandLine.Command;
+import picocli.CommandLine.Mixin;
 import picocli.CommandLine.Option;
 import picocli.CommandLine.Spec;
 import picocli.CommandLine.Model.CommandSpec;
@@ -30,8 +31,8 @@ import picocli.CommandLine.Model.CommandSpec;
             + "term missing from every event) with the reason."})
 final class ReplayCommand implements Callable<Integer> {
 
-    @Option(names = "--config", required = true, paramLabel = "FILE", description = "Monitor definition (YAML).")
-    Path config;
+    @Mixin
+    DefinitionFile config;
 
     @ArgGroup(exclusive = true, multiplicity = "1")
     InputArgs input;
@@ -45,8 +46,8 @@ final class ReplayCommand implements Callable<Integer> {
     @Option(names = "--to", paramLabel = "TIME", description = "Report only windows ending at or before this time.")
     Instant to;
 
-    @Option(names = "--format", paramLabel = "FORMAT", description = "Input format: jsonl or csv (default: by the file name).")
-    String format;
+    @Mixin
+    FormatOption format;
 
     @Spec
     CommandSpec spec;
@@ -56,22 +57,22 @@ final class ReplayCommand implements Callable<Integer> {
         if (from != null && to != null && !from.isBefore(to)) {
             throw UserError.config("--from must lie before --to");
         }
-        MonitorConfig definition = Definitions.load(config, spec.commandLine().getErr());
-        InputFormat inputFormat = format == null ? null : parseFormat(format);
+        MonitorConfig definition = config.load(spec.commandLine().getErr());
+        InputFormat inputFormat = format.format();
         ReplaySummary summary;
         if (input.file != null) {
-            Definitions.requireFile(input.file, "--input");
-            summary = replay(definition, new ReplayRequest(config, input.file, out, inputFormat, from, to, null));
+            DefinitionFile.requireFile(input.file, "--input");
+            summary = replay(definition, new ReplayRequest(config.path, input.file, out, inputFormat, from, to, null));
         } else {
             if (definition.monitorsFor(input.topic).isEmpty()) {
-                throw UserError.config("no monitor in " + config + " reads topic '" + input.topic + "'");
+                throw UserError.config("no monitor in " + config.path + " reads topic '" + input.topic + "'");
             }
             // read back far enough for the windows around --from and any fixed baseline period
             Instant readFrom = from == null ? null : Instant.ofEpochMilli(RebuildSpan.of(
                     definition.monitorsFor(input.topic), definition.service().rebuildMargin())
                     .startMillis(from.toEpochMilli()));
             try (TopicSnapshot snapshot = TopicSnapshot.read(definition.kafka(), input.topic, readFrom)) {
-                summary = replay(definition, new ReplayRequest(config, snapshot.file(), out, InputFormat.JSONL, from,
+                summary = replay(definition, new ReplayRequest(config.path, snapshot.file(), out, InputFormat.JSONL, from,
                         to, input.topic));
             }
         }
@@ -101,14 +102,6 @@ final class ReplayCommand implements Callable<Integer> {
         } catch (IllegalArgumentException e) {
             // a frozen baseline that does not fit the definition, an unusable topic choice
             throw UserError.config(e.getMessage(), e);
-        }
-    }
-
-    static InputFormat parseFormat(String text) {
-        try {
-            return InputFormat.parse(text);
-        } catch (IllegalArgumentException e) {
-            throw UserError.config("--format: " + e.getMessage(), e);
         }
     }
 }

@@ -13,6 +13,7 @@ import org.oddswatch.ingest.definition.ServiceSettings;
 import org.oddswatch.ingest.http.HttpEndpoints;
 import org.oddswatch.ingest.service.MonitorService;
 import picocli.CommandLine.Command;
+import picocli.CommandLine.Mixin;
 import picocli.CommandLine.Option;
 import picocli.CommandLine.Spec;
 import picocli.CommandLine.Model.CommandSpec;
@@ -27,8 +28,8 @@ import picocli.CommandLine.Model.CommandSpec;
             + "environment variables (security.protocol, sasl.*, ssl.* pass through unchanged)."})
 final class RunCommand implements Callable<Integer> {
 
-    @Option(names = "--config", required = true, paramLabel = "FILE", description = "Monitor definition (YAML).")
-    Path config;
+    @Mixin
+    DefinitionFile config;
 
     @Option(names = "--http", paramLabel = "HOST:PORT", description = "Address of /metrics, /health and /status (overrides service.http).")
     String http;
@@ -41,7 +42,7 @@ final class RunCommand implements Callable<Integer> {
 
     @Override
     public Integer call() throws Exception {
-        MonitorConfig loaded = Definitions.load(config, spec.commandLine().getErr());
+        MonitorConfig loaded = config.load(spec.commandLine().getErr());
         MonitorConfig definition = http == null ? loaded : withHttp(loaded, http);
         InetSocketAddress address;
         try {

@@ -111,7 +111,7 @@ final class SandboxCommand implements Callable<Integer> {
 
     private void validate() {
         if (config != null) {
-            Definitions.load(config);   // a bad file fails here with file:line: key: problem
+            DefinitionFile.load(config);   // a bad file fails here with file:line: key: problem
         }
         if (!(speed >= 0)) {
             throw UserError.config("--speed must be 0 (unpaced) or positive, got " + speed);

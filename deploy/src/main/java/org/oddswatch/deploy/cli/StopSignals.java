@@ -17,8 +17,6 @@ final class StopSignals {
 
     private final CountDownLatch requested = new CountDownLatch(1);
     private final CountDownLatch finished = new CountDownLatch(1);
-    private volatile Runnable onStop = () -> { };
-    private volatile boolean hookMode;
 
     private StopSignals() {
     }
@@ -28,7 +26,6 @@ final class StopSignals {
         StopSignals signals = new StopSignals();
         boolean handled = signals.handle("TERM") & signals.handle("INT");
         if (!handled) {
-            signals.hookMode = true;
             Runtime.getRuntime().addShutdownHook(new Thread(() -> {
                 if (signals.requested.getCount() > 0) {
                     signals.request();
@@ -58,16 +55,10 @@ final class StopSignals {
         }
     }
 
-    /** What to run (once, on the signal's thread) when a stop is requested: wake the waiting loop. */
-    void onStop(Runnable action) {
-        this.onStop = action;
-    }
-
     /** Asks for a stop as a signal would (also used by --duration and --until-alert). */
     void request() {
         if (requested.getCount() > 0) {
             requested.countDown();
-            onStop.run();
         }
     }
 
@@ -83,9 +74,5 @@ final class StopSignals {
     /** Marks the cleanup as done (lets a shutdown hook, where used, return). */
     void finished() {
         finished.countDown();
-    }
-
-    boolean viaShutdownHook() {
-        return hookMode;
     }
 }

@@ -4,7 +4,6 @@ import java.nio.charset.StandardCharsets;
 import java.time.Duration;
 import java.util.Iterator;
 import java.util.Properties;
-import java.util.concurrent.atomic.AtomicLong;
 import java.util.concurrent.atomic.AtomicReference;
 import java.util.function.BooleanSupplier;
 import org.apache.kafka.clients.producer.KafkaProducer;
@@ -26,7 +25,6 @@ public final class TopicPublisher implements AutoCloseable {
 
     private final KafkaProducer<String, byte[]> producer;
     private final String topic;
-    private final AtomicLong sent = new AtomicLong();
     private final AtomicReference<Exception> failure = new AtomicReference<>();
 
     /** @param clientProps Kafka client settings (bootstrap servers, security); producer guarantees are added */
@@ -80,15 +78,8 @@ public final class TopicPublisher implements AutoCloseable {
         producer.send(record, (metadata, exception) -> {
             if (exception != null) {
                 failure.compareAndSet(null, exception);
-            } else {
-                sent.incrementAndGet();
             }
         });
-    }
-
-    /** Records acknowledged by the broker so far. */
-    public long acknowledged() {
-        return sent.get();
     }
 
     @Override

@@ -40,7 +40,6 @@ public final class OutputWatcher implements AutoCloseable {
     private final Deque<JsonNode> alerts = new ArrayDeque<>();
     private final Thread thread;
     private volatile boolean running = true;
-    private long alertCount;
 
     /** Latest estimates of one stream (JSON trees as published). */
     public record StreamView(String stream, JsonNode lastFinal, JsonNode open) {
@@ -135,7 +134,6 @@ public final class OutputWatcher implements AutoCloseable {
     private void alert(JsonNode json) {
         synchronized (this) {
             alerts.addLast(json);
-            alertCount++;
             while (alerts.size() > KEPT_ALERTS) {
                 alerts.removeFirst();
             }
@@ -151,10 +149,6 @@ public final class OutputWatcher implements AutoCloseable {
     /** The newest alert messages, oldest first. */
     public synchronized List<JsonNode> alerts() {
         return List.copyOf(alerts);
-    }
-
-    public synchronized long alertCount() {
-        return alertCount;
     }
 
     @Override

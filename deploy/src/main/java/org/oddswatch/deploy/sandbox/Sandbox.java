@@ -19,6 +19,7 @@ import java.util.concurrent.atomic.AtomicBoolean;
 import java.util.concurrent.atomic.AtomicLong;
 import java.util.concurrent.atomic.AtomicReference;
 import java.util.function.BooleanSupplier;
+import org.oddswatch.broker.EmbeddedBroker;
 import org.oddswatch.deploy.feed.SimulatedClock;
 import org.oddswatch.deploy.feed.TopicPublisher;
 import org.oddswatch.deploy.scenario.Scenario;

@@ -71,10 +71,6 @@ public record ScenarioOptions(long seed, double eventsPerWeek, Instant start, Du
         return new ScenarioOptions(seed, eventsPerWeek, start, duration, value, lateBy, changes);
     }
 
-    public ScenarioOptions withLateBy(Duration value) {
-        return new ScenarioOptions(seed, eventsPerWeek, start, duration, defectShare, value, changes);
-    }
-
     /** Replaces the scenario's own script; an empty list means no change at all. */
     public ScenarioOptions withChanges(List<ScriptedChange> value) {
         return new ScenarioOptions(seed, eventsPerWeek, start, duration, defectShare, lateBy, value);

@@ -8,8 +8,8 @@ import java.time.Duration;
 import java.util.List;
 import java.util.regex.Matcher;
 import java.util.regex.Pattern;
+import org.oddswatch.broker.EmbeddedBrokerExtension;
 import org.oddswatch.deploy.JarProcess;
-import org.oddswatch.ingest.kafka.EmbeddedKafka;
 
 /** The topics of the packaged example definition on an embedded broker, fed by {@code simulate --topic}. */
 final class ExampleTopics {
@@ -20,14 +20,14 @@ final class ExampleTopics {
     private ExampleTopics() {
     }
 
-    static void create(EmbeddedKafka kafka) {
+    static void create(EmbeddedBrokerExtension kafka) {
         for (String topic : List.of(INPUT, "oddswatch-estimates", "oddswatch-alerts", "oddswatch-rejects")) {
             kafka.createTopic(topic, 1);
         }
     }
 
     /** Runs the packaged {@code simulate --topic} with the extra arguments; the number of records sent. */
-    static long simulate(EmbeddedKafka kafka, String... more) throws Exception {
+    static long simulate(EmbeddedBrokerExtension kafka, String... more) throws Exception {
         List<String> args = new java.util.ArrayList<>(List.of("simulate", "--topic", INPUT, "--bootstrap",
                 kafka.bootstrapServers()));
         args.addAll(List.of(more));

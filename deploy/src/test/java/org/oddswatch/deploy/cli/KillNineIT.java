@@ -22,8 +22,8 @@ import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.extension.RegisterExtension;
 import org.junit.jupiter.api.io.TempDir;
 import org.oddswatch.alerts.json.Json;
+import org.oddswatch.broker.EmbeddedBrokerExtension;
 import org.oddswatch.deploy.JarProcess;
-import org.oddswatch.ingest.kafka.EmbeddedKafka;
 
 /**
  * {@code kill -9} of the packaged service: the process is killed with SIGKILL as soon as it has
@@ -35,7 +35,7 @@ import org.oddswatch.ingest.kafka.EmbeddedKafka;
 class KillNineIT {
 
     @RegisterExtension
-    static final EmbeddedKafka KAFKA = new EmbeddedKafka(Map.of("log.retention.ms", "-1"));
+    static final EmbeddedBrokerExtension KAFKA = new EmbeddedBrokerExtension(Map.of("log.retention.ms", "-1"));
 
     @TempDir
     Path dir;

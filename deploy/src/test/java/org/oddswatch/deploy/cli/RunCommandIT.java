@@ -16,8 +16,8 @@ import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.extension.RegisterExtension;
 import org.junit.jupiter.api.io.TempDir;
 import org.oddswatch.alerts.json.Json;
+import org.oddswatch.broker.EmbeddedBrokerExtension;
 import org.oddswatch.deploy.JarProcess;
-import org.oddswatch.ingest.kafka.EmbeddedKafka;
 
 /**
  * The packaged jar against a real (embedded, single-node KRaft) broker: {@code simulate --topic}
@@ -28,7 +28,7 @@ class RunCommandIT {
 
     // the simulated dates lie in the past: keep the records however old their timestamps
     @RegisterExtension
-    static final EmbeddedKafka KAFKA = new EmbeddedKafka(Map.of("log.retention.ms", "-1"));
+    static final EmbeddedBrokerExtension KAFKA = new EmbeddedBrokerExtension(Map.of("log.retention.ms", "-1"));
 
     private static final String INPUT = ExampleTopics.INPUT;
     private static final Path EXAMPLE = ExampleTopics.EXAMPLE;

@@ -5,7 +5,7 @@ import java.util.stream.Collectors;
 
 /**
  * How a binomial proportion's interval is computed; {@link #label()} (also {@link #toString()}) is
- * the JSON label used in {@code prevalence.method} and the {@code prevalenceMethod} option.
+ * the JSON label used in {@code prevalence.method} and the {@code prevalenceInterval} option.
  */
 public enum BinomialIntervalMethod {
     /** Wilson (1927) score interval, the default. */

@@ -10,7 +10,7 @@ import org.oddswatch.estimator.result.StratumPrevalence;
 
 /**
  * Builds the prevalence parts of a window estimate from counts, as the {@link EstimatorOptions} say:
- * the interval method ({@code prevalenceMethod}), the level, and optional Rogan–Gladen adjustment
+ * the interval method ({@code prevalenceInterval}), the level, and optional Rogan–Gladen adjustment
  * (when both {@code sensitivity} and {@code specificity} are set).
  *
  * <p>Special cases: no events gives value and bounds null (with a note); 0 cases or all cases give
@@ -37,7 +37,7 @@ public final class Prevalence {
      *     sensitivity + specificity &lt;= 1
      */
     public static PrevalenceEstimate of(long events, long cases, EstimatorOptions options, Consumer<String> notes) {
-        BinomialIntervalMethod method = BinomialIntervalMethod.fromLabel(options.prevalenceMethod());
+        BinomialIntervalMethod method = BinomialIntervalMethod.fromLabel(options.prevalenceInterval());
         BinomialInterval interval = BinomialInterval.of(method, cases, events, options.level());
         if (!interval.isDefined()) {
             notes.accept("no events in the window: prevalence cannot be estimated");
@@ -60,7 +60,7 @@ public final class Prevalence {
             throw new IllegalArgumentException("term " + term + ": " + levels.size() + " levels but "
                     + stratumEvents.length + " event counts and " + stratumCases.length + " case counts");
         }
-        BinomialIntervalMethod method = BinomialIntervalMethod.fromLabel(options.prevalenceMethod());
+        BinomialIntervalMethod method = BinomialIntervalMethod.fromLabel(options.prevalenceInterval());
         List<StratumPrevalence> strata = new ArrayList<>(levels.size());
         for (int i = 0; i < levels.size(); i++) {
             BinomialInterval interval = BinomialInterval.of(method, stratumCases[i], stratumEvents[i],

@@ -23,7 +23,7 @@ class PrevalenceTest {
         assertEquals(wilson.upper(), p.upper());
         assertNull(p.adjusted());
         PrevalenceEstimate p90 = Prevalence.of(263, 81, EstimatorOptions.defaults().withLevel(0.90)
-                .withPrevalenceMethod("jeffreys"));
+                .withPrevalenceInterval("jeffreys"));
         assertEquals("jeffreys", p90.method());
         assertEquals(BinomialInterval.jeffreys(81, 263, 0.90).lower(), p90.lower());
     }
@@ -57,7 +57,7 @@ class PrevalenceTest {
     void strataFollowTheLevelOrderAndTolerateEmptyLevels() {
         List<StratumPrevalence> strata = Prevalence.strata("clinic", List.of("north", "south", "east"),
                 new long[] {100, 0, 40}, new long[] {12, 0, 40}, EstimatorOptions.defaults()
-                        .withPrevalenceMethod("clopper-pearson"));
+                        .withPrevalenceInterval("clopper-pearson"));
         assertEquals(3, strata.size());
         assertEquals("north", strata.get(0).level());
         assertEquals(0.12, strata.get(0).value(), 1e-15);
@@ -72,7 +72,7 @@ class PrevalenceTest {
     @Test
     void unknownMethodLabelIsAClearError() {
         IllegalArgumentException e = assertThrows(IllegalArgumentException.class,
-                () -> Prevalence.of(10, 1, EstimatorOptions.defaults().withPrevalenceMethod("agresti")));
+                () -> Prevalence.of(10, 1, EstimatorOptions.defaults().withPrevalenceInterval("agresti")));
         assertTrue(e.getMessage().contains("agresti"));
     }
 }

@@ -20,8 +20,8 @@ public record EstimateSpec(double level, String prevalenceInterval, String strat
     public EstimatorOptions options() {
         EstimatorOptions options = EstimatorOptions.defaults()
                 .withLevel(level)
-                .withPrevalenceMethod(prevalenceInterval)
-                .withStratumTerm(stratifyBy)
+                .withPrevalenceInterval(prevalenceInterval)
+                .withStratifyBy(stratifyBy)
                 .withMinEventsPerParameter(minEventsPerParameter)
                 .withProfileIntervals(profileIntervals);
         return sensitivity == null ? options : options.withTestAccuracy(sensitivity, specificity);

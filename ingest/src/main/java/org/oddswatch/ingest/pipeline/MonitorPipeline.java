@@ -73,11 +73,6 @@ public final class MonitorPipeline {
         return state == null ? Long.MIN_VALUE : state.watermark();
     }
 
-    /** The status of every stream, in monitor then creation order. */
-    public List<StreamStatus> streamStatus() {
-        return snapshot().streams();
-    }
-
     /**
      * Offers one record value: parses it once, then {@link #offerTree}; a value that is not one JSON
      * object within the limits goes to {@link #offerUnreadable} with its reason.

@@ -31,14 +31,6 @@ public record PipelineSettings(RecordLimits limits, ReplayHint replayHint, Basel
         return new PipelineSettings(limits, value, baselines, fromMillis, toMillis);
     }
 
-    public PipelineSettings withBaselines(BaselineSource value) {
-        return new PipelineSettings(limits, replayHint, value, fromMillis, toMillis);
-    }
-
-    public PipelineSettings withRange(Long from, Long to) {
-        return new PipelineSettings(limits, replayHint, baselines, from, to);
-    }
-
     boolean inRange(long time) {
         return (fromMillis == null || time >= fromMillis) && (toMillis == null || time < toMillis);
     }

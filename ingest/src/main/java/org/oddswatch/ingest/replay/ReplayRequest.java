@@ -21,18 +21,6 @@ public record ReplayRequest(Path config, Path input, Path out, InputFormat forma
         return new ReplayRequest(config, input, out, null, null, null, null);
     }
 
-    public ReplayRequest withRange(Instant start, Instant end) {
-        return new ReplayRequest(config, input, out, format, start, end, topic);
-    }
-
-    public ReplayRequest withFormat(InputFormat value) {
-        return new ReplayRequest(config, input, out, value, from, to, topic);
-    }
-
-    public ReplayRequest withTopic(String value) {
-        return new ReplayRequest(config, input, out, format, from, to, value);
-    }
-
     public InputFormat effectiveFormat() {
         return format != null ? format : InputFormat.of(input);
     }

@@ -116,7 +116,7 @@ class BaselineBuilderTest {
         }, PipelineSettings.defaults());
         EventFileReader.read(events, InputFormat.JSONL, new ReplayRunner.PipelineFeed(pipeline));
         pipeline.closeAll();
-        List<StreamStatus> streams = pipeline.streamStatus();
+        List<StreamStatus> streams = pipeline.snapshot().streams();
         assertEquals("frozen", streams.get(0).baseline());
         assertEquals(LATE, streams.get(0).counts().outcome(Outcome.LATE), "the late records are late in a replay");
         assertEquals(1L, streams.get(0).counts().reasons().get(RejectReason.TOO_FAR_IN_FUTURE));

@@ -221,6 +221,19 @@ class DefinitionLoaderTest {
     }
 
     @Test
+    void theOldNamesOfTheEstimateKeysSayWhichKeyReplacedThem() {
+        DefinitionException method = error(VALID.replace("    window: {width: P28D",
+                "    estimates: {prevalenceMethod: jeffreys}\n    window: {width: P28D"));
+        assertEquals("monitors.yaml:16: monitors[0].estimates.prevalenceMethod: this key is now called "
+                + "'prevalenceInterval'; write prevalenceInterval instead", method.getMessage());
+        DefinitionException stratum = error(VALID.replace("    window: {width: P28D",
+                "    estimates: {stratumTerm: age_band}\n    window: {width: P28D"));
+        assertEquals("monitors[0].estimates.stratumTerm", stratum.key());
+        assertEquals(16, stratum.line());
+        assertEquals("this key is now called 'stratifyBy'; write stratifyBy instead", stratum.problem());
+    }
+
+    @Test
     void baselinePeriodMustEndAfterItStarts() {
         DefinitionException e = error(VALID + "    baseline: {from: 2026-03-01T00:00:00Z, to: 2026-02-01T00:00:00Z}\n");
         assertEquals(23, e.line());

@@ -110,7 +110,7 @@ class ReplayRunnerTest {
                 new CategoricalTerm("age_band", BANDS, "18-39", UndeclaredLevelPolicy.MISSING, null, false),
                 new CategoricalTerm("sex", List.of("female", "male"), "female", UndeclaredLevelPolicy.REJECT, null,
                         false)));
-        WindowEstimator estimator = new WindowEstimator(coder, EstimatorOptions.defaults().withStratumTerm("age_band"));
+        WindowEstimator estimator = new WindowEstimator(coder, EstimatorOptions.defaults().withStratifyBy("age_band"));
         WindowGeometry geometry = new WindowGeometry(4 * WEEK, WEEK, START.toEpochMilli(), Duration.ofDays(1).toMillis());
         List<String> expected = new ArrayList<>();
         for (String region : List.of("north", "south")) {
@@ -210,7 +210,7 @@ class ReplayRunnerTest {
     /**
      * What a restart relies on: a stream that starts mid-way (as after re-reading from an offset)
      * gives bit-identical estimates from the second window whose data are complete on, because the
-     * warm start is rounded (StreamState.reproducibleStart) and so no longer carries the history.
+     * warm start is rounded (WindowCloser.reproducibleStart) and so no longer carries the history.
      */
     @Test
     void aStreamStartedMidWayAgreesFromItsSecondCompleteWindow() throws Exception {
@@ -358,8 +358,8 @@ class ReplayRunnerTest {
         ReplaySummary full = replay(input, "full");
         Instant from = START.plusMillis(7 * WEEK);
         Instant to = START.plusMillis(15 * WEEK);
-        ReplaySummary ranged = ReplayRunner.run(ReplayRequest.of(definition(), input, dir.resolve("range"))
-                .withRange(from, to));
+        ReplaySummary ranged = ReplayRunner.run(new ReplayRequest(definition(), input, dir.resolve("range"),
+                null, from, to, null));
         List<String> estimates = lines("range", ReplayRunner.ESTIMATES);
         List<String> alerts = lines("range", ReplayRunner.ALERTS);
         assertFalse(estimates.isEmpty());
@@ -390,7 +390,7 @@ class ReplayRunnerTest {
             Instant from = Instant.parse(args.get(args.indexOf("--from") + 1));
             Instant to = Instant.parse(args.get(args.indexOf("--to") + 1));
             assertEquals(input, file, "the command names the replayed file");
-            ReplayRunner.run(ReplayRequest.of(config, file, dir.resolve("again")).withRange(from, to));
+            ReplayRunner.run(new ReplayRequest(config, file, dir.resolve("again"), null, from, to, null));
             assertTrue(lines("again", ReplayRunner.ALERTS).contains(alert), "reproduced by " + command);
             assertEquals(inRange("full", ReplayRunner.ALERTS, from, to), lines("again", ReplayRunner.ALERTS));
         }

@@ -31,8 +31,8 @@ import org.apache.kafka.common.serialization.StringSerializer;
 import org.junit.jupiter.api.Tag;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.extension.RegisterExtension;
+import org.oddswatch.broker.EmbeddedBrokerExtension;
 import org.oddswatch.ingest.definition.MonitorConfig;
-import org.oddswatch.ingest.kafka.EmbeddedKafka;
 import org.oddswatch.ingest.pipeline.Outcome;
 import org.oddswatch.ingest.replay.ReplayRequest;
 import org.oddswatch.ingest.replay.ReplayRunner;
@@ -58,7 +58,7 @@ import org.oddswatch.ingest.replay.ReplayRunner;
 class IngestThroughputBenchmarkTest {
 
     @RegisterExtension
-    static final EmbeddedKafka KAFKA = new EmbeddedKafka();
+    static final EmbeddedBrokerExtension KAFKA = new EmbeddedBrokerExtension();
 
     private static final int EVENTS = Integer.getInteger("oddswatch.bench.events", 1_000_000);
     private static final int ROUNDS = 5;

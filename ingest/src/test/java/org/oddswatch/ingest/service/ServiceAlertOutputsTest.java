@@ -26,8 +26,8 @@ import java.util.regex.Matcher;
 import java.util.regex.Pattern;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.extension.RegisterExtension;
+import org.oddswatch.broker.EmbeddedBrokerExtension;
 import org.oddswatch.ingest.http.HttpEndpoints;
-import org.oddswatch.ingest.kafka.EmbeddedKafka;
 
 /**
  * The live service's alert outputs on a real broker: a drifting stream raises an odds-ratio alert,
@@ -37,7 +37,7 @@ import org.oddswatch.ingest.kafka.EmbeddedKafka;
 class ServiceAlertOutputsTest {
 
     @RegisterExtension
-    static final EmbeddedKafka KAFKA = new EmbeddedKafka();
+    static final EmbeddedBrokerExtension KAFKA = new EmbeddedBrokerExtension();
 
     private static final Duration WAIT = Duration.ofSeconds(90);
 

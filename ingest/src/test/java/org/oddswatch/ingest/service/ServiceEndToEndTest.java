@@ -10,9 +10,9 @@ import java.util.List;
 import java.util.Map;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.extension.RegisterExtension;
+import org.oddswatch.broker.EmbeddedBrokerExtension;
+import org.oddswatch.broker.TestBroker;
 import org.oddswatch.ingest.definition.MonitorConfig;
-import org.oddswatch.ingest.kafka.EmbeddedKafka;
-import org.oddswatch.ingest.kafka.TestBroker;
 import org.oddswatch.ingest.pipeline.Outcome;
 
 /**
@@ -22,7 +22,7 @@ import org.oddswatch.ingest.pipeline.Outcome;
 class ServiceEndToEndTest {
 
     @RegisterExtension
-    static final EmbeddedKafka KAFKA = new EmbeddedKafka();
+    static final EmbeddedBrokerExtension KAFKA = new EmbeddedBrokerExtension();
 
     @Test
     void finalEstimatesOnTheTopicEqualThoseOfAFileReplay() throws Exception {

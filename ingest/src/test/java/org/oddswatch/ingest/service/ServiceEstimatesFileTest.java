@@ -18,8 +18,8 @@ import java.util.TreeMap;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.extension.RegisterExtension;
 import org.junit.jupiter.api.io.TempDir;
+import org.oddswatch.broker.EmbeddedBrokerExtension;
 import org.oddswatch.ingest.definition.MonitorConfig;
-import org.oddswatch.ingest.kafka.EmbeddedKafka;
 import org.oddswatch.ingest.pipeline.Outcome;
 
 /**
@@ -30,7 +30,7 @@ import org.oddswatch.ingest.pipeline.Outcome;
 class ServiceEstimatesFileTest {
 
     @RegisterExtension
-    static final EmbeddedKafka KAFKA = new EmbeddedKafka();
+    static final EmbeddedBrokerExtension KAFKA = new EmbeddedBrokerExtension();
 
     private static final Duration WAIT = Duration.ofSeconds(90);
     private static final String[] REGIONS = {"north", "south", "east"};

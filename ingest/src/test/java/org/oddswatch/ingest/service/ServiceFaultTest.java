@@ -40,9 +40,9 @@ import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.extension.RegisterExtension;
 import org.junit.jupiter.params.ParameterizedTest;
 import org.junit.jupiter.params.provider.ValueSource;
+import org.oddswatch.broker.EmbeddedBrokerExtension;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.http.HttpEndpoints;
-import org.oddswatch.ingest.kafka.EmbeddedKafka;
 import org.oddswatch.ingest.kafka.KafkaOutputPublisher;
 import org.oddswatch.ingest.pipeline.Outcome;
 
@@ -55,7 +55,7 @@ import org.oddswatch.ingest.pipeline.Outcome;
 class ServiceFaultTest {
 
     @RegisterExtension
-    static final EmbeddedKafka KAFKA = new EmbeddedKafka();
+    static final EmbeddedBrokerExtension KAFKA = new EmbeddedBrokerExtension();
 
     private static final String NEVER = "P3650D";
     private static final Duration WAIT = Duration.ofSeconds(90);

@@ -14,9 +14,9 @@ import java.util.List;
 import java.util.Map;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.extension.RegisterExtension;
+import org.oddswatch.broker.EmbeddedBrokerExtension;
 import org.oddswatch.ingest.decode.RejectReason;
 import org.oddswatch.ingest.definition.MonitorConfig;
-import org.oddswatch.ingest.kafka.EmbeddedKafka;
 import org.oddswatch.ingest.pipeline.Outcome;
 
 /**
@@ -28,7 +28,7 @@ import org.oddswatch.ingest.pipeline.Outcome;
 class ServiceGapsAndTyposTest {
 
     @RegisterExtension
-    static final EmbeddedKafka KAFKA = new EmbeddedKafka();
+    static final EmbeddedBrokerExtension KAFKA = new EmbeddedBrokerExtension();
 
     private static final Instant HOLIDAY_FROM = Instant.parse("2026-03-02T00:00:00Z");
     private static final Instant HOLIDAY_TO = Instant.parse("2026-03-23T00:00:00Z");

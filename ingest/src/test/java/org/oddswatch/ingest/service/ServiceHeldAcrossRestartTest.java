@@ -11,13 +11,13 @@ import java.time.ZoneOffset;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.Map;
-import org.apache.kafka.clients.consumer.OffsetAndMetadata;
 import org.apache.kafka.clients.admin.Admin;
+import org.apache.kafka.clients.consumer.OffsetAndMetadata;
 import org.apache.kafka.common.TopicPartition;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.extension.RegisterExtension;
+import org.oddswatch.broker.EmbeddedBrokerExtension;
 import org.oddswatch.ingest.definition.MonitorConfig;
-import org.oddswatch.ingest.kafka.EmbeddedKafka;
 
 /**
  * A record held beyond its stream's time horizon (the first Monday event after a weekend) is in no
@@ -27,7 +27,7 @@ import org.oddswatch.ingest.kafka.EmbeddedKafka;
 class ServiceHeldAcrossRestartTest {
 
     @RegisterExtension
-    static final EmbeddedKafka KAFKA = new EmbeddedKafka();
+    static final EmbeddedBrokerExtension KAFKA = new EmbeddedBrokerExtension();
 
     private static final Instant START = Instant.parse("2026-01-05T00:00:00Z");
     /** The Monday after the second weekend: its first event is held until more Monday events confirm it. */

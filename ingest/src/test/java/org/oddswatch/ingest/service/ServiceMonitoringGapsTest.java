@@ -25,8 +25,8 @@ import java.util.regex.Matcher;
 import java.util.regex.Pattern;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.extension.RegisterExtension;
+import org.oddswatch.broker.EmbeddedBrokerExtension;
 import org.oddswatch.ingest.http.HttpEndpoints;
-import org.oddswatch.ingest.kafka.EmbeddedKafka;
 import org.oddswatch.ingest.pipeline.GapScenario;
 
 /**
@@ -38,7 +38,7 @@ import org.oddswatch.ingest.pipeline.GapScenario;
 class ServiceMonitoringGapsTest {
 
     @RegisterExtension
-    static final EmbeddedKafka KAFKA = new EmbeddedKafka();
+    static final EmbeddedBrokerExtension KAFKA = new EmbeddedBrokerExtension();
 
     private static final Duration WAIT = Duration.ofSeconds(60);
 

@@ -18,8 +18,8 @@ import java.util.TreeSet;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.extension.RegisterExtension;
 import org.oddswatch.alerts.metrics.OddswatchMeters;
+import org.oddswatch.broker.EmbeddedBrokerExtension;
 import org.oddswatch.ingest.definition.MonitorConfig;
-import org.oddswatch.ingest.kafka.EmbeddedKafka;
 import org.oddswatch.ingest.pipeline.Outcome;
 import org.oddswatch.ingest.pipeline.PipelineSnapshot;
 import org.oddswatch.ingest.pipeline.StreamStatus;
@@ -32,7 +32,7 @@ import org.oddswatch.ingest.pipeline.StreamStatus;
 class ServiceSeriesAndSmallCellsTest {
 
     @RegisterExtension
-    static final EmbeddedKafka KAFKA = new EmbeddedKafka();
+    static final EmbeddedBrokerExtension KAFKA = new EmbeddedBrokerExtension();
 
     private static final Duration WAIT = Duration.ofSeconds(90);
     private static final String NEVER = "P3650D";

@@ -21,9 +21,9 @@ import org.apache.kafka.clients.consumer.ConsumerRecord;
 import org.apache.kafka.clients.consumer.OffsetAndMetadata;
 import org.apache.kafka.common.TopicPartition;
 import org.oddswatch.alerts.json.Json;
+import org.oddswatch.broker.TestBroker;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.ingest.definition.MonitorConfig;
-import org.oddswatch.ingest.kafka.TestBroker;
 import org.oddswatch.ingest.output.OutputStage;
 import org.oddswatch.ingest.replay.ReplayRequest;
 import org.oddswatch.ingest.replay.ReplayRunner;
@@ -108,7 +108,7 @@ final class ServiceTestSupport {
             StringBuilder lines = new StringBuilder();
             events.forEach(e -> lines.append(e.text()).append('\n'));
             Files.writeString(input, lines, StandardCharsets.UTF_8);
-            ReplayRunner.run(config, ReplayRequest.of(null, input, dir.resolve("out")).withTopic(topic));
+            ReplayRunner.run(config, new ReplayRequest(null, input, dir.resolve("out"), null, null, null, topic));
             Map<String, String> out = new TreeMap<>();
             for (String json : Files.readAllLines(dir.resolve("out").resolve(ReplayRunner.ESTIMATES))) {
                 WindowEstimate estimate = Json.mapper().readValue(json, WindowEstimate.class);

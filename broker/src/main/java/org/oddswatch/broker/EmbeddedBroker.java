@@ -1,48 +1,57 @@
-package org.oddswatch.deploy.sandbox;
+package org.oddswatch.broker;
 
 import java.io.IOException;
 import java.lang.reflect.Field;
+import java.net.InetAddress;
+import java.net.ServerSocket;
 import java.nio.channels.ServerSocketChannel;
 import java.util.ArrayList;
-import java.util.Set;
-import java.util.TreeSet;
 import java.util.List;
 import java.util.Map;
 import java.util.Properties;
+import java.util.Set;
+import java.util.TreeSet;
 import java.util.concurrent.ExecutionException;
 import java.util.concurrent.TimeUnit;
+import java.util.concurrent.TimeoutException;
 import org.apache.kafka.clients.admin.Admin;
 import org.apache.kafka.clients.admin.AdminClientConfig;
 import org.apache.kafka.clients.admin.NewTopic;
 import org.apache.kafka.common.errors.TopicExistsException;
-import org.apache.kafka.common.network.ListenerName;
 import org.apache.kafka.common.test.KafkaClusterTestKit;
 import org.apache.kafka.common.test.PreboundSocketFactoryManager;
 import org.apache.kafka.common.test.TestKitNodes;
 
 /**
- * A single-node Kafka cluster inside this process for the sandbox: one node acting as KRaft
- * controller and broker, from Kafka's own test kit ({@link KafkaClusterTestKit}), internal topics
- * with replication factor 1, data in a temporary directory deleted on close.
+ * A single-node Kafka cluster inside this process, for the sandbox and for the Kafka tests: one node
+ * acting as KRaft controller and broker, from Kafka's own test kit ({@link KafkaClusterTestKit}),
+ * internal topics with replication factor 1, no time-based retention (records carry simulated, past
+ * event times as timestamps), data in a temporary directory deleted on close.
  *
  * <p>Both ports, the client listener and the controller's quorum listener, are bound to 127.0.0.1
  * only. The test kit reserves a port up front, on the wildcard address, for each of its two
  * listener names ({@code EXTERNAL} for clients, {@code CONTROLLER}) and hands that socket to the
  * node whatever {@code listeners} says; it opens a socket of its own, on the listener's configured
  * host, for a listener it reserved nothing for, and for one whose reserved socket has been closed
- * (then on the reserved port: its way of restarting a node on the same port). So the client
- * listener is named {@code LOOPBACK} (bound as configured: 127.0.0.1 and the requested port), and
- * before start-up the reserved sockets are closed ({@link #bindToLoopback}): the controller binds
- * 127.0.0.1 on its reserved port, and nothing listens on the wildcard address.
+ * (then on the reserved port). So the client listener is named {@code LOOPBACK} (bound as
+ * configured: 127.0.0.1 and a fixed port, chosen up front when 0 is asked for, so that
+ * {@link #restartBroker()} comes back on the same port), and before start-up the reserved sockets
+ * are closed ({@link #bindToLoopback}): the controller binds 127.0.0.1 on its reserved port, and
+ * nothing listens on the wildcard address.
+ *
+ * <p>Storage formatting reports one line per data directory on standard output ("Formatting ...");
+ * the kit offers no setting for that stream, and the lines are left as they are.
  */
 public final class EmbeddedBroker implements AutoCloseable {
 
-    private static final String CLIENT_LISTENER = "LOOPBACK";
+    static final String CLIENT_LISTENER = "LOOPBACK";
 
     private final KafkaClusterTestKit cluster;
+    private final int port;
 
-    private EmbeddedBroker(KafkaClusterTestKit cluster) {
+    private EmbeddedBroker(KafkaClusterTestKit cluster, int port) {
         this.cluster = cluster;
+        this.port = port;
     }
 
     /**
@@ -51,15 +60,25 @@ public final class EmbeddedBroker implements AutoCloseable {
      * @param port client port on 127.0.0.1, 0 for any free port
      */
     public static EmbeddedBroker start(int port) throws Exception {
+        return start(port, Map.of());
+    }
+
+    /**
+     * As {@link #start(int)}, with further broker settings (they replace the defaults of the same name).
+     *
+     * @param brokerSettings broker configuration, for instance {@code group.initial.rebalance.delay.ms}
+     */
+    public static EmbeddedBroker start(int port, Map<String, String> brokerSettings) throws Exception {
+        int clientPort = port == 0 ? freeLoopbackPort() : port;
         TestKitNodes nodes = new TestKitNodes.Builder()
                 .setCombined(true)
                 .setNumBrokerNodes(1)
                 .setNumControllerNodes(1)
                 .build();
-        KafkaClusterTestKit cluster = new KafkaClusterTestKit.Builder(nodes)
+        KafkaClusterTestKit.Builder builder = new KafkaClusterTestKit.Builder(nodes)
                 // The client listener has a name of its own, so the kit reserves no socket for it and
                 // the node binds exactly 127.0.0.1:port (see the class comment).
-                .setConfigProp("listeners", CLIENT_LISTENER + "://127.0.0.1:" + port + ",CONTROLLER://127.0.0.1:0")
+                .setConfigProp("listeners", CLIENT_LISTENER + "://127.0.0.1:" + clientPort + ",CONTROLLER://127.0.0.1:0")
                 .setConfigProp("listener.security.protocol.map", CLIENT_LISTENER + ":PLAINTEXT,CONTROLLER:PLAINTEXT")
                 .setConfigProp("inter.broker.listener.name", CLIENT_LISTENER)
                 .setConfigProp("offsets.topic.replication.factor", "1")
@@ -68,11 +87,10 @@ public final class EmbeddedBroker implements AutoCloseable {
                 .setConfigProp("transaction.state.log.min.isr", "1")
                 .setConfigProp("group.initial.rebalance.delay.ms", "0")
                 .setConfigProp("auto.create.topics.enable", "false")
-                .setConfigProp("num.partitions", "1")
-                .build();
-        // format() reports on System.out; keep the command's own output clean
-        java.io.PrintStream stdout = System.out;
-        System.setOut(new java.io.PrintStream(java.io.OutputStream.nullOutputStream()));
+                .setConfigProp("log.retention.ms", "-1")
+                .setConfigProp("num.partitions", "1");
+        brokerSettings.forEach(builder::setConfigProp);
+        KafkaClusterTestKit cluster = builder.build();
         try {
             bindToLoopback(cluster);
             cluster.format();
@@ -81,10 +99,15 @@ public final class EmbeddedBroker implements AutoCloseable {
         } catch (Exception e) {
             cluster.close();
             throw e;
-        } finally {
-            System.setOut(stdout);
         }
-        return new EmbeddedBroker(cluster);
+        return new EmbeddedBroker(cluster, clientPort);
+    }
+
+    /** A port free on 127.0.0.1 at the call (the broker binds it a moment later). */
+    private static int freeLoopbackPort() throws IOException {
+        try (ServerSocket socket = new ServerSocket(0, 1, InetAddress.getLoopbackAddress())) {
+            return socket.getLocalPort();
+        }
     }
 
     /**
@@ -111,8 +134,7 @@ public final class EmbeddedBroker implements AutoCloseable {
 
     /** The {@code bootstrap.servers} value for any Kafka client on this machine. */
     public String bootstrapServers() {
-        return "127.0.0.1:" + cluster.brokers().values().iterator().next()
-                .boundPort(ListenerName.normalised(CLIENT_LISTENER));
+        return "127.0.0.1:" + port;
     }
 
     /** The test kit's cluster (for tests that look at the nodes). */
@@ -142,11 +164,25 @@ public final class EmbeddedBroker implements AutoCloseable {
                     if (!(e.getCause() instanceof TopicExistsException)) {
                         throw e;
                     }
-                } catch (java.util.concurrent.TimeoutException e) {
+                } catch (TimeoutException e) {
                     throw new IllegalStateException("creating topic " + entry.getKey() + " timed out", e);
                 }
             }
         }
+    }
+
+    /**
+     * Shuts the broker down (the controller keeps running): clients lose every connection and the
+     * client port refuses them until {@link #restartBroker()}. Data and committed offsets are kept.
+     */
+    public void stopBroker() {
+        cluster.brokers().values().forEach(b -> b.shutdown());
+    }
+
+    /** Starts the broker stopped by {@link #stopBroker()} again on the same port and waits until it is ready. */
+    public void restartBroker() throws InterruptedException, ExecutionException {
+        cluster.brokers().values().forEach(b -> b.startup());
+        cluster.waitForReadyBrokers();
     }
 
     @Override

@@ -1,4 +1,4 @@
-package org.oddswatch.deploy.sandbox;
+package org.oddswatch.broker;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
@@ -16,7 +16,7 @@ import org.apache.kafka.common.network.ListenerName;
 import org.junit.jupiter.api.Test;
 
 /**
- * The sandbox broker listens on the loopback interface only: every listening TCP socket of this
+ * The embedded broker listens on the loopback interface only: every listening TCP socket of this
  * process on the broker's client and controller ports is bound to 127.0.0.1.
  */
 class EmbeddedBrokerLoopbackTest {
@@ -28,9 +28,10 @@ class EmbeddedBrokerLoopbackTest {
             requested = free.getLocalPort();
         }
         try (EmbeddedBroker broker = EmbeddedBroker.start(requested)) {
-            assertEquals("127.0.0.1:" + requested, broker.bootstrapServers(), "the requested client port is kept");
+            assertEquals("127.0.0.1:" + requested, broker.bootstrapServers());
             BrokerServer server = broker.cluster().brokers().values().iterator().next();
-            int client = server.boundPort(ListenerName.normalised("LOOPBACK"));
+            int client = server.boundPort(ListenerName.normalised(EmbeddedBroker.CLIENT_LISTENER));
+            assertEquals(requested, client, "the requested client port is kept");
             int controller = broker.cluster().controllers().values().iterator().next()
                     .socketServer().boundPort(ListenerName.normalised("CONTROLLER"));
             Map<Integer, List<String>> listening = listeningAddresses();

@@ -1,8 +1,9 @@
 package org.oddswatch.ingest.pipeline;
 
 /**
- * The event ids a stream still holds, each tagged with the bucket it was accepted in, for the
- * duplicate check. Not thread-safe.
+ * The dedupe window of one stream: the ids of the events its window store still holds, each tagged
+ * with the bucket it was accepted in, so that an id seen again while its bucket is held is a
+ * duplicate. Not thread-safe.
  *
  * <p>Invariant: an id is held if and only if it was added with tag {@code t >= floor}, where the
  * tag of an add is {@code max(bucket, floor at that time)} (an id added to a bucket already below
@@ -21,7 +22,7 @@ package org.oddswatch.ingest.pipeline;
  * rebuild costs amortised O(1) per add (at most a third of a re-insert and about five slot reads).
  * Memory: 16 to 32 bytes of slots per held id, besides the ids themselves.
  */
-final class HeldIds {
+final class DedupeWindow {
 
     private static final int MIN_CAPACITY = 16;
     private static final int EMPTY = 0;
@@ -36,7 +37,7 @@ final class HeldIds {
     private int used;
     private long floor = Long.MIN_VALUE + 1;
 
-    HeldIds() {
+    DedupeWindow() {
         allocate(MIN_CAPACITY);
     }
 

@@ -7,11 +7,30 @@ import org.oddswatch.ingest.definition.DefinitionException;
 import org.oddswatch.ingest.definition.DefinitionLoader;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.definition.MonitorDefinition;
+import picocli.CommandLine.Option;
 
-/** Loading a monitor definition named by {@code --config}, with errors as configuration errors (exit 2). */
-final class Definitions {
+/**
+ * The {@code --config} option of the commands that read a monitor definition (a picocli mixin), and
+ * its loading with errors as configuration errors (exit 2).
+ */
+final class DefinitionFile {
 
-    private Definitions() {
+    @Option(names = "--config", required = true, paramLabel = "FILE", description = "Monitor definition (YAML).")
+    Path path;
+
+    /**
+     * Loads the definition and prints its notices (for example a rule that runs because its section
+     * is not listed) to {@code err}, one {@code note:} line each.
+     */
+    MonitorConfig load(PrintWriter err) {
+        MonitorConfig loaded = load(path);
+        for (MonitorDefinition monitor : loaded.monitors()) {
+            for (String notice : monitor.notices()) {
+                err.println("note: " + path + ": monitor " + monitor.name() + ": " + notice);
+            }
+        }
+        err.flush();
+        return loaded;
     }
 
     static MonitorConfig load(Path config) {
@@ -23,21 +42,6 @@ final class Definitions {
         } catch (DefinitionException e) {
             throw UserError.config(e.getMessage(), e);
         }
-    }
-
-    /**
-     * Loads the definition and prints its notices (for example a rule that runs because its section
-     * is not listed) to {@code err}, one {@code note:} line each.
-     */
-    static MonitorConfig load(Path config, PrintWriter err) {
-        MonitorConfig loaded = load(config);
-        for (MonitorDefinition monitor : loaded.monitors()) {
-            for (String notice : monitor.notices()) {
-                err.println("note: " + config + ": monitor " + monitor.name() + ": " + notice);
-            }
-        }
-        err.flush();
-        return loaded;
     }
 
     static Path requireFile(Path file, String option) {

@@ -1,4 +1,4 @@
-package org.oddswatch.ingest.kafka;
+package org.oddswatch.broker;
 
 import java.time.Duration;
 import java.util.ArrayList;

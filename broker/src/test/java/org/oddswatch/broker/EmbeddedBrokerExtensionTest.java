@@ -1,4 +1,4 @@
-package org.oddswatch.ingest.kafka;
+package org.oddswatch.broker;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
@@ -11,11 +11,11 @@ import org.apache.kafka.clients.consumer.ConsumerRecord;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.extension.RegisterExtension;
 
-/** The fixture itself: a record produced to the embedded node comes back unchanged, in order. */
-class EmbeddedKafkaTest {
+/** The test extension itself: a record produced to the embedded node comes back unchanged, in order. */
+class EmbeddedBrokerExtensionTest {
 
     @RegisterExtension
-    static final EmbeddedKafka KAFKA = new EmbeddedKafka();
+    static final EmbeddedBrokerExtension KAFKA = new EmbeddedBrokerExtension();
 
     @Test
     void producedRecordsAreReadBackInOrder() throws Exception {

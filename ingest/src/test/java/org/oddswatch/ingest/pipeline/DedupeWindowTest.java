@@ -13,11 +13,11 @@ import java.util.Random;
 import java.util.TreeMap;
 import org.junit.jupiter.api.Test;
 
-class HeldIdsTest {
+class DedupeWindowTest {
 
     @Test
     void anIdHeldInAnyBucketAtOrAboveTheFloorIsADuplicate() {
-        HeldIds held = new HeldIds();
+        DedupeWindow held = new DedupeWindow();
         assertTrue(held.add("clinic-7/0001", 5));
         assertFalse(held.add("clinic-7/0001", 5));
         assertFalse(held.add("clinic-7/0001", 9), "a later bucket does not make it new");
@@ -31,7 +31,7 @@ class HeldIdsTest {
 
     @Test
     void anIdWhoseBucketExpiredIsAcceptedAgainAndThenHeldInItsNewBucket() {
-        HeldIds held = new HeldIds();
+        DedupeWindow held = new DedupeWindow();
         assertTrue(held.add("a", 3));
         assertTrue(held.add("b", 4));
         held.expireBefore(4);
@@ -49,7 +49,7 @@ class HeldIdsTest {
 
     @Test
     void anIdAddedBelowTheFloorIsHeldUntilTheFloorNextRises() {
-        HeldIds held = new HeldIds();
+        DedupeWindow held = new DedupeWindow();
         held.expireBefore(100);
         assertTrue(held.add("late-but-accepted", 40));
         assertFalse(held.add("late-but-accepted", 40));
@@ -61,7 +61,7 @@ class HeldIdsTest {
 
     @Test
     void aLowerFloorChangesNothing() {
-        HeldIds held = new HeldIds();
+        DedupeWindow held = new DedupeWindow();
         assertTrue(held.add("x", 20));
         held.expireBefore(21);
         held.expireBefore(0);
@@ -76,7 +76,7 @@ class HeldIdsTest {
         // Source: String.hashCode is s[0]*31^(n-1) + ... + s[n-1] (java.lang.String javadoc), so
         // 'A'*31+'a' = 65*31+97 = 2112 = 'B'*31+'B' = 66*31+66; checked here as a precondition.
         assertEquals("Aa".hashCode(), "BB".hashCode());
-        HeldIds held = new HeldIds();
+        DedupeWindow held = new DedupeWindow();
         assertTrue(held.add("Aa", 1));
         assertFalse(held.contains("BB"));
         assertTrue(held.add("BB", 2));
@@ -92,7 +92,7 @@ class HeldIdsTest {
     @Test
     void aWholeFamilyOfCollidingIdsSurvivesRebuilds() {
         List<String> family = collidingFamily(10); // 1024 ids, one hash code
-        HeldIds held = new HeldIds();
+        DedupeWindow held = new DedupeWindow();
         for (int i = 0; i < family.size(); i++) {
             assertTrue(held.add(family.get(i), i / 100));
         }
@@ -111,7 +111,7 @@ class HeldIdsTest {
         // "" hashes to 0 (the empty-slot mark) and "\u0001" to 1 (its stand-in): java.lang.String javadoc.
         assertEquals(0, "".hashCode());
         assertEquals(1, "\u0001".hashCode());
-        HeldIds held = new HeldIds();
+        DedupeWindow held = new DedupeWindow();
         assertTrue(held.add("", 7));
         assertFalse(held.add("", 7));
         assertFalse(held.contains("\u0001"));
@@ -123,7 +123,7 @@ class HeldIdsTest {
 
     @Test
     void removeUndoesAnAddAndIgnoresUnknownIds() {
-        HeldIds held = new HeldIds();
+        DedupeWindow held = new DedupeWindow();
         assertTrue(held.add("p", 1));
         held.remove("p");
         held.remove("never-added");
@@ -133,8 +133,8 @@ class HeldIdsTest {
     }
 
     @Test
-    void growsForManyHeldIdsAndShrinksAgainOnceTheyExpire() {
-        HeldIds held = new HeldIds();
+    void growsForManyIdsAndShrinksAgainOnceTheyExpire() {
+        DedupeWindow held = new DedupeWindow();
         for (int i = 0; i < 20_000; i++) {
             assertTrue(held.add("burst-" + i, 0));
         }
@@ -170,7 +170,7 @@ class HeldIdsTest {
         pool.addAll(collidingFamily(8));
         pool.add("");
         ReferenceModel model = new ReferenceModel();
-        HeldIds held = new HeldIds();
+        DedupeWindow held = new DedupeWindow();
         long frontier = 0;
         long floor = Long.MIN_VALUE;
         int maxCapacity = 0;

@@ -1,0 +1,149 @@
+package org.oddswatch.ingest.pipeline;
+
+import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.estimator.WindowEstimator;
+import org.oddswatch.estimator.result.WindowEstimate;
+import org.oddswatch.estimator.result.WindowStatus;
+import org.oddswatch.estimator.window.WindowGeometry;
+import org.oddswatch.estimator.window.WindowStore;
+
+/**
+ * Closes the windows of one stream: estimates each window as it becomes final, hands it to the
+ * stream's baseline and alert engine ({@link StreamBaseline#judge}), publishes the estimate and
+ * then its alerts, and drops the buckets (and their ids) no open window can use any more. Also
+ * estimates the open window on request (interim).
+ *
+ * <p>Windows are named by their end bucket {@code e} (the window covers buckets
+ * {@code e - k .. e - 1}, {@code k = width/step}). Every window ending at or before
+ * {@code newestFinalWindow} is final; only windows holding at least one event are estimated.
+ */
+final class WindowCloser {
+
+    private final String stream;
+    private final WindowEstimator estimator;
+    private final WindowGeometry geometry;
+    private final int bucketsPerWindow;
+    private final WindowStore store;
+    private final DedupeWindow dedupe;
+    private final StreamBaseline baseline;
+    private final PipelineListener listener;
+
+    /** The end bucket of the newest final window, or {@link Long#MIN_VALUE} before the first. */
+    private long newestFinalWindow = Long.MIN_VALUE;
+    private WindowEstimate lastFinal;
+    private double[] warmStart;
+    private long finalWindows;
+
+    WindowCloser(String stream, WindowEstimator estimator, WindowGeometry geometry, WindowStore store,
+                 DedupeWindow dedupe, StreamBaseline baseline, PipelineListener listener) {
+        this.stream = stream;
+        this.estimator = estimator;
+        this.geometry = geometry;
+        this.bucketsPerWindow = geometry.bucketsPerWindow();
+        this.store = store;
+        this.dedupe = dedupe;
+        this.baseline = baseline;
+        this.listener = listener;
+    }
+
+    /** The newest final estimate, or null. */
+    WindowEstimate lastFinal() {
+        return lastFinal;
+    }
+
+    long finalWindows() {
+        return finalWindows;
+    }
+
+    /**
+     * Makes every window ending at or before bucket {@code newFinal} final. Events before the start
+     * of bucket {@code newFinal} can no longer be accepted (their buckets' first windows are final),
+     * so the sequential rule may process them: it sees the same events in the same order whatever
+     * the arrival order within the allowed lateness.
+     */
+    void closeThrough(long newFinal, boolean suppress) {
+        if (newFinal > newestFinalWindow) {
+            baseline.beforeClosing(newFinal);
+            long end = newestFinalWindow == Long.MIN_VALUE ? Long.MIN_VALUE : newestFinalWindow + 1;
+            while (true) {
+                long held = store.oldestBucketFrom(end == Long.MIN_VALUE ? Long.MIN_VALUE : end - bucketsPerWindow);
+                if (held == Long.MAX_VALUE) {
+                    break;
+                }
+                end = Math.max(end, held + 1);
+                if (end > newFinal) {
+                    break;
+                }
+                closeWindow(end, suppress);
+                end++;
+            }
+            newestFinalWindow = newFinal;
+            store.expireBefore(newFinal + 1 - bucketsPerWindow);
+            dedupe.expireBefore(newFinal + 1 - bucketsPerWindow);
+            if (baseline.judging() && !suppress) {
+                listener.onCusum(stream, baseline.cusumReadings());
+            }
+        }
+    }
+
+    /** End of input: every window that holds events becomes final. */
+    void closeAll() {
+        long newest = store.bucketCount() == 0 ? newestFinalWindow : store.newestBucket();
+        closeThrough(newest + bucketsPerWindow, false);
+        if (baseline.judging()) {
+            listener.onCusum(stream, baseline.cusumReadings());
+        }
+    }
+
+    /** An interim estimate of the window holding the watermark, unless that window is final. */
+    void emitInterim(long watermark) {
+        if (watermark == Long.MIN_VALUE) {
+            return;
+        }
+        long end = geometry.bucketOf(watermark) + 1;
+        if (end <= newestFinalWindow) {
+            return;
+        }
+        WindowEstimate estimate = estimator.estimate(stream, geometry.windowStart(end), geometry.windowEnd(end),
+                WindowStatus.INTERIM, store.window(end - bucketsPerWindow, end), warmStart, baseline.model());
+        listener.onEstimate(estimate);
+    }
+
+    private void closeWindow(long end, boolean suppress) {
+        long fitStart = System.nanoTime(); // for the fit-duration meter only; never part of the output
+        WindowEstimate estimate = estimator.estimate(stream, geometry.windowStart(end), geometry.windowEnd(end),
+                WindowStatus.FINAL, store.window(end - bucketsPerWindow, end), warmStart, baseline.model());
+        long fitNanos = System.nanoTime() - fitStart;
+        warmStart = reproducibleStart(estimator.coefficientVector(estimate));
+        lastFinal = estimate;
+        finalWindows++;
+        StreamBaseline.Judged judged = baseline.judge(estimate);
+        // the estimate (with its chart values) before the window's alerts, as always
+        if (!suppress) {
+            listener.onEstimate(judged.published());
+            listener.onFinalFit(judged.published(), fitNanos);
+            for (Alert alert : judged.alerts()) {
+                listener.onAlert(alert);
+            }
+        }
+    }
+
+    /**
+     * The warm start for the next window: the coefficients rounded to single precision. A stream
+     * rebuilt after a restart re-estimates its older windows from partly re-read data, so their
+     * coefficients can differ from the uninterrupted run's in the last bits; rounding makes the next
+     * window start from exactly the same point (unless a coefficient sits within about 1e-16 of a
+     * rounding boundary), so its estimate is bit for bit the same. Newton converges from there in
+     * the same few steps.
+     */
+    static double[] reproducibleStart(double[] coefficients) {
+        if (coefficients == null) {
+            return null;
+        }
+        double[] start = new double[coefficients.length];
+        for (int j = 0; j < start.length; j++) {
+            start[j] = (float) coefficients[j];
+        }
+        return start;
+    }
+}
