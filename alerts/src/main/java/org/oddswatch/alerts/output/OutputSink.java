@@ -1,5 +1,6 @@
 package org.oddswatch.alerts.output;
 
+import java.util.List;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.estimator.result.WindowEstimate;
 
@@ -33,5 +34,44 @@ public interface OutputSink extends AutoCloseable {
     /** Releases resources; pending deliveries may finish within a short grace period. */
     @Override
     default void close() {
+    }
+
+    /**
+     * One sink handing every output to each of {@code sinks} in turn. Closing closes them all, then
+     * throws the first failure (a {@link RuntimeException}), if any.
+     */
+    static OutputSink all(OutputSink... sinks) {
+        List<OutputSink> each = List.of(sinks);
+        return new OutputSink() {
+            @Override
+            public void estimate(WindowEstimate estimate, Published published) {
+                each.forEach(sink -> sink.estimate(estimate, published));
+            }
+
+            @Override
+            public void alert(Alert alert, Published published) {
+                each.forEach(sink -> sink.alert(alert, published));
+            }
+
+            @Override
+            public void reject(Published reject, String messageJson) {
+                each.forEach(sink -> sink.reject(reject, messageJson));
+            }
+
+            @Override
+            public void close() {
+                RuntimeException failure = null;
+                for (OutputSink sink : each) {
+                    try {
+                        sink.close();
+                    } catch (RuntimeException e) {
+                        failure = failure == null ? e : failure;
+                    }
+                }
+                if (failure != null) {
+                    throw failure;
+                }
+            }
+        };
     }
 }

@@ -1,5 +1,6 @@
 package org.oddswatch.deploy.cli;
 
+import java.io.IOException;
 import java.io.PrintWriter;
 import java.nio.file.Path;
 import java.time.Instant;
@@ -58,6 +59,9 @@ final class BaselineCommand implements Callable<Integer> {
             + "10 events of the rarer outcome per coefficient); it is flagged weak wherever it is used.")
     boolean allowWeak;
 
+    @Mixin
+    ProgressOption progress;
+
     @Spec
     CommandSpec spec;
 
@@ -74,12 +78,12 @@ final class BaselineCommand implements Callable<Integer> {
         List<BuiltBaseline> built;
         if (input.file != null) {
             DefinitionFile.requireFile(input.file, "--input");
-            built = BaselineBuilder.build(definition, new BaselineRequest(input.file, inputFormat, from, to, out,
-                    monitor, pooled, allowWeak));
+            built = build(definition, new BaselineRequest(input.file, inputFormat, from, to, out, monitor, pooled,
+                    allowWeak), "baseline");
         } else {
             try (TopicSnapshot snapshot = TopicSnapshot.read(definition.kafka(), input.topic, null)) {
-                built = BaselineBuilder.build(definition, new BaselineRequest(snapshot.file(), InputFormat.JSONL, from,
-                        to, out, monitor, pooled, allowWeak));
+                built = build(definition, new BaselineRequest(snapshot.file(), InputFormat.JSONL, from, to, out,
+                        monitor, pooled, allowWeak), "baseline " + input.topic);
             }
         }
         PrintWriter w = spec.commandLine().getOut();
@@ -94,5 +98,12 @@ final class BaselineCommand implements Callable<Integer> {
                     + " baseline(s) not written (failed, or refused as weak: see --allow-weak)", null);
         }
         return 0;
+    }
+
+    private List<BuiltBaseline> build(MonitorConfig definition, BaselineRequest request, String task)
+            throws IOException {
+        try (ProgressMeter meter = progress.start(ProgressMeter.fileBytes(task, request.events()))) {
+            return BaselineBuilder.build(definition, request, meter);
+        }
     }
 }

@@ -49,6 +49,9 @@ final class ReplayCommand implements Callable<Integer> {
     @Mixin
     FormatOption format;
 
+    @Mixin
+    ProgressOption progress;
+
     @Spec
     CommandSpec spec;
 
@@ -62,7 +65,8 @@ final class ReplayCommand implements Callable<Integer> {
         ReplaySummary summary;
         if (input.file != null) {
             DefinitionFile.requireFile(input.file, "--input");
-            summary = replay(definition, new ReplayRequest(config.path, input.file, out, inputFormat, from, to, null));
+            summary = replay(definition, new ReplayRequest(config.path, input.file, out, inputFormat, from, to, null),
+                    "replay");
         } else {
             if (definition.monitorsFor(input.topic).isEmpty()) {
                 throw UserError.config("no monitor in " + config.path + " reads topic '" + input.topic + "'");
@@ -73,7 +77,7 @@ final class ReplayCommand implements Callable<Integer> {
                     .startMillis(from.toEpochMilli()));
             try (TopicSnapshot snapshot = TopicSnapshot.read(definition.kafka(), input.topic, readFrom)) {
                 summary = replay(definition, new ReplayRequest(config.path, snapshot.file(), out, InputFormat.JSONL, from,
-                        to, input.topic));
+                        to, input.topic), "replay " + input.topic);
             }
         }
         PrintWriter w = spec.commandLine().getOut();
@@ -96,9 +100,9 @@ final class ReplayCommand implements Callable<Integer> {
         return 0;
     }
 
-    private static ReplaySummary replay(MonitorConfig definition, ReplayRequest request) throws IOException {
-        try {
-            return ReplayRunner.run(definition, request);
+    private ReplaySummary replay(MonitorConfig definition, ReplayRequest request, String task) throws IOException {
+        try (ProgressMeter meter = progress.start(ProgressMeter.fileBytes(task, request.input()))) {
+            return ReplayRunner.run(definition, request, meter);
         } catch (IllegalArgumentException e) {
             // a frozen baseline that does not fit the definition, an unusable topic choice
             throw UserError.config(e.getMessage(), e);

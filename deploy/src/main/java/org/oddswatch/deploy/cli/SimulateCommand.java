@@ -74,6 +74,9 @@ final class SimulateCommand implements Callable<Integer> {
             description = "With --topic: simulated time runs this many times faster than real time (0 = as fast as possible). Default: ${DEFAULT-VALUE}.")
     double speed;
 
+    @Mixin
+    ProgressOption progress;
+
     @Spec
     CommandSpec spec;
 
@@ -89,14 +92,14 @@ final class SimulateCommand implements Callable<Integer> {
         if (target.topic != null) {
             return toTopic(s, out);
         }
-        long n = toFile(s, target.out, out);
+        long n = toFile(s, target.out);
         if (!"-".equals(target.out)) {
             out.println("wrote " + n + " records of scenario " + s.name() + " to " + target.out);
         }
         return 0;
     }
 
-    private static long toFile(Scenario s, String file, PrintWriter console) throws IOException {
+    private long toFile(Scenario s, String file) throws IOException {
         if ("-".equals(file)) {
             Writer w = new BufferedWriter(new OutputStreamWriter(System.out, StandardCharsets.UTF_8));
             long n = write(s.iterator(), w);
@@ -108,9 +111,21 @@ final class SimulateCommand implements Callable<Integer> {
         if (parent != null && !Files.isDirectory(parent)) {
             throw UserError.config("cannot write " + file + ": directory " + parent + " does not exist");
         }
-        try (Writer w = Files.newBufferedWriter(path, StandardCharsets.UTF_8)) {
-            return write(s.iterator(), w);
+        try (Writer w = Files.newBufferedWriter(path, StandardCharsets.UTF_8);
+             ProgressMeter meter = progress.start(ProgressMeter.records("simulate", expectedRecords(s)))) {
+            long n = write(meter.counting(s.iterator()), w);
+            meter.done();
+            return n;
         }
+    }
+
+    /**
+     * The mean number of records: clean events arrive as a Poisson process of {@code eventsPerWeek},
+     * and each is followed by a defective record with probability {@code defectShare}.
+     */
+    static long expectedRecords(Scenario s) {
+        double weeks = s.options().duration().toMillis() / (double) Duration.ofDays(7).toMillis();
+        return Math.max(1, Math.round(s.options().eventsPerWeek() * weeks * (1 + s.options().defectShare())));
     }
 
     private static long write(Iterator<ScenarioEvent> events, Writer w) throws IOException {
@@ -155,13 +170,18 @@ final class SimulateCommand implements Callable<Integer> {
         requireTopic(props, target.topic);
         SimulatedClock clock = new SimulatedClock(s.options().start(), speed);
         StopSignals signals = StopSignals.install();
-        try (TopicPublisher publisher = new TopicPublisher(props, target.topic)) {
+        try (TopicPublisher publisher = new TopicPublisher(props, target.topic);
+             ProgressMeter meter = progress.start(ProgressMeter.records("simulate " + target.topic,
+                     expectedRecords(s)))) {
             if (clock.paced()) {
                 out.println("sending scenario " + s.name() + " to " + target.topic + " at " + speed
                         + "x real time (the span takes about " + clock.realTimeOf(span).toSeconds() + " s)");
                 out.flush();
             }
-            long n = publisher.publish(s.iterator(), clock, signals::stopRequested);
+            long n = publisher.publish(meter.counting(s.iterator()), clock, signals::stopRequested);
+            if (!signals.stopRequested()) {
+                meter.done();
+            }
             out.println("sent " + n + " records of scenario " + s.name() + " to " + target.topic
                     + (signals.stopRequested() ? " (stopped early)" : ""));
         } finally {

@@ -7,6 +7,7 @@ import java.util.ArrayList;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
+import java.util.function.LongConsumer;
 import org.oddswatch.alerts.baseline.BaselineFile;
 import org.oddswatch.alerts.gaps.BaselineInformation;
 import org.oddswatch.estimator.WindowEstimator;
@@ -68,6 +69,12 @@ public final class BaselineBuilder {
      * @throws IOException when the events cannot be read or a file cannot be written
      */
     public static List<BuiltBaseline> build(MonitorConfig config, BaselineRequest request) throws IOException {
+        return build(config, request, bytes -> { });
+    }
+
+    /** As {@link #build(MonitorConfig, BaselineRequest)}, telling {@code bytesRead} each chunk read (progress). */
+    public static List<BuiltBaseline> build(MonitorConfig config, BaselineRequest request, LongConsumer bytesRead)
+            throws IOException {
         Map<String, Accumulator> accumulators = new LinkedHashMap<>();
         List<MonitorDefinition> monitors = new ArrayList<>();
         for (MonitorDefinition monitor : config.monitors()) {
@@ -98,7 +105,7 @@ public final class BaselineBuilder {
         MonitorPipeline pipeline = new MonitorPipeline(request.events().toString(), monitors, collector,
                 PipelineSettings.defaults().withLimits(config.limits()));
         EventFileReader.read(request.events(), request.format() == null ? InputFormat.of(request.events())
-                : request.format(), new ReplayRunner.PipelineFeed(pipeline));
+                : request.format(), new ReplayRunner.PipelineFeed(pipeline), bytesRead);
         Files.createDirectories(request.outDir());
         List<BuiltBaseline> built = new ArrayList<>();
         for (Accumulator accumulator : accumulators.values()) {

@@ -7,6 +7,7 @@ import com.fasterxml.jackson.databind.node.ObjectNode;
 import com.fasterxml.jackson.dataformat.csv.CsvMapper;
 import com.fasterxml.jackson.dataformat.csv.CsvParser;
 import java.io.ByteArrayOutputStream;
+import java.io.FilterInputStream;
 import java.io.IOException;
 import java.io.InputStream;
 import java.nio.ByteBuffer;
@@ -17,6 +18,7 @@ import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.List;
+import java.util.function.LongConsumer;
 import org.oddswatch.ingest.decode.RejectReason;
 
 /**
@@ -51,13 +53,31 @@ public final class EventFileReader {
     }
 
     public static void read(Path file, InputFormat format, RecordSink sink) throws IOException {
-        try (InputStream in = Files.newInputStream(file)) {
+        read(file, format, sink, bytes -> { });
+    }
+
+    /** As {@link #read(Path, InputFormat, RecordSink)}, telling {@code bytesRead} each chunk read (progress). */
+    public static void read(Path file, InputFormat format, RecordSink sink, LongConsumer bytesRead) throws IOException {
+        try (InputStream in = counting(Files.newInputStream(file), bytesRead)) {
             if (format == InputFormat.CSV) {
                 readCsv(in, sink);
             } else {
                 readJsonLines(in, sink);
             }
         }
+    }
+
+    private static InputStream counting(InputStream in, LongConsumer bytesRead) {
+        return new FilterInputStream(in) {
+            @Override
+            public int read(byte[] b, int off, int len) throws IOException {
+                int n = super.read(b, off, len);
+                if (n > 0) {
+                    bytesRead.accept(n);
+                }
+                return n;
+            }
+        };
     }
 
     private static void readJsonLines(InputStream in, RecordSink sink) throws IOException {

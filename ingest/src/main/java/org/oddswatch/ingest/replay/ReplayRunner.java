@@ -11,9 +11,11 @@ import java.util.ArrayList;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
+import java.util.function.LongConsumer;
 import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.output.CsvEstimatesSink;
 import org.oddswatch.alerts.output.JsonLinesSink;
 import org.oddswatch.alerts.output.OutputSink;
 import org.oddswatch.alerts.output.Published;
@@ -39,6 +41,7 @@ import org.oddswatch.ingest.pipeline.StreamStatus;
  * <ul>
  *   <li>{@code estimates.jsonl}: every final window estimate, one JSON object per line, small cells
  *       withheld as on the estimates topic ({@link PublishedEstimate});</li>
+ *   <li>{@code estimates.csv}: the same estimates as a table, a row per coefficient ({@link CsvEstimatesSink});</li>
  *   <li>{@code rejects.jsonl}: rejected and late records with their line number, reason and bytes;</li>
  *   <li>{@code alerts.jsonl}: alert messages in the order raised;</li>
  *   <li>{@code summary.json}: counts by outcome and reason, windows per stream;</li>
@@ -59,6 +62,7 @@ import org.oddswatch.ingest.pipeline.StreamStatus;
 public final class ReplayRunner {
 
     public static final String ESTIMATES = "estimates.jsonl";
+    public static final String ESTIMATES_CSV = "estimates.csv";
     public static final String REJECTS = "rejects.jsonl";
     public static final String ALERTS = "alerts.jsonl";
     public static final String SUMMARY = "summary.json";
@@ -78,6 +82,12 @@ public final class ReplayRunner {
 
     /** Runs with an already loaded definition. */
     public static ReplaySummary run(MonitorConfig config, ReplayRequest request) throws IOException {
+        return run(config, request, bytes -> { });
+    }
+
+    /** As {@link #run(MonitorConfig, ReplayRequest)}, telling {@code bytesRead} each chunk read (progress). */
+    public static ReplaySummary run(MonitorConfig config, ReplayRequest request, LongConsumer bytesRead)
+            throws IOException {
         if (!Files.isRegularFile(request.input())) {
             throw new IOException("input file " + request.input() + " does not exist");
         }
@@ -93,13 +103,14 @@ public final class ReplayRunner {
                         request.input().toString(), null));
         InputFormat format = request.effectiveFormat();
         Path out = request.out();
-        JsonLinesSink files = JsonLinesSink.replayFiles(out.resolve(ESTIMATES), out.resolve(ALERTS), out.resolve(REJECTS));
+        OutputSink files = OutputSink.all(JsonLinesSink.replayFiles(out.resolve(ESTIMATES), out.resolve(ALERTS),
+                out.resolve(REJECTS)), new CsvEstimatesSink(out.resolve(ESTIMATES_CSV)));
         ReportOutputs outputs = new ReportOutputs(new WindowRange(request.from(), request.to()), files);
         MonitorPipeline pipeline;
         try (files) {
             pipeline = new MonitorPipeline(request.input().toString(), monitors,
                     new OutputStage(monitors, monitor -> List.of(outputs)), settings);
-            EventFileReader.read(request.input(), format, new PipelineFeed(pipeline));
+            EventFileReader.read(request.input(), format, new PipelineFeed(pipeline), bytesRead);
             pipeline.closeAll();
         } catch (UncheckedIOException e) {
             throw e.getCause();
