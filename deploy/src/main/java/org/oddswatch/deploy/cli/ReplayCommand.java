@@ -24,7 +24,7 @@ import picocli.CommandLine.Model.CommandSpec;
 @Command(name = "replay", mixinStandardHelpOptions = true,
         description = {
             "Run past events through the monitor pipeline, time driven by the events, and write a report folder.",
-            "Writes estimates.jsonl (final windows), rejects.jsonl, alerts.jsonl, summary.json, report.md and "
+            "Writes estimates.jsonl (final windows), estimates.csv (the same as a table), rejects.jsonl, alerts.jsonl, summary.json, report.md and "
             + "report.html (charts; open it in a browser) into --out. The same definition and events give "
             + "byte-identical files. Every alert message carries the replay command that reproduces it. Prints what "
             + "was not monitored (a failed or weak baseline, a rule that did not run, windows a rule did not judge, a "
