@@ -28,10 +28,15 @@ final class ProgressMeter implements LongConsumer, AutoCloseable {
         this.bar = bar;
     }
 
-    /** A bar of the bytes of {@code file} read, shown in MB (10^6 bytes); its total is the file's size. */
+    /**
+     * A bar of the bytes of {@code file} read; its total is the file's size. Shown in kB (10^3 bytes)
+     * below 100 MB, else in MB (10^6 bytes), so that the amount moves in whole units.
+     */
     static ProgressBarBuilder fileBytes(String task, Path file) throws IOException {
-        return new ProgressBarBuilder().setTaskName(task).setInitialMax(Files.size(file)).setUnit(" MB", 1_000_000)
-                .showSpeed();
+        long size = Files.size(file);
+        boolean large = size >= 100_000_000L;
+        return new ProgressBarBuilder().setTaskName(task).setInitialMax(size)
+                .setUnit(large ? " MB" : " kB", large ? 1_000_000 : 1_000).showSpeed();
     }
 
     /** A bar of records, towards an expected count. */

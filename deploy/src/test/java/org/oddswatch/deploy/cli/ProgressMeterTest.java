@@ -63,7 +63,7 @@ class ProgressMeterTest {
         assertEquals(size, meter.total());
         assertEquals(size, meter.current());
         String last = drawn.get(drawn.size() - 1);
-        assertTrue(last.startsWith("replay") && last.contains("100%") && last.contains(" MB"), last);
+        assertTrue(last.startsWith("replay") && last.contains("100%") && last.contains(" kB"), last);
     }
 
     @Test
