@@ -9,9 +9,11 @@ import picocli.CommandLine.Option;
 
 /**
  * Whether a long command draws its progress ({@link ProgressMeter}): only on a terminal, and not with
- * {@code --hide-progress}. A terminal means {@link System#console()} exists (standard input and
- * output are terminals) and, where {@code /proc} tells, standard error is a terminal device too; so
- * a redirected or piped output, a script and a test see no progress text.
+ * {@code --hide-progress}. A terminal means {@link System#console()} exists (on Java 17: standard
+ * input and output are terminals) and, where {@code /proc} tells, standard output and standard
+ * error are terminal devices too (which also holds on later Java versions, whose console exists
+ * when the streams are redirected); so a redirected or piped output, a script and a test see no
+ * progress text.
  */
 final class ProgressOption {
 
@@ -25,15 +27,17 @@ final class ProgressOption {
     }
 
     static boolean onTerminal() {
-        if (System.console() == null) {
-            return false;
-        }
-        Path stderr = Path.of("/proc/self/fd/2");
-        if (!Files.exists(stderr, LinkOption.NOFOLLOW_LINKS)) {
+        return System.console() != null && terminalDevice(1) && terminalDevice(2);
+    }
+
+    /** True when file descriptor {@code fd} is a terminal device, or when {@code /proc} cannot tell. */
+    private static boolean terminalDevice(int fd) {
+        Path link = Path.of("/proc/self/fd/" + fd);
+        if (!Files.exists(link, LinkOption.NOFOLLOW_LINKS)) {
             return true;
         }
         try {
-            String device = Files.readSymbolicLink(stderr).toString();
+            String device = Files.readSymbolicLink(link).toString();
             return device.startsWith("/dev/pts/") || device.startsWith("/dev/tty");
         } catch (IOException | UnsupportedOperationException e) {
             return true;
