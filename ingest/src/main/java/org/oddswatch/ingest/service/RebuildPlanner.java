@@ -1,5 +1,6 @@
 package org.oddswatch.ingest.service;
 
+import java.io.IOException;
 import java.time.Duration;
 import java.time.Instant;
 import java.util.ArrayList;
@@ -8,36 +9,37 @@ import java.util.HashMap;
 import java.util.HashSet;
 import java.util.List;
 import java.util.Map;
+import java.util.Properties;
 import java.util.Set;
-import java.util.function.LongSupplier;
+import java.util.TreeSet;
+import java.util.function.Consumer;
+import org.apache.kafka.clients.consumer.ConsumerConfig;
 import org.apache.kafka.clients.consumer.ConsumerRecord;
 import org.apache.kafka.clients.consumer.KafkaConsumer;
 import org.apache.kafka.clients.consumer.OffsetAndMetadata;
 import org.apache.kafka.clients.consumer.OffsetAndTimestamp;
 import org.apache.kafka.common.TopicPartition;
 import org.apache.kafka.common.errors.TimeoutException;
+import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.definition.MonitorDefinition;
+import org.oddswatch.ingest.kafka.BoundedTopicReader;
 import org.oddswatch.ingest.pipeline.CusumHistory;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
 /**
- * Plans the rebuild of newly assigned partitions (window state lives only in memory): for each, the
- * committed offset {@code C} (none: the beginning, or the end with {@code auto.offset.reset=latest},
- * taking the wall clock as the record time), the timestamp {@code T} of the record at {@code C} (or
- * of the one before, when {@code C} is the end), and the offset of the first record at or after
- * {@link RebuildSpan#startMillis}{@code (T)}. The partition is sought there and re-read up to
- * {@code C} with output suppressed.
- *
- * <p>Before the re-read, each pipeline gets the published alerts of its monitors (open episodes go
- * on) and, from the final estimates published, the CUSUM values its charts resume from. Every
- * look-up is made before any state changes, so a look-up that fails (the broker away: a
+ * Plans the rebuild of newly assigned partitions (window state lives only in memory). For each: the
+ * committed offset {@code C} (none: the beginning, or with {@code auto.offset.reset=latest} the end,
+ * the wall clock standing in for the record time), the timestamp {@code T} of the record at {@code C}
+ * (or the one before, when {@code C} is the end), and the first offset at or after
+ * {@link RebuildSpan#startMillis}{@code (T)}, where the partition is sought and re-read up to
+ * {@code C} with output suppressed. Before the re-read each pipeline gets its monitors' published
+ * alerts (open episodes go on) and, from the published final estimates, the CUSUM values its charts
+ * resume from. Every look-up is made before any state changes, so a failed one (a
  * {@link org.apache.kafka.common.errors.RetriableException}) leaves the partitions paused and
- * {@code ASSIGNED}, to be planned again after a backoff. A partition goes {@code LIVE} once the
- * consumer position has reached {@code C} ({@link #finishDone}). Runs on the poll-loop thread, never
- * in a rebalance callback.
+ * {@code ASSIGNED}. Runs on the poll-loop thread, never in a rebalance callback.
  */
 final class RebuildPlanner {
 
@@ -47,29 +49,26 @@ final class RebuildPlanner {
     private final MonitorConfig config;
     private final KafkaConsumer<byte[], byte[]> consumer;
     private final KafkaConsumer<byte[], byte[]> lookup;
-    private final AlertArchive archive;
+    private final Properties readerProps;
     private final ServiceLoopMetrics meters;
     private final Duration timeout;
     private final boolean resetToLatest;
-    private final LongSupplier wallClockMillis;
     private final Map<String, RebuildSpan> spans = new HashMap<>();
 
     /**
      * @param lookup a consumer of its own (no group) that reads the record at a committed offset
+     * @param readerProps properties of the consumers that read the published alerts and estimates
      * @param timeout bound of each blocking look-up
-     * @param resetToLatest whether a partition without a commit starts at its end
      */
     RebuildPlanner(MonitorConfig config, KafkaConsumer<byte[], byte[]> consumer, KafkaConsumer<byte[], byte[]> lookup,
-                   AlertArchive archive, ServiceLoopMetrics meters, Duration timeout, boolean resetToLatest,
-                   LongSupplier wallClockMillis) {
+                   Properties readerProps, ServiceLoopMetrics meters, Duration timeout) {
         this.config = config;
         this.consumer = consumer;
         this.lookup = lookup;
-        this.archive = archive;
+        this.readerProps = readerProps;
         this.meters = meters;
         this.timeout = timeout;
-        this.resetToLatest = resetToLatest;
-        this.wallClockMillis = wallClockMillis;
+        this.resetToLatest = "latest".equalsIgnoreCase(config.kafka().get(ConsumerConfig.AUTO_OFFSET_RESET_CONFIG));
         for (String topic : config.topics()) {
             spans.put(topic, RebuildSpan.of(config.monitorsFor(topic), config.service().rebuildMargin()));
         }
@@ -107,7 +106,7 @@ final class RebuildPlanner {
                 recordMillis = recordTimestamp(tp, upTo, beginning.get(tp), end.get(tp));
             } else if (resetToLatest) {
                 upTo = end.get(tp);
-                recordMillis = wallClockMillis.getAsLong();
+                recordMillis = System.currentTimeMillis();
             } else {
                 upTo = beginning.get(tp);
                 recordMillis = null;
@@ -194,45 +193,50 @@ final class RebuildPlanner {
 
     /** The CUSUM values published with the final estimates of the pending partitions' monitors. */
     private CusumHistory publishedCharts(List<OwnedPartition> pending) {
-        Set<String> estimatesTopics = new HashSet<>();
+        Set<String> topics = new TreeSet<>();
         for (OwnedPartition p : pending) {
             for (MonitorDefinition monitor : config.monitorsFor(p.partition.topic())) {
                 if (monitor.rules() == null || monitor.rules().cusum() != null) {
-                    estimatesTopics.add(monitor.outputs().estimatesTopic());
+                    topics.add(monitor.outputs().estimatesTopic());
                 }
             }
         }
-        return estimatesTopics.isEmpty() ? new CusumHistory() : archive.readCharts(estimatesTopics);
+        CusumHistory history = new CusumHistory();
+        readBack(topics, r -> {
+            if (r.value() != null && !history.add(r.value())) {
+                LOG.warn("skipping unreadable estimate at {}-{}@{}", r.topic(), r.partition(), r.offset());
+            }
+        });
+        return history;
     }
 
     /** The published alerts of each pending partition's monitors. */
     private Map<OwnedPartition, List<Alert>> publishedAlerts(List<OwnedPartition> pending) {
-        Set<String> alertTopics = new HashSet<>();
-        for (OwnedPartition p : pending) {
-            for (MonitorDefinition monitor : config.monitorsFor(p.partition.topic())) {
-                alertTopics.add(monitor.outputs().alertsTopic());
+        Set<String> topics = new TreeSet<>();
+        pending.forEach(p -> config.monitorsFor(p.partition.topic()).forEach(m -> topics.add(m.outputs().alertsTopic())));
+        List<Alert> published = new ArrayList<>();
+        readBack(topics, r -> {
+            try {
+                published.add(Json.mapper().readValue(r.value(), Alert.class));
+            } catch (IOException | RuntimeException e) {
+                LOG.warn("skipping unreadable alert at {}-{}@{}: {}", r.topic(), r.partition(), r.offset(), e.getMessage());
             }
-        }
-        List<Alert> published = archive.read(alertTopics);
+        });
         Map<OwnedPartition, List<Alert>> out = new HashMap<>();
         for (OwnedPartition p : pending) {
-            List<Alert> mine = new ArrayList<>();
-            for (Alert alert : published) {
-                if (belongsTo(alert.stream(), config.monitorsFor(p.partition.topic()))) {
-                    mine.add(alert);
-                }
-            }
-            out.put(p, mine);
+            List<MonitorDefinition> monitors = config.monitorsFor(p.partition.topic());
+            out.put(p, published.stream().filter(a -> monitors.stream().anyMatch(m -> m.owns(a.stream()))).toList());
         }
         return out;
     }
 
-    private static boolean belongsTo(String stream, List<MonitorDefinition> monitors) {
-        for (MonitorDefinition monitor : monitors) {
-            if (stream.equals(monitor.name()) || stream.startsWith(monitor.name() + "/")) {
-                return true;
-            }
+    /** Every record of {@code topics}, from the beginning to the end offsets at the time of the read. */
+    private void readBack(Set<String> topics, Consumer<ConsumerRecord<byte[], byte[]>> sink) {
+        if (topics.isEmpty()) {
+            return;
         }
-        return false;
+        try (BoundedTopicReader reader = new BoundedTopicReader(readerProps, Duration.ofSeconds(30))) {
+            topics.forEach(topic -> reader.read(topic, null, sink));
+        }
     }
 }
