@@ -56,7 +56,7 @@ public final class KafkaOutputPublisher implements OutputSink {
 
     private final Producer<String, byte[]> producer;
     private final Map<String, OutputSpec> outputs;
-    /** Flushes on its own thread, so a wait for the acknowledgements stays bounded while the broker is away. */
+    /** Flushes on its own thread, so a wait for acknowledgements is bounded while the broker is away. */
     private final ExecutorService flusher = Executors.newSingleThreadExecutor(task -> {
         Thread thread = new Thread(task, "oddswatch-output-flush");
         thread.setDaemon(true);

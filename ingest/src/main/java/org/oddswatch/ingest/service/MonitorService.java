@@ -67,7 +67,6 @@ public final class MonitorService implements AutoCloseable {
         this.thread = new Thread(this::runLoop, "oddswatch-poll-" + instance);
     }
 
-    /** Starts the poll loop thread. */
     public MonitorService start() {
         thread.start();
         return this;

@@ -53,7 +53,6 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
     private static final long STATUS_NANOS = 200_000_000L;
     /** How often outputs are stored and offsets committed (also on revoke and stop). */
     private static final long COMMIT_INTERVAL_NANOS = 500_000_000L;
-    /** Longest wait for outputs to be stored and for a commit, per try. */
     private static final Duration MAX_BROKER_WAIT = Duration.ofSeconds(5);
 
     private final MonitorConfig config;
@@ -128,12 +127,10 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
                 long now = System.nanoTime();
                 advanceLifeCycles(now);
                 commitIfDue(now);
-                if (broker.checkConnection(now, assignedOnce)) {
-                    publishStatus();
-                }
+                boolean troubleChanged = broker.checkConnection(now, assignedOnce);
                 timers.tick(owned.values(), now, broker.inputPaused());
                 meters.ready(ready());
-                if (now - lastStatusNanos >= STATUS_NANOS) {
+                if (troubleChanged || now - lastStatusNanos >= STATUS_NANOS) {
                     publishStatus();
                 }
             }
@@ -329,16 +326,12 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
     }
 
     private boolean ready() {
-        if (!assignedOnce || closing || broker.trouble() != null) {
-            return false;
-        }
-        return owned.values().stream().allMatch(p -> p.is(Phase.LIVE));
+        return assignedOnce && !closing && broker.trouble() == null && owned.values().stream().allMatch(p -> p.is(Phase.LIVE));
     }
 
     private void publishStatus() {
         String reason = broker.trouble();
-        boolean ready = ready();
-        String state = ready ? "ready" : closing ? "stopped" : reason != null ? "waiting-for-broker" : "rebuilding";
+        String state = ready() ? "ready" : closing ? "stopped" : reason != null ? "waiting-for-broker" : "rebuilding";
         status.publish(owned.values(), state, reason, counts);
         lastStatusNanos = System.nanoTime();
     }

@@ -6,13 +6,13 @@ import java.time.Instant;
 import java.util.ArrayList;
 import java.util.Collection;
 import java.util.HashMap;
-import java.util.HashSet;
 import java.util.List;
 import java.util.Map;
 import java.util.Properties;
 import java.util.Set;
 import java.util.TreeSet;
 import java.util.function.Consumer;
+import java.util.stream.Collectors;
 import org.apache.kafka.clients.consumer.ConsumerConfig;
 import org.apache.kafka.clients.consumer.ConsumerRecord;
 import org.apache.kafka.clients.consumer.KafkaConsumer;
@@ -75,11 +75,10 @@ final class RebuildPlanner {
     }
 
     /**
-     * Looks up where each {@code ASSIGNED} partition of {@code owned} is rebuilt from, then restores
-     * their alerts and charts, seeks them and makes them {@code REBUILDING}. The partitions stay
-     * paused: the caller resumes them.
+     * Plans the {@code ASSIGNED} partitions of {@code owned} (see the class comment) and makes them
+     * {@code REBUILDING}; they stay paused for the caller to resume.
      *
-     * @return the partitions planned (none when none was pending)
+     * @return the partitions planned
      * @throws org.apache.kafka.common.errors.RetriableException when a look-up failed; nothing changed
      */
     List<TopicPartition> planPending(Collection<OwnedPartition> owned, long nowNanos) {
@@ -87,8 +86,7 @@ final class RebuildPlanner {
         if (pending.isEmpty()) {
             return List.of();
         }
-        Set<TopicPartition> tps = new HashSet<>();
-        pending.forEach(p -> tps.add(p.partition));
+        Set<TopicPartition> tps = pending.stream().map(p -> p.partition).collect(Collectors.toSet());
         Map<OwnedPartition, List<Alert>> alerts = publishedAlerts(pending);
         CusumHistory charts = publishedCharts(pending);
         Map<TopicPartition, OffsetAndMetadata> committed = consumer.committed(tps, timeout);
@@ -130,15 +128,11 @@ final class RebuildPlanner {
                 LOG.info("rebuilding {} from offset {} to {} ({})", tp, from, until.get(tp), spans.get(tp.topic()));
             }
         }
-        // every look-up answered: only now does state change
-        for (OwnedPartition p : pending) {
+        for (OwnedPartition p : pending) { // every look-up answered: only now does state change
             TopicPartition tp = p.partition;
             p.pipeline.restoreAlerts(alerts.get(p));
-            Long rereadFrom = startTimes.get(tp);
-            if (rereadFrom != null) {
-                // events at or after the re-read's start time are re-read (record time >= event time);
-                // charts of streams with a baseline file continue from a published window after it
-                p.pipeline.resumeCharts(charts, rereadFrom);
+            if (startTimes.containsKey(tp)) { // charts with a baseline file go on from a window after the start
+                p.pipeline.resumeCharts(charts, startTimes.get(tp));
             }
             consumer.seek(tp, seekTo.get(tp));
             p.rebuildPlanned(until.get(tp), nowNanos);
@@ -147,12 +141,7 @@ final class RebuildPlanner {
         return new ArrayList<>(tps);
     }
 
-    /**
-     * Makes the {@code REBUILDING} partitions of {@code owned} whose consumer position has reached
-     * the rebuild end (every record before it handled) {@code LIVE}.
-     *
-     * @return whether any partition went live
-     */
+    /** Makes {@code LIVE} the {@code REBUILDING} partitions whose position reached the rebuild end; true if any. */
     boolean finishDone(Collection<OwnedPartition> owned, long nowNanos) {
         boolean any = false;
         for (OwnedPartition p : owned) {
@@ -169,10 +158,7 @@ final class RebuildPlanner {
         return any;
     }
 
-    /**
-     * Timestamp of the record at {@code offset}, or of the one before it when {@code offset} is the
-     * end of the partition; null when the partition holds neither.
-     */
+    /** Timestamp of the record at {@code offset} (or before it, at the end); null when there is none. */
     private Long recordTimestamp(TopicPartition tp, long offset, long beginning, long end) {
         long target = offset < end ? offset : offset - 1;
         if (target < beginning || target >= end) {

@@ -9,7 +9,6 @@ import io.micrometer.core.instrument.Tag;
 import io.micrometer.core.instrument.Tags;
 import io.micrometer.core.instrument.Timer;
 import io.micrometer.core.instrument.binder.MeterBinder;
-import java.util.ArrayList;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
@@ -103,12 +102,8 @@ final class ServiceLoopMetrics implements MeterBinder {
 
     /** Records of one partition handled: live ones and ones re-read to rebuild state. */
     void handled(long liveRecords, long rebuildRecords) {
-        if (liveRecords > 0) {
-            live.increment(liveRecords);
-        }
-        if (rebuildRecords > 0) {
-            rebuild.increment(rebuildRecords);
-        }
+        live.increment(liveRecords);
+        rebuild.increment(rebuildRecords);
     }
 
     /** One commit that succeeded, storing the outputs included (ns). */
@@ -141,8 +136,7 @@ final class ServiceLoopMetrics implements MeterBinder {
                 }
             }
         }
-        List<MultiGauge.Row<?>> rows = new ArrayList<>(values.size());
-        values.forEach((series, value) -> rows.add(MultiGauge.Row.of(series, value)));
-        gaps.register(rows, true);
+        gaps.register(values.entrySet().stream().<MultiGauge.Row<?>>map(e -> MultiGauge.Row.of(e.getKey(), e.getValue()))
+                .toList(), true);
     }
 }
