@@ -56,7 +56,7 @@ final class TopicSnapshot implements AutoCloseable {
                 parts.put(tp.partition(), part);
                 writers.put(tp.partition(), Files.newBufferedWriter(part, StandardCharsets.UTF_8));
             }
-            count = reader.read(topic, from == null ? null : from.toEpochMilli(), null, r -> write(writers, r));
+            count = reader.read(topic, from == null ? null : from.toEpochMilli(), r -> write(writers, r));
         } finally {
             for (Writer w : writers.values()) {
                 w.close();

@@ -4,7 +4,6 @@ import com.sun.net.httpserver.HttpExchange;
 import com.sun.net.httpserver.HttpServer;
 import io.micrometer.prometheusmetrics.PrometheusMeterRegistry;
 import java.io.IOException;
-import java.io.OutputStream;
 import java.net.InetSocketAddress;
 import java.nio.charset.StandardCharsets;
 import java.util.Map;
@@ -17,27 +16,17 @@ import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
 /**
- * The service's three read-only HTTP endpoints, served by the JDK's built-in server on one small
- * thread pool:
- * <ul>
- *   <li>{@code GET /metrics}: Prometheus text exposition of the meter registry;</li>
- *   <li>{@code GET /health}: 200 {@code {"status":"ready"}} once state is rebuilt, otherwise 503
- *       {@code {"status":"rebuilding"}} (also while starting and once stopping; {@code /status}
- *       tells these apart);</li>
- *   <li>{@code GET /status}: the JSON of the status supplier (streams, last final windows, counts, lag).</li>
- * </ul>
- * Other paths answer 404, other methods 405.
+ * The service's read-only HTTP endpoints on the JDK's built-in server: {@code GET /metrics}
+ * (Prometheus text), {@code GET /health} (200 {@code {"status":"ready"}} once state is rebuilt, else
+ * 503 {@code {"status":"rebuilding"}}) and {@code GET /status} (the status supplier as JSON). Other
+ * paths answer 404, other methods 405.
  *
- * <p>A client that opens a connection and never finishes its request must not hold up the probes.
- * The JDK server reads a request on one of the executor's threads with no read timeout of its own,
- * so the endpoints run {@value #WORKERS} threads and bound the time a request and a response may
- * take through the server's documented system properties {@code sun.net.httpserver.maxReqTime}
- * and {@code sun.net.httpserver.maxRspTime} (seconds; the {@code jdk.httpserver} module
- * description lists them), set here to {@value #MAX_REQUEST_SECONDS} and
- * {@value #MAX_RESPONSE_SECONDS} s unless given on the command line: a stalled connection is closed
- * after at most that time, and a probe gets a free thread at once while fewer than
- * {@value #WORKERS} connections stall. The server reads the properties once, when it is first
- * used in the JVM, so they are set before the first server is created.
+ * <p>The JDK server reads a request on an executor thread with no read timeout of its own, so a
+ * client that never finishes its request holds a thread. The endpoints run {@value #WORKERS} threads
+ * and, unless the command line sets them, bound a request to {@value #MAX_REQUEST_SECONDS} s and a
+ * response to {@value #MAX_RESPONSE_SECONDS} s through the server's system properties
+ * {@code sun.net.httpserver.maxReqTime} and {@code maxRspTime} (see the {@code jdk.httpserver}
+ * module description), which it reads once, when first used.
  */
 public final class HttpEndpoints implements AutoCloseable {
 
@@ -48,25 +37,22 @@ public final class HttpEndpoints implements AutoCloseable {
     static final int WORKERS = 8;
     /** Longest time to receive a request's line and headers, in seconds. */
     static final int MAX_REQUEST_SECONDS = 2;
-    /** Longest time to send a response, in seconds (a /metrics scrape of a large registry included). */
+    /** Longest time to send a response (a large /metrics scrape included), in seconds. */
     static final int MAX_RESPONSE_SECONDS = 30;
 
     static {
-        boundRequestTimes();
+        setUnlessGiven("sun.net.httpserver.maxReqTime", Integer.toString(MAX_REQUEST_SECONDS));
+        setUnlessGiven("sun.net.httpserver.maxRspTime", Integer.toString(MAX_RESPONSE_SECONDS));
+        setUnlessGiven("sun.net.httpserver.timerMillis", "250"); // how often the limits are checked
     }
 
-    /** Sets the JDK server's request and response time limits unless the command line gave them. */
-    static void boundRequestTimes() {
-        if (System.getProperty("sun.net.httpserver.maxReqTime") == null) {
-            System.setProperty("sun.net.httpserver.maxReqTime", Integer.toString(MAX_REQUEST_SECONDS));
+    private static void setUnlessGiven(String property, String value) {
+        if (System.getProperty(property) == null) {
+            System.setProperty(property, value);
         }
-        if (System.getProperty("sun.net.httpserver.maxRspTime") == null) {
-            System.setProperty("sun.net.httpserver.maxRspTime", Integer.toString(MAX_RESPONSE_SECONDS));
-        }
-        // How often the server checks the limits (milliseconds; 1000 by default).
-        if (System.getProperty("sun.net.httpserver.timerMillis") == null) {
-            System.setProperty("sun.net.httpserver.timerMillis", "250");
-        }
+    }
+
+    private record Reply(int status, String contentType, String body) {
     }
 
     private final HttpServer server;
@@ -81,9 +67,8 @@ public final class HttpEndpoints implements AutoCloseable {
      * Binds and starts the endpoints.
      *
      * @param address where to listen; port 0 picks a free port (see {@link #port()})
-     * @param registry the registry scraped by {@code /metrics}
      * @param ready whether state rebuild has finished
-     * @param status the object rendered as JSON by {@code /status}
+     * @param status the object {@code /status} renders as JSON
      */
     public static HttpEndpoints start(InetSocketAddress address, PrometheusMeterRegistry registry, BooleanSupplier ready,
                                       Supplier<?> status) throws IOException {
@@ -112,23 +97,22 @@ public final class HttpEndpoints implements AutoCloseable {
      */
     public static InetSocketAddress parseAddress(String hostPort) {
         int colon = hostPort.lastIndexOf(':');
-        if (colon <= 0 || colon == hostPort.length() - 1) {
-            throw new IllegalArgumentException("HTTP address must be host:port, got '" + hostPort + "'");
-        }
-        String host = hostPort.substring(0, colon);
-        if (host.startsWith("[") && host.endsWith("]")) {
-            host = host.substring(1, host.length() - 1);
-        }
         int port;
         try {
             port = Integer.parseInt(hostPort.substring(colon + 1));
         } catch (NumberFormatException e) {
+            port = -1;
+            colon = 0;
+        }
+        if (colon <= 0) {
             throw new IllegalArgumentException("HTTP address must be host:port, got '" + hostPort + "'");
         }
         if (port < 0 || port > 65535) {
             throw new IllegalArgumentException("HTTP port out of range in '" + hostPort + "'");
         }
-        return new InetSocketAddress(host, port);
+        String host = hostPort.substring(0, colon);
+        boolean bracketed = host.startsWith("[") && host.endsWith("]");
+        return new InetSocketAddress(bracketed ? host.substring(1, host.length() - 1) : host, port);
     }
 
     /** The bound port (useful after binding port 0). */
@@ -146,20 +130,14 @@ public final class HttpEndpoints implements AutoCloseable {
         executor.shutdownNow();
     }
 
-    private record Reply(int status, String contentType, String body) {
-    }
-
-    private interface ReplySource {
-        Reply get();
-    }
-
-    private static void respond(HttpExchange exchange, ReplySource source) throws IOException {
+    private static void respond(HttpExchange exchange, Supplier<Reply> source) throws IOException {
         try (exchange) {
-            Reply reply;
             String path = exchange.getRequestURI().getPath();
+            boolean head = "HEAD".equals(exchange.getRequestMethod());
+            Reply reply;
             if (!path.equals(exchange.getHttpContext().getPath())) {
                 reply = new Reply(404, JSON, Json.write(Map.of("error", "not found: " + path)));
-            } else if (!"GET".equals(exchange.getRequestMethod()) && !"HEAD".equals(exchange.getRequestMethod())) {
+            } else if (!head && !"GET".equals(exchange.getRequestMethod())) {
                 reply = new Reply(405, JSON, Json.write(Map.of("error", "only GET is served")));
                 exchange.getResponseHeaders().add("Allow", "GET, HEAD");
             } else {
@@ -172,12 +150,9 @@ public final class HttpEndpoints implements AutoCloseable {
             }
             byte[] body = reply.body().getBytes(StandardCharsets.UTF_8);
             exchange.getResponseHeaders().add("Content-Type", reply.contentType());
-            boolean head = "HEAD".equals(exchange.getRequestMethod());
             exchange.sendResponseHeaders(reply.status(), head ? -1 : body.length);
             if (!head) {
-                try (OutputStream out = exchange.getResponseBody()) {
-                    out.write(body);
-                }
+                exchange.getResponseBody().write(body);
             }
         }
     }

@@ -2,19 +2,24 @@ package org.oddswatch.ingest.kafka;
 
 import java.nio.charset.StandardCharsets;
 import java.time.Duration;
-import java.util.HashMap;
+import java.util.ArrayDeque;
+import java.util.Deque;
 import java.util.List;
 import java.util.Map;
 import java.util.Properties;
+import java.util.concurrent.ExecutionException;
 import java.util.concurrent.ExecutorService;
 import java.util.concurrent.Executors;
-import java.util.concurrent.RejectedExecutionException;
+import java.util.concurrent.Future;
 import java.util.concurrent.TimeUnit;
-import java.util.concurrent.atomic.AtomicBoolean;
+import java.util.concurrent.TimeoutException;
 import java.util.concurrent.atomic.AtomicLong;
+import java.util.concurrent.atomic.AtomicReference;
+import java.util.stream.Collectors;
 import org.apache.kafka.clients.producer.KafkaProducer;
 import org.apache.kafka.clients.producer.Producer;
 import org.apache.kafka.clients.producer.ProducerRecord;
+import org.apache.kafka.clients.producer.RecordMetadata;
 import org.apache.kafka.common.InvalidRecordException;
 import org.apache.kafka.common.errors.RecordBatchTooLargeException;
 import org.apache.kafka.common.errors.RecordTooLargeException;
@@ -28,25 +33,19 @@ import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 import org.oddswatch.ingest.definition.OutputSpec;
 import org.oddswatch.ingest.output.OutputStage;
-import org.oddswatch.ingest.pipeline.RejectedRecord;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
 /**
- * Sends outputs, as the {@link OutputStage} published them, to the output topics of their monitor
- * with one idempotent producer ({@code enable.idempotence=true}, {@code acks=all}): estimates to
- * {@code outputs.estimatesTopic}, alerts to {@code outputs.alertsTopic}, rejects (as messages cut to
- * fit, see {@link OutputStage}) to {@code outputs.rejectsTopic}, each with the stage's key.
- * Sends are asynchronous and never throw. {@link #awaitStored(Duration)} waits, for at most the
- * given time, until every output sent so far is acknowledged, so the caller commits input offsets
- * only after every output of those inputs is stored. Two kinds of failure are told apart:
+ * Sends the {@link OutputStage}'s outputs, with its keys, to their monitor's
+ * {@code outputs.estimatesTopic}, {@code alertsTopic} and {@code rejectsTopic} (rejects as the
+ * message cut to fit) through one idempotent producer. Sends are asynchronous and never throw;
+ * sending and {@link #awaitStored} belong to one thread. A failure is one of two kinds:
  * <ul>
- *   <li>the broker refuses one record for what it is (too large, invalid): that output is logged by
- *       topic and key, counted ({@link #refused()}) and skipped; it would fail again on every try,
- *       and one output must not stop the service;</li>
- *   <li>any other failure (timeouts, an unreachable or missing topic, authorization): the output is
- *       lost to the producer, {@link #storeFailure()} names it, and the caller must produce the
- *       outputs since its last commit again (the service rebuilds from the commit).</li>
+ *   <li>the broker refuses the record for what it is (too large, invalid): logged by topic and key,
+ *       counted ({@link #refused()}) and skipped, since it would fail on every try;</li>
+ *   <li>any other (timeout, missing topic, authorization): the output is lost, {@link #storeFailure()}
+ *       names it, and the caller must produce the outputs since its last commit again.</li>
  * </ul>
  */
 public final class KafkaOutputPublisher implements OutputSink {
@@ -56,28 +55,21 @@ public final class KafkaOutputPublisher implements OutputSink {
     public static final int REJECT_VALUE_LIMIT = OutputStage.REJECT_VALUE_LIMIT;
 
     private final Producer<String, byte[]> producer;
-    private final List<MonitorDefinition> monitors;
-    private final Map<String, OutputSpec> outputs = new HashMap<>();
-    private final ExecutorService flusher;
-    private final Object lock = new Object();
-    private long pending; // guarded by lock
-    private Exception storeFailure; // guarded by lock
+    private final Map<String, OutputSpec> outputs;
+    /** Flushes on its own thread, so a wait for acknowledgements is bounded while the broker is away. */
+    private final ExecutorService flusher = Executors.newSingleThreadExecutor(task -> {
+        Thread thread = new Thread(task, "oddswatch-output-flush");
+        thread.setDaemon(true);
+        return thread;
+    });
+    private final Deque<Future<RecordMetadata>> unacknowledged = new ArrayDeque<>();
+    private final AtomicReference<Exception> storeFailure = new AtomicReference<>();
     private final AtomicLong refused = new AtomicLong();
-    private final AtomicBoolean flushing = new AtomicBoolean();
+    private Future<?> flush;
 
     public KafkaOutputPublisher(Properties producerProps, List<MonitorDefinition> monitors) {
-        this(new KafkaProducer<>(producerProps, new StringSerializer(), new ByteArraySerializer()), monitors);
-    }
-
-    KafkaOutputPublisher(Producer<String, byte[]> producer, List<MonitorDefinition> monitors) {
-        this.producer = producer;
-        this.monitors = List.copyOf(monitors);
-        monitors.forEach(monitor -> outputs.put(monitor.name(), monitor.outputs()));
-        this.flusher = Executors.newSingleThreadExecutor(task -> {
-            Thread thread = new Thread(task, "oddswatch-output-flush");
-            thread.setDaemon(true);
-            return thread;
-        });
+        this.producer = new KafkaProducer<>(producerProps, new StringSerializer(), new ByteArraySerializer());
+        this.outputs = monitors.stream().collect(Collectors.toMap(MonitorDefinition::name, MonitorDefinition::outputs, (a, b) -> b));
     }
 
     public Producer<String, byte[]> producer() {
@@ -100,68 +92,45 @@ public final class KafkaOutputPublisher implements OutputSink {
     }
 
     /**
-     * Waits until every output sent so far is acknowledged or has failed, for at most {@code wait}
-     * (the producer is flushed on its own thread meanwhile, so the wait is bounded even while the
-     * broker is away).
+     * Flushes the producer and waits, at most {@code wait}, until every output sent so far is
+     * acknowledged or has failed.
      *
      * @return true when nothing is outstanding (see {@link #storeFailure()} for failed ones)
      */
     public boolean awaitStored(Duration wait) {
-        if (flushing.compareAndSet(false, true)) {
-            try {
-                flusher.execute(() -> {
-                    try {
-                        producer.flush();
-                    } catch (RuntimeException e) {
-                        LOG.debug("producer flush: {}", e.toString());
-                    } finally {
-                        flushing.set(false);
-                    }
-                });
-            } catch (RejectedExecutionException e) {
-                flushing.set(false);
-            }
+        if (flush == null || flush.isDone()) {
+            flush = flusher.submit(producer::flush);
         }
         long deadline = System.nanoTime() + wait.toNanos();
-        synchronized (lock) {
-            while (pending > 0) {
-                long left = deadline - System.nanoTime();
-                if (left <= 0) {
-                    return false;
-                }
-                try {
-                    TimeUnit.NANOSECONDS.timedWait(lock, left);
-                } catch (InterruptedException e) {
-                    Thread.currentThread().interrupt();
-                    return false;
-                }
+        for (Future<RecordMetadata> sent; (sent = unacknowledged.peek()) != null; unacknowledged.poll()) {
+            try {
+                sent.get(deadline - System.nanoTime(), TimeUnit.NANOSECONDS);
+            } catch (ExecutionException e) {
+                // the send's callback has classified the failure already
+            } catch (TimeoutException e) {
+                return false;
+            } catch (InterruptedException e) {
+                Thread.currentThread().interrupt();
+                return false;
             }
-            return true;
         }
+        return true;
     }
 
     /** Outputs sent and not acknowledged yet. */
     public long pending() {
-        synchronized (lock) {
-            return pending;
-        }
+        unacknowledged.removeIf(Future::isDone);
+        return unacknowledged.size();
     }
 
-    /**
-     * The first failure since the last {@link #clearStoreFailure()} that lost an output which must
-     * be produced again (not a refused record), or null.
-     */
+    /** The first failure since {@link #clearStoreFailure()} that lost an output (not a refused one), or null. */
     public Exception storeFailure() {
-        synchronized (lock) {
-            return storeFailure;
-        }
+        return storeFailure.get();
     }
 
-    /** Forgets the store failure once the caller has arranged for the lost outputs to be produced again. */
+    /** Forgets the store failure once the lost outputs are arranged to be produced again. */
     public void clearStoreFailure() {
-        synchronized (lock) {
-            storeFailure = null;
-        }
+        storeFailure.set(null);
     }
 
     /** Outputs the broker refused for what they are (too large, invalid), skipped since start. */
@@ -170,39 +139,23 @@ public final class KafkaOutputPublisher implements OutputSink {
     }
 
     private void send(String topic, String key, String json) {
-        synchronized (lock) {
-            pending++;
-        }
         try {
-            producer.send(new ProducerRecord<>(topic, key, json.getBytes(StandardCharsets.UTF_8)),
-                    (metadata, exception) -> completed(topic, key, exception));
+            unacknowledged.add(producer.send(new ProducerRecord<>(topic, key, json.getBytes(StandardCharsets.UTF_8)),
+                    (metadata, exception) -> completed(topic, key, exception)));
         } catch (RuntimeException e) {
-            // For instance a missing output topic (the metadata wait of max.block.ms passed) or a
-            // closed producer.
-            completed(topic, key, e);
+            completed(topic, key, e); // a missing topic (max.block.ms passed) or a closed producer
         }
     }
 
     private void completed(String topic, String key, Exception exception) {
-        if (exception != null && refusedForItself(exception)) {
+        if (exception instanceof RecordTooLargeException || exception instanceof RecordBatchTooLargeException
+                || exception instanceof InvalidRecordException || exception instanceof SerializationException) {
             refused.incrementAndGet();
             LOG.error("the broker refused the output to {} with key {} ({}); it is skipped", topic, key,
                     exception.toString());
-            exception = null;
+        } else if (exception != null) {
+            storeFailure.compareAndSet(null, exception);
         }
-        synchronized (lock) {
-            pending--;
-            if (exception != null && storeFailure == null) {
-                storeFailure = exception;
-            }
-            lock.notifyAll();
-        }
-    }
-
-    /** A failure caused by the record itself, which would recur on every try. */
-    private static boolean refusedForItself(Exception e) {
-        return e instanceof RecordTooLargeException || e instanceof RecordBatchTooLargeException
-                || e instanceof InvalidRecordException || e instanceof SerializationException;
     }
 
     @Override

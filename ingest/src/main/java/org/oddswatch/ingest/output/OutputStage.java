@@ -19,25 +19,16 @@ import org.oddswatch.ingest.pipeline.RecordOrigin;
 import org.oddswatch.ingest.pipeline.RejectedRecord;
 
 /**
- * The one place where the pipeline's outputs leave it, the same for the live service and for a
- * replay: each estimate, alert and reject is assigned to its monitor, written as JSON once under
- * that monitor's small-cell rule ({@link PublishedEstimate}, {@link PublishedAlert}) and handed to
- * the monitor's sinks in their order (topics, files, the log, a webhook).
- * <ul>
- *   <li>estimates: key {@code <stream>|<windowEnd RFC 3339>}; an interim and the final estimate of
- *       a window share the key, so a compacted topic keeps the final one;</li>
- *   <li>alerts: key the alert id;</li>
- *   <li>rejects: key {@code <topic>/<partition>/<offset>} of the source record ({@code line/<n>}
- *       in a file), given whole and as a message that fits the producer's default
- *       {@code max.request.size} of 1 MiB: a value longer than {@value #REJECT_VALUE_LIMIT} bytes is
- *       cut at the last whole UTF-8 character before it ({@code valueTruncated: true},
- *       {@code valueBytes}: the original length) and a detail longer than
- *       {@value #REJECT_DETAIL_LIMIT} characters is cut likewise. A reject no monitor could tell
- *       apart (the record could not be read at all) goes to the first monitor of its source topic,
- *       so nothing is lost.</li>
- * </ul>
- * A stream's monitor is found by {@link MonitorDefinition#ofStream}. The stage does not close its
- * sinks: whoever made them does.
+ * Where the pipeline's outputs leave it, the same for the live service and for a replay: each
+ * estimate, alert and reject is assigned to its monitor, written as JSON once under that monitor's
+ * small-cell rule ({@link PublishedEstimate}, {@link PublishedAlert}) and handed to the monitor's
+ * sinks in order. Keys: an estimate {@code <stream>|<windowEnd>} (interim and final share it, so a
+ * compacted topic keeps the final one); an alert its id; a reject the {@code <topic>/<partition>/<offset>}
+ * of its record ({@code line/<n>} in a file). A reject also comes as a message that fits the
+ * producer's default 1 MiB request: a value over {@value #REJECT_VALUE_LIMIT} bytes is cut at the
+ * last whole UTF-8 character ({@code valueTruncated: true}, {@code valueBytes}: the original length),
+ * a detail over {@value #REJECT_DETAIL_LIMIT} characters likewise. A reject no monitor claims goes to
+ * the first monitor of its source topic. The stage does not close its sinks.
  */
 public final class OutputStage implements PipelineListener {
 
@@ -70,9 +61,7 @@ public final class OutputStage implements PipelineListener {
         MonitorDefinition monitor = MonitorDefinition.ofStream(monitors, estimate.stream());
         Published published = new Published(monitor.name(), estimateKey(estimate),
                 PublishedEstimate.json(estimate, monitor.outputs().smallCells()));
-        for (OutputSink sink : sinks.get(monitor.name())) {
-            sink.estimate(estimate, published);
-        }
+        sinks.get(monitor.name()).forEach(sink -> sink.estimate(estimate, published));
     }
 
     @Override
@@ -80,9 +69,7 @@ public final class OutputStage implements PipelineListener {
         MonitorDefinition monitor = MonitorDefinition.ofStream(monitors, alert.stream());
         Published published = new Published(monitor.name(), alert.id(),
                 PublishedAlert.json(alert, monitor.outputs().smallCells()));
-        for (OutputSink sink : sinks.get(monitor.name())) {
-            sink.alert(alert, published);
-        }
+        sinks.get(monitor.name()).forEach(sink -> sink.alert(alert, published));
     }
 
     @Override
@@ -93,23 +80,13 @@ public final class OutputStage implements PipelineListener {
                 : origin.topic() + "/" + origin.partition() + "/" + origin.offset();
         Published whole = new Published(monitor.name(), key, Json.write(rejected.toJson()));
         String message = messageJson(rejected, whole.json());
-        for (OutputSink sink : sinks.get(monitor.name())) {
-            sink.reject(whole, message);
-        }
+        sinks.get(monitor.name()).forEach(sink -> sink.reject(whole, message));
     }
 
     private MonitorDefinition monitorOf(RejectedRecord rejected) {
-        for (MonitorDefinition monitor : monitors) {
-            if (monitor.name().equals(rejected.monitor())) {
-                return monitor;
-            }
-        }
-        for (MonitorDefinition monitor : monitors) {
-            if (monitor.topic().equals(rejected.origin().topic())) {
-                return monitor;
-            }
-        }
-        return monitors.get(0);
+        return monitors.stream().filter(m -> m.name().equals(rejected.monitor())).findFirst()
+                .or(() -> monitors.stream().filter(m -> m.topic().equals(rejected.origin().topic())).findFirst())
+                .orElse(monitors.get(0));
     }
 
     /** The reject cut to fit one message, or {@code whole} when nothing is too long. */

@@ -1,10 +1,9 @@
 package org.oddswatch.ingest.service;
 
 /**
- * One kind of broker operation of the poll loop (storing outputs and committing, or looking up
- * where to rebuild from) that failed and is tried again with exponential backoff: the n-th retry
- * after n failures in a row waits {@code min(max, first * 2^(n-1))}. While it fails, the service is
- * not ready and {@link #reason()} says why; one success resets it.
+ * A kind of broker operation that failed and is tried again with exponential backoff: after
+ * {@code n} failures in a row the next try waits {@code min(max, first * 2^(n-1))}. One success
+ * ends the run of failures.
  */
 final class BrokerRetry {
 
@@ -20,32 +19,23 @@ final class BrokerRetry {
         this.maxNanos = maxNanos;
     }
 
-    /** Whether the operation may be tried at {@code nowNanos}: no failure pending, or its backoff has passed. */
+    /** Whether the operation may be tried at {@code nowNanos}: not failing, or its backoff has passed. */
     boolean due(long nowNanos) {
         return failures == 0 || nowNanos - nextNanos >= 0;
     }
 
-    /**
-     * Records a failure.
-     *
-     * @return true for the first failure of a run (the caller logs it once)
-     */
+    /** @return true for the first failure of a run (the caller logs it once) */
     boolean failed(String why, long nowNanos) {
-        if (failures == 0) {
+        if (failures++ == 0) {
             sinceNanos = nowNanos;
         }
-        failures++;
         long delay = firstNanos << Math.min(failures - 1, 20);
         nextNanos = nowNanos + Math.min(maxNanos, delay < 0 ? maxNanos : delay);
         reason = why;
         return failures == 1;
     }
 
-    /**
-     * Records a success.
-     *
-     * @return nanoseconds since the first failure of the run that just ended, or -1 when none failed
-     */
+    /** @return nanoseconds since the first failure of the run that just ended, or -1 when none failed */
     long succeeded(long nowNanos) {
         if (failures == 0) {
             return -1;
@@ -64,7 +54,7 @@ final class BrokerRetry {
         return failures > 0;
     }
 
-    /** Why the last try failed, or null when the operation is not failing. */
+    /** Why the last try failed, or null when not failing. */
     String reason() {
         return reason;
     }

@@ -1,36 +1,26 @@
 package org.oddswatch.ingest.service;
 
 import java.time.Duration;
-import java.util.ArrayList;
 import java.util.EnumMap;
-import java.util.List;
 import java.util.Map;
 import org.apache.kafka.clients.consumer.KafkaConsumer;
-import org.apache.kafka.common.Metric;
-import org.apache.kafka.common.MetricName;
 import org.apache.kafka.common.TopicPartition;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
 /**
- * Watches the poll loop's broker operations and its connection, and pauses input while any fails.
- * Each {@link Operation} that fails is tried again with exponential backoff ({@link BrokerRetry});
- * meanwhile every owned partition is paused (what would be applied only adds outputs that cannot be
- * stored), the service is not ready and {@link #trouble()} names the reason for {@code /status}. Once
- * no operation fails, the partitions with a rebuild plan are resumed.
- *
- * <p>The connection: while the consumer has no broker connection for {@code brokerWait} (at the
- * start: twice the look-up timeout, at most 10 s), that is a failure too. At the start it is logged
- * once as an error and retried quietly (input is not paused: nothing is assigned yet). When a
- * connection is back, the commit and the look-ups waiting for the broker are tried at once, not after
- * their backoff.
+ * Watches the poll loop's broker operations. An {@link Operation} that fails is tried again with
+ * backoff ({@link BrokerRetry}); meanwhile every owned partition is paused (what would be applied
+ * adds only outputs that cannot be stored), the service is not ready and {@link #trouble()} says why.
+ * Once nothing fails, the partitions with a rebuild plan are resumed. No broker connection for
+ * {@code brokerWait} (at the start: twice the look-up timeout, at most 10 s) is a failure too; at the
+ * start it is logged once as an error and input is not paused (nothing is assigned). When a
+ * connection is back, the commit and the look-ups are tried at once.
  */
 final class BrokerWatch {
 
     private static final Logger LOG = LoggerFactory.getLogger(BrokerWatch.class);
-    /** Longest wait at the start for a broker connection before the loop says the broker is unreachable. */
     private static final long MAX_START_WAIT_NANOS = 10_000_000_000L;
-    /** Longest backoff between tries of a failing broker operation. */
     private static final long MAX_BACKOFF_NANOS = 30_000_000_000L;
 
     /** The broker operations of the poll loop, in the order {@link #trouble()} reports them. */
@@ -47,7 +37,7 @@ final class BrokerWatch {
     private long noConnectionSinceNanos;
 
     /**
-     * @param owned the loop's partitions (read, not changed: paused and resumed as a whole)
+     * @param owned the loop's partitions (paused and resumed here, not changed)
      * @param firstBackoffNanos the first wait before a failed operation is tried again
      */
     BrokerWatch(KafkaConsumer<byte[], byte[]> consumer, Map<TopicPartition, OwnedPartition> owned,
@@ -86,13 +76,8 @@ final class BrokerWatch {
         }
         if (inputPaused && trouble() == null) {
             inputPaused = false;
-            List<TopicPartition> planned = new ArrayList<>();
-            for (OwnedPartition p : owned.values()) {
-                if (!p.is(OwnedPartition.Phase.ASSIGNED)) {
-                    planned.add(p.partition);
-                }
-            }
-            consumer.resume(planned);
+            consumer.resume(owned.values().stream().filter(p -> !p.is(OwnedPartition.Phase.ASSIGNED))
+                    .map(p -> p.partition).toList());
         }
     }
 
@@ -103,27 +88,21 @@ final class BrokerWatch {
 
     /** Why the broker is being waited for (the first failing operation), or null. */
     String trouble() {
-        for (BrokerRetry retry : retries.values()) {
-            if (retry.failing()) {
-                return retry.reason();
-            }
-        }
-        return null;
+        return retries.values().stream().filter(BrokerRetry::failing).map(BrokerRetry::reason).findFirst().orElse(null);
     }
 
     /**
-     * Checks the consumer's broker connections (see the class comment).
+     * Checks the consumer's broker connections (its {@code connection-count} metric).
      *
-     * @param assignedOnce whether partitions were ever assigned (else the longer start limit applies)
-     * @return true when the trouble changed (the status should show it now)
+     * @param assignedOnce whether partitions were ever assigned (else the start limit applies)
+     * @return true when the trouble changed
      */
     boolean checkConnection(long nowNanos, boolean assignedOnce) {
         Double connections = connectionCount();
+        BrokerRetry connection = retries.get(Operation.CONNECTION);
         if (connections == null) {
             return false;
-        }
-        BrokerRetry connection = retries.get(Operation.CONNECTION);
-        if (connections > 0) {
+        } else if (connections > 0) {
             noConnectionSinceNanos = 0;
             if (!connection.failing()) {
                 return false;
@@ -136,8 +115,7 @@ final class BrokerWatch {
         if (noConnectionSinceNanos == 0) {
             noConnectionSinceNanos = nowNanos;
         }
-        long limit = assignedOnce ? brokerWaitNanos : startWaitNanos;
-        if (nowNanos - noConnectionSinceNanos < limit || connection.failing()) {
+        if (nowNanos - noConnectionSinceNanos < (assignedOnce ? brokerWaitNanos : startWaitNanos) || connection.failing()) {
             return false;
         }
         String reason = "no connection to any Kafka broker at " + bootstrapServers + " for "
@@ -152,14 +130,10 @@ final class BrokerWatch {
         return true;
     }
 
-    /** The consumer's {@code connection-count} metric, or null when the client has none. */
     private Double connectionCount() {
-        for (Map.Entry<MetricName, ? extends Metric> e : consumer.metrics().entrySet()) {
-            if (e.getKey().name().equals("connection-count") && e.getKey().group().equals("consumer-metrics")) {
-                Object value = e.getValue().metricValue();
-                return value instanceof Number n ? n.doubleValue() : null;
-            }
-        }
-        return null;
+        return consumer.metrics().entrySet().stream()
+                .filter(e -> e.getKey().name().equals("connection-count") && e.getKey().group().equals("consumer-metrics"))
+                .findFirst().map(e -> e.getValue().metricValue() instanceof Number n ? n.doubleValue() : null)
+                .orElse(null);
     }
 }

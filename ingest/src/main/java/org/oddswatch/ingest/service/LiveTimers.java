@@ -4,7 +4,6 @@ import java.time.Duration;
 import java.util.Collection;
 import java.util.HashMap;
 import java.util.Map;
-import java.util.function.LongSupplier;
 import org.oddswatch.ingest.pipeline.MonitorPipeline;
 import org.oddswatch.ingest.pipeline.StreamStatus;
 import org.slf4j.Logger;
@@ -12,16 +11,15 @@ import org.slf4j.LoggerFactory;
 
 /**
  * The poll loop's two wall-clock timers, for {@code LIVE} partitions only (a rebuild re-reads the
- * past, where the wall clock means nothing):
+ * past, where the wall clock means nothing); a zero or absent duration turns a timer off:
  * <ul>
- * <li>refresh: every {@code refresh} an interim estimate of every stream's open window (not while
+ * <li>refresh: every {@code refresh}, an interim estimate of every stream's open window (not while
  *     input is paused for the broker: it could not be stored);</li>
  * <li>idle timeout: a stream whose watermark has not moved for {@code idleTimeout} of wall-clock
  *     time gets its watermark moved to the wall clock, closing its windows up to there (checked once
- *     a second). A zero or absent duration turns a timer off.</li>
+ *     a second).</li>
  * </ul>
- * The results of the rules never read the wall clock; only these timers decide when a quiet
- * stream's window is closed.
+ * The rules never read the wall clock; only these timers decide when a quiet stream's window closes.
  */
 final class LiveTimers {
 
@@ -30,16 +28,14 @@ final class LiveTimers {
 
     private final Duration refresh;
     private final Duration idle;
-    private final LongSupplier wallClockMillis;
     /** Per stream: the watermark last seen and when (nanoTime) it was first seen at that value. */
     private final Map<String, long[]> activity = new HashMap<>();
     private long lastRefreshNanos = System.nanoTime();
     private long lastIdleCheckNanos;
 
-    LiveTimers(Duration refresh, Duration idle, LongSupplier wallClockMillis) {
+    LiveTimers(Duration refresh, Duration idle) {
         this.refresh = refresh;
         this.idle = idle;
-        this.wallClockMillis = wallClockMillis;
     }
 
     /** Runs the timers that are due over the live partitions of {@code owned}. */
@@ -78,7 +74,7 @@ final class LiveTimers {
                 seen[0] = watermark;
                 seen[1] = nowNanos;
             } else if (nowNanos - seen[1] >= idle.toNanos()) {
-                long wall = wallClockMillis.getAsLong();
+                long wall = System.currentTimeMillis();
                 if (wall > watermark) {
                     LOG.info("stream {} idle for {}: watermark moved to the wall clock", stream.stream(), idle);
                     pipeline.advanceWatermark(stream.stream(), wall);

@@ -12,35 +12,29 @@ import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
 /**
- * One input partition this instance owns: its pipeline (the streams keyed to the partition), where
- * it stands in its life cycle, and the offsets to commit. Used by the poll-loop thread only.
- *
- * <p>Life cycle, every transition made here:
+ * One input partition this instance owns: its pipeline, its life cycle and the offsets to commit.
+ * Used by the poll-loop thread only. Life cycle, every transition made here:
  * <pre>
  *   ASSIGNED --{@link #rebuildPlanned}--&gt; REBUILDING --{@link #reachedRebuildEnd}--&gt; LIVE
  * </pre>
- * {@link Phase#ASSIGNED}: just assigned, paused, no position yet (the rebuild look-ups are pending or
- * wait for the broker). {@link Phase#REBUILDING}: sought back, records below {@link #rebuildUntil}
- * re-read with output suppressed (state only). {@link Phase#LIVE}: the consumer position has reached
- * the rebuild end; every record is live. A partition that leaves (revoked, lost, or rebuilt anew
- * after lost outputs) is dropped with its pipeline; a new assignment starts again at
- * {@code ASSIGNED}.
+ * {@code ASSIGNED}: paused, rebuild look-ups pending; {@code REBUILDING}: sought back, records below
+ * the rebuild end re-read with output suppressed; {@code LIVE}: the position has reached the rebuild
+ * end. A partition that leaves is dropped with its pipeline; a new assignment starts at {@code ASSIGNED}.
  */
 final class OwnedPartition {
 
     private static final Logger LOG = LoggerFactory.getLogger(OwnedPartition.class);
-    /** Reason code of records the pipeline failed on (see {@link #offer}). */
+    /** Reason code of records the pipeline failed on. */
     static final String PIPELINE_ERROR = "pipeline-error";
     /** The value of a record without one (a tombstone): read as empty, so it is rejected as such. */
     private static final byte[] NO_BYTES = new byte[0];
 
-    /** Where a partition stands: see the class comment. */
     enum Phase { ASSIGNED, REBUILDING, LIVE }
 
     final TopicPartition partition;
     final MonitorPipeline pipeline;
     private Phase phase = Phase.ASSIGNED;
-    /** Records below this offset were processed before (by this or another instance): state only. */
+    /** Records below this offset were processed before: state only. */
     private long rebuildUntil = -1;
     private long rebuildStartedNanos;
     /** Offset after the last live record processed that may be committed, or -1 when none since assignment. */
@@ -68,9 +62,9 @@ final class OwnedPartition {
     }
 
     /**
-     * Hands one record to the pipeline. A record the pipeline fails on (a defect, not bad input: bad
-     * input has its reason codes) is logged, sent to {@code rejects} as {@code pipeline-error} (unless
-     * suppressed) and counted, so one record cannot stop the service or, after a restart, stop it again.
+     * Hands one record to the pipeline. A record the pipeline fails on (a defect: bad input has its own
+     * reason codes) is logged, counted and (unless suppressed) rejected as {@code pipeline-error}, so
+     * one record cannot stop the service.
      */
     RecordOutcome offer(ConsumerRecord<byte[], byte[]> record, boolean suppress, PipelineListener rejects) {
         byte[] value = record.value() == null ? NO_BYTES : record.value();
@@ -94,9 +88,8 @@ final class OwnedPartition {
     }
 
     /**
-     * REBUILDING to LIVE once every record below the rebuild end has been through the pipeline.
+     * REBUILDING to LIVE once the consumer {@code position} has reached the rebuild end.
      *
-     * @param position the consumer position after the records handled so far
      * @return the nanoseconds the rebuild took when this call made the partition live, else -1
      */
     long reachedRebuildEnd(long position, long nowNanos) {
@@ -108,9 +101,9 @@ final class OwnedPartition {
     }
 
     /**
-     * Notes the live records handled in one poll: {@code lastLive} is the offset after the last one
-     * (-1: none), {@code oldestHeld} the smallest offset a stream still holds beyond its horizon
-     * ({@link Long#MAX_VALUE}: none). No commit passes a held record (it is in no window yet).
+     * Notes one poll's live records: {@code lastLive} is the offset after the last one (-1: none),
+     * {@code oldestHeld} the smallest offset a stream still holds ({@link Long#MAX_VALUE}: none). No
+     * commit passes a held record (it is in no window yet).
      */
     void handled(long lastLive, long oldestHeld) {
         long next = lastLive;

@@ -15,13 +15,12 @@ import org.oddswatch.ingest.pipeline.RecordOutcome;
 import org.oddswatch.ingest.pipeline.RejectedRecord;
 
 /**
- * Passes each output on to the output stage first, then feeds the pipelines' events to the three
- * meter binders of a registry: {@link RecordMeters} (each
- * record's outcome; accepted ones added once per batch), {@link FitMeters} (each final window's fit
- * and figures, under its monitor's small-cell rule) and {@link AlertMeters} (alerts, restored open
- * episodes, CUSUM values). Pipelines call none of these while rebuilding, except
- * {@link #onAlertRestored}, for an episode still open in a stream the pipeline holds. When a
- * partition leaves the instance, {@link #onStreamsReleased} removes its streams' series.
+ * Passes each estimate, alert and reject to the output stage, then feeds the pipelines' events to
+ * the registry's binders: {@link RecordMeters} (each record's outcome, accepted ones added once per
+ * batch), {@link FitMeters} (each final window, under its monitor's small-cell rule) and
+ * {@link AlertMeters}. Pipelines call none of these while rebuilding, except
+ * {@link #onAlertRestored} for an episode still open; {@link #onStreamsReleased} removes the series
+ * of the streams of a partition that leaves.
  */
 final class PipelineMeters implements PipelineListener {
 
@@ -31,11 +30,7 @@ final class PipelineMeters implements PipelineListener {
     private final FitMeters fits = new FitMeters();
     private final AlertMeters alerts = new AlertMeters();
 
-    /**
-     * @param outputs where estimates, alerts and rejects go before they are metered (the output stage)
-     * @param registry where the binders register their meters
-     * @param monitors the monitors, for each stream's small-cell rule
-     */
+    /** @param outputs where estimates, alerts and rejects go before they are metered (the output stage) */
     PipelineMeters(PipelineListener outputs, MeterRegistry registry, List<MonitorDefinition> monitors) {
         this.outputs = outputs;
         this.monitors = List.copyOf(monitors);
@@ -92,7 +87,6 @@ final class PipelineMeters implements PipelineListener {
         alerts.cusum(stream, readings);
     }
 
-    /** Called on the poll thread once the batch is applied, so no accepted count is pending elsewhere. */
     @Override
     public void onStreamsReleased(List<String> streams) {
         for (String stream : streams) {

@@ -4,17 +4,21 @@ import java.time.Duration;
 import java.util.ArrayList;
 import java.util.Collection;
 import java.util.LinkedHashMap;
+import java.util.HashMap;
 import java.util.List;
 import java.util.Map;
-import java.util.function.LongSupplier;
+import java.util.Properties;
 import org.apache.kafka.clients.CommonClientConfigs;
+import org.apache.kafka.clients.consumer.CommitFailedException;
 import org.apache.kafka.clients.consumer.ConsumerConfig;
 import org.apache.kafka.clients.consumer.ConsumerRebalanceListener;
 import org.apache.kafka.clients.consumer.ConsumerRecord;
 import org.apache.kafka.clients.consumer.ConsumerRecords;
 import org.apache.kafka.clients.consumer.KafkaConsumer;
+import org.apache.kafka.clients.consumer.OffsetAndMetadata;
 import org.apache.kafka.common.KafkaException;
 import org.apache.kafka.common.TopicPartition;
+import org.apache.kafka.common.errors.RebalanceInProgressException;
 import org.apache.kafka.common.errors.RetriableException;
 import org.apache.kafka.common.errors.WakeupException;
 import org.oddswatch.ingest.definition.MonitorConfig;
@@ -28,28 +32,27 @@ import org.slf4j.LoggerFactory;
 
 /**
  * The poll loop of the service's one consumer, on one thread: the only user of the consumer and of
- * the pipelines (other threads see only the {@link StatusBoard} snapshot). Shaped like Kafka's own
- * consumer examples; per turn: poll; hand each record, partition by partition in offset order, to
- * its partition's pipeline (output suppressed below the rebuild end); plan the rebuild of partitions
- * just assigned ({@link RebuildPlanner}) and make those whose re-read is done live (the life cycle
- * {@code ASSIGNED -> REBUILDING -> LIVE} of {@link OwnedPartition}); at most every
- * {@code commitInterval}, commit what is done ({@link OffsetCommitter}); watch the broker
- * ({@link BrokerWatch}); run the timers ({@link LiveTimers}); publish the status.
+ * the pipelines (other threads see the {@link StatusBoard} snapshot). Per turn: poll; hand each
+ * record, partition by partition in offset order, to its partition's pipeline (output suppressed
+ * below the rebuild end); plan the rebuild of partitions just assigned ({@link RebuildPlanner}) and
+ * make those re-read live; at most every {@code commitInterval}, store the outputs and commit; watch
+ * the broker ({@link BrokerWatch}); run the timers ({@link LiveTimers}); publish the status.
  *
- * <p>Rebalance callbacks run inside poll, never while records are applied, and stay short: on
- * revoke, commit what is applied and release the pipelines; on lost, release them; on assign, make
- * the pipelines and pause the partitions until the loop plans their rebuild. A commit that meets a
- * rebalance in progress is tried again after the next poll, so a join or a leave neither loses nor
- * repeats applied work. Outputs lost to the producer are produced again by rebuilding every
- * partition from its last commit. Nothing but {@link #stop()} or an error that is not the broker's
- * ends the loop.
+ * <p>Commits: wait (at most {@code brokerWait}) until every output sent so far is stored, then commit
+ * per partition {@link OwnedPartition#nextCommit}, which never passes a held record. A commit that
+ * meets a rebalance stays pending: the revoke callback commits the partitions that leave, the next
+ * try the others. Outputs lost to the producer are produced again by rebuilding every partition from
+ * its last commit. Rebalance callbacks run inside poll and stay short: on revoke, commit and release
+ * the pipelines; on lost, release them; on assign, open pipelines and pause the partitions until
+ * their rebuild is planned. Only {@link #stop()} or an error that is not the broker's ends the loop.
  */
 final class PollLoop implements Runnable, ConsumerRebalanceListener {
 
     private static final Logger LOG = LoggerFactory.getLogger(PollLoop.class);
     private static final Duration POLL = Duration.ofMillis(100);
     private static final long STATUS_NANOS = 200_000_000L;
-    /** Longest wait for outputs to be stored and for a commit, per try. */
+    /** How often outputs are stored and offsets committed (also on revoke and stop). */
+    private static final long COMMIT_INTERVAL_NANOS = 500_000_000L;
     private static final Duration MAX_BROKER_WAIT = Duration.ofSeconds(5);
 
     private final MonitorConfig config;
@@ -60,43 +63,39 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
     private final Map<TopicPartition, OwnedPartition> owned = new LinkedHashMap<>();
     private final OutcomeCounts counts = new OutcomeCounts();
     private final RebuildPlanner planner;
-    private final OffsetCommitter committer;
+    private final Duration brokerWait;
     private final BrokerWatch broker;
     private final LiveTimers timers;
     private final StatusBoard status;
-    private final long commitIntervalNanos;
     private boolean assignedOnce;
+    private boolean deferralLogged;
     private long lastCommitNanos = System.nanoTime();
     private long lastStatusNanos;
     private volatile boolean closing;
 
     /**
      * @param lookup a consumer without a group, for reading the record at a committed offset
-     * @param commitInterval how often outputs are flushed and offsets committed (also on revoke and stop)
-     * @param wallClockMillis the wall clock: idle timeout and an empty-group start at "latest" only
+     * @param readerProps properties of the consumers that read the published alerts and estimates back
      */
     PollLoop(MonitorConfig config, KafkaConsumer<byte[], byte[]> consumer, KafkaConsumer<byte[], byte[]> lookup,
-             KafkaOutputPublisher publisher, PartitionPipelines pipelines, AlertArchive archive,
-             ServiceLoopMetrics meters, Duration commitInterval, boolean resetToLatest, LongSupplier wallClockMillis) {
+             Properties readerProps, KafkaOutputPublisher publisher, PartitionPipelines pipelines,
+             ServiceLoopMetrics meters) {
         this.config = config;
         this.consumer = consumer;
         this.publisher = publisher;
         this.pipelines = pipelines;
         this.meters = meters;
-        // The consumer's own bound on blocking calls (30 s unless given) for the rebuild look-ups;
-        // storing outputs and committing wait at most 5 s per try, so an outage shows within seconds.
+        // look-ups wait as long as the consumer's own calls (30 s unless given); storing and committing
+        // at most 5 s per try, so an outage shows within seconds
         String apiTimeout = config.kafka().get(ConsumerConfig.DEFAULT_API_TIMEOUT_MS_CONFIG);
         Duration timeout = apiTimeout == null ? Duration.ofSeconds(30) : Duration.ofMillis(Long.parseLong(apiTimeout.trim()));
-        Duration brokerWait = timeout.compareTo(MAX_BROKER_WAIT) < 0 ? timeout : MAX_BROKER_WAIT;
-        this.planner = new RebuildPlanner(config, consumer, lookup, archive, meters, timeout, resetToLatest,
-                wallClockMillis);
-        this.committer = new OffsetCommitter(consumer, publisher, brokerWait);
+        this.brokerWait = timeout.compareTo(MAX_BROKER_WAIT) < 0 ? timeout : MAX_BROKER_WAIT;
+        this.planner = new RebuildPlanner(config, consumer, lookup, readerProps, meters, timeout);
         this.broker = new BrokerWatch(consumer, owned,
                 String.valueOf(config.kafka().get(CommonClientConfigs.BOOTSTRAP_SERVERS_CONFIG)), brokerWait, timeout,
-                Math.max(commitInterval.toNanos(), 100_000_000L));
-        this.timers = new LiveTimers(config.service().refresh(), config.service().idleTimeout(), wallClockMillis);
+                COMMIT_INTERVAL_NANOS);
+        this.timers = new LiveTimers(config.service().refresh(), config.service().idleTimeout());
         this.status = new StatusBoard(consumer, meters);
-        this.commitIntervalNanos = commitInterval.toNanos();
     }
 
     ServiceStatus snapshot() {
@@ -128,12 +127,10 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
                 long now = System.nanoTime();
                 advanceLifeCycles(now);
                 commitIfDue(now);
-                if (broker.checkConnection(now, assignedOnce)) {
-                    publishStatus();
-                }
+                boolean troubleChanged = broker.checkConnection(now, assignedOnce);
                 timers.tick(owned.values(), now, broker.inputPaused());
                 meters.ready(ready());
-                if (now - lastStatusNanos >= STATUS_NANOS) {
+                if (troubleChanged || now - lastStatusNanos >= STATUS_NANOS) {
                     publishStatus();
                 }
             }
@@ -144,13 +141,11 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
         } finally {
             closing = true;
             try {
-                if (!owned.isEmpty() && committer.outputsLost() == null) {
+                if (!owned.isEmpty() && publisher.storeFailure() == null) {
                     try {
                         commit(owned.keySet());
                     } catch (WakeupException e) {
-                        // stop() woke the consumer up after its last poll: the wake-up is used up
-                        // now, so the last commit can be made.
-                        commit(owned.keySet());
+                        commit(owned.keySet()); // stop()'s wake-up came after the last poll; it is used up now
                     }
                 }
             } finally {
@@ -212,17 +207,22 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
     @Override
     public void onPartitionsAssigned(Collection<TopicPartition> partitions) {
         assignedOnce = true;
+        open(partitions);
+    }
+
+    /** New pipelines for {@code partitions}, paused until the loop has planned their rebuild. */
+    private void open(Collection<TopicPartition> partitions) {
         for (TopicPartition tp : partitions) {
             owned.put(tp, new OwnedPartition(tp, pipelines.open(tp)));
         }
-        consumer.pause(partitions); // no records until the loop has planned the rebuild
+        consumer.pause(partitions);
         publishStatus();
     }
 
     @Override
     public void onPartitionsRevoked(Collection<TopicPartition> partitions) {
         try {
-            if (committer.outputsLost() == null && !commit(partitions)) {
+            if (publisher.storeFailure() == null && !commit(partitions)) {
                 LOG.warn("partitions revoked before their last outputs were committed (the new owner produces the "
                         + "outputs since the last commit again, same keys and content): {}", partitions);
             }
@@ -254,63 +254,84 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
     }
 
     private void commitIfDue(long now) {
-        Exception lost = committer.outputsLost();
+        Exception lost = publisher.storeFailure();
         if (lost != null) {
             rebuildFromCommits(lost);
-        } else if (now - lastCommitNanos >= commitIntervalNanos && broker.due(Operation.COMMIT, now)) {
+        } else if (now - lastCommitNanos >= COMMIT_INTERVAL_NANOS && broker.due(Operation.COMMIT, now)) {
             commit(owned.keySet());
         }
     }
 
-    /** @return true when committed (or nothing to commit); false when left for a later try */
+    /**
+     * Stores the outputs and commits {@code partitions} (see the class comment).
+     *
+     * @return true when committed (or nothing to commit); false when left for a later try
+     */
     private boolean commit(Collection<TopicPartition> partitions) {
         long start = System.nanoTime();
-        OffsetCommitter.Result result = committer.commit(owned, partitions);
-        if (result.brokerTrouble() != null) {
-            broker.failed(Operation.COMMIT, result.brokerTrouble());
-            publishStatus();
-        } else if (result.committed()) {
-            broker.succeeded(Operation.COMMIT, "outputs stored and offsets committed");
-            lastCommitNanos = System.nanoTime();
-            meters.committed(lastCommitNanos - start);
-            publishStatus();
+        if (!publisher.awaitStored(brokerWait)) {
+            return commitFailed(publisher.pending() + " outputs not stored by the broker within " + brokerWait);
         }
-        return result.committed();
+        if (publisher.storeFailure() != null) {
+            return false; // rebuilt from the last commit instead
+        }
+        Map<TopicPartition, OffsetAndMetadata> offsets = new HashMap<>();
+        for (TopicPartition tp : partitions) {
+            OwnedPartition p = owned.get(tp);
+            if (p != null && p.nextCommit > p.lastCommitted) {
+                offsets.put(tp, new OffsetAndMetadata(p.nextCommit));
+            }
+        }
+        if (!offsets.isEmpty()) {
+            try {
+                consumer.commitSync(offsets, brokerWait);
+            } catch (RebalanceInProgressException | CommitFailedException e) {
+                if (!deferralLogged) {
+                    LOG.info("commit deferred until the group's rebalance completes: {}", e.getClass().getSimpleName());
+                    deferralLogged = true;
+                }
+                return false;
+            } catch (RetriableException e) {
+                return commitFailed("commit failed: " + e);
+            }
+            deferralLogged = false;
+            offsets.forEach((tp, om) -> owned.get(tp).lastCommitted = om.offset());
+        }
+        broker.succeeded(Operation.COMMIT, "outputs stored and offsets committed");
+        lastCommitNanos = System.nanoTime();
+        meters.committed(lastCommitNanos - start);
+        publishStatus();
+        return true;
     }
 
-    /**
-     * Outputs were lost to the producer (an error other than the record's own): every partition gets
-     * a fresh pipeline and is rebuilt from its last commit, which produces the outputs since then
-     * again (same keys, same content).
-     */
+    private boolean commitFailed(String reason) {
+        broker.failed(Operation.COMMIT, reason);
+        publishStatus();
+        return false;
+    }
+
+    /** Outputs were lost: every partition is rebuilt from its last commit, producing them again. */
     private void rebuildFromCommits(Exception lost) {
         broker.failed(Operation.COMMIT, "outputs could not be stored: " + lost);
-        if (!committer.settleLostOutputs()) {
+        if (!publisher.awaitStored(brokerWait)) {
             publishStatus();
             return; // every send outstanding ends before starting over
         }
+        publisher.clearStoreFailure();
         LOG.warn("outputs could not be stored ({}); every partition is rebuilt from its last commit and its "
                 + "outputs since then are produced again", lost.toString());
         List<TopicPartition> all = new ArrayList<>(owned.keySet());
         drop(all);
-        for (TopicPartition tp : all) {
-            owned.put(tp, new OwnedPartition(tp, pipelines.open(tp)));
-        }
-        consumer.pause(all);
-        publishStatus();
+        open(all);
     }
 
     private boolean ready() {
-        if (!assignedOnce || closing || broker.trouble() != null) {
-            return false;
-        }
-        return owned.values().stream().allMatch(p -> p.is(Phase.LIVE));
+        return assignedOnce && !closing && broker.trouble() == null && owned.values().stream().allMatch(p -> p.is(Phase.LIVE));
     }
 
     private void publishStatus() {
         String reason = broker.trouble();
-        boolean ready = ready();
-        String state = ready ? "ready" : closing ? "stopped" : reason != null ? "waiting-for-broker" : "rebuilding";
+        String state = ready() ? "ready" : closing ? "stopped" : reason != null ? "waiting-for-broker" : "rebuilding";
         status.publish(owned.values(), state, reason, counts);
         lastStatusNanos = System.nanoTime();
     }

@@ -1,43 +1,45 @@
 package org.oddswatch.ingest.service;
 
+import java.io.IOException;
 import java.time.Duration;
 import java.time.Instant;
 import java.util.ArrayList;
 import java.util.Collection;
 import java.util.HashMap;
-import java.util.HashSet;
 import java.util.List;
 import java.util.Map;
+import java.util.Properties;
 import java.util.Set;
-import java.util.function.LongSupplier;
+import java.util.TreeSet;
+import java.util.function.Consumer;
+import java.util.stream.Collectors;
+import org.apache.kafka.clients.consumer.ConsumerConfig;
 import org.apache.kafka.clients.consumer.ConsumerRecord;
 import org.apache.kafka.clients.consumer.KafkaConsumer;
 import org.apache.kafka.clients.consumer.OffsetAndMetadata;
 import org.apache.kafka.clients.consumer.OffsetAndTimestamp;
 import org.apache.kafka.common.TopicPartition;
 import org.apache.kafka.common.errors.TimeoutException;
+import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.definition.MonitorDefinition;
+import org.oddswatch.ingest.kafka.BoundedTopicReader;
 import org.oddswatch.ingest.pipeline.CusumHistory;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
 /**
- * Plans the rebuild of newly assigned partitions (window state lives only in memory): for each, the
- * committed offset {@code C} (none: the beginning, or the end with {@code auto.offset.reset=latest},
- * taking the wall clock as the record time), the timestamp {@code T} of the record at {@code C} (or
- * of the one before, when {@code C} is the end), and the offset of the first record at or after
- * {@link RebuildSpan#startMillis}{@code (T)}. The partition is sought there and re-read up to
- * {@code C} with output suppressed.
- *
- * <p>Before the re-read, each pipeline gets the published alerts of its monitors (open episodes go
- * on) and, from the final estimates published, the CUSUM values its charts resume from. Every
- * look-up is made before any state changes, so a look-up that fails (the broker away: a
+ * Plans the rebuild of newly assigned partitions (window state lives only in memory). For each: the
+ * committed offset {@code C} (none: the beginning, or with {@code auto.offset.reset=latest} the end,
+ * the wall clock standing in for the record time), the timestamp {@code T} of the record at {@code C}
+ * (or the one before, when {@code C} is the end), and the first offset at or after
+ * {@link RebuildSpan#startMillis}{@code (T)}, where the partition is sought and re-read up to
+ * {@code C} with output suppressed. Before the re-read each pipeline gets its monitors' published
+ * alerts (open episodes go on) and, from the published final estimates, the CUSUM values its charts
+ * resume from. Every look-up is made before any state changes, so a failed one (a
  * {@link org.apache.kafka.common.errors.RetriableException}) leaves the partitions paused and
- * {@code ASSIGNED}, to be planned again after a backoff. A partition goes {@code LIVE} once the
- * consumer position has reached {@code C} ({@link #finishDone}). Runs on the poll-loop thread, never
- * in a rebalance callback.
+ * {@code ASSIGNED}. Runs on the poll-loop thread, never in a rebalance callback.
  */
 final class RebuildPlanner {
 
@@ -47,40 +49,36 @@ final class RebuildPlanner {
     private final MonitorConfig config;
     private final KafkaConsumer<byte[], byte[]> consumer;
     private final KafkaConsumer<byte[], byte[]> lookup;
-    private final AlertArchive archive;
+    private final Properties readerProps;
     private final ServiceLoopMetrics meters;
     private final Duration timeout;
     private final boolean resetToLatest;
-    private final LongSupplier wallClockMillis;
     private final Map<String, RebuildSpan> spans = new HashMap<>();
 
     /**
      * @param lookup a consumer of its own (no group) that reads the record at a committed offset
+     * @param readerProps properties of the consumers that read the published alerts and estimates
      * @param timeout bound of each blocking look-up
-     * @param resetToLatest whether a partition without a commit starts at its end
      */
     RebuildPlanner(MonitorConfig config, KafkaConsumer<byte[], byte[]> consumer, KafkaConsumer<byte[], byte[]> lookup,
-                   AlertArchive archive, ServiceLoopMetrics meters, Duration timeout, boolean resetToLatest,
-                   LongSupplier wallClockMillis) {
+                   Properties readerProps, ServiceLoopMetrics meters, Duration timeout) {
         this.config = config;
         this.consumer = consumer;
         this.lookup = lookup;
-        this.archive = archive;
+        this.readerProps = readerProps;
         this.meters = meters;
         this.timeout = timeout;
-        this.resetToLatest = resetToLatest;
-        this.wallClockMillis = wallClockMillis;
+        this.resetToLatest = "latest".equalsIgnoreCase(config.kafka().get(ConsumerConfig.AUTO_OFFSET_RESET_CONFIG));
         for (String topic : config.topics()) {
             spans.put(topic, RebuildSpan.of(config.monitorsFor(topic), config.service().rebuildMargin()));
         }
     }
 
     /**
-     * Looks up where each {@code ASSIGNED} partition of {@code owned} is rebuilt from, then restores
-     * their alerts and charts, seeks them and makes them {@code REBUILDING}. The partitions stay
-     * paused: the caller resumes them.
+     * Plans the {@code ASSIGNED} partitions of {@code owned} (see the class comment) and makes them
+     * {@code REBUILDING}; they stay paused for the caller to resume.
      *
-     * @return the partitions planned (none when none was pending)
+     * @return the partitions planned
      * @throws org.apache.kafka.common.errors.RetriableException when a look-up failed; nothing changed
      */
     List<TopicPartition> planPending(Collection<OwnedPartition> owned, long nowNanos) {
@@ -88,8 +86,7 @@ final class RebuildPlanner {
         if (pending.isEmpty()) {
             return List.of();
         }
-        Set<TopicPartition> tps = new HashSet<>();
-        pending.forEach(p -> tps.add(p.partition));
+        Set<TopicPartition> tps = pending.stream().map(p -> p.partition).collect(Collectors.toSet());
         Map<OwnedPartition, List<Alert>> alerts = publishedAlerts(pending);
         CusumHistory charts = publishedCharts(pending);
         Map<TopicPartition, OffsetAndMetadata> committed = consumer.committed(tps, timeout);
@@ -107,7 +104,7 @@ final class RebuildPlanner {
                 recordMillis = recordTimestamp(tp, upTo, beginning.get(tp), end.get(tp));
             } else if (resetToLatest) {
                 upTo = end.get(tp);
-                recordMillis = wallClockMillis.getAsLong();
+                recordMillis = System.currentTimeMillis();
             } else {
                 upTo = beginning.get(tp);
                 recordMillis = null;
@@ -131,15 +128,11 @@ final class RebuildPlanner {
                 LOG.info("rebuilding {} from offset {} to {} ({})", tp, from, until.get(tp), spans.get(tp.topic()));
             }
         }
-        // every look-up answered: only now does state change
-        for (OwnedPartition p : pending) {
+        for (OwnedPartition p : pending) { // every look-up answered: only now does state change
             TopicPartition tp = p.partition;
             p.pipeline.restoreAlerts(alerts.get(p));
-            Long rereadFrom = startTimes.get(tp);
-            if (rereadFrom != null) {
-                // events at or after the re-read's start time are re-read (record time >= event time);
-                // charts of streams with a baseline file continue from a published window after it
-                p.pipeline.resumeCharts(charts, rereadFrom);
+            if (startTimes.containsKey(tp)) { // charts with a baseline file go on from a window after the start
+                p.pipeline.resumeCharts(charts, startTimes.get(tp));
             }
             consumer.seek(tp, seekTo.get(tp));
             p.rebuildPlanned(until.get(tp), nowNanos);
@@ -148,12 +141,7 @@ final class RebuildPlanner {
         return new ArrayList<>(tps);
     }
 
-    /**
-     * Makes the {@code REBUILDING} partitions of {@code owned} whose consumer position has reached
-     * the rebuild end (every record before it handled) {@code LIVE}.
-     *
-     * @return whether any partition went live
-     */
+    /** Makes {@code LIVE} the {@code REBUILDING} partitions whose position reached the rebuild end; true if any. */
     boolean finishDone(Collection<OwnedPartition> owned, long nowNanos) {
         boolean any = false;
         for (OwnedPartition p : owned) {
@@ -170,10 +158,7 @@ final class RebuildPlanner {
         return any;
     }
 
-    /**
-     * Timestamp of the record at {@code offset}, or of the one before it when {@code offset} is the
-     * end of the partition; null when the partition holds neither.
-     */
+    /** Timestamp of the record at {@code offset} (or before it, at the end); null when there is none. */
     private Long recordTimestamp(TopicPartition tp, long offset, long beginning, long end) {
         long target = offset < end ? offset : offset - 1;
         if (target < beginning || target >= end) {
@@ -194,45 +179,50 @@ final class RebuildPlanner {
 
     /** The CUSUM values published with the final estimates of the pending partitions' monitors. */
     private CusumHistory publishedCharts(List<OwnedPartition> pending) {
-        Set<String> estimatesTopics = new HashSet<>();
+        Set<String> topics = new TreeSet<>();
         for (OwnedPartition p : pending) {
             for (MonitorDefinition monitor : config.monitorsFor(p.partition.topic())) {
                 if (monitor.rules() == null || monitor.rules().cusum() != null) {
-                    estimatesTopics.add(monitor.outputs().estimatesTopic());
+                    topics.add(monitor.outputs().estimatesTopic());
                 }
             }
         }
-        return estimatesTopics.isEmpty() ? new CusumHistory() : archive.readCharts(estimatesTopics);
+        CusumHistory history = new CusumHistory();
+        readBack(topics, r -> {
+            if (r.value() != null && !history.add(r.value())) {
+                LOG.warn("skipping unreadable estimate at {}-{}@{}", r.topic(), r.partition(), r.offset());
+            }
+        });
+        return history;
     }
 
     /** The published alerts of each pending partition's monitors. */
     private Map<OwnedPartition, List<Alert>> publishedAlerts(List<OwnedPartition> pending) {
-        Set<String> alertTopics = new HashSet<>();
-        for (OwnedPartition p : pending) {
-            for (MonitorDefinition monitor : config.monitorsFor(p.partition.topic())) {
-                alertTopics.add(monitor.outputs().alertsTopic());
+        Set<String> topics = new TreeSet<>();
+        pending.forEach(p -> config.monitorsFor(p.partition.topic()).forEach(m -> topics.add(m.outputs().alertsTopic())));
+        List<Alert> published = new ArrayList<>();
+        readBack(topics, r -> {
+            try {
+                published.add(Json.mapper().readValue(r.value(), Alert.class));
+            } catch (IOException | RuntimeException e) {
+                LOG.warn("skipping unreadable alert at {}-{}@{}: {}", r.topic(), r.partition(), r.offset(), e.getMessage());
             }
-        }
-        List<Alert> published = archive.read(alertTopics);
+        });
         Map<OwnedPartition, List<Alert>> out = new HashMap<>();
         for (OwnedPartition p : pending) {
-            List<Alert> mine = new ArrayList<>();
-            for (Alert alert : published) {
-                if (belongsTo(alert.stream(), config.monitorsFor(p.partition.topic()))) {
-                    mine.add(alert);
-                }
-            }
-            out.put(p, mine);
+            List<MonitorDefinition> monitors = config.monitorsFor(p.partition.topic());
+            out.put(p, published.stream().filter(a -> monitors.stream().anyMatch(m -> m.owns(a.stream()))).toList());
         }
         return out;
     }
 
-    private static boolean belongsTo(String stream, List<MonitorDefinition> monitors) {
-        for (MonitorDefinition monitor : monitors) {
-            if (stream.equals(monitor.name()) || stream.startsWith(monitor.name() + "/")) {
-                return true;
-            }
+    /** Every record of {@code topics}, from the beginning to the end offsets at the time of the read. */
+    private void readBack(Set<String> topics, Consumer<ConsumerRecord<byte[], byte[]>> sink) {
+        if (topics.isEmpty()) {
+            return;
         }
-        return false;
+        try (BoundedTopicReader reader = new BoundedTopicReader(readerProps, Duration.ofSeconds(30))) {
+            topics.forEach(topic -> reader.read(topic, null, sink));
+        }
     }
 }

@@ -1,6 +1,7 @@
 package org.oddswatch.ingest.service;
 
 import io.micrometer.core.instrument.Counter;
+import io.micrometer.core.instrument.FunctionCounter;
 import io.micrometer.core.instrument.Gauge;
 import io.micrometer.core.instrument.MeterRegistry;
 import io.micrometer.core.instrument.MultiGauge;
@@ -8,40 +9,35 @@ import io.micrometer.core.instrument.Tag;
 import io.micrometer.core.instrument.Tags;
 import io.micrometer.core.instrument.Timer;
 import io.micrometer.core.instrument.binder.MeterBinder;
-import java.util.ArrayList;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
 import java.util.concurrent.TimeUnit;
 import java.util.concurrent.atomic.AtomicInteger;
+import java.util.function.LongSupplier;
 import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.ingest.pipeline.PipelineSnapshot;
 import org.oddswatch.ingest.pipeline.StreamStatus;
 
 /**
- * Meters of the service's poll loop, bound like Micrometer's own binders: construct, then
- * {@link #bindTo} one registry before the loop starts (the loop records into the meters bound last).
- * All carry the tag {@value #SERVICE_INSTANCE} (the service's instance name: not {@code instance},
- * which Prometheus sets to the scrape target and would rename to {@code exported_instance}).
+ * Meters of the service's poll loop, bound like Micrometer's own binders (the loop records into the
+ * meters bound last). All carry the tag {@value #SERVICE_INSTANCE}, the instance name ({@code instance}
+ * is Prometheus's scrape target). Tags never carry record values.
  * <ul>
  * <li>{@code oddswatch.service.records} (counter, tag {@code phase}: {@code live}, {@code rebuild}):
- *     input records handled; the suppressed re-read of a rebuild counts as {@code rebuild};</li>
+ *     input records handled, the suppressed re-read of a rebuild as {@code rebuild};</li>
  * <li>{@code oddswatch.service.rebuilds} (counter): partitions whose state was rebuilt;</li>
  * <li>{@code oddswatch.service.rebuild.duration} (timer): from a partition's rebuild plan to live;</li>
  * <li>{@code oddswatch.service.ready} (gauge): 1 once every partition is live and the broker answers;</li>
- * <li>{@code oddswatch.service.loop} (timer, tag {@code step}): time per polled batch in
- *     {@code poll} ({@code KafkaConsumer.poll}, fetch waits included) and {@code apply} (every record
- *     of the batch through its pipeline), and per commit in {@code commit} (waiting for the outputs
- *     to be stored, then the offset commit);</li>
- * <li>{@code oddswatch.monitoring.gaps} (multi-gauge): one series per thing a stream of this instance
- *     does not monitor ({@link MonitoringGap}), tagged {@code monitor}, {@code stream}, {@code scope}
- *     ({@code baseline}, {@code rule}, {@code windows}, {@code term}), {@code subject} (the rule or term
- *     named in the definition, {@code none} for the baseline) and {@code reason} (a code from a fixed
- *     set); the value is the number of final windows not judged for {@code windows}, else 1. A series
- *     goes away when its gap does or its stream leaves the instance.</li>
+ * <li>{@code oddswatch.service.loop} (timer, tag {@code step}): per polled batch {@code poll} (fetch
+ *     waits included) and {@code apply}, per commit {@code commit} (outputs stored, offsets committed);</li>
+ * <li>{@code oddswatch.service.outputs.refused} (counter): outputs the broker refused for what they
+ *     are, skipped;</li>
+ * <li>{@code oddswatch.monitoring.gaps} (multi-gauge): one series per {@link MonitoringGap} of a
+ *     stream of this instance, tagged {@code monitor}, {@code stream}, {@code scope}, {@code subject}
+ *     ({@code none} for the baseline) and {@code reason}; the value is the number of final windows
+ *     not judged for scope {@code windows}, else 1. A series goes when its gap or its stream does.</li>
  * </ul>
- * Tags never carry record values. The per-partition stream count is bound by
- * {@link PartitionPipelines}; the Kafka clients' metrics by Micrometer's {@code KafkaClientMetrics}.
  */
 final class ServiceLoopMetrics implements MeterBinder {
 
@@ -49,6 +45,7 @@ final class ServiceLoopMetrics implements MeterBinder {
     static final String SERVICE_INSTANCE = "service_instance";
 
     private final Tags tags;
+    private final LongSupplier refusedOutputs;
     private final AtomicInteger ready = new AtomicInteger();
     private Counter live;
     private Counter rebuild;
@@ -59,12 +56,17 @@ final class ServiceLoopMetrics implements MeterBinder {
     private Timer commit;
     private MultiGauge gaps;
 
-    ServiceLoopMetrics(String instance) {
+    /** @param refusedOutputs outputs the broker refused since start */
+    ServiceLoopMetrics(String instance, LongSupplier refusedOutputs) {
         this.tags = Tags.of(Tag.of(SERVICE_INSTANCE, instance));
+        this.refusedOutputs = refusedOutputs;
     }
 
     @Override
     public void bindTo(MeterRegistry registry) {
+        FunctionCounter.builder("oddswatch.service.outputs.refused", refusedOutputs, LongSupplier::getAsLong)
+                .tags(tags).description("outputs the broker refused for what they are (too large, invalid), skipped")
+                .register(registry);
         live = records(registry, "live");
         rebuild = records(registry, "rebuild");
         rebuilds = Counter.builder("oddswatch.service.rebuilds").tags(tags)
@@ -92,7 +94,7 @@ final class ServiceLoopMetrics implements MeterBinder {
                 .register(registry);
     }
 
-    /** One polled batch: time in poll and applying its records to the pipelines (ns). */
+    /** One polled batch: nanoseconds in poll and applying its records. */
     void polled(long pollNanos, long applyNanos) {
         poll.record(pollNanos, TimeUnit.NANOSECONDS);
         apply.record(applyNanos, TimeUnit.NANOSECONDS);
@@ -100,15 +102,11 @@ final class ServiceLoopMetrics implements MeterBinder {
 
     /** Records of one partition handled: live ones and ones re-read to rebuild state. */
     void handled(long liveRecords, long rebuildRecords) {
-        if (liveRecords > 0) {
-            live.increment(liveRecords);
-        }
-        if (rebuildRecords > 0) {
-            rebuild.increment(rebuildRecords);
-        }
+        live.increment(liveRecords);
+        rebuild.increment(rebuildRecords);
     }
 
-    /** One commit step that committed, storing the outputs included (ns). */
+    /** One commit that succeeded, storing the outputs included (ns). */
     void committed(long nanos) {
         commit.record(nanos, TimeUnit.NANOSECONDS);
     }
@@ -138,8 +136,7 @@ final class ServiceLoopMetrics implements MeterBinder {
                 }
             }
         }
-        List<MultiGauge.Row<?>> rows = new ArrayList<>(values.size());
-        values.forEach((series, value) -> rows.add(MultiGauge.Row.of(series, value)));
-        gaps.register(rows, true);
+        gaps.register(values.entrySet().stream().<MultiGauge.Row<?>>map(e -> MultiGauge.Row.of(e.getKey(), e.getValue()))
+                .toList(), true);
     }
 }

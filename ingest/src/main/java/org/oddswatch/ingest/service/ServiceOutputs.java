@@ -18,12 +18,11 @@ import org.oddswatch.ingest.output.OutputStage;
 import org.oddswatch.ingest.pipeline.PipelineListener;
 
 /**
- * The outputs of the live service's pipelines: every output passes the {@link OutputStage}, whose
- * sinks for a monitor are the Kafka publisher, the log (alerts), the monitor's
- * {@code outputs.webhook} (alerts, delivered on the webhook's own thread, so the poll loop never
- * waits for it) and its {@code outputs.estimatesFile} (final estimates appended; a relative path
- * resolves against the definition file's folder); then the {@link PipelineMeters} of the
- * service's registry see the same events ({@link #listener()}).
+ * What the live service's pipelines report to ({@link #listener()}): the {@link OutputStage}, whose
+ * sinks for a monitor are the Kafka publisher, the log (alerts), the monitor's {@code outputs.webhook}
+ * (alerts, delivered on the webhook's own thread) and its {@code outputs.estimatesFile} (final
+ * estimates appended; a relative path resolves against the definition file's folder), then the
+ * {@link PipelineMeters} of the registry.
  */
 final class ServiceOutputs implements AutoCloseable {
 
@@ -64,10 +63,7 @@ final class ServiceOutputs implements AutoCloseable {
         return webhooks.get(monitor);
     }
 
-    /**
-     * Closes the webhooks (each gives queued deliveries up to one timeout) and the estimates files;
-     * the Kafka publisher is the service's to close, after the poll loop's last commit.
-     */
+    /** Closes the webhooks (queued deliveries get up to one timeout) and the estimates files, not the publisher. */
     @Override
     public void close() {
         webhooks.values().forEach(WebhookSink::close);

@@ -5,7 +5,7 @@ import org.oddswatch.ingest.pipeline.OutcomeCounts;
 import org.oddswatch.ingest.pipeline.PipelineSnapshot;
 
 /**
- * What {@code /status} shows: a snapshot taken by the poll loop (at most a fraction of a second old).
+ * What {@code /status} shows: a snapshot by the poll loop, at most a fraction of a second old.
  *
  * @param state {@code starting}, {@code rebuilding}, {@code ready}, {@code waiting-for-broker} (the
  *     broker does not answer: input paused, retried with backoff) or {@code stopped}

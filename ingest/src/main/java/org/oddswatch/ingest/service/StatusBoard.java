@@ -17,10 +17,9 @@ import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
 /**
- * The {@code /status} snapshot: built on the poll-loop thread from the owned partitions, published
- * for every other thread (HTTP, {@link MonitorService#ready()}) through one volatile field. Building
- * it also updates the monitoring-gap meters and warns once per stream that turns up in two
- * partitions (each partition then estimates it separately).
+ * The {@code /status} snapshot, built on the poll-loop thread and read by any through one volatile
+ * field. Building it also updates the monitoring-gap meters and warns once per stream found in two
+ * partitions (each then estimates it separately).
  */
 final class StatusBoard {
 
@@ -36,29 +35,19 @@ final class StatusBoard {
         this.meters = meters;
     }
 
-    /** The latest snapshot (any thread). */
     ServiceStatus current() {
         return current;
     }
 
-    /**
-     * Builds and publishes a snapshot (poll-loop thread).
-     *
-     * @param state see {@link ServiceStatus#state()}
-     * @param reason why the service waits for the broker, or null
-     */
+    /** Builds and publishes a snapshot; {@code state} and {@code reason} as in {@link ServiceStatus}. */
     void publish(Collection<OwnedPartition> owned, String state, String reason, OutcomeCounts counts) {
         List<ServiceStatus.PartitionStatus> partitions = new ArrayList<>();
         List<PipelineSnapshot> inputs = new ArrayList<>();
         Map<String, TopicPartition> owners = new HashMap<>();
         for (OwnedPartition p : owned) {
-            Long lag = null;
-            if (!p.is(OwnedPartition.Phase.ASSIGNED)) {
-                OptionalLong l = consumer.currentLag(p.partition);
-                lag = l.isPresent() ? l.getAsLong() : null;
-            }
+            OptionalLong lag = p.is(OwnedPartition.Phase.ASSIGNED) ? OptionalLong.empty() : consumer.currentLag(p.partition);
             partitions.add(new ServiceStatus.PartitionStatus(p.partition.topic(), p.partition.partition(),
-                    !p.is(OwnedPartition.Phase.LIVE), p.lastCommitted < 0 ? null : p.lastCommitted, lag));
+                    !p.is(OwnedPartition.Phase.LIVE), p.lastCommitted < 0 ? null : p.lastCommitted, lag.isPresent() ? lag.getAsLong() : null));
             PipelineSnapshot pipeline = p.pipeline.snapshot();
             inputs.add(pipeline);
             for (StreamStatus stream : pipeline.streams()) {
@@ -74,7 +63,6 @@ final class StatusBoard {
         current = new ServiceStatus(state, reason, counts.snapshot(), partitions, inputs);
     }
 
-    /** The last snapshot, marked stopped. */
     void stopped() {
         current = current.stopped();
     }
