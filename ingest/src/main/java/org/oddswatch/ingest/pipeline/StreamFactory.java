@@ -7,6 +7,7 @@ import java.util.Collection;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
+import org.oddswatch.alerts.baseline.BaselineFile;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.lifecycle.AlertState;
 import org.oddswatch.estimator.calibration.BaselineModel;
@@ -15,9 +16,9 @@ import org.oddswatch.ingest.definition.BaselineSpec;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 
 /**
- * Makes the streams of one pipeline: the window store, the baseline (a fixed period accumulated by
- * the stream, or a frozen file: one per monitor, or one per split value read when its stream opens),
- * and what a restart restored for a stream not seen yet (open alert episodes, CUSUM values).
+ * Makes the routes and streams of one pipeline: window stores, baselines (a fixed period, or a
+ * frozen file: one per monitor, or one per split value read when its stream opens), and what a
+ * restart restored for streams not seen yet (open alert episodes, CUSUM values).
  */
 final class StreamFactory {
 
@@ -49,7 +50,7 @@ final class StreamFactory {
         }
         Path file = spec.fileFor(monitor.definitionDir(), null);
         try {
-            return new MonitorRoute(monitor, settings.baselines().read(file, monitor));
+            return new MonitorRoute(monitor, readBaseline(file, monitor));
         } catch (IOException | RuntimeException e) {
             throw new IllegalArgumentException("monitor " + monitor.name() + ": cannot read baseline file " + file
                     + ": " + e.getMessage(), e);
@@ -74,7 +75,7 @@ final class StreamFactory {
         } else if (spec != null && fileBaseline == null) {
             Path file = spec.fileFor(monitor.definitionDir(), splitValue);
             try {
-                fileBaseline = settings.baselines().read(file, monitor);
+                fileBaseline = readBaseline(file, monitor);
             } catch (IOException | RuntimeException e) {
                 note = "cannot read baseline file " + file + ": " + e.getMessage();
             }
@@ -90,6 +91,16 @@ final class StreamFactory {
             stream.resumeCharts(chartHistory.of(name), chartsRereadFrom);
         }
         return stream;
+    }
+
+    /** A frozen baseline file ({@link BaselineFile}), checked against the monitor's design columns and checksum. */
+    private static BaselineModel readBaseline(Path file, MonitorDefinition monitor) throws IOException {
+        BaselineModel model = BaselineFile.read(file, monitor.designCoder().columns());
+        if (!BaselineFile.checksumMatches(model, monitor.checksum())) {
+            throw new IOException("it was fitted under another definition of the outcome or terms (checksum "
+                    + model.definitionChecksum() + ", this definition " + monitor.checksum() + ")");
+        }
+        return model;
     }
 
     /** See {@link MonitorPipeline#restoreAlerts}; {@code streams}: the streams open now, by name. */
@@ -119,9 +130,8 @@ final class StreamFactory {
     }
 
     /**
-     * Tells the listener the latest message of every episode still open among one stream's restored
-     * alerts. Only for a stream this pipeline holds: the alerts topic also holds the episodes of
-     * streams other partitions (and instances) hold, which must not show here.
+     * Tells the listener the latest message of every open episode among one stream's restored alerts;
+     * called only for streams this pipeline holds (the alerts topic holds other partitions' too).
      */
     private void reportOpen(List<Alert> streamAlerts) {
         Map<List<String>, Alert> latestByEpisode = new LinkedHashMap<>();
