@@ -35,11 +35,15 @@ final class HeldRecords {
 
         /** Merges one outcome; returns true when the record-level outcome is now known and not yet counted. */
         boolean merge(RecordOutcome outcome) {
-            if (outcome != null && !outcome.held() && (best == null || (outcome.accepted() && !best.accepted()))) {
-                best = outcome;
-            }
+            best = recordLevel(best, outcome);
             return !counted && best != null && (best.accepted() || holders == 0);
         }
+    }
+
+    /** The record-level outcome so far given one more monitor's: accepted when any accepted, else the first decided. */
+    static RecordOutcome recordLevel(RecordOutcome sofar, RecordOutcome outcome) {
+        boolean better = outcome != null && !outcome.held() && (sofar == null || outcome.accepted() && !sofar.accepted());
+        return better ? outcome : sofar;
     }
 
     /** The record being offered, once a stream holds it; else null. */

@@ -74,7 +74,8 @@ public final class MonitorPipeline {
      * Offers one record value: {@link #offerTree} once parsed, else {@link #offerUnreadable}.
      *
      * @param suppressOutput true while rebuilding state: state is updated, nothing emitted or counted
-     * @return the record's outcome (accepted when any monitor accepted it)
+     * @return the record's outcome: accepted when any monitor accepted it, else the first monitor's
+     *     ({@link RecordOutcome#HELD} until the streams holding it decide)
      */
     public RecordOutcome offer(byte[] value, RecordOrigin origin, boolean suppressOutput) {
         JsonNode tree;
@@ -91,10 +92,8 @@ public final class MonitorPipeline {
         RecordOutcome overall = null;
         held.beginOffer();
         for (MonitorRoute route : routes) {
-            RecordOutcome outcome = offerTo(route, route.decoder.decode(tree), original, origin, suppressOutput);
-            if (!outcome.held() && (overall == null || (outcome.accepted() && !overall.accepted()))) {
-                overall = outcome;
-            }
+            overall = HeldRecords.recordLevel(overall,
+                    offerTo(route, route.decoder.decode(tree), original, origin, suppressOutput));
         }
         overall = held.endOffer(overall, suppressOutput);
         if (overall == null) {
@@ -102,7 +101,7 @@ public final class MonitorPipeline {
         } else if (overall.held()) {
             return overall; // counted when the holding streams decide
         }
-        count(totals, overall, suppressOutput);
+        countRecord(overall, suppressOutput);
         return overall;
     }
 
@@ -115,31 +114,6 @@ public final class MonitorPipeline {
         return held.oldestLiveOffset();
     }
 
-    /** A held event's decided outcome: reported like any, and in the totals once the record is decided. */
-    private void resolved(StreamState stream, HeldRecords.Record record, DecodedEvent event, RecordOutcome outcome,
-                          boolean suppress) {
-        report(stream, outcome, event, record.original, record.origin, suppress);
-        RecordOutcome decided = held.resolved(record, outcome, suppress);
-        if (decided != null) {
-            count(totals, decided, suppress);
-        }
-    }
-
-    private void report(StreamState stream, RecordOutcome outcome, DecodedEvent event, byte[] original,
-                        RecordOrigin origin, boolean suppress) {
-        count(stream.counts(), outcome, suppress);
-        if (suppress) {
-            return;
-        }
-        listener.onOutcome(stream.monitorName(), stream.name(), outcome);
-        if (outcome.accepted()) {
-            listener.onAccepted(stream.monitorName(), stream.name(), event);
-        } else if (outcome.outcome() == Outcome.REJECTED || outcome.outcome() == Outcome.LATE) {
-            listener.onReject(new RejectedRecord(stream.monitorName(), stream.name(), outcome.outcome(),
-                    outcome.reason(), outcome.detail(), origin, original));
-        }
-    }
-
     /** Counts and reports a record that could not be read at all (before any monitor saw it). */
     public RecordOutcome offerUnreadable(byte[] original, RecordOrigin origin, String reason, String detail,
                                          boolean suppressOutput) {
@@ -147,10 +121,8 @@ public final class MonitorPipeline {
         for (MonitorRoute route : routes) {
             countUnrouted(route, outcome, suppressOutput);
         }
-        count(totals, outcome, suppressOutput);
-        if (!suppressOutput) {
-            listener.onReject(new RejectedRecord(null, null, Outcome.REJECTED, reason, detail, origin, original));
-        }
+        countRecord(outcome, suppressOutput);
+        reject(null, null, outcome, original, origin, suppressOutput);
         return outcome;
     }
 
@@ -162,54 +134,79 @@ public final class MonitorPipeline {
         DecodedEvent event = decoded.event();
         StreamState stream = route.streams.get(event.splitValue());
         if (stream == null) {
-            String streamName = route.monitor.streamName(event.splitValue());
+            String name = route.monitor.streamName(event.splitValue());
             if (route.monitor.split() != null && route.streams.size() >= route.monitor.split().maxStreams()) {
-                // The reject names the would-be stream; the meters get none (the stream tag holds
-                // accepted streams only, never a name made from a rejected record's value).
-                return rejectUnrouted(route, streamName, new Rejection(RejectReason.TOO_MANY_STREAMS,
+                // the reject names the would-be stream; the meters never get a name made from a rejected value
+                return rejectUnrouted(route, name, new Rejection(RejectReason.TOO_MANY_STREAMS,
                         "split value '" + event.splitValue() + "' would be stream " + (route.streams.size() + 1)
                                 + " of at most " + route.monitor.split().maxStreams()), original, origin, suppress);
             }
-            stream = streamFactory.open(route, streamName, event.splitValue());
+            stream = streamFactory.open(route, name, event.splitValue());
             route.streams.put(event.splitValue(), stream);
-            streamsByName.put(streamName, stream);
+            streamsByName.put(name, stream);
         }
         RecordOutcome outcome = stream.offer(event, suppress);
         if (outcome.held()) {
             held.hold(stream, event, original, origin, suppress);
-            return outcome;
+        } else {
+            report(stream, outcome, event, original, origin, suppress);
         }
-        report(stream, outcome, event, original, origin, suppress);
         return outcome;
+    }
+
+    /** A held event's decided outcome: reported like any, and in the totals once the record is decided. */
+    private void resolved(StreamState stream, HeldRecords.Record record, DecodedEvent event, RecordOutcome outcome,
+                          boolean suppress) {
+        report(stream, outcome, event, record.original, record.origin, suppress);
+        RecordOutcome decided = held.resolved(record, outcome, suppress);
+        if (decided != null) {
+            countRecord(decided, suppress);
+        }
+    }
+
+    private void report(StreamState stream, RecordOutcome outcome, DecodedEvent event, byte[] original,
+                        RecordOrigin origin, boolean suppress) {
+        if (suppress) {
+            return;
+        }
+        stream.counts().add(outcome);
+        listener.onOutcome(stream.monitorName(), stream.name(), outcome);
+        if (outcome.accepted()) {
+            listener.onAccepted(stream.monitorName(), stream.name(), event);
+        } else if (outcome.outcome() == Outcome.REJECTED || outcome.outcome() == Outcome.LATE) {
+            reject(stream.monitorName(), stream.name(), outcome, original, origin, false);
+        }
     }
 
     private RecordOutcome rejectUnrouted(MonitorRoute route, String stream, Rejection rejection, byte[] original,
                                          RecordOrigin origin, boolean suppress) {
-        RecordOutcome outcome = countUnrouted(route, RecordOutcome.rejected(rejection.reason(), rejection.detail()),
-                suppress);
-        if (!suppress) {
-            listener.onReject(new RejectedRecord(route.monitor.name(), stream, Outcome.REJECTED, rejection.reason(),
-                    rejection.detail(), origin, original));
-        }
+        RecordOutcome outcome = RecordOutcome.rejected(rejection.reason(), rejection.detail());
+        countUnrouted(route, outcome, suppress);
+        reject(route.monitor.name(), stream, outcome, original, origin, suppress);
         return outcome;
     }
 
     /** Counts and reports the outcome of a record one monitor rejected before it reached a stream. */
-    private RecordOutcome countUnrouted(MonitorRoute route, RecordOutcome outcome, boolean suppress) {
-        count(route.unrouted, outcome, suppress);
+    private void countUnrouted(MonitorRoute route, RecordOutcome outcome, boolean suppress) {
         if (!suppress) {
+            route.unrouted.add(outcome);
             listener.onOutcome(route.monitor.name(), null, outcome);
         }
-        return outcome;
     }
 
-    private void count(OutcomeCounts counts, RecordOutcome outcome, boolean suppress) {
+    private void reject(String monitor, String stream, RecordOutcome outcome, byte[] original, RecordOrigin origin,
+                        boolean suppress) {
+        if (!suppress) {
+            listener.onReject(new RejectedRecord(monitor, stream, outcome.outcome(), outcome.reason(), outcome.detail(),
+                    origin, original));
+        }
+    }
+
+    private void countRecord(RecordOutcome outcome, boolean suppress) {
         if (suppress) {
-            if (counts == totals) {
-                rebuilt++;
-            }
+            rebuilt++;
         } else {
-            counts.add(outcome);
+            totals.add(outcome);
         }
     }
 
