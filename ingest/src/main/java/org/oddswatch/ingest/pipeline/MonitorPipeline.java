@@ -48,9 +48,9 @@ public final class MonitorPipeline {
         this.input = input;
         this.listener = listener;
         this.parser = new RecordParser(settings.limits());
-        this.streamFactory = new StreamFactory(listener, settings, this::resolved);
+        this.streamFactory = new StreamFactory(listener, settings.replayHint(), this::resolved);
         for (MonitorDefinition monitor : monitors) {
-            routes.add(streamFactory.route(monitor));
+            routes.add(new MonitorRoute(monitor));
         }
     }
 

@@ -4,7 +4,6 @@ import java.time.Instant;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.NavigableMap;
-import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.alerts.gaps.BaselineInformation;
 import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.alerts.lifecycle.Alert;
@@ -33,7 +32,8 @@ final class StreamState {
 
     /** Receives the outcome of a held event once it is decided. */
     interface HeldOutcomes {
-        void resolved(StreamState stream, HeldRecords.Record record, DecodedEvent event, RecordOutcome outcome, boolean suppress);
+        void resolved(StreamState stream, HeldRecords.Record record, DecodedEvent event, RecordOutcome outcome,
+                      boolean suppress);
     }
 
     private final String name;
@@ -54,16 +54,14 @@ final class StreamState {
     private long termsWithValues;
 
     StreamState(String name, MonitorDefinition monitor, WindowEstimator estimator, WindowStore store,
-                WindowStore baselineStore, BaselineModel fileBaseline, String fileBaselineNote,
-                PipelineListener listener, ReplayHint replayHint, HeldOutcomes heldOutcomes) {
+                StreamBaseline baseline, PipelineListener listener, HeldOutcomes heldOutcomes) {
         this.name = name;
         this.monitor = monitor;
         this.geometry = monitor.geometry();
         this.future = new FutureHold(monitor.event());
         this.heldOutcomes = heldOutcomes;
         this.store = store;
-        this.baseline = new StreamBaseline(name, monitor, estimator, baselineStore, fileBaseline, fileBaselineNote,
-                replayHint);
+        this.baseline = baseline;
         this.windows = new WindowCloser(name, estimator, geometry, store, dedupe, baseline, listener);
     }
 
@@ -83,7 +81,7 @@ final class StreamState {
         return counts;
     }
 
-    /** Applies the time rules and dedupe and stores the event; {@link RecordOutcome#HELD} (nothing changed) when beyond the horizon. */
+    /** Applies the time rules and dedupe, then stores the event; {@link RecordOutcome#HELD} beyond the horizon. */
     RecordOutcome offer(DecodedEvent event, boolean suppress) {
         if (future.beyond(event.timeMillis(), watermark)) {
             return RecordOutcome.HELD;
@@ -96,7 +94,7 @@ final class StreamState {
         return outcome;
     }
 
-    /** Holds an event {@link #offer} found beyond the horizon; reports every decision this causes before returning. */
+    /** Holds an event {@link #offer} found beyond the horizon; reports every decision this causes. */
     void hold(DecodedEvent event, HeldRecords.Record record, boolean suppress) {
         FutureHold.Held evicted = future.evictIfFull();
         if (evicted != null) {
@@ -110,7 +108,7 @@ final class StreamState {
         }
     }
 
-    /** After the watermark moved: applies the held events now within the horizon, dismisses those it moved on from. */
+    /** After the watermark moved: applies the held events now within the horizon, dismisses the stale ones. */
     private void settleHeld(boolean suppress) {
         if (future.isEmpty()) {
             return;
@@ -204,7 +202,7 @@ final class StreamState {
         baseline.resumeCharts(published, rereadFromMillis);
     }
 
-    /** What is not monitored: the baseline's gaps ({@link StreamBaseline#gaps}), then the terms no accepted event had a value for. */
+    /** What is not monitored: the baseline's gaps, then the terms no accepted event had a value for. */
     List<MonitoringGap> gaps() {
         List<MonitoringGap> gaps = new ArrayList<>(baseline.gaps());
         if (acceptedEvents > 0) {
