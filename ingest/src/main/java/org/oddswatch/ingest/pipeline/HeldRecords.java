@@ -42,8 +42,10 @@ final class HeldRecords {
 
     /** The record-level outcome so far given one more monitor's: accepted when any accepted, else the first decided. */
     static RecordOutcome recordLevel(RecordOutcome sofar, RecordOutcome outcome) {
-        boolean better = outcome != null && !outcome.held() && (sofar == null || outcome.accepted() && !sofar.accepted());
-        return better ? outcome : sofar;
+        if (outcome == null || outcome.held()) {
+            return sofar;
+        }
+        return sofar == null || outcome.accepted() && !sofar.accepted() ? outcome : sofar;
     }
 
     /** The record being offered, once a stream holds it; else null. */

@@ -215,7 +215,7 @@ public final class MonitorPipeline {
         held.drainDecided(into);
     }
 
-    /** Tells the listener that the records offered so far are a finished batch ({@link PipelineListener#onBatchDone}). */
+    /** Tells the listener the records offered so far are a finished batch ({@link PipelineListener#onBatchDone}). */
     public void batchDone() {
         listener.onBatchDone();
     }

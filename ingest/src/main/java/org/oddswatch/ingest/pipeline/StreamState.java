@@ -117,7 +117,8 @@ final class StreamState {
         long before;
         do {
             before = watermark;
-            applyHeld(future.takeThrough(watermark > Long.MAX_VALUE - skew ? Long.MAX_VALUE : watermark + skew), suppress);
+            long horizon = watermark > Long.MAX_VALUE - skew ? Long.MAX_VALUE : watermark + skew;
+            applyHeld(future.takeThrough(horizon), suppress);
         } while (watermark != before && !future.isEmpty());
         for (FutureHold.Held held : future.takeHeldBefore(watermark - skew + 1)) {
             dismiss(held, " stayed more than " + future.skew() + " after the watermark while the stream moved on from "
@@ -209,8 +210,8 @@ final class StreamState {
             for (int t = 0; t < Math.min(Long.SIZE, monitor.terms().size()); t++) {
                 if ((termsWithValues & (1L << t)) == 0) {
                     gaps.add(MonitoringGap.term(name, monitor.terms().get(t).name(), "none of the "
-                            + BaselineInformation.withheld(acceptedEvents) + " accepted event(s) has a value for it, so "
-                            + "every event is left out of the model fit"));
+                            + BaselineInformation.withheld(acceptedEvents)
+                            + " accepted event(s) has a value for it, so every event is left out of the model fit"));
                 }
             }
         }
