@@ -13,6 +13,7 @@ import org.oddswatch.alerts.gaps.BaselineInformation;
 import org.oddswatch.estimator.WindowEstimator;
 import org.oddswatch.estimator.calibration.BaselineModel;
 import org.oddswatch.estimator.terms.DesignCoder;
+import org.oddswatch.estimator.window.WindowData;
 import org.oddswatch.estimator.window.WindowStore;
 import org.oddswatch.ingest.decode.DecodedEvent;
 import org.oddswatch.ingest.definition.BaselineSpec;
@@ -27,15 +28,13 @@ import org.oddswatch.ingest.replay.ReplayRunner;
 
 /**
  * Fits and freezes baseline models from an event file. The file runs through the same
- * {@link MonitorPipeline} as a replay (decoding, the future and late rules, the stream cap, dedupe),
- * so exactly the events of {@code [from, to)} that a replay's streams accept go into one window per
- * stream (or per monitor when pooled), which {@link WindowEstimator#fitBaseline} fits: a baseline
- * built here counts the same events as a replay's fixed-period baseline of the same period.
+ * {@link MonitorPipeline} as a replay, so exactly the events of {@code [from, to)} that a replay's
+ * streams accept go into one window per stream (or per monitor when pooled), fitted by
+ * {@link WindowEstimator#fitBaseline}: the same events as a replay's fixed-period baseline.
  *
- * <p>A model fitted from too little information ({@link BaselineInformation}: fewer than 10 events
- * of the rarer outcome per coefficient) is refused, unless the request allows weak models; then it
- * is written and flagged. Files are named {@code <monitor>.json} (no split, or pooled) or
- * {@code <monitor>-<split value>.json}, matching a definition's
+ * <p>A model fitted from too little information ({@link BaselineInformation}) is refused unless the
+ * request allows weak models; then it is written and flagged. Files are named {@code <monitor>.json}
+ * (no split, or pooled) or {@code <monitor>-<split value>.json}, matching a definition's
  * {@code baseline.file: baselines/<monitor>-{split}.json}.
  */
 public final class BaselineBuilder {
@@ -43,24 +42,11 @@ public final class BaselineBuilder {
     private BaselineBuilder() {
     }
 
-    /** One monitor's coder and its per-stream (or pooled) accumulation. */
-    private static final class Accumulator {
-        final MonitorDefinition monitor;
-        final DesignCoder coder;
-        final Map<String, WindowStore> stores = new LinkedHashMap<>();
-        final Map<String, long[]> counts = new LinkedHashMap<>();
-
-        Accumulator(MonitorDefinition monitor) {
-            this.monitor = monitor;
-            this.coder = monitor.designCoder();
-        }
-
+    /** One monitor's period stores, by stream (or one pooled, under the monitor's name). */
+    private record Accumulator(MonitorDefinition monitor, DesignCoder coder, Map<String, WindowStore> stores) {
         void add(String stream, DecodedEvent event) {
             stores.computeIfAbsent(stream, s -> new WindowStore(coder, monitor.estimates().patternLimit(),
                     monitor.strata())).add(0, event.row(), event.positive(), event.stratum());
-            long[] c = counts.computeIfAbsent(stream, s -> new long[2]);
-            c[0]++;
-            c[1] += event.positive() ? 1 : 0;
         }
     }
 
@@ -82,7 +68,7 @@ public final class BaselineBuilder {
                 // without its own baseline section: the files may not exist yet, and no rule is wanted
                 MonitorDefinition plain = monitor.withoutBaseline();
                 monitors.add(plain);
-                accumulators.put(monitor.name(), new Accumulator(plain));
+                accumulators.put(monitor.name(), new Accumulator(plain, plain.designCoder(), new LinkedHashMap<>()));
             }
         }
         if (accumulators.isEmpty()) {
@@ -97,8 +83,7 @@ public final class BaselineBuilder {
             @Override
             public void onAccepted(String monitor, String stream, DecodedEvent event) {
                 if (event.timeMillis() >= from && event.timeMillis() < to) {
-                    Accumulator accumulator = accumulators.get(monitor);
-                    accumulator.add(request.pooled() ? accumulator.monitor.name() : stream, event);
+                    accumulators.get(monitor).add(request.pooled() ? monitor : stream, event);
                 }
             }
         };
@@ -120,29 +105,26 @@ public final class BaselineBuilder {
         if (accumulator.stores.isEmpty()) {
             built.add(new BuiltBaseline(monitor.name(), monitor.name(), null, 0, 0, null,
                     "no accepted events between " + request.from() + " and " + request.to(), null));
-            return;
         }
         for (Map.Entry<String, WindowStore> entry : accumulator.stores.entrySet()) {
             String stream = entry.getKey();
-            long[] counts = accumulator.counts.get(stream);
+            WindowData period = entry.getValue().window(0, 1);
             BaselineModel model;
             try {
-                model = estimator.fitBaseline(entry.getValue().window(0, 1), request.from().toString(),
-                        request.to().toString(), monitor.checksum());
+                model = estimator.fitBaseline(period, request.from().toString(), request.to().toString(),
+                        monitor.checksum());
             } catch (IllegalArgumentException e) {
-                built.add(new BuiltBaseline(monitor.name(), stream, null, counts[0], counts[1], null, e.getMessage(),
-                        null));
+                built.add(new BuiltBaseline(monitor.name(), stream, null, period.events(), period.cases(), null,
+                        e.getMessage(), null));
                 continue;
             }
             String weakness = BaselineInformation.weakness(model);
-            if (weakness != null && !request.allowWeak()) {
-                built.add(new BuiltBaseline(monitor.name(), stream, null, counts[0], counts[1], model,
-                        "refused: " + weakness, weakness));
-                continue;
+            Path file = weakness != null && !request.allowWeak() ? null : request.outDir().resolve(fileName(stream));
+            if (file != null) {
+                BaselineFile.write(file, model);
             }
-            Path file = request.outDir().resolve(fileName(stream));
-            BaselineFile.write(file, model);
-            built.add(new BuiltBaseline(monitor.name(), stream, file, counts[0], counts[1], model, null, weakness));
+            built.add(new BuiltBaseline(monitor.name(), stream, file, period.events(), period.cases(), model,
+                    file == null ? "refused: " + weakness : null, weakness));
         }
     }
 

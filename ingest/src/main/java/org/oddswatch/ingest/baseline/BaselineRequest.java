@@ -19,12 +19,6 @@ import org.oddswatch.ingest.replay.InputFormat;
 public record BaselineRequest(Path events, InputFormat format, Instant from, Instant to, Path outDir,
                               String monitor, boolean pooled, boolean allowWeak) {
 
-    /** A request that refuses weak models. */
-    public BaselineRequest(Path events, InputFormat format, Instant from, Instant to, Path outDir, String monitor,
-                           boolean pooled) {
-        this(events, format, from, to, outDir, monitor, pooled, false);
-    }
-
     public BaselineRequest {
         if (from == null || to == null || !from.isBefore(to)) {
             throw new IllegalArgumentException("the baseline period needs --from before --to");

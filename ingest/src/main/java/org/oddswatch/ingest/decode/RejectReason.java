@@ -34,8 +34,6 @@ public final class RejectReason {
     public static final String BAD_VALUE = CodingOutcome.BAD_VALUE;
     /** The split value would open more streams than {@code split.maxStreams}. */
     public static final String TOO_MANY_STREAMS = "too-many-streams";
-    /** Replay only: the event time lies outside the requested {@code --from/--to} range. */
-    public static final String OUTSIDE_RANGE = "outside-range";
     /** Outcome reason of late records: their bucket's first window is already final. */
     public static final String LATE = "late";
     /** Outcome reason of duplicates: the id was already seen in a bucket still held. */
@@ -43,8 +41,7 @@ public final class RejectReason {
 
     /** Every rejection reason, in the order they are documented. */
     public static final List<String> ALL = List.of(MALFORMED_JSON, MALFORMED_CSV, NOT_AN_OBJECT, OVERSIZED, TOO_DEEP,
-            MISSING_FIELD, BAD_ID, BAD_OUTCOME, BAD_TIME, TOO_FAR_IN_FUTURE, UNKNOWN_LEVEL, BAD_VALUE, TOO_MANY_STREAMS,
-            OUTSIDE_RANGE);
+            MISSING_FIELD, BAD_ID, BAD_OUTCOME, BAD_TIME, TOO_FAR_IN_FUTURE, UNKNOWN_LEVEL, BAD_VALUE, TOO_MANY_STREAMS);
 
     private RejectReason() {
     }

@@ -13,11 +13,9 @@ import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.estimator.result.WindowStatus;
 
 /**
- * The CUSUM values published with final window estimates (the {@code cusum} field of the estimates
- * topic or file), by stream and window end, read back so a restarted service continues its charts
- * ({@link MonitorPipeline#resumeCharts}). Interim estimates, estimates without CUSUM values (none
- * configured, or withheld with the window's counts) and text that is not an estimate are passed
- * over. A window read twice keeps the later copy (they are equal: estimates are deterministic).
+ * The CUSUM values published with final window estimates, by stream and window end, read back so a
+ * restarted service continues its charts ({@link MonitorPipeline#resumeCharts}). Interim estimates
+ * and estimates without CUSUM values are passed over; a window read twice keeps the later copy.
  */
 public final class CusumHistory {
 
@@ -35,19 +33,16 @@ public final class CusumHistory {
         } catch (IOException | RuntimeException ex) {
             return false;
         }
-        if (e == null || e.stream() == null || e.windowEnd() == null) {
-            return false;
-        }
-        if (e.status() == WindowStatus.FINAL && e.cusum() != null) {
+        boolean estimate = e != null && e.stream() != null && e.windowEnd() != null;
+        if (estimate && e.status() == WindowStatus.FINAL && e.cusum() != null) {
             byStream.computeIfAbsent(e.stream(), s -> new TreeMap<>()).put(e.windowEnd(), e.cusum());
         }
-        return true;
+        return estimate;
     }
 
     /** One stream's values by window end (empty when none). */
     public NavigableMap<Instant, List<CusumValue>> of(String stream) {
-        NavigableMap<Instant, List<CusumValue>> values = byStream.get(stream);
-        return values == null ? new TreeMap<>() : values;
+        return byStream.getOrDefault(stream, new TreeMap<>());
     }
 
     /** Windows held, over all streams. */

@@ -2,25 +2,14 @@ package org.oddswatch.ingest.pipeline;
 
 /**
  * The dedupe window of one stream: the ids of the events its window store still holds, each tagged
- * with the bucket it was accepted in, so that an id seen again while its bucket is held is a
- * duplicate. Not thread-safe.
+ * with its bucket, so that an id seen again while held is a duplicate. An id is held if and only if
+ * it was added with tag {@code max(bucket, floor at that time) >= floor}; raising the floor is O(1).
+ * Ids are compared in full, so the answer is exact. Not thread-safe; ids must not be null.
  *
- * <p>Invariant: an id is held if and only if it was added with tag {@code t >= floor}, where the
- * tag of an add is {@code max(bucket, floor at that time)} (an id added to a bucket already below
- * the floor is thus held until the floor next rises). Raising the floor is O(1): entries below it
- * stay in their slots as tombstones that count as absent; an id that comes back reuses its own
- * tombstone, other tombstones are reclaimed by the next rebuild. Ids are compared in full on a hash
- * match, so the answer is exact (no false duplicates). Ids must not be null.
- *
- * <p>Layout: open addressing with linear probing over parallel arrays (hash codes, tags, ids); a
- * stored hash of 0 marks an empty slot (a real hash of 0, e.g. of {@code ""}, is stored as 1). A
- * lookup walks the hash array to the id or the first empty slot, reading an id only on a hash
- * match, so a fresh id usually costs one or two hash reads. When used slots (held + tombstones)
- * would pass half the capacity (load factor 0.5), the table is rebuilt without tombstones at the
- * smallest power-of-two capacity, at least 16, that is at most an eighth full (growing or
- * shrinking): at least three eighths of the slots are then filled before the next rebuild, so a
- * rebuild costs amortised O(1) per add (at most a third of a re-insert and about five slot reads).
- * Memory: 16 to 32 bytes of slots per held id, besides the ids themselves.
+ * <p>Layout: open addressing with linear probing over parallel arrays (hash, tag, id); hash 0 marks
+ * an empty slot (a real 0 is stored as 1); entries below the floor stay as tombstones. When used
+ * slots would pass half the capacity, the table is rebuilt without tombstones at the smallest power
+ * of two (at least 16) that is at most an eighth full, so rebuilds cost amortised O(1) per add.
  */
 final class DedupeWindow {
 
@@ -60,7 +49,7 @@ final class DedupeWindow {
         slot = ~slot;
         if (used + 1 > hashes.length >>> 1) {
             rebuild();
-            slot = emptySlotFor(hash);
+            slot = ~probe(id, hash);
         }
         hashes[slot] = hash;
         tags[slot] = tag;
@@ -139,22 +128,13 @@ final class DedupeWindow {
         for (int slot = 0; slot < oldHashes.length; slot++) {
             int hash = oldHashes[slot];
             if (hash != EMPTY && oldTags[slot] >= floor) {
-                int target = emptySlotFor(hash);
+                int target = ~probe(oldIds[slot], hash);
                 hashes[target] = hash;
                 tags[target] = oldTags[slot];
                 ids[target] = oldIds[slot];
             }
         }
         used = held;
-    }
-
-    private int emptySlotFor(int hash) {
-        int mask = hashes.length - 1;
-        int slot = indexOf(hash);
-        while (hashes[slot] != EMPTY) {
-            slot = (slot + 1) & mask;
-        }
-        return slot;
     }
 
     private void allocate(int capacity) {

@@ -8,18 +8,50 @@ import java.util.function.Consumer;
 import org.oddswatch.ingest.decode.DecodedEvent;
 
 /**
- * The record-level bookkeeping of records that streams hold beyond their time horizon: the record
- * being offered when a stream holds it (shared by the monitors of the input), the live records still
- * held (the service commits no offset past them), and the record-level outcomes decided since the
- * last {@link #drainDecided}. A held record is counted in the pipeline's totals once: when no
- * stream holds it any more, or at once when another monitor accepted it.
+ * The records that streams hold beyond their time horizon ({@link FutureHold}), at record level: a
+ * record may be held by several monitors' streams and is counted in the pipeline's totals once,
+ * when no stream holds it any more, or at once when another monitor accepted it. Tracks the live
+ * records still held (the service commits no offset past them) and the record outcomes decided
+ * since the last {@link #drainDecided}.
  */
 final class HeldRecords {
 
+    /** A held record: its bytes and origin (for rejects) and its record-level outcome so far. */
+    static final class Record {
+        final byte[] original;
+        final RecordOrigin origin;
+        /** Streams still holding the record. */
+        int holders;
+        /** Accepted when any monitor accepted the record, else the first outcome. */
+        RecordOutcome best;
+        /** True while the record's own offer is running. */
+        boolean inOffer = true;
+        boolean counted;
+
+        Record(byte[] original, RecordOrigin origin) {
+            this.original = original;
+            this.origin = origin;
+        }
+
+        /** Merges one outcome; returns true when the record-level outcome is now known and not yet counted. */
+        boolean merge(RecordOutcome outcome) {
+            best = recordLevel(best, outcome);
+            return !counted && best != null && (best.accepted() || holders == 0);
+        }
+    }
+
+    /** The record-level outcome so far given one more monitor's: accepted when any accepted, else the first decided. */
+    static RecordOutcome recordLevel(RecordOutcome sofar, RecordOutcome outcome) {
+        if (outcome == null || outcome.held()) {
+            return sofar;
+        }
+        return sofar == null || outcome.accepted() && !sofar.accepted() ? outcome : sofar;
+    }
+
     /** The record being offered, once a stream holds it; else null. */
-    private HeldRecord current;
+    private Record current;
     /** Live (not re-read) records some stream still holds. */
-    private final Set<HeldRecord> live = new LinkedHashSet<>();
+    private final Set<Record> live = new LinkedHashSet<>();
     private final List<RecordOutcome> decided = new ArrayList<>();
 
     /** A new record is offered (nothing of an offer that failed half-way is carried over). */
@@ -30,7 +62,7 @@ final class HeldRecords {
     /** A stream holds {@code event} of the record being offered. */
     void hold(StreamState stream, DecodedEvent event, byte[] original, RecordOrigin origin, boolean suppress) {
         if (current == null) {
-            current = new HeldRecord(original, origin);
+            current = new Record(original, origin);
         }
         current.holders++;
         stream.hold(event, current, suppress);
@@ -38,42 +70,39 @@ final class HeldRecords {
 
     /**
      * Ends the offer of a record: the record-level outcome to count now ({@code overall} when no
-     * stream held the record), or {@link RecordOutcome#HELD} when holding streams decide it later.
+     * stream held it), or {@link RecordOutcome#HELD} when the holding streams decide it later.
      *
      * @param overall the best outcome of the monitors that did not hold the record, or null
      */
     RecordOutcome endOffer(RecordOutcome overall, boolean suppress) {
-        HeldRecord held = current;
+        Record record = current;
         current = null;
-        if (held == null) {
+        if (record == null) {
             return overall;
         }
-        held.inOffer = false;
-        held.merge(overall);
-        if (!suppress && held.holders > 0) {
-            live.add(held);
+        record.inOffer = false;
+        if (!suppress && record.holders > 0) {
+            live.add(record);
         }
-        if (!held.decided()) {
+        if (!record.merge(overall)) {
             return RecordOutcome.HELD;
         }
-        held.totalsCounted = true;
-        return held.best;
+        record.counted = true;
+        return record.best;
     }
 
     /**
-     * One stream decided its held event of {@code record}: the record-level outcome to count in the
-     * totals now, or null when other streams still hold the record (or it was counted already).
+     * One stream decided its held event of {@code record}: the record-level outcome to count now, or
+     * null when other streams still hold the record, its offer is running, or it was counted.
      */
-    RecordOutcome resolved(HeldRecord record, RecordOutcome outcome, boolean suppress) {
-        record.holders--;
-        if (record.holders == 0) {
+    RecordOutcome resolved(Record record, RecordOutcome outcome, boolean suppress) {
+        if (--record.holders == 0) {
             live.remove(record);
         }
-        record.merge(outcome);
-        if (record.inOffer || !record.decided()) {
+        if (!record.merge(outcome) || record.inOffer) {
             return null;
         }
-        record.totalsCounted = true;
+        record.counted = true;
         if (!suppress) {
             decided.add(record.best);
         }
@@ -82,18 +111,12 @@ final class HeldRecords {
 
     /** The smallest source offset of a live held record, or {@link Long#MAX_VALUE} when none is held. */
     long oldestLiveOffset() {
-        long oldest = Long.MAX_VALUE;
-        for (HeldRecord record : live) {
-            oldest = Math.min(oldest, record.origin.offset());
-        }
-        return oldest;
+        return live.stream().mapToLong(r -> r.origin.offset()).min().orElse(Long.MAX_VALUE);
     }
 
-    /** Hands over (and forgets) the record-level outcomes decided since the last call, not suppressed. */
+    /** Hands over (and forgets) the record outcomes decided since the last call, not suppressed. */
     void drainDecided(Consumer<RecordOutcome> into) {
-        if (!decided.isEmpty()) {
-            decided.forEach(into);
-            decided.clear();
-        }
+        decided.forEach(into);
+        decided.clear();
     }
 }

@@ -16,13 +16,12 @@ import org.oddswatch.ingest.decode.UnreadableRecordException;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 
 /**
- * The path of one input (topic or file): parse each record once ({@link RecordParser}), decode the
- * tree for every monitor reading the input ({@link org.oddswatch.ingest.decode.EventDecoder}), route
- * the event to the stream of its split value, apply the time rules and dedupe, update the windows,
- * close windows as the watermark passes them, run the alert rules, and report everything to a
- * {@link PipelineListener}. Every record ends in exactly one counted outcome per monitor, and once in
- * the record totals. Deterministic: the same records in the same order give the same output, byte for
- * byte. Not thread-safe: one pipeline, one thread at a time.
+ * The path of one input (topic or file): parse each record once, decode it for every monitor
+ * reading the input, route the event to the stream of its split value ({@link StreamState}: time
+ * rules, dedupe, windows, alert rules) and report everything to a {@link PipelineListener}. Every
+ * record ends in exactly one counted outcome per monitor, and once in the record totals.
+ * Deterministic: the same records in the same order give the same output, byte for byte. Not
+ * thread-safe.
  */
 public final class MonitorPipeline {
 
@@ -31,7 +30,6 @@ public final class MonitorPipeline {
     private final List<MonitorRoute> routes = new ArrayList<>();
     private final Map<String, StreamState> streamsByName = new LinkedHashMap<>();
     private final PipelineListener listener;
-    private final PipelineSettings settings;
     private final StreamFactory streamFactory;
     private final HeldRecords held = new HeldRecords();
     private final OutcomeCounts totals = new OutcomeCounts();
@@ -49,11 +47,10 @@ public final class MonitorPipeline {
                            PipelineSettings settings) {
         this.input = input;
         this.listener = listener;
-        this.settings = settings;
         this.parser = new RecordParser(settings.limits());
-        this.streamFactory = new StreamFactory(listener, settings, this::resolved);
+        this.streamFactory = new StreamFactory(listener, settings.replayHint(), this::resolved);
         for (MonitorDefinition monitor : monitors) {
-            routes.add(streamFactory.route(monitor));
+            routes.add(new MonitorRoute(monitor));
         }
     }
 
@@ -62,7 +59,7 @@ public final class MonitorPipeline {
         this.onRelease = action;
     }
 
-    /** The number of streams held (read by the per-partition gauge without copying a list). */
+    /** The number of streams held. */
     public int streamCount() {
         return streamsByName.size();
     }
@@ -74,12 +71,11 @@ public final class MonitorPipeline {
     }
 
     /**
-     * Offers one record value: parses it once, then {@link #offerTree}; a value that is not one JSON
-     * object within the limits goes to {@link #offerUnreadable} with its reason.
+     * Offers one record value: {@link #offerTree} once parsed, else {@link #offerUnreadable}.
      *
-     * @param suppressOutput true while rebuilding state: state is updated, nothing is emitted and
-     *     nothing is counted (the record was handled before the restart)
-     * @return the record's outcome (accepted when any monitor accepted it)
+     * @param suppressOutput true while rebuilding state: state is updated, nothing emitted or counted
+     * @return the record's outcome: accepted when any monitor accepted it, else the first monitor's
+     *     ({@link RecordOutcome#HELD} until the streams holding it decide)
      */
     public RecordOutcome offer(byte[] value, RecordOrigin origin, boolean suppressOutput) {
         JsonNode tree;
@@ -91,21 +87,13 @@ public final class MonitorPipeline {
         return offerTree(tree, value, origin, suppressOutput);
     }
 
-    /**
-     * Offers a record that is already a JSON tree (a parsed value, or a CSV row): every monitor of the
-     * input decodes it, routes it, applies the time rules and dedupe, updates the windows and reports
-     * the outcome.
-     *
-     * @param original the record's bytes, for rejects
-     */
+    /** Offers a record already parsed (a JSON value or a CSV row); {@code original}: its bytes, for rejects. */
     public RecordOutcome offerTree(JsonNode tree, byte[] original, RecordOrigin origin, boolean suppressOutput) {
         RecordOutcome overall = null;
         held.beginOffer();
         for (MonitorRoute route : routes) {
-            RecordOutcome outcome = offerTo(route, route.decoder.decode(tree), original, origin, suppressOutput);
-            if (!outcome.held() && (overall == null || (outcome.accepted() && !overall.accepted()))) {
-                overall = outcome;
-            }
+            overall = HeldRecords.recordLevel(overall,
+                    offerTo(route, route.decoder.decode(tree), original, origin, suppressOutput));
         }
         overall = held.endOffer(overall, suppressOutput);
         if (overall == null) {
@@ -113,47 +101,17 @@ public final class MonitorPipeline {
         } else if (overall.held()) {
             return overall; // counted when the holding streams decide
         }
-        count(totals, overall, suppressOutput);
+        countRecord(overall, suppressOutput);
         return overall;
     }
 
     /**
-     * The smallest source offset of a live record that some stream still holds beyond its time
-     * horizon, or {@link Long#MAX_VALUE} when none is held. The live service commits no offset past
-     * it: a held record is in no window yet, so a restart must read it again (the rebuild re-reads
-     * what lies between it and the last record applied, as it does for any uncommitted record).
+     * The smallest source offset of a live record some stream still holds beyond its time horizon,
+     * or {@link Long#MAX_VALUE} when none is held. The service commits no offset past it: a held
+     * record is in no window yet, so a restart must read it again.
      */
     public long oldestHeldOffset() {
         return held.oldestLiveOffset();
-    }
-
-    /**
-     * A held event's decided outcome: counted and reported like an outcome of {@code offer} (in the
-     * stream, to the listener, to rejects), and once all streams holding the record decided, in the
-     * record totals.
-     */
-    private void resolved(StreamState stream, HeldRecord record, DecodedEvent event, RecordOutcome outcome,
-                          boolean suppress) {
-        report(stream, outcome, event, record.original, record.origin, suppress);
-        RecordOutcome decided = held.resolved(record, outcome, suppress);
-        if (decided != null) {
-            count(totals, decided, suppress);
-        }
-    }
-
-    private void report(StreamState stream, RecordOutcome outcome, DecodedEvent event, byte[] original,
-                        RecordOrigin origin, boolean suppress) {
-        count(stream.counts(), outcome, suppress);
-        if (suppress) {
-            return;
-        }
-        listener.onOutcome(stream.monitorName(), stream.name(), outcome);
-        if (outcome.accepted()) {
-            listener.onAccepted(stream.monitorName(), stream.name(), event);
-        } else if (outcome.outcome() == Outcome.REJECTED || outcome.outcome() == Outcome.LATE) {
-            listener.onReject(new RejectedRecord(stream.monitorName(), stream.name(), outcome.outcome(),
-                    outcome.reason(), outcome.detail(), origin, original));
-        }
     }
 
     /** Counts and reports a record that could not be read at all (before any monitor saw it). */
@@ -163,10 +121,8 @@ public final class MonitorPipeline {
         for (MonitorRoute route : routes) {
             countUnrouted(route, outcome, suppressOutput);
         }
-        count(totals, outcome, suppressOutput);
-        if (!suppressOutput) {
-            listener.onReject(new RejectedRecord(null, null, Outcome.REJECTED, reason, detail, origin, original));
-        }
+        countRecord(outcome, suppressOutput);
+        reject(null, null, outcome, original, origin, suppressOutput);
         return outcome;
     }
 
@@ -176,73 +132,90 @@ public final class MonitorPipeline {
             return rejectUnrouted(route, null, decoded.rejection(), original, origin, suppress);
         }
         DecodedEvent event = decoded.event();
-        if (!settings.inRange(event.timeMillis())) {
-            return countUnrouted(route, RecordOutcome.rejected(RejectReason.OUTSIDE_RANGE, "outside the replay range"),
-                    suppress);
-        }
         StreamState stream = route.streams.get(event.splitValue());
         if (stream == null) {
-            String streamName = route.monitor.streamName(event.splitValue());
+            String name = route.monitor.streamName(event.splitValue());
             if (route.monitor.split() != null && route.streams.size() >= route.monitor.split().maxStreams()) {
-                // The reject names the would-be stream; the meters get none (the stream tag holds
-                // accepted streams only, never a name made from a rejected record's value).
-                return rejectUnrouted(route, streamName, new Rejection(RejectReason.TOO_MANY_STREAMS,
+                // the reject names the would-be stream; the meters never get a name made from a rejected value
+                return rejectUnrouted(route, name, new Rejection(RejectReason.TOO_MANY_STREAMS,
                         "split value '" + event.splitValue() + "' would be stream " + (route.streams.size() + 1)
                                 + " of at most " + route.monitor.split().maxStreams()), original, origin, suppress);
             }
-            stream = streamFactory.open(route, streamName, event.splitValue());
+            stream = streamFactory.open(route, name, event.splitValue());
             route.streams.put(event.splitValue(), stream);
-            streamsByName.put(streamName, stream);
+            streamsByName.put(name, stream);
         }
         RecordOutcome outcome = stream.offer(event, suppress);
         if (outcome.held()) {
             held.hold(stream, event, original, origin, suppress);
-            return outcome;
+        } else {
+            report(stream, outcome, event, original, origin, suppress);
         }
-        report(stream, outcome, event, original, origin, suppress);
         return outcome;
+    }
+
+    /** A held event's decided outcome: reported like any, and in the totals once the record is decided. */
+    private void resolved(StreamState stream, HeldRecords.Record record, DecodedEvent event, RecordOutcome outcome,
+                          boolean suppress) {
+        report(stream, outcome, event, record.original, record.origin, suppress);
+        RecordOutcome decided = held.resolved(record, outcome, suppress);
+        if (decided != null) {
+            countRecord(decided, suppress);
+        }
+    }
+
+    private void report(StreamState stream, RecordOutcome outcome, DecodedEvent event, byte[] original,
+                        RecordOrigin origin, boolean suppress) {
+        if (suppress) {
+            return;
+        }
+        stream.counts().add(outcome);
+        listener.onOutcome(stream.monitorName(), stream.name(), outcome);
+        if (outcome.accepted()) {
+            listener.onAccepted(stream.monitorName(), stream.name(), event);
+        } else if (outcome.outcome() == Outcome.REJECTED || outcome.outcome() == Outcome.LATE) {
+            reject(stream.monitorName(), stream.name(), outcome, original, origin, false);
+        }
     }
 
     private RecordOutcome rejectUnrouted(MonitorRoute route, String stream, Rejection rejection, byte[] original,
                                          RecordOrigin origin, boolean suppress) {
-        RecordOutcome outcome = countUnrouted(route, RecordOutcome.rejected(rejection.reason(), rejection.detail()),
-                suppress);
-        if (!suppress) {
-            listener.onReject(new RejectedRecord(route.monitor.name(), stream, Outcome.REJECTED, rejection.reason(),
-                    rejection.detail(), origin, original));
-        }
+        RecordOutcome outcome = RecordOutcome.rejected(rejection.reason(), rejection.detail());
+        countUnrouted(route, outcome, suppress);
+        reject(route.monitor.name(), stream, outcome, original, origin, suppress);
         return outcome;
     }
 
     /** Counts and reports the outcome of a record one monitor rejected before it reached a stream. */
-    private RecordOutcome countUnrouted(MonitorRoute route, RecordOutcome outcome, boolean suppress) {
-        count(route.unrouted, outcome, suppress);
+    private void countUnrouted(MonitorRoute route, RecordOutcome outcome, boolean suppress) {
         if (!suppress) {
+            route.unrouted.add(outcome);
             listener.onOutcome(route.monitor.name(), null, outcome);
         }
-        return outcome;
     }
 
-    private void count(OutcomeCounts counts, RecordOutcome outcome, boolean suppress) {
-        if (suppress) {
-            if (counts == totals) {
-                rebuilt++;
-            }
-        } else {
-            counts.add(outcome);
+    private void reject(String monitor, String stream, RecordOutcome outcome, byte[] original, RecordOrigin origin,
+                        boolean suppress) {
+        if (!suppress) {
+            listener.onReject(new RejectedRecord(monitor, stream, outcome.outcome(), outcome.reason(), outcome.detail(),
+                    origin, original));
         }
     }
 
-    /**
-     * Hands over the record-level outcomes of held records decided since the last call (not
-     * suppressed): a caller that counts records by the return value of {@code offer}, which was
-     * {@link RecordOutcome#HELD} for them, counts them here.
-     */
+    private void countRecord(RecordOutcome outcome, boolean suppress) {
+        if (suppress) {
+            rebuilt++;
+        } else {
+            totals.add(outcome);
+        }
+    }
+
+    /** Hands over the record outcomes of held records decided since the last call (offer returned HELD for them). */
     public void drainDecidedHeld(Consumer<RecordOutcome> into) {
         held.drainDecided(into);
     }
 
-    /** Tells the listener that the records offered so far are a finished batch ({@link PipelineListener#onBatchDone}). */
+    /** Tells the listener the records offered so far are a finished batch ({@link PipelineListener#onBatchDone}). */
     public void batchDone() {
         listener.onBatchDone();
     }
@@ -256,7 +229,7 @@ public final class MonitorPipeline {
     public void advanceWatermark(String stream, long eventTime) {
         StreamState state = streamsByName.get(stream);
         if (state != null) {
-            state.advanceWatermark(eventTime, false);
+            state.advanceWatermark(eventTime);
         }
     }
 
@@ -266,33 +239,25 @@ public final class MonitorPipeline {
     }
 
     /**
-     * Restores open alert episodes published before a restart; alerts of streams not seen yet are kept
-     * until the stream's first event. The latest message of each episode still open goes to
-     * {@link PipelineListener#onAlertRestored} (for the alert-state gauge) once the stream is held
-     * here: at once for a stream that exists, else on its first event in this pipeline.
+     * Restores open alert episodes published before a restart, for a stream not seen yet on its first
+     * event; the latest message of each open episode then goes to {@link PipelineListener#onAlertRestored}.
      */
     public void restoreAlerts(List<Alert> published) {
         streamFactory.restoreAlerts(published, streamsByName);
     }
 
     /**
-     * Continues the CUSUM charts after a restart from the values published with final windows, for
-     * the streams with a baseline file ({@link StreamState#resumeCharts}): at once for a stream that
-     * exists, else before its first event here. Call before the rebuild re-feeds any record.
+     * Continues the CUSUM charts of the streams with a baseline file after a restart
+     * ({@link StreamBaseline#resumeCharts}), for a stream not seen yet before its first event. Call
+     * before the rebuild re-feeds any record.
      *
-     * @param rereadFromMillis the earliest event time the rebuild is sure to re-read: every event at
-     *     or after it lies at or after the offset the rebuild starts from (its record time is at or
-     *     after its event time)
+     * @param rereadFromMillis the earliest event time the rebuild is sure to re-read
      */
     public void resumeCharts(CusumHistory published, long rereadFromMillis) {
         streamFactory.resumeCharts(published, rereadFromMillis, streamsByName.values());
     }
 
-    /**
-     * The pipeline's streams leave this instance (its partition was revoked or lost): tells the
-     * listener ({@link PipelineListener#onStreamsReleased}) so their meters go, and runs the
-     * {@link #onRelease} action. The pipeline is not used afterwards.
-     */
+    /** The streams leave this instance (partition revoked or lost): tells the listener, runs {@link #onRelease}. */
     public void release() {
         listener.onStreamsReleased(streams());
         if (onRelease != null) {

@@ -1,29 +1,87 @@
 package org.oddswatch.ingest.pipeline;
 
+import java.io.IOException;
+import java.nio.file.Path;
 import java.util.LinkedHashMap;
 import java.util.Map;
+import org.oddswatch.alerts.baseline.BaselineFile;
+import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.estimator.WindowEstimator;
 import org.oddswatch.estimator.calibration.BaselineModel;
+import org.oddswatch.estimator.window.WindowStore;
 import org.oddswatch.ingest.decode.EventDecoder;
+import org.oddswatch.ingest.definition.BaselineSpec;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 
-/** One monitor of a pipeline: its decoder, estimator, frozen baseline shared by its streams, and streams. */
+/**
+ * One monitor of a pipeline: its decoder, estimator and streams, and the baseline each new stream
+ * starts with (a fixed period accumulated by the stream, or a frozen file: one for the monitor, read
+ * at once, or one per split value, read when its stream opens).
+ */
 final class MonitorRoute {
 
     final MonitorDefinition monitor;
     final EventDecoder decoder;
     final WindowEstimator estimator;
-    /** The baseline file every stream of the monitor uses (a file name without {@code {split}}), else null. */
-    final BaselineModel sharedBaseline;
     /** Streams by split value (null without a split), in creation order. */
     final Map<String, StreamState> streams = new LinkedHashMap<>();
     /** Outcomes of records this monitor rejected before they reached a stream. */
     final OutcomeCounts unrouted = new OutcomeCounts();
+    /** The baseline file every stream uses (a file name without {@code {split}}), else null. */
+    private final BaselineModel sharedBaseline;
 
-    MonitorRoute(MonitorDefinition monitor, BaselineModel sharedBaseline) {
+    /** @throws IllegalArgumentException when the baseline file shared by every stream cannot be read */
+    MonitorRoute(MonitorDefinition monitor) {
         this.monitor = monitor;
         this.decoder = new EventDecoder(monitor);
         this.estimator = new WindowEstimator(decoder.coder(), monitor.estimatorOptions());
-        this.sharedBaseline = sharedBaseline;
+        BaselineSpec spec = monitor.baseline();
+        if (spec == null || spec.isFixedPeriod() || spec.file().contains("{split}")) {
+            this.sharedBaseline = null;
+            return;
+        }
+        Path file = spec.fileFor(monitor.definitionDir(), null);
+        try {
+            this.sharedBaseline = readBaseline(file);
+        } catch (IOException | RuntimeException e) {
+            throw new IllegalArgumentException("monitor " + monitor.name() + ": cannot read baseline file " + file
+                    + ": " + e.getMessage(), e);
+        }
+    }
+
+    /**
+     * The baseline of a new stream. A baseline file of its own that cannot be read leaves the stream
+     * without a baseline, with the reason as its note (shown as a monitoring gap).
+     */
+    StreamBaseline baseline(String stream, String splitValue, ReplayHint replayHint) {
+        BaselineSpec spec = monitor.baseline();
+        if (spec != null && spec.isFixedPeriod()) {
+            return new StreamBaseline(stream, monitor, estimator, newStore(), null, null, replayHint);
+        }
+        BaselineModel model = sharedBaseline;
+        String note = null;
+        if (spec != null && model == null) {
+            Path file = spec.fileFor(monitor.definitionDir(), splitValue);
+            try {
+                model = readBaseline(file);
+            } catch (IOException | RuntimeException e) {
+                note = "cannot read baseline file " + file + ": " + e.getMessage();
+            }
+        }
+        return new StreamBaseline(stream, monitor, estimator, null, model, note, replayHint);
+    }
+
+    WindowStore newStore() {
+        return new WindowStore(decoder.coder(), monitor.estimates().patternLimit(), monitor.strata());
+    }
+
+    /** A frozen baseline file ({@link BaselineFile}), checked against the design columns and the checksum. */
+    private BaselineModel readBaseline(Path file) throws IOException {
+        BaselineModel model = BaselineFile.read(file, monitor.designCoder().columns());
+        if (!BaselineFile.checksumMatches(model, monitor.checksum())) {
+            throw new IOException("it was fitted under another definition of the outcome or terms (checksum "
+                    + model.definitionChecksum() + ", this definition " + monitor.checksum() + ")");
+        }
+        return model;
     }
 }

@@ -1,23 +1,17 @@
 package org.oddswatch.ingest.pipeline;
 
+import java.util.Arrays;
+import java.util.Collections;
 import java.util.HashMap;
 import java.util.LinkedHashMap;
 import java.util.Map;
 import java.util.TreeMap;
 
-/**
- * Mutable counts of record outcomes and of reasons (rejected, late, duplicate). Not thread-safe.
- *
- * <p>Outcomes are counted in an array by ordinal; the reason map is touched only for records that
- * have a reason (accepted ones have none), with one mutable counter per reason, so counting an
- * accepted record is one array increment.
- */
+/** Mutable counts of record outcomes and of their reasons (rejected, late, duplicate). Not thread-safe. */
 public final class OutcomeCounts {
 
-    private static final Outcome[] OUTCOMES = Outcome.values();
-
-    private final long[] outcomes = new long[OUTCOMES.length];
-    private final HashMap<String, long[]> reasons = new HashMap<>();
+    private final long[] outcomes = new long[Outcome.values().length];
+    private final Map<String, long[]> reasons = new HashMap<>();
 
     /** Counts one outcome; {@link RecordOutcome#HELD} is not an outcome yet and is skipped. */
     public void add(RecordOutcome outcome) {
@@ -25,14 +19,8 @@ public final class OutcomeCounts {
             return;
         }
         outcomes[outcome.outcome().ordinal()]++;
-        String reason = outcome.reason();
-        if (reason != null) {
-            long[] count = reasons.get(reason);
-            if (count == null) {
-                count = new long[1];
-                reasons.put(reason, count);
-            }
-            count[0]++;
+        if (outcome.reason() != null) {
+            reasons.computeIfAbsent(outcome.reason(), r -> new long[1])[0]++;
         }
     }
 
@@ -42,22 +30,17 @@ public final class OutcomeCounts {
 
     /** All counted records: accepted + rejected + late + duplicate. */
     public long total() {
-        long sum = 0;
-        for (long count : outcomes) {
-            sum += count;
-        }
-        return sum;
+        return Arrays.stream(outcomes).sum();
     }
 
     public long reason(String reason) {
-        long[] count = reasons.get(reason);
-        return count == null ? 0L : count[0];
+        return reasons.getOrDefault(reason, new long[1])[0];
     }
 
     /** An immutable copy with every outcome present (zeros included) and reasons sorted. */
     public Snapshot snapshot() {
         Map<String, Long> byOutcome = new LinkedHashMap<>();
-        for (Outcome outcome : OUTCOMES) {
+        for (Outcome outcome : Outcome.values()) {
             byOutcome.put(outcome.toString(), get(outcome));
         }
         Map<String, Long> byReason = new TreeMap<>();
@@ -74,8 +57,8 @@ public final class OutcomeCounts {
     public record Snapshot(long consumed, Map<String, Long> outcomes, Map<String, Long> reasons) {
 
         public Snapshot {
-            outcomes = java.util.Collections.unmodifiableMap(new LinkedHashMap<>(outcomes));
-            reasons = java.util.Collections.unmodifiableMap(new TreeMap<>(reasons));
+            outcomes = Collections.unmodifiableMap(new LinkedHashMap<>(outcomes));
+            reasons = Collections.unmodifiableMap(new TreeMap<>(reasons));
         }
 
         public long outcome(Outcome outcome) {

@@ -7,8 +7,8 @@ import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.ingest.decode.DecodedEvent;
 
 /**
- * Receives a pipeline's output, on the thread that called the pipeline. Write JSON with
- * {@code org.oddswatch.alerts.json.Json.write(...)}; for rejects use {@link RejectedRecord#toJson()}.
+ * Receives a pipeline's output, on the thread that called the pipeline. Nothing is reported of
+ * records offered with output suppressed (a state rebuild).
  */
 public interface PipelineListener {
 
@@ -24,44 +24,31 @@ public interface PipelineListener {
     default void onAlert(Alert alert) {
     }
 
-    /**
-     * An event a stream accepted (passed the time rules, the stream cap and dedupe), with its
-     * decoding: the baseline builder collects these, so it fits exactly the events the pipeline keeps.
-     * Not called while rebuilding.
-     */
+    /** An event a stream accepted (passed the time rules, the stream cap and dedupe), with its decoding. */
     default void onAccepted(String monitor, String stream, DecodedEvent event) {
     }
 
-    // ---- for meters: none of these is called while rebuilding (suppressed output) ---------------
-
     /**
-     * One record's outcome in one monitor: {@code stream} is null when the record was routed to no
-     * stream the monitor holds (rejected before routing, or {@code too-many-streams}: it never names
-     * a stream made from a rejected value), {@code monitor} is null when no monitor could read it.
+     * One record's outcome in one monitor: {@code stream} is null when the record reached no stream
+     * (rejected before routing, or {@code too-many-streams}); {@code monitor} is null when no monitor
+     * could read it.
      */
     default void onOutcome(String monitor, String stream, RecordOutcome outcome) {
     }
 
-    /**
-     * The records offered since the last call are a batch that is done ({@link MonitorPipeline#batchDone}):
-     * a listener that sums per-record work (counters) may add it up here, on the thread that offered
-     * the records.
-     */
+    /** The records offered since the last call are a finished batch ({@link MonitorPipeline#batchDone}). */
     default void onBatchDone() {
     }
 
-    /** A final window was estimated, taking {@code fitNanos} of wall-clock time (measured for meters only). */
+    /** A final window was estimated in {@code fitNanos} of wall-clock time (for meters only). */
     default void onFinalFit(WindowEstimate estimate, long fitNanos) {
     }
 
-    /** A stream's CUSUM chart values after events were closed (empty list: no CUSUM rule). */
+    /** A stream's CUSUM chart values after windows were closed (empty list: no CUSUM rule). */
     default void onCusum(String stream, List<CusumReading> readings) {
     }
 
-    /**
-     * An alert episode still open after a restart (the latest published message of its rule and
-     * subject), from {@link MonitorPipeline#restoreAlerts}; it is not published again.
-     */
+    /** An alert episode still open after a restart (its latest published message), not published again. */
     default void onAlertRestored(Alert alert) {
     }
 

@@ -2,7 +2,6 @@ package org.oddswatch.ingest.pipeline;
 
 import java.nio.ByteBuffer;
 import java.nio.charset.CharacterCodingException;
-import java.nio.charset.CodingErrorAction;
 import java.nio.charset.StandardCharsets;
 import java.util.Base64;
 import org.oddswatch.ingest.decode.Unicode;
@@ -26,29 +25,21 @@ public record RejectedRecord(String monitor, String stream, Outcome outcome, Str
 
     /**
      * The JSON view: reason, detail, source topic/partition/offset or line, the original bytes as
-     * base64 and, when they are valid UTF-8, as text. Unpaired surrogates in the texts become U+FFFD.
+     * base64 and, when they are valid UTF-8, as text. Unpaired surrogates in the texts (a detail may
+     * quote one) become U+FFFD, so that every reject can be written.
      */
     public Json toJson() {
-        String text = null;
-        String base64 = null;
-        if (value != null) {
-            text = utf8(value);
-            base64 = Base64.getEncoder().encodeToString(value);
-        }
-        // A detail may quote record text holding an unpaired surrogate (a JSON escape of U+D800 alone):
-        // replaced, so that every reject can be encoded and written.
         return new Json(Unicode.wellFormed(monitor), Unicode.wellFormed(stream), outcome, reason,
                 Unicode.wellFormed(detail), origin.topic(),
                 origin.partition() < 0 ? null : origin.partition(), origin.offset() < 0 ? null : origin.offset(),
-                origin.lineNumber() < 0 ? null : origin.lineNumber(), text, base64);
+                origin.lineNumber() < 0 ? null : origin.lineNumber(), value == null ? null : utf8(value),
+                value == null ? null : Base64.getEncoder().encodeToString(value));
     }
 
+    /** The bytes as text when they are valid UTF-8, else null (a new decoder reports malformed input). */
     private static String utf8(byte[] bytes) {
         try {
-            return StandardCharsets.UTF_8.newDecoder()
-                    .onMalformedInput(CodingErrorAction.REPORT)
-                    .onUnmappableCharacter(CodingErrorAction.REPORT)
-                    .decode(ByteBuffer.wrap(bytes)).toString();
+            return StandardCharsets.UTF_8.newDecoder().decode(ByteBuffer.wrap(bytes)).toString();
         } catch (CharacterCodingException e) {
             return null;
         }

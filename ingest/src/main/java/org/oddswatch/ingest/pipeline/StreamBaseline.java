@@ -25,11 +25,10 @@ import org.oddswatch.ingest.definition.MonitorDefinition;
  * The baseline of one stream and the alert engine that judges its final windows against it.
  *
  * <p>A baseline file (or none) gives the engine at once. A fixed baseline period is accumulated
- * from the stream's own events (into a one-bucket store) and frozen once no event of the period can
- * still be accepted, that is when the first window of its last bucket is final; only then is the
- * engine made. Until then, complete events after the period wait for the sequential rule, alerts
- * published before a restart wait to be restored, and the final windows are counted as not judged.
- * States, as {@code /status} shows them: {@code none}, {@code file}, {@code accumulating},
+ * from the stream's own events (into a one-bucket store) and frozen, and the engine made, once the
+ * first window of its last bucket is final (no event of the period can still be accepted). Until
+ * then complete events after the period and restored alerts wait, and final windows are counted as
+ * not judged. States ({@code /status}): {@code none}, {@code file}, {@code accumulating},
  * {@code frozen}, {@code failed}.
  */
 final class StreamBaseline {
@@ -39,10 +38,6 @@ final class StreamBaseline {
     private static final String ACCUMULATING = "accumulating";
     private static final String FROZEN = "frozen";
     private static final String FAILED = "failed";
-
-    /** A complete-case event waiting for the alert engine (fixed baseline not frozen yet). */
-    private record PendingEvent(long time, String id, double[] row, boolean positive) {
-    }
 
     /** A final window as published (with the engine's chart values) and the alerts it gave. */
     record Judged(WindowEstimate published, List<Alert> alerts) {
@@ -67,7 +62,8 @@ final class StreamBaseline {
     private Instant lastUnjudgedEnd;
     /** Rule gaps while the fixed baseline period is open (no engine yet), computed once. */
     private List<MonitoringGap> pendingRuleGaps;
-    private List<PendingEvent> pending;
+    /** Complete events after the period, waiting for the engine; null once it exists. */
+    private List<DecodedEvent> pending;
     private List<Alert> restored = List.of();
 
     StreamBaseline(String stream, MonitorDefinition monitor, WindowEstimator estimator, WindowStore periodStore,
@@ -124,25 +120,20 @@ final class StreamBaseline {
             if (engine != null) {
                 engine.onEvent(time, event.id(), event.row(), event.positive());
             } else if (time >= monitor.baseline().to().toEpochMilli()) {
-                // After the period, before the freeze (at most the lateness): the sequential rule
-                // will need these. Events of the period itself are never scored against it.
-                pending.add(new PendingEvent(time, event.id(), event.row(), event.positive()));
+                pending.add(event); // events of the period itself are never scored against it
             }
         }
     }
 
     /** Before the windows through end bucket {@code newFinal} are closed: freezes the period once it is complete. */
     void beforeClosing(long newFinal) {
-        if (periodStore != null && engine == null && periodComplete(newFinal)) {
+        if (periodStore != null && engine == null
+                && newFinal >= geometry.bucketOf(monitor.baseline().to().toEpochMilli() - 1) + 1) {
             freeze();
         }
     }
 
-    /**
-     * Judges one final window. Every final window goes to the engine, also those overlapping the
-     * baseline period: the engine judges no such window, but the CUSUM reports the events after the
-     * period once per final window.
-     */
+    /** Judges one final window (one overlapping the period too: the CUSUM reports the events after it per window). */
     Judged judge(WindowEstimate estimate) {
         boolean inPeriod = overlapsPeriod(estimate.windowStart(), estimate.windowEnd());
         if (inPeriod) {
@@ -169,20 +160,14 @@ final class StreamBaseline {
     }
 
     /**
-     * Continues the CUSUM charts of a stream with a baseline file from the values published with its
-     * final windows ({@link AlertEngine#resumeCharts}), from the first window that lies wholly within
-     * what the rebuild re-reads: every window ending after it is then estimated and judged as in the
-     * uninterrupted run. A fixed-period baseline needs nothing: its rebuild re-reads the period and
-     * everything after it.
-     *
-     * @param rereadFromMillis the earliest event time the rebuild is sure to re-read
-     * @return the charts resumed
+     * Continues the CUSUM charts of a baseline file ({@link AlertEngine#resumeCharts}) from the first
+     * window wholly within what the rebuild re-reads ({@code rereadFromMillis} on); later windows are
+     * then judged as in the uninterrupted run. A fixed period needs nothing: its rebuild re-reads it.
      */
-    int resumeCharts(NavigableMap<Instant, List<CusumValue>> published, long rereadFromMillis) {
-        if (engine == null || pending != null || rereadFromMillis > Long.MAX_VALUE - geometry.widthMillis()) {
-            return 0;
+    void resumeCharts(NavigableMap<Instant, List<CusumValue>> published, long rereadFromMillis) {
+        if (engine != null && pending == null && rereadFromMillis <= Long.MAX_VALUE - geometry.widthMillis()) {
+            engine.resumeCharts(published, rereadFromMillis + geometry.widthMillis());
         }
-        return engine.resumeCharts(published, rereadFromMillis + geometry.widthMillis());
     }
 
     private boolean overlapsPeriod(Instant start, Instant stop) {
@@ -193,12 +178,6 @@ final class StreamBaseline {
     private boolean inPeriod(long time) {
         BaselineSpec spec = monitor.baseline();
         return time >= spec.from().toEpochMilli() && time < spec.to().toEpochMilli();
-    }
-
-    /** No event of the baseline period can still be accepted once its last bucket's first window is final. */
-    private boolean periodComplete(long newFinal) {
-        long lastBucket = geometry.bucketOf(monitor.baseline().to().toEpochMilli() - 1);
-        return newFinal >= lastBucket + 1;
     }
 
     private void freeze() {
@@ -220,8 +199,8 @@ final class StreamBaseline {
             engine.restore(restored);
             restored = List.of();
         }
-        for (PendingEvent event : pending) {
-            engine.onEvent(event.time(), event.id(), event.row(), event.positive());
+        for (DecodedEvent event : pending) {
+            engine.onEvent(event.timeMillis(), event.id(), event.row(), event.positive());
         }
         pending = null;
     }
@@ -240,45 +219,34 @@ final class StreamBaseline {
         }
     }
 
-    /**
-     * What the baseline leaves unmonitored: its own problem, the rules that do not run and the
-     * windows they did not judge ({@link AlertEngine#gaps}).
-     */
+    /** What the baseline leaves unmonitored: its own problem, the rules that do not run, the windows not judged. */
     List<MonitoringGap> gaps() {
-        List<MonitoringGap> gaps = new ArrayList<>();
-        GapReason noBaseline;
-        String noBaselineDetail;
-        if (NONE.equals(state)) {
-            noBaseline = GapReason.NO_BASELINE;
-            noBaselineDetail = "the definition has no baseline section";
+        BaselineSpec spec = monitor.baseline();
+        GapReason reason = gap;
+        String detail = note;
+        if (spec == null) {
+            reason = GapReason.NO_BASELINE;
+            detail = "the definition has no baseline section";
         } else if (ACCUMULATING.equals(state)) {
-            noBaseline = GapReason.BASELINE_PENDING;
-            noBaselineDetail = "the baseline period " + monitor.baseline().from() + " to " + monitor.baseline().to()
-                    + " has not closed yet";
-            gaps.add(MonitoringGap.baseline(stream, noBaseline, noBaselineDetail));
-        } else {
-            noBaseline = gap;
-            noBaselineDetail = note;
-            if (gap != null) {
-                gaps.add(MonitoringGap.baseline(stream, gap, note));
-            }
+            reason = GapReason.BASELINE_PENDING;
+            detail = "the baseline period " + spec.from() + " to " + spec.to() + " has not closed yet";
         }
-        if (engine != null) {
-            gaps.addAll(engine.gaps(noBaseline, noBaselineDetail));
-        } else {
-            if (pendingRuleGaps == null) {
-                pendingRuleGaps = new AlertEngine(stream, monitor.rules(), null, null).gaps(noBaseline, noBaselineDetail);
-            }
-            gaps.addAll(pendingRuleGaps);
+        List<MonitoringGap> gaps = new ArrayList<>();
+        if (spec != null && reason != null) {
+            gaps.add(MonitoringGap.baseline(stream, reason, detail));
         }
+        if (engine == null && pendingRuleGaps == null) {
+            pendingRuleGaps = new AlertEngine(stream, monitor.rules(), null, null).gaps(reason, detail);
+        }
+        gaps.addAll(engine != null ? engine.gaps(reason, detail) : pendingRuleGaps);
         if (windowsInPeriod > 0) {
-            gaps.add(MonitoringGap.windows(stream, null, GapReason.BASELINE_PERIOD, AlertEngine.inBaselinePeriod(
-                    monitor.baseline().from(), monitor.baseline().to()), windowsInPeriod));
+            gaps.add(MonitoringGap.windows(stream, null, GapReason.BASELINE_PERIOD,
+                    AlertEngine.inBaselinePeriod(spec.from(), spec.to()), windowsInPeriod));
         }
         if (windowsBeforeFreeze > 0) {
             gaps.add(MonitoringGap.windows(stream, null, GapReason.BASELINE_PENDING, "the window closed before the "
-                    + "baseline period " + monitor.baseline().from() + " to " + monitor.baseline().to() + " did (newest: "
-                    + "the window ending " + lastUnjudgedEnd + ")", windowsBeforeFreeze));
+                    + "baseline period " + spec.from() + " to " + spec.to() + " did (newest: the window ending "
+                    + lastUnjudgedEnd + ")", windowsBeforeFreeze));
         }
         return gaps;
     }

@@ -1,28 +1,22 @@
 package org.oddswatch.ingest.pipeline;
 
-import java.io.IOException;
-import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.Collection;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
+import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.lifecycle.AlertState;
-import org.oddswatch.estimator.calibration.BaselineModel;
-import org.oddswatch.estimator.window.WindowStore;
-import org.oddswatch.ingest.definition.BaselineSpec;
-import org.oddswatch.ingest.definition.MonitorDefinition;
 
 /**
- * Makes the streams of one pipeline: the window store, the baseline (a fixed period accumulated by
- * the stream, or a frozen file: one per monitor, or one per split value read when its stream opens),
- * and what a restart restored for a stream not seen yet (open alert episodes, CUSUM values).
+ * Opens the streams of one pipeline, each with what a restart restored for it before it was seen
+ * (open alert episodes, CUSUM values).
  */
 final class StreamFactory {
 
     private final PipelineListener listener;
-    private final PipelineSettings settings;
+    private final ReplayHint replayHint;
     private final StreamState.HeldOutcomes heldOutcomes;
     /** Restored alerts of streams not opened yet, by stream name. */
     private final Map<String, List<Alert>> pendingRestore = new LinkedHashMap<>();
@@ -30,61 +24,19 @@ final class StreamFactory {
     private CusumHistory chartHistory;
     private long chartsRereadFrom;
 
-    StreamFactory(PipelineListener listener, PipelineSettings settings, StreamState.HeldOutcomes heldOutcomes) {
+    StreamFactory(PipelineListener listener, ReplayHint replayHint, StreamState.HeldOutcomes heldOutcomes) {
         this.listener = listener;
-        this.settings = settings;
+        this.replayHint = replayHint;
         this.heldOutcomes = heldOutcomes;
     }
 
-    /**
-     * The route of {@code monitor}, with its baseline file read now when every stream shares it (a
-     * file name without {@code {split}}).
-     *
-     * @throws IllegalArgumentException when that file cannot be read
-     */
-    MonitorRoute route(MonitorDefinition monitor) {
-        BaselineSpec spec = monitor.baseline();
-        if (spec == null || spec.isFixedPeriod() || spec.file().contains("{split}")) {
-            return new MonitorRoute(monitor, null);
-        }
-        Path file = spec.fileFor(monitor.definitionDir(), null);
-        try {
-            return new MonitorRoute(monitor, settings.baselines().read(file, monitor));
-        } catch (IOException | RuntimeException e) {
-            throw new IllegalArgumentException("monitor " + monitor.name() + ": cannot read baseline file " + file
-                    + ": " + e.getMessage(), e);
-        }
-    }
-
-    /**
-     * A new stream of {@code route}. A baseline file of its own that cannot be read leaves the stream
-     * without a baseline, with the reason as its note (shown as a monitoring gap).
-     */
+    /** A new stream of {@code route}. */
     StreamState open(MonitorRoute route, String name, String splitValue) {
-        MonitorDefinition monitor = route.monitor;
-        int strata = monitor.strata();
-        int patternLimit = monitor.estimates().patternLimit();
-        WindowStore store = new WindowStore(route.decoder.coder(), patternLimit, strata);
-        BaselineSpec spec = monitor.baseline();
-        WindowStore baselineStore = null;
-        BaselineModel fileBaseline = route.sharedBaseline;
-        String note = null;
-        if (spec != null && spec.isFixedPeriod()) {
-            baselineStore = new WindowStore(route.decoder.coder(), patternLimit, strata);
-        } else if (spec != null && fileBaseline == null) {
-            Path file = spec.fileFor(monitor.definitionDir(), splitValue);
-            try {
-                fileBaseline = settings.baselines().read(file, monitor);
-            } catch (IOException | RuntimeException e) {
-                note = "cannot read baseline file " + file + ": " + e.getMessage();
-            }
-        }
-        StreamState stream = new StreamState(name, monitor, route.estimator, store, baselineStore, fileBaseline, note,
-                listener, settings.replayHint(), heldOutcomes);
+        StreamState stream = new StreamState(name, route.monitor, route.estimator, route.newStore(),
+                route.baseline(name, splitValue, replayHint), listener, heldOutcomes);
         List<Alert> restore = pendingRestore.remove(name);
         if (restore != null) {
-            stream.restore(restore);
-            reportOpen(restore);
+            restore(stream, restore);
         }
         if (chartHistory != null) {
             stream.resumeCharts(chartHistory.of(name), chartsRereadFrom);
@@ -98,15 +50,14 @@ final class StreamFactory {
         for (Alert alert : published) {
             byStream.computeIfAbsent(alert.stream(), s -> new ArrayList<>()).add(alert);
         }
-        for (Map.Entry<String, List<Alert>> entry : byStream.entrySet()) {
-            StreamState stream = streams.get(entry.getKey());
+        byStream.forEach((name, alerts) -> {
+            StreamState stream = streams.get(name);
             if (stream != null) {
-                stream.restore(entry.getValue());
-                reportOpen(entry.getValue());
+                restore(stream, alerts);
             } else {
-                pendingRestore.computeIfAbsent(entry.getKey(), s -> new ArrayList<>()).addAll(entry.getValue());
+                pendingRestore.computeIfAbsent(name, s -> new ArrayList<>()).addAll(alerts);
             }
-        }
+        });
     }
 
     /** See {@link MonitorPipeline#resumeCharts}; {@code streams}: the streams open now. */
@@ -119,13 +70,13 @@ final class StreamFactory {
     }
 
     /**
-     * Tells the listener the latest message of every episode still open among one stream's restored
-     * alerts. Only for a stream this pipeline holds: the alerts topic also holds the episodes of
-     * streams other partitions (and instances) hold, which must not show here.
+     * Restores one stream's alerts and tells the listener the latest message of every open episode
+     * among them (only for streams this pipeline holds: the alerts topic holds other partitions' too).
      */
-    private void reportOpen(List<Alert> streamAlerts) {
+    private void restore(StreamState stream, List<Alert> alerts) {
+        stream.restore(alerts);
         Map<List<String>, Alert> latestByEpisode = new LinkedHashMap<>();
-        for (Alert alert : streamAlerts) {
+        for (Alert alert : alerts) {
             latestByEpisode.put(List.of(alert.rule(), alert.subject().term(), String.valueOf(alert.subject().level())),
                     alert);
         }

@@ -4,7 +4,6 @@ import java.time.Instant;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.NavigableMap;
-import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.alerts.gaps.BaselineInformation;
 import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.alerts.lifecycle.Alert;
@@ -19,27 +18,22 @@ import org.oddswatch.ingest.decode.RejectReason;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 
 /**
- * One stream's state: its window store, watermark and dedupe window ({@link DedupeWindow}), the
- * events held beyond the horizon ({@link FutureHold}), the closing of its windows
- * ({@link WindowCloser}) and its baseline with the alert engine ({@link StreamBaseline}).
+ * One stream's state: window store, watermark, dedupe window ({@link DedupeWindow}), events held
+ * beyond the horizon ({@link FutureHold}), the closing of windows ({@link WindowCloser}) and the
+ * baseline with the alert engine ({@link StreamBaseline}).
  *
  * <p>Time rules, with buckets of one step, {@code k = width/step} buckets per window and lateness
- * {@code L}: the watermark {@code W} is the largest event time seen; window {@code e} (end bucket)
- * is final when {@code W >= start(e) + L}, so every window with {@code e <= bucketOf(W - L)} is
- * final. An event in bucket {@code b} is late when window {@code b+1} (its first window) is final.
- * Buckets before {@code F + 1 - k} ({@code F} the end bucket of the newest final window) can no
- * longer be part of a window and are dropped, with their ids ({@link WindowCloser}). Only windows holding at least one event are estimated.
- *
- * <p>An event later than {@code W + maxFutureSkew} is held, not applied, until the stream's own
- * events decide it ({@link FutureHold}): applied once a chain of held events confirms a new frontier
- * or the watermark catches up with it, rejected {@code too-far-in-future} once the stream moved on
- * without it. A held event's outcome is reported through {@link HeldOutcomes} when it is decided.
+ * {@code L}: the watermark {@code W} is the largest event time accepted; window {@code e} (end
+ * bucket) is final when {@code W >= start(e) + L}. An event in bucket {@code b} is late when window
+ * {@code b+1}, its first, is final. An event later than {@code W + maxFutureSkew} is held; its
+ * outcome is reported through {@link HeldOutcomes} once decided.
  */
 final class StreamState {
 
     /** Receives the outcome of a held event once it is decided. */
     interface HeldOutcomes {
-        void resolved(StreamState stream, HeldRecord record, DecodedEvent event, RecordOutcome outcome, boolean suppress);
+        void resolved(StreamState stream, HeldRecords.Record record, DecodedEvent event, RecordOutcome outcome,
+                      boolean suppress);
     }
 
     private final String name;
@@ -60,16 +54,14 @@ final class StreamState {
     private long termsWithValues;
 
     StreamState(String name, MonitorDefinition monitor, WindowEstimator estimator, WindowStore store,
-                WindowStore baselineStore, BaselineModel fileBaseline, String fileBaselineNote,
-                PipelineListener listener, ReplayHint replayHint, HeldOutcomes heldOutcomes) {
+                StreamBaseline baseline, PipelineListener listener, HeldOutcomes heldOutcomes) {
         this.name = name;
         this.monitor = monitor;
         this.geometry = monitor.geometry();
         this.future = new FutureHold(monitor.event());
         this.heldOutcomes = heldOutcomes;
         this.store = store;
-        this.baseline = new StreamBaseline(name, monitor, estimator, baselineStore, fileBaseline, fileBaselineNote,
-                replayHint);
+        this.baseline = baseline;
         this.windows = new WindowCloser(name, estimator, geometry, store, dedupe, baseline, listener);
     }
 
@@ -89,72 +81,66 @@ final class StreamState {
         return counts;
     }
 
-    /**
-     * Applies time rules and dedupe to one decoded event and, when accepted, stores it. An event
-     * beyond the horizon changes nothing and gives {@link RecordOutcome#HELD}: the caller then hands
-     * it to {@link #hold} with its record.
-     */
+    /** Applies the time rules and dedupe, then stores the event; {@link RecordOutcome#HELD} beyond the horizon. */
     RecordOutcome offer(DecodedEvent event, boolean suppress) {
         if (future.beyond(event.timeMillis(), watermark)) {
             return RecordOutcome.HELD;
         }
         long before = watermark;
         RecordOutcome outcome = apply(event, suppress);
-        if (watermark != before && !future.isEmpty()) {
+        if (watermark != before) {
             settleHeld(suppress);
         }
         return outcome;
     }
 
-    /**
-     * Holds an event that {@link #offer} found beyond the horizon. Every decision this causes
-     * (including about this event) is reported through {@link HeldOutcomes} before it returns.
-     */
-    void hold(DecodedEvent event, HeldRecord record, boolean suppress) {
+    /** Holds an event {@link #offer} found beyond the horizon; reports every decision this causes. */
+    void hold(DecodedEvent event, HeldRecords.Record record, boolean suppress) {
         FutureHold.Held evicted = future.evictIfFull();
         if (evicted != null) {
-            resolve(evicted, RecordOutcome.rejected(RejectReason.TOO_FAR_IN_FUTURE, Instant.ofEpochMilli(evicted.time())
-                    + " was held beyond the watermark " + Instant.ofEpochMilli(watermark) + " + "
-                    + future.skew() + " and dropped: the hold of " + future.capacity() + " events is full"), suppress);
+            dismiss(evicted, " was held beyond the watermark " + Instant.ofEpochMilli(watermark) + " + " + future.skew()
+                    + " and dropped: the hold of " + future.capacity() + " events is full", suppress);
         }
         long frontier = future.hold(event, record, watermark);
         if (frontier != Long.MIN_VALUE) {
-            for (FutureHold.Held held : future.takeThrough(frontier)) {
-                resolve(held, apply(held.event, suppress), suppress);
-            }
+            applyHeld(future.takeThrough(frontier), suppress);
             settleHeld(suppress);
         }
     }
 
-    /**
-     * After the watermark moved: applies held events it has come within the horizon of, then
-     * rejects those held since the watermark was a whole horizon earlier (the stream moved on
-     * without them).
-     */
+    /** After the watermark moved: applies the held events now within the horizon, dismisses the stale ones. */
     private void settleHeld(boolean suppress) {
+        if (future.isEmpty()) {
+            return;
+        }
+        long skew = future.skew().toMillis();
         long before;
         do {
             before = watermark;
-            long horizon = watermark > Long.MAX_VALUE - future.skew().toMillis()
-                    ? Long.MAX_VALUE : watermark + future.skew().toMillis();
-            for (FutureHold.Held held : future.takeThrough(horizon)) {
-                resolve(held, apply(held.event, suppress), suppress);
-            }
+            long horizon = watermark > Long.MAX_VALUE - skew ? Long.MAX_VALUE : watermark + skew;
+            applyHeld(future.takeThrough(horizon), suppress);
         } while (watermark != before && !future.isEmpty());
-        for (FutureHold.Held held : future.takeHeldBefore(watermark - future.skew().toMillis() + 1)) {
-            resolve(held, RecordOutcome.rejected(RejectReason.TOO_FAR_IN_FUTURE, Instant.ofEpochMilli(held.time())
-                    + " stayed more than " + future.skew() + " after the watermark while the stream moved on from "
-                    + Instant.ofEpochMilli(held.heldAt) + " to " + Instant.ofEpochMilli(watermark)
+        for (FutureHold.Held held : future.takeHeldBefore(watermark - skew + 1)) {
+            dismiss(held, " stayed more than " + future.skew() + " after the watermark while the stream moved on from "
+                    + Instant.ofEpochMilli(held.heldAt()) + " to " + Instant.ofEpochMilli(watermark)
                     + " without confirming it (" + monitor.event().futureConfirm() + " events spanning "
-                    + monitor.event().futureSpan() + " confirm a new frontier)"), suppress);
+                    + monitor.event().futureSpan() + " confirm a new frontier)", suppress);
         }
     }
 
-    private void resolve(FutureHold.Held held, RecordOutcome outcome, boolean suppress) {
-        heldOutcomes.resolved(this, held.record, held.event, outcome, suppress);
+    private void applyHeld(List<FutureHold.Held> taken, boolean suppress) {
+        for (FutureHold.Held held : taken) {
+            heldOutcomes.resolved(this, held.record(), held.event(), apply(held.event(), suppress), suppress);
+        }
     }
 
-    /** The time rules (late) and dedupe, then the store: the path of every event within the horizon. */
+    /** Rejects a held event {@code too-far-in-future}; {@code why} follows its time in the detail. */
+    private void dismiss(FutureHold.Held held, String why, boolean suppress) {
+        heldOutcomes.resolved(this, held.record(), held.event(), RecordOutcome.rejected(RejectReason.TOO_FAR_IN_FUTURE,
+                Instant.ofEpochMilli(held.time()) + why), suppress);
+    }
+
+    /** The late rule and dedupe, then the store: the path of every event within the horizon. */
     private RecordOutcome apply(DecodedEvent event, boolean suppress) {
         long time = event.timeMillis();
         long bucket = geometry.bucketOf(time);
@@ -175,32 +161,29 @@ final class StreamState {
         acceptedEvents++;
         termsWithValues |= ~event.absentTerms();
         if (time > watermark) {
-            watermark = time;
-            windows.closeThrough(geometry.bucketOf(watermark - geometry.latenessMillis()), suppress);
+            moveWatermark(time, suppress);
         }
         return RecordOutcome.ACCEPTED;
     }
 
+    private void moveWatermark(long time, boolean suppress) {
+        watermark = time;
+        windows.closeThrough(geometry.bucketOf(watermark - geometry.latenessMillis()), suppress);
+    }
+
     /** Moves the watermark on without an event (idle timeout, live only). */
-    void advanceWatermark(long time, boolean suppress) {
+    void advanceWatermark(long time) {
         if (time > watermark) {
-            watermark = time;
-            windows.closeThrough(geometry.bucketOf(watermark - geometry.latenessMillis()), suppress);
-            if (!future.isEmpty()) {
-                settleHeld(suppress);
-            }
+            moveWatermark(time, false);
+            settleHeld(false);
         }
     }
 
-    /**
-     * End of input: held events that no evidence confirmed are rejected, then every window that
-     * holds events becomes final.
-     */
+    /** End of input: the held events are dismissed, then every window that holds events becomes final. */
     void closeAll() {
-        for (FutureHold.Held held : future.takeAll()) {
-            resolve(held, RecordOutcome.rejected(RejectReason.TOO_FAR_IN_FUTURE, Instant.ofEpochMilli(held.time())
-                    + " is more than " + future.skew() + " after the watermark " + Instant.ofEpochMilli(watermark)
-                    + " and no new frontier was confirmed by the end of the input"), false);
+        for (FutureHold.Held held : future.takeThrough(Long.MAX_VALUE)) {
+            dismiss(held, " is more than " + future.skew() + " after the watermark " + Instant.ofEpochMilli(watermark)
+                    + " and no new frontier was confirmed by the end of the input", false);
         }
         windows.closeAll();
     }
@@ -216,22 +199,19 @@ final class StreamState {
     }
 
     /** See {@link StreamBaseline#resumeCharts}. */
-    int resumeCharts(NavigableMap<Instant, List<CusumValue>> published, long rereadFromMillis) {
-        return baseline.resumeCharts(published, rereadFromMillis);
+    void resumeCharts(NavigableMap<Instant, List<CusumValue>> published, long rereadFromMillis) {
+        baseline.resumeCharts(published, rereadFromMillis);
     }
 
-    /**
-     * What is not monitored on this stream: what its baseline leaves unmonitored
-     * ({@link StreamBaseline#gaps}), then the terms no accepted event had a value for.
-     */
+    /** What is not monitored: the baseline's gaps, then the terms no accepted event had a value for. */
     List<MonitoringGap> gaps() {
         List<MonitoringGap> gaps = new ArrayList<>(baseline.gaps());
         if (acceptedEvents > 0) {
             for (int t = 0; t < Math.min(Long.SIZE, monitor.terms().size()); t++) {
                 if ((termsWithValues & (1L << t)) == 0) {
                     gaps.add(MonitoringGap.term(name, monitor.terms().get(t).name(), "none of the "
-                            + BaselineInformation.withheld(acceptedEvents) + " accepted event(s) has a value for it, so "
-                            + "every event is left out of the model fit"));
+                            + BaselineInformation.withheld(acceptedEvents)
+                            + " accepted event(s) has a value for it, so every event is left out of the model fit"));
                 }
             }
         }

@@ -1,5 +1,6 @@
 package org.oddswatch.ingest.pipeline;
 
+import java.util.Arrays;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.estimator.WindowEstimator;
 import org.oddswatch.estimator.result.WindowEstimate;
@@ -8,14 +9,10 @@ import org.oddswatch.estimator.window.WindowGeometry;
 import org.oddswatch.estimator.window.WindowStore;
 
 /**
- * Closes the windows of one stream: estimates each window as it becomes final, hands it to the
- * stream's baseline and alert engine ({@link StreamBaseline#judge}), publishes the estimate and
- * then its alerts, and drops the buckets (and their ids) no open window can use any more. Also
- * estimates the open window on request (interim).
- *
- * <p>Windows are named by their end bucket {@code e} (the window covers buckets
- * {@code e - k .. e - 1}, {@code k = width/step}). Every window ending at or before
- * {@code newestFinalWindow} is final; only windows holding at least one event are estimated.
+ * Closes the windows of one stream: estimates each window as it becomes final, has it judged
+ * ({@link StreamBaseline#judge}), publishes the estimate and then its alerts, and drops the buckets
+ * (and their ids) no open window can use. Window {@code e} (its end bucket) covers buckets
+ * {@code e-k .. e-1}, {@code k = width/step}; only windows holding at least one event are estimated.
  */
 final class WindowCloser {
 
@@ -46,7 +43,6 @@ final class WindowCloser {
         this.listener = listener;
     }
 
-    /** The newest final estimate, or null. */
     WindowEstimate lastFinal() {
         return lastFinal;
     }
@@ -55,12 +51,7 @@ final class WindowCloser {
         return finalWindows;
     }
 
-    /**
-     * Makes every window ending at or before bucket {@code newFinal} final. Events before the start
-     * of bucket {@code newFinal} can no longer be accepted (their buckets' first windows are final),
-     * so the sequential rule may process them: it sees the same events in the same order whatever
-     * the arrival order within the allowed lateness.
-     */
+    /** Makes every window ending at or before bucket {@code newFinal} final. */
     void closeThrough(long newFinal, boolean suppress) {
         if (newFinal > newestFinalWindow) {
             baseline.beforeClosing(newFinal);
@@ -97,22 +88,20 @@ final class WindowCloser {
 
     /** An interim estimate of the window holding the watermark, unless that window is final. */
     void emitInterim(long watermark) {
-        if (watermark == Long.MIN_VALUE) {
-            return;
+        long end = watermark == Long.MIN_VALUE ? Long.MIN_VALUE : geometry.bucketOf(watermark) + 1;
+        if (end > newestFinalWindow) { // false before the first event: newestFinalWindow is at least MIN_VALUE
+            listener.onEstimate(estimate(end, WindowStatus.INTERIM));
         }
-        long end = geometry.bucketOf(watermark) + 1;
-        if (end <= newestFinalWindow) {
-            return;
-        }
-        WindowEstimate estimate = estimator.estimate(stream, geometry.windowStart(end), geometry.windowEnd(end),
-                WindowStatus.INTERIM, store.window(end - bucketsPerWindow, end), warmStart, baseline.model());
-        listener.onEstimate(estimate);
+    }
+
+    private WindowEstimate estimate(long end, WindowStatus status) {
+        return estimator.estimate(stream, geometry.windowStart(end), geometry.windowEnd(end), status,
+                store.window(end - bucketsPerWindow, end), warmStart, baseline.model());
     }
 
     private void closeWindow(long end, boolean suppress) {
         long fitStart = System.nanoTime(); // for the fit-duration meter only; never part of the output
-        WindowEstimate estimate = estimator.estimate(stream, geometry.windowStart(end), geometry.windowEnd(end),
-                WindowStatus.FINAL, store.window(end - bucketsPerWindow, end), warmStart, baseline.model());
+        WindowEstimate estimate = estimate(end, WindowStatus.FINAL);
         long fitNanos = System.nanoTime() - fitStart;
         warmStart = reproducibleStart(estimator.coefficientVector(estimate));
         lastFinal = estimate;
@@ -129,21 +118,11 @@ final class WindowCloser {
     }
 
     /**
-     * The warm start for the next window: the coefficients rounded to single precision. A stream
-     * rebuilt after a restart re-estimates its older windows from partly re-read data, so their
-     * coefficients can differ from the uninterrupted run's in the last bits; rounding makes the next
-     * window start from exactly the same point (unless a coefficient sits within about 1e-16 of a
-     * rounding boundary), so its estimate is bit for bit the same. Newton converges from there in
-     * the same few steps.
+     * The warm start for the next window: the coefficients rounded to single precision, so that a
+     * stream rebuilt after a restart (whose older windows may differ in the last bits) starts the
+     * next fit from the same point as the uninterrupted run and gives the same estimate bit for bit.
      */
     static double[] reproducibleStart(double[] coefficients) {
-        if (coefficients == null) {
-            return null;
-        }
-        double[] start = new double[coefficients.length];
-        for (int j = 0; j < start.length; j++) {
-            start[j] = (float) coefficients[j];
-        }
-        return start;
+        return coefficients == null ? null : Arrays.stream(coefficients).map(c -> (float) c).toArray();
     }
 }

@@ -10,7 +10,7 @@ import org.oddswatch.ingest.pipeline.OutcomeCounts;
  *
  * @param records counts by record: {@code consumed = accepted + rejected + late + duplicate}
  * @param finalWindows final window estimates written to estimates.jsonl
- * @param rejectsWritten lines of rejects.jsonl (rejected and late records, except outside-range)
+ * @param rejectsWritten lines of rejects.jsonl (rejected and late records)
  * @param monitors per monitor: records that never reached a stream
  * @param streams per stream: windows and counts
  */
