@@ -20,26 +20,17 @@ final class MonitorReader {
     /** Kafka's legal topic names. */
     private static final Pattern TOPIC = Pattern.compile("[A-Za-z0-9._-]{1,249}");
     /** Most steps (buckets) per window: {@code width / step}. */
-    static final int MAX_STEPS_PER_WINDOW = 1000;
-    /** Most events a stream may hold beyond its horizon ({@code event.futureHold}). */
-    static final int MAX_FUTURE_HOLD = 10_000;
-    private static final Set<String> PREVALENCE_METHODS = Set.of("wilson", "clopper-pearson", "jeffreys");
-    /**
-     * Names the estimator's options once had beside the definition keys, each with the one key now
-     * used for it everywhere: a definition that uses the old name is told which key replaced it.
-     */
+    private static final int MAX_STEPS_PER_WINDOW = 1000;
+    private static final int MAX_FUTURE_HOLD = 10_000;
+    private static final Set<String> PREVALENCE_INTERVALS = Set.of("wilson", "clopper-pearson", "jeffreys");
+    /** Old names of estimate keys, each with the key that replaced it (a definition using one is told). */
     private static final Map<String, String> RENAMED_ESTIMATE_KEYS = Map.of(
             "prevalenceMethod", "prevalenceInterval", "stratumTerm", "stratifyBy");
 
-    private final DefNode node;
-    private final Path definitionDir;
-
-    MonitorReader(DefNode node, Path definitionDir) {
-        this.node = node;
-        this.definitionDir = definitionDir;
+    private MonitorReader() {
     }
 
-    MonitorDefinition read() throws DefinitionException {
+    static MonitorDefinition read(DefNode node, Path definitionDir) throws DefinitionException {
         node.mapping("name", "input", "event", "split", "terms", "window", "estimates", "baseline", "rules",
                 "outputs");
         DefNode nameNode = node.require("name");
@@ -47,20 +38,23 @@ final class MonitorReader {
         if (!NAME.matcher(name).matches()) {
             throw nameNode.error("'" + name + "' is not a valid monitor name (letters, digits, '.', '_', '-')");
         }
-        DefNode input = node.require("input").mapping("topic");
-        String topic = topic(input.require("topic"));
+        String topic = topic(node.require("input").mapping("topic").require("topic"), null);
         EventSpec event = event(node.require("event"));
-        SplitSpec split = split(node.get("split"));
-        List<TermSpec> terms = new TermReader(node.get("terms")).read();
+        SplitSpec split = null;
+        DefNode splitNode = node.get("split");
+        if (splitNode.present()) {
+            splitNode.mapping("field", "maxStreams");
+            int maxStreams = splitNode.get("maxStreams").integerAtLeast(1, 64);
+            split = new SplitSpec(splitNode.require("field").pointer(), maxStreams);
+        }
+        List<TermSpec> terms = TermReader.read(node.get("terms"));
         WindowSpec window = window(node.require("window"));
         EstimateSpec estimates = estimates(node.get("estimates"), terms);
-        BaselineSpec baseline = baseline(node.get("baseline"), window);
+        BaselineSpec baseline = baseline(node.get("baseline"), window, definitionDir);
         List<String> notices = new ArrayList<>();
         AlertRulesConfig rules = RulesReader.read(node.get("rules"), terms, notices);
-        OutputSpec outputs = outputs(node.get("outputs"));
-        String checksum = DefinitionChecksum.of(event.outcome(), terms);
-        return new MonitorDefinition(name, topic, event, split, terms, window, estimates, baseline, rules, outputs,
-                definitionDir, checksum, notices);
+        return new MonitorDefinition(name, topic, event, split, terms, window, estimates, baseline, rules,
+                outputs(node.get("outputs")), definitionDir, DefinitionChecksum.of(event.outcome(), terms), notices);
     }
 
     private static EventSpec event(DefNode event) throws DefinitionException {
@@ -73,21 +67,22 @@ final class MonitorReader {
                 throw outcome.get("negative").error("'" + value + "' is listed as both positive and negative");
             }
         }
-        int futureConfirm = event.get("futureConfirm").integer(EventSpec.DEFAULT_FUTURE_CONFIRM);
+        int futureConfirm = event.get("futureConfirm").integer(5);
         if (futureConfirm < 2) {
             throw event.get("futureConfirm").error("must be at least 2 (one event alone never confirms a new frontier)");
         }
-        int futureHold = event.get("futureHold").integer(EventSpec.DEFAULT_FUTURE_HOLD);
+        int futureHold = event.get("futureHold").integer(1000);
         if (futureHold < futureConfirm || futureHold > MAX_FUTURE_HOLD) {
             throw event.get("futureHold").error("must be from futureConfirm (" + futureConfirm + ") to "
                     + MAX_FUTURE_HOLD);
         }
         return new EventSpec(event.require("id").pointer(), event.require("time").pointer(),
-                DefinitionLoader.notNegative(event.get("maxFutureSkew"), EventSpec.DEFAULT_MAX_FUTURE_SKEW),
-                futureConfirm, DefinitionLoader.notNegative(event.get("futureSpan"), EventSpec.DEFAULT_FUTURE_SPAN),
-                futureHold, new OutcomeSpec(outcome.require("field").pointer(), positive, negative));
+                event.get("maxFutureSkew").nonNegativeDuration(Duration.ofDays(1)), futureConfirm,
+                event.get("futureSpan").nonNegativeDuration(Duration.ofHours(1)), futureHold,
+                new OutcomeSpec(outcome.require("field").pointer(), positive, negative));
     }
 
+    /** One value or a non-empty list of them. */
     private static List<String> values(DefNode node, List<String> fallback) throws DefinitionException {
         if (!node.present()) {
             return fallback;
@@ -99,35 +94,23 @@ final class MonitorReader {
         return values;
     }
 
-    private static SplitSpec split(DefNode split) throws DefinitionException {
-        if (!split.present()) {
-            return null;
-        }
-        split.mapping("field", "maxStreams");
-        int maxStreams = split.get("maxStreams").integer(64);
-        if (maxStreams < 1) {
-            throw split.get("maxStreams").error("must be at least 1");
-        }
-        return new SplitSpec(split.require("field").pointer(), maxStreams);
-    }
-
     private static WindowSpec window(DefNode window) throws DefinitionException {
         window.mapping("width", "step", "lateness", "align");
         DefNode widthNode = window.require("width");
-        Duration width = DefinitionLoader.positive(widthNode, null);
-        Duration step = DefinitionLoader.positive(window.require("step"), null);
+        Duration width = widthNode.positiveDuration(null);
+        Duration step = window.require("step").positiveDuration(null);
+        String widthStep = "width " + widthNode.text();
         if (width.toMillis() % step.toMillis() != 0 || width.compareTo(step) < 0) {
-            throw widthNode.error("width " + widthNode.text() + " is not a whole multiple of step "
-                    + window.get("step").text());
+            throw widthNode.error(widthStep + " is not a whole multiple of step " + window.get("step").text());
         }
-        if (width.toMillis() / step.toMillis() > MAX_STEPS_PER_WINDOW) {
-            throw widthNode.error("width " + widthNode.text() + " is " + width.toMillis() / step.toMillis()
-                    + " steps of " + window.get("step").text() + "; at most " + MAX_STEPS_PER_WINDOW
-                    + " steps per window are allowed (every window sums that many buckets)");
+        long steps = width.toMillis() / step.toMillis();
+        if (steps > MAX_STEPS_PER_WINDOW) {
+            throw widthNode.error(widthStep + " is " + steps + " steps of " + window.get("step").text() + "; at most "
+                    + MAX_STEPS_PER_WINDOW + " steps per window are allowed (every window sums that many buckets)");
         }
-        Duration lateness = DefinitionLoader.notNegative(window.get("lateness"), Duration.ZERO);
-        Instant align = window.get("align").present() ? window.get("align").instant() : Instant.EPOCH;
-        return new WindowSpec(width, step, lateness, align);
+        DefNode align = window.get("align");
+        return new WindowSpec(width, step, window.get("lateness").nonNegativeDuration(Duration.ZERO),
+                align.present() ? align.instant() : Instant.EPOCH);
     }
 
     private static EstimateSpec estimates(DefNode node, List<TermSpec> terms) throws DefinitionException {
@@ -146,13 +129,13 @@ final class MonitorReader {
         if (!(level > 0 && level < 1)) {
             throw levelNode.error("must be between 0 and 1, for example 0.95");
         }
-        DefNode methodNode = node.get("prevalenceInterval");
-        String method = methodNode.text("wilson");
-        if (!PREVALENCE_METHODS.contains(method)) {
-            throw methodNode.error("'" + method + "' is not one of clopper-pearson, jeffreys, wilson");
+        DefNode intervalNode = node.get("prevalenceInterval");
+        String interval = intervalNode.text("wilson");
+        if (!PREVALENCE_INTERVALS.contains(interval)) {
+            throw intervalNode.error("'" + interval + "' is not one of clopper-pearson, jeffreys, wilson");
         }
         DefNode stratifyNode = node.get("stratifyBy");
-        String stratifyBy = stratifyNode.present() ? stratifyNode.name() : null;
+        String stratifyBy = stratifyNode.optionalName();
         if (stratifyBy != null) {
             TermSpec term = terms.stream().filter(t -> t.name().equals(stratifyBy)).findFirst().orElse(null);
             if (term == null) {
@@ -172,22 +155,17 @@ final class MonitorReader {
         DefNode accuracy = node.get("testAccuracy");
         if (accuracy.present()) {
             accuracy.mapping("sensitivity", "specificity");
-            sensitivity = probability(accuracy.require("sensitivity"));
-            specificity = probability(accuracy.require("specificity"));
+            sensitivity = proportion(accuracy.require("sensitivity"));
+            specificity = proportion(accuracy.require("specificity"));
             if (sensitivity + specificity <= 1) {
                 throw accuracy.error("sensitivity + specificity must exceed 1 for the Rogan-Gladen adjustment");
             }
         }
-        DefNode limitNode = node.get("patternLimit");
-        int patternLimit = limitNode.integer(4096);
-        if (patternLimit < 1) {
-            throw limitNode.error("must be at least 1");
-        }
-        return new EstimateSpec(level, method, stratifyBy, minEvents, sensitivity, specificity, patternLimit,
-                node.get("profileIntervals").bool(true));
+        return new EstimateSpec(level, interval, stratifyBy, minEvents, sensitivity, specificity,
+                node.get("patternLimit").integerAtLeast(1, 4096), node.get("profileIntervals").bool(true));
     }
 
-    private static double probability(DefNode node) throws DefinitionException {
+    private static double proportion(DefNode node) throws DefinitionException {
         double value = node.number();
         if (!(value > 0 && value <= 1)) {
             throw node.error("must be a proportion in (0, 1]");
@@ -195,7 +173,8 @@ final class MonitorReader {
         return value;
     }
 
-    private BaselineSpec baseline(DefNode node, WindowSpec window) throws DefinitionException {
+    private static BaselineSpec baseline(DefNode node, WindowSpec window, Path definitionDir)
+            throws DefinitionException {
         if (!node.present()) {
             return null;
         }
@@ -206,11 +185,9 @@ final class MonitorReader {
                 throw file.error("give either a fixed period (from, to) or a frozen baseline file, not both");
             }
             BaselineSpec spec = new BaselineSpec(null, null, file.name());
-            if (!spec.file().contains("{split}")) {
-                Path path = spec.fileFor(definitionDir, null);
-                if (!Files.isRegularFile(path)) {
-                    throw file.error("baseline file " + path + " does not exist");
-                }
+            Path path = spec.fileFor(definitionDir, null);
+            if (!spec.file().contains("{split}") && !Files.isRegularFile(path)) {
+                throw file.error("baseline file " + path + " does not exist");
             }
             return spec;
         }
@@ -241,14 +218,9 @@ final class MonitorReader {
             if (!url.startsWith("http://") && !url.startsWith("https://")) {
                 throw urlNode.error("'" + url + "' is not an http:// or https:// address");
             }
-            int attempts = hook.get("attempts").integer(4);
-            if (attempts < 1) {
-                throw hook.get("attempts").error("must be at least 1");
-            }
-            webhook = new WebhookSpec(url, DefinitionLoader.positive(hook.get("timeout"), Duration.ofSeconds(5)),
-                    attempts);
+            int attempts = hook.get("attempts").integerAtLeast(1, 4);
+            webhook = new WebhookSpec(url, hook.get("timeout").positiveDuration(Duration.ofSeconds(5)), attempts);
         }
-        DefNode file = node.get("estimatesFile");
         DefNode below = node.get("withholdCountsBelow");
         int withholdBelow = below.integer(SmallCellPolicy.DEFAULT_LIMIT);
         if (withholdBelow < 2 || withholdBelow > 1000) {
@@ -256,25 +228,18 @@ final class MonitorReader {
         }
         return new OutputSpec(topic(node.get("estimatesTopic"), "oddswatch-estimates"),
                 topic(node.get("rejectsTopic"), "oddswatch-rejects"), topic(node.get("alertsTopic"), "oddswatch-alerts"),
-                file.present() ? file.name() : null, webhook, withholdBelow);
+                node.get("estimatesFile").optionalName(), webhook, withholdBelow);
     }
 
+    /** A Kafka topic name, or {@code fallback} when absent. */
     private static String topic(DefNode node, String fallback) throws DefinitionException {
-        return node.present() ? topic(node) : fallback;
-    }
-
-    private static String topic(DefNode node) throws DefinitionException {
+        if (!node.present() && fallback != null) {
+            return fallback;
+        }
         String topic = node.name();
         if (!TOPIC.matcher(topic).matches() || topic.equals(".") || topic.equals("..")) {
             throw node.error("'" + topic + "' is not a valid Kafka topic name (letters, digits, '.', '_', '-')");
         }
         return topic;
-    }
-
-    /** Duplicate-name guard shared with {@link TermReader}. */
-    static void requireUnique(Set<String> seen, String name, DefNode where, String what) throws DefinitionException {
-        if (!seen.add(name)) {
-            throw where.error(what + " '" + name + "' is declared twice");
-        }
     }
 }

@@ -18,13 +18,10 @@ final class TermReader {
 
     private static final Pattern NAME = Pattern.compile("[A-Za-z_][A-Za-z0-9_]*");
 
-    private final DefNode node;
-
-    TermReader(DefNode node) {
-        this.node = node;
+    private TermReader() {
     }
 
-    List<TermSpec> read() throws DefinitionException {
+    static List<TermSpec> read(DefNode node) throws DefinitionException {
         List<TermSpec> terms = new ArrayList<>();
         if (!node.present()) {
             return terms;
@@ -35,7 +32,9 @@ final class TermReader {
         Set<String> names = new HashSet<>();
         for (DefNode element : node.elements()) {
             TermSpec term = term(element);
-            MonitorReader.requireUnique(names, term.name(), element.get("name"), "term");
+            if (!names.add(term.name())) {
+                throw element.get("name").error("term '" + term.name() + "' is declared twice");
+            }
             terms.add(term);
         }
         return terms;
@@ -48,17 +47,11 @@ final class TermReader {
         DefNode kindNode = element.require("kind");
         String kind = kindNode.text().toLowerCase(Locale.ROOT);
         switch (kind) {
-            case "binary":
-                element.mapping("name", "field", "kind", "level", "reference", "undeclared", "watched");
-                break;
-            case "categorical":
-                element.mapping("name", "field", "kind", "levels", "reference", "undeclared", "catchAll", "watched");
-                break;
-            case "numeric":
-                element.mapping("name", "field", "kind", "per", "watched");
-                break;
-            default:
-                throw kindNode.error("'" + kindNode.text() + "' is not one of binary, categorical, numeric");
+            case "binary" -> element.mapping("name", "field", "kind", "level", "reference", "undeclared", "watched");
+            case "categorical" -> element.mapping("name", "field", "kind", "levels", "reference", "undeclared",
+                    "catchAll", "watched");
+            case "numeric" -> element.mapping("name", "field", "kind", "per", "watched");
+            default -> throw kindNode.error("'" + kindNode.text() + "' is not one of binary, categorical, numeric");
         }
         DefNode nameNode = element.require("name");
         String name = nameNode.name();
@@ -70,23 +63,20 @@ final class TermReader {
         }
         var field = element.require("field").pointer();
         boolean watched = element.get("watched").bool(false);
-        Term term;
-        switch (kind) {
-            case "binary":
-                term = binary(element, name, watched);
-                break;
-            case "categorical":
-                term = categorical(element, name, watched);
-                break;
-            default:
-                DefNode per = element.get("per");
-                double unit = per.number(1.0);
-                if (!(unit > 0) || Double.isInfinite(unit)) {
-                    throw per.error("must be a positive number");
-                }
-                term = new NumericTerm(name, unit, watched);
-        }
+        Term term = switch (kind) {
+            case "binary" -> binary(element, name, watched);
+            case "categorical" -> categorical(element, name, watched);
+            default -> numeric(element.get("per"), name, watched);
+        };
         return new TermSpec(field, term);
+    }
+
+    private static Term numeric(DefNode per, String name, boolean watched) throws DefinitionException {
+        double unit = per.number(1.0);
+        if (!(unit > 0) || Double.isInfinite(unit)) {
+            throw per.error("must be a positive number");
+        }
+        return new NumericTerm(name, unit, watched);
     }
 
     private static Term binary(DefNode element, String name, boolean watched) throws DefinitionException {
@@ -107,10 +97,11 @@ final class TermReader {
     private static Term categorical(DefNode element, String name, boolean watched) throws DefinitionException {
         DefNode levelsNode = element.require("levels");
         List<String> levels = new ArrayList<>();
-        Set<String> seen = new HashSet<>();
         for (DefNode levelNode : levelsNode.elements()) {
             String level = levelNode.text();
-            MonitorReader.requireUnique(seen, level, levelNode, "level");
+            if (levels.contains(level)) {
+                throw levelNode.error("level '" + level + "' is declared twice");
+            }
             levels.add(level);
         }
         if (levels.size() < 2) {
@@ -124,7 +115,7 @@ final class TermReader {
         DefNode undeclaredNode = element.get("undeclared");
         UndeclaredLevelPolicy policy = policy(undeclaredNode);
         DefNode catchAllNode = element.get("catchAll");
-        String catchAll = catchAllNode.present() ? catchAllNode.text() : null;
+        String catchAll = catchAllNode.text(null);
         if (policy == UndeclaredLevelPolicy.POOL) {
             if (catchAll == null) {
                 throw undeclaredNode.error("pool needs a catchAll level");
@@ -140,15 +131,11 @@ final class TermReader {
 
     private static UndeclaredLevelPolicy policy(DefNode node) throws DefinitionException {
         String text = node.text("reject");
-        switch (text) {
-            case "reject":
-                return UndeclaredLevelPolicy.REJECT;
-            case "missing":
-                return UndeclaredLevelPolicy.MISSING;
-            case "pool":
-                return UndeclaredLevelPolicy.POOL;
-            default:
-                throw node.error("'" + text + "' is not one of reject, missing, pool");
-        }
+        return switch (text) {
+            case "reject" -> UndeclaredLevelPolicy.REJECT;
+            case "missing" -> UndeclaredLevelPolicy.MISSING;
+            case "pool" -> UndeclaredLevelPolicy.POOL;
+            default -> throw node.error("'" + text + "' is not one of reject, missing, pool");
+        };
     }
 }
