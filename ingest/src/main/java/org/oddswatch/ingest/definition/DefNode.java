@@ -23,6 +23,9 @@ import java.util.Locale;
 import java.util.Map;
 import java.util.Set;
 import java.util.TreeSet;
+import java.util.regex.Pattern;
+import java.util.function.DoublePredicate;
+import java.util.function.IntPredicate;
 
 /**
  * One place in a definition file: its Jackson node, its key path ({@code monitors[0].terms[2].reference})
@@ -38,6 +41,7 @@ final class DefNode {
     static final Duration MAX_DURATION = Duration.ofDays(3660);
     private static final Instant MIN_INSTANT = Instant.parse("0001-01-01T00:00:00Z");
     private static final Instant MAX_INSTANT = Instant.parse("9999-12-31T23:59:59.999Z");
+    private static final Pattern BAD_ESCAPE = Pattern.compile("~(?![01])");
     private static final JsonNodeFactory NODES = JsonNodeFactory.instance;
 
     private final String file;
@@ -60,10 +64,10 @@ final class DefNode {
             if (parser.nextToken() == null) {
                 throw new DefinitionException(file, 1, "", "the file is empty");
             }
-            lines.put("", parser.currentTokenLocation().getLineNr());
+            lines.put("", line(parser));
             JsonNode root = read(parser, "", lines, file);
             if (parser.nextToken() != null) {
-                throw new DefinitionException(file, parser.currentTokenLocation().getLineNr(), "",
+                throw new DefinitionException(file, line(parser), "",
                         "a second YAML document starts here; a definition file holds exactly one");
             }
             return new DefNode(file, lines, root, "");
@@ -85,7 +89,7 @@ final class DefNode {
                 while (parser.nextToken() == JsonToken.FIELD_NAME) {
                     String name = parser.currentName();
                     String childPath = path.isEmpty() ? name : path + "." + name;
-                    int line = parser.currentTokenLocation().getLineNr();
+                    int line = line(parser);
                     if (object.has(name)) {
                         throw new DefinitionException(file, line, childPath, "duplicate key");
                     }
@@ -98,7 +102,7 @@ final class DefNode {
                 ArrayNode array = NODES.arrayNode();
                 while (parser.nextToken() != JsonToken.END_ARRAY) {
                     String childPath = path + "[" + array.size() + "]";
-                    lines.put(childPath, parser.currentTokenLocation().getLineNr());
+                    lines.put(childPath, line(parser));
                     array.add(read(parser, childPath, lines, file));
                 }
                 return array;
@@ -116,9 +120,13 @@ final class DefNode {
             case VALUE_NULL:
                 return NODES.nullNode();
             default:
-                throw new DefinitionException(file, parser.currentTokenLocation().getLineNr(), path,
+                throw new DefinitionException(file, line(parser), path,
                         "unsupported YAML value (a tagged or binary value); write it as plain text");
         }
+    }
+
+    private static int line(JsonParser parser) {
+        return parser.currentTokenLocation().getLineNr();
     }
 
     /** SnakeYAML's message without its position lines and source excerpt (the line is reported anyway). */
@@ -154,14 +162,19 @@ final class DefNode {
     /** The child, which must be present. */
     DefNode require(String name) throws DefinitionException {
         DefNode child = get(name);
-        if (!child.present()) {
-            throw error("missing required key '" + name + "'");
-        }
+        errorIf(!child.present(), "missing required key '" + name + "'");
         return child;
     }
 
     DefinitionException error(String problem) {
         return errorAt(path, problem);
+    }
+
+    /** Throws {@code problem} at this node when {@code wrong}. */
+    void errorIf(boolean wrong, String problem) throws DefinitionException {
+        if (wrong) {
+            throw error(problem);
+        }
     }
 
     /** An error at {@code at}, on the line of that key or of its nearest ancestor with one. */
@@ -175,11 +188,9 @@ final class DefNode {
         return new DefinitionException(file, line == null ? 0 : line, at, problem);
     }
 
-    /** Checks that this node is a mapping with no keys outside {@code allowed}. */
+    /** This node, checked to be a mapping with no keys outside {@code allowed}. */
     DefNode mapping(String... allowed) throws DefinitionException {
-        if (!node.isObject()) {
-            throw error("expected a mapping, found " + describe());
-        }
+        errorIf(!node.isObject(), "expected a mapping, found " + describe());
         Set<String> known = new TreeSet<>(List.of(allowed));
         for (String name : (Iterable<String>) node::fieldNames) {
             if (!known.contains(name)) {
@@ -190,9 +201,7 @@ final class DefNode {
     }
 
     List<DefNode> elements() throws DefinitionException {
-        if (!node.isArray()) {
-            throw error("expected a list, found " + describe());
-        }
+        errorIf(!node.isArray(), "expected a list, found " + describe());
         List<DefNode> list = new ArrayList<>(node.size());
         for (int i = 0; i < node.size(); i++) {
             list.add(new DefNode(file, lines, node.get(i), path + "[" + i + "]"));
@@ -202,9 +211,7 @@ final class DefNode {
 
     /** A scalar as text: strings as they are, numbers and booleans in their plain form. */
     String text() throws DefinitionException {
-        if (!node.isValueNode() || node.isNull()) {
-            throw error("expected a text value, found " + describe());
-        }
+        errorIf(!node.isValueNode() || node.isNull(), "expected a text value, found " + describe());
         return node.isNumber() ? node.numberValue().toString() : node.asText();
     }
 
@@ -215,9 +222,7 @@ final class DefNode {
     /** A non-empty text value. */
     String name() throws DefinitionException {
         String text = text();
-        if (text.isBlank()) {
-            throw error("must not be empty");
-        }
+        errorIf(text.isBlank(), "must not be empty");
         return text;
     }
 
@@ -252,41 +257,31 @@ final class DefNode {
         }
     }
 
-    double number() throws DefinitionException {
+    /** A number, or {@code fallback} when absent; a number that is not {@code valid} is an error. */
+    double number(double fallback, DoublePredicate valid, String problem) throws DefinitionException {
+        double value = fallback;
         if (node.isNumber()) {
-            return node.doubleValue();
-        }
-        if (node.isTextual()) {
+            value = node.doubleValue();
+        } else if (node.isTextual()) {
             try {
-                return Double.parseDouble(node.textValue().trim());
+                value = Double.parseDouble(node.textValue().trim());
             } catch (NumberFormatException e) {
-                // the error below
+                throw error("expected a number, found " + describe());
             }
+        } else if (present()) {
+            throw error("expected a number, found " + describe());
         }
-        throw error("expected a number, found " + describe());
-    }
-
-    double number(double fallback) throws DefinitionException {
-        return present() ? number() : fallback;
-    }
-
-    int integer(int fallback) throws DefinitionException {
-        if (!present()) {
-            return fallback;
-        }
-        double value = number();
-        if (value != Math.rint(value) || Math.abs(value) > Integer.MAX_VALUE) {
-            throw error("expected a whole number, found " + describe());
-        }
-        return (int) value;
-    }
-
-    int integerAtLeast(int min, int fallback) throws DefinitionException {
-        int value = integer(fallback);
-        if (value < min) {
-            throw error("must be at least " + min);
-        }
+        errorIf(!valid.test(value), problem);
         return value;
+    }
+
+    /** A whole number, or {@code fallback} when absent; a number that is not {@code valid} is an error. */
+    int integer(int fallback, IntPredicate valid, String problem) throws DefinitionException {
+        double value = number(fallback, v -> true, null);
+        errorIf(value != Math.rint(value) || Math.abs(value) > Integer.MAX_VALUE,
+                "expected a whole number, found " + describe());
+        errorIf(!valid.test((int) value), problem);
+        return (int) value;
     }
 
     /** An ISO-8601 duration ({@code P28D}, {@code PT30S}) of whole milliseconds, at most {@link #MAX_DURATION}. */
@@ -301,29 +296,21 @@ final class DefNode {
         } catch (DateTimeParseException e) {
             throw error("'" + text + "' is not an ISO-8601 duration (for example P28D or PT30S)");
         }
-        if (value.abs().compareTo(MAX_DURATION) > 0) {
-            throw error(text + " is longer than the longest duration allowed, " + MAX_DURATION.toDays() + " days (P"
-                    + MAX_DURATION.toDays() + "D)");
-        }
-        if (value.getNano() % 1_000_000 != 0) {
-            throw error(text + " is not a whole number of milliseconds");
-        }
+        errorIf(value.abs().compareTo(MAX_DURATION) > 0,
+                text + " is longer than the longest duration allowed, " + MAX_DURATION.toDays() + " days (P" + MAX_DURATION.toDays() + "D)");
+        errorIf(value.getNano() % 1_000_000 != 0, text + " is not a whole number of milliseconds");
         return value;
     }
 
     Duration positiveDuration(Duration fallback) throws DefinitionException {
         Duration value = duration(fallback);
-        if (value.isNegative() || value.isZero()) {
-            throw error("must be a positive duration");
-        }
+        errorIf(value.isNegative() || value.isZero(), "must be a positive duration");
         return value;
     }
 
     Duration nonNegativeDuration(Duration fallback) throws DefinitionException {
         Duration value = duration(fallback);
-        if (value.isNegative()) {
-            throw error("must not be negative");
-        }
+        errorIf(value.isNegative(), "must not be negative");
         return value;
     }
 
@@ -336,21 +323,18 @@ final class DefNode {
         } catch (DateTimeParseException e) {
             throw error("'" + text + "' is not an RFC 3339 time (for example 2026-01-05T00:00:00Z)");
         }
-        if (value.isBefore(MIN_INSTANT) || value.isAfter(MAX_INSTANT)) {
-            throw error("'" + text + "' is outside the years 1 to 9999");
-        }
+        errorIf(value.isBefore(MIN_INSTANT) || value.isAfter(MAX_INSTANT),
+                "'" + text + "' is outside the years 1 to 9999");
         return value;
     }
 
     /** A JSON Pointer (RFC 6901): '/'-separated tokens with the escapes ~0 and ~1 only. */
     JsonPointer pointer() throws DefinitionException {
         String text = text();
-        if (text.isEmpty() || text.charAt(0) != '/') {
-            throw error("'" + text + "' is not a JSON Pointer: it must start with '/' (for example /exposure/household)");
-        }
-        if (text.replace("~0", "").replace("~1", "").indexOf('~') >= 0) {
-            throw error("'" + text + "' is not a JSON Pointer: '~' must be followed by 0 or 1");
-        }
+        errorIf(text.isEmpty() || text.charAt(0) != '/',
+                "'" + text + "' is not a JSON Pointer: it must start with '/' (for example /exposure/household)");
+        errorIf(BAD_ESCAPE.matcher(text).find(),
+                "'" + text + "' is not a JSON Pointer: '~' must be followed by 0 or 1");
         try {
             return JsonPointer.compile(text);
         } catch (IllegalArgumentException e) {

@@ -87,21 +87,20 @@ public final class DefinitionLoader {
         DefNode limitsNode = root.get("limits");
         if (limitsNode.present()) {
             limitsNode.mapping("maxRecordBytes", "maxDepth");
-            limits = new RecordLimits(limitsNode.get("maxRecordBytes").integerAtLeast(16, limits.maxRecordBytes()),
-                    limitsNode.get("maxDepth").integerAtLeast(1, limits.maxDepth()));
+            int bytes = limitsNode.get("maxRecordBytes").integer(limits.maxRecordBytes(), v -> v >= 16,
+                    "must be at least 16");
+            limits = new RecordLimits(bytes, limitsNode.get("maxDepth").integer(limits.maxDepth(), v -> v >= 1,
+                    "must be at least 1"));
         }
         DefNode monitorsNode = root.require("monitors");
         List<DefNode> elements = monitorsNode.elements();
-        if (elements.isEmpty()) {
-            throw monitorsNode.error("at least one monitor is needed");
-        }
+        monitorsNode.errorIf(elements.isEmpty(), "at least one monitor is needed");
         List<MonitorDefinition> monitors = new ArrayList<>();
         Set<String> names = new HashSet<>();
         for (DefNode element : elements) {
             MonitorDefinition monitor = MonitorReader.read(element, definitionDir);
-            if (!names.add(monitor.name())) {
-                throw element.get("name").error("monitor name '" + monitor.name() + "' is used twice");
-            }
+            element.get("name").errorIf(!names.add(monitor.name()),
+                    "monitor name '" + monitor.name() + "' is used twice");
             monitors.add(monitor);
         }
         return new MonitorConfig(file, kafka, service, limits, monitors);
@@ -115,9 +114,7 @@ public final class DefinitionLoader {
             throws DefinitionException {
         Map<String, String> properties = new TreeMap<>();
         if (node.present()) {
-            if (!node.json().isObject()) {
-                throw node.error("expected a mapping of Kafka client properties");
-            }
+            node.errorIf(!node.json().isObject(), "expected a mapping of Kafka client properties");
             flatten(node, "", properties);
         }
         for (Map.Entry<String, String> variable : new TreeMap<>(environment).entrySet()) {
@@ -152,9 +149,8 @@ public final class DefinitionLoader {
         DefNode http = node.get("http");
         String address = http.text(defaults.http());
         String port = address.substring(address.lastIndexOf(':') + 1);
-        if (address.lastIndexOf(':') <= 0 || !port.matches("[0-9]{1,5}") || Integer.parseInt(port) > 65535) {
-            throw http.error("'" + address + "' is not host:port (for example 127.0.0.1:8470)");
-        }
+        http.errorIf(address.lastIndexOf(':') <= 0 || !port.matches("[0-9]{1,5}") || Integer.parseInt(port) > 65535,
+                "'" + address + "' is not host:port (for example 127.0.0.1:8470)");
         return new ServiceSettings(address, node.get("groupId").text(defaults.groupId()),
                 node.get("refresh").positiveDuration(defaults.refresh()),
                 node.get("idleTimeout").positiveDuration(defaults.idleTimeout()),

@@ -35,16 +35,15 @@ final class MonitorReader {
                 "outputs");
         DefNode nameNode = node.require("name");
         String name = nameNode.name();
-        if (!NAME.matcher(name).matches()) {
-            throw nameNode.error("'" + name + "' is not a valid monitor name (letters, digits, '.', '_', '-')");
-        }
+        nameNode.errorIf(!NAME.matcher(name).matches(),
+                "'" + name + "' is not a valid monitor name (letters, digits, '.', '_', '-')");
         String topic = topic(node.require("input").mapping("topic").require("topic"), null);
         EventSpec event = event(node.require("event"));
         SplitSpec split = null;
         DefNode splitNode = node.get("split");
         if (splitNode.present()) {
             splitNode.mapping("field", "maxStreams");
-            int maxStreams = splitNode.get("maxStreams").integerAtLeast(1, 64);
+            int maxStreams = splitNode.get("maxStreams").integer(64, v -> v >= 1, "must be at least 1");
             split = new SplitSpec(splitNode.require("field").pointer(), maxStreams);
         }
         List<TermSpec> terms = TermReader.read(node.get("terms"));
@@ -63,19 +62,13 @@ final class MonitorReader {
         List<String> positive = values(outcome.get("positive"), List.of("positive", "true", "1"));
         List<String> negative = values(outcome.get("negative"), List.of("negative", "false", "0"));
         for (String value : positive) {
-            if (negative.contains(value)) {
-                throw outcome.get("negative").error("'" + value + "' is listed as both positive and negative");
-            }
+            outcome.get("negative").errorIf(negative.contains(value),
+                    "'" + value + "' is listed as both positive and negative");
         }
-        int futureConfirm = event.get("futureConfirm").integer(5);
-        if (futureConfirm < 2) {
-            throw event.get("futureConfirm").error("must be at least 2 (one event alone never confirms a new frontier)");
-        }
-        int futureHold = event.get("futureHold").integer(1000);
-        if (futureHold < futureConfirm || futureHold > MAX_FUTURE_HOLD) {
-            throw event.get("futureHold").error("must be from futureConfirm (" + futureConfirm + ") to "
-                    + MAX_FUTURE_HOLD);
-        }
+        int futureConfirm = event.get("futureConfirm").integer(5, v -> v >= 2,
+                "must be at least 2 (one event alone never confirms a new frontier)");
+        int futureHold = event.get("futureHold").integer(1000, v -> v >= futureConfirm && v <= MAX_FUTURE_HOLD,
+                "must be from futureConfirm (" + futureConfirm + ") to " + MAX_FUTURE_HOLD);
         return new EventSpec(event.require("id").pointer(), event.require("time").pointer(),
                 event.get("maxFutureSkew").nonNegativeDuration(Duration.ofDays(1)), futureConfirm,
                 event.get("futureSpan").nonNegativeDuration(Duration.ofHours(1)), futureHold,
@@ -88,9 +81,7 @@ final class MonitorReader {
             return fallback;
         }
         List<String> values = node.json().isArray() ? node.texts() : List.of(node.text());
-        if (values.isEmpty()) {
-            throw node.error("at least one value is needed");
-        }
+        node.errorIf(values.isEmpty(), "at least one value is needed");
         return values;
     }
 
@@ -100,14 +91,12 @@ final class MonitorReader {
         Duration width = widthNode.positiveDuration(null);
         Duration step = window.require("step").positiveDuration(null);
         String widthStep = "width " + widthNode.text();
-        if (width.toMillis() % step.toMillis() != 0 || width.compareTo(step) < 0) {
-            throw widthNode.error(widthStep + " is not a whole multiple of step " + window.get("step").text());
-        }
+        widthNode.errorIf(width.toMillis() % step.toMillis() != 0 || width.compareTo(step) < 0,
+                widthStep + " is not a whole multiple of step " + window.get("step").text());
         long steps = width.toMillis() / step.toMillis();
-        if (steps > MAX_STEPS_PER_WINDOW) {
-            throw widthNode.error(widthStep + " is " + steps + " steps of " + window.get("step").text() + "; at most "
-                    + MAX_STEPS_PER_WINDOW + " steps per window are allowed (every window sums that many buckets)");
-        }
+        widthNode.errorIf(steps > MAX_STEPS_PER_WINDOW, widthStep + " is " + steps + " steps of "
+                + window.get("step").text() + "; at most " + MAX_STEPS_PER_WINDOW
+                + " steps per window are allowed (every window sums that many buckets)");
         DefNode align = window.get("align");
         return new WindowSpec(width, step, window.get("lateness").nonNegativeDuration(Duration.ZERO),
                 align.present() ? align.instant() : Instant.EPOCH);
@@ -116,40 +105,27 @@ final class MonitorReader {
     private static EstimateSpec estimates(DefNode node, List<TermSpec> terms) throws DefinitionException {
         if (node.present()) {
             for (Map.Entry<String, String> renamed : RENAMED_ESTIMATE_KEYS.entrySet()) {
-                if (node.get(renamed.getKey()).present()) {
-                    throw node.get(renamed.getKey()).error("this key is now called '" + renamed.getValue()
-                            + "'; write " + renamed.getValue() + " instead");
-                }
+                node.get(renamed.getKey()).errorIf(node.get(renamed.getKey()).present(),
+                        "this key is now called '" + renamed.getValue() + "'; write " + renamed.getValue() + " instead");
             }
             node.mapping("level", "prevalenceInterval", "stratifyBy", "minEventsPerParameter", "testAccuracy",
                     "patternLimit", "profileIntervals");
         }
-        DefNode levelNode = node.get("level");
-        double level = levelNode.number(0.95);
-        if (!(level > 0 && level < 1)) {
-            throw levelNode.error("must be between 0 and 1, for example 0.95");
-        }
+        double level = node.get("level").number(0.95, v -> v > 0 && v < 1,
+                "must be between 0 and 1, for example 0.95");
         DefNode intervalNode = node.get("prevalenceInterval");
         String interval = intervalNode.text("wilson");
-        if (!PREVALENCE_INTERVALS.contains(interval)) {
-            throw intervalNode.error("'" + interval + "' is not one of clopper-pearson, jeffreys, wilson");
-        }
+        intervalNode.errorIf(!PREVALENCE_INTERVALS.contains(interval),
+                "'" + interval + "' is not one of clopper-pearson, jeffreys, wilson");
         DefNode stratifyNode = node.get("stratifyBy");
         String stratifyBy = stratifyNode.optionalName();
         if (stratifyBy != null) {
             TermSpec term = terms.stream().filter(t -> t.name().equals(stratifyBy)).findFirst().orElse(null);
-            if (term == null) {
-                throw stratifyNode.error("'" + stratifyBy + "' is not a declared term");
-            }
-            if (!(term.term() instanceof CategoricalTerm)) {
-                throw stratifyNode.error("'" + stratifyBy + "' must be a categorical term");
-            }
+            stratifyNode.errorIf(term == null, "'" + stratifyBy + "' is not a declared term");
+            stratifyNode.errorIf(!(term.term() instanceof CategoricalTerm),
+                    "'" + stratifyBy + "' must be a categorical term");
         }
-        DefNode epp = node.get("minEventsPerParameter");
-        double minEvents = epp.number(10);
-        if (!(minEvents > 0)) {
-            throw epp.error("must be positive");
-        }
+        double minEvents = node.get("minEventsPerParameter").number(10, v -> v > 0, "must be positive");
         Double sensitivity = null;
         Double specificity = null;
         DefNode accuracy = node.get("testAccuracy");
@@ -157,20 +133,16 @@ final class MonitorReader {
             accuracy.mapping("sensitivity", "specificity");
             sensitivity = proportion(accuracy.require("sensitivity"));
             specificity = proportion(accuracy.require("specificity"));
-            if (sensitivity + specificity <= 1) {
-                throw accuracy.error("sensitivity + specificity must exceed 1 for the Rogan-Gladen adjustment");
-            }
+            accuracy.errorIf(sensitivity + specificity <= 1,
+                    "sensitivity + specificity must exceed 1 for the Rogan-Gladen adjustment");
         }
         return new EstimateSpec(level, interval, stratifyBy, minEvents, sensitivity, specificity,
-                node.get("patternLimit").integerAtLeast(1, 4096), node.get("profileIntervals").bool(true));
+                node.get("patternLimit").integer(4096, v -> v >= 1, "must be at least 1"),
+                node.get("profileIntervals").bool(true));
     }
 
     private static double proportion(DefNode node) throws DefinitionException {
-        double value = node.number();
-        if (!(value > 0 && value <= 1)) {
-            throw node.error("must be a proportion in (0, 1]");
-        }
-        return value;
+        return node.number(Double.NaN, v -> v > 0 && v <= 1, "must be a proportion in (0, 1]");
     }
 
     private static BaselineSpec baseline(DefNode node, WindowSpec window, Path definitionDir)
@@ -181,26 +153,21 @@ final class MonitorReader {
         node.mapping("from", "to", "file");
         DefNode file = node.get("file");
         if (file.present()) {
-            if (node.get("from").present() || node.get("to").present()) {
-                throw file.error("give either a fixed period (from, to) or a frozen baseline file, not both");
-            }
+            file.errorIf(node.get("from").present() || node.get("to").present(),
+                    "give either a fixed period (from, to) or a frozen baseline file, not both");
             BaselineSpec spec = new BaselineSpec(null, null, file.name());
             Path path = spec.fileFor(definitionDir, null);
-            if (!spec.file().contains("{split}") && !Files.isRegularFile(path)) {
-                throw file.error("baseline file " + path + " does not exist");
-            }
+            file.errorIf(!spec.file().contains("{split}") && !Files.isRegularFile(path),
+                    "baseline file " + path + " does not exist");
             return spec;
         }
         DefNode fromNode = node.require("from");
         DefNode toNode = node.require("to");
         Instant from = fromNode.instant();
         Instant to = toNode.instant();
-        if (!from.isBefore(to)) {
-            throw toNode.error("the baseline period must end after it starts (" + from + ")");
-        }
-        if (Duration.between(from, to).compareTo(window.step()) < 0) {
-            throw toNode.error("the baseline period is shorter than one window step (" + window.step() + ")");
-        }
+        toNode.errorIf(!from.isBefore(to), "the baseline period must end after it starts (" + from + ")");
+        toNode.errorIf(Duration.between(from, to).compareTo(window.step()) < 0,
+                "the baseline period is shorter than one window step (" + window.step() + ")");
         return new BaselineSpec(from, to, null);
     }
 
@@ -215,17 +182,13 @@ final class MonitorReader {
             hook.mapping("url", "timeout", "attempts");
             DefNode urlNode = hook.require("url");
             String url = urlNode.name();
-            if (!url.startsWith("http://") && !url.startsWith("https://")) {
-                throw urlNode.error("'" + url + "' is not an http:// or https:// address");
-            }
-            int attempts = hook.get("attempts").integerAtLeast(1, 4);
+            urlNode.errorIf(!url.startsWith("http://") && !url.startsWith("https://"),
+                    "'" + url + "' is not an http:// or https:// address");
+            int attempts = hook.get("attempts").integer(4, v -> v >= 1, "must be at least 1");
             webhook = new WebhookSpec(url, hook.get("timeout").positiveDuration(Duration.ofSeconds(5)), attempts);
         }
-        DefNode below = node.get("withholdCountsBelow");
-        int withholdBelow = below.integer(SmallCellPolicy.DEFAULT_LIMIT);
-        if (withholdBelow < 2 || withholdBelow > 1000) {
-            throw below.error("must be from 2 to 1000 (counts from 1 to this minus 1 are withheld from every output)");
-        }
+        int withholdBelow = node.get("withholdCountsBelow").integer(SmallCellPolicy.DEFAULT_LIMIT, v -> v >= 2 && v <= 1000,
+                "must be from 2 to 1000 (counts from 1 to this minus 1 are withheld from every output)");
         return new OutputSpec(topic(node.get("estimatesTopic"), "oddswatch-estimates"),
                 topic(node.get("rejectsTopic"), "oddswatch-rejects"), topic(node.get("alertsTopic"), "oddswatch-alerts"),
                 node.get("estimatesFile").optionalName(), webhook, withholdBelow);
@@ -237,9 +200,8 @@ final class MonitorReader {
             return fallback;
         }
         String topic = node.name();
-        if (!TOPIC.matcher(topic).matches() || topic.equals(".") || topic.equals("..")) {
-            throw node.error("'" + topic + "' is not a valid Kafka topic name (letters, digits, '.', '_', '-')");
-        }
+        node.errorIf(!TOPIC.matcher(topic).matches() || topic.equals(".") || topic.equals(".."),
+                "'" + topic + "' is not a valid Kafka topic name (letters, digits, '.', '_', '-')");
         return topic;
     }
 }

@@ -34,9 +34,7 @@ final class RulesReader {
         if (!node.present()) {
             return AlertRulesConfig.defaults();
         }
-        if (!node.json().isObject()) {
-            throw node.error("expected a mapping of rule settings");
-        }
+        node.errorIf(!node.json().isObject(), "expected a mapping of rule settings");
         checkTermReferences(node, terms);
         ObjectNode bound = switchedOn(node, notices);
         try {
@@ -148,8 +146,6 @@ final class RulesReader {
         String name = where.text();
         TermSpec spec = terms.stream().filter(t -> t.name().equals(name)).findFirst()
                 .orElseThrow(() -> where.error("'" + name + "' is not a declared term"));
-        if (!spec.term().watched()) {
-            throw where.error("term '" + name + "' is not watched (set watched: true on it)");
-        }
+        where.errorIf(!spec.term().watched(), "term '" + name + "' is not watched (set watched: true on it)");
     }
 }

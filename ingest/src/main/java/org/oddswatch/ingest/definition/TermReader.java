@@ -26,24 +26,18 @@ final class TermReader {
         if (!node.present()) {
             return terms;
         }
-        if (node.json().isTextual()) {
-            throw node.error("terms are a list of mappings (name, field, kind, ...), not a formula");
-        }
+        node.errorIf(node.json().isTextual(), "terms are a list of mappings (name, field, kind, ...), not a formula");
         Set<String> names = new HashSet<>();
         for (DefNode element : node.elements()) {
             TermSpec term = term(element);
-            if (!names.add(term.name())) {
-                throw element.get("name").error("term '" + term.name() + "' is declared twice");
-            }
+            element.get("name").errorIf(!names.add(term.name()), "term '" + term.name() + "' is declared twice");
             terms.add(term);
         }
         return terms;
     }
 
     private static TermSpec term(DefNode element) throws DefinitionException {
-        if (!element.json().isObject()) {
-            throw element.error("expected a mapping with name, field and kind");
-        }
+        element.errorIf(!element.json().isObject(), "expected a mapping with name, field and kind");
         DefNode kindNode = element.require("kind");
         String kind = kindNode.text().toLowerCase(Locale.ROOT);
         switch (kind) {
@@ -55,12 +49,9 @@ final class TermReader {
         }
         DefNode nameNode = element.require("name");
         String name = nameNode.name();
-        if (!NAME.matcher(name).matches()) {
-            throw nameNode.error("'" + name + "' is not a valid term name (letters, digits and '_', not starting with a digit)");
-        }
-        if (name.equals(Column.INTERCEPT)) {
-            throw nameNode.error("'intercept' is reserved for the constant term");
-        }
+        nameNode.errorIf(!NAME.matcher(name).matches(),
+                "'" + name + "' is not a valid term name (letters, digits and '_', not starting with a digit)");
+        nameNode.errorIf(name.equals(Column.INTERCEPT), "'intercept' is reserved for the constant term");
         var field = element.require("field").pointer();
         boolean watched = element.get("watched").bool(false);
         Term term = switch (kind) {
@@ -72,11 +63,8 @@ final class TermReader {
     }
 
     private static Term numeric(DefNode per, String name, boolean watched) throws DefinitionException {
-        double unit = per.number(1.0);
-        if (!(unit > 0) || Double.isInfinite(unit)) {
-            throw per.error("must be a positive number");
-        }
-        return new NumericTerm(name, unit, watched);
+        return new NumericTerm(name, per.number(1.0, v -> v > 0 && !Double.isInfinite(v), "must be a positive number"),
+                watched);
     }
 
     private static Term binary(DefNode element, String name, boolean watched) throws DefinitionException {
@@ -88,9 +76,8 @@ final class TermReader {
                     : element.get("level").error("level must differ from the reference 'no'");
         }
         UndeclaredLevelPolicy policy = policy(element.get("undeclared"));
-        if (policy == UndeclaredLevelPolicy.POOL) {
-            throw element.get("undeclared").error("pool is for categorical terms; use reject or missing");
-        }
+        element.get("undeclared").errorIf(policy == UndeclaredLevelPolicy.POOL,
+                "pool is for categorical terms; use reject or missing");
         return new BinaryTerm(name, level, reference, policy, watched);
     }
 
@@ -99,32 +86,24 @@ final class TermReader {
         List<String> levels = new ArrayList<>();
         for (DefNode levelNode : levelsNode.elements()) {
             String level = levelNode.text();
-            if (levels.contains(level)) {
-                throw levelNode.error("level '" + level + "' is declared twice");
-            }
+            levelNode.errorIf(levels.contains(level), "level '" + level + "' is declared twice");
             levels.add(level);
         }
-        if (levels.size() < 2) {
-            throw levelsNode.error("a categorical term needs at least two levels");
-        }
+        levelsNode.errorIf(levels.size() < 2, "a categorical term needs at least two levels");
         DefNode referenceNode = element.require("reference");
         String reference = referenceNode.text();
-        if (!levels.contains(reference)) {
-            throw referenceNode.error("level '" + reference + "' is not one of the declared levels");
-        }
+        referenceNode.errorIf(!levels.contains(reference),
+                "level '" + reference + "' is not one of the declared levels");
         DefNode undeclaredNode = element.get("undeclared");
         UndeclaredLevelPolicy policy = policy(undeclaredNode);
         DefNode catchAllNode = element.get("catchAll");
         String catchAll = catchAllNode.text(null);
         if (policy == UndeclaredLevelPolicy.POOL) {
-            if (catchAll == null) {
-                throw undeclaredNode.error("pool needs a catchAll level");
-            }
-            if (!levels.contains(catchAll)) {
-                throw catchAllNode.error("level '" + catchAll + "' is not one of the declared levels");
-            }
-        } else if (catchAll != null) {
-            throw catchAllNode.error("catchAll is only used with undeclared: pool");
+            undeclaredNode.errorIf(catchAll == null, "pool needs a catchAll level");
+            catchAllNode.errorIf(!levels.contains(catchAll),
+                    "level '" + catchAll + "' is not one of the declared levels");
+        } else {
+            catchAllNode.errorIf(catchAll != null, "catchAll is only used with undeclared: pool");
         }
         return new CategoricalTerm(name, levels, reference, policy, catchAll, watched);
     }
