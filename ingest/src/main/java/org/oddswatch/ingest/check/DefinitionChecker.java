@@ -115,7 +115,8 @@ public final class DefinitionChecker {
         for (MonitorDefinition monitor : config.monitors()) {
             List<String> watched = monitor.terms().stream().map(TermSpec::term).filter(Term::watched)
                     .map(Term::name).toList();
-            List<String> rules = monitor.rules().switches().stream().map(AlertRulesConfig.RuleSwitch::describe).toList();
+            List<String> rules = monitor.rules().switches().stream().map(AlertRulesConfig.RuleSwitch::describe)
+                    .toList();
             facts.add(new CheckReport.MonitorFacts(monitor.name(), monitor.topic(), monitor.terms().size(), watched,
                     monitor.designCoder().width(), monitor.checksum(), rules, monitor.notices()));
         }

@@ -17,15 +17,17 @@ import java.time.Instant;
 import java.time.OffsetDateTime;
 import java.time.format.DateTimeParseException;
 import java.util.ArrayList;
+import java.util.Arrays;
 import java.util.HashMap;
 import java.util.List;
 import java.util.Locale;
 import java.util.Map;
 import java.util.Set;
 import java.util.TreeSet;
-import java.util.regex.Pattern;
 import java.util.function.DoublePredicate;
 import java.util.function.IntPredicate;
+import java.util.regex.Pattern;
+import java.util.stream.Collectors;
 
 /**
  * One place in a definition file: its Jackson node, its key path ({@code monitors[0].terms[2].reference})
@@ -131,13 +133,9 @@ final class DefNode {
 
     /** SnakeYAML's message without its position lines and source excerpt (the line is reported anyway). */
     private static String yamlProblem(String message) {
-        StringBuilder problem = new StringBuilder();
-        for (String part : String.valueOf(message).split("\n")) {
-            if (!part.isBlank() && !Character.isWhitespace(part.charAt(0))) {
-                problem.append(problem.length() == 0 ? "" : ": ").append(part.strip());
-            }
-        }
-        return problem.toString();
+        return Arrays.stream(String.valueOf(message).split("\n"))
+                .filter(part -> !part.isBlank() && !Character.isWhitespace(part.charAt(0)))
+                .map(String::strip).collect(Collectors.joining(": "));
     }
 
     String path() {
@@ -297,7 +295,8 @@ final class DefNode {
             throw error("'" + text + "' is not an ISO-8601 duration (for example P28D or PT30S)");
         }
         errorIf(value.abs().compareTo(MAX_DURATION) > 0,
-                text + " is longer than the longest duration allowed, " + MAX_DURATION.toDays() + " days (P" + MAX_DURATION.toDays() + "D)");
+                text + " is longer than the longest duration allowed, " + MAX_DURATION.toDays() + " days (P"
+                        + MAX_DURATION.toDays() + "D)");
         errorIf(value.getNano() % 1_000_000 != 0, text + " is not a whole number of milliseconds");
         return value;
     }

@@ -106,7 +106,8 @@ final class MonitorReader {
         if (node.present()) {
             for (Map.Entry<String, String> renamed : RENAMED_ESTIMATE_KEYS.entrySet()) {
                 node.get(renamed.getKey()).errorIf(node.get(renamed.getKey()).present(),
-                        "this key is now called '" + renamed.getValue() + "'; write " + renamed.getValue() + " instead");
+                        "this key is now called '" + renamed.getValue() + "'; write " + renamed.getValue()
+                                + " instead");
             }
             node.mapping("level", "prevalenceInterval", "stratifyBy", "minEventsPerParameter", "testAccuracy",
                     "patternLimit", "profileIntervals");
@@ -187,10 +188,12 @@ final class MonitorReader {
             int attempts = hook.get("attempts").integer(4, v -> v >= 1, "must be at least 1");
             webhook = new WebhookSpec(url, hook.get("timeout").positiveDuration(Duration.ofSeconds(5)), attempts);
         }
-        int withholdBelow = node.get("withholdCountsBelow").integer(SmallCellPolicy.DEFAULT_LIMIT, v -> v >= 2 && v <= 1000,
+        int withholdBelow = node.get("withholdCountsBelow").integer(SmallCellPolicy.DEFAULT_LIMIT,
+                v -> v >= 2 && v <= 1000,
                 "must be from 2 to 1000 (counts from 1 to this minus 1 are withheld from every output)");
         return new OutputSpec(topic(node.get("estimatesTopic"), "oddswatch-estimates"),
-                topic(node.get("rejectsTopic"), "oddswatch-rejects"), topic(node.get("alertsTopic"), "oddswatch-alerts"),
+                topic(node.get("rejectsTopic"), "oddswatch-rejects"),
+                topic(node.get("alertsTopic"), "oddswatch-alerts"),
                 node.get("estimatesFile").optionalName(), webhook, withholdBelow);
     }
 
