@@ -46,15 +46,10 @@ public final class DefinitionChecker {
     }
 
     /**
-     * Validates the definition and checks sample events.
+     * Checks sample events against a loaded definition.
      *
      * @param format the events' format, or null to tell by the file name
      */
-    public static CheckReport check(Path config, Path events, InputFormat format) throws DefinitionException,
-            IOException {
-        return check(DefinitionLoader.load(config), events, format);
-    }
-
     public static CheckReport check(MonitorConfig config, Path events, InputFormat format) throws IOException {
         if (!Files.isRegularFile(events)) {
             throw new IOException("events file " + events + " does not exist");

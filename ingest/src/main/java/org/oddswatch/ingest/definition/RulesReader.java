@@ -11,7 +11,6 @@ import com.fasterxml.jackson.databind.node.ObjectNode;
 import java.io.IOException;
 import java.util.Collection;
 import java.util.List;
-import java.util.Map;
 import org.oddswatch.alerts.engine.AlertRulesConfig;
 import org.oddswatch.alerts.json.Json;
 
@@ -35,7 +34,7 @@ final class RulesReader {
             return AlertRulesConfig.defaults();
         }
         node.errorIf(!node.json().isObject(), "expected a mapping of rule settings");
-        checkTermReferences(node, terms);
+        checkTermReferences(node, "", terms);
         ObjectNode bound = switchedOn(node, notices);
         try {
             return Json.mapper().readerFor(AlertRulesConfig.class)
@@ -117,27 +116,18 @@ final class RulesReader {
         return bound;
     }
 
-    private static void checkTermReferences(DefNode node, List<TermSpec> terms) throws DefinitionException {
-        if (node.json().isObject()) {
-            for (Map.Entry<String, JsonNode> field : node.json().properties()) {
-                DefNode child = node.get(field.getKey());
-                if (field.getKey().equals("term") && field.getValue().isTextual()) {
-                    checkWatched(child, terms);
-                } else if (field.getKey().equals("terms") && field.getValue().isArray()) {
-                    for (DefNode element : child.elements()) {
-                        if (element.json().isTextual()) {
-                            checkWatched(element, terms);
-                        } else {
-                            checkTermReferences(element, terms);
-                        }
-                    }
-                } else {
-                    checkTermReferences(child, terms);
-                }
-            }
+    /** Checks every text value under a key {@code term}, or listed under a key {@code terms}, at any depth. */
+    private static void checkTermReferences(DefNode node, String key, List<TermSpec> terms)
+            throws DefinitionException {
+        if (node.json().isTextual() && (key.equals("term") || key.equals("terms[]"))) {
+            checkWatched(node, terms);
         } else if (node.json().isArray()) {
             for (DefNode element : node.elements()) {
-                checkTermReferences(element, terms);
+                checkTermReferences(element, key.equals("terms") ? "terms[]" : "", terms);
+            }
+        } else if (node.json().isObject()) {
+            for (String name : (Iterable<String>) node.json()::fieldNames) {
+                checkTermReferences(node.get(name), name, terms);
             }
         }
     }
