@@ -52,13 +52,11 @@ public record CheckReport(String file, List<MonitorFacts> monitors, EventCheck e
         }
         if (events != null) {
             OutcomeCounts.Snapshot r = events.records();
-            text.append(events.input()).append(": ").append(r.consumed()).append(" record(s): ");
-            appendOutcomes(text, r);
-            text.append('\n');
+            text.append(events.input()).append(": ").append(r.consumed()).append(" record(s): ").append(outcomes(r))
+                    .append('\n');
             for (MonitorCounts m : events.monitors()) {
-                text.append("  ").append(m.monitor()).append(" (").append(m.streams()).append(" stream(s)): ");
-                appendOutcomes(text, m.counts());
-                text.append('\n');
+                text.append("  ").append(m.monitor()).append(" (").append(m.streams()).append(" stream(s)): ")
+                        .append(outcomes(m.counts())).append('\n');
                 for (Map.Entry<String, Long> reason : m.counts().reasons().entrySet()) {
                     text.append("    ").append(reason.getKey()).append(": ").append(reason.getValue());
                     Example example = events.examples().get(reason.getKey());
@@ -91,8 +89,9 @@ public record CheckReport(String file, List<MonitorFacts> monitors, EventCheck e
         gaps.forEach(gap -> text.append("  ").append(gap.describe()).append('\n'));
     }
 
-    private static void appendOutcomes(StringBuilder text, OutcomeCounts.Snapshot counts) {
-        text.append(String.join(", ", counts.outcomes().entrySet().stream()
-                .map(outcome -> outcome.getValue() + " " + outcome.getKey()).toList()));
+    /** For example {@code 200 accepted, 3 rejected, 0 late, 1 duplicate}. */
+    private static String outcomes(OutcomeCounts.Snapshot counts) {
+        return String.join(", ", counts.outcomes().entrySet().stream()
+                .map(outcome -> outcome.getValue() + " " + outcome.getKey()).toList());
     }
 }
