@@ -8,7 +8,6 @@ import org.oddswatch.ingest.pipeline.OutcomeCounts;
 /**
  * The result of checking a definition, and optionally sample events against it.
  *
- * @param file the definition file
  * @param monitors one line of facts per monitor
  * @param events what the sample events did, or null without events
  */
@@ -18,8 +17,7 @@ public record CheckReport(String file, List<MonitorFacts> monitors, EventCheck e
      * What a monitor reads and fits, and which rules run.
      *
      * @param rules every rule, on or off with the reason ({@code AlertRulesConfig.RuleSwitch#describe})
-     * @param notices what the definition means that may not be expected (a rule running because it
-     *     is not listed)
+     * @param notices what the definition means that may not be expected (a rule running because it is not listed)
      */
     public record MonitorFacts(String monitor, String topic, int terms, List<String> watched, int designColumns,
                                String checksum, List<String> rules, List<String> notices) {
@@ -28,18 +26,17 @@ public record CheckReport(String file, List<MonitorFacts> monitors, EventCheck e
     /**
      * @param records one outcome per record (accepted when any monitor accepted it)
      * @param monitors per monitor: every record's outcome for that monitor, streams included
-     * @param examples the first record of each reason: its line and detail
+     * @param examples the first record of each reason
      * @param gaps what the sample would leave unmonitored and why, once every window is closed
      */
     public record EventCheck(String input, OutcomeCounts.Snapshot records, List<MonitorCounts> monitors,
                              Map<String, Example> examples, List<MonitoringGap> gaps) {
     }
 
-    /** One monitor's counts over the sample. */
     public record MonitorCounts(String monitor, int streams, OutcomeCounts.Snapshot counts) {
     }
 
-    /** The first record seen with a reason. */
+    /** The first record seen with a reason: its line and detail. */
     public record Example(long line, String monitor, String detail) {
     }
 
@@ -55,13 +52,11 @@ public record CheckReport(String file, List<MonitorFacts> monitors, EventCheck e
         }
         if (events != null) {
             OutcomeCounts.Snapshot r = events.records();
-            text.append(events.input()).append(": ").append(r.consumed()).append(" record(s): ");
-            appendOutcomes(text, r);
-            text.append('\n');
+            text.append(events.input()).append(": ").append(r.consumed()).append(" record(s): ").append(outcomes(r))
+                    .append('\n');
             for (MonitorCounts m : events.monitors()) {
-                text.append("  ").append(m.monitor()).append(" (").append(m.streams()).append(" stream(s)): ");
-                appendOutcomes(text, m.counts());
-                text.append('\n');
+                text.append("  ").append(m.monitor()).append(" (").append(m.streams()).append(" stream(s)): ")
+                        .append(outcomes(m.counts())).append('\n');
                 for (Map.Entry<String, Long> reason : m.counts().reasons().entrySet()) {
                     text.append("    ").append(reason.getKey()).append(": ").append(reason.getValue());
                     Example example = events.examples().get(reason.getKey());
@@ -80,31 +75,23 @@ public record CheckReport(String file, List<MonitorFacts> monitors, EventCheck e
     /** The monitor's rules, one per line, and its notices. */
     public static void appendRules(StringBuilder text, MonitorFacts m) {
         text.append("    rules:\n");
-        for (String rule : m.rules()) {
-            text.append("      ").append(rule).append('\n');
-        }
-        for (String notice : m.notices()) {
-            text.append("    note: ").append(notice).append('\n');
-        }
+        m.rules().forEach(rule -> text.append("      ").append(rule).append('\n'));
+        m.notices().forEach(notice -> text.append("    note: ").append(notice).append('\n'));
     }
 
     /** What the sample would leave unmonitored, one line each, or that nothing is. */
-    public static void appendGaps(StringBuilder text, List<MonitoringGap> gaps) {
+    private static void appendGaps(StringBuilder text, List<MonitoringGap> gaps) {
         if (gaps.isEmpty()) {
             text.append("not monitored: nothing (every rule ran and judged every final window)\n");
             return;
         }
         text.append("not monitored (").append(gaps.size()).append("):\n");
-        for (MonitoringGap gap : gaps) {
-            text.append("  ").append(gap.describe()).append('\n');
-        }
+        gaps.forEach(gap -> text.append("  ").append(gap.describe()).append('\n'));
     }
 
-    private static void appendOutcomes(StringBuilder text, OutcomeCounts.Snapshot counts) {
-        boolean first = true;
-        for (Map.Entry<String, Long> outcome : counts.outcomes().entrySet()) {
-            text.append(first ? "" : ", ").append(outcome.getValue()).append(' ').append(outcome.getKey());
-            first = false;
-        }
+    /** For example {@code 200 accepted, 3 rejected, 0 late, 1 duplicate}. */
+    private static String outcomes(OutcomeCounts.Snapshot counts) {
+        return String.join(", ", counts.outcomes().entrySet().stream()
+                .map(outcome -> outcome.getValue() + " " + outcome.getKey()).toList());
     }
 }

@@ -30,11 +30,9 @@ import org.oddswatch.ingest.replay.InputFormat;
 import org.oddswatch.ingest.replay.RecordSink;
 
 /**
- * Validates a monitor definition and, given sample events, runs them through the real pipeline
- * (decoding, routing, time rules, dedupe, windows closed at the end and the rules run: the same code
- * as replay, estimates and alerts discarded) and reports how many each monitor would accept or reject,
- * by reason, and what would not be monitored ({@link MonitoringGap}). Lists the rules of each monitor,
- * on or off with the reason.
+ * Validates a monitor definition and, given sample events, runs them through the same pipeline as
+ * replay (windows closed at the end, rules run, estimates and alerts discarded): how many each monitor
+ * would accept or reject, by reason, and what would not be monitored ({@link MonitoringGap}).
  */
 public final class DefinitionChecker {
 
@@ -48,16 +46,10 @@ public final class DefinitionChecker {
     }
 
     /**
-     * Validates the definition and checks sample events.
+     * Checks sample events against a loaded definition.
      *
      * @param format the events' format, or null to tell by the file name
      */
-    public static CheckReport check(Path config, Path events, InputFormat format) throws DefinitionException,
-            IOException {
-        MonitorConfig loaded = DefinitionLoader.load(config);
-        return check(loaded, events, format);
-    }
-
     public static CheckReport check(MonitorConfig config, Path events, InputFormat format) throws IOException {
         if (!Files.isRegularFile(events)) {
             throw new IOException("events file " + events + " does not exist");
@@ -90,10 +82,7 @@ public final class DefinitionChecker {
         });
         pipeline.closeAll();
         PipelineSnapshot snapshot = pipeline.snapshot();
-        List<MonitoringGap> gaps = new ArrayList<>();
-        for (StreamStatus stream : snapshot.streams()) {
-            gaps.addAll(stream.gaps());
-        }
+        List<MonitoringGap> gaps = snapshot.streams().stream().flatMap(stream -> stream.gaps().stream()).toList();
         List<CheckReport.MonitorCounts> monitors = new ArrayList<>();
         for (PipelineSnapshot.MonitorStatus monitor : snapshot.monitors()) {
             OutcomeCounts.Snapshot counts = monitor.unrouted();
@@ -110,8 +99,8 @@ public final class DefinitionChecker {
 
     /** Duplicates are not sent to rejects; keep their first line as an example too. */
     private static void noteDuplicate(RecordOutcome outcome, long line, Map<String, CheckReport.Example> examples) {
-        if (outcome.reason() != null && !examples.containsKey(outcome.reason())) {
-            examples.put(outcome.reason(), new CheckReport.Example(line, null, outcome.detail()));
+        if (outcome.reason() != null) {
+            examples.putIfAbsent(outcome.reason(), new CheckReport.Example(line, null, outcome.detail()));
         }
     }
 
@@ -119,17 +108,10 @@ public final class DefinitionChecker {
     public static List<CheckReport.MonitorFacts> facts(MonitorConfig config) {
         List<CheckReport.MonitorFacts> facts = new ArrayList<>();
         for (MonitorDefinition monitor : config.monitors()) {
-            List<String> watched = new ArrayList<>();
-            for (TermSpec spec : monitor.terms()) {
-                Term term = spec.term();
-                if (term.watched()) {
-                    watched.add(term.name());
-                }
-            }
-            List<String> rules = new ArrayList<>();
-            for (AlertRulesConfig.RuleSwitch rule : monitor.rules().switches()) {
-                rules.add(rule.describe());
-            }
+            List<String> watched = monitor.terms().stream().map(TermSpec::term).filter(Term::watched)
+                    .map(Term::name).toList();
+            List<String> rules = monitor.rules().switches().stream().map(AlertRulesConfig.RuleSwitch::describe)
+                    .toList();
             facts.add(new CheckReport.MonitorFacts(monitor.name(), monitor.topic(), monitor.terms().size(), watched,
                     monitor.designCoder().width(), monitor.checksum(), rules, monitor.notices()));
         }

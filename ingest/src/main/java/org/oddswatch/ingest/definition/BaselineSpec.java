@@ -4,9 +4,9 @@ import java.nio.file.Path;
 import java.time.Instant;
 
 /**
- * The {@code baseline} section: either a fixed period {@code [from, to)} of the stream itself, fitted
- * and frozen once the watermark passes {@code to + lateness}, or a frozen model file written by
- * {@code oddswatch baseline}. In the file name, {@code {split}} stands for the split value.
+ * The {@code baseline} section: a fixed period {@code [from, to)} of the stream itself, or a frozen
+ * model file written by {@code oddswatch baseline}, in whose name {@code {split}} stands for the
+ * split value.
  */
 public record BaselineSpec(Instant from, Instant to, String file) {
 
@@ -14,10 +14,9 @@ public record BaselineSpec(Instant from, Instant to, String file) {
         return from != null;
     }
 
-    /** The baseline file of one stream: {@code {split}} replaced by the split value (or removed). */
+    /** The baseline file of one stream, relative to {@code definitionDir} unless absolute. */
     public Path fileFor(Path definitionDir, String splitValue) {
-        String name = file.replace("{split}", splitValue == null ? "" : fileSafe(splitValue));
-        Path path = Path.of(name);
+        Path path = Path.of(file.replace("{split}", splitValue == null ? "" : fileSafe(splitValue)));
         return path.isAbsolute() || definitionDir == null ? path : definitionDir.resolve(path);
     }
 

@@ -3,7 +3,7 @@ package org.oddswatch.ingest.definition;
 import java.nio.charset.StandardCharsets;
 import java.security.MessageDigest;
 import java.security.NoSuchAlgorithmException;
-import java.util.ArrayList;
+import java.util.HexFormat;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
@@ -15,64 +15,50 @@ import org.oddswatch.estimator.terms.NumericTerm;
 import org.oddswatch.estimator.terms.Term;
 
 /**
- * SHA-256 of the canonical model part of a monitor: the outcome mapping (field, sorted positive and
- * negative values) and every term's name, field, kind and coding (levels, reference, undeclared
- * policy, catch-all, per), in declaration order, with defaults filled in. Names, windows, rules and
+ * SHA-256 (hex) of the model part of a monitor, as compact JSON: the outcome (field, sorted positive
+ * and negative values) and every term's name, field, kind and coding (levels, reference, undeclared
+ * policy, catch-all, per), in declaration order, defaults filled in. Names, windows, rules and
  * outputs are left out: they do not change what a fitted baseline means.
  */
-public final class DefinitionChecksum {
+final class DefinitionChecksum {
 
     private DefinitionChecksum() {
     }
 
-    public static String of(OutcomeSpec outcome, List<TermSpec> terms) {
+    static String of(OutcomeSpec outcome, List<TermSpec> terms) {
         Map<String, Object> canonical = new LinkedHashMap<>();
-        Map<String, Object> outcomeMap = new LinkedHashMap<>();
-        outcomeMap.put("field", outcome.field().toString());
-        outcomeMap.put("positive", new TreeSet<>(outcome.positive()));
-        outcomeMap.put("negative", new TreeSet<>(outcome.negative()));
-        canonical.put("outcome", outcomeMap);
-        List<Object> termList = new ArrayList<>();
-        for (TermSpec spec : terms) {
-            termList.add(canonical(spec));
+        canonical.put("outcome", ordered("field", outcome.field().toString(),
+                "positive", new TreeSet<>(outcome.positive()), "negative", new TreeSet<>(outcome.negative())));
+        canonical.put("terms", terms.stream().map(DefinitionChecksum::canonical).toList());
+        try {
+            byte[] json = Json.write(canonical).getBytes(StandardCharsets.UTF_8);
+            return HexFormat.of().formatHex(MessageDigest.getInstance("SHA-256").digest(json));
+        } catch (NoSuchAlgorithmException e) {
+            throw new IllegalStateException("SHA-256 is required by every Java platform", e);
         }
-        canonical.put("terms", termList);
-        return sha256(Json.write(canonical));
     }
 
     private static Map<String, Object> canonical(TermSpec spec) {
-        Map<String, Object> map = new LinkedHashMap<>();
         Term term = spec.term();
-        map.put("name", term.name());
-        map.put("field", spec.field().toString());
+        Map<String, Object> map = ordered("name", term.name(), "field", spec.field().toString());
         if (term instanceof BinaryTerm b) {
-            map.put("kind", "binary");
-            map.put("level", b.level());
-            map.put("reference", b.reference());
-            map.put("undeclared", b.undeclared().name());
+            map.putAll(ordered("kind", "binary", "level", b.level(), "reference", b.reference(),
+                    "undeclared", b.undeclared().name()));
         } else if (term instanceof CategoricalTerm c) {
-            map.put("kind", "categorical");
-            map.put("levels", c.levels());
-            map.put("reference", c.reference());
-            map.put("undeclared", c.undeclared().name());
-            map.put("catchAll", c.catchAll());
+            map.putAll(ordered("kind", "categorical", "levels", c.levels(), "reference", c.reference(),
+                    "undeclared", c.undeclared().name(), "catchAll", c.catchAll()));
         } else if (term instanceof NumericTerm n) {
-            map.put("kind", "numeric");
-            map.put("per", n.per());
+            map.putAll(ordered("kind", "numeric", "per", n.per()));
         }
         return map;
     }
 
-    static String sha256(String text) {
-        try {
-            byte[] digest = MessageDigest.getInstance("SHA-256").digest(text.getBytes(StandardCharsets.UTF_8));
-            StringBuilder hex = new StringBuilder(digest.length * 2);
-            for (byte b : digest) {
-                hex.append(Character.forDigit((b >> 4) & 0xf, 16)).append(Character.forDigit(b & 0xf, 16));
-            }
-            return hex.toString();
-        } catch (NoSuchAlgorithmException e) {
-            throw new IllegalStateException("SHA-256 is required by every Java platform", e);
+    /** A map of the given key, value pairs in their order (values may be null; the writer leaves those out). */
+    private static Map<String, Object> ordered(Object... keysAndValues) {
+        Map<String, Object> map = new LinkedHashMap<>();
+        for (int i = 0; i < keysAndValues.length; i += 2) {
+            map.put((String) keysAndValues[i], keysAndValues[i + 1]);
         }
+        return map;
     }
 }

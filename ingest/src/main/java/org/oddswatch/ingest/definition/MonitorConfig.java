@@ -1,10 +1,11 @@
 package org.oddswatch.ingest.definition;
 
-import java.util.ArrayList;
+import java.util.Collections;
 import java.util.LinkedHashSet;
 import java.util.List;
 import java.util.Map;
 import java.util.Set;
+import java.util.TreeMap;
 
 /**
  * A loaded definition file.
@@ -12,45 +13,30 @@ import java.util.Set;
  * @param file the file name as given
  * @param kafka properties passed to the Kafka clients unchanged (file, then {@code ODDSWATCH_KAFKA_*}
  *     environment variables on top), sorted by key
- * @param service live-service settings
- * @param limits record caps
  * @param monitors the monitors, in file order
  */
 public record MonitorConfig(String file, Map<String, String> kafka, ServiceSettings service, RecordLimits limits,
                             List<MonitorDefinition> monitors) {
 
     public MonitorConfig {
-        kafka = java.util.Collections.unmodifiableMap(new java.util.TreeMap<>(kafka));
+        kafka = Collections.unmodifiableMap(new TreeMap<>(kafka));
         monitors = List.copyOf(monitors);
     }
 
     /** Input topics in order of first use. */
     public Set<String> topics() {
         Set<String> topics = new LinkedHashSet<>();
-        for (MonitorDefinition monitor : monitors) {
-            topics.add(monitor.topic());
-        }
+        monitors.forEach(monitor -> topics.add(monitor.topic()));
         return topics;
     }
 
     /** The monitors reading {@code topic}, in file order. */
     public List<MonitorDefinition> monitorsFor(String topic) {
-        List<MonitorDefinition> list = new ArrayList<>();
-        for (MonitorDefinition monitor : monitors) {
-            if (monitor.topic().equals(topic)) {
-                list.add(monitor);
-            }
-        }
-        return list;
+        return monitors.stream().filter(monitor -> monitor.topic().equals(topic)).toList();
     }
 
     /** The monitor named {@code name}, or null. */
     public MonitorDefinition monitor(String name) {
-        for (MonitorDefinition monitor : monitors) {
-            if (monitor.name().equals(name)) {
-                return monitor;
-            }
-        }
-        return null;
+        return monitors.stream().filter(monitor -> monitor.name().equals(name)).findFirst().orElse(null);
     }
 }

@@ -1,28 +1,24 @@
 package org.oddswatch.ingest.definition;
 
 import java.nio.file.Path;
-import java.util.ArrayList;
 import java.util.List;
 import org.oddswatch.alerts.engine.AlertRulesConfig;
 import org.oddswatch.estimator.EstimatorOptions;
 import org.oddswatch.estimator.terms.CategoricalTerm;
 import org.oddswatch.estimator.terms.DesignCoder;
-import org.oddswatch.estimator.terms.Term;
 import org.oddswatch.estimator.window.WindowGeometry;
 
 /**
  * One validated monitor of a definition file.
  *
  * @param name the monitor (and, without a split, stream) name
- * @param topic the input topic
  * @param split the split section, or null for one stream
  * @param baseline the baseline section, or null
- * @param rules the rule settings, bound from the {@code rules} mapping
  * @param definitionDir directory of the definition file (relative baseline files resolve against it)
- * @param checksum SHA-256 (hex) of the model part of the definition (outcome and terms), stored in
- *     baselines so a baseline fitted under another model is recognised
- * @param notices what the definition means that an operator may not expect (for example a rule
- *     that runs because its section is not listed), one sentence each; shown by {@code check}
+ * @param checksum SHA-256 (hex) of the model part (outcome and terms; {@link DefinitionChecksum}),
+ *     stored in baselines so a baseline fitted under another model is recognised
+ * @param notices what the definition means that an operator may not expect (a rule that runs
+ *     because its section is not listed), one sentence each; shown by {@code check}
  */
 public record MonitorDefinition(String name, String topic, EventSpec event, SplitSpec split, List<TermSpec> terms,
                                 WindowSpec window, EstimateSpec estimates, BaselineSpec baseline,
@@ -40,18 +36,9 @@ public record MonitorDefinition(String name, String topic, EventSpec event, Spli
                 definitionDir, checksum, notices);
     }
 
-    /** The estimator terms, in declaration order. */
-    public List<Term> modelTerms() {
-        List<Term> list = new ArrayList<>(terms.size());
-        for (TermSpec spec : terms) {
-            list.add(spec.term());
-        }
-        return list;
-    }
-
-    /** A new design coder for this monitor's terms. */
+    /** A new design coder for this monitor's terms, in declaration order. */
     public DesignCoder designCoder() {
-        return new DesignCoder(modelTerms());
+        return new DesignCoder(terms.stream().map(TermSpec::term).toList());
     }
 
     public WindowGeometry geometry() {
@@ -64,9 +51,6 @@ public record MonitorDefinition(String name, String topic, EventSpec event, Spli
 
     /** Index of the stratifying term among the terms, or -1. */
     public int stratumTermIndex() {
-        if (estimates.stratifyBy() == null) {
-            return -1;
-        }
         for (int t = 0; t < terms.size(); t++) {
             if (terms.get(t).name().equals(estimates.stratifyBy())) {
                 return t;
@@ -91,18 +75,9 @@ public record MonitorDefinition(String name, String topic, EventSpec event, Spli
         return splitValue == null ? name : name + "/" + splitValue;
     }
 
-    /** True when {@code stream} is this monitor's ({@code name} or {@code name/value}; names hold no '/'). */
-    public boolean owns(String stream) {
-        return stream.equals(name) || stream.startsWith(name + "/");
-    }
-
-    /** The monitor among {@code monitors} a stream belongs to. */
+    /** The monitor among {@code monitors} a stream ({@code name} or {@code name/value}) belongs to. */
     public static MonitorDefinition ofStream(List<MonitorDefinition> monitors, String stream) {
-        for (MonitorDefinition monitor : monitors) {
-            if (monitor.owns(stream)) {
-                return monitor;
-            }
-        }
-        throw new IllegalArgumentException("no monitor for stream " + stream);
+        return monitors.stream().filter(m -> stream.equals(m.name()) || stream.startsWith(m.name() + "/"))
+                .findFirst().orElseThrow(() -> new IllegalArgumentException("no monitor for stream " + stream));
     }
 }

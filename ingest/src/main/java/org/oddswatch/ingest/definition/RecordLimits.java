@@ -1,10 +1,8 @@
 package org.oddswatch.ingest.definition;
 
 /**
- * The {@code limits} section: caps applied to every record before and while it is parsed.
- *
- * @param maxRecordBytes larger record values are rejected {@code oversized} unparsed (default 1 MiB)
- * @param maxDepth deeper nesting of objects and arrays is rejected {@code too-deep} (default 32)
+ * The {@code limits} section: larger record values are rejected {@code oversized} unparsed, deeper
+ * nesting {@code too-deep}.
  */
 public record RecordLimits(int maxRecordBytes, int maxDepth) {
 

@@ -2,11 +2,6 @@ package org.oddswatch.ingest.definition;
 
 import com.fasterxml.jackson.core.JsonPointer;
 
-/**
- * The {@code split} section: one stream per value of {@code field}, named {@code monitor/value}.
- *
- * @param maxStreams most streams of this monitor; events that would open another are rejected
- *     {@code too-many-streams} (default 64)
- */
+/** The {@code split} section: one stream per value of {@code field}, at most {@code maxStreams}. */
 public record SplitSpec(JsonPointer field, int maxStreams) {
 }

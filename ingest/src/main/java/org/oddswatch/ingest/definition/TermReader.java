@@ -18,75 +18,53 @@ final class TermReader {
 
     private static final Pattern NAME = Pattern.compile("[A-Za-z_][A-Za-z0-9_]*");
 
-    private final DefNode node;
-
-    TermReader(DefNode node) {
-        this.node = node;
+    private TermReader() {
     }
 
-    List<TermSpec> read() throws DefinitionException {
+    static List<TermSpec> read(DefNode node) throws DefinitionException {
         List<TermSpec> terms = new ArrayList<>();
         if (!node.present()) {
             return terms;
         }
-        if (node.json().isTextual()) {
-            throw node.error("terms are a list of mappings (name, field, kind, ...), not a formula");
-        }
+        node.errorIf(node.json().isTextual(), "terms are a list of mappings (name, field, kind, ...), not a formula");
         Set<String> names = new HashSet<>();
         for (DefNode element : node.elements()) {
             TermSpec term = term(element);
-            MonitorReader.requireUnique(names, term.name(), element.get("name"), "term");
+            element.get("name").errorIf(!names.add(term.name()), "term '" + term.name() + "' is declared twice");
             terms.add(term);
         }
         return terms;
     }
 
     private static TermSpec term(DefNode element) throws DefinitionException {
-        if (!element.json().isObject()) {
-            throw element.error("expected a mapping with name, field and kind");
-        }
+        element.errorIf(!element.json().isObject(), "expected a mapping with name, field and kind");
         DefNode kindNode = element.require("kind");
         String kind = kindNode.text().toLowerCase(Locale.ROOT);
         switch (kind) {
-            case "binary":
-                element.mapping("name", "field", "kind", "level", "reference", "undeclared", "watched");
-                break;
-            case "categorical":
-                element.mapping("name", "field", "kind", "levels", "reference", "undeclared", "catchAll", "watched");
-                break;
-            case "numeric":
-                element.mapping("name", "field", "kind", "per", "watched");
-                break;
-            default:
-                throw kindNode.error("'" + kindNode.text() + "' is not one of binary, categorical, numeric");
+            case "binary" -> element.mapping("name", "field", "kind", "level", "reference", "undeclared", "watched");
+            case "categorical" -> element.mapping("name", "field", "kind", "levels", "reference", "undeclared",
+                    "catchAll", "watched");
+            case "numeric" -> element.mapping("name", "field", "kind", "per", "watched");
+            default -> throw kindNode.error("'" + kindNode.text() + "' is not one of binary, categorical, numeric");
         }
         DefNode nameNode = element.require("name");
         String name = nameNode.name();
-        if (!NAME.matcher(name).matches()) {
-            throw nameNode.error("'" + name + "' is not a valid term name (letters, digits and '_', not starting with a digit)");
-        }
-        if (name.equals(Column.INTERCEPT)) {
-            throw nameNode.error("'intercept' is reserved for the constant term");
-        }
+        nameNode.errorIf(!NAME.matcher(name).matches(),
+                "'" + name + "' is not a valid term name (letters, digits and '_', not starting with a digit)");
+        nameNode.errorIf(name.equals(Column.INTERCEPT), "'intercept' is reserved for the constant term");
         var field = element.require("field").pointer();
         boolean watched = element.get("watched").bool(false);
-        Term term;
-        switch (kind) {
-            case "binary":
-                term = binary(element, name, watched);
-                break;
-            case "categorical":
-                term = categorical(element, name, watched);
-                break;
-            default:
-                DefNode per = element.get("per");
-                double unit = per.number(1.0);
-                if (!(unit > 0) || Double.isInfinite(unit)) {
-                    throw per.error("must be a positive number");
-                }
-                term = new NumericTerm(name, unit, watched);
-        }
+        Term term = switch (kind) {
+            case "binary" -> binary(element, name, watched);
+            case "categorical" -> categorical(element, name, watched);
+            default -> numeric(element.get("per"), name, watched);
+        };
         return new TermSpec(field, term);
+    }
+
+    private static Term numeric(DefNode per, String name, boolean watched) throws DefinitionException {
+        return new NumericTerm(name, per.number(1.0, v -> v > 0 && !Double.isInfinite(v), "must be a positive number"),
+                watched);
     }
 
     private static Term binary(DefNode element, String name, boolean watched) throws DefinitionException {
@@ -98,57 +76,45 @@ final class TermReader {
                     : element.get("level").error("level must differ from the reference 'no'");
         }
         UndeclaredLevelPolicy policy = policy(element.get("undeclared"));
-        if (policy == UndeclaredLevelPolicy.POOL) {
-            throw element.get("undeclared").error("pool is for categorical terms; use reject or missing");
-        }
+        element.get("undeclared").errorIf(policy == UndeclaredLevelPolicy.POOL,
+                "pool is for categorical terms; use reject or missing");
         return new BinaryTerm(name, level, reference, policy, watched);
     }
 
     private static Term categorical(DefNode element, String name, boolean watched) throws DefinitionException {
         DefNode levelsNode = element.require("levels");
         List<String> levels = new ArrayList<>();
-        Set<String> seen = new HashSet<>();
         for (DefNode levelNode : levelsNode.elements()) {
             String level = levelNode.text();
-            MonitorReader.requireUnique(seen, level, levelNode, "level");
+            levelNode.errorIf(levels.contains(level), "level '" + level + "' is declared twice");
             levels.add(level);
         }
-        if (levels.size() < 2) {
-            throw levelsNode.error("a categorical term needs at least two levels");
-        }
+        levelsNode.errorIf(levels.size() < 2, "a categorical term needs at least two levels");
         DefNode referenceNode = element.require("reference");
         String reference = referenceNode.text();
-        if (!levels.contains(reference)) {
-            throw referenceNode.error("level '" + reference + "' is not one of the declared levels");
-        }
+        referenceNode.errorIf(!levels.contains(reference),
+                "level '" + reference + "' is not one of the declared levels");
         DefNode undeclaredNode = element.get("undeclared");
         UndeclaredLevelPolicy policy = policy(undeclaredNode);
         DefNode catchAllNode = element.get("catchAll");
-        String catchAll = catchAllNode.present() ? catchAllNode.text() : null;
+        String catchAll = catchAllNode.text(null);
         if (policy == UndeclaredLevelPolicy.POOL) {
-            if (catchAll == null) {
-                throw undeclaredNode.error("pool needs a catchAll level");
-            }
-            if (!levels.contains(catchAll)) {
-                throw catchAllNode.error("level '" + catchAll + "' is not one of the declared levels");
-            }
-        } else if (catchAll != null) {
-            throw catchAllNode.error("catchAll is only used with undeclared: pool");
+            undeclaredNode.errorIf(catchAll == null, "pool needs a catchAll level");
+            catchAllNode.errorIf(!levels.contains(catchAll),
+                    "level '" + catchAll + "' is not one of the declared levels");
+        } else {
+            catchAllNode.errorIf(catchAll != null, "catchAll is only used with undeclared: pool");
         }
         return new CategoricalTerm(name, levels, reference, policy, catchAll, watched);
     }
 
     private static UndeclaredLevelPolicy policy(DefNode node) throws DefinitionException {
         String text = node.text("reject");
-        switch (text) {
-            case "reject":
-                return UndeclaredLevelPolicy.REJECT;
-            case "missing":
-                return UndeclaredLevelPolicy.MISSING;
-            case "pool":
-                return UndeclaredLevelPolicy.POOL;
-            default:
-                throw node.error("'" + text + "' is not one of reject, missing, pool");
-        }
+        return switch (text) {
+            case "reject" -> UndeclaredLevelPolicy.REJECT;
+            case "missing" -> UndeclaredLevelPolicy.MISSING;
+            case "pool" -> UndeclaredLevelPolicy.POOL;
+            default -> throw node.error("'" + text + "' is not one of reject, missing, pool");
+        };
     }
 }

@@ -3,7 +3,7 @@ package org.oddswatch.ingest.definition;
 import com.fasterxml.jackson.core.JsonPointer;
 import org.oddswatch.estimator.terms.Term;
 
-/** One model term: the estimator's term and the event field (JSON Pointer) it reads. */
+/** One model term: the estimator's term and the event field it reads. */
 public record TermSpec(JsonPointer field, Term term) {
 
     public String name() {

@@ -15,6 +15,7 @@ import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 import org.oddswatch.ingest.decode.RejectReason;
 import org.oddswatch.ingest.definition.DefinitionException;
+import org.oddswatch.ingest.definition.DefinitionLoader;
 import org.oddswatch.ingest.pipeline.GapScenario;
 import org.oddswatch.ingest.pipeline.HouseEvents;
 import org.oddswatch.ingest.pipeline.Outcome;
@@ -48,7 +49,7 @@ class DefinitionCheckerTest {
         lines.add(lines.get(197).replace("\"collectedAt\":\"", "\"collectedAt\":\"x"));
         Path events = dir.resolve("sample.jsonl");
         Files.write(events, lines, StandardCharsets.UTF_8);
-        CheckReport report = DefinitionChecker.check(definition(), events, null);
+        CheckReport report = DefinitionChecker.check(DefinitionLoader.load(definition()), events, null);
         CheckReport.EventCheck check = report.events();
         assertEquals(204, check.records().consumed());
         assertEquals(200, check.records().outcome(Outcome.ACCEPTED));
@@ -87,7 +88,7 @@ class DefinitionCheckerTest {
         Files.writeString(definition, GapScenario.definition("clinic-tests"));
         Path events = dir.resolve("sample.csv");
         Files.write(events, GapScenario.csvLines(), StandardCharsets.UTF_8);
-        CheckReport report = DefinitionChecker.check(definition, events, null);
+        CheckReport report = DefinitionChecker.check(DefinitionLoader.load(definition), events, null);
         CheckReport.MonitorFacts facts = report.monitors().get(0);
         assertEquals(List.of("odds-ratio-drift: on (needs a baseline)", "odds-ratio-bounds: on",
                 "calibration: on (needs a baseline)",

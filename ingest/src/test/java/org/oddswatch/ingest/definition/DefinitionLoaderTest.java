@@ -353,6 +353,26 @@ class DefinitionLoaderTest {
         assertNotEquals(north, otherReference);
     }
 
+    /**
+     * Baselines and alerts carry the checksum, so the same file must always give the same value: the
+     * SHA-256 of the canonical model text (outcome values sorted, defaults filled in, null catch-all
+     * left out). Source: {@code sha256sum} (GNU coreutils 9.1) of the texts below, written by hand.
+     */
+    @Test
+    void checksumIsTheSha256OfTheCanonicalModelText() throws Exception {
+        MonitorConfig config = parse(VALID);
+        // {"outcome":{"field":"/result","positive":["positive"],"negative":["negative"]},"terms":[
+        // {"name":"household_contact","field":"/exposure/household","kind":"binary","level":"yes","reference":"no",
+        // "undeclared":"REJECT"},{"name":"age_years","field":"/age","kind":"numeric","per":10.0},{"name":"age_band",
+        // "field":"/ageBand","kind":"categorical","levels":["0-17","18-39","40-64","65+"],"reference":"18-39",
+        // "undeclared":"REJECT"}]}
+        assertEquals("f63fbf42bf8439e6f23d54e4f5d6360d5163d77a7265808a279577eec505ad3e",
+                config.monitor("north").checksum());
+        // {"outcome":{"field":"/r","positive":["1","positive","true"],"negative":["0","false","negative"]},"terms":[]}
+        assertEquals("96162ce85c51a65197cc7807e746a6e4ab92c0e86430600a14a07acde22f5829",
+                config.monitor("south").checksum());
+    }
+
     @Test
     void yesAndNoStayText() throws Exception {
         MonitorConfig config = parse(VALID.replace("kind: binary, watched: true",
