@@ -82,7 +82,7 @@ class ProgressMeterTest {
         ProgressMeter meter = captured(ProgressMeter.fileBytes("baseline", csv), drawn);
         try (meter) {
             BaselineBuilder.build(definition, new BaselineRequest(csv, null, java.time.Instant.parse("2026-01-05T00:00:00Z"),
-                    java.time.Instant.parse("2026-02-02T00:00:00Z"), dir.resolve("baselines"), null, false), meter);
+                    java.time.Instant.parse("2026-02-02T00:00:00Z"), dir.resolve("baselines"), null, false, false), meter);
         }
         assertEquals(Files.size(csv), meter.total());
         assertEquals(Files.size(csv), meter.current());

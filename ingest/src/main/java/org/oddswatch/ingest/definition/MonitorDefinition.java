@@ -75,9 +75,14 @@ public record MonitorDefinition(String name, String topic, EventSpec event, Spli
         return splitValue == null ? name : name + "/" + splitValue;
     }
 
+    /** True when {@code stream} is this monitor's ({@code name} or {@code name/value}; names hold no '/'). */
+    public boolean owns(String stream) {
+        return stream.equals(name) || stream.startsWith(name + "/");
+    }
+
     /** The monitor among {@code monitors} a stream ({@code name} or {@code name/value}) belongs to. */
     public static MonitorDefinition ofStream(List<MonitorDefinition> monitors, String stream) {
-        return monitors.stream().filter(m -> stream.equals(m.name()) || stream.startsWith(m.name() + "/"))
+        return monitors.stream().filter(m -> m.owns(stream))
                 .findFirst().orElseThrow(() -> new IllegalArgumentException("no monitor for stream " + stream));
     }
 }
