@@ -3,10 +3,7 @@ package org.oddswatch.ingest.decode;
 import com.fasterxml.jackson.core.JsonPointer;
 import com.fasterxml.jackson.databind.JsonNode;
 import java.time.DateTimeException;
-import java.time.OffsetDateTime;
-import java.time.format.DateTimeFormatter;
 import java.util.List;
-import java.util.Locale;
 import org.oddswatch.estimator.terms.CategoricalTerm;
 import org.oddswatch.estimator.terms.CodingOutcome;
 import org.oddswatch.estimator.terms.DesignCoder;
@@ -43,11 +40,8 @@ public final class EventDecoder {
     private final OutcomeSpec outcome;
     /** The split field, or null without a split. */
     private final JsonPointer splitField;
-    private final JsonPointer[] termFields;
-    private final String[] termNames;
-    private final boolean[] numeric;
+    private final List<TermSpec> terms;
     private final int stratumTerm;
-    private final CategoricalTerm stratumCoding;
 
     public EventDecoder(MonitorDefinition monitor) {
         this.coder = monitor.designCoder();
@@ -55,17 +49,8 @@ public final class EventDecoder {
         this.timeField = monitor.event().time();
         this.outcome = monitor.event().outcome();
         this.splitField = monitor.split() == null ? null : monitor.split().field();
-        List<TermSpec> terms = monitor.terms();
-        termFields = new JsonPointer[terms.size()];
-        termNames = new String[terms.size()];
-        numeric = new boolean[terms.size()];
-        for (int t = 0; t < terms.size(); t++) {
-            termFields[t] = terms.get(t).field();
-            termNames[t] = terms.get(t).name();
-            numeric[t] = terms.get(t).term() instanceof NumericTerm;
-        }
-        stratumTerm = monitor.stratumTermIndex();
-        stratumCoding = stratumTerm < 0 ? null : (CategoricalTerm) terms.get(stratumTerm).term();
+        this.terms = List.copyOf(monitor.terms());
+        this.stratumTerm = monitor.stratumTermIndex();
     }
 
     public DesignCoder coder() {
@@ -133,13 +118,13 @@ public final class EventDecoder {
     }
 
     private Decoding decodeTerms(JsonNode tree, String id, long time, boolean positive, String splitValue) {
-        Object[] raw = new Object[termFields.length];
+        Object[] raw = new Object[terms.size()];
         long absentTerms = 0;
-        for (int t = 0; t < termFields.length; t++) {
-            JsonNode value = tree.at(termFields[t]);
+        for (int t = 0; t < raw.length; t++) {
+            JsonNode value = tree.at(terms.get(t).field());
             if (value.isContainerNode()) {
-                return Decoding.rejected(RejectReason.BAD_VALUE, termNames[t] + ": expected a single value at "
-                        + termFields[t] + ", found " + (value.isArray() ? "a list" : "an object"));
+                return Decoding.rejected(RejectReason.BAD_VALUE, terms.get(t).name() + ": expected a single value at "
+                        + terms.get(t).field() + ", found " + (value.isArray() ? "a list" : "an object"));
             }
             raw[t] = plain(value);
             if (raw[t] == null && t < Long.SIZE) {
@@ -163,7 +148,8 @@ public final class EventDecoder {
         }
         String missingDetail = coding.isOk() ? null : notNumeric != null ? notNumeric
                 : coding.term() + ": " + coding.detail();
-        int stratum = stratumCoding == null ? -1 : stratumCoding.levelIndex(raw[stratumTerm]);
+        int stratum = stratumTerm < 0 ? -1
+                : ((CategoricalTerm) terms.get(stratumTerm).term()).levelIndex(raw[stratumTerm]);
         return Decoding.of(new DecodedEvent(id, time, positive, splitValue, coding.isOk() ? row : null, stratum,
                 missingDetail, absentTerms));
     }
@@ -171,8 +157,8 @@ public final class EventDecoder {
     /** The index of the numeric term whose value {@code coding} rejected as not a number, or -1. */
     private int numericTerm(CodingOutcome coding) {
         if (RejectReason.BAD_VALUE.equals(coding.reason())) {
-            for (int t = 0; t < termNames.length; t++) {
-                if (numeric[t] && termNames[t].equals(coding.term())) {
+            for (int t = 0; t < terms.size(); t++) {
+                if (terms.get(t).term() instanceof NumericTerm && terms.get(t).name().equals(coding.term())) {
                     return t;
                 }
             }
@@ -219,8 +205,7 @@ public final class EventDecoder {
             }
         }
         try {
-            return OffsetDateTime.parse(trimmed.toUpperCase(Locale.ROOT), DateTimeFormatter.ISO_OFFSET_DATE_TIME)
-                    .toInstant().toEpochMilli();
+            return Rfc3339.toEpochMillis(trimmed);
         } catch (DateTimeException | ArithmeticException e) {
             throw new IllegalArgumentException("'" + text + "' is not an RFC 3339 time with an offset"
                     + " (for example 2026-02-03T09:30:00Z) or epoch milliseconds");

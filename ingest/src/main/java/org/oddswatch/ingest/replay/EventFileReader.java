@@ -44,14 +44,25 @@ public final class EventFileReader {
             .enable(CsvParser.Feature.WRAP_AS_ARRAY)
             .readerFor(String[].class);
 
-    private EventFileReader() {
+    private final InputStream in;
+    private final byte[] chunk = new byte[1 << 16];
+    private final ByteArrayOutputStream buffer = new ByteArrayOutputStream(256);
+    /** Lines to be read again, in order. */
+    private final Deque<byte[]> again = new ArrayDeque<>();
+    private int position;
+    private int limit;
+    /** The number of the line last read. */
+    private long number;
+
+    private EventFileReader(InputStream in) {
+        this.in = in;
     }
 
     public static void read(Path file, InputFormat format, RecordSink sink) throws IOException {
         try (InputStream in = Files.newInputStream(file)) {
-            LineReader lines = new LineReader(in);
+            EventFileReader lines = new EventFileReader(in);
             if (format == InputFormat.CSV) {
-                readCsv(lines, sink);
+                lines.readCsv(sink);
                 return;
             }
             for (byte[] line; (line = lines.next()) != null; ) {
@@ -62,14 +73,14 @@ public final class EventFileReader {
         }
     }
 
-    private static void readCsv(LineReader lines, RecordSink sink) throws IOException {
+    private void readCsv(RecordSink sink) throws IOException {
         String[] header = null;
-        for (byte[] line; (line = lines.next()) != null; ) {
+        for (byte[] line; (line = next()) != null; ) {
             if (blank(line)) {
                 continue;
             }
-            long first = lines.number;
-            List<byte[]> frame = frame(line, lines);
+            long first = number;
+            List<byte[]> frame = frame(line);
             byte[] bytes = join(frame);
             if (header == null && bytes.length >= 3 && (bytes[0] & 0xFF) == 0xEF && (bytes[1] & 0xFF) == 0xBB
                     && (bytes[2] & 0xFF) == 0xBF) {
@@ -96,20 +107,23 @@ public final class EventFileReader {
             } else if (header == null) {
                 throw new IOException("line " + first + ": the CSV header cannot be read: " + problem);
             } else {
-                lines.pushBack(frame.subList(1, frame.size()));
+                for (int i = frame.size() - 1; i > 0; i--) { // read the lines it took again
+                    again.addFirst(frame.get(i));
+                }
+                number -= frame.size() - 1;
                 sink.unreadable(frame.size() > 1 ? line : bytes, first, RejectReason.MALFORMED_CSV, problem);
             }
         }
     }
 
     /** A row's lines: the first, and while a quote is open the following ones, within the bounds. */
-    private static List<byte[]> frame(byte[] line, LineReader lines) throws IOException {
+    private List<byte[]> frame(byte[] line) throws IOException {
         List<byte[]> frame = new ArrayList<>(List.of(line));
         int quotes = quotes(line);
         int bytes = line.length;
         byte[] more;
         while (quotes % 2 == 1 && frame.size() < MAX_ROW_LINES && bytes <= MAX_ROW_BYTES
-                && (more = lines.next()) != null) {
+                && (more = next()) != null) {
             frame.add(more);
             quotes += quotes(more);
             bytes += more.length + 1;
@@ -177,60 +191,37 @@ public final class EventFileReader {
         return true;
     }
 
-    /** Splits a byte stream into lines; lines can be pushed back to be read again. */
-    private static final class LineReader {
-        private final InputStream in;
-        private final byte[] chunk = new byte[1 << 16];
-        private final ByteArrayOutputStream buffer = new ByteArrayOutputStream(256);
-        private final Deque<byte[]> again = new ArrayDeque<>();
-        private int position;
-        private int limit;
-        /** The number of the line last returned. */
-        long number;
+    /** The next line without its LF and one trailing CR, or null at the end of the file. */
+    private byte[] next() throws IOException {
+        byte[] line = again.isEmpty() ? read() : again.removeFirst();
+        number += line == null ? 0 : 1;
+        return line;
+    }
 
-        LineReader(InputStream in) {
-            this.in = in;
-        }
-
-        void pushBack(List<byte[]> lines) {
-            for (int i = lines.size() - 1; i >= 0; i--) {
-                again.addFirst(lines.get(i));
-            }
-            number -= lines.size();
-        }
-
-        /** The next line without its LF and one trailing CR, or null at the end of the stream. */
-        byte[] next() throws IOException {
-            byte[] line = again.isEmpty() ? read() : again.removeFirst();
-            number += line == null ? 0 : 1;
-            return line;
-        }
-
-        private byte[] read() throws IOException {
-            buffer.reset();
-            while (true) {
-                if (position == limit) {
-                    limit = Math.max(in.read(chunk), 0);
-                    position = 0;
-                    if (limit == 0) {
-                        return buffer.size() == 0 ? null : line();
-                    }
-                }
-                int start = position;
-                while (position < limit && chunk[position] != '\n') {
-                    position++;
-                }
-                buffer.write(chunk, start, position - start);
-                if (position < limit) {
-                    position++;
-                    return line();
+    private byte[] read() throws IOException {
+        buffer.reset();
+        while (true) {
+            if (position == limit) {
+                limit = Math.max(in.read(chunk), 0);
+                position = 0;
+                if (limit == 0) {
+                    return buffer.size() == 0 ? null : line();
                 }
             }
+            int start = position;
+            while (position < limit && chunk[position] != '\n') {
+                position++;
+            }
+            buffer.write(chunk, start, position - start);
+            if (position < limit) {
+                position++;
+                return line();
+            }
         }
+    }
 
-        private byte[] line() {
-            byte[] line = buffer.toByteArray();
-            return line.length > 0 && line[line.length - 1] == '\r' ? Arrays.copyOf(line, line.length - 1) : line;
-        }
+    private byte[] line() {
+        byte[] line = buffer.toByteArray();
+        return line.length > 0 && line[line.length - 1] == '\r' ? Arrays.copyOf(line, line.length - 1) : line;
     }
 }

@@ -223,34 +223,30 @@ public final class ReplayRunner {
         }
 
         /**
-         * A reject as the HTML report counts it: its stream (a record rejected while decoded has none;
-         * it counts on the stream its split value names), its reason (or outcome), and the event time
-         * when the record is JSON and its monitor's time field reads as a time; null where unreadable.
+         * A reject as the HTML report counts it: its stream (for a record rejected while decoded, the
+         * stream its split value names), reason (else outcome), and event time read by its monitor;
+         * null where unreadable.
          */
         private RejectMark mark(JsonNode reject) {
             String reason = reject.hasNonNull("reason") ? reject.get("reason").asText()
                     : reject.path("outcome").asText("unknown");
+            String stream = reject.hasNonNull("stream") ? reject.get("stream").asText() : null;
             MonitorDefinition monitor = monitors.get(reject.path("monitor").asText(""));
             JsonNode record = monitor == null || !reject.hasNonNull("value") ? null : tree(reject.get("value").asText());
             if (record == null || !record.isObject()) {
-                return new RejectMark(reject.hasNonNull("stream") ? reject.get("stream").asText() : null, reason, null);
+                return new RejectMark(stream, reason, null);
             }
-            String stream = reject.hasNonNull("stream") ? reject.get("stream").asText() : splitStream(monitor, record);
-            JsonNode time = record.at(monitor.event().time());
+            if (stream == null) {
+                JsonNode split = monitor.split() == null ? null : record.at(monitor.split().field());
+                stream = split == null ? monitor.streamName(null)
+                        : split.isValueNode() && !split.isNull() ? monitor.streamName(split.asText()) : null;
+            }
             try {
-                return new RejectMark(stream, reason, time.isMissingNode() ? null
-                        : Instant.ofEpochMilli(EventDecoder.parseTime(time)));
+                return new RejectMark(stream, reason, Instant.ofEpochMilli(EventDecoder.parseTime(
+                        record.at(monitor.event().time()))));
             } catch (RuntimeException e) {
                 return new RejectMark(stream, reason, null);
             }
-        }
-
-        private static String splitStream(MonitorDefinition monitor, JsonNode record) {
-            if (monitor.split() == null) {
-                return monitor.streamName(null);
-            }
-            JsonNode value = record.at(monitor.split().field());
-            return value.isValueNode() && !value.isNull() ? monitor.streamName(value.asText()) : null;
         }
 
         private static JsonNode tree(String text) {
