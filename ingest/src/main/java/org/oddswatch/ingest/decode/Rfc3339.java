@@ -28,8 +28,8 @@ final class Rfc3339 {
     /** The epoch milliseconds of text of the common shape, or {@link Long#MIN_VALUE} for other text. */
     static long readCommonShape(String text) {
         int n = text.length();
-        if (n < 20 || text.charAt(4) != '-' || text.charAt(7) != '-' || (text.charAt(10) != 'T' && text.charAt(10) != 't')
-                || text.charAt(13) != ':' || text.charAt(16) != ':') {
+        if (n < 20 || text.charAt(4) != '-' || text.charAt(7) != '-' || text.charAt(13) != ':'
+                || text.charAt(16) != ':' || (text.charAt(10) != 'T' && text.charAt(10) != 't')) {
             return Long.MIN_VALUE;
         }
         int year = digits(text, 0, 4);

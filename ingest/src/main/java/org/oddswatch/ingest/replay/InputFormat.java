@@ -17,7 +17,8 @@ public enum InputFormat {
         return switch (text.toLowerCase(Locale.ROOT)) {
             case "jsonl", "json", "ndjson" -> JSONL;
             case "csv" -> CSV;
-            default -> throw new IllegalArgumentException("unknown input format '" + text + "' (expected jsonl or csv)");
+            default -> throw new IllegalArgumentException(
+                    "unknown input format '" + text + "' (expected jsonl or csv)");
         };
     }
 }

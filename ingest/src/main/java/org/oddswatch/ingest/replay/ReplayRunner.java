@@ -39,7 +39,6 @@ import org.oddswatch.ingest.pipeline.MonitorPipeline;
 import org.oddswatch.ingest.pipeline.PipelineSettings;
 import org.oddswatch.ingest.pipeline.PipelineSnapshot;
 import org.oddswatch.ingest.pipeline.RecordOrigin;
-import org.oddswatch.ingest.pipeline.StreamStatus;
 
 /**
  * Replays an event file through the same {@link MonitorPipeline} as the live service, time driven by
@@ -128,17 +127,14 @@ public final class ReplayRunner {
 
     private static ReplaySummary summary(ReplayRequest request, InputFormat format, PipelineSnapshot snapshot,
                                          ReportOutputs outputs) {
-        List<ReplaySummary.Monitor> monitors = new ArrayList<>();
-        for (PipelineSnapshot.MonitorStatus monitor : snapshot.monitors()) {
-            monitors.add(new ReplaySummary.Monitor(monitor.monitor(), monitor.streams(), monitor.unrouted()));
-        }
-        List<ReplaySummary.Stream> streams = new ArrayList<>();
-        for (StreamStatus stream : snapshot.streams()) {
+        List<ReplaySummary.Monitor> monitors = snapshot.monitors().stream()
+                .map(m -> new ReplaySummary.Monitor(m.monitor(), m.streams(), m.unrouted())).toList();
+        List<ReplaySummary.Stream> streams = snapshot.streams().stream().map(stream -> {
             WindowEstimate[] span = outputs.windowSpan.get(stream.stream());
-            streams.add(new ReplaySummary.Stream(stream.stream(), stream.finalWindows(),
+            return new ReplaySummary.Stream(stream.stream(), stream.finalWindows(),
                     span == null ? null : span[0].windowEnd(), span == null ? null : span[1].windowEnd(),
-                    stream.baseline(), stream.baselineNote(), stream.counts(), stream.gaps()));
-        }
+                    stream.baseline(), stream.baselineNote(), stream.counts(), stream.gaps());
+        }).toList();
         return new ReplaySummary(request.input().toString(), format.name().toLowerCase(Locale.ROOT),
                 request.from(), request.to(), snapshot.totals(), outputs.estimates.size(), outputs.rejects,
                 outputs.alerts.size(), monitors, streams);
@@ -232,7 +228,8 @@ public final class ReplayRunner {
                     : reject.path("outcome").asText("unknown");
             String stream = reject.hasNonNull("stream") ? reject.get("stream").asText() : null;
             MonitorDefinition monitor = monitors.get(reject.path("monitor").asText(""));
-            JsonNode record = monitor == null || !reject.hasNonNull("value") ? null : tree(reject.get("value").asText());
+            JsonNode record = monitor == null || !reject.hasNonNull("value") ? null
+                    : tree(reject.get("value").asText());
             if (record == null || !record.isObject()) {
                 return new RejectMark(stream, reason, null);
             }
