@@ -15,22 +15,11 @@ import org.oddswatch.ingest.definition.TermSpec;
 /**
  * One monitor's view of a record tree ({@link RecordParser}, or a CSV row): id, time, outcome and
  * split value by JSON Pointer, then the term values coded by the monitor's {@link DesignCoder}. The
- * first failing check, in that order, decides the reason.
- *
- * <p>Special cases:
- * <ul>
- *   <li>absent means a missing member, {@code null} or empty text;</li>
- *   <li>an absent term value, an undeclared level under {@code undeclared: missing}, or a value of a
- *       numeric term that is not a finite number is no rejection: the event is accepted with a null
- *       row and the reason in its missing detail;</li>
- *   <li>a numeric id keeps its digits as parsed ({@code 1.50} is not {@code 1.5}; whole numbers
- *       compare by value, so {@code -0} is {@code 0});</li>
- *   <li>an id or split value that is an object or array, a number beyond the range of a double
- *       ({@code 1e400}), or text with an unpaired surrogate is {@code bad-id};</li>
- *   <li>outcomes and split values compare in text form: a whole number below 10<sup>15</sup> as its
- *       digits ({@code 1.0} is {@code "1"}), {@code true}/{@code false} for booleans.</li>
- * </ul>
- * Thread-safe.
+ * first failing check, in that order, decides the reason (ingest/README.md, "Reason codes"). Absent
+ * means a missing member, {@code null} or empty text. An absent or unusable term value leaves the
+ * event accepted without a design row, the reason in its missing detail. Outcomes and split values
+ * compare in text form: a whole number below 10<sup>15</sup> as its digits ({@code 1.0} is
+ * {@code "1"}); an id keeps its digits as parsed ({@code 1.50} is not {@code 1.5}). Thread-safe.
  */
 public final class EventDecoder {
 
@@ -197,7 +186,11 @@ public final class EventDecoder {
         String text = node.textValue();
         String trimmed = text.trim();
         int sign = trimmed.startsWith("-") ? 1 : 0;
-        if (trimmed.length() > sign && trimmed.chars().skip(sign).allMatch(Character::isDigit)) {
+        int end = sign;
+        while (end < trimmed.length() && Character.isDigit(trimmed.charAt(end))) {
+            end++;
+        }
+        if (end > sign && end == trimmed.length()) {
             try {
                 return Long.parseLong(trimmed);
             } catch (NumberFormatException e) {

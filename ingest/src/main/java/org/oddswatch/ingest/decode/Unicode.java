@@ -17,9 +17,16 @@ public final class Unicode {
 
     /** The offset of the first byte of {@code bytes[from, to)} that is not well-formed UTF-8, or -1. */
     public static int firstInvalidUtf8(byte[] bytes, int from, int to) {
-        ByteBuffer in = ByteBuffer.wrap(bytes, from, to - from);
+        int ascii = from;
+        while (ascii < to && bytes[ascii] >= 0) {
+            ascii++;
+        }
+        if (ascii == to) {
+            return -1;
+        }
+        ByteBuffer in = ByteBuffer.wrap(bytes, ascii, to - ascii);
         boolean bad = StandardCharsets.UTF_8.newDecoder() // reports malformed input
-                .decode(in, CharBuffer.allocate(to - from), true).isError();
+                .decode(in, CharBuffer.allocate(to - ascii), true).isError();
         return bad ? in.position() : -1;
     }
 

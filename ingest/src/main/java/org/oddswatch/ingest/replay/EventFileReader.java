@@ -21,19 +21,13 @@ import org.oddswatch.ingest.decode.RejectReason;
 import org.oddswatch.ingest.decode.Unicode;
 
 /**
- * Reads an event file record by record, never stopping at a bad record. Lines end at LF (one
- * trailing CR dropped) and are numbered from 1; blank lines are skipped.
- *
- * <p>JSON Lines: every line is one record, passed on as its bytes. CSV (jackson-dataformat-csv): the
- * first row is the header, and each later row becomes a JSON object of text values; a header name
- * with {@code /} makes nested objects ({@code exposure/household} is read by
- * {@code /exposure/household}), so one definition serves both formats. Empty cells are absent. A
- * UTF-8 byte order mark before the header is ignored.
- *
- * <p>A quoted CSV value may span up to {@link #MAX_ROW_LINES} lines and {@link #MAX_ROW_BYTES} bytes.
- * A row with another number of cells than the header, broken quoting or invalid UTF-8 is
- * {@code malformed-csv} under its first line's number; if it took further lines (an unclosed quote),
- * only its first line is rejected and those lines are read again as rows of their own.
+ * Reads an event file record by record, never stopping at a bad record (ingest/README.md, "Replay").
+ * Lines end at LF (one trailing CR dropped), numbered from 1; blank lines are skipped. JSON Lines:
+ * each line is one record. CSV: the first row is the header; each later row becomes a JSON object of
+ * its non-empty cells as text, a header {@code a/b} nesting {@code b} in {@code a}. A quoted value may
+ * span {@link #MAX_ROW_LINES} lines and {@link #MAX_ROW_BYTES} bytes; a row that does not fit the
+ * header, has broken quoting or invalid UTF-8 is {@code malformed-csv} under its first line's number,
+ * and the further lines it took are read again as rows of their own.
  */
 public final class EventFileReader {
 
