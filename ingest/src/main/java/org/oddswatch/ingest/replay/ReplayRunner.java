@@ -41,19 +41,14 @@ import org.oddswatch.ingest.pipeline.PipelineSnapshot;
 import org.oddswatch.ingest.pipeline.RecordOrigin;
 
 /**
- * Replays an event file through the same {@link MonitorPipeline} as the live service, time driven by
- * the events, and writes into the output folder {@code estimates.jsonl} (final window estimates,
- * small cells withheld as on the estimates topic), {@code rejects.jsonl} (rejected and late records
- * with line number, reason and bytes), {@code alerts.jsonl}, {@code summary.json} (counts by outcome
- * and reason, windows per stream), {@code report.md} and {@code report.html}. At the end of the file
- * every window that has received events is closed. The same definition and file give byte-identical
- * output.
- *
- * <p>A range ({@code --from/--to}) reports only the estimates and alerts of windows with
- * {@code windowStart >= from} and {@code windowEnd <= to}, byte for byte as the full replay writes
- * them: the whole file is still fed, because a window's results depend on events outside it (the
- * baseline, the warm start, CUSUM history, open alert episodes, what makes a window final or an
- * event late). Rejects and counts cover the whole file.
+ * Replays an event file through the same {@link MonitorPipeline} and output stage as the live
+ * service, time driven by the events, into {@code estimates.jsonl}, {@code rejects.jsonl},
+ * {@code alerts.jsonl}, {@code summary.json}, {@code report.md} and {@code report.html}; at the end of
+ * the file every window that has received events is closed. The same definition and file give
+ * byte-identical output. A range ({@code --from/--to}) reports only windows with
+ * {@code windowStart >= from} and {@code windowEnd <= to}, exactly as the full replay writes them:
+ * the whole file is still fed, because a window's results depend on events outside it
+ * (ingest/README.md, "Range"). Rejects and counts cover the whole file.
  */
 public final class ReplayRunner {
 
