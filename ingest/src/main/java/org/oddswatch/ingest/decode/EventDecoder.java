@@ -2,7 +2,7 @@ package org.oddswatch.ingest.decode;
 
 import com.fasterxml.jackson.core.JsonPointer;
 import com.fasterxml.jackson.databind.JsonNode;
-import java.time.format.DateTimeParseException;
+import java.time.DateTimeException;
 import java.util.List;
 import org.oddswatch.estimator.terms.CategoricalTerm;
 import org.oddswatch.estimator.terms.CodingOutcome;
@@ -13,26 +13,13 @@ import org.oddswatch.ingest.definition.OutcomeSpec;
 import org.oddswatch.ingest.definition.TermSpec;
 
 /**
- * Reads one monitor's view of a record parsed into a tree ({@link RecordParser}, or a CSV row): id,
- * time, outcome and split value by JSON Pointer ({@link JsonNode#at}), then the term values, coded by
- * the monitor's {@link DesignCoder}. Checks run in this order and the first failure decides the
- * reason: id, time, outcome (missing-field, bad-id, bad-time, bad-outcome), split value, then terms
- * (unknown-level, bad-value).
- *
- * <p>Special cases:
- * <ul>
- *   <li>absent means a missing member, {@code null} or empty text;</li>
- *   <li>a term value that is absent (or an undeclared level under {@code undeclared: missing}, or a
- *       value of a numeric term that is not a finite number) is not a rejection: the event is
- *       accepted with a null row and the reason in its missing detail;</li>
- *   <li>a numeric id keeps its digits as the parser read them ({@code 1.50} is not {@code 1.5};
- *       whole numbers are compared by value, so {@code -0} is {@code 0});</li>
- *   <li>an id or split value that is an object or array, a number beyond the range of a double
- *       ({@code 1e400}), or text holding an unpaired surrogate is {@code bad-id};</li>
- *   <li>outcomes and split values are compared in text form: a whole number below 10<sup>15</sup>
- *       as its digits ({@code 1.0} is {@code "1"}), {@code true}/{@code false} for booleans.</li>
- * </ul>
- * Thread-safe after construction.
+ * One monitor's view of a record tree ({@link RecordParser}, or a CSV row): id, time, outcome and
+ * split value by JSON Pointer, then the term values coded by the monitor's {@link DesignCoder}. The
+ * first failing check, in that order, decides the reason (ingest/README.md, "Reason codes"). Absent
+ * means a missing member, {@code null} or empty text. An absent or unusable term value leaves the
+ * event accepted without a design row, the reason in its missing detail. Outcomes and split values
+ * compare in text form: a whole number below 10<sup>15</sup> as its digits ({@code 1.0} is
+ * {@code "1"}); an id keeps its digits as parsed ({@code 1.50} is not {@code 1.5}). Thread-safe.
  */
 public final class EventDecoder {
 
@@ -42,12 +29,8 @@ public final class EventDecoder {
     private final OutcomeSpec outcome;
     /** The split field, or null without a split. */
     private final JsonPointer splitField;
-    private final JsonPointer[] termFields;
-    private final String[] termNames;
-    /** Per term: true for a numeric term (a value that is not a number is taken as missing). */
-    private final boolean[] numeric;
+    private final List<TermSpec> terms;
     private final int stratumTerm;
-    private final CategoricalTerm stratumCoding;
 
     public EventDecoder(MonitorDefinition monitor) {
         this.coder = monitor.designCoder();
@@ -55,17 +38,8 @@ public final class EventDecoder {
         this.timeField = monitor.event().time();
         this.outcome = monitor.event().outcome();
         this.splitField = monitor.split() == null ? null : monitor.split().field();
-        List<TermSpec> terms = monitor.terms();
-        termFields = new JsonPointer[terms.size()];
-        termNames = new String[terms.size()];
-        numeric = new boolean[terms.size()];
-        for (int t = 0; t < terms.size(); t++) {
-            termFields[t] = terms.get(t).field();
-            termNames[t] = terms.get(t).name();
-            numeric[t] = terms.get(t).term() instanceof NumericTerm;
-        }
-        stratumTerm = monitor.stratumTermIndex();
-        stratumCoding = stratumTerm < 0 ? null : (CategoricalTerm) terms.get(stratumTerm).term();
+        this.terms = List.copyOf(monitor.terms());
+        this.stratumTerm = monitor.stratumTermIndex();
     }
 
     public DesignCoder coder() {
@@ -74,73 +48,72 @@ public final class EventDecoder {
 
     /** Decodes one record (a JSON object). */
     public Decoding decode(JsonNode tree) {
-        JsonNode idNode = tree.at(idField);
-        if (absent(idNode)) {
-            return Decoding.rejected(RejectReason.MISSING_FIELD, "no event id at " + idField);
-        }
-        if (!idNode.isValueNode()) {
-            return Decoding.rejected(RejectReason.BAD_ID, "the event id at " + idField + " must be text or a number");
-        }
-        String id = idNode.asText();
-        String badId = notAnIdentifier(idNode, id);
-        if (badId != null) {
-            return Decoding.rejected(RejectReason.BAD_ID, "the event id at " + idField + " " + badId);
-        }
-
-        JsonNode timeNode = tree.at(timeField);
-        if (absent(timeNode)) {
-            return Decoding.rejected(RejectReason.MISSING_FIELD, "no event time at " + timeField);
-        }
-        long time;
         try {
-            time = parseTime(timeNode);
-        } catch (IllegalArgumentException e) {
-            return Decoding.rejected(RejectReason.BAD_TIME, e.getMessage());
+            String id = identifier(tree, idField, "event id", false);
+            JsonNode timeNode = tree.at(timeField);
+            if (absent(timeNode)) {
+                throw new UnreadableRecordException(RejectReason.MISSING_FIELD, "no event time at " + timeField);
+            }
+            long time;
+            try {
+                time = parseTime(timeNode);
+            } catch (IllegalArgumentException e) {
+                throw new UnreadableRecordException(RejectReason.BAD_TIME, e.getMessage());
+            }
+            boolean positive = positive(tree.at(outcome.field()));
+            String splitValue = splitField == null ? null : identifier(tree, splitField, "split value", true);
+            return decodeTerms(tree, id, time, positive, splitValue);
+        } catch (UnreadableRecordException e) {
+            return new Decoding(null, e.rejection());
         }
+    }
 
-        JsonNode outcomeNode = tree.at(outcome.field());
-        if (absent(outcomeNode)) {
-            return Decoding.rejected(RejectReason.MISSING_FIELD, "no outcome at " + outcome.field());
+    /** The event id or split value at {@code field}, as text ({@code compared}: in compared form). */
+    private static String identifier(JsonNode tree, JsonPointer field, String what, boolean compared)
+            throws UnreadableRecordException {
+        JsonNode node = tree.at(field);
+        if (absent(node)) {
+            throw new UnreadableRecordException(RejectReason.MISSING_FIELD, "no " + what + " at " + field);
         }
-        String outcomeText = outcomeNode.isValueNode() ? scalarText(outcomeNode) : null;
-        boolean positive;
-        if (outcomeText != null && outcome.positive().contains(outcomeText)) {
-            positive = true;
-        } else if (outcomeText != null && outcome.negative().contains(outcomeText)) {
-            positive = false;
-        } else {
-            return Decoding.rejected(RejectReason.BAD_OUTCOME, "outcome "
-                    + (outcomeText == null ? "value" : "'" + outcomeText + "'") + " at " + outcome.field()
-                    + " is neither positive " + outcome.positive() + " nor negative " + outcome.negative());
+        String problem = null;
+        String text = node.isValueNode() ? compared ? scalarText(node) : node.asText() : null;
+        if (text == null) {
+            problem = "must be text or a number";
+        } else if (node.isNumber() && !Double.isFinite(node.doubleValue())) {
+            problem = "is a number beyond the range of a double (" + text + ")";
+        } else if (node.isTextual() && Unicode.hasUnpairedSurrogate(text)) {
+            problem = "holds an unpaired UTF-16 surrogate"; // no UTF-8 form: no output could show it
         }
+        if (problem != null) {
+            throw new UnreadableRecordException(RejectReason.BAD_ID, "the " + what + " at " + field + " " + problem);
+        }
+        return text;
+    }
 
-        String splitValue = null;
-        if (splitField != null) {
-            JsonNode splitNode = tree.at(splitField);
-            if (absent(splitNode)) {
-                return Decoding.rejected(RejectReason.MISSING_FIELD, "no split value at " + splitField);
-            }
-            if (!splitNode.isValueNode()) {
-                return Decoding.rejected(RejectReason.BAD_ID, "the split value at " + splitField
-                        + " must be text or a number");
-            }
-            splitValue = scalarText(splitNode);
-            String badSplit = notAnIdentifier(splitNode, splitValue);
-            if (badSplit != null) {
-                return Decoding.rejected(RejectReason.BAD_ID, "the split value at " + splitField + " " + badSplit);
-            }
+    private boolean positive(JsonNode node) throws UnreadableRecordException {
+        if (absent(node)) {
+            throw new UnreadableRecordException(RejectReason.MISSING_FIELD, "no outcome at " + outcome.field());
         }
-        return decodeTerms(tree, id, time, positive, splitValue);
+        String text = node.isValueNode() ? scalarText(node) : null;
+        if (text != null && outcome.positive().contains(text)) {
+            return true;
+        }
+        if (text != null && outcome.negative().contains(text)) {
+            return false;
+        }
+        throw new UnreadableRecordException(RejectReason.BAD_OUTCOME, "outcome "
+                + (text == null ? "value" : "'" + text + "'") + " at " + outcome.field()
+                + " is neither positive " + outcome.positive() + " nor negative " + outcome.negative());
     }
 
     private Decoding decodeTerms(JsonNode tree, String id, long time, boolean positive, String splitValue) {
-        Object[] raw = new Object[termFields.length];
+        Object[] raw = new Object[terms.size()];
         long absentTerms = 0;
-        for (int t = 0; t < termFields.length; t++) {
-            JsonNode value = tree.at(termFields[t]);
+        for (int t = 0; t < raw.length; t++) {
+            JsonNode value = tree.at(terms.get(t).field());
             if (value.isContainerNode()) {
-                return Decoding.rejected(RejectReason.BAD_VALUE, termNames[t] + ": expected a single value at "
-                        + termFields[t] + ", found " + (value.isArray() ? "a list" : "an object"));
+                return Decoding.rejected(RejectReason.BAD_VALUE, terms.get(t).name() + ": expected a single value at "
+                        + terms.get(t).field() + ", found " + (value.isArray() ? "a list" : "an object"));
             }
             raw[t] = plain(value);
             if (raw[t] == null && t < Long.SIZE) {
@@ -152,8 +125,7 @@ public final class EventDecoder {
         String notNumeric = null;
         int term;
         while (coding.isRejected() && (term = numericTerm(coding)) >= 0) {
-            // A value of a numeric term that is not a finite number is treated as missing: the
-            // event counts for prevalence and is left out of the fit, like an absent value.
+            // not a finite number: missing, like an absent value
             if (notNumeric == null) {
                 notNumeric = coding.term() + ": " + coding.detail() + " (taken as missing)";
             }
@@ -165,37 +137,22 @@ public final class EventDecoder {
         }
         String missingDetail = coding.isOk() ? null : notNumeric != null ? notNumeric
                 : coding.term() + ": " + coding.detail();
-        int stratum = stratumCoding == null ? -1 : stratumCoding.levelIndex(raw[stratumTerm]);
+        int stratum = stratumTerm < 0 ? -1
+                : ((CategoricalTerm) terms.get(stratumTerm).term()).levelIndex(raw[stratumTerm]);
         return Decoding.of(new DecodedEvent(id, time, positive, splitValue, coding.isOk() ? row : null, stratum,
                 missingDetail, absentTerms));
     }
 
     /** The index of the numeric term whose value {@code coding} rejected as not a number, or -1. */
     private int numericTerm(CodingOutcome coding) {
-        if (!RejectReason.BAD_VALUE.equals(coding.reason())) {
-            return -1;
-        }
-        for (int t = 0; t < termNames.length; t++) {
-            if (numeric[t] && termNames[t].equals(coding.term())) {
-                return t;
+        if (RejectReason.BAD_VALUE.equals(coding.reason())) {
+            for (int t = 0; t < terms.size(); t++) {
+                if (terms.get(t).term() instanceof NumericTerm && terms.get(t).name().equals(coding.term())) {
+                    return t;
+                }
             }
         }
         return -1;
-    }
-
-    /**
-     * Why a scalar cannot identify an event or a stream, or null when it can: a number beyond the
-     * range of a double, or text holding an unpaired surrogate (such as U+D800 escaped alone in
-     * JSON: it has no UTF-8 form, so it could not be written to any output).
-     */
-    private static String notAnIdentifier(JsonNode node, String text) {
-        if (node.isNumber() && !Double.isFinite(node.doubleValue())) {
-            return "is a number beyond the range of a double (" + text + ")";
-        }
-        if (node.isTextual() && Unicode.hasUnpairedSurrogate(text)) {
-            return "holds an unpaired UTF-16 surrogate";
-        }
-        return null;
     }
 
     private static boolean absent(JsonNode node) {
@@ -203,8 +160,9 @@ public final class EventDecoder {
     }
 
     /**
-     * Event time in epoch milliseconds: RFC 3339 text with an offset, or whole epoch milliseconds as a
-     * number or a string of digits (space around the text is ignored).
+     * Event time in epoch milliseconds: RFC 3339 text with an offset ({@code t} and {@code z} in
+     * either case, fractions below a millisecond dropped), or whole epoch milliseconds as a number or
+     * a string of digits. Space around text is ignored.
      *
      * @throws IllegalArgumentException with a readable message otherwise
      */
@@ -227,7 +185,12 @@ public final class EventDecoder {
         }
         String text = node.textValue();
         String trimmed = text.trim();
-        if (isDigits(trimmed)) {
+        int sign = trimmed.startsWith("-") ? 1 : 0;
+        int end = sign;
+        while (end < trimmed.length() && Character.isDigit(trimmed.charAt(end))) {
+            end++;
+        }
+        if (end > sign && end == trimmed.length()) {
             try {
                 return Long.parseLong(trimmed);
             } catch (NumberFormatException e) {
@@ -236,23 +199,10 @@ public final class EventDecoder {
         }
         try {
             return Rfc3339.toEpochMillis(trimmed);
-        } catch (DateTimeParseException | ArithmeticException e) {
+        } catch (DateTimeException | ArithmeticException e) {
             throw new IllegalArgumentException("'" + text + "' is not an RFC 3339 time with an offset"
                     + " (for example 2026-02-03T09:30:00Z) or epoch milliseconds");
         }
-    }
-
-    private static boolean isDigits(String text) {
-        int start = text.startsWith("-") ? 1 : 0;
-        if (text.length() == start) {
-            return false;
-        }
-        for (int i = start; i < text.length(); i++) {
-            if (!Character.isDigit(text.charAt(i))) {
-                return false;
-            }
-        }
-        return true;
     }
 
     /** The text form outcomes and split values are compared in. */

@@ -14,18 +14,13 @@ import java.util.Locale;
 import org.oddswatch.ingest.definition.RecordLimits;
 
 /**
- * Parses one record value into a JSON tree under the configured caps, in this order: values longer
- * than {@code maxRecordBytes} are refused before parsing ({@code oversized}); bytes that are not
- * well-formed UTF-8 ({@link Unicode#firstInvalidUtf8}: overlong forms, encoded surrogates and code
- * points above U+10FFFF included, which Jackson's own decoding lets through) are
- * {@code malformed-json}; nesting beyond {@code maxDepth} stops the parser ({@code too-deep}, via
- * {@link StreamReadConstraints}); anything but exactly one JSON value is {@code malformed-json}, and
- * a value that is not an object {@code not-an-object}. A member name given twice keeps its last
- * value.
- *
- * <p>Numbers with a fraction or an exponent are kept as exact decimals, trailing zeros included
- * ({@code 1.50} stays {@code 1.50}, {@code 1e3} reads as {@code 1E+3}), so that a numeric event id
- * keeps its digits; see {@link EventDecoder}. Thread-safe.
+ * Parses one record value into a JSON tree under the record limits, checked in this order: more
+ * than {@code maxRecordBytes} is {@code oversized} (not parsed); bytes that are not well-formed UTF-8
+ * ({@link Unicode#firstInvalidUtf8}) are {@code malformed-json}; nesting beyond {@code maxDepth} is
+ * {@code too-deep}; anything but exactly one JSON value is {@code malformed-json}; a value that is
+ * not an object is {@code not-an-object}. A member name given twice keeps its last value. Numbers
+ * with a fraction or exponent stay exact decimals, trailing zeros included ({@code 1.50}), so a
+ * numeric event id keeps its digits. Thread-safe.
  */
 public final class RecordParser {
 
@@ -47,11 +42,7 @@ public final class RecordParser {
                 .reader();
     }
 
-    /**
-     * The record's JSON object.
-     *
-     * @throws UnreadableRecordException with the reason ({@link RejectReason}) and a readable detail
-     */
+    /** The record's JSON object; otherwise throws with the reason and a readable detail. */
     public JsonNode parse(byte[] value) throws UnreadableRecordException {
         if (value == null) {
             throw new UnreadableRecordException(RejectReason.MALFORMED_JSON, "the record has no value (tombstone)");

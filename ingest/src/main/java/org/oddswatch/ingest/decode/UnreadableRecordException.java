@@ -1,8 +1,8 @@
 package org.oddswatch.ingest.decode;
 
 /**
- * A record value that is not one JSON object within the record limits ({@link RecordParser}); no
- * monitor can read it. Bad input, not a defect: it carries no stack trace.
+ * A record that cannot be read: by no monitor ({@link RecordParser}: not one JSON object within the
+ * record limits) or by one ({@link EventDecoder}). Bad input, not a defect: it carries no stack trace.
  */
 public final class UnreadableRecordException extends Exception {
 

@@ -1,6 +1,6 @@
 package org.oddswatch.ingest.replay;
 
-import com.fasterxml.jackson.databind.MappingIterator;
+import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectReader;
 import com.fasterxml.jackson.databind.node.JsonNodeFactory;
 import com.fasterxml.jackson.databind.node.ObjectNode;
@@ -10,46 +10,48 @@ import java.io.ByteArrayOutputStream;
 import java.io.FilterInputStream;
 import java.io.IOException;
 import java.io.InputStream;
-import java.nio.ByteBuffer;
-import java.nio.charset.CharacterCodingException;
-import java.nio.charset.CodingErrorAction;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.util.ArrayDeque;
 import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.Deque;
 import java.util.List;
 import java.util.function.LongConsumer;
 import org.oddswatch.ingest.decode.RejectReason;
+import org.oddswatch.ingest.decode.Unicode;
 
 /**
- * Reads an event file record by record, never stopping at a bad record.
- *
- * <p>JSON Lines: every non-blank line is one record, passed on as its raw bytes (a trailing CR is
- * dropped). CSV (jackson-dataformat-csv): the first non-blank row is the header; each later row
- * becomes a JSON object of text values, so fields are read with JSON Pointers such as
- * {@code /result}. A header name containing {@code /} makes nested objects ({@code exposure/household}
- * is read by {@code /exposure/household}), so one definition can serve both formats. Empty cells are
- * left out (absent). A UTF-8 byte order mark before the header is ignored.
- *
- * <p>A quoted value may span lines, at most {@link #MAX_ROW_LINES} lines and {@link #MAX_ROW_BYTES}
- * bytes. A broken row costs only itself: a row with a different number of cells than the header,
- * broken quoting or invalid UTF-8 is reported as {@code malformed-csv} with its own line number in
- * the file; when it had gathered further lines (an unclosed quote), only its first line is rejected
- * and reading resumes at the line after it, so the lines it took are read again as rows of their
- * own.
+ * Reads an event file record by record, never stopping at a bad record (ingest/README.md, "Replay").
+ * Lines end at LF (one trailing CR dropped), numbered from 1; blank lines are skipped. JSON Lines:
+ * each line is one record. CSV: the first row is the header; each later row becomes a JSON object of
+ * its non-empty cells as text, a header {@code a/b} nesting {@code b} in {@code a}. A quoted value may
+ * span {@link #MAX_ROW_LINES} lines and {@link #MAX_ROW_BYTES} bytes; a row that does not fit the
+ * header, has broken quoting or invalid UTF-8 is {@code malformed-csv} under its first line's number,
+ * and the further lines it took are read again as rows of their own.
  */
 public final class EventFileReader {
 
-    /** Most lines one CSV row (a quoted value with line breaks) may span. */
     static final int MAX_ROW_LINES = 32;
-    /** Most bytes one CSV row may gather before its open quote counts as broken. */
     static final int MAX_ROW_BYTES = 1 << 20;
 
     private static final ObjectReader CSV_ROW = new CsvMapper()
             .enable(CsvParser.Feature.WRAP_AS_ARRAY)
             .readerFor(String[].class);
 
-    private EventFileReader() {
+    private final InputStream in;
+    private final byte[] chunk = new byte[1 << 16];
+    private final ByteArrayOutputStream buffer = new ByteArrayOutputStream(256);
+    /** Lines to be read again, in order. */
+    private final Deque<byte[]> again = new ArrayDeque<>();
+    private int position;
+    private int limit;
+    /** The number of the line last read. */
+    private long number;
+
+    private EventFileReader(InputStream in) {
+        this.in = in;
     }
 
     public static void read(Path file, InputFormat format, RecordSink sink) throws IOException {
@@ -59,10 +61,15 @@ public final class EventFileReader {
     /** As {@link #read(Path, InputFormat, RecordSink)}, telling {@code bytesRead} each chunk read (progress). */
     public static void read(Path file, InputFormat format, RecordSink sink, LongConsumer bytesRead) throws IOException {
         try (InputStream in = counting(Files.newInputStream(file), bytesRead)) {
+            EventFileReader lines = new EventFileReader(in);
             if (format == InputFormat.CSV) {
-                readCsv(in, sink);
-            } else {
-                readJsonLines(in, sink);
+                lines.readCsv(sink);
+                return;
+            }
+            for (byte[] line; (line = lines.next()) != null; ) {
+                if (!blank(line)) {
+                    sink.json(line, lines.number);
+                }
             }
         }
     }
@@ -80,121 +87,88 @@ public final class EventFileReader {
         };
     }
 
-    private static void readJsonLines(InputStream in, RecordSink sink) throws IOException {
-        LineReader lines = new LineReader(in, false);
-        byte[] line;
-        while ((line = lines.next()) != null) {
-            if (!blank(line)) {
-                sink.json(line, lines.number());
-            }
-        }
-    }
-
-    private static void readCsv(InputStream in, RecordSink sink) throws IOException {
-        LineReader lines = new LineReader(in, true);
+    private void readCsv(RecordSink sink) throws IOException {
         String[] header = null;
-        byte[] line;
-        while ((line = lines.next()) != null) {
+        for (byte[] line; (line = next()) != null; ) {
             if (blank(line)) {
                 continue;
             }
-            long first = lines.number();
-            RowFrame frame = frame(line, lines);
-            byte[] bytes = frame.bytes();
+            long first = number;
+            List<byte[]> frame = frame(line);
+            byte[] bytes = join(frame);
             if (header == null && bytes.length >= 3 && (bytes[0] & 0xFF) == 0xEF && (bytes[1] & 0xFF) == 0xBB
                     && (bytes[2] & 0xFF) == 0xBF) {
-                bytes = java.util.Arrays.copyOfRange(bytes, 3, bytes.length); // a UTF-8 byte order mark
+                bytes = Arrays.copyOfRange(bytes, 3, bytes.length); // a byte order mark
             }
-            String[] cells;
-            String problem = frame.unclosed() ? "a quoted value opened on line " + first + " is not closed within "
-                    + MAX_ROW_LINES + " lines or " + MAX_ROW_BYTES + " bytes" : null;
-            try {
-                cells = problem == null ? cells(bytes) : null;
-            } catch (IOException e) {
-                cells = null;
-                problem = e.getMessage();
-            }
-            if (cells != null && header != null && cells.length != header.length) {
-                problem = cells.length + " cells where the header has " + header.length;
-                cells = null;
-            }
-            if (cells == null) {
-                if (header == null) {
-                    throw new IOException("line " + first + ": the CSV header cannot be read: " + problem);
+            String[] cells = null;
+            String problem;
+            if (quotes(bytes) % 2 == 1) {
+                problem = "a quoted value opened on line " + first + " is not closed within " + MAX_ROW_LINES
+                        + " lines or " + MAX_ROW_BYTES + " bytes";
+            } else {
+                try {
+                    cells = cells(bytes);
+                    problem = header == null || cells.length == header.length ? null
+                            : cells.length + " cells where the header has " + header.length;
+                } catch (IOException e) {
+                    problem = e.getMessage();
                 }
-                if (frame.lines() > 1) {
-                    // The row cost only itself: its first line is rejected and reading resumes at
-                    // the line after it, so the lines it swallowed are read as rows of their own.
-                    lines.pushBack(frame.lines() - 1);
-                    bytes = line;
-                }
-                sink.unreadable(bytes, first, RejectReason.MALFORMED_CSV, problem);
-                continue;
             }
-            if (header == null) {
+            if (problem == null && header == null) {
                 header = cells;
-                continue;
+            } else if (problem == null) {
+                sink.tree(row(header, cells), bytes, first);
+            } else if (header == null) {
+                throw new IOException("line " + first + ": the CSV header cannot be read: " + problem);
+            } else {
+                for (int i = frame.size() - 1; i > 0; i--) { // read the lines it took again
+                    again.addFirst(frame.get(i));
+                }
+                number -= frame.size() - 1;
+                sink.unreadable(frame.size() > 1 ? line : bytes, first, RejectReason.MALFORMED_CSV, problem);
             }
-            sink.tree(row(header, cells), bytes, first);
         }
     }
 
-    /**
-     * A row's lines: its first line, and while a quoted value is open the following lines, up to
-     * {@link #MAX_ROW_LINES} lines and {@link #MAX_ROW_BYTES} bytes in all.
-     *
-     * @param lines how many lines the row took
-     * @param unclosed true when a quote was still open at the bound or at the end of the file
-     */
-    private record RowFrame(byte[] bytes, int lines, boolean unclosed) {
-    }
-
-    private static RowFrame frame(byte[] line, LineReader lines) throws IOException {
+    /** A row's lines: the first, and while a quote is open the following ones, within the bounds. */
+    private List<byte[]> frame(byte[] line) throws IOException {
+        List<byte[]> frame = new ArrayList<>(List.of(line));
         int quotes = quotes(line);
-        if (quotes % 2 == 0) {
-            return new RowFrame(line, 1, false);
-        }
-        ByteArrayOutputStream record = new ByteArrayOutputStream(line.length * 2 + 16);
-        record.write(line);
-        int taken = 1;
-        while (quotes % 2 == 1) {
-            if (taken == MAX_ROW_LINES || record.size() > MAX_ROW_BYTES) {
-                return new RowFrame(record.toByteArray(), taken, true);
-            }
-            byte[] more = lines.next();
-            if (more == null) {
-                return new RowFrame(record.toByteArray(), taken, true);
-            }
-            taken++;
-            record.write('\n');
-            record.write(more);
+        int bytes = line.length;
+        byte[] more;
+        while (quotes % 2 == 1 && frame.size() < MAX_ROW_LINES && bytes <= MAX_ROW_BYTES
+                && (more = next()) != null) {
+            frame.add(more);
             quotes += quotes(more);
+            bytes += more.length + 1;
         }
-        return new RowFrame(record.toByteArray(), taken, false);
+        return frame;
+    }
+
+    private static byte[] join(List<byte[]> lines) {
+        ByteArrayOutputStream joined = new ByteArrayOutputStream();
+        joined.writeBytes(lines.get(0));
+        for (byte[] line : lines.subList(1, lines.size())) {
+            joined.write('\n');
+            joined.writeBytes(line);
+        }
+        return joined.toByteArray();
     }
 
     private static String[] cells(byte[] bytes) throws IOException {
-        String text;
-        try {
-            text = StandardCharsets.UTF_8.newDecoder()
-                    .onMalformedInput(CodingErrorAction.REPORT)
-                    .onUnmappableCharacter(CodingErrorAction.REPORT)
-                    .decode(ByteBuffer.wrap(bytes)).toString();
-        } catch (CharacterCodingException e) {
+        if (Unicode.firstInvalidUtf8(bytes, 0, bytes.length) >= 0) {
             throw new IOException("not valid UTF-8");
         }
-        try (MappingIterator<String[]> rows = CSV_ROW.readValues(text)) {
-            List<String[]> all = new ArrayList<>(1);
-            while (rows.hasNextValue()) {
-                all.add(rows.nextValue());
-            }
-            if (all.size() != 1) {
-                throw new IOException("expected one CSV row, found " + all.size());
-            }
-            return all.get(0);
+        List<String[]> rows;
+        try {
+            rows = CSV_ROW.<String[]>readValues(new String(bytes, StandardCharsets.UTF_8)).readAll();
         } catch (RuntimeException e) {
             throw new IOException(e.getMessage(), e);
         }
+        if (rows.size() != 1) {
+            throw new IOException("expected one CSV row, found " + rows.size());
+        }
+        return rows.get(0);
     }
 
     private static ObjectNode row(String[] header, String[] cells) {
@@ -206,7 +180,7 @@ public final class EventFileReader {
             String[] path = header[i].split("/", -1);
             ObjectNode parent = row;
             for (int p = 0; p < path.length - 1; p++) {
-                com.fasterxml.jackson.databind.JsonNode child = parent.get(path[p]);
+                JsonNode child = parent.get(path[p]);
                 parent = child instanceof ObjectNode o ? o : parent.putObject(path[p]);
             }
             parent.put(path[path.length - 1], cells[i]);
@@ -217,9 +191,7 @@ public final class EventFileReader {
     private static int quotes(byte[] bytes) {
         int count = 0;
         for (byte b : bytes) {
-            if (b == '"') {
-                count++;
-            }
+            count += b == '"' ? 1 : 0;
         }
         return count;
     }
@@ -233,84 +205,37 @@ public final class EventFileReader {
         return true;
     }
 
-    /**
-     * Splits a byte stream at LF, dropping one trailing CR; counts lines from 1. The last
-     * {@link #MAX_ROW_LINES} lines are kept, so that they can be read again ({@link #pushBack}).
-     */
-    private static final class LineReader {
-        private final java.util.ArrayDeque<byte[]> recent = new java.util.ArrayDeque<>();
-        private final java.util.ArrayDeque<byte[]> again = new java.util.ArrayDeque<>();
-        private final InputStream in;
-        private final byte[] chunk = new byte[1 << 16];
-        private int position;
-        private int limit;
-        private final ByteArrayOutputStream buffer = new ByteArrayOutputStream(256);
-        private long number;
+    /** The next line without its LF and one trailing CR, or null at the end of the file. */
+    private byte[] next() throws IOException {
+        byte[] line = again.isEmpty() ? read() : again.removeFirst();
+        number += line == null ? 0 : 1;
+        return line;
+    }
 
-        private final boolean keepRecent;
-
-        LineReader(InputStream in, boolean keepRecent) {
-            this.in = in;
-            this.keepRecent = keepRecent;
-        }
-
-        /** Makes the last {@code count} lines read come again, in order (at most MAX_ROW_LINES - 1). */
-        void pushBack(int count) {
-            for (int i = 0; i < count; i++) {
-                again.addFirst(recent.removeLast());
-            }
-            number -= count;
-        }
-
-        byte[] next() throws IOException {
-            byte[] line = again.isEmpty() ? read() : again.removeFirst();
-            if (line != null) {
-                number++;
-            }
-            if (line != null && keepRecent) {
-                recent.addLast(line);
-                if (recent.size() > MAX_ROW_LINES) {
-                    recent.removeFirst();
+    private byte[] read() throws IOException {
+        buffer.reset();
+        while (true) {
+            if (position == limit) {
+                limit = Math.max(in.read(chunk), 0);
+                position = 0;
+                if (limit == 0) {
+                    return buffer.size() == 0 ? null : line();
                 }
             }
-            return line;
-        }
-
-        private byte[] read() throws IOException {
-            buffer.reset();
-            boolean any = false;
-            while (true) {
-                if (position == limit) {
-                    limit = in.read(chunk, 0, chunk.length);
-                    position = 0;
-                    if (limit <= 0) {
-                        limit = 0;
-                        if (!any) {
-                            return null;
-                        }
-                        break;
-                    }
-                }
-                any = true;
-                int start = position;
-                while (position < limit && chunk[position] != '\n') {
-                    position++;
-                }
-                buffer.write(chunk, start, position - start);
-                if (position < limit) {
-                    position++;
-                    break;
-                }
+            int start = position;
+            while (position < limit && chunk[position] != '\n') {
+                position++;
             }
-            byte[] line = buffer.toByteArray();
-            if (line.length > 0 && line[line.length - 1] == '\r') {
-                return java.util.Arrays.copyOf(line, line.length - 1);
+            buffer.write(chunk, start, position - start);
+            if (position < limit) {
+                position++;
+                return line();
             }
-            return line;
         }
+    }
 
-        long number() {
-            return number;
-        }
+    private byte[] line() {
+        byte[] line = buffer.toByteArray();
+        return line.length > 0 && line[line.length - 1] == '\r' ? Arrays.copyOf(line, line.length - 1) : line;
     }
 }

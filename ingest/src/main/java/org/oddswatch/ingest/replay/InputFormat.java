@@ -7,23 +7,18 @@ import java.util.Locale;
 public enum InputFormat {
     JSONL, CSV;
 
-    /** {@code .csv} (also {@code .csv.txt}-less plain) is CSV; anything else is JSON Lines. */
+    /** A name ending in {@code .csv} (any case) is CSV; anything else is JSON Lines. */
     public static InputFormat of(Path file) {
-        String name = file.getFileName().toString().toLowerCase(Locale.ROOT);
-        return name.endsWith(".csv") ? CSV : JSONL;
+        return file.getFileName().toString().toLowerCase(Locale.ROOT).endsWith(".csv") ? CSV : JSONL;
     }
 
     /** {@code jsonl}, {@code json}, {@code ndjson} or {@code csv}, case-insensitive. */
     public static InputFormat parse(String text) {
-        switch (text.toLowerCase(Locale.ROOT)) {
-            case "jsonl":
-            case "json":
-            case "ndjson":
-                return JSONL;
-            case "csv":
-                return CSV;
-            default:
-                throw new IllegalArgumentException("unknown input format '" + text + "' (expected jsonl or csv)");
-        }
+        return switch (text.toLowerCase(Locale.ROOT)) {
+            case "jsonl", "json", "ndjson" -> JSONL;
+            case "csv" -> CSV;
+            default -> throw new IllegalArgumentException(
+                    "unknown input format '" + text + "' (expected jsonl or csv)");
+        };
     }
 }

@@ -9,9 +9,9 @@ import java.time.Instant;
  * @param config the monitor definition file
  * @param input the event file
  * @param out the output folder (created if needed; files in it are replaced)
- * @param format the input format, or null to tell by the file name ({@code .csv} is CSV)
- * @param from windows reported start at or after this, or null (every event is still replayed)
- * @param to windows reported end at or before this, or null
+ * @param format the input format, or null to tell by the file name ({@link InputFormat#of})
+ * @param from report windows starting at or after this, or null (every event is still replayed)
+ * @param to report windows ending at or before this, or null
  * @param topic replay only the monitors reading this topic, or null for every monitor
  */
 public record ReplayRequest(Path config, Path input, Path out, InputFormat format, Instant from, Instant to,
@@ -19,9 +19,5 @@ public record ReplayRequest(Path config, Path input, Path out, InputFormat forma
 
     public static ReplayRequest of(Path config, Path input, Path out) {
         return new ReplayRequest(config, input, out, null, null, null, null);
-    }
-
-    public InputFormat effectiveFormat() {
-        return format != null ? format : InputFormat.of(input);
     }
 }

@@ -1,5 +1,6 @@
 package org.oddswatch.ingest.replay;
 
+import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.node.ObjectNode;
 import java.io.IOException;
 import java.io.UncheckedIOException;
@@ -8,10 +9,14 @@ import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Instant;
 import java.util.ArrayList;
+import java.util.HashMap;
 import java.util.LinkedHashMap;
 import java.util.List;
+import java.util.Locale;
 import java.util.Map;
 import java.util.function.LongConsumer;
+import java.util.stream.Collectors;
+import org.oddswatch.alerts.engine.AlertRulesConfig;
 import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
@@ -23,7 +28,10 @@ import org.oddswatch.alerts.privacy.PublishedEstimate;
 import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.alerts.report.ReplayReport;
 import org.oddswatch.alerts.report.html.HtmlReport;
+import org.oddswatch.alerts.report.html.RejectMark;
+import org.oddswatch.alerts.report.html.ReportOptions;
 import org.oddswatch.estimator.result.WindowEstimate;
+import org.oddswatch.ingest.decode.EventDecoder;
 import org.oddswatch.ingest.definition.DefinitionException;
 import org.oddswatch.ingest.definition.DefinitionLoader;
 import org.oddswatch.ingest.definition.MonitorConfig;
@@ -33,31 +41,16 @@ import org.oddswatch.ingest.pipeline.MonitorPipeline;
 import org.oddswatch.ingest.pipeline.PipelineSettings;
 import org.oddswatch.ingest.pipeline.PipelineSnapshot;
 import org.oddswatch.ingest.pipeline.RecordOrigin;
-import org.oddswatch.ingest.pipeline.StreamStatus;
 
 /**
- * Replays an event file through the same {@link MonitorPipeline} as the live service, time driven by
- * the events, and writes into the output folder:
- * <ul>
- *   <li>{@code estimates.jsonl}: every final window estimate, one JSON object per line, small cells
- *       withheld as on the estimates topic ({@link PublishedEstimate});</li>
- *   <li>{@code estimates.csv}: the same estimates as a table, a row per coefficient ({@link CsvEstimatesSink});</li>
- *   <li>{@code rejects.jsonl}: rejected and late records with their line number, reason and bytes;</li>
- *   <li>{@code alerts.jsonl}: alert messages in the order raised;</li>
- *   <li>{@code summary.json}: counts by outcome and reason, windows per stream;</li>
- *   <li>{@code report.md}: the readable report of the alerts module;</li>
- *   <li>{@code report.html}: the same replay as charts in one self-contained page ({@link HtmlReport}).</li>
- * </ul>
- * At the end of the file every window that has received events is closed. The same definition and
- * file give byte-identical output.
- *
- * <p>A range ({@code --from/--to}) chooses which windows are reported: estimates and alerts of windows
- * with {@code windowStart >= from} and {@code windowEnd <= to}. The whole file is still fed, because
- * a window's estimate and alerts depend on events outside it: the fixed baseline period, the warm
- * start chained from earlier windows, the CUSUM history since the baseline, alert episodes opened
- * earlier, and later events that make the range's last windows final or its late events late. So a
- * range replay writes exactly the full replay's estimates and alerts of those windows, byte for
- * byte, and an alert's own replay command reproduces it. Rejects and counts cover the whole file.
+ * Replays an event file through the same {@link MonitorPipeline} and output stage as the live
+ * service, time driven by the events, into {@code estimates.jsonl} (and the same as a table, {@code estimates.csv}), {@code rejects.jsonl},
+ * {@code alerts.jsonl}, {@code summary.json}, {@code report.md} and {@code report.html}; at the end of
+ * the file every window that has received events is closed. The same definition and file give
+ * byte-identical output. A range ({@code --from/--to}) reports only windows with
+ * {@code windowStart >= from} and {@code windowEnd <= to}, exactly as the full replay writes them:
+ * the whole file is still fed, because a window's results depend on events outside it
+ * (ingest/README.md, "Range"). Rejects and counts cover the whole file.
  */
 public final class ReplayRunner {
 
@@ -71,13 +64,12 @@ public final class ReplayRunner {
     }
 
     /**
-     * @throws DefinitionException for an invalid definition (a usage/configuration error)
-     * @throws IllegalArgumentException when a frozen baseline file cannot be used (configuration)
+     * @throws DefinitionException for an invalid definition
+     * @throws IllegalArgumentException when a frozen baseline file cannot be used
      * @throws IOException when the input cannot be read or the output written
      */
     public static ReplaySummary run(ReplayRequest request) throws DefinitionException, IOException {
-        MonitorConfig config = DefinitionLoader.load(request.config());
-        return run(config, request);
+        return run(DefinitionLoader.load(request.config()), request);
     }
 
     /** Runs with an already loaded definition. */
@@ -101,11 +93,11 @@ public final class ReplayRunner {
                 .withLimits(config.limits())
                 .withReplayHint(new ReplayHint(request.config() == null ? config.file() : request.config().toString(),
                         request.input().toString(), null));
-        InputFormat format = request.effectiveFormat();
+        InputFormat format = request.format() != null ? request.format() : InputFormat.of(request.input());
         Path out = request.out();
         OutputSink files = OutputSink.all(JsonLinesSink.replayFiles(out.resolve(ESTIMATES), out.resolve(ALERTS),
                 out.resolve(REJECTS)), new CsvEstimatesSink(out.resolve(ESTIMATES_CSV)));
-        ReportOutputs outputs = new ReportOutputs(new WindowRange(request.from(), request.to()), files);
+        ReportOutputs outputs = new ReportOutputs(request, monitors, files);
         MonitorPipeline pipeline;
         try (files) {
             pipeline = new MonitorPipeline(request.input().toString(), monitors,
@@ -119,45 +111,36 @@ public final class ReplayRunner {
         Files.writeString(request.out().resolve(SUMMARY),
                 Json.mapper().writerWithDefaultPrettyPrinter().writeValueAsString(summary) + "\n",
                 StandardCharsets.UTF_8);
-        SmallCellPolicy cells = strictest(monitors);
-        ReplayReport.write(request.out(), outputs.estimates, outputs.alerts, summary.gaps(), title(monitors, request),
-                cells);
-        HtmlReport.write(request.out(), outputs.estimates, outputs.alerts, title(monitors, request),
-                ReplayPageOptions.of(request.out().resolve(REJECTS), monitors, cells));
+        // the reports' small-cell rule: the highest limit among the replayed monitors
+        SmallCellPolicy cells = new SmallCellPolicy(monitors.stream().mapToInt(m -> m.outputs().withholdCountsBelow())
+                .reduce(SmallCellPolicy.DEFAULT_LIMIT, Math::max));
+        String title = "Replay of " + request.input().getFileName() + " ("
+                + monitors.stream().map(MonitorDefinition::name).collect(Collectors.joining(", ")) + ")";
+        ReplayReport.write(request.out(), outputs.estimates, outputs.alerts, summary.gaps(), title, cells);
+        HtmlReport.write(request.out(), outputs.estimates, outputs.alerts, title, ReportOptions.withholding(cells)
+                .withRejects(outputs.rejectMarks).withRules(stream -> rules(monitors, stream)));
         return summary;
     }
 
-    /** The report's small-cell rule: the highest limit among the replayed monitors. */
-    private static SmallCellPolicy strictest(List<MonitorDefinition> monitors) {
-        int limit = SmallCellPolicy.DEFAULT_LIMIT;
-        for (MonitorDefinition monitor : monitors) {
-            limit = Math.max(limit, monitor.outputs().withholdCountsBelow());
+    private static AlertRulesConfig rules(List<MonitorDefinition> monitors, String stream) {
+        try {
+            return MonitorDefinition.ofStream(monitors, stream).rules();
+        } catch (IllegalArgumentException e) {
+            return null;
         }
-        return new SmallCellPolicy(limit);
-    }
-
-    private static String title(List<MonitorDefinition> monitors, ReplayRequest request) {
-        StringBuilder names = new StringBuilder();
-        for (MonitorDefinition monitor : monitors) {
-            names.append(names.length() == 0 ? "" : ", ").append(monitor.name());
-        }
-        return "Replay of " + request.input().getFileName() + " (" + names + ")";
     }
 
     private static ReplaySummary summary(ReplayRequest request, InputFormat format, PipelineSnapshot snapshot,
                                          ReportOutputs outputs) {
-        List<ReplaySummary.Monitor> monitors = new ArrayList<>();
-        for (PipelineSnapshot.MonitorStatus monitor : snapshot.monitors()) {
-            monitors.add(new ReplaySummary.Monitor(monitor.monitor(), monitor.streams(), monitor.unrouted()));
-        }
-        List<ReplaySummary.Stream> streams = new ArrayList<>();
-        for (StreamStatus stream : snapshot.streams()) {
+        List<ReplaySummary.Monitor> monitors = snapshot.monitors().stream()
+                .map(m -> new ReplaySummary.Monitor(m.monitor(), m.streams(), m.unrouted())).toList();
+        List<ReplaySummary.Stream> streams = snapshot.streams().stream().map(stream -> {
             WindowEstimate[] span = outputs.windowSpan.get(stream.stream());
-            streams.add(new ReplaySummary.Stream(stream.stream(), stream.finalWindows(),
+            return new ReplaySummary.Stream(stream.stream(), stream.finalWindows(),
                     span == null ? null : span[0].windowEnd(), span == null ? null : span[1].windowEnd(),
-                    stream.baseline(), stream.baselineNote(), stream.counts(), stream.gaps()));
-        }
-        return new ReplaySummary(request.input().toString(), format.name().toLowerCase(java.util.Locale.ROOT),
+                    stream.baseline(), stream.baselineNote(), stream.counts(), stream.gaps());
+        }).toList();
+        return new ReplaySummary(request.input().toString(), format.name().toLowerCase(Locale.ROOT),
                 request.from(), request.to(), snapshot.totals(), outputs.estimates.size(), outputs.rejects,
                 outputs.alerts.size(), monitors, streams);
     }
@@ -186,33 +169,36 @@ public final class ReplayRunner {
         }
     }
 
-    /** The windows a replay reports: start at or after {@code from}, end at or before {@code to} (null: open). */
-    private record WindowRange(Instant from, Instant to) {
-        boolean contains(Instant windowStart, Instant windowEnd) {
-            return (from == null || !windowStart.isBefore(from)) && (to == null || !windowEnd.isAfter(to));
-        }
-    }
-
     /**
      * Passes the range's estimates and alerts (and every reject) on to the files, and keeps the
-     * range's estimates and alerts for the reports.
+     * range's estimates and alerts, and a mark per reject, for the reports.
      */
     private static final class ReportOutputs implements OutputSink {
-        private final WindowRange range;
+        private final Instant from;
+        private final Instant to;
+        private final Map<String, MonitorDefinition> monitors = new HashMap<>();
         private final OutputSink files;
         final List<WindowEstimate> estimates = new ArrayList<>();
         final List<Alert> alerts = new ArrayList<>();
         final Map<String, WindowEstimate[]> windowSpan = new LinkedHashMap<>();
+        final List<RejectMark> rejectMarks = new ArrayList<>();
         long rejects;
 
-        ReportOutputs(WindowRange range, OutputSink files) {
-            this.range = range;
+        ReportOutputs(ReplayRequest request, List<MonitorDefinition> monitors, OutputSink files) {
+            this.from = request.from();
+            this.to = request.to();
+            monitors.forEach(monitor -> this.monitors.put(monitor.name(), monitor));
             this.files = files;
+        }
+
+        /** True for a window starting at or after {@code from} and ending at or before {@code to}. */
+        private boolean inRange(Instant windowStart, Instant windowEnd) {
+            return (from == null || !windowStart.isBefore(from)) && (to == null || !windowEnd.isAfter(to));
         }
 
         @Override
         public void estimate(WindowEstimate estimate, Published published) {
-            if (range.contains(estimate.windowStart(), estimate.windowEnd())) {
+            if (inRange(estimate.windowStart(), estimate.windowEnd())) {
                 estimates.add(estimate);
                 windowSpan.computeIfAbsent(estimate.stream(), s -> new WindowEstimate[] {estimate, estimate})[1] = estimate;
                 files.estimate(estimate, published);
@@ -221,7 +207,7 @@ public final class ReplayRunner {
 
         @Override
         public void alert(Alert alert, Published published) {
-            if (range.contains(alert.windowStart(), alert.windowEnd())) {
+            if (inRange(alert.windowStart(), alert.windowEnd())) {
                 alerts.add(alert);
                 files.alert(alert, published);
             }
@@ -230,7 +216,47 @@ public final class ReplayRunner {
         @Override
         public void reject(Published reject, String messageJson) {
             rejects++;
+            JsonNode node = tree(reject.json());
+            if (node != null && node.isObject()) {
+                rejectMarks.add(mark(node));
+            }
             files.reject(reject, messageJson);
+        }
+
+        /**
+         * A reject as the HTML report counts it: its stream (for a record rejected while decoded, the
+         * stream its split value names), reason (else outcome), and event time read by its monitor;
+         * null where unreadable.
+         */
+        private RejectMark mark(JsonNode reject) {
+            String reason = reject.hasNonNull("reason") ? reject.get("reason").asText()
+                    : reject.path("outcome").asText("unknown");
+            String stream = reject.hasNonNull("stream") ? reject.get("stream").asText() : null;
+            MonitorDefinition monitor = monitors.get(reject.path("monitor").asText(""));
+            JsonNode record = monitor == null || !reject.hasNonNull("value") ? null
+                    : tree(reject.get("value").asText());
+            if (record == null || !record.isObject()) {
+                return new RejectMark(stream, reason, null);
+            }
+            if (stream == null) {
+                JsonNode split = monitor.split() == null ? null : record.at(monitor.split().field());
+                stream = split == null ? monitor.streamName(null)
+                        : split.isValueNode() && !split.isNull() ? monitor.streamName(split.asText()) : null;
+            }
+            try {
+                return new RejectMark(stream, reason, Instant.ofEpochMilli(EventDecoder.parseTime(
+                        record.at(monitor.event().time()))));
+            } catch (RuntimeException e) {
+                return new RejectMark(stream, reason, null);
+            }
+        }
+
+        private static JsonNode tree(String text) {
+            try {
+                return Json.mapper().readTree(text);
+            } catch (IOException e) {
+                return null;
+            }
         }
     }
 }

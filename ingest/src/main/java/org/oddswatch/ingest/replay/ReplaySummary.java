@@ -20,11 +20,7 @@ public record ReplaySummary(String input, String format, Instant from, Instant t
 
     /** What was not monitored and why, over every stream (the streams' own lists joined). */
     public List<MonitoringGap> gaps() {
-        List<MonitoringGap> gaps = new java.util.ArrayList<>();
-        for (Stream stream : streams) {
-            gaps.addAll(stream.gaps());
-        }
-        return gaps;
+        return streams.stream().flatMap(stream -> stream.gaps().stream()).toList();
     }
 
     /** Records of one monitor rejected before routing (parse and decode errors, stream cap, range). */
