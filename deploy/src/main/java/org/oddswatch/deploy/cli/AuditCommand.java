@@ -1,10 +1,12 @@
 package org.oddswatch.deploy.cli;
 
+import com.fasterxml.jackson.core.JsonProcessingException;
 import java.io.IOException;
 import java.io.PrintWriter;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Instant;
+import java.time.format.DateTimeParseException;
 import java.util.LinkedHashMap;
 import java.util.Map;
 import java.util.Properties;
@@ -84,7 +86,13 @@ final class AuditCommand implements Callable<Integer> {
                 sentLog = AlertLog.read(snapshot.file(), "topic " + sent.topic, from, to);
             }
         }
-        AuditResult result = AlertAudit.compare(sentLog, replayed, ReplayCoverage.read(summary));
+        ReplayCoverage coverage;
+        try {
+            coverage = ReplayCoverage.read(summary);
+        } catch (JsonProcessingException | DateTimeParseException e) {
+            throw UserError.config("--replay: " + summary + " is not a replay summary", e);
+        }
+        AuditResult result = AlertAudit.compare(sentLog, replayed, coverage);
         PrintWriter w = spec.commandLine().getOut();
         w.print(AuditSummary.describe(result, sentLog, replayed));
         if (out != null) {

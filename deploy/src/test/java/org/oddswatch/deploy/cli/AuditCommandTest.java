@@ -191,10 +191,18 @@ class AuditCommandTest {
     }
 
     @Test
-    void aMissingReplayFolderIsAConfigurationError() {
+    void aMissingOrBrokenReplayFolderIsAConfigurationError() throws IOException {
         CommandLineTest.Result r = CommandLineTest.run("audit", "--sent", dir.resolve("x.jsonl").toString(),
                 "--replay", dir.resolve("absent").toString());
         assertEquals(2, r.status());
         assertEquals(1, r.errLines().size(), r.err());
+        Path broken = Files.createDirectories(dir.resolve("broken"));
+        Files.copy(replay.resolve("alerts.jsonl"), broken.resolve("alerts.jsonl"));
+        Files.writeString(broken.resolve("summary.json"), "{\"streams\": [");
+        CommandLineTest.Result b = CommandLineTest.run("audit", "--sent", replay.resolve("alerts.jsonl").toString(),
+                "--replay", broken.toString());
+        assertEquals(2, b.status(), b.err());
+        assertEquals(List.of("oddswatch audit: --replay: " + broken.resolve("summary.json") + " is not a replay summary"),
+                b.errLines());
     }
 }
