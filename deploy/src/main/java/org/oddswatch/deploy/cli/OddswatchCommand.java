@@ -21,7 +21,7 @@ import picocli.CommandLine.ScopeType;
             "A signal calls for investigation; it is not a diagnosis or proof of cause."},
         subcommands = {
             SandboxCommand.class, RunCommand.class, ReplayCommand.class, BaselineCommand.class,
-            CheckCommand.class, SimulateCommand.class, AuditCommand.class, CommandLine.HelpCommand.class},
+            CheckCommand.class, SimulateCommand.class, AuditCommand.class, TuneCommand.class, CommandLine.HelpCommand.class},
         footer = {"", "Start with: oddswatch sandbox"})
 public final class OddswatchCommand implements Runnable {
 

@@ -45,7 +45,7 @@ class CommandLineTest {
     }
 
     @ParameterizedTest
-    @ValueSource(strings = {"sandbox", "run", "replay", "baseline", "check", "simulate", "audit"})
+    @ValueSource(strings = {"sandbox", "run", "replay", "baseline", "check", "simulate", "audit", "tune"})
     void everyCommandHasHelp(String command) {
         Result r = run(command, "--help");
         assertEquals(0, r.status(), r.err());
@@ -57,7 +57,7 @@ class CommandLineTest {
     void topLevelHelpListsTheCommands() {
         Result r = run("--help");
         assertEquals(0, r.status());
-        for (String c : List.of("sandbox", "run", "replay", "baseline", "check", "simulate", "audit")) {
+        for (String c : List.of("sandbox", "run", "replay", "baseline", "check", "simulate", "audit", "tune")) {
             assertTrue(r.out().contains("  " + c + " "), c + " in " + r.out());
         }
     }

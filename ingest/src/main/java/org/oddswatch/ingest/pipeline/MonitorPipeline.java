@@ -48,7 +48,7 @@ public final class MonitorPipeline {
         this.input = input;
         this.listener = listener;
         this.parser = new RecordParser(settings.limits());
-        this.streamFactory = new StreamFactory(listener, settings.replayHint(), this::resolved);
+        this.streamFactory = new StreamFactory(listener, settings, this::resolved);
         for (MonitorDefinition monitor : monitors) {
             routes.add(new MonitorRoute(monitor));
         }

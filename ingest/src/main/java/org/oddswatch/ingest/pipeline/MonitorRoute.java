@@ -5,7 +5,6 @@ import java.nio.file.Path;
 import java.util.LinkedHashMap;
 import java.util.Map;
 import org.oddswatch.alerts.baseline.BaselineFile;
-import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.estimator.WindowEstimator;
 import org.oddswatch.estimator.calibration.BaselineModel;
 import org.oddswatch.estimator.window.WindowStore;
@@ -53,10 +52,10 @@ final class MonitorRoute {
      * The baseline of a new stream. A baseline file of its own that cannot be read leaves the stream
      * without a baseline, with the reason as its note (shown as a monitoring gap).
      */
-    StreamBaseline baseline(String stream, String splitValue, ReplayHint replayHint) {
+    StreamBaseline baseline(String stream, String splitValue, PipelineSettings settings) {
         BaselineSpec spec = monitor.baseline();
         if (spec != null && spec.isFixedPeriod()) {
-            return new StreamBaseline(stream, monitor, estimator, newStore(), null, null, replayHint);
+            return new StreamBaseline(stream, monitor, estimator, newStore(), null, null, settings);
         }
         BaselineModel model = sharedBaseline;
         String note = null;
@@ -68,7 +67,7 @@ final class MonitorRoute {
                 note = "cannot read baseline file " + file + ": " + e.getMessage();
             }
         }
-        return new StreamBaseline(stream, monitor, estimator, null, model, note, replayHint);
+        return new StreamBaseline(stream, monitor, estimator, null, model, note, settings);
     }
 
     WindowStore newStore() {

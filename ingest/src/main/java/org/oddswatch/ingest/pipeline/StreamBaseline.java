@@ -6,6 +6,7 @@ import java.util.List;
 import java.util.NavigableMap;
 import org.oddswatch.alerts.engine.AlertEngine;
 import org.oddswatch.alerts.engine.ReplayHint;
+import org.oddswatch.alerts.engine.RuleInputs;
 import org.oddswatch.alerts.gaps.BaselineInformation;
 import org.oddswatch.alerts.gaps.GapReason;
 import org.oddswatch.alerts.gaps.MonitoringGap;
@@ -48,6 +49,8 @@ final class StreamBaseline {
     private final WindowEstimator estimator;
     private final WindowGeometry geometry;
     private final ReplayHint replayHint;
+    /** Where the engine's calls are recorded, or null. */
+    private final RuleInputs ruleInputs;
 
     private AlertEngine engine;
     private BaselineModel model;
@@ -67,12 +70,13 @@ final class StreamBaseline {
     private List<Alert> restored = List.of();
 
     StreamBaseline(String stream, MonitorDefinition monitor, WindowEstimator estimator, WindowStore periodStore,
-                   BaselineModel fileBaseline, String fileBaselineNote, ReplayHint replayHint) {
+                   BaselineModel fileBaseline, String fileBaselineNote, PipelineSettings settings) {
         this.stream = stream;
         this.monitor = monitor;
         this.estimator = estimator;
         this.geometry = monitor.geometry();
-        this.replayHint = replayHint;
+        this.replayHint = settings.replayHint();
+        this.ruleInputs = settings.ruleInputs();
         BaselineSpec spec = monitor.baseline();
         if (spec != null && spec.isFixedPeriod()) {
             this.periodStore = periodStore;
@@ -118,7 +122,7 @@ final class StreamBaseline {
         }
         if (event.complete()) {
             if (engine != null) {
-                engine.onEvent(time, event.id(), event.row(), event.positive());
+                toEngine(event);
             } else if (time >= monitor.baseline().to().toEpochMilli()) {
                 pending.add(event); // events of the period itself are never scored against it
             }
@@ -140,6 +144,9 @@ final class StreamBaseline {
             windowsInPeriod++;
         }
         if (engine != null) {
+            if (ruleInputs != null) {
+                ruleInputs.window(estimate, inPeriod);
+            }
             List<Alert> alerts = inPeriod ? engine.onBaselinePeriodWindow(estimate) : engine.onFinalEstimate(estimate);
             return new Judged(engine.withCharts(estimate), alerts);
         }
@@ -200,13 +207,23 @@ final class StreamBaseline {
             restored = List.of();
         }
         for (DecodedEvent event : pending) {
-            engine.onEvent(event.timeMillis(), event.id(), event.row(), event.positive());
+            toEngine(event);
         }
         pending = null;
     }
 
+    private void toEngine(DecodedEvent event) {
+        if (ruleInputs != null) {
+            ruleInputs.event(stream, event.timeMillis(), event.id(), event.row(), event.positive());
+        }
+        engine.onEvent(event.timeMillis(), event.id(), event.row(), event.positive());
+    }
+
     /** This stream's alert engine: CUSUM alerts on the window grid, message counts under the small-cell rule. */
     private AlertEngine newEngine() {
+        if (ruleInputs != null) {
+            ruleInputs.engine(stream, model);
+        }
         return new AlertEngine(stream, monitor.rules(), model, replayHint, geometry, monitor.outputs().smallCells());
     }
 

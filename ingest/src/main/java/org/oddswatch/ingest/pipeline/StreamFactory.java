@@ -5,7 +5,6 @@ import java.util.Collection;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
-import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.lifecycle.AlertState;
 
@@ -16,7 +15,7 @@ import org.oddswatch.alerts.lifecycle.AlertState;
 final class StreamFactory {
 
     private final PipelineListener listener;
-    private final ReplayHint replayHint;
+    private final PipelineSettings settings;
     private final StreamState.HeldOutcomes heldOutcomes;
     /** Restored alerts of streams not opened yet, by stream name. */
     private final Map<String, List<Alert>> pendingRestore = new LinkedHashMap<>();
@@ -24,16 +23,16 @@ final class StreamFactory {
     private CusumHistory chartHistory;
     private long chartsRereadFrom;
 
-    StreamFactory(PipelineListener listener, ReplayHint replayHint, StreamState.HeldOutcomes heldOutcomes) {
+    StreamFactory(PipelineListener listener, PipelineSettings settings, StreamState.HeldOutcomes heldOutcomes) {
         this.listener = listener;
-        this.replayHint = replayHint;
+        this.settings = settings;
         this.heldOutcomes = heldOutcomes;
     }
 
     /** A new stream of {@code route}. */
     StreamState open(MonitorRoute route, String name, String splitValue) {
         StreamState stream = new StreamState(name, route.monitor, route.estimator, route.newStore(),
-                route.baseline(name, splitValue, replayHint), listener, heldOutcomes);
+                route.baseline(name, splitValue, settings), listener, heldOutcomes);
         List<Alert> restore = pendingRestore.remove(name);
         if (restore != null) {
             restore(stream, restore);

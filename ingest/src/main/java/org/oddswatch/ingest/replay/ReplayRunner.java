@@ -4,6 +4,7 @@ import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.node.ObjectNode;
 import java.io.IOException;
 import java.io.UncheckedIOException;
+import java.io.Writer;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -18,6 +19,7 @@ import java.util.function.LongConsumer;
 import java.util.stream.Collectors;
 import org.oddswatch.alerts.engine.AlertRulesConfig;
 import org.oddswatch.alerts.engine.ReplayHint;
+import org.oddswatch.alerts.engine.RuleInputs;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.output.CsvEstimatesSink;
@@ -59,6 +61,8 @@ public final class ReplayRunner {
     public static final String REJECTS = "rejects.jsonl";
     public static final String ALERTS = "alerts.jsonl";
     public static final String SUMMARY = "summary.json";
+    /** The alert engines' calls ({@link RuleInputs}), for re-running the rules with other limits ({@link RuleRerun}). */
+    public static final String RULE_INPUTS = "rules-input.jsonl";
 
     private ReplayRunner() {
     }
@@ -99,9 +103,10 @@ public final class ReplayRunner {
                 out.resolve(REJECTS)), new CsvEstimatesSink(out.resolve(ESTIMATES_CSV)));
         ReportOutputs outputs = new ReportOutputs(request, monitors, files);
         MonitorPipeline pipeline;
-        try (files) {
+        try (files; Writer ruleInputs = Files.newBufferedWriter(out.resolve(RULE_INPUTS), StandardCharsets.UTF_8)) {
             pipeline = new MonitorPipeline(request.input().toString(), monitors,
-                    new OutputStage(monitors, monitor -> List.of(outputs)), settings);
+                    new OutputStage(monitors, monitor -> List.of(outputs)),
+                    settings.withRuleInputs(new RuleInputs(ruleInputs)));
             EventFileReader.read(request.input(), format, new PipelineFeed(pipeline), bytesRead);
             pipeline.closeAll();
         } catch (UncheckedIOException e) {
