@@ -11,7 +11,6 @@ import java.io.UncheckedIOException;
 import java.io.Writer;
 import java.util.HashMap;
 import java.util.Map;
-import java.util.function.BiFunction;
 import java.util.function.Consumer;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
@@ -27,7 +26,7 @@ import org.oddswatch.estimator.result.WindowEstimate;
  */
 public final class RuleInputs {
 
-    /** A new engine of {@code stream} with its baseline (null: none). */
+    /** A new engine of {@code stream} with its baseline (null: none) and what must not change ({@code model}). */
     public static final String ENGINE = "engine";
     /** {@link AlertEngine#onEvent}. */
     public static final String EVENT = "event";
@@ -36,9 +35,12 @@ public final class RuleInputs {
     /** {@link AlertEngine#onBaselinePeriodWindow}. */
     public static final String PERIOD_WINDOW = "periodWindow";
 
-    /** One engine call. */
-    public record Call(String call, String stream, BaselineModel baseline, Long time, String id, double[] row,
-                       Boolean positive, WindowEstimate window) {
+    /**
+     * One engine call; {@code model} (of an {@link #ENGINE} call): what of the stream's definition
+     * other rules settings must share, as the caller words it.
+     */
+    public record Call(String call, String stream, String model, BaselineModel baseline, Long time, String id,
+                       double[] row, Boolean positive, WindowEstimate window) {
     }
 
     private static final ObjectMapper EXACT = Json.mapper().copy().registerModule(new SimpleModule("oddswatch-exact")
@@ -51,16 +53,16 @@ public final class RuleInputs {
         this.out = out;
     }
 
-    public void engine(String stream, BaselineModel baseline) {
-        write(new Call(ENGINE, stream, baseline, null, null, null, null, null));
+    public void engine(String stream, String model, BaselineModel baseline) {
+        write(new Call(ENGINE, stream, model, baseline, null, null, null, null, null));
     }
 
     public void event(String stream, long time, String id, double[] row, boolean positive) {
-        write(new Call(EVENT, stream, null, time, id, row, positive, null));
+        write(new Call(EVENT, stream, null, null, time, id, row, positive, null));
     }
 
     public void window(WindowEstimate estimate, boolean baselinePeriod) {
-        write(new Call(baselinePeriod ? PERIOD_WINDOW : WINDOW, estimate.stream(), null, null, null, null, null,
+        write(new Call(baselinePeriod ? PERIOD_WINDOW : WINDOW, estimate.stream(), null, null, null, null, null, null,
                 estimate));
     }
 
@@ -75,25 +77,35 @@ public final class RuleInputs {
 
     /**
      * Re-runs recorded calls: each {@link #ENGINE} call makes the stream's engine by
-     * {@code engines(stream, baseline)}, the other calls go to it, and every alert given goes to
+     * {@code engines.make(stream, model, baseline)}, the other calls go to it, and every alert given goes to
      * {@code alerts} in the order given.
      *
      * @throws IOException when a line cannot be read or parsed
      */
-    public static void rerun(BufferedReader calls, BiFunction<String, BaselineModel, AlertEngine> engines,
+    public static void rerun(BufferedReader calls, Engines engines,
                              Consumer<Alert> alerts) throws IOException {
         Map<String, AlertEngine> byStream = new HashMap<>();
         String line;
         while ((line = calls.readLine()) != null) {
             Call c = EXACT.readValue(line, Call.class);
             switch (c.call()) {
-                case ENGINE -> byStream.put(c.stream(), engines.apply(c.stream(), c.baseline()));
+                case ENGINE -> byStream.put(c.stream(), engines.make(c.stream(), c.model(), c.baseline()));
                 case EVENT -> byStream.get(c.stream()).onEvent(c.time(), c.id(), c.row(), c.positive());
                 case WINDOW -> byStream.get(c.stream()).onFinalEstimate(c.window()).forEach(alerts);
                 case PERIOD_WINDOW -> byStream.get(c.stream()).onBaselinePeriodWindow(c.window()).forEach(alerts);
                 default -> throw new IOException("unknown rule-input call '" + c.call() + "'");
             }
         }
+    }
+
+    /** Makes the engine of a re-run stream. */
+    @FunctionalInterface
+    public interface Engines {
+        /**
+         * @param model the recorded {@link Call#model}
+         * @throws IllegalArgumentException when the stream cannot be re-run (the message says why)
+         */
+        AlertEngine make(String stream, String model, BaselineModel baseline);
     }
 
     private static final class ExactDouble extends JsonSerializer<Double> {

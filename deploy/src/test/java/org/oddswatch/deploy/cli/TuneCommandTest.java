@@ -23,6 +23,7 @@ import org.oddswatch.alerts.json.Json;
 class TuneCommandTest {
 
     private static final Path EXAMPLE = Path.of("examples/respiratory.yaml");
+    private static final String AFTER = "2026-05-04T00:00:00Z";
 
     @TempDir
     static Path dir;
@@ -70,7 +71,7 @@ class TuneCommandTest {
         Path out = dir.resolve("tuned");
         CommandLineTest.Result r = CommandLineTest.run("tune", "--replay", replay.toString(),
                 "--rules-from", settings.get(0).toString(), "--rules-from", settings.get(1).toString(),
-                "--rules-from", settings.get(2).toString(), "--after", "2026-04-27T00:00:00Z", "--out", out.toString());
+                "--rules-from", settings.get(2).toString(), "--after", AFTER, "--out", out.toString());
         assertEquals(0, r.status(), r.err());
         assertTrue(r.out().contains("not a diagnosis or proof of cause"), r.out());
         String base = alerts(replay);
@@ -87,6 +88,17 @@ class TuneCommandTest {
             assertEquals(full.lines().count(), summary.get("messages").asLong());
             assertEquals(full.lines().map(l -> l.substring(0, l.indexOf(','))).distinct().count(),
                     summary.get("episodes").asLong());
+            String firstRaised = null;
+            for (String l : full.lines().toList()) {
+                JsonNode alert = Json.mapper().readTree(l);
+                String end = alert.get("windowEnd").asText();
+                if ("raised".equals(alert.get("state").asText()) && end.compareTo(AFTER) >= 0
+                        && (firstRaised == null || end.compareTo(firstRaised) < 0)) {
+                    firstRaised = end;
+                }
+            }
+            assertTrue(firstRaised != null, "an episode raised after " + AFTER);
+            assertEquals(firstRaised, summary.get("firstRaised").get("windowEnd").asText());
         }
     }
 
@@ -102,6 +114,15 @@ class TuneCommandTest {
             assertEquals(alerts(replay(definition, "grid-full-" + setting)), alerts(out.resolve(setting)), setting);
         }
         assertNotEquals(alerts(out.resolve("setting-1")), alerts(out.resolve("setting-2")));
+    }
+
+    @Test
+    void aDefinitionDifferingBeyondItsRulesIsRefused() throws IOException {
+        Path otherWindow = edited("other-window", "width: P28D", "width: P21D");
+        CommandLineTest.Result r = CommandLineTest.run("tune", "--replay", replay.toString(), "--rules-from",
+                otherWindow.toString(), "--out", dir.resolve("refused").toString());
+        assertEquals(2, r.status());
+        assertTrue(r.err().contains("only the rules sections may differ"), r.err());
     }
 
     @Test

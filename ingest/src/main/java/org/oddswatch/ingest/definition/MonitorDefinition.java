@@ -41,6 +41,14 @@ public record MonitorDefinition(String name, String topic, EventSpec event, Spli
         return new DesignCoder(terms.stream().map(TermSpec::term).toList());
     }
 
+    /**
+     * What a definition whose alert rules are re-run on this monitor's recorded rule inputs must share
+     * with it: the model checksum and the window grid.
+     */
+    public String ruleInputsKey() {
+        return "model " + checksum + ", window " + geometry();
+    }
+
     public WindowGeometry geometry() {
         return window.geometry();
     }

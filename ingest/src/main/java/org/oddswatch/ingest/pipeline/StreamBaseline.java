@@ -222,7 +222,7 @@ final class StreamBaseline {
     /** This stream's alert engine: CUSUM alerts on the window grid, message counts under the small-cell rule. */
     private AlertEngine newEngine() {
         if (ruleInputs != null) {
-            ruleInputs.engine(stream, model);
+            ruleInputs.engine(stream, monitor.ruleInputsKey(), model);
         }
         return new AlertEngine(stream, monitor.rules(), model, replayHint, geometry, monitor.outputs().smallCells());
     }

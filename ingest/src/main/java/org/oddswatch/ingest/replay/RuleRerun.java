@@ -39,7 +39,8 @@ public final class RuleRerun {
      * @param config the definition whose rules to run (its monitors must hold the replay's streams)
      * @param configPath the definition's path as the alerts' replay command names it
      * @throws IOException when the folder has no rule-input file or summary, or one cannot be read
-     * @throws IllegalArgumentException when no monitor of {@code config} holds a replayed stream
+     * @throws IllegalArgumentException when no monitor of {@code config} holds a replayed stream, or
+     *     its model checksum or window grid is not the replay's
      */
     public static List<Line> alerts(Path replay, MonitorConfig config, String configPath) throws IOException {
         Path calls = replay.resolve(ReplayRunner.RULE_INPUTS);
@@ -54,8 +55,13 @@ public final class RuleRerun {
         ReplayHint hint = new ReplayHint(configPath, summary.path("input").asText(null), null);
         List<Line> out = new ArrayList<>();
         try (BufferedReader reader = Files.newBufferedReader(calls, StandardCharsets.UTF_8)) {
-            RuleInputs.rerun(reader, (stream, baseline) -> {
+            RuleInputs.rerun(reader, (stream, model, baseline) -> {
                 MonitorDefinition monitor = MonitorDefinition.ofStream(config.monitors(), stream);
+                if (!monitor.ruleInputsKey().equals(model)) {
+                    throw new IllegalArgumentException("monitor " + monitor.name() + " differs from the replay's "
+                            + "in more than its rules (replayed: " + model + "; here: " + monitor.ruleInputsKey()
+                            + "): only the rules sections may differ");
+                }
                 return new AlertEngine(stream, monitor.rules(), baseline, hint, monitor.geometry(),
                         monitor.outputs().smallCells());
             }, alert -> {
