@@ -18,6 +18,7 @@ import org.oddswatch.deploy.tune.SettingResult;
 import org.oddswatch.ingest.definition.DefinitionException;
 import org.oddswatch.ingest.definition.DefinitionLoader;
 import org.oddswatch.ingest.definition.MonitorConfig;
+import org.oddswatch.ingest.replay.ReplayRunner;
 import org.oddswatch.ingest.replay.RuleRerun;
 import picocli.CommandLine.Command;
 import picocli.CommandLine.Option;
@@ -61,7 +62,7 @@ final class TuneCommand implements Callable<Integer> {
         if (definitions.isEmpty() && tries.isEmpty()) {
             throw UserError.config("give at least one setting: --rules-from FILE or --try RULE.KEY=VALUES");
         }
-        DefinitionFile.requireFile(replay.resolve("rules-input.jsonl"), "--replay");
+        DefinitionFile.requireFile(replay.resolve(ReplayRunner.RULE_INPUTS), "--replay");
         List<Map<String, String>> grid;
         try {
             grid = new LimitGrid(tries).settings();

@@ -47,7 +47,8 @@ import org.oddswatch.ingest.pipeline.RecordOrigin;
 /**
  * Replays an event file through the same {@link MonitorPipeline} and output stage as the live
  * service, time driven by the events, into {@code estimates.jsonl} (and the same as a table, {@code estimates.csv}), {@code rejects.jsonl},
- * {@code alerts.jsonl}, {@code summary.json}, {@code report.md} and {@code report.html}; at the end of
+ * {@code alerts.jsonl}, {@code summary.json}, {@code report.md}, {@code report.html} and the alert
+ * engines' calls ({@code rules-input.jsonl}, for {@link RuleRerun}); at the end of
  * the file every window that has received events is closed. The same definition and file give
  * byte-identical output. A range ({@code --from/--to}) reports only windows with
  * {@code windowStart >= from} and {@code windowEnd <= to}, exactly as the full replay writes them:
