@@ -52,6 +52,9 @@ final class ReplayCommand implements Callable<Integer> {
     @Mixin
     ProgressOption progress;
 
+    @Option(names = "--for-tuning", description = "Also write rules-input.jsonl (every input of the alert rules, a line per event), so that `oddswatch tune` can re-run the rules with other limits without refitting. Off by default: it is large and slows the replay.")
+    boolean forTuning;
+
     @Spec
     CommandSpec spec;
 
@@ -65,7 +68,7 @@ final class ReplayCommand implements Callable<Integer> {
         ReplaySummary summary;
         if (input.file != null) {
             DefinitionFile.requireFile(input.file, "--input");
-            summary = replay(definition, new ReplayRequest(config.path, input.file, out, inputFormat, from, to, null),
+            summary = replay(definition, new ReplayRequest(config.path, input.file, out, inputFormat, from, to, null, forTuning),
                     "replay");
         } else {
             if (definition.monitorsFor(input.topic).isEmpty()) {
@@ -77,7 +80,7 @@ final class ReplayCommand implements Callable<Integer> {
                     .startMillis(from.toEpochMilli()));
             try (TopicSnapshot snapshot = TopicSnapshot.read(definition.kafka(), input.topic, readFrom)) {
                 summary = replay(definition, new ReplayRequest(config.path, snapshot.file(), out, InputFormat.JSONL, from,
-                        to, input.topic), "replay " + input.topic);
+                        to, input.topic, forTuning), "replay " + input.topic);
             }
         }
         PrintWriter w = spec.commandLine().getOut();

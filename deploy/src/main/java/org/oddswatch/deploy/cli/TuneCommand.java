@@ -62,7 +62,10 @@ final class TuneCommand implements Callable<Integer> {
         if (definitions.isEmpty() && tries.isEmpty()) {
             throw UserError.config("give at least one setting: --rules-from FILE or --try RULE.KEY=VALUES");
         }
-        DefinitionFile.requireFile(replay.resolve(ReplayRunner.RULE_INPUTS), "--replay");
+        if (!Files.isRegularFile(replay.resolve(ReplayRunner.RULE_INPUTS))) {
+            throw UserError.config("--replay: " + replay + " holds no " + ReplayRunner.RULE_INPUTS
+                    + "; make the replay with `oddswatch replay --for-tuning ...` first");
+        }
         List<Map<String, String>> grid;
         try {
             grid = new LimitGrid(tries).settings();

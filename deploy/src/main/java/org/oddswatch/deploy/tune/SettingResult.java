@@ -1,5 +1,6 @@
 package org.oddswatch.deploy.tune;
 
+import com.fasterxml.jackson.annotation.JsonIgnore;
 import java.time.Instant;
 import java.util.LinkedHashSet;
 import java.util.List;
@@ -20,10 +21,10 @@ import org.oddswatch.ingest.replay.RuleRerun;
  * @param episodes distinct episodes
  * @param after the time asked about, or null
  * @param firstRaised the first message raising an episode in a window ending at or after {@code after}, or null
- * @param millis the re-run's time in milliseconds (not part of the alerts)
+ * @param millis the re-run's time in milliseconds (printed, not written: settings.jsonl stays the same on every run)
  */
 public record SettingResult(String name, String definition, Map<String, String> changes, int messages, int episodes,
-                            Instant after, First firstRaised, long millis) {
+                            Instant after, First firstRaised, @JsonIgnore long millis) {
 
     /** An episode's first message: where and when. */
     public record First(String stream, String rule, String term, String level, Instant windowEnd, String id) {

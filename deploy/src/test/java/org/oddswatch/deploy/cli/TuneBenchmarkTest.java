@@ -40,7 +40,7 @@ class TuneBenchmarkTest {
         assertEquals(0, CommandLineTest.run("simulate", "--duration", "52w", "--out", events.toString()).status());
         Path replay = dir.resolve("replay");
         long start = System.nanoTime();
-        CommandLineTest.Result r = CommandLineTest.run("replay", "--config", definition.toString(), "--input",
+        CommandLineTest.Result r = CommandLineTest.run("replay", "--for-tuning", "--config", definition.toString(), "--input",
                 events.toString(), "--out", replay.toString());
         assertEquals(0, r.status(), r.err());
         double replaySeconds = (System.nanoTime() - start) / 1e9;

@@ -14,6 +14,7 @@ import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 import org.oddswatch.alerts.json.Json;
+import org.oddswatch.ingest.replay.ReplayRunner;
 
 /**
  * {@code oddswatch tune} against full replays: for other limits, the alerts the command re-runs from a
@@ -44,7 +45,7 @@ class TuneCommandTest {
 
     private static Path replay(Path definition, String name) {
         Path out = dir.resolve(name);
-        CommandLineTest.Result r = CommandLineTest.run("replay", "--config", definition.toString(), "--input",
+        CommandLineTest.Result r = CommandLineTest.run("replay", "--for-tuning", "--config", definition.toString(), "--input",
                 events.toString(), "--out", out.toString());
         assertEquals(0, r.status(), r.err());
         return out;
@@ -131,5 +132,18 @@ class TuneCommandTest {
                 EXAMPLE.toString(), "--try", "cusum.limit", "--out", dir.resolve("bad").toString());
         assertEquals(2, r.status());
         assertTrue(r.err().contains("RULE.KEY=VALUE"), r.err());
+    }
+
+    @Test
+    void aReplayMadeWithoutForTuningHasNoRuleInputsAndTuneSaysHowToMakeThem() {
+        Path plain = dir.resolve("plain-replay");
+        CommandLineTest.Result made = CommandLineTest.run("replay", "--config", EXAMPLE.toString(), "--input",
+                events.toString(), "--out", plain.toString());
+        assertEquals(0, made.status(), made.err());
+        assertTrue(!Files.exists(plain.resolve(ReplayRunner.RULE_INPUTS)), "rules-input.jsonl only with --for-tuning");
+        CommandLineTest.Result r = CommandLineTest.run("tune", "--replay", plain.toString(), "--rules-from",
+                EXAMPLE.toString(), "--out", dir.resolve("no-inputs").toString());
+        assertEquals(2, r.status());
+        assertTrue(r.err().contains("--for-tuning"), r.err());
     }
 }

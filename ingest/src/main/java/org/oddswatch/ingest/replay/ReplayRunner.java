@@ -104,10 +104,12 @@ public final class ReplayRunner {
                 out.resolve(REJECTS)), new CsvEstimatesSink(out.resolve(ESTIMATES_CSV)));
         ReportOutputs outputs = new ReportOutputs(request, monitors, files);
         MonitorPipeline pipeline;
-        try (files; Writer ruleInputs = Files.newBufferedWriter(out.resolve(RULE_INPUTS), StandardCharsets.UTF_8)) {
+        Files.deleteIfExists(out.resolve(RULE_INPUTS)); // never one left from an earlier replay
+        try (files; Writer ruleInputs = request.keepRuleInputs()
+                ? Files.newBufferedWriter(out.resolve(RULE_INPUTS), StandardCharsets.UTF_8) : null) {
             pipeline = new MonitorPipeline(request.input().toString(), monitors,
                     new OutputStage(monitors, monitor -> List.of(outputs)),
-                    settings.withRuleInputs(new RuleInputs(ruleInputs)));
+                    ruleInputs == null ? settings : settings.withRuleInputs(new RuleInputs(ruleInputs)));
             EventFileReader.read(request.input(), format, new PipelineFeed(pipeline), bytesRead);
             pipeline.closeAll();
         } catch (UncheckedIOException e) {

@@ -47,7 +47,7 @@ public final class RuleRerun {
         Path summaryFile = replay.resolve(ReplayRunner.SUMMARY);
         if (!Files.isRegularFile(calls) || !Files.isRegularFile(summaryFile)) {
             throw new IOException(replay + " holds no " + ReplayRunner.RULE_INPUTS + " and " + ReplayRunner.SUMMARY
-                    + " (replay it again with this version)");
+                    + " (replay it again with --for-tuning)");
         }
         JsonNode summary = Json.mapper().readTree(summaryFile.toFile());
         Instant from = instant(summary.get("from"));

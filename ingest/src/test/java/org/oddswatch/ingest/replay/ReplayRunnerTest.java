@@ -359,7 +359,7 @@ class ReplayRunnerTest {
         Instant from = START.plusMillis(7 * WEEK);
         Instant to = START.plusMillis(15 * WEEK);
         ReplaySummary ranged = ReplayRunner.run(new ReplayRequest(definition(), input, dir.resolve("range"),
-                null, from, to, null));
+                null, from, to, null, false));
         List<String> estimates = lines("range", ReplayRunner.ESTIMATES);
         List<String> alerts = lines("range", ReplayRunner.ALERTS);
         assertFalse(estimates.isEmpty());
@@ -390,7 +390,7 @@ class ReplayRunnerTest {
             Instant from = Instant.parse(args.get(args.indexOf("--from") + 1));
             Instant to = Instant.parse(args.get(args.indexOf("--to") + 1));
             assertEquals(input, file, "the command names the replayed file");
-            ReplayRunner.run(new ReplayRequest(config, file, dir.resolve("again"), null, from, to, null));
+            ReplayRunner.run(new ReplayRequest(config, file, dir.resolve("again"), null, from, to, null, false));
             assertTrue(lines("again", ReplayRunner.ALERTS).contains(alert), "reproduced by " + command);
             assertEquals(inRange("full", ReplayRunner.ALERTS, from, to), lines("again", ReplayRunner.ALERTS));
         }

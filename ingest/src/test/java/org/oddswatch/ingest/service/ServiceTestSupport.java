@@ -108,7 +108,7 @@ final class ServiceTestSupport {
             StringBuilder lines = new StringBuilder();
             events.forEach(e -> lines.append(e.text()).append('\n'));
             Files.writeString(input, lines, StandardCharsets.UTF_8);
-            ReplayRunner.run(config, new ReplayRequest(null, input, dir.resolve("out"), null, null, null, topic));
+            ReplayRunner.run(config, new ReplayRequest(null, input, dir.resolve("out"), null, null, null, topic, false));
             Map<String, String> out = new TreeMap<>();
             for (String json : Files.readAllLines(dir.resolve("out").resolve(ReplayRunner.ESTIMATES))) {
                 WindowEstimate estimate = Json.mapper().readValue(json, WindowEstimate.class);
