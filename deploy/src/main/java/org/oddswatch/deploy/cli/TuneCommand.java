@@ -12,7 +12,9 @@ import java.util.List;
 import java.util.Map;
 import java.util.concurrent.Callable;
 import org.oddswatch.alerts.json.Json;
+import org.oddswatch.alerts.report.html.ComparisonReport;
 import org.oddswatch.deploy.audit.AuditSummary;
+import org.oddswatch.deploy.tune.ComparisonData;
 import org.oddswatch.deploy.tune.LimitGrid;
 import org.oddswatch.deploy.tune.SettingResult;
 import org.oddswatch.ingest.definition.DefinitionException;
@@ -31,7 +33,8 @@ import picocli.CommandLine.Model.CommandSpec;
             + "no event is decoded and no model is fitted. Each setting (a definition given with --rules-from, or "
             + "each combination of the --try values applied to --config) gives exactly the alerts a replay of the "
             + "same input with that definition gives. Writes OUT/setting-N/alerts.jsonl per setting and "
-            + "OUT/settings.jsonl (one line per setting: messages, episodes, first episode raised after --after)."})
+            + "OUT/settings.jsonl (one line per setting: messages, episodes, first episode raised after --after) and "
+            + "OUT/comparison.html, a page comparing the settings with the replay's alerts."})
 final class TuneCommand implements Callable<Integer> {
 
     static final String SETTINGS = "settings.jsonl";
@@ -103,6 +106,10 @@ final class TuneCommand implements Callable<Integer> {
             }
         }
         w.println("wrote " + out.resolve(SETTINGS));
+        List<Path> settingAlerts = results.stream().map(r -> out.resolve(r.name()).resolve(ReplayRunner.ALERTS)).toList();
+        Path page = ComparisonReport.write(out, ComparisonData.build(replay.resolve(ReplayRunner.ALERTS), results,
+                settingAlerts, after), "oddswatch tune: " + results.size() + " settings on " + replay.getFileName());
+        w.println("comparison page: " + page);
         w.println(AuditSummary.CAUTION);
         w.flush();
         return 0;
@@ -120,7 +127,7 @@ final class TuneCommand implements Callable<Integer> {
         }
         long millis = (System.nanoTime() - start) / 1_000_000;
         Path dir = Files.createDirectories(out.resolve(name));
-        try (Writer alerts = Files.newBufferedWriter(dir.resolve("alerts.jsonl"), StandardCharsets.UTF_8)) {
+        try (Writer alerts = Files.newBufferedWriter(dir.resolve(ReplayRunner.ALERTS), StandardCharsets.UTF_8)) {
             for (RuleRerun.Line line : lines) {
                 alerts.write(line.json());
                 alerts.write('\n');

@@ -58,40 +58,16 @@ class ReplayReportBrowserTest {
 
     @Test
     void theReportDrawsEveryStreamsChartsOfflineAndLinksAlertsToThem() throws Exception {
-        Path chromium = tool("ODDSWATCH_CHROMIUM", "/usr/bin/chromium");
-        Path chromedriver = tool("ODDSWATCH_CHROMEDRIVER", "/usr/bin/chromedriver");
-        Path out = workedExample();
-        Path page = out.resolve(HtmlReport.FILE);
-        assertTrue(Files.isRegularFile(page));
-
-        ChromeDriverService service = new ChromeDriverService.Builder()
-                .usingDriverExecutable(chromedriver.toFile()).usingAnyFreePort().build();
-        ChromeOptions options = new ChromeOptions();
-        options.setBinary(chromium.toFile());
-        options.addArguments("--headless", "--no-sandbox", "--disable-gpu", "--disable-background-networking",
-                "--disable-component-update", "--disable-sync", "--no-first-run", "--disable-dev-shm-usage",
-                "--hide-scrollbars", "--force-device-scale-factor=1", "--window-size=1440,2000",
-                "--user-data-dir=" + Files.createDirectories(dir.resolve("chromium-profile")));
-        LoggingPreferences logs = new LoggingPreferences();
-        logs.enable(LogType.BROWSER, Level.ALL);
-        options.setCapability("goog:loggingPrefs", logs);
-        ChromeDriver driver = new ChromeDriver(service, options);
+        ChromeDriver driver = offlineChromium(dir);
         try {
-            // Network off: offline emulation on top of the page's own policy that allows no request.
-            ChromiumNetworkConditions offline = new ChromiumNetworkConditions();
-            offline.setOffline(true);
-            driver.setNetworkConditions(offline);
+            Path out = workedExample();
+            Path page = out.resolve(HtmlReport.FILE);
+            assertTrue(Files.isRegularFile(page));
             driver.get(page.toUri().toString());
             waitUntilReady(driver);
             JavascriptExecutor js = driver;
 
-            List<String> severe = new ArrayList<>();
-            for (LogEntry entry : driver.manage().logs().get(LogType.BROWSER)) {
-                if (entry.getLevel().intValue() >= Level.SEVERE.intValue()) {
-                    severe.add(entry.getMessage());
-                }
-            }
-            assertEquals(List.of(), severe, "script errors or blocked requests in the console");
+            assertEquals(List.of(), severe(driver), "script errors or blocked requests in the console");
             assertEquals(0L, js.executeScript("return performance.getEntriesByType('resource').length;"),
                     "the page requested nothing");
 
@@ -161,6 +137,42 @@ class ReplayReportBrowserTest {
         } finally {
             driver.quit();
         }
+    }
+
+    /**
+     * Headless Chromium with the network off (offline emulation on top of the page's own policy that
+     * allows no request) and the browser console recorded; skips where Chromium is absent.
+     */
+    static ChromeDriver offlineChromium(Path dir) throws IOException {
+        Path chromium = tool("ODDSWATCH_CHROMIUM", "/usr/bin/chromium");
+        Path chromedriver = tool("ODDSWATCH_CHROMEDRIVER", "/usr/bin/chromedriver");
+        ChromeDriverService service = new ChromeDriverService.Builder()
+                .usingDriverExecutable(chromedriver.toFile()).usingAnyFreePort().build();
+        ChromeOptions options = new ChromeOptions();
+        options.setBinary(chromium.toFile());
+        options.addArguments("--headless", "--no-sandbox", "--disable-gpu", "--disable-background-networking",
+                "--disable-component-update", "--disable-sync", "--no-first-run", "--disable-dev-shm-usage",
+                "--hide-scrollbars", "--force-device-scale-factor=1", "--window-size=1440,2000",
+                "--user-data-dir=" + Files.createDirectories(dir.resolve("chromium-profile")));
+        LoggingPreferences logs = new LoggingPreferences();
+        logs.enable(LogType.BROWSER, Level.ALL);
+        options.setCapability("goog:loggingPrefs", logs);
+        ChromeDriver driver = new ChromeDriver(service, options);
+        ChromiumNetworkConditions offline = new ChromiumNetworkConditions();
+        offline.setOffline(true);
+        driver.setNetworkConditions(offline);
+        return driver;
+    }
+
+    /** The console's severe entries: script errors and blocked requests. */
+    static List<String> severe(ChromeDriver driver) {
+        List<String> severe = new ArrayList<>();
+        for (LogEntry entry : driver.manage().logs().get(LogType.BROWSER)) {
+            if (entry.getLevel().intValue() >= Level.SEVERE.intValue()) {
+                severe.add(entry.getMessage());
+            }
+        }
+        return severe;
     }
 
     /** Per chart: stream, key, canvas size and per dataset its role, label, points and drawn elements. */
@@ -264,7 +276,7 @@ class ReplayReportBrowserTest {
         assertEquals(0, status, String.join(" ", args) + ": " + err);
     }
 
-    private static void waitUntilReady(ChromeDriver driver) throws InterruptedException {
+    static void waitUntilReady(ChromeDriver driver) throws InterruptedException {
         long deadline = System.nanoTime() + Duration.ofSeconds(30).toNanos();
         while (System.nanoTime() < deadline) {
             Object ready = driver.executeScript("return document.body && document.body.getAttribute('data-ready');");

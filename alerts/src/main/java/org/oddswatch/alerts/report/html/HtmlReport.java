@@ -37,7 +37,7 @@ public final class HtmlReport {
     public static final String FILE = "report.html";
 
     private static final String TEMPLATE = resource("report.html");
-    private static final String STYLE = resource("report.css");
+    static final String STYLE = resource("report.css");
     private static final String SCRIPT = resource("report.js");
     private static final Pattern PLACEHOLDER = Pattern.compile("\\{\\{(\\w+)}}");
 
@@ -81,13 +81,13 @@ public final class HtmlReport {
                 "chartjs", ChartLibrary.SCRIPT,
                 "script", SCRIPT,
                 "data", data);
-        return fill(parts);
+        return fill(TEMPLATE, parts);
     }
 
-    /** Replaces each {@code {{name}}} of the template in one pass (inserted text is never re-read). */
-    private static String fill(Map<String, String> parts) {
-        Matcher m = PLACEHOLDER.matcher(TEMPLATE);
-        StringBuilder b = new StringBuilder(TEMPLATE.length() + parts.values().stream().mapToInt(String::length).sum());
+    /** Replaces each {@code {{name}}} of {@code template} in one pass (inserted text is never re-read). */
+    static String fill(String template, Map<String, String> parts) {
+        Matcher m = PLACEHOLDER.matcher(template);
+        StringBuilder b = new StringBuilder(template.length() + parts.values().stream().mapToInt(String::length).sum());
         while (m.find()) {
             String part = parts.get(m.group(1));
             if (part == null) {
@@ -99,7 +99,7 @@ public final class HtmlReport {
         return b.toString();
     }
 
-    private static String resource(String name) {
+    static String resource(String name) {
         try (InputStream in = HtmlReport.class.getResourceAsStream(name)) {
             if (in == null) {
                 throw new IllegalStateException("missing resource " + name);
