@@ -8,7 +8,6 @@ import java.io.IOException;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
-import java.nio.file.StandardCopyOption;
 import java.util.ArrayList;
 import java.util.Collections;
 import java.util.List;
@@ -22,7 +21,6 @@ import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.report.html.ComparisonReport;
 import org.oddswatch.ingest.replay.ReplayRunner;
 import org.openqa.selenium.By;
-import org.openqa.selenium.OutputType;
 import org.openqa.selenium.WebElement;
 import org.openqa.selenium.chrome.ChromeDriver;
 
@@ -113,10 +111,7 @@ class ComparisonPageBrowserTest {
             assertTrue(driver.findElement(By.cssSelector(".caution")).getText().contains("not a diagnosis or proof of cause"));
 
             driver.executeScript("window.scrollTo(0, 0);");
-            Path shot = Path.of("target", "comparison-screenshot.png");
-            Files.createDirectories(shot.getParent());
-            Files.copy(driver.getScreenshotAs(OutputType.FILE).toPath(), shot, StandardCopyOption.REPLACE_EXISTING);
-            assertTrue(Files.size(shot) > 10_000, "screenshot written");
+            ReplayReportBrowserTest.screenshot(driver, "comparison-screenshot.png");
         } finally {
             driver.quit();
         }

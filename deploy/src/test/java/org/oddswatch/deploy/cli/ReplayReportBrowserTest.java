@@ -130,10 +130,7 @@ class ReplayReportBrowserTest {
                     + " var t = document.querySelector('.table-wrap'); t.scrollTop = 0; t.scrollLeft = 0;");
             new org.openqa.selenium.interactions.Actions(driver).moveToElement(driver.findElement(By.tagName("h1")))
                     .perform();
-            Path shot = Path.of("target", "report-screenshot.png");
-            Files.createDirectories(shot.getParent());
-            Files.copy(driver.getScreenshotAs(OutputType.FILE).toPath(), shot, StandardCopyOption.REPLACE_EXISTING);
-            assertTrue(Files.size(shot) > 10_000, "screenshot written");
+            screenshot(driver, "report-screenshot.png");
         } finally {
             driver.quit();
         }
@@ -162,6 +159,14 @@ class ReplayReportBrowserTest {
         offline.setOffline(true);
         driver.setNetworkConditions(offline);
         return driver;
+    }
+
+    /** Saves the visible page as {@code target/NAME}. */
+    static void screenshot(ChromeDriver driver, String name) throws IOException {
+        Path shot = Path.of("target", name);
+        Files.createDirectories(shot.getParent());
+        Files.copy(driver.getScreenshotAs(OutputType.FILE).toPath(), shot, StandardCopyOption.REPLACE_EXISTING);
+        assertTrue(Files.size(shot) > 10_000, "screenshot written");
     }
 
     /** The console's severe entries: script errors and blocked requests. */

@@ -36,7 +36,7 @@ public final class ComparisonReport {
                 "caution", Html.escape(AlertText.CAUTION),
                 "library", Html.escape("Chart.js " + ChartLibrary.VERSION),
                 "style", HtmlReport.STYLE,
-                "chartjs", ChartLibrary.SCRIPT,
+                "chartjs", HtmlReport.CHARTS,
                 "script", SCRIPT,
                 "data", ScriptSafeJson.write(data));
         try {

@@ -39,6 +39,8 @@ public final class HtmlReport {
     private static final String TEMPLATE = resource("report.html");
     static final String STYLE = resource("report.css");
     private static final String SCRIPT = resource("report.js");
+    /** Chart.js followed by the chart look both pages share. */
+    static final String CHARTS = ChartLibrary.SCRIPT + "\n" + resource("chart-look.js");
     private static final Pattern PLACEHOLDER = Pattern.compile("\\{\\{(\\w+)}}");
 
     private HtmlReport() {
@@ -78,7 +80,7 @@ public final class HtmlReport {
                         + " local disclosure rules govern)."),
                 "library", Html.escape("Chart.js " + ChartLibrary.VERSION),
                 "style", STYLE,
-                "chartjs", ChartLibrary.SCRIPT,
+                "chartjs", CHARTS,
                 "script", SCRIPT,
                 "data", data);
         return fill(TEMPLATE, parts);

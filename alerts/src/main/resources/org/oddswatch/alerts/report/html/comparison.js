@@ -3,13 +3,6 @@
   'use strict';
   var data = JSON.parse(document.getElementById('oddswatch-data').textContent);
   var RULES = ['#2b7a78', '#b4532a', '#a86b16', '#7b4b7e', '#55773a', '#3f6ea5', '#9b2f45', '#5d6b75'];
-  Chart.defaults.animation = false;
-  Chart.defaults.maintainAspectRatio = false;
-  Chart.defaults.color = '#22313b';
-  Chart.defaults.borderColor = '#ebe6dc';
-  Chart.defaults.font.family = 'system-ui, -apple-system, "Segoe UI", Roboto, "Noto Sans", sans-serif';
-  Chart.defaults.font.size = 12;
-
   function el(tag, cls, text) {
     var e = document.createElement(tag);
     if (cls) { e.className = cls; }

@@ -15,13 +15,6 @@
     cleared: { color: C.moss, style: 'rectRot', radius: 7, label: 'cleared' }
   };
 
-  Chart.defaults.animation = false;
-  Chart.defaults.maintainAspectRatio = false;
-  Chart.defaults.color = C.ink;
-  Chart.defaults.borderColor = C.grid;
-  Chart.defaults.font.family = 'system-ui, -apple-system, "Segoe UI", Roboto, "Noto Sans", sans-serif';
-  Chart.defaults.font.size = 12;
-
   function el(tag, cls, text) {
     var e = document.createElement(tag);
     if (cls) { e.className = cls; }
