@@ -32,10 +32,10 @@ public final class ComparisonReport {
     public static Path write(Path dir, JsonNode data, String title) {
         Path file = dir.resolve(FILE);
         Map<String, String> parts = Map.of(
+                "head", HtmlReport.head(title, "oddswatch tune"),
                 "title", Html.escape(title),
                 "caution", Html.escape(AlertText.CAUTION),
                 "library", Html.escape("Chart.js " + ChartLibrary.VERSION),
-                "style", HtmlReport.STYLE,
                 "chartjs", HtmlReport.CHARTS,
                 "script", SCRIPT,
                 "data", ScriptSafeJson.write(data));

@@ -37,7 +37,8 @@ public final class HtmlReport {
     public static final String FILE = "report.html";
 
     private static final String TEMPLATE = resource("report.html");
-    static final String STYLE = resource("report.css");
+    private static final String HEAD = resource("page-head.html");
+    private static final String STYLE = resource("report.css");
     private static final String SCRIPT = resource("report.js");
     /** Chart.js followed by the chart look both pages share. */
     static final String CHARTS = ChartLibrary.SCRIPT + "\n" + resource("chart-look.js");
@@ -73,17 +74,22 @@ public final class HtmlReport {
         int withholdBelow = options.cells().limit();
         String data = ScriptSafeJson.write(ReportData.build(estimates, alerts, shownTitle, options));
         Map<String, String> parts = Map.of(
+                "head", head(shownTitle, "oddswatch replay"),
                 "title", Html.escape(shownTitle),
                 "caution", Html.escape(AlertText.CAUTION),
                 "withheld", Html.escape("Counts from 1 to " + (withholdBelow - 1)
                         + ", and figures resting on them, are withheld and not charted (small-cell rule;"
                         + " local disclosure rules govern)."),
                 "library", Html.escape("Chart.js " + ChartLibrary.VERSION),
-                "style", STYLE,
                 "chartjs", CHARTS,
                 "script", SCRIPT,
                 "data", data);
         return fill(TEMPLATE, parts);
+    }
+
+    /** The pages' shared head (doctype to {@code </head>}: the policy allowing no request, title, styles). */
+    static String head(String title, String generator) {
+        return fill(HEAD, Map.of("title", Html.escape(title), "generator", Html.escape(generator), "style", STYLE));
     }
 
     /** Replaces each {@code {{name}}} of {@code template} in one pass (inserted text is never re-read). */
