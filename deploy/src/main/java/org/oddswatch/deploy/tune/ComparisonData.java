@@ -21,8 +21,8 @@ import org.oddswatch.alerts.json.Json;
  * The data of {@code comparison.html}: the settings' summaries, their alert messages counted by rule,
  * and per setting the episodes it raises, each marked {@code added} when the base replay's alerts
  * do not raise it, with the base replay's episodes the setting lacks marked {@code removed}. An
- * episode is matched by stream, rule, subject ({@code term} or {@code term=level}) and the end of the
- * window its {@code raised} message is in.
+ * episode is matched by stream, rule, subject ({@code term} or {@code term=level}, with the measure in
+ * brackets where the alert names one) and the end of the window its {@code raised} message is in.
  */
 public final class ComparisonData {
 
@@ -98,7 +98,9 @@ public final class ComparisonData {
             if ("raised".equals(a.get("state").asText())) {
                 JsonNode s = a.get("subject");
                 out.add(new Raised(a.get("stream").asText(), a.get("rule").asText(),
-                        subject(s.path("term").asText(null), s.path("level").asText(null)), a.get("windowEnd").asText()));
+                        subject(s.path("term").asText(null), s.path("level").asText(null))
+                                + (a.hasNonNull("measure") ? " (" + a.get("measure").asText() + ")" : ""),
+                        a.get("windowEnd").asText()));
             }
         }
         return out;

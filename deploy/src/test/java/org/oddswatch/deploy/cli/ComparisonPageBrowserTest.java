@@ -135,7 +135,8 @@ class ComparisonPageBrowserTest {
             if ("raised".equals(a.get("state").asText())) {
                 JsonNode s = a.get("subject");
                 out.add(a.get("stream").asText() + " " + a.get("rule").asText() + " " + s.get("term").asText()
-                        + (s.hasNonNull("level") ? "=" + s.get("level").asText() : "") + " " + a.get("windowEnd").asText());
+                        + (s.hasNonNull("level") ? "=" + s.get("level").asText() : "")
+                        + (a.hasNonNull("measure") ? " (" + a.get("measure").asText() + ")" : "") + " " + a.get("windowEnd").asText());
             }
         }
         return out;
