@@ -32,6 +32,8 @@ public final class OddswatchMeters {
     public static final String RECORDS = "oddswatch.records";
     public static final String WEBHOOK_ATTEMPTS = "oddswatch.webhook.attempts";
     public static final String WEBHOOK_FAILURES = "oddswatch.webhook.failures";
+    /** Lines the live service could not append to an {@code outputs.estimatesFile} (tag {@code monitor}). */
+    public static final String FILE_FAILURES = "oddswatch.output.file.failures";
 
     /** Tag value for an absent level, reason or stream. */
     public static final String NONE = "none";

@@ -13,6 +13,7 @@ import java.util.Map;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.estimator.result.WindowStatus;
+import org.oddswatch.alerts.metrics.OddswatchMeters;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
@@ -40,6 +41,8 @@ public final class JsonLinesSink implements OutputSink {
     private final Path rejects;
     private final boolean live;
     private final Map<Path, Writer> writers = new LinkedHashMap<>();
+    /** Lines a live sink could not append (each also logged at ERROR). */
+    private final java.util.concurrent.atomic.AtomicLong failedLines = new java.util.concurrent.atomic.AtomicLong();
 
     private JsonLinesSink(Path estimates, Path alerts, Path rejects, boolean live) {
         this.estimates = estimates;
@@ -98,9 +101,21 @@ public final class JsonLinesSink implements OutputSink {
             if (!live) {
                 throw new UncheckedIOException(e);
             }
+            failedLines.incrementAndGet();
             LOG.error("could not append to {} ({}); this line is only on the topic", file, e.toString());
             closeQuietly(writers.remove(file));
         }
+    }
+
+    /**
+     * Registers {@link OddswatchMeters#FILE_FAILURES} for this live sink: the lines it could not
+     * append, so a file that stopped taking estimates shows on {@code /metrics}, not only in the log.
+     */
+    public void bindFailures(io.micrometer.core.instrument.MeterRegistry registry, String monitor) {
+        io.micrometer.core.instrument.FunctionCounter.builder(OddswatchMeters.FILE_FAILURES, failedLines,
+                java.util.concurrent.atomic.AtomicLong::get)
+                .description("Lines that could not be appended to an estimates file").tags("monitor", monitor)
+                .register(registry);
     }
 
     private static Writer open(Path file) throws IOException {

@@ -17,7 +17,7 @@ import org.oddswatch.alerts.engine.AlertRulesConfig;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.output.WebhookSink;
 
-/** A Prometheus registry fed, through the binders, with one stream's estimates, alerts, CUSUM, fits, records and webhook counts. */
+/** A Prometheus registry fed, through the binders, with one stream's estimates, alerts, CUSUM, fits, records and webhook counts, and an estimates file's failed lines. */
 final class MeterScrape {
 
     /** One parsed sample line: series name, labels, value. */
@@ -41,6 +41,8 @@ final class MeterScrape {
             binder.bindTo(registry);
         }
         webhook.close();
+        org.oddswatch.alerts.output.JsonLinesSink.appendingEstimates(java.nio.file.Path.of("estimates.jsonl"))
+                .bindFailures(registry, "monitor");
         AlertEngine engine = new AlertEngine(Fixtures.STREAM, AlertRulesConfig.defaults(), Fixtures.baseline(), null);
         var w = Fixtures.window(0, Math.log(4.0), 0.15, Fixtures.fit(org.oddswatch.estimator.fit.FitState.CONVERGED,
                 org.oddswatch.estimator.fit.FitMethod.NEWTON, 2000), Fixtures.calibration(1.1, 0.9, 1.3, 0.95, 0.1, 0.4));

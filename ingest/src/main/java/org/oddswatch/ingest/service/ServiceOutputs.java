@@ -46,7 +46,12 @@ final class ServiceOutputs implements AutoCloseable {
             if (file != null) {
                 Path dir = monitor.definitionDir();
                 Path path = (dir == null ? Path.of(file) : dir.resolve(file)).toAbsolutePath().normalize();
-                sinks.add(files.computeIfAbsent(path, JsonLinesSink::appendingEstimates));
+                OutputSink sink = files.computeIfAbsent(path, p -> {
+                    JsonLinesSink created = JsonLinesSink.appendingEstimates(p);
+                    created.bindFailures(registry, monitor.name());
+                    return created;
+                });
+                sinks.add(sink);
             }
             return sinks;
         });

@@ -18,6 +18,7 @@ import java.util.TreeMap;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.extension.RegisterExtension;
 import org.junit.jupiter.api.io.TempDir;
+import org.oddswatch.alerts.metrics.OddswatchMeters;
 import org.oddswatch.broker.EmbeddedBrokerExtension;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.pipeline.Outcome;
@@ -56,12 +57,14 @@ class ServiceEstimatesFileTest {
     }
 
     /** Runs one service until it has committed everything on the input topic, then stops it cleanly. */
-    private static void runUntilCaughtUp(MonitorConfig config, String prefix, long accepted) {
-        try (MonitorService service = new MonitorService(config, new SimpleMeterRegistry(), prefix).start()) {
+    private static SimpleMeterRegistry runUntilCaughtUp(MonitorConfig config, String prefix, long accepted) {
+        SimpleMeterRegistry registry = new SimpleMeterRegistry();
+        try (MonitorService service = new MonitorService(config, registry, prefix).start()) {
             ServiceTestSupport.awaitCommitted(KAFKA, prefix + "-group", prefix + "-tests", WAIT);
             assertNull(service.failure());
             assertEquals(accepted, service.status().counts().outcome(Outcome.ACCEPTED), "every event accepted");
         }
+        return registry;
     }
 
     /** The file's lines by estimate key; fails on a line that is not a final estimate or on a repeated key. */
@@ -124,9 +127,12 @@ class ServiceEstimatesFileTest {
         MonitorConfig config = config(prefix, notAFolder.resolve("estimates.jsonl"));
         List<TestFeed.Event> events = sparse(300, Instant.parse("2026-01-05T00:00:00Z"), Duration.ofDays(60));
         ServiceTestSupport.produce(KAFKA, prefix + "-tests", events, true, true);
-        runUntilCaughtUp(config, prefix, events.size());
-        assertFalse(ServiceTestSupport.finals(KAFKA, prefix + "-estimates").isEmpty(),
-                "the estimates still reach the topic");
+        SimpleMeterRegistry registry = runUntilCaughtUp(config, prefix, events.size());
+        int finals = ServiceTestSupport.finals(KAFKA, prefix + "-estimates").size();
+        assertTrue(finals > 0, "the estimates still reach the topic");
+        // not only in the log: every line the file did not take is counted on /metrics
+        assertEquals(finals, registry.get(OddswatchMeters.FILE_FAILURES).tag("monitor", "resp").functionCounter().count(),
+                "one counted failure per final estimate the file did not take");
         assertEquals("x", Files.readString(notAFolder));
     }
 }
