@@ -72,6 +72,9 @@ final class AuditCommand implements Callable<Integer> {
         if (from != null && to != null && from.isAfter(to)) {
             throw UserError.config("--from must not lie after --to");
         }
+        if (sent.file != null && (kafka.bootstrap != null || !kafka.properties.isEmpty())) {
+            throw UserError.config("--bootstrap and --kafka apply only with --sent-topic, not with --sent FILE");
+        }
         Path replayAlerts = DefinitionFile.requireFile(replay.resolve("alerts.jsonl"), "--replay");
         Path summary = DefinitionFile.requireFile(replay.resolve("summary.json"), "--replay");
         AlertLog replayed = AlertLog.read(replayAlerts, replayAlerts.toString(), from, to);

@@ -205,4 +205,16 @@ class AuditCommandTest {
         assertEquals(List.of("oddswatch audit: --replay: " + broken.resolve("summary.json") + " is not a replay summary"),
                 b.errLines());
     }
+
+    @Test
+    void kafkaOptionsWithASentFileAreAUsageError() {
+        CommandLineTest.Result r = CommandLineTest.run("audit", "--sent", replay.resolve("alerts.jsonl").toString(),
+                "--bootstrap", "localhost:1", "--replay", replay.toString());
+        assertEquals(2, r.status(), r.out() + r.err());
+        assertEquals(List.of("oddswatch audit: --bootstrap and --kafka apply only with --sent-topic, not with --sent FILE"),
+                r.errLines());
+        CommandLineTest.Result alone = CommandLineTest.run("audit", "--sent", replay.resolve("alerts.jsonl").toString(),
+                "--replay", replay.toString());
+        assertEquals(0, alone.status(), alone.out() + alone.err());
+    }
 }
