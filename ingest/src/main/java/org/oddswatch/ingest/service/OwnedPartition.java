@@ -22,7 +22,7 @@ final class OwnedPartition {
 
     private static final Logger LOG = LoggerFactory.getLogger(OwnedPartition.class);
     /** Reason code of records the pipeline failed on. */
-    static final String PIPELINE_ERROR = "pipeline-error";
+    private static final String PIPELINE_ERROR = "pipeline-error";
     /** The value of a record without one (a tombstone): read as empty, so it is rejected as such. */
     private static final byte[] NO_BYTES = new byte[0];
 
