@@ -31,7 +31,8 @@ import org.slf4j.LoggerFactory;
 
 /**
  * Plans the rebuild of newly assigned partitions, the steps of ingest/KAFKA.md "State rebuild": the
- * committed offset {@code C}, the timestamp {@code T} of the record there, a seek to the first offset
+ * committed offset {@code C} (none: the beginning, or the end with {@code auto.offset.reset=latest}),
+ * the timestamp {@code T} of the record there (before it, at the end), a seek to the first offset
  * at or after {@link RebuildSpan#startMillis}{@code (T)}, and a re-read up to {@code C} with output
  * suppressed; before it each pipeline gets its monitors' published alerts (open episodes go on) and
  * the CUSUM values published with the final estimates. Every look-up is made before any state
