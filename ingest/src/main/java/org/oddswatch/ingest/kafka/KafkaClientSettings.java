@@ -28,12 +28,11 @@ public final class KafkaClientSettings {
     }
 
     /**
-     * The service's group consumer: no auto-commit (offsets are committed after outputs are stored),
-     * {@code auto.offset.reset=earliest} and {@code isolation.level=read_committed} unless given, the
-     * cooperative-sticky assignor with the classic group protocol, and, unless given, fetches large
-     * enough that the next one arrives while a poll's records are applied (measured in
-     * {@code IngestThroughputBenchmarkTest}): 50,000 records a poll (about 30 MB of heap), 4 MiB per
-     * partition, and the socket receive buffer left to the operating system ({@code -1}).
+     * The service's group consumer: no auto-commit (offsets are committed after outputs are stored);
+     * the cooperative-sticky assignor with the classic group protocol; unless given,
+     * {@code auto.offset.reset=earliest}, {@code isolation.level=read_committed}, and fetches large
+     * enough that the next arrives while a poll's records are applied: 50,000 records a poll (about
+     * 30 MB of heap), 4 MiB per partition, the socket receive buffer left to the system ({@code -1}).
      */
     public Properties consumer(String groupId, String clientId) {
         Properties props = base(clientId);
@@ -61,10 +60,9 @@ public final class KafkaClientSettings {
     }
 
     /**
-     * The idempotent output producer: {@code enable.idempotence=true}, {@code acks=all}; unless given,
-     * {@code linger.ms=10}, no compression, and an unlimited {@code delivery.timeout.ms}, so an output
-     * waits out a broker outage in order instead of expiring (input is paused meanwhile, so what
-     * waits is bounded).
+     * The idempotent output producer, {@code acks=all}; unless given, {@code linger.ms=10}, no
+     * compression, and an unlimited {@code delivery.timeout.ms}, so an output waits out a broker
+     * outage in order instead of expiring (input is paused meanwhile, so what waits is bounded).
      */
     public Properties producer(String clientId) {
         Properties props = base(clientId);

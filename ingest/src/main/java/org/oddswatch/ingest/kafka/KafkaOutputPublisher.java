@@ -38,20 +38,17 @@ import org.slf4j.LoggerFactory;
 
 /**
  * Sends the {@link OutputStage}'s outputs, with its keys, to their monitor's
- * {@code outputs.estimatesTopic}, {@code alertsTopic} and {@code rejectsTopic} (rejects as the
- * message cut to fit) through one idempotent producer. Sends are asynchronous and never throw;
- * sending and {@link #awaitStored} belong to one thread. A failure is one of two kinds:
- * <ul>
- *   <li>the broker refuses the record for what it is (too large, invalid): logged by topic and key,
- *       counted ({@link #refused()}) and skipped, since it would fail on every try;</li>
- *   <li>any other (timeout, missing topic, authorization): the output is lost, {@link #storeFailure()}
- *       names it, and the caller must produce the outputs since its last commit again.</li>
- * </ul>
+ * {@code outputs.estimatesTopic}, {@code alertsTopic} and {@code rejectsTopic} through one
+ * idempotent producer. Sends are asynchronous and never throw; sending and {@link #awaitStored}
+ * belong to one thread. A record the broker refuses for what it is (too large, invalid) is logged by
+ * topic and key, counted ({@link #refused()}) and skipped, since it would fail on every try; any
+ * other failure (timeout, missing topic, authorization) loses the output: {@link #storeFailure()}
+ * names it, and the caller must produce the outputs since its last commit again.
  */
 public final class KafkaOutputPublisher implements OutputSink {
 
     private static final Logger LOG = LoggerFactory.getLogger(KafkaOutputPublisher.class);
-    /** Most bytes of a rejected record's value copied into its reject message. */
+    /** {@link OutputStage#REJECT_VALUE_LIMIT}. */
     public static final int REJECT_VALUE_LIMIT = OutputStage.REJECT_VALUE_LIMIT;
 
     private final Producer<String, byte[]> producer;

@@ -7,7 +7,6 @@ import com.fasterxml.jackson.databind.node.ObjectNode;
 import com.fasterxml.jackson.dataformat.csv.CsvMapper;
 import com.fasterxml.jackson.dataformat.csv.CsvParser;
 import java.io.ByteArrayOutputStream;
-import java.io.FilterInputStream;
 import java.io.IOException;
 import java.io.InputStream;
 import java.nio.charset.StandardCharsets;
@@ -41,6 +40,7 @@ public final class EventFileReader {
             .readerFor(String[].class);
 
     private final InputStream in;
+    private final LongConsumer bytesRead;
     private final byte[] chunk = new byte[1 << 16];
     private final ByteArrayOutputStream buffer = new ByteArrayOutputStream(256);
     /** Lines to be read again, in order. */
@@ -50,8 +50,9 @@ public final class EventFileReader {
     /** The number of the line last read. */
     private long number;
 
-    private EventFileReader(InputStream in) {
+    private EventFileReader(InputStream in, LongConsumer bytesRead) {
         this.in = in;
+        this.bytesRead = bytesRead;
     }
 
     public static void read(Path file, InputFormat format, RecordSink sink) throws IOException {
@@ -60,8 +61,8 @@ public final class EventFileReader {
 
     /** As {@link #read(Path, InputFormat, RecordSink)}, telling {@code bytesRead} each chunk read (progress). */
     public static void read(Path file, InputFormat format, RecordSink sink, LongConsumer bytesRead) throws IOException {
-        try (InputStream in = counting(Files.newInputStream(file), bytesRead)) {
-            EventFileReader lines = new EventFileReader(in);
+        try (InputStream in = Files.newInputStream(file)) {
+            EventFileReader lines = new EventFileReader(in, bytesRead);
             if (format == InputFormat.CSV) {
                 lines.readCsv(sink);
                 return;
@@ -72,19 +73,6 @@ public final class EventFileReader {
                 }
             }
         }
-    }
-
-    private static InputStream counting(InputStream in, LongConsumer bytesRead) {
-        return new FilterInputStream(in) {
-            @Override
-            public int read(byte[] b, int off, int len) throws IOException {
-                int n = super.read(b, off, len);
-                if (n > 0) {
-                    bytesRead.accept(n);
-                }
-                return n;
-            }
-        };
     }
 
     private void readCsv(RecordSink sink) throws IOException {
@@ -221,6 +209,7 @@ public final class EventFileReader {
                 if (limit == 0) {
                     return buffer.size() == 0 ? null : line();
                 }
+                bytesRead.accept(limit);
             }
             int start = position;
             while (position < limit && chunk[position] != '\n') {

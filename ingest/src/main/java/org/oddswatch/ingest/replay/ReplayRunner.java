@@ -10,14 +10,12 @@ import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Instant;
 import java.util.ArrayList;
-import java.util.HashMap;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Locale;
 import java.util.Map;
 import java.util.function.LongConsumer;
 import java.util.stream.Collectors;
-import org.oddswatch.alerts.engine.AlertRulesConfig;
 import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.alerts.engine.RuleInputs;
 import org.oddswatch.alerts.json.Json;
@@ -26,7 +24,6 @@ import org.oddswatch.alerts.output.CsvEstimatesSink;
 import org.oddswatch.alerts.output.JsonLinesSink;
 import org.oddswatch.alerts.output.OutputSink;
 import org.oddswatch.alerts.output.Published;
-import org.oddswatch.alerts.privacy.PublishedEstimate;
 import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.alerts.report.ReplayReport;
 import org.oddswatch.alerts.report.html.HtmlReport;
@@ -46,14 +43,11 @@ import org.oddswatch.ingest.pipeline.RecordOrigin;
 
 /**
  * Replays an event file through the same {@link MonitorPipeline} and output stage as the live
- * service, time driven by the events, into {@code estimates.jsonl} (and the same as a table, {@code estimates.csv}), {@code rejects.jsonl},
- * {@code alerts.jsonl}, {@code summary.json}, {@code report.md}, {@code report.html} and the alert
- * engines' calls ({@code rules-input.jsonl}, for {@link RuleRerun}); at the end of
- * the file every window that has received events is closed. The same definition and file give
- * byte-identical output. A range ({@code --from/--to}) reports only windows with
- * {@code windowStart >= from} and {@code windowEnd <= to}, exactly as the full replay writes them:
- * the whole file is still fed, because a window's results depend on events outside it
- * (ingest/README.md, "Range"). Rejects and counts cover the whole file.
+ * service, time driven by the events, into the replay folder's files (ingest/README.md, "Replay");
+ * at the end of the file every window that has received events is closed. The same definition and
+ * file give byte-identical output. A range ({@code --from/--to}) reports only windows with
+ * {@code windowStart >= from} and {@code windowEnd <= to}, exactly as the full replay writes them;
+ * rejects and counts cover the whole file.
  */
 public final class ReplayRunner {
 
@@ -126,16 +120,14 @@ public final class ReplayRunner {
                 + monitors.stream().map(MonitorDefinition::name).collect(Collectors.joining(", ")) + ")";
         ReplayReport.write(request.out(), outputs.estimates, outputs.alerts, summary.gaps(), title, cells);
         HtmlReport.write(request.out(), outputs.estimates, outputs.alerts, title, ReportOptions.withholding(cells)
-                .withRejects(outputs.rejectMarks).withRules(stream -> rules(monitors, stream)));
+                .withRejects(outputs.rejectMarks).withRules(stream -> monitors.stream().filter(m -> m.owns(stream))
+                        .findFirst().map(MonitorDefinition::rules).orElse(null)));
         return summary;
     }
 
-    private static AlertRulesConfig rules(List<MonitorDefinition> monitors, String stream) {
-        try {
-            return MonitorDefinition.ofStream(monitors, stream).rules();
-        } catch (IllegalArgumentException e) {
-            return null;
-        }
+    /** True for a window starting at or after {@code from} and ending at or before {@code to} (null: open). */
+    static boolean inRange(Instant from, Instant to, Instant windowStart, Instant windowEnd) {
+        return (from == null || !windowStart.isBefore(from)) && (to == null || !windowEnd.isAfter(to));
     }
 
     private static ReplaySummary summary(ReplayRequest request, InputFormat format, PipelineSnapshot snapshot,
@@ -184,10 +176,11 @@ public final class ReplayRunner {
     private static final class ReportOutputs implements OutputSink {
         private final Instant from;
         private final Instant to;
-        private final Map<String, MonitorDefinition> monitors = new HashMap<>();
+        private final Map<String, MonitorDefinition> monitors;
         private final OutputSink files;
         final List<WindowEstimate> estimates = new ArrayList<>();
         final List<Alert> alerts = new ArrayList<>();
+        /** Per stream, its first and last estimate in the range. */
         final Map<String, WindowEstimate[]> windowSpan = new LinkedHashMap<>();
         final List<RejectMark> rejectMarks = new ArrayList<>();
         long rejects;
@@ -195,18 +188,13 @@ public final class ReplayRunner {
         ReportOutputs(ReplayRequest request, List<MonitorDefinition> monitors, OutputSink files) {
             this.from = request.from();
             this.to = request.to();
-            monitors.forEach(monitor -> this.monitors.put(monitor.name(), monitor));
+            this.monitors = monitors.stream().collect(Collectors.toMap(MonitorDefinition::name, m -> m, (a, b) -> b));
             this.files = files;
-        }
-
-        /** True for a window starting at or after {@code from} and ending at or before {@code to}. */
-        private boolean inRange(Instant windowStart, Instant windowEnd) {
-            return (from == null || !windowStart.isBefore(from)) && (to == null || !windowEnd.isAfter(to));
         }
 
         @Override
         public void estimate(WindowEstimate estimate, Published published) {
-            if (inRange(estimate.windowStart(), estimate.windowEnd())) {
+            if (inRange(from, to, estimate.windowStart(), estimate.windowEnd())) {
                 estimates.add(estimate);
                 windowSpan.computeIfAbsent(estimate.stream(), s -> new WindowEstimate[] {estimate, estimate})[1] = estimate;
                 files.estimate(estimate, published);
@@ -215,7 +203,7 @@ public final class ReplayRunner {
 
         @Override
         public void alert(Alert alert, Published published) {
-            if (inRange(alert.windowStart(), alert.windowEnd())) {
+            if (inRange(from, to, alert.windowStart(), alert.windowEnd())) {
                 alerts.add(alert);
                 files.alert(alert, published);
             }

@@ -65,7 +65,7 @@ public final class RuleRerun {
                 return new AlertEngine(stream, monitor.rules(), baseline, hint, monitor.geometry(),
                         monitor.outputs().smallCells());
             }, alert -> {
-                if ((from == null || !alert.windowStart().isBefore(from)) && (to == null || !alert.windowEnd().isAfter(to))) {
+                if (ReplayRunner.inRange(from, to, alert.windowStart(), alert.windowEnd())) {
                     MonitorDefinition monitor = MonitorDefinition.ofStream(config.monitors(), alert.stream());
                     out.add(new Line(alert, PublishedAlert.json(alert, monitor.outputs().smallCells())));
                 }

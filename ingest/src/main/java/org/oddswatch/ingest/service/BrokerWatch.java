@@ -10,12 +10,11 @@ import org.slf4j.LoggerFactory;
 
 /**
  * Watches the poll loop's broker operations. An {@link Operation} that fails is tried again with
- * backoff ({@link BrokerRetry}); meanwhile every owned partition is paused (what would be applied
- * adds only outputs that cannot be stored), the service is not ready and {@link #trouble()} says why.
- * Once nothing fails, the partitions with a rebuild plan are resumed. No broker connection for
- * {@code brokerWait} (at the start: twice the look-up timeout, at most 10 s) is a failure too; at the
- * start it is logged once as an error and input is not paused (nothing is assigned). When a
- * connection is back, the commit and the look-ups are tried at once.
+ * backoff ({@link BrokerRetry}); meanwhile every owned partition is paused, the service is not ready
+ * and {@link #trouble()} says why. Once nothing fails, the partitions with a rebuild plan are
+ * resumed. No broker connection for {@code brokerWait} (at the start: twice the look-up timeout, at
+ * most 10 s) is a failure too; at the start it is logged once as an error and input is not paused
+ * (nothing is assigned). When a connection is back, the commit and the look-ups are tried at once.
  */
 final class BrokerWatch {
 
@@ -88,7 +87,7 @@ final class BrokerWatch {
 
     /** Why the broker is being waited for (the first failing operation), or null. */
     String trouble() {
-        return retries.values().stream().filter(BrokerRetry::failing).map(BrokerRetry::reason).findFirst().orElse(null);
+        return retries.values().stream().filter(r -> r.failures > 0).map(r -> r.reason).findFirst().orElse(null);
     }
 
     /**
@@ -98,13 +97,16 @@ final class BrokerWatch {
      * @return true when the trouble changed
      */
     boolean checkConnection(long nowNanos, boolean assignedOnce) {
-        Double connections = connectionCount();
+        Double connections = consumer.metrics().entrySet().stream()
+                .filter(e -> e.getKey().name().equals("connection-count") && e.getKey().group().equals("consumer-metrics"))
+                .findFirst().map(e -> e.getValue().metricValue() instanceof Number n ? n.doubleValue() : null)
+                .orElse(null);
         BrokerRetry connection = retries.get(Operation.CONNECTION);
         if (connections == null) {
             return false;
         } else if (connections > 0) {
             noConnectionSinceNanos = 0;
-            if (!connection.failing()) {
+            if (connection.failures == 0) {
                 return false;
             }
             retries.get(Operation.COMMIT).retryNow(nowNanos);
@@ -115,7 +117,7 @@ final class BrokerWatch {
         if (noConnectionSinceNanos == 0) {
             noConnectionSinceNanos = nowNanos;
         }
-        if (nowNanos - noConnectionSinceNanos < (assignedOnce ? brokerWaitNanos : startWaitNanos) || connection.failing()) {
+        if (nowNanos - noConnectionSinceNanos < (assignedOnce ? brokerWaitNanos : startWaitNanos) || connection.failures > 0) {
             return false;
         }
         String reason = "no connection to any Kafka broker at " + bootstrapServers + " for "
@@ -130,10 +132,54 @@ final class BrokerWatch {
         return true;
     }
 
-    private Double connectionCount() {
-        return consumer.metrics().entrySet().stream()
-                .filter(e -> e.getKey().name().equals("connection-count") && e.getKey().group().equals("consumer-metrics"))
-                .findFirst().map(e -> e.getValue().metricValue() instanceof Number n ? n.doubleValue() : null)
-                .orElse(null);
+    /**
+     * One kind of operation's run of failures, tried again with exponential backoff: after {@code n}
+     * failures in a row the next try waits {@code min(max, first * 2^(n-1))}. One success ends the run.
+     */
+    static final class BrokerRetry {
+
+        private final long firstNanos;
+        private final long maxNanos;
+        int failures;
+        private long nextNanos;
+        private long sinceNanos;
+        /** Why the last try failed, or null when not failing. */
+        String reason;
+
+        BrokerRetry(long firstNanos, long maxNanos) {
+            this.firstNanos = firstNanos;
+            this.maxNanos = maxNanos;
+        }
+
+        /** Whether the operation may be tried at {@code nowNanos}: not failing, or its backoff has passed. */
+        boolean due(long nowNanos) {
+            return failures == 0 || nowNanos - nextNanos >= 0;
+        }
+
+        /** @return true for the first failure of a run (the caller logs it once) */
+        boolean failed(String why, long nowNanos) {
+            if (failures++ == 0) {
+                sinceNanos = nowNanos;
+            }
+            long delay = firstNanos << Math.min(failures - 1, 20);
+            nextNanos = nowNanos + Math.min(maxNanos, delay < 0 ? maxNanos : delay);
+            reason = why;
+            return failures == 1;
+        }
+
+        /** @return nanoseconds since the first failure of the run that just ended, or -1 when none failed */
+        long succeeded(long nowNanos) {
+            if (failures == 0) {
+                return -1;
+            }
+            failures = 0;
+            reason = null;
+            return nowNanos - sinceNanos;
+        }
+
+        /** Makes a failing operation due at once (the broker answers again), keeping its run of failures. */
+        void retryNow(long nowNanos) {
+            nextNanos = nowNanos;
+        }
     }
 }

@@ -11,15 +11,11 @@ import org.slf4j.LoggerFactory;
 
 /**
  * The poll loop's two wall-clock timers, for {@code LIVE} partitions only (a rebuild re-reads the
- * past, where the wall clock means nothing); a zero or absent duration turns a timer off:
- * <ul>
- * <li>refresh: every {@code refresh}, an interim estimate of every stream's open window (not while
- *     input is paused for the broker: it could not be stored);</li>
- * <li>idle timeout: a stream whose watermark has not moved for {@code idleTimeout} of wall-clock
- *     time gets its watermark moved to the wall clock, closing its windows up to there (checked once
- *     a second).</li>
- * </ul>
- * The rules never read the wall clock; only these timers decide when a quiet stream's window closes.
+ * past); a zero or absent duration turns a timer off. Every {@code refresh}, an interim estimate of
+ * every stream's open window (not while input is paused for the broker: it could not be stored).
+ * A stream whose watermark has not moved for {@code idleTimeout} of wall-clock time (checked once a
+ * second) gets its watermark moved to the wall clock, closing its windows up to there. The rules
+ * never read the wall clock.
  */
 final class LiveTimers {
 

@@ -3,31 +3,43 @@ package org.oddswatch.ingest.service;
 import io.micrometer.core.instrument.MeterRegistry;
 import io.micrometer.core.instrument.Tag;
 import io.micrometer.core.instrument.binder.kafka.KafkaClientMetrics;
+import java.net.URI;
+import java.nio.file.Path;
 import java.time.Duration;
+import java.util.ArrayList;
+import java.util.HashMap;
 import java.util.List;
+import java.util.Map;
 import java.util.concurrent.CountDownLatch;
 import java.util.concurrent.TimeUnit;
 import org.apache.kafka.clients.consumer.CloseOptions;
 import org.apache.kafka.clients.consumer.KafkaConsumer;
 import org.apache.kafka.common.serialization.ByteArrayDeserializer;
+import org.oddswatch.alerts.output.JsonLinesSink;
+import org.oddswatch.alerts.output.LogSink;
+import org.oddswatch.alerts.output.OutputSink;
 import org.oddswatch.alerts.output.WebhookSink;
 import org.oddswatch.ingest.definition.MonitorConfig;
+import org.oddswatch.ingest.definition.MonitorDefinition;
+import org.oddswatch.ingest.definition.WebhookSpec;
 import org.oddswatch.ingest.kafka.KafkaClientSettings;
 import org.oddswatch.ingest.kafka.KafkaOutputPublisher;
+import org.oddswatch.ingest.output.OutputStage;
 import org.oddswatch.ingest.pipeline.PipelineSettings;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
 /**
  * The live service: one consumer in the configured group, subscribed to the input topics of all
- * monitors, its {@link PollLoop} on one thread; one idempotent producer for estimates, rejects and
- * alerts; one pipeline per assigned partition; {@link ServiceOutputs} for what the pipelines report.
+ * monitors and run by a {@link PollLoop} on its own thread; one idempotent producer; one pipeline
+ * per assigned partition. Delivery is at least once (ingest/KAFKA.md, "Delivery"): offsets are
+ * committed only after the outputs of the records before them are stored. A clean {@link #close()}
+ * (also from a SIGTERM hook) commits everything, leaves the group and closes the clients.
  *
- * <p>Delivery is at least once: input offsets are committed only after every output of the records
- * before them is acknowledged, so after a crash the records since the last commit are processed and
- * their outputs sent again, with the same keys and (final estimates, alerts) the same content. A
- * clean {@link #close()} (also from a SIGTERM hook) commits everything, leaves the group and closes
- * the clients.
+ * <p>Each monitor's outputs pass the {@link OutputStage} to the Kafka publisher, the log (alerts),
+ * its {@code outputs.webhook} (alerts, on the webhook's own thread) and its
+ * {@code outputs.estimatesFile} (final estimates appended; a relative path resolves against the
+ * definition file's folder), then the {@link PipelineMeters}.
  */
 public final class MonitorService implements AutoCloseable {
 
@@ -36,7 +48,8 @@ public final class MonitorService implements AutoCloseable {
     private final KafkaConsumer<byte[], byte[]> consumer;
     private final KafkaConsumer<byte[], byte[]> lookup;
     private final KafkaOutputPublisher publisher;
-    private final ServiceOutputs outputs;
+    private final Map<String, WebhookSink> webhooks = new HashMap<>();
+    private final Map<Path, OutputSink> files = new HashMap<>();
     private final List<KafkaClientMetrics> clientMetrics;
     private final PollLoop loop;
     private final Thread thread;
@@ -50,21 +63,47 @@ public final class MonitorService implements AutoCloseable {
      */
     public MonitorService(MonitorConfig config, MeterRegistry registry, String instance) {
         KafkaClientSettings settings = new KafkaClientSettings(config.kafka());
-        this.consumer = new KafkaConsumer<>(settings.consumer(config.service().groupId(), "oddswatch-" + instance),
+        String client = "oddswatch-" + instance;
+        this.consumer = new KafkaConsumer<>(settings.consumer(config.service().groupId(), client),
                 new ByteArrayDeserializer(), new ByteArrayDeserializer());
-        this.lookup = new KafkaConsumer<>(settings.reader("oddswatch-" + instance + "-lookup"),
-                new ByteArrayDeserializer(), new ByteArrayDeserializer());
-        this.publisher = new KafkaOutputPublisher(settings.producer("oddswatch-" + instance + "-out"), config.monitors());
+        this.lookup = new KafkaConsumer<>(settings.reader(client + "-lookup"), new ByteArrayDeserializer(),
+                new ByteArrayDeserializer());
+        this.publisher = new KafkaOutputPublisher(settings.producer(client + "-out"), config.monitors());
         List<Tag> tags = List.of(Tag.of(ServiceLoopMetrics.SERVICE_INSTANCE, instance));
         this.clientMetrics = List.of(new KafkaClientMetrics(consumer, tags), new KafkaClientMetrics(publisher.producer(), tags));
         clientMetrics.forEach(m -> m.bindTo(registry));
-        this.outputs = new ServiceOutputs(publisher, registry, config.monitors());
+        OutputSink log = new LogSink();
+        OutputStage stage = new OutputStage(config.monitors(), monitor -> sinks(monitor, log, registry));
+        PipelineMeters listener = new PipelineMeters(stage, registry, config.monitors());
         ServiceLoopMetrics loopMetrics = new ServiceLoopMetrics(instance, publisher::refused);
         loopMetrics.bindTo(registry);
-        PipelineSettings pipelineSettings = PipelineSettings.defaults().withLimits(config.limits());
-        this.loop = new PollLoop(config, consumer, lookup, settings.reader("oddswatch-" + instance + "-alerts"),
-                publisher, new PartitionPipelines(config, pipelineSettings, outputs.listener(), registry), loopMetrics);
+        PartitionPipelines pipelines = new PartitionPipelines(config, PipelineSettings.defaults().withLimits(config.limits()),
+                listener, registry);
+        this.loop = new PollLoop(config, consumer, lookup, settings.reader(client + "-alerts"), publisher, pipelines,
+                loopMetrics);
         this.thread = new Thread(this::runLoop, "oddswatch-poll-" + instance);
+    }
+
+    private List<OutputSink> sinks(MonitorDefinition monitor, OutputSink log, MeterRegistry registry) {
+        List<OutputSink> sinks = new ArrayList<>(List.of(publisher, log));
+        WebhookSpec hook = monitor.outputs().webhook();
+        if (hook != null) {
+            WebhookSink webhook = new WebhookSink(monitor.name(), URI.create(hook.url()), hook.timeout(), hook.attempts());
+            webhook.bindTo(registry);
+            webhooks.put(monitor.name(), webhook);
+            sinks.add(webhook);
+        }
+        String file = monitor.outputs().estimatesFile();
+        if (file != null) {
+            Path dir = monitor.definitionDir();
+            sinks.add(files.computeIfAbsent((dir == null ? Path.of(file) : dir.resolve(file)).toAbsolutePath().normalize(),
+                    path -> {
+                        JsonLinesSink sink = JsonLinesSink.appendingEstimates(path);
+                        sink.bindFailures(registry, monitor.name());
+                        return sink;
+                    }));
+        }
+        return sinks;
     }
 
     public MonitorService start() {
@@ -123,12 +162,14 @@ public final class MonitorService implements AutoCloseable {
 
     /** The webhook sink of a monitor, or null when it has none. */
     WebhookSink webhook(String monitor) {
-        return outputs.webhook(monitor);
+        return webhooks.get(monitor);
     }
 
+    /** Closes the webhooks (queued deliveries get up to one timeout), the estimates files and the clients. */
     private void closeClients() {
         clientMetrics.forEach(KafkaClientMetrics::close);
-        outputs.close();
+        webhooks.values().forEach(WebhookSink::close);
+        files.values().forEach(OutputSink::close);
         try {
             consumer.close(CloseOptions.timeout(Duration.ofSeconds(10)));
         } catch (RuntimeException e) {

@@ -12,20 +12,17 @@ import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
 /**
- * One input partition this instance owns: its pipeline, its life cycle and the offsets to commit.
- * Used by the poll-loop thread only. Life cycle, every transition made here:
- * <pre>
- *   ASSIGNED --{@link #rebuildPlanned}--&gt; REBUILDING --{@link #reachedRebuildEnd}--&gt; LIVE
- * </pre>
- * {@code ASSIGNED}: paused, rebuild look-ups pending; {@code REBUILDING}: sought back, records below
- * the rebuild end re-read with output suppressed; {@code LIVE}: the position has reached the rebuild
- * end. A partition that leaves is dropped with its pipeline; a new assignment starts at {@code ASSIGNED}.
+ * One input partition this instance owns, on the poll-loop thread: its pipeline, its life cycle and
+ * the offsets to commit. Every transition is made here:
+ * {@code ASSIGNED} (paused, rebuild look-ups pending) --{@link #rebuildPlanned}--&gt; {@code REBUILDING}
+ * (sought back; records below the rebuild end re-read with output suppressed)
+ * --{@link #reachedRebuildEnd}--&gt; {@code LIVE}. A partition that leaves is dropped with its pipeline.
  */
 final class OwnedPartition {
 
     private static final Logger LOG = LoggerFactory.getLogger(OwnedPartition.class);
     /** Reason code of records the pipeline failed on. */
-    static final String PIPELINE_ERROR = "pipeline-error";
+    private static final String PIPELINE_ERROR = "pipeline-error";
     /** The value of a record without one (a tombstone): read as empty, so it is rejected as such. */
     private static final byte[] NO_BYTES = new byte[0];
 
@@ -62,9 +59,8 @@ final class OwnedPartition {
     }
 
     /**
-     * Hands one record to the pipeline. A record the pipeline fails on (a defect: bad input has its own
-     * reason codes) is logged, counted and (unless suppressed) rejected as {@code pipeline-error}, so
-     * one record cannot stop the service.
+     * Hands one record to the pipeline. One the pipeline fails on (a defect: bad input has its own
+     * reason codes) is logged and (unless suppressed) rejected as {@code pipeline-error}.
      */
     RecordOutcome offer(ConsumerRecord<byte[], byte[]> record, boolean suppress, PipelineListener rejects) {
         byte[] value = record.value() == null ? NO_BYTES : record.value();
@@ -101,9 +97,9 @@ final class OwnedPartition {
     }
 
     /**
-     * Notes one poll's live records: {@code lastLive} is the offset after the last one (-1: none),
-     * {@code oldestHeld} the smallest offset a stream still holds ({@link Long#MAX_VALUE}: none). No
-     * commit passes a held record (it is in no window yet).
+     * Notes one poll's live records: {@code lastLive} the offset after the last one (-1: none),
+     * {@code oldestHeld} the smallest offset a stream still holds ({@link Long#MAX_VALUE}: none),
+     * which no commit passes (the record is in no window yet).
      */
     void handled(long lastLive, long oldestHeld) {
         long next = lastLive;

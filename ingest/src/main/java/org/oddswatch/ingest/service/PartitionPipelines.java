@@ -10,36 +10,20 @@ import org.oddswatch.ingest.pipeline.PipelineListener;
 import org.oddswatch.ingest.pipeline.PipelineSettings;
 
 /**
- * Makes the pipeline of each assigned input partition: the monitors reading its topic, and (unless
- * the settings name one) a replay hint naming the topic, so a live alert names the replay that
- * reproduces it. While the pipeline lives, the gauge {@code oddswatch.pipeline.streams} (tags
- * {@code topic}, {@code partition}) shows how many streams it holds.
+ * Makes the pipeline of each assigned input partition: the monitors reading its topic, with a replay
+ * hint naming the topic (so a live alert names the replay that reproduces it). While the pipeline
+ * lives, the gauge {@code oddswatch.pipeline.streams} (tags {@code topic}, {@code partition}) shows
+ * how many streams it holds.
+ *
+ * @param listener where every pipeline's output goes; also takes the loop's pipeline-error rejects
  */
-final class PartitionPipelines {
-
-    private final MonitorConfig config;
-    private final PipelineSettings settings;
-    private final PipelineListener listener;
-    private final MeterRegistry registry;
-
-    /** @param listener where every pipeline's output goes */
-    PartitionPipelines(MonitorConfig config, PipelineSettings settings, PipelineListener listener,
-                       MeterRegistry registry) {
-        this.config = config;
-        this.settings = settings;
-        this.listener = listener;
-        this.registry = registry;
-    }
-
-    /** What the pipelines report to; also takes pipeline-error rejects. */
-    PipelineListener listener() {
-        return listener;
-    }
+record PartitionPipelines(MonitorConfig config, PipelineSettings settings, PipelineListener listener,
+                          MeterRegistry registry) {
 
     /** A fresh pipeline for {@code partition}, its stream gauge registered until it is released. */
     MonitorPipeline open(TopicPartition partition) {
         MonitorPipeline pipeline = new MonitorPipeline(partition.toString(), config.monitorsFor(partition.topic()),
-                listener, withTopicHint(partition.topic()));
+                listener, settings.withReplayHint(new ReplayHint(config.file(), null, partition.topic())));
         Gauge streams = Gauge.builder("oddswatch.pipeline.streams", pipeline, MonitorPipeline::streamCount)
                 .description("streams held by one partition's pipeline")
                 .tag("topic", partition.topic())
@@ -47,13 +31,5 @@ final class PartitionPipelines {
                 .register(registry);
         pipeline.onRelease(() -> registry.remove(streams));
         return pipeline;
-    }
-
-    private PipelineSettings withTopicHint(String topic) {
-        ReplayHint hint = settings.replayHint();
-        if (hint != null && (hint.configPath() != null || hint.inputFile() != null || hint.topic() != null)) {
-            return settings;
-        }
-        return settings.withReplayHint(new ReplayHint(config.file(), null, topic));
     }
 }

@@ -15,12 +15,10 @@ import org.oddswatch.ingest.pipeline.RecordOutcome;
 import org.oddswatch.ingest.pipeline.RejectedRecord;
 
 /**
- * Passes each estimate, alert and reject to the output stage, then feeds the pipelines' events to
- * the registry's binders: {@link RecordMeters} (each record's outcome, accepted ones added once per
- * batch), {@link FitMeters} (each final window, under its monitor's small-cell rule) and
- * {@link AlertMeters}. Pipelines call none of these while rebuilding, except
- * {@link #onAlertRestored} for an episode still open; {@link #onStreamsReleased} removes the series
- * of the streams of a partition that leaves.
+ * The service's pipeline listener: passes each estimate, alert and reject to the output stage, then
+ * feeds the registry's {@link RecordMeters} (accepted records added once per batch), {@link FitMeters}
+ * (final windows, under their monitor's small-cell rule) and {@link AlertMeters}; removes the series
+ * of released streams (ingest/KAFKA.md, "Outputs and meters").
  */
 final class PipelineMeters implements PipelineListener {
 

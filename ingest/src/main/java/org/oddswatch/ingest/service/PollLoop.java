@@ -32,19 +32,19 @@ import org.slf4j.LoggerFactory;
 
 /**
  * The poll loop of the service's one consumer, on one thread: the only user of the consumer and of
- * the pipelines (other threads see the {@link StatusBoard} snapshot). Per turn: poll; hand each
- * record, partition by partition in offset order, to its partition's pipeline (output suppressed
- * below the rebuild end); plan the rebuild of partitions just assigned ({@link RebuildPlanner}) and
- * make those re-read live; at most every {@code commitInterval}, store the outputs and commit; watch
- * the broker ({@link BrokerWatch}); run the timers ({@link LiveTimers}); publish the status.
+ * the pipelines (others read the {@link StatusBoard} snapshot). Per turn: poll; hand each record,
+ * partition by partition in offset order, to its partition's pipeline; plan the rebuild of
+ * partitions just assigned ({@link RebuildPlanner}) and make those re-read live; at most every
+ * commit interval, store the outputs and commit; watch the broker ({@link BrokerWatch}); run the
+ * timers ({@link LiveTimers}); publish the status (ingest/KAFKA.md, "Threads").
  *
- * <p>Commits: wait (at most {@code brokerWait}) until every output sent so far is stored, then commit
- * per partition {@link OwnedPartition#nextCommit}, which never passes a held record. A commit that
- * meets a rebalance stays pending: the revoke callback commits the partitions that leave, the next
- * try the others. Outputs lost to the producer are produced again by rebuilding every partition from
- * its last commit. Rebalance callbacks run inside poll and stay short: on revoke, commit and release
- * the pipelines; on lost, release them; on assign, open pipelines and pause the partitions until
- * their rebuild is planned. Only {@link #stop()} or an error that is not the broker's ends the loop.
+ * <p>A commit waits (at most {@code brokerWait}) until every output sent so far is stored, then
+ * commits per partition {@link OwnedPartition#nextCommit}, which never passes a held record; one
+ * that meets a rebalance stays pending. Outputs lost to the producer are produced again by
+ * rebuilding every partition from its last commit. Rebalance callbacks run inside poll and stay
+ * short: on revoke, commit and release the pipelines; on lost, release them; on assign, open
+ * pipelines, paused until their rebuild is planned. Only {@link #stop()} or an error that is not
+ * the broker's ends the loop.
  */
 final class PollLoop implements Runnable, ConsumerRebalanceListener {
 

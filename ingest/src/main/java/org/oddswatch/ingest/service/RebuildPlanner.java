@@ -30,16 +30,14 @@ import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
 /**
- * Plans the rebuild of newly assigned partitions (window state lives only in memory). For each: the
- * committed offset {@code C} (none: the beginning, or with {@code auto.offset.reset=latest} the end,
- * the wall clock standing in for the record time), the timestamp {@code T} of the record at {@code C}
- * (or the one before, when {@code C} is the end), and the first offset at or after
- * {@link RebuildSpan#startMillis}{@code (T)}, where the partition is sought and re-read up to
- * {@code C} with output suppressed. Before the re-read each pipeline gets its monitors' published
- * alerts (open episodes go on) and, from the published final estimates, the CUSUM values its charts
- * resume from. Every look-up is made before any state changes, so a failed one (a
- * {@link org.apache.kafka.common.errors.RetriableException}) leaves the partitions paused and
- * {@code ASSIGNED}. Runs on the poll-loop thread, never in a rebalance callback.
+ * Plans the rebuild of newly assigned partitions, the steps of ingest/KAFKA.md "State rebuild": the
+ * committed offset {@code C} (none: the beginning, or the end with {@code auto.offset.reset=latest}),
+ * the timestamp {@code T} of the record there (before it, at the end), a seek to the first offset
+ * at or after {@link RebuildSpan#startMillis}{@code (T)}, and a re-read up to {@code C} with output
+ * suppressed; before it each pipeline gets its monitors' published alerts (open episodes go on) and
+ * the CUSUM values published with the final estimates. Every look-up is made before any state
+ * changes, so a failed one (a {@link org.apache.kafka.common.errors.RetriableException}) leaves the
+ * partitions paused and {@code ASSIGNED}. Runs on the poll-loop thread, never in a rebalance callback.
  */
 final class RebuildPlanner {
 
@@ -93,48 +91,34 @@ final class RebuildPlanner {
         Map<TopicPartition, Long> beginning = consumer.beginningOffsets(tps, timeout);
         Map<TopicPartition, Long> end = consumer.endOffsets(tps, timeout);
         Map<TopicPartition, Long> until = new HashMap<>();
-        Map<TopicPartition, Long> seekTo = new HashMap<>();
         Map<TopicPartition, Long> startTimes = new HashMap<>();
         for (TopicPartition tp : tps) {
             OffsetAndMetadata c = committed.get(tp);
-            long upTo;
-            Long recordMillis;
-            if (c != null) {
-                upTo = c.offset();
-                recordMillis = recordTimestamp(tp, upTo, beginning.get(tp), end.get(tp));
-            } else if (resetToLatest) {
-                upTo = end.get(tp);
-                recordMillis = System.currentTimeMillis();
-            } else {
-                upTo = beginning.get(tp);
-                recordMillis = null;
-            }
+            long upTo = c != null ? c.offset() : resetToLatest ? end.get(tp) : beginning.get(tp);
+            Long recordMillis = c != null ? recordTimestamp(tp, upTo, beginning.get(tp), end.get(tp))
+                    : resetToLatest ? Long.valueOf(System.currentTimeMillis()) : null; // latest: the wall clock as T
             until.put(tp, upTo);
             LOG.info("rebuild plan {}: committed {}, partition [{}, {}), record time {}", tp,
                     c == null ? null : c.offset(), beginning.get(tp), end.get(tp),
                     recordMillis == null ? null : Instant.ofEpochMilli(recordMillis));
-            if (recordMillis == null || upTo <= beginning.get(tp)) {
-                seekTo.put(tp, upTo);
-            } else {
+            if (recordMillis != null && upTo > beginning.get(tp)) {
                 startTimes.put(tp, Math.max(0, spans.get(tp.topic()).startMillis(recordMillis)));
             }
         }
-        if (!startTimes.isEmpty()) {
-            Map<TopicPartition, OffsetAndTimestamp> found = consumer.offsetsForTimes(startTimes, timeout);
-            for (TopicPartition tp : startTimes.keySet()) {
-                OffsetAndTimestamp at = found.get(tp);
-                long from = at == null ? until.get(tp) : Math.min(at.offset(), until.get(tp));
-                seekTo.put(tp, Math.max(from, beginning.get(tp)));
-                LOG.info("rebuilding {} from offset {} to {} ({})", tp, from, until.get(tp), spans.get(tp.topic()));
-            }
-        }
+        Map<TopicPartition, OffsetAndTimestamp> found = startTimes.isEmpty() ? Map.of()
+                : consumer.offsetsForTimes(startTimes, timeout);
         for (OwnedPartition p : pending) { // every look-up answered: only now does state change
             TopicPartition tp = p.partition;
+            long seekTo = until.get(tp);
             p.pipeline.restoreAlerts(alerts.get(p));
-            if (startTimes.containsKey(tp)) { // charts with a baseline file go on from a window after the start
-                p.pipeline.resumeCharts(charts, startTimes.get(tp));
+            if (startTimes.containsKey(tp)) {
+                OffsetAndTimestamp at = found.get(tp);
+                long from = at == null ? seekTo : Math.min(at.offset(), seekTo);
+                LOG.info("rebuilding {} from offset {} to {} ({})", tp, from, seekTo, spans.get(tp.topic()));
+                seekTo = Math.max(from, beginning.get(tp));
+                p.pipeline.resumeCharts(charts, startTimes.get(tp)); // charts with a baseline file go on from there
             }
-            consumer.seek(tp, seekTo.get(tp));
+            consumer.seek(tp, seekTo);
             p.rebuildPlanned(until.get(tp), nowNanos);
         }
         meters.rebuildStarted(pending.size());
@@ -179,14 +163,9 @@ final class RebuildPlanner {
 
     /** The CUSUM values published with the final estimates of the pending partitions' monitors. */
     private CusumHistory publishedCharts(List<OwnedPartition> pending) {
-        Set<String> topics = new TreeSet<>();
-        for (OwnedPartition p : pending) {
-            for (MonitorDefinition monitor : config.monitorsFor(p.partition.topic())) {
-                if (monitor.rules() == null || monitor.rules().cusum() != null) {
-                    topics.add(monitor.outputs().estimatesTopic());
-                }
-            }
-        }
+        Set<String> topics = pending.stream().flatMap(p -> config.monitorsFor(p.partition.topic()).stream())
+                .filter(m -> m.rules() == null || m.rules().cusum() != null).map(m -> m.outputs().estimatesTopic())
+                .collect(Collectors.toCollection(TreeSet::new));
         CusumHistory history = new CusumHistory();
         readBack(topics, r -> {
             if (r.value() != null && !history.add(r.value())) {

@@ -6,21 +6,10 @@ import java.util.List;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 
 /**
- * How far back in record time a partition must be re-read so the in-memory state at its committed
- * offset is rebuilt: every window still open there, and a fixed baseline period not yet (or no
- * longer, after a restart) in memory.
- *
- * <p>With {@code T} the timestamp of the record at the committed offset, the re-read starts at
- * <pre>
- *   min( T - max over monitors (width + step + lateness) - margin ,  min over fixed baselines (from) )
- * </pre>
- * The extra step makes the window before the first one emitted after the rebuild complete as well:
- * its coefficients are the warm start of the next fit, so they must be those of an uninterrupted run.
- * The events of windows still open at the committed offset have event times at or after
- * {@code W - width - lateness}, where {@code W} is the stream's watermark there. As long as records
- * are stamped at or after their event time, and {@code T - W} (how far record time runs ahead of
- * event time at the committed offset: the ingestion delay) stays within {@code margin}, every such
- * event lies at or after the start. The margin must therefore cover the largest ingestion delay.
+ * How far back in record time a partition is re-read to rebuild its in-memory state: from
+ * {@code min(T - max over monitors (width + step + lateness) - margin, min over fixed baselines (from))},
+ * {@code T} the timestamp of the record at the committed offset. The margin must cover the ingestion
+ * delay (ingest/KAFKA.md, "State rebuild").
  */
 public record RebuildSpan(long lookBackMillis, Long baselineFromMillis) {
 

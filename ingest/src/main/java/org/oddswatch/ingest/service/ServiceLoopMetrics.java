@@ -20,24 +20,17 @@ import org.oddswatch.ingest.pipeline.PipelineSnapshot;
 import org.oddswatch.ingest.pipeline.StreamStatus;
 
 /**
- * Meters of the service's poll loop, bound like Micrometer's own binders (the loop records into the
- * meters bound last). All carry the tag {@value #SERVICE_INSTANCE}, the instance name ({@code instance}
- * is Prometheus's scrape target). Tags never carry record values.
- * <ul>
- * <li>{@code oddswatch.service.records} (counter, tag {@code phase}: {@code live}, {@code rebuild}):
- *     input records handled, the suppressed re-read of a rebuild as {@code rebuild};</li>
- * <li>{@code oddswatch.service.rebuilds} (counter): partitions whose state was rebuilt;</li>
- * <li>{@code oddswatch.service.rebuild.duration} (timer): from a partition's rebuild plan to live;</li>
- * <li>{@code oddswatch.service.ready} (gauge): 1 once every partition is live and the broker answers;</li>
- * <li>{@code oddswatch.service.loop} (timer, tag {@code step}): per polled batch {@code poll} (fetch
- *     waits included) and {@code apply}, per commit {@code commit} (outputs stored, offsets committed);</li>
- * <li>{@code oddswatch.service.outputs.refused} (counter): outputs the broker refused for what they
- *     are, skipped;</li>
- * <li>{@code oddswatch.monitoring.gaps} (multi-gauge): one series per {@link MonitoringGap} of a
- *     stream of this instance, tagged {@code monitor}, {@code stream}, {@code scope}, {@code subject}
- *     ({@code none} for the baseline) and {@code reason}; the value is the number of final windows
- *     not judged for scope {@code windows}, else 1. A series goes when its gap or its stream does.</li>
- * </ul>
+ * Meters of the service's poll loop, bound like Micrometer's own binders, all tagged
+ * {@value #SERVICE_INSTANCE} with the instance name ({@code instance} is Prometheus's scrape target):
+ * {@code oddswatch.service.records} (tag {@code phase}: {@code live}, or {@code rebuild} for the
+ * suppressed re-read), {@code oddswatch.service.rebuilds} (partitions), {@code
+ * oddswatch.service.rebuild.duration} (plan to live), {@code oddswatch.service.ready}, {@code
+ * oddswatch.service.loop} (tag {@code step}: {@code poll} and {@code apply} per polled batch,
+ * {@code commit} per commit, outputs stored included), {@code oddswatch.service.outputs.refused}, and
+ * the multi-gauge {@code oddswatch.monitoring.gaps}: a series per {@link MonitoringGap} (tags
+ * {@code monitor}, {@code stream}, {@code scope}, {@code subject} or {@code none}, {@code reason};
+ * value the final windows not judged for scope {@code windows}, else 1) that goes with its gap or
+ * stream. Tags never carry record values.
  */
 final class ServiceLoopMetrics implements MeterBinder {
 
@@ -56,7 +49,6 @@ final class ServiceLoopMetrics implements MeterBinder {
     private Timer commit;
     private MultiGauge gaps;
 
-    /** @param refusedOutputs outputs the broker refused since start */
     ServiceLoopMetrics(String instance, LongSupplier refusedOutputs) {
         this.tags = Tags.of(Tag.of(SERVICE_INSTANCE, instance));
         this.refusedOutputs = refusedOutputs;
@@ -94,19 +86,16 @@ final class ServiceLoopMetrics implements MeterBinder {
                 .register(registry);
     }
 
-    /** One polled batch: nanoseconds in poll and applying its records. */
     void polled(long pollNanos, long applyNanos) {
         poll.record(pollNanos, TimeUnit.NANOSECONDS);
         apply.record(applyNanos, TimeUnit.NANOSECONDS);
     }
 
-    /** Records of one partition handled: live ones and ones re-read to rebuild state. */
     void handled(long liveRecords, long rebuildRecords) {
         live.increment(liveRecords);
         rebuild.increment(rebuildRecords);
     }
 
-    /** One commit that succeeded, storing the outputs included (ns). */
     void committed(long nanos) {
         commit.record(nanos, TimeUnit.NANOSECONDS);
     }

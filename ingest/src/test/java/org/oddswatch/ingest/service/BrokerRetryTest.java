@@ -6,6 +6,7 @@ import static org.junit.jupiter.api.Assertions.assertNull;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import org.junit.jupiter.api.Test;
+import org.oddswatch.ingest.service.BrokerWatch.BrokerRetry;
 
 /** The backoff of a failing broker operation: 1, 2, 4, ... times the first delay, capped. */
 class BrokerRetryTest {
@@ -15,7 +16,7 @@ class BrokerRetryTest {
         BrokerRetry retry = new BrokerRetry(100, 1000);
         assertTrue(retry.due(0));
         assertTrue(retry.failed("down", 0), "the first failure of a run");
-        assertEquals("down", retry.reason());
+        assertEquals("down", retry.reason);
         assertFalse(retry.due(99));
         assertTrue(retry.due(100));
         assertFalse(retry.failed("still down", 100), "later failures are not the first");
@@ -33,8 +34,8 @@ class BrokerRetryTest {
         retry.retryNow(2510);
         assertTrue(retry.due(2510), "due at once when the broker answers again");
         assertEquals(2600, retry.succeeded(2600), "time since the run's first failure");
-        assertFalse(retry.failing());
-        assertNull(retry.reason());
+        assertEquals(0, retry.failures);
+        assertNull(retry.reason);
         assertEquals(-1, retry.succeeded(2700), "no run to end");
     }
 }
