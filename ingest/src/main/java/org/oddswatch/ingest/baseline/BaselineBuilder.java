@@ -29,12 +29,11 @@ import org.oddswatch.ingest.replay.ReplayRunner;
 /**
  * Fits and freezes baseline models from an event file. The file runs through the same
  * {@link MonitorPipeline} as a replay, so exactly the events of {@code [from, to)} that a replay's
- * streams accept go into one window per stream (or per monitor when pooled), fitted by
- * {@link WindowEstimator#fitBaseline}: the same events as a replay's fixed-period baseline.
- *
- * <p>A model fitted from too little information ({@link BaselineInformation}) is refused unless the
- * request allows weak models; then it is written and flagged. Files are named {@code <monitor>.json}
- * (no split, or pooled) or {@code <monitor>-<split value>.json}, matching a definition's
+ * streams accept (the same as a replay's fixed-period baseline) go into one window per stream, or
+ * per monitor when pooled, fitted by {@link WindowEstimator#fitBaseline}. A model fitted from too
+ * little information ({@link BaselineInformation}) is refused unless the request allows weak models;
+ * then it is written and flagged. Files are named {@code <monitor>.json} (no split, or pooled) or
+ * {@code <monitor>-<split value>.json} ({@code /} becomes {@code -}), matching a definition's
  * {@code baseline.file: baselines/<monitor>-{split}.json}.
  */
 public final class BaselineBuilder {
@@ -51,26 +50,19 @@ public final class BaselineBuilder {
     }
 
     /**
+     * Builds the baselines {@code request} asks for, telling {@code bytesRead} each chunk read (progress).
+     *
      * @throws IllegalArgumentException when the named monitor does not exist
      * @throws IOException when the events cannot be read or a file cannot be written
      */
-    public static List<BuiltBaseline> build(MonitorConfig config, BaselineRequest request) throws IOException {
-        return build(config, request, bytes -> { });
-    }
-
-    /** As {@link #build(MonitorConfig, BaselineRequest)}, telling {@code bytesRead} each chunk read (progress). */
     public static List<BuiltBaseline> build(MonitorConfig config, BaselineRequest request, LongConsumer bytesRead)
             throws IOException {
+        // without their baseline sections: the files may not exist yet, and no rule is wanted
+        List<MonitorDefinition> monitors = config.monitors().stream()
+                .filter(m -> request.monitor() == null || request.monitor().equals(m.name()))
+                .map(MonitorDefinition::withoutBaseline).toList();
         Map<String, Accumulator> accumulators = new LinkedHashMap<>();
-        List<MonitorDefinition> monitors = new ArrayList<>();
-        for (MonitorDefinition monitor : config.monitors()) {
-            if (request.monitor() == null || request.monitor().equals(monitor.name())) {
-                // without its own baseline section: the files may not exist yet, and no rule is wanted
-                MonitorDefinition plain = monitor.withoutBaseline();
-                monitors.add(plain);
-                accumulators.put(monitor.name(), new Accumulator(plain, plain.designCoder(), new LinkedHashMap<>()));
-            }
-        }
+        monitors.forEach(m -> accumulators.put(m.name(), new Accumulator(m, m.designCoder(), new LinkedHashMap<>())));
         if (accumulators.isEmpty()) {
             throw new IllegalArgumentException("no monitor named '" + request.monitor() + "' in " + config.file());
         }
@@ -119,17 +111,13 @@ public final class BaselineBuilder {
                 continue;
             }
             String weakness = BaselineInformation.weakness(model);
-            Path file = weakness != null && !request.allowWeak() ? null : request.outDir().resolve(fileName(stream));
+            Path file = weakness != null && !request.allowWeak() ? null
+                    : request.outDir().resolve(BaselineSpec.fileSafe(stream) + ".json");
             if (file != null) {
                 BaselineFile.write(file, model);
             }
             built.add(new BuiltBaseline(monitor.name(), stream, file, period.events(), period.cases(), model,
                     file == null ? "refused: " + weakness : null, weakness));
         }
-    }
-
-    /** {@code north} -> {@code north.json}; {@code north/east} -> {@code north-east.json}. */
-    static String fileName(String stream) {
-        return BaselineSpec.fileSafe(stream) + ".json";
     }
 }

@@ -2,9 +2,7 @@ package org.oddswatch.ingest.pipeline;
 
 import java.time.Duration;
 import java.util.ArrayList;
-import java.util.HashSet;
 import java.util.List;
-import java.util.Set;
 import java.util.TreeMap;
 import java.util.function.Predicate;
 import org.oddswatch.ingest.decode.DecodedEvent;
@@ -35,11 +33,11 @@ final class FutureHold {
         }
     }
 
-    private final Duration skew;
+    final Duration skew;
+    final int capacity;
     private final long skewMillis;
     private final long spanMillis;
     private final int confirm;
-    private final int capacity;
     /** Held events in arrival order. */
     private final List<Held> held = new ArrayList<>();
     /** How many held events have each event time. */
@@ -61,14 +59,6 @@ final class FutureHold {
         return held.isEmpty();
     }
 
-    Duration skew() {
-        return skew;
-    }
-
-    int capacity() {
-        return capacity;
-    }
-
     /** True when {@code time} is beyond the horizon of {@code watermark}. */
     boolean beyond(long time, long watermark) {
         return watermark != Long.MIN_VALUE && time - watermark > skewMillis;
@@ -88,26 +78,21 @@ final class FutureHold {
         held.add(new Held(event, record, watermark));
         long time = event.timeMillis();
         times.merge(time, 1, Integer::sum);
-        long first = time;
-        Long lower;
-        while ((lower = times.lowerKey(first)) != null && first - lower <= skewMillis) {
-            first = lower;
+        long first = chainEnd(time, false);
+        long last = chainEnd(time, true);
+        boolean confirmed = last - first >= spanMillis && held.stream().filter(h -> h.time() >= first
+                && h.time() <= last).map(h -> h.event.id()).distinct().count() >= confirm;
+        return confirmed ? last : Long.MIN_VALUE;
+    }
+
+    /** The end of the chain of held times through {@code time}, each within the skew of the next, down or up. */
+    private long chainEnd(long time, boolean up) {
+        Long next;
+        while ((next = up ? times.higherKey(time) : times.lowerKey(time)) != null
+                && Math.abs(next - time) <= skewMillis) {
+            time = next;
         }
-        long last = time;
-        Long higher;
-        while ((higher = times.higherKey(last)) != null && higher - last <= skewMillis) {
-            last = higher;
-        }
-        if (last - first < spanMillis) {
-            return Long.MIN_VALUE;
-        }
-        Set<String> ids = new HashSet<>();
-        for (Held h : held) {
-            if (h.time() >= first && h.time() <= last) {
-                ids.add(h.event.id());
-            }
-        }
-        return ids.size() >= confirm ? last : Long.MIN_VALUE;
+        return time;
     }
 
     /** Removes and returns every held event at or before {@code time}. */

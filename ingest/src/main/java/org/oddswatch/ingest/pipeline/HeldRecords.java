@@ -4,15 +4,13 @@ import java.util.ArrayList;
 import java.util.LinkedHashSet;
 import java.util.List;
 import java.util.Set;
-import java.util.function.Consumer;
 import org.oddswatch.ingest.decode.DecodedEvent;
 
 /**
  * The records that streams hold beyond their time horizon ({@link FutureHold}), at record level: a
- * record may be held by several monitors' streams and is counted in the pipeline's totals once,
- * when no stream holds it any more, or at once when another monitor accepted it. Tracks the live
- * records still held (the service commits no offset past them) and the record outcomes decided
- * since the last {@link #drainDecided}.
+ * record held by several monitors' streams is counted in the totals once, when no stream holds it
+ * any more, or at once when another monitor accepted it. Tracks the live records still held (the
+ * service commits no offset past them) and the record outcomes decided since the last drain.
  */
 final class HeldRecords {
 
@@ -22,7 +20,6 @@ final class HeldRecords {
         final RecordOrigin origin;
         /** Streams still holding the record. */
         int holders;
-        /** Accepted when any monitor accepted the record, else the first outcome. */
         RecordOutcome best;
         /** True while the record's own offer is running. */
         boolean inOffer = true;
@@ -33,14 +30,14 @@ final class HeldRecords {
             this.origin = origin;
         }
 
-        /** Merges one outcome; returns true when the record-level outcome is now known and not yet counted. */
+        /** Merges one outcome; true when the record-level outcome is now known and not yet counted. */
         boolean merge(RecordOutcome outcome) {
             best = recordLevel(best, outcome);
             return !counted && best != null && (best.accepted() || holders == 0);
         }
     }
 
-    /** The record-level outcome so far given one more monitor's: accepted when any accepted, else the first decided. */
+    /** The record-level outcome given one more monitor's: accepted when any accepted, else the first decided. */
     static RecordOutcome recordLevel(RecordOutcome sofar, RecordOutcome outcome) {
         if (outcome == null || outcome.held()) {
             return sofar;
@@ -51,8 +48,9 @@ final class HeldRecords {
     /** The record being offered, once a stream holds it; else null. */
     private Record current;
     /** Live (not re-read) records some stream still holds. */
-    private final Set<Record> live = new LinkedHashSet<>();
-    private final List<RecordOutcome> decided = new ArrayList<>();
+    final Set<Record> live = new LinkedHashSet<>();
+    /** Record outcomes decided since the last drain, not suppressed. */
+    final List<RecordOutcome> decided = new ArrayList<>();
 
     /** A new record is offered (nothing of an offer that failed half-way is carried over). */
     void beginOffer() {
@@ -107,16 +105,5 @@ final class HeldRecords {
             decided.add(record.best);
         }
         return record.best;
-    }
-
-    /** The smallest source offset of a live held record, or {@link Long#MAX_VALUE} when none is held. */
-    long oldestLiveOffset() {
-        return live.stream().mapToLong(r -> r.origin.offset()).min().orElse(Long.MAX_VALUE);
-    }
-
-    /** Hands over (and forgets) the record outcomes decided since the last call, not suppressed. */
-    void drainDecided(Consumer<RecordOutcome> into) {
-        decided.forEach(into);
-        decided.clear();
     }
 }

@@ -11,8 +11,8 @@ import org.oddswatch.estimator.window.WindowStore;
 /**
  * Closes the windows of one stream: estimates each window as it becomes final, has it judged
  * ({@link StreamBaseline#judge}), publishes the estimate and then its alerts, and drops the buckets
- * (and their ids) no open window can use. Window {@code e} (its end bucket) covers buckets
- * {@code e-k .. e-1}, {@code k = width/step}; only windows holding at least one event are estimated.
+ * (and their ids) no open window can use. Window {@code e} (end bucket) covers buckets
+ * {@code e-k .. e-1}, {@code k = width/step}; only windows holding an event are estimated.
  */
 final class WindowCloser {
 
@@ -27,9 +27,9 @@ final class WindowCloser {
 
     /** The end bucket of the newest final window, or {@link Long#MIN_VALUE} before the first. */
     private long newestFinalWindow = Long.MIN_VALUE;
-    private WindowEstimate lastFinal;
+    WindowEstimate lastFinal;
+    long finalWindows;
     private double[] warmStart;
-    private long finalWindows;
 
     WindowCloser(String stream, WindowEstimator estimator, WindowGeometry geometry, WindowStore store,
                  DedupeWindow dedupe, StreamBaseline baseline, PipelineListener listener) {
@@ -41,14 +41,6 @@ final class WindowCloser {
         this.dedupe = dedupe;
         this.baseline = baseline;
         this.listener = listener;
-    }
-
-    WindowEstimate lastFinal() {
-        return lastFinal;
-    }
-
-    long finalWindows() {
-        return finalWindows;
     }
 
     /** Makes every window ending at or before bucket {@code newFinal} final. */
@@ -89,7 +81,7 @@ final class WindowCloser {
     /** An interim estimate of the window holding the watermark, unless that window is final. */
     void emitInterim(long watermark) {
         long end = watermark == Long.MIN_VALUE ? Long.MIN_VALUE : geometry.bucketOf(watermark) + 1;
-        if (end > newestFinalWindow) { // false before the first event: newestFinalWindow is at least MIN_VALUE
+        if (end > newestFinalWindow) { // never before the first event
             listener.onEstimate(estimate(end, WindowStatus.INTERIM));
         }
     }
@@ -107,8 +99,7 @@ final class WindowCloser {
         lastFinal = estimate;
         finalWindows++;
         StreamBaseline.Judged judged = baseline.judge(estimate);
-        // the estimate (with its chart values) before the window's alerts, as always
-        if (!suppress) {
+        if (!suppress) { // the estimate (with its chart values) before the window's alerts
             listener.onEstimate(judged.published());
             listener.onFinalFit(judged.published(), fitNanos);
             for (Alert alert : judged.alerts()) {
@@ -118,9 +109,8 @@ final class WindowCloser {
     }
 
     /**
-     * The warm start for the next window: the coefficients rounded to single precision, so that a
-     * stream rebuilt after a restart (whose older windows may differ in the last bits) starts the
-     * next fit from the same point as the uninterrupted run and gives the same estimate bit for bit.
+     * The next window's warm start: the coefficients rounded to single precision, so that a stream
+     * rebuilt after a restart (older windows may differ in the last bits) gives the same estimate.
      */
     static double[] reproducibleStart(double[] coefficients) {
         return coefficients == null ? null : Arrays.stream(coefficients).map(c -> (float) c).toArray();
