@@ -29,8 +29,8 @@ public final class MonitorPipeline {
     private final RecordParser parser;
     private final List<MonitorRoute> routes = new ArrayList<>();
     private final Map<String, StreamState> streamsByName = new LinkedHashMap<>();
-    private final PipelineListener listener;
-    private final PipelineSettings settings;
+    final PipelineListener listener;
+    final PipelineSettings settings;
     private final HeldRecords held = new HeldRecords();
     private final OutcomeCounts totals = new OutcomeCounts();
     /** Records offered with output suppressed (re-read while rebuilding state), not counted in the totals. */
@@ -157,7 +157,7 @@ public final class MonitorPipeline {
 
     /** A new stream, with what a restart restored for it before it was seen (alerts, CUSUM values). */
     private StreamState open(MonitorRoute route, String name, String splitValue) {
-        StreamState stream = new StreamState(route, name, splitValue, settings, listener, this::resolved);
+        StreamState stream = new StreamState(this, route, name, splitValue);
         List<Alert> restore = pendingRestore.remove(name);
         if (restore != null) {
             restore(stream, restore);
@@ -171,8 +171,8 @@ public final class MonitorPipeline {
     }
 
     /** A held event's decided outcome: reported like any, and in the totals once the record is decided. */
-    private void resolved(StreamState stream, HeldRecords.Record record, DecodedEvent event, RecordOutcome outcome,
-                          boolean suppress) {
+    void resolved(StreamState stream, HeldRecords.Record record, DecodedEvent event, RecordOutcome outcome,
+                  boolean suppress) {
         report(stream, outcome, event, record.original, record.origin, suppress);
         RecordOutcome decided = held.resolved(record, outcome, suppress);
         if (decided != null) {
