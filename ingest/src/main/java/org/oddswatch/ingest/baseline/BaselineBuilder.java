@@ -3,6 +3,7 @@ package org.oddswatch.ingest.baseline;
 import java.io.IOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.time.Instant;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
 import java.util.List;
@@ -39,6 +40,57 @@ import org.oddswatch.ingest.replay.ReplayRunner;
 public final class BaselineBuilder {
 
     private BaselineBuilder() {
+    }
+
+    /**
+     * What to fit a baseline on.
+     *
+     * @param events the event file (JSON Lines or CSV)
+     * @param format its format, or null to tell by the file name
+     * @param from start of the baseline period (inclusive event time)
+     * @param to end of the period (exclusive)
+     * @param outDir where the baseline files are written
+     * @param monitor only this monitor, or null for every monitor
+     * @param pooled one baseline per monitor over all its split values, instead of one per stream
+     * @param allowWeak write a model fitted from too little information too (flagged), instead of refusing it
+     */
+    public record BaselineRequest(Path events, InputFormat format, Instant from, Instant to, Path outDir,
+                                  String monitor, boolean pooled, boolean allowWeak) {
+
+        public BaselineRequest {
+            if (from == null || to == null || !from.isBefore(to)) {
+                throw new IllegalArgumentException("the baseline period needs --from before --to");
+            }
+        }
+    }
+
+    /**
+     * One baseline the builder produced, or could not.
+     *
+     * @param stream the stream, or the monitor name for a pooled or unsplit baseline
+     * @param file the file written, or null when none was written
+     * @param events accepted events of the period (complete or not)
+     * @param positives positives among them
+     * @param model the fitted model, or null when the fit failed
+     * @param problem why no file was written (no positives, no convergence, too little information), or null
+     * @param weakness why the model rests on too little information ({@link BaselineInformation}), or null;
+     *     a weak model is written only when the request allows it
+     */
+    public record BuiltBaseline(String monitor, String stream, Path file, long events, long positives,
+                                BaselineModel model, String problem, String weakness) {
+
+        /** Whether a file was written. */
+        public boolean ok() {
+            return problem == null;
+        }
+
+        /** {@code frozen}, {@code frozen-weak} (written although weak), {@code refused-weak} or {@code failed}. */
+        public String state() {
+            if (ok()) {
+                return weakness == null ? "frozen" : "frozen-weak";
+            }
+            return model != null && weakness != null ? "refused-weak" : "failed";
+        }
     }
 
     /** One monitor's period stores, by stream (or one pooled, under the monitor's name). */

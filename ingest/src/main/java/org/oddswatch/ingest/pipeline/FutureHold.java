@@ -9,20 +9,15 @@ import org.oddswatch.ingest.decode.DecodedEvent;
 import org.oddswatch.ingest.definition.EventSpec;
 
 /**
- * One stream's events beyond its time horizon ({@code watermark + maxFutureSkew}), held until the
- * stream's own event times decide them (no clock, so replay decides as the live service does):
- *
- * <ul>
- *   <li><b>Confirmed</b>: {@code futureConfirm} held events with distinct ids form a chain (in time
- *       order, each within {@code maxFutureSkew} of the one before) spanning at least
- *       {@code futureSpan}; every held event up to the chain's latest time is applied.</li>
- *   <li><b>Caught up</b>: the watermark came within {@code maxFutureSkew} of a held event.</li>
- *   <li><b>Dismissed</b>: the watermark moved on by {@code maxFutureSkew} since the event was held,
- *       the hold is full (the oldest goes), or the input ended.</li>
- * </ul>
- *
- * A few typos dated far ahead within seconds of each other never span {@code futureSpan}, so they
- * never move the watermark. Events are taken out in arrival order; at most {@code futureHold} are held.
+ * One stream's events beyond its time horizon ({@code watermark + maxFutureSkew}), at most
+ * {@code futureHold} of them, held until the stream's own event times decide them (no clock):
+ * <b>confirmed</b> when {@code futureConfirm} held events with distinct ids form a chain (in time
+ * order, each within {@code maxFutureSkew} of the one before) spanning at least {@code futureSpan}:
+ * every held event up to the chain's latest time is applied; <b>caught up</b> when the watermark
+ * comes within {@code maxFutureSkew}; <b>dismissed</b> when the watermark moved on by
+ * {@code maxFutureSkew} since the event was held, the hold is full (the oldest goes) or the input
+ * ends. A few typos dated far ahead never span {@code futureSpan}, so they never move the watermark.
+ * Events are taken out in arrival order.
  */
 final class FutureHold {
 
@@ -53,10 +48,6 @@ final class FutureHold {
 
     int size() {
         return held.size();
-    }
-
-    boolean isEmpty() {
-        return held.isEmpty();
     }
 
     /** True when {@code time} is beyond the horizon of {@code watermark}. */

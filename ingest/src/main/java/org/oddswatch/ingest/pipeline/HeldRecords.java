@@ -14,15 +14,13 @@ import org.oddswatch.ingest.decode.DecodedEvent;
  */
 final class HeldRecords {
 
-    /** A held record: its bytes and origin (for rejects) and its record-level outcome so far. */
+    /** A held record: its bytes and origin (for rejects), its holders and its record-level outcome so far. */
     static final class Record {
         final byte[] original;
         final RecordOrigin origin;
-        /** Streams still holding the record. */
         int holders;
         RecordOutcome best;
-        /** True while the record's own offer is running. */
-        boolean inOffer = true;
+        boolean inOffer = true; // while the record's own offer runs
         boolean counted;
 
         Record(byte[] original, RecordOrigin origin) {
@@ -45,8 +43,7 @@ final class HeldRecords {
         return sofar == null || outcome.accepted() && !sofar.accepted() ? outcome : sofar;
     }
 
-    /** The record being offered, once a stream holds it; else null. */
-    private Record current;
+    private Record current; // the record being offered, once a stream holds it
     /** Live (not re-read) records some stream still holds. */
     final Set<Record> live = new LinkedHashSet<>();
     /** Record outcomes decided since the last drain, not suppressed. */

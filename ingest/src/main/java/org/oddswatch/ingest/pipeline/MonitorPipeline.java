@@ -6,6 +6,7 @@ import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
 import java.util.function.Consumer;
+import java.util.stream.Collectors;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.lifecycle.AlertState;
 import org.oddswatch.ingest.decode.DecodedEvent;
@@ -18,10 +19,10 @@ import org.oddswatch.ingest.definition.MonitorDefinition;
 
 /**
  * The path of one input (topic or file): parse each record once, decode it for every monitor
- * reading the input, route the event to the stream of its split value ({@link StreamState}: time
- * rules, dedupe, windows, alert rules) and report everything to a {@link PipelineListener}. Every
- * record ends in exactly one counted outcome per monitor, and once in the record totals. The same
- * records in the same order give the same output, byte for byte. Not thread-safe.
+ * reading the input, route the event to the {@link StreamState} of its split value and report
+ * everything to a {@link PipelineListener}. Every record ends in one counted outcome per monitor,
+ * and once in the record totals. The same records in the same order give the same output, byte for
+ * byte. Not thread-safe.
  */
 public final class MonitorPipeline {
 
@@ -33,12 +34,12 @@ public final class MonitorPipeline {
     final PipelineSettings settings;
     private final HeldRecords held = new HeldRecords();
     private final OutcomeCounts totals = new OutcomeCounts();
-    /** Records offered with output suppressed (re-read while rebuilding state), not counted in the totals. */
+    /** Records offered with output suppressed (a state rebuild), not in the totals. */
     private long rebuilt;
     private Runnable onRelease;
     /** Restored alerts of streams not opened yet, by stream name. */
     private final Map<String, List<Alert>> pendingRestore = new LinkedHashMap<>();
-    /** The CUSUM values to resume new streams' charts from, else null, and the rebuild's re-read start. */
+    /** The CUSUM values new streams resume their charts from, else null, and the rebuild's re-read start. */
     private CusumHistory chartHistory;
     private long chartsRereadFrom;
 
@@ -109,9 +110,8 @@ public final class MonitorPipeline {
     }
 
     /**
-     * The smallest source offset of a live record some stream holds beyond its time horizon, or
-     * {@link Long#MAX_VALUE} when none is held. The service commits no offset past it: a held record
-     * is in no window yet, so a restart must read it again.
+     * The smallest source offset of a live record a stream holds beyond its time horizon, else
+     * {@link Long#MAX_VALUE}: the service commits no offset past it, so a restart reads it again.
      */
     public long oldestHeldOffset() {
         return held.live.stream().mapToLong(r -> r.origin.offset()).min().orElse(Long.MAX_VALUE);
@@ -261,27 +261,21 @@ public final class MonitorPipeline {
      * {@link PipelineListener#onAlertRestored}.
      */
     public void restoreAlerts(List<Alert> published) {
-        Map<String, List<Alert>> byStream = new LinkedHashMap<>();
-        for (Alert alert : published) {
-            byStream.computeIfAbsent(alert.stream(), s -> new ArrayList<>()).add(alert);
-        }
-        byStream.forEach((name, alerts) -> {
-            StreamState stream = streamsByName.get(name);
-            if (stream != null) {
-                restore(stream, alerts);
-            } else {
-                pendingRestore.computeIfAbsent(name, s -> new ArrayList<>()).addAll(alerts);
-            }
-        });
+        published.stream().collect(Collectors.groupingBy(Alert::stream, LinkedHashMap::new, Collectors.toList()))
+                .forEach((name, alerts) -> {
+                    StreamState stream = streamsByName.get(name);
+                    if (stream != null) {
+                        restore(stream, alerts);
+                    } else {
+                        pendingRestore.computeIfAbsent(name, s -> new ArrayList<>()).addAll(alerts);
+                    }
+                });
     }
 
     private void restore(StreamState stream, List<Alert> alerts) {
         stream.baseline.restore(alerts);
         Map<List<String>, Alert> latestByEpisode = new LinkedHashMap<>();
-        for (Alert alert : alerts) {
-            latestByEpisode.put(List.of(alert.rule(), alert.subject().term(), String.valueOf(alert.subject().level())),
-                    alert);
-        }
+        alerts.forEach(a -> latestByEpisode.put(List.of(a.rule(), a.subject().term(), "" + a.subject().level()), a));
         latestByEpisode.values().stream().filter(a -> a.state() != AlertState.CLEARED)
                 .forEach(listener::onAlertRestored);
     }

@@ -24,12 +24,11 @@ import org.oddswatch.ingest.definition.MonitorDefinition;
 
 /**
  * The baseline of one stream and the alert engine that judges its final windows against it. A
- * baseline file (or none) gives the engine at once; a baseline file of the stream's own that cannot
- * be read leaves it without a baseline, the reason its note. A fixed baseline period is accumulated
- * from the stream's own events into a one-bucket store and frozen, and the engine made, once the
- * first window of the period's last bucket is final; until then complete events after the period
- * and restored alerts wait, and final windows are counted as not judged. States ({@code /status}):
- * {@code none}, {@code file}, {@code accumulating}, {@code frozen}, {@code failed}.
+ * baseline file (or none) gives the engine at once; a file of the stream's own that cannot be read
+ * leaves it without a baseline, the reason its note. A fixed baseline period is accumulated from
+ * the stream's events and frozen, and the engine made, once the first window of the period's last
+ * bucket is final; until then complete events after the period and restored alerts wait. States
+ * ({@code /status}): {@code none}, {@code file}, {@code accumulating}, {@code frozen}, {@code failed}.
  */
 final class StreamBaseline {
 
@@ -39,27 +38,23 @@ final class StreamBaseline {
 
     private final String stream;
     private final MonitorDefinition monitor;
-    /** The monitor's baseline section, or null. */
-    private final BaselineSpec spec;
+    private final BaselineSpec spec; // or null
     private final WindowEstimator estimator;
     private final WindowGeometry geometry;
     private final PipelineSettings settings;
 
-    /** Null while the fixed period accumulates. */
-    private AlertEngine engine;
+    private AlertEngine engine; // null while the fixed period accumulates
     private BaselineModel model;
     private String state;
     private String note;
     /** Why there is no baseline (failed or unreadable), or {@link GapReason#BASELINE_WEAK}; null otherwise. */
     private GapReason gap;
-    /** The fixed period's events until it freezes, else null. */
-    private WindowStore periodStore;
+    private WindowStore periodStore; // the fixed period's events until it freezes
     /** Final windows no rule judged: overlapping the fixed period, or closed before it froze. */
     private long windowsInPeriod;
     private long windowsBeforeFreeze;
     private Instant lastUnjudgedEnd;
-    /** The rule gaps while the fixed period accumulates, computed once. */
-    private List<MonitoringGap> pendingRuleGaps;
+    private List<MonitoringGap> pendingRuleGaps; // while the fixed period accumulates, computed once
     /** Complete events after the fixed period, waiting for the engine; null once it exists. */
     private List<DecodedEvent> pending;
     private List<Alert> restored = List.of();
@@ -166,11 +161,7 @@ final class StreamBaseline {
         }
     }
 
-    /**
-     * Continues the CUSUM charts ({@link AlertEngine#resumeCharts}) from the first window wholly
-     * within what the rebuild re-reads ({@code rereadFromMillis} on). A fixed period needs nothing:
-     * the rebuild re-reads it.
-     */
+    /** Continues the CUSUM charts from the first window the rebuild re-reads whole (a fixed period is re-read). */
     void resumeCharts(NavigableMap<Instant, List<CusumValue>> published, long rereadFromMillis) {
         if (engine != null && rereadFromMillis <= Long.MAX_VALUE - geometry.widthMillis()) {
             engine.resumeCharts(published, rereadFromMillis + geometry.widthMillis());

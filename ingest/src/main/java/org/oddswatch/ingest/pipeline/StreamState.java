@@ -101,7 +101,7 @@ final class StreamState {
 
     /** After the watermark moved: applies the held events now within the horizon, dismisses the stale ones. */
     private void settleHeld(boolean suppress) {
-        if (future.isEmpty()) {
+        if (future.size() == 0) {
             return;
         }
         long skew = future.skew.toMillis();
@@ -110,7 +110,7 @@ final class StreamState {
             before = watermark;
             applyHeld(future.takeThrough(watermark > Long.MAX_VALUE - skew ? Long.MAX_VALUE : watermark + skew),
                     suppress);
-        } while (watermark != before && !future.isEmpty());
+        } while (watermark != before && future.size() > 0);
         for (FutureHold.Held held : future.takeHeldBefore(watermark - skew + 1)) {
             dismiss(held, " stayed more than " + future.skew + " after the watermark while the stream moved on from "
                     + Instant.ofEpochMilli(held.heldAt()) + " to " + Instant.ofEpochMilli(watermark)

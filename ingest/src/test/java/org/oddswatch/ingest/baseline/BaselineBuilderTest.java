@@ -20,6 +20,8 @@ import org.oddswatch.alerts.baseline.BaselineFile;
 import org.oddswatch.alerts.gaps.GapReason;
 import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.estimator.calibration.BaselineModel;
+import org.oddswatch.ingest.baseline.BaselineBuilder.BaselineRequest;
+import org.oddswatch.ingest.baseline.BaselineBuilder.BuiltBaseline;
 import org.oddswatch.ingest.definition.DefinitionLoader;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.decode.RejectReason;

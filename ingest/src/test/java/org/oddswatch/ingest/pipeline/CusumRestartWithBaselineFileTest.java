@@ -23,8 +23,8 @@ import org.oddswatch.estimator.result.CusumValue;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.estimator.result.WindowStatus;
 import org.oddswatch.ingest.baseline.BaselineBuilder;
-import org.oddswatch.ingest.baseline.BaselineRequest;
-import org.oddswatch.ingest.baseline.BuiltBaseline;
+import org.oddswatch.ingest.baseline.BaselineBuilder.BaselineRequest;
+import org.oddswatch.ingest.baseline.BaselineBuilder.BuiltBaseline;
 import org.oddswatch.ingest.definition.DefinitionLoader;
 import org.oddswatch.ingest.definition.MonitorConfig;
 
