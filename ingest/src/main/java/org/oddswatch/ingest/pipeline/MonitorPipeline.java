@@ -64,6 +64,7 @@ public final class MonitorPipeline {
         this.onRelease = action;
     }
 
+    /** The number of streams held. */
     public int streamCount() {
         return streamsByName.size();
     }
