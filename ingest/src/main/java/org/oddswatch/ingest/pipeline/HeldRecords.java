@@ -64,10 +64,8 @@ final class HeldRecords {
     }
 
     /**
-     * Ends the offer of a record: the record-level outcome to count now ({@code overall} when no
-     * stream held it), or {@link RecordOutcome#HELD} when the holding streams decide it later.
-     *
-     * @param overall the best outcome of the monitors that did not hold the record, or null
+     * Ends the offer of a record: the record-level outcome to count now, given {@code overall} of the
+     * monitors that did not hold it (or null), or {@link RecordOutcome#HELD} when holding streams decide later.
      */
     RecordOutcome endOffer(RecordOutcome overall, boolean suppress) {
         Record record = current;

@@ -79,7 +79,7 @@ public final class MonitorPipeline {
      * Offers one record value: {@link #offerTree} once parsed, else {@link #offerUnreadable}.
      *
      * @param suppressOutput true while rebuilding state: state is updated, nothing emitted or counted
-     * @return the record's outcome: accepted when any monitor accepted it, else the first monitor's
+     * @return accepted when any monitor accepted the record, else the first monitor's outcome
      *     ({@link RecordOutcome#HELD} until the streams holding it decide)
      */
     public RecordOutcome offer(byte[] value, RecordOrigin origin, boolean suppressOutput) {
