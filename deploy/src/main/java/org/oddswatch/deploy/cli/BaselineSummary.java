@@ -6,7 +6,7 @@ import java.util.Locale;
 import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.estimator.calibration.BaselineModel;
 import org.oddswatch.estimator.terms.Column;
-import org.oddswatch.ingest.baseline.BuiltBaseline;
+import org.oddswatch.ingest.baseline.BaselineBuilder.BuiltBaseline;
 
 /**
  * What {@code baseline} froze, per stream: the state, the events and positives, the file, and each

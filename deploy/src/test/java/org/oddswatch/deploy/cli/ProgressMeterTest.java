@@ -21,7 +21,7 @@ import org.oddswatch.deploy.scenario.Scenario;
 import org.oddswatch.deploy.scenario.ScenarioEvent;
 import org.oddswatch.deploy.scenario.ScenarioOptions;
 import org.oddswatch.ingest.baseline.BaselineBuilder;
-import org.oddswatch.ingest.baseline.BaselineRequest;
+import org.oddswatch.ingest.baseline.BaselineBuilder.BaselineRequest;
 import org.oddswatch.ingest.definition.DefinitionLoader;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.replay.ReplayRequest;

@@ -3,6 +3,7 @@ package org.oddswatch.ingest.baseline;
 import java.io.IOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.time.Instant;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
 import java.util.List;
@@ -29,17 +30,67 @@ import org.oddswatch.ingest.replay.ReplayRunner;
 /**
  * Fits and freezes baseline models from an event file. The file runs through the same
  * {@link MonitorPipeline} as a replay, so exactly the events of {@code [from, to)} that a replay's
- * streams accept go into one window per stream (or per monitor when pooled), fitted by
- * {@link WindowEstimator#fitBaseline}: the same events as a replay's fixed-period baseline.
- *
- * <p>A model fitted from too little information ({@link BaselineInformation}) is refused unless the
- * request allows weak models; then it is written and flagged. Files are named {@code <monitor>.json}
- * (no split, or pooled) or {@code <monitor>-<split value>.json}, matching a definition's
+ * streams accept (the same as a replay's fixed-period baseline) go into one window per stream, or
+ * per monitor when pooled, fitted by {@link WindowEstimator#fitBaseline}. A model fitted from too
+ * little information ({@link BaselineInformation}) is refused unless the request allows weak models;
+ * then it is written and flagged. Files are named {@code <monitor>.json} (no split, or pooled) or
+ * {@code <monitor>-<split value>.json} ({@code /} becomes {@code -}), matching a definition's
  * {@code baseline.file: baselines/<monitor>-{split}.json}.
  */
 public final class BaselineBuilder {
 
     private BaselineBuilder() {
+    }
+
+    /**
+     * What to fit a baseline on.
+     *
+     * @param events the event file (JSON Lines or CSV)
+     * @param format its format, or null to tell by the file name
+     * @param from start of the baseline period (inclusive event time)
+     * @param to end of the period (exclusive)
+     * @param outDir where the baseline files are written
+     * @param monitor only this monitor, or null for every monitor
+     * @param pooled one baseline per monitor over all its split values, instead of one per stream
+     * @param allowWeak write a model fitted from too little information too (flagged), instead of refusing it
+     */
+    public record BaselineRequest(Path events, InputFormat format, Instant from, Instant to, Path outDir,
+                                  String monitor, boolean pooled, boolean allowWeak) {
+
+        public BaselineRequest {
+            if (from == null || to == null || !from.isBefore(to)) {
+                throw new IllegalArgumentException("the baseline period needs --from before --to");
+            }
+        }
+    }
+
+    /**
+     * One baseline the builder produced, or could not.
+     *
+     * @param stream the stream, or the monitor name for a pooled or unsplit baseline
+     * @param file the file written, or null when none was written
+     * @param events accepted events of the period (complete or not)
+     * @param positives positives among them
+     * @param model the fitted model, or null when the fit failed
+     * @param problem why no file was written (no positives, no convergence, too little information), or null
+     * @param weakness why the model rests on too little information ({@link BaselineInformation}), or null;
+     *     a weak model is written only when the request allows it
+     */
+    public record BuiltBaseline(String monitor, String stream, Path file, long events, long positives,
+                                BaselineModel model, String problem, String weakness) {
+
+        /** Whether a file was written. */
+        public boolean ok() {
+            return problem == null;
+        }
+
+        /** {@code frozen}, {@code frozen-weak} (written although weak), {@code refused-weak} or {@code failed}. */
+        public String state() {
+            if (ok()) {
+                return weakness == null ? "frozen" : "frozen-weak";
+            }
+            return model != null && weakness != null ? "refused-weak" : "failed";
+        }
     }
 
     /** One monitor's period stores, by stream (or one pooled, under the monitor's name). */
@@ -51,26 +102,19 @@ public final class BaselineBuilder {
     }
 
     /**
+     * Builds the baselines {@code request} asks for, telling {@code bytesRead} each chunk read (progress).
+     *
      * @throws IllegalArgumentException when the named monitor does not exist
      * @throws IOException when the events cannot be read or a file cannot be written
      */
-    public static List<BuiltBaseline> build(MonitorConfig config, BaselineRequest request) throws IOException {
-        return build(config, request, bytes -> { });
-    }
-
-    /** As {@link #build(MonitorConfig, BaselineRequest)}, telling {@code bytesRead} each chunk read (progress). */
     public static List<BuiltBaseline> build(MonitorConfig config, BaselineRequest request, LongConsumer bytesRead)
             throws IOException {
+        // without their baseline sections: the files may not exist yet, and no rule is wanted
+        List<MonitorDefinition> monitors = config.monitors().stream()
+                .filter(m -> request.monitor() == null || request.monitor().equals(m.name()))
+                .map(MonitorDefinition::withoutBaseline).toList();
         Map<String, Accumulator> accumulators = new LinkedHashMap<>();
-        List<MonitorDefinition> monitors = new ArrayList<>();
-        for (MonitorDefinition monitor : config.monitors()) {
-            if (request.monitor() == null || request.monitor().equals(monitor.name())) {
-                // without its own baseline section: the files may not exist yet, and no rule is wanted
-                MonitorDefinition plain = monitor.withoutBaseline();
-                monitors.add(plain);
-                accumulators.put(monitor.name(), new Accumulator(plain, plain.designCoder(), new LinkedHashMap<>()));
-            }
-        }
+        monitors.forEach(m -> accumulators.put(m.name(), new Accumulator(m, m.designCoder(), new LinkedHashMap<>())));
         if (accumulators.isEmpty()) {
             throw new IllegalArgumentException("no monitor named '" + request.monitor() + "' in " + config.file());
         }
@@ -119,17 +163,13 @@ public final class BaselineBuilder {
                 continue;
             }
             String weakness = BaselineInformation.weakness(model);
-            Path file = weakness != null && !request.allowWeak() ? null : request.outDir().resolve(fileName(stream));
+            Path file = weakness != null && !request.allowWeak() ? null
+                    : request.outDir().resolve(BaselineSpec.fileSafe(stream) + ".json");
             if (file != null) {
                 BaselineFile.write(file, model);
             }
             built.add(new BuiltBaseline(monitor.name(), stream, file, period.events(), period.cases(), model,
                     file == null ? "refused: " + weakness : null, weakness));
         }
-    }
-
-    /** {@code north} -> {@code north.json}; {@code north/east} -> {@code north-east.json}. */
-    static String fileName(String stream) {
-        return BaselineSpec.fileSafe(stream) + ".json";
     }
 }

@@ -19,16 +19,16 @@ import org.oddswatch.ingest.pipeline.RecordOrigin;
 import org.oddswatch.ingest.pipeline.RejectedRecord;
 
 /**
- * Where the pipeline's outputs leave it, the same for the live service and for a replay: each
- * estimate, alert and reject is assigned to its monitor, written as JSON once under that monitor's
- * small-cell rule ({@link PublishedEstimate}, {@link PublishedAlert}) and handed to the monitor's
- * sinks in order. Keys: an estimate {@code <stream>|<windowEnd>} (interim and final share it, so a
- * compacted topic keeps the final one); an alert its id; a reject the {@code <topic>/<partition>/<offset>}
- * of its record ({@code line/<n>} in a file). A reject also comes as a message that fits the
- * producer's default 1 MiB request: a value over {@value #REJECT_VALUE_LIMIT} bytes is cut at the
- * last whole UTF-8 character ({@code valueTruncated: true}, {@code valueBytes}: the original length),
- * a detail over {@value #REJECT_DETAIL_LIMIT} characters likewise. A reject no monitor claims goes to
- * the first monitor of its source topic. The stage does not close its sinks.
+ * Where the pipeline's outputs leave it, in the live service and in a replay alike: each estimate,
+ * alert and reject goes to its monitor, is written as JSON once under that monitor's small-cell rule
+ * ({@link PublishedEstimate}, {@link PublishedAlert}) and is handed to the monitor's sinks in order.
+ * Keys: an estimate {@code <stream>|<windowEnd>} (interim and final share it, so a compacted topic
+ * keeps the final one); an alert its id; a reject {@code <topic>/<partition>/<offset>} of its record
+ * ({@code line/<n>} in a file). A reject no monitor claims goes to the first monitor of its source
+ * topic. A reject also comes as a message that fits the producer's default 1 MiB request: a value
+ * over {@value #REJECT_VALUE_LIMIT} bytes is cut at the last whole UTF-8 character
+ * ({@code valueTruncated: true}, {@code valueBytes}: the original length), a detail over
+ * {@value #REJECT_DETAIL_LIMIT} characters likewise. The stage does not close its sinks.
  */
 public final class OutputStage implements PipelineListener {
 
@@ -40,10 +40,7 @@ public final class OutputStage implements PipelineListener {
     private final List<MonitorDefinition> monitors;
     private final Map<String, List<OutputSink>> sinks = new LinkedHashMap<>();
 
-    /**
-     * @param monitors the monitors whose outputs pass here
-     * @param sinksOf the sinks of each monitor, in the order they receive an output
-     */
+    /** @param sinksOf the sinks of each monitor, in the order they receive an output */
     public OutputStage(List<MonitorDefinition> monitors, Function<MonitorDefinition, List<OutputSink>> sinksOf) {
         this.monitors = List.copyOf(monitors);
         for (MonitorDefinition monitor : monitors) {

@@ -13,7 +13,7 @@ import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.estimator.result.WindowStatus;
 
 /**
- * The CUSUM values published with final window estimates, by stream and window end, read back so a
+ * The CUSUM values of published final estimates by stream and window end, read back so that a
  * restarted service continues its charts ({@link MonitorPipeline#resumeCharts}). Interim estimates
  * and estimates without CUSUM values are passed over; a window read twice keeps the later copy.
  */
@@ -21,11 +21,7 @@ public final class CusumHistory {
 
     private final Map<String, NavigableMap<Instant, List<CusumValue>>> byStream = new HashMap<>();
 
-    /**
-     * Adds one published estimate.
-     *
-     * @return whether it was read (false: not an estimate's JSON)
-     */
+    /** Adds one published estimate; false when {@code json} is not an estimate. */
     public boolean add(byte[] json) {
         WindowEstimate e;
         try {
@@ -43,10 +39,5 @@ public final class CusumHistory {
     /** One stream's values by window end (empty when none). */
     public NavigableMap<Instant, List<CusumValue>> of(String stream) {
         return byStream.getOrDefault(stream, new TreeMap<>());
-    }
-
-    /** Windows held, over all streams. */
-    public int windows() {
-        return byStream.values().stream().mapToInt(Map::size).sum();
     }
 }

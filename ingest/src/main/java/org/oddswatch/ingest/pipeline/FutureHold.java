@@ -2,29 +2,22 @@ package org.oddswatch.ingest.pipeline;
 
 import java.time.Duration;
 import java.util.ArrayList;
-import java.util.HashSet;
 import java.util.List;
-import java.util.Set;
 import java.util.TreeMap;
 import java.util.function.Predicate;
 import org.oddswatch.ingest.decode.DecodedEvent;
 import org.oddswatch.ingest.definition.EventSpec;
 
 /**
- * One stream's events beyond its time horizon ({@code watermark + maxFutureSkew}), held until the
- * stream's own event times decide them (no clock, so replay decides as the live service does):
- *
- * <ul>
- *   <li><b>Confirmed</b>: {@code futureConfirm} held events with distinct ids form a chain (in time
- *       order, each within {@code maxFutureSkew} of the one before) spanning at least
- *       {@code futureSpan}; every held event up to the chain's latest time is applied.</li>
- *   <li><b>Caught up</b>: the watermark came within {@code maxFutureSkew} of a held event.</li>
- *   <li><b>Dismissed</b>: the watermark moved on by {@code maxFutureSkew} since the event was held,
- *       the hold is full (the oldest goes), or the input ended.</li>
- * </ul>
- *
- * A few typos dated far ahead within seconds of each other never span {@code futureSpan}, so they
- * never move the watermark. Events are taken out in arrival order; at most {@code futureHold} are held.
+ * One stream's events beyond its time horizon ({@code watermark + maxFutureSkew}), at most
+ * {@code futureHold} of them, held until the stream's own event times decide them (no clock):
+ * <b>confirmed</b> when {@code futureConfirm} held events with distinct ids form a chain (in time
+ * order, each within {@code maxFutureSkew} of the one before) spanning at least {@code futureSpan}:
+ * every held event up to the chain's latest time is applied; <b>caught up</b> when the watermark
+ * comes within {@code maxFutureSkew}; <b>dismissed</b> when the watermark moved on by
+ * {@code maxFutureSkew} since the event was held, the hold is full (the oldest goes) or the input
+ * ends. A few typos dated far ahead never span {@code futureSpan}, so they never move the watermark.
+ * Events are taken out in arrival order.
  */
 final class FutureHold {
 
@@ -35,11 +28,11 @@ final class FutureHold {
         }
     }
 
-    private final Duration skew;
+    final Duration skew;
+    final int capacity;
     private final long skewMillis;
     private final long spanMillis;
     private final int confirm;
-    private final int capacity;
     /** Held events in arrival order. */
     private final List<Held> held = new ArrayList<>();
     /** How many held events have each event time. */
@@ -55,18 +48,6 @@ final class FutureHold {
 
     int size() {
         return held.size();
-    }
-
-    boolean isEmpty() {
-        return held.isEmpty();
-    }
-
-    Duration skew() {
-        return skew;
-    }
-
-    int capacity() {
-        return capacity;
     }
 
     /** True when {@code time} is beyond the horizon of {@code watermark}. */
@@ -88,26 +69,21 @@ final class FutureHold {
         held.add(new Held(event, record, watermark));
         long time = event.timeMillis();
         times.merge(time, 1, Integer::sum);
-        long first = time;
-        Long lower;
-        while ((lower = times.lowerKey(first)) != null && first - lower <= skewMillis) {
-            first = lower;
+        long first = chainEnd(time, false);
+        long last = chainEnd(time, true);
+        boolean confirmed = last - first >= spanMillis && held.stream().filter(h -> h.time() >= first
+                && h.time() <= last).map(h -> h.event.id()).distinct().count() >= confirm;
+        return confirmed ? last : Long.MIN_VALUE;
+    }
+
+    /** The end of the chain of held times through {@code time}, each within the skew of the next, down or up. */
+    private long chainEnd(long time, boolean up) {
+        Long next;
+        while ((next = up ? times.higherKey(time) : times.lowerKey(time)) != null
+                && Math.abs(next - time) <= skewMillis) {
+            time = next;
         }
-        long last = time;
-        Long higher;
-        while ((higher = times.higherKey(last)) != null && higher - last <= skewMillis) {
-            last = higher;
-        }
-        if (last - first < spanMillis) {
-            return Long.MIN_VALUE;
-        }
-        Set<String> ids = new HashSet<>();
-        for (Held h : held) {
-            if (h.time() >= first && h.time() <= last) {
-                ids.add(h.event.id());
-            }
-        }
-        return ids.size() >= confirm ? last : Long.MIN_VALUE;
+        return time;
     }
 
     /** Removes and returns every held event at or before {@code time}. */

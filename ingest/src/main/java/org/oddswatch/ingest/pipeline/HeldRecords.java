@@ -4,28 +4,23 @@ import java.util.ArrayList;
 import java.util.LinkedHashSet;
 import java.util.List;
 import java.util.Set;
-import java.util.function.Consumer;
 import org.oddswatch.ingest.decode.DecodedEvent;
 
 /**
  * The records that streams hold beyond their time horizon ({@link FutureHold}), at record level: a
- * record may be held by several monitors' streams and is counted in the pipeline's totals once,
- * when no stream holds it any more, or at once when another monitor accepted it. Tracks the live
- * records still held (the service commits no offset past them) and the record outcomes decided
- * since the last {@link #drainDecided}.
+ * record held by several monitors' streams is counted in the totals once, when no stream holds it
+ * any more, or at once when another monitor accepted it. Tracks the live records still held (the
+ * service commits no offset past them) and the record outcomes decided since the last drain.
  */
 final class HeldRecords {
 
-    /** A held record: its bytes and origin (for rejects) and its record-level outcome so far. */
+    /** A held record: its bytes and origin (for rejects), its holders and its record-level outcome so far. */
     static final class Record {
         final byte[] original;
         final RecordOrigin origin;
-        /** Streams still holding the record. */
         int holders;
-        /** Accepted when any monitor accepted the record, else the first outcome. */
         RecordOutcome best;
-        /** True while the record's own offer is running. */
-        boolean inOffer = true;
+        boolean inOffer = true; // while the record's own offer runs
         boolean counted;
 
         Record(byte[] original, RecordOrigin origin) {
@@ -33,14 +28,14 @@ final class HeldRecords {
             this.origin = origin;
         }
 
-        /** Merges one outcome; returns true when the record-level outcome is now known and not yet counted. */
+        /** Merges one outcome; true when the record-level outcome is now known and not yet counted. */
         boolean merge(RecordOutcome outcome) {
             best = recordLevel(best, outcome);
             return !counted && best != null && (best.accepted() || holders == 0);
         }
     }
 
-    /** The record-level outcome so far given one more monitor's: accepted when any accepted, else the first decided. */
+    /** The record-level outcome given one more monitor's: accepted when any accepted, else the first decided. */
     static RecordOutcome recordLevel(RecordOutcome sofar, RecordOutcome outcome) {
         if (outcome == null || outcome.held()) {
             return sofar;
@@ -48,11 +43,11 @@ final class HeldRecords {
         return sofar == null || outcome.accepted() && !sofar.accepted() ? outcome : sofar;
     }
 
-    /** The record being offered, once a stream holds it; else null. */
-    private Record current;
+    private Record current; // the record being offered, once a stream holds it
     /** Live (not re-read) records some stream still holds. */
-    private final Set<Record> live = new LinkedHashSet<>();
-    private final List<RecordOutcome> decided = new ArrayList<>();
+    final Set<Record> live = new LinkedHashSet<>();
+    /** Record outcomes decided since the last drain, not suppressed. */
+    final List<RecordOutcome> decided = new ArrayList<>();
 
     /** A new record is offered (nothing of an offer that failed half-way is carried over). */
     void beginOffer() {
@@ -69,10 +64,8 @@ final class HeldRecords {
     }
 
     /**
-     * Ends the offer of a record: the record-level outcome to count now ({@code overall} when no
-     * stream held it), or {@link RecordOutcome#HELD} when the holding streams decide it later.
-     *
-     * @param overall the best outcome of the monitors that did not hold the record, or null
+     * Ends the offer of a record: the record-level outcome to count now, given {@code overall} of the
+     * monitors that did not hold it (or null), or {@link RecordOutcome#HELD} when holding streams decide later.
      */
     RecordOutcome endOffer(RecordOutcome overall, boolean suppress) {
         Record record = current;
@@ -107,16 +100,5 @@ final class HeldRecords {
             decided.add(record.best);
         }
         return record.best;
-    }
-
-    /** The smallest source offset of a live held record, or {@link Long#MAX_VALUE} when none is held. */
-    long oldestLiveOffset() {
-        return live.stream().mapToLong(r -> r.origin.offset()).min().orElse(Long.MAX_VALUE);
-    }
-
-    /** Hands over (and forgets) the record outcomes decided since the last call, not suppressed. */
-    void drainDecided(Consumer<RecordOutcome> into) {
-        decided.forEach(into);
-        decided.clear();
     }
 }

@@ -6,7 +6,9 @@ import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
 import java.util.function.Consumer;
+import java.util.stream.Collectors;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.lifecycle.AlertState;
 import org.oddswatch.ingest.decode.DecodedEvent;
 import org.oddswatch.ingest.decode.Decoding;
 import org.oddswatch.ingest.decode.RecordParser;
@@ -17,11 +19,10 @@ import org.oddswatch.ingest.definition.MonitorDefinition;
 
 /**
  * The path of one input (topic or file): parse each record once, decode it for every monitor
- * reading the input, route the event to the stream of its split value ({@link StreamState}: time
- * rules, dedupe, windows, alert rules) and report everything to a {@link PipelineListener}. Every
- * record ends in exactly one counted outcome per monitor, and once in the record totals.
- * Deterministic: the same records in the same order give the same output, byte for byte. Not
- * thread-safe.
+ * reading the input, route the event to the {@link StreamState} of its split value and report
+ * everything to a {@link PipelineListener}. Every record ends in one counted outcome per monitor,
+ * and once in the record totals. The same records in the same order give the same output, byte for
+ * byte. Not thread-safe.
  */
 public final class MonitorPipeline {
 
@@ -29,26 +30,30 @@ public final class MonitorPipeline {
     private final RecordParser parser;
     private final List<MonitorRoute> routes = new ArrayList<>();
     private final Map<String, StreamState> streamsByName = new LinkedHashMap<>();
-    private final PipelineListener listener;
-    private final StreamFactory streamFactory;
+    final PipelineListener listener;
+    final PipelineSettings settings;
     private final HeldRecords held = new HeldRecords();
     private final OutcomeCounts totals = new OutcomeCounts();
-    /** Records offered with output suppressed (re-read while rebuilding state), not counted in the totals. */
+    /** Records offered with output suppressed (a state rebuild), not in the totals. */
     private long rebuilt;
-    /** Runs when the pipeline is released ({@link #onRelease}), else null. */
     private Runnable onRelease;
+    /** Restored alerts of streams not opened yet, by stream name. */
+    private final Map<String, List<Alert>> pendingRestore = new LinkedHashMap<>();
+    /** The CUSUM values new streams resume their charts from, else null, and the rebuild's re-read start. */
+    private CusumHistory chartHistory;
+    private long chartsRereadFrom;
 
     /**
      * @param input the topic or file name, for status
      * @param monitors the monitors reading this input, in definition order
-     * @throws IllegalArgumentException when a frozen baseline file (without {@code {split}}) cannot be read
+     * @throws IllegalArgumentException when a baseline file shared by a monitor's streams cannot be read
      */
     public MonitorPipeline(String input, List<MonitorDefinition> monitors, PipelineListener listener,
                            PipelineSettings settings) {
         this.input = input;
         this.listener = listener;
+        this.settings = settings;
         this.parser = new RecordParser(settings.limits());
-        this.streamFactory = new StreamFactory(listener, settings, this::resolved);
         for (MonitorDefinition monitor : monitors) {
             routes.add(new MonitorRoute(monitor));
         }
@@ -74,7 +79,7 @@ public final class MonitorPipeline {
      * Offers one record value: {@link #offerTree} once parsed, else {@link #offerUnreadable}.
      *
      * @param suppressOutput true while rebuilding state: state is updated, nothing emitted or counted
-     * @return the record's outcome: accepted when any monitor accepted it, else the first monitor's
+     * @return accepted when any monitor accepted the record, else the first monitor's outcome
      *     ({@link RecordOutcome#HELD} until the streams holding it decide)
      */
     public RecordOutcome offer(byte[] value, RecordOrigin origin, boolean suppressOutput) {
@@ -106,12 +111,11 @@ public final class MonitorPipeline {
     }
 
     /**
-     * The smallest source offset of a live record some stream still holds beyond its time horizon,
-     * or {@link Long#MAX_VALUE} when none is held. The service commits no offset past it: a held
-     * record is in no window yet, so a restart must read it again.
+     * The smallest source offset of a live record a stream holds beyond its time horizon, else
+     * {@link Long#MAX_VALUE}: the service commits no offset past it, so a restart reads it again.
      */
     public long oldestHeldOffset() {
-        return held.oldestLiveOffset();
+        return held.live.stream().mapToLong(r -> r.origin.offset()).min().orElse(Long.MAX_VALUE);
     }
 
     /** Counts and reports a record that could not be read at all (before any monitor saw it). */
@@ -141,9 +145,7 @@ public final class MonitorPipeline {
                         "split value '" + event.splitValue() + "' would be stream " + (route.streams.size() + 1)
                                 + " of at most " + route.monitor.split().maxStreams()), original, origin, suppress);
             }
-            stream = streamFactory.open(route, name, event.splitValue());
-            route.streams.put(event.splitValue(), stream);
-            streamsByName.put(name, stream);
+            stream = open(route, name, event.splitValue());
         }
         RecordOutcome outcome = stream.offer(event, suppress);
         if (outcome.held()) {
@@ -154,9 +156,24 @@ public final class MonitorPipeline {
         return outcome;
     }
 
+    /** A new stream, with what a restart restored for it before it was seen (alerts, CUSUM values). */
+    private StreamState open(MonitorRoute route, String name, String splitValue) {
+        StreamState stream = new StreamState(this, route, name, splitValue);
+        List<Alert> restore = pendingRestore.remove(name);
+        if (restore != null) {
+            restore(stream, restore);
+        }
+        if (chartHistory != null) {
+            stream.baseline.resumeCharts(chartHistory.of(name), chartsRereadFrom);
+        }
+        route.streams.put(splitValue, stream);
+        streamsByName.put(name, stream);
+        return stream;
+    }
+
     /** A held event's decided outcome: reported like any, and in the totals once the record is decided. */
-    private void resolved(StreamState stream, HeldRecords.Record record, DecodedEvent event, RecordOutcome outcome,
-                          boolean suppress) {
+    void resolved(StreamState stream, HeldRecords.Record record, DecodedEvent event, RecordOutcome outcome,
+                  boolean suppress) {
         report(stream, outcome, event, record.original, record.origin, suppress);
         RecordOutcome decided = held.resolved(record, outcome, suppress);
         if (decided != null) {
@@ -169,12 +186,12 @@ public final class MonitorPipeline {
         if (suppress) {
             return;
         }
-        stream.counts().add(outcome);
-        listener.onOutcome(stream.monitorName(), stream.name(), outcome);
+        stream.counts.add(outcome);
+        listener.onOutcome(stream.monitor.name(), stream.name, outcome);
         if (outcome.accepted()) {
-            listener.onAccepted(stream.monitorName(), stream.name(), event);
+            listener.onAccepted(stream.monitor.name(), stream.name, event);
         } else if (outcome.outcome() == Outcome.REJECTED || outcome.outcome() == Outcome.LATE) {
-            reject(stream.monitorName(), stream.name(), outcome, original, origin, false);
+            reject(stream.monitor.name(), stream.name, outcome, original, origin, false);
         }
     }
 
@@ -212,7 +229,8 @@ public final class MonitorPipeline {
 
     /** Hands over the record outcomes of held records decided since the last call (offer returned HELD for them). */
     public void drainDecidedHeld(Consumer<RecordOutcome> into) {
-        held.drainDecided(into);
+        held.decided.forEach(into);
+        held.decided.clear();
     }
 
     /** Tells the listener the records offered so far are a finished batch ({@link PipelineListener#onBatchDone}). */
@@ -239,22 +257,42 @@ public final class MonitorPipeline {
     }
 
     /**
-     * Restores open alert episodes published before a restart, for a stream not seen yet on its first
-     * event; the latest message of each open episode then goes to {@link PipelineListener#onAlertRestored}.
+     * Restores open alert episodes published before a restart (of a stream not seen yet: on its first
+     * event). The latest message of each open episode of a stream this pipeline holds then goes to
+     * {@link PipelineListener#onAlertRestored}.
      */
     public void restoreAlerts(List<Alert> published) {
-        streamFactory.restoreAlerts(published, streamsByName);
+        published.stream().collect(Collectors.groupingBy(Alert::stream, LinkedHashMap::new, Collectors.toList()))
+                .forEach((name, alerts) -> {
+                    StreamState stream = streamsByName.get(name);
+                    if (stream != null) {
+                        restore(stream, alerts);
+                    } else {
+                        pendingRestore.computeIfAbsent(name, s -> new ArrayList<>()).addAll(alerts);
+                    }
+                });
+    }
+
+    private void restore(StreamState stream, List<Alert> alerts) {
+        stream.baseline.restore(alerts);
+        Map<List<String>, Alert> latestByEpisode = new LinkedHashMap<>();
+        alerts.forEach(a -> latestByEpisode.put(List.of(a.rule(), a.subject().term(), "" + a.subject().level()), a));
+        latestByEpisode.values().stream().filter(a -> a.state() != AlertState.CLEARED)
+                .forEach(listener::onAlertRestored);
     }
 
     /**
-     * Continues the CUSUM charts of the streams with a baseline file after a restart
-     * ({@link StreamBaseline#resumeCharts}), for a stream not seen yet before its first event. Call
-     * before the rebuild re-feeds any record.
+     * Continues the CUSUM charts of the streams with a baseline file after a restart (of a stream not
+     * seen yet: on its first event). Call before the rebuild re-feeds any record.
      *
      * @param rereadFromMillis the earliest event time the rebuild is sure to re-read
      */
     public void resumeCharts(CusumHistory published, long rereadFromMillis) {
-        streamFactory.resumeCharts(published, rereadFromMillis, streamsByName.values());
+        chartHistory = published;
+        chartsRereadFrom = rereadFromMillis;
+        for (StreamState stream : streamsByName.values()) {
+            stream.baseline.resumeCharts(published.of(stream.name), rereadFromMillis);
+        }
     }
 
     /** The streams leave this instance (partition revoked or lost): tells the listener, runs {@link #onRelease}. */
@@ -281,9 +319,7 @@ public final class MonitorPipeline {
         for (MonitorRoute route : routes) {
             monitors.add(new PipelineSnapshot.MonitorStatus(route.monitor.name(), route.streams.size(),
                     route.unrouted.snapshot()));
-            for (StreamState stream : route.streams.values()) {
-                streams.add(stream.status());
-            }
+            route.streams.values().forEach(stream -> streams.add(stream.status()));
         }
         return new PipelineSnapshot(input, totals.snapshot(), rebuilt, monitors, streams);
     }

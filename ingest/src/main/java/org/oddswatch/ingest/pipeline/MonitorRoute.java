@@ -12,11 +12,7 @@ import org.oddswatch.ingest.decode.EventDecoder;
 import org.oddswatch.ingest.definition.BaselineSpec;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 
-/**
- * One monitor of a pipeline: its decoder, estimator and streams, and the baseline each new stream
- * starts with (a fixed period accumulated by the stream, or a frozen file: one for the monitor, read
- * at once, or one per split value, read when its stream opens).
- */
+/** One monitor of a pipeline: its decoder, estimator, streams, and the baseline file all its streams share. */
 final class MonitorRoute {
 
     final MonitorDefinition monitor;
@@ -26,8 +22,8 @@ final class MonitorRoute {
     final Map<String, StreamState> streams = new LinkedHashMap<>();
     /** Outcomes of records this monitor rejected before they reached a stream. */
     final OutcomeCounts unrouted = new OutcomeCounts();
-    /** The baseline file every stream uses (a file name without {@code {split}}), else null. */
-    private final BaselineModel sharedBaseline;
+    /** The baseline file of every stream (a file name without {@code {split}}), else null. */
+    final BaselineModel sharedBaseline;
 
     /** @throws IllegalArgumentException when the baseline file shared by every stream cannot be read */
     MonitorRoute(MonitorDefinition monitor) {
@@ -48,34 +44,12 @@ final class MonitorRoute {
         }
     }
 
-    /**
-     * The baseline of a new stream. A baseline file of its own that cannot be read leaves the stream
-     * without a baseline, with the reason as its note (shown as a monitoring gap).
-     */
-    StreamBaseline baseline(String stream, String splitValue, PipelineSettings settings) {
-        BaselineSpec spec = monitor.baseline();
-        if (spec != null && spec.isFixedPeriod()) {
-            return new StreamBaseline(stream, monitor, estimator, newStore(), null, null, settings);
-        }
-        BaselineModel model = sharedBaseline;
-        String note = null;
-        if (spec != null && model == null) {
-            Path file = spec.fileFor(monitor.definitionDir(), splitValue);
-            try {
-                model = readBaseline(file);
-            } catch (IOException | RuntimeException e) {
-                note = "cannot read baseline file " + file + ": " + e.getMessage();
-            }
-        }
-        return new StreamBaseline(stream, monitor, estimator, null, model, note, settings);
-    }
-
     WindowStore newStore() {
         return new WindowStore(decoder.coder(), monitor.estimates().patternLimit(), monitor.strata());
     }
 
-    /** A frozen baseline file ({@link BaselineFile}), checked against the design columns and the checksum. */
-    private BaselineModel readBaseline(Path file) throws IOException {
+    /** A baseline file ({@link BaselineFile}), checked against the design columns and the definition's checksum. */
+    BaselineModel readBaseline(Path file) throws IOException {
         BaselineModel model = BaselineFile.read(file, monitor.designCoder().columns());
         if (!BaselineFile.checksumMatches(model, monitor.checksum())) {
             throw new IOException("it was fitted under another definition of the outcome or terms (checksum "

@@ -1,6 +1,5 @@
 package org.oddswatch.ingest.pipeline;
 
-import java.util.Arrays;
 import java.util.Collections;
 import java.util.HashMap;
 import java.util.LinkedHashMap;
@@ -24,28 +23,17 @@ public final class OutcomeCounts {
         }
     }
 
-    public long get(Outcome outcome) {
-        return outcomes[outcome.ordinal()];
-    }
-
-    /** All counted records: accepted + rejected + late + duplicate. */
-    public long total() {
-        return Arrays.stream(outcomes).sum();
-    }
-
-    public long reason(String reason) {
-        return reasons.getOrDefault(reason, new long[1])[0];
-    }
-
     /** An immutable copy with every outcome present (zeros included) and reasons sorted. */
     public Snapshot snapshot() {
         Map<String, Long> byOutcome = new LinkedHashMap<>();
+        long consumed = 0;
         for (Outcome outcome : Outcome.values()) {
-            byOutcome.put(outcome.toString(), get(outcome));
+            byOutcome.put(outcome.toString(), outcomes[outcome.ordinal()]);
+            consumed += outcomes[outcome.ordinal()];
         }
         Map<String, Long> byReason = new TreeMap<>();
         reasons.forEach((reason, count) -> byReason.put(reason, count[0]));
-        return new Snapshot(total(), byOutcome, byReason);
+        return new Snapshot(consumed, byOutcome, byReason);
     }
 
     /**

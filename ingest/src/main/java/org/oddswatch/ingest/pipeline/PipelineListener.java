@@ -28,11 +28,7 @@ public interface PipelineListener {
     default void onAccepted(String monitor, String stream, DecodedEvent event) {
     }
 
-    /**
-     * One record's outcome in one monitor: {@code stream} is null when the record reached no stream
-     * (rejected before routing, or {@code too-many-streams}); {@code monitor} is null when no monitor
-     * could read it.
-     */
+    /** One record's outcome in one monitor; {@code stream} is null when the record reached no stream. */
     default void onOutcome(String monitor, String stream, RecordOutcome outcome) {
     }
 

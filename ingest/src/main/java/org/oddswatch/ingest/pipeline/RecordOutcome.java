@@ -15,9 +15,8 @@ public record RecordOutcome(Outcome outcome, String reason, String detail) {
     public static final RecordOutcome ACCEPTED = new RecordOutcome(Outcome.ACCEPTED, null, null);
 
     /**
-     * Not decided yet: every stream that received the record holds it beyond its time horizon.
-     * Not counted ({@link OutcomeCounts#add} skips it); the decided outcome follows through
-     * {@link PipelineListener#onOutcome} and {@link MonitorPipeline#drainDecidedHeld}.
+     * Not decided yet: the streams that received the record hold it beyond their time horizon. Not
+     * counted; the decided outcome follows ({@link MonitorPipeline#drainDecidedHeld}).
      */
     public static final RecordOutcome HELD = new RecordOutcome(null, "held",
             "held beyond the time horizon until the stream's events confirm or dismiss it");

@@ -1,12 +1,12 @@
 package org.oddswatch.ingest.pipeline;
 
+import java.io.IOException;
+import java.nio.file.Path;
 import java.time.Instant;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.NavigableMap;
 import org.oddswatch.alerts.engine.AlertEngine;
-import org.oddswatch.alerts.engine.ReplayHint;
-import org.oddswatch.alerts.engine.RuleInputs;
 import org.oddswatch.alerts.gaps.BaselineInformation;
 import org.oddswatch.alerts.gaps.GapReason;
 import org.oddswatch.alerts.gaps.MonitoringGap;
@@ -23,22 +23,14 @@ import org.oddswatch.ingest.definition.BaselineSpec;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 
 /**
- * The baseline of one stream and the alert engine that judges its final windows against it.
- *
- * <p>A baseline file (or none) gives the engine at once. A fixed baseline period is accumulated
- * from the stream's own events (into a one-bucket store) and frozen, and the engine made, once the
- * first window of its last bucket is final (no event of the period can still be accepted). Until
- * then complete events after the period and restored alerts wait, and final windows are counted as
- * not judged. States ({@code /status}): {@code none}, {@code file}, {@code accumulating},
- * {@code frozen}, {@code failed}.
+ * The baseline of one stream and the alert engine that judges its final windows against it. A
+ * baseline file (or none) gives the engine at once; a file of the stream's own that cannot be read
+ * leaves it without a baseline, the reason its note. A fixed baseline period is accumulated from
+ * the stream's events and frozen, and the engine made, once the first window of the period's last
+ * bucket is final; until then complete events after the period and restored alerts wait. States
+ * ({@code /status}): {@code none}, {@code file}, {@code accumulating}, {@code frozen}, {@code failed}.
  */
 final class StreamBaseline {
-
-    private static final String NONE = "none";
-    private static final String FILE = "file";
-    private static final String ACCUMULATING = "accumulating";
-    private static final String FROZEN = "frozen";
-    private static final String FAILED = "failed";
 
     /** A final window as published (with the engine's chart values) and the alerts it gave. */
     record Judged(WindowEstimate published, List<Alert> alerts) {
@@ -46,53 +38,56 @@ final class StreamBaseline {
 
     private final String stream;
     private final MonitorDefinition monitor;
+    private final BaselineSpec spec; // or null
     private final WindowEstimator estimator;
     private final WindowGeometry geometry;
-    private final ReplayHint replayHint;
-    /** Where the engine's calls are recorded, or null. */
-    private final RuleInputs ruleInputs;
+    private final PipelineSettings settings;
 
-    private AlertEngine engine;
+    private AlertEngine engine; // null while the fixed period accumulates
     private BaselineModel model;
     private String state;
     private String note;
     /** Why there is no baseline (failed or unreadable), or {@link GapReason#BASELINE_WEAK}; null otherwise. */
     private GapReason gap;
-    private WindowStore periodStore;
-    /** Final windows no rule judged: overlapping the fixed baseline period, or before it froze. */
+    private WindowStore periodStore; // the fixed period's events until it freezes
+    /** Final windows no rule judged: overlapping the fixed period, or closed before it froze. */
     private long windowsInPeriod;
     private long windowsBeforeFreeze;
     private Instant lastUnjudgedEnd;
-    /** Rule gaps while the fixed baseline period is open (no engine yet), computed once. */
-    private List<MonitoringGap> pendingRuleGaps;
-    /** Complete events after the period, waiting for the engine; null once it exists. */
+    private List<MonitoringGap> pendingRuleGaps; // while the fixed period accumulates, computed once
+    /** Complete events after the fixed period, waiting for the engine; null once it exists. */
     private List<DecodedEvent> pending;
     private List<Alert> restored = List.of();
 
-    StreamBaseline(String stream, MonitorDefinition monitor, WindowEstimator estimator, WindowStore periodStore,
-                   BaselineModel fileBaseline, String fileBaselineNote, PipelineSettings settings) {
+    StreamBaseline(MonitorRoute route, String stream, String splitValue, PipelineSettings settings) {
         this.stream = stream;
-        this.monitor = monitor;
-        this.estimator = estimator;
+        this.monitor = route.monitor;
+        this.spec = monitor.baseline();
+        this.estimator = route.estimator;
         this.geometry = monitor.geometry();
-        this.replayHint = settings.replayHint();
-        this.ruleInputs = settings.ruleInputs();
-        BaselineSpec spec = monitor.baseline();
+        this.settings = settings;
         if (spec != null && spec.isFixedPeriod()) {
-            this.periodStore = periodStore;
-            this.pending = new ArrayList<>();
-            this.state = ACCUMULATING;
-        } else {
-            this.model = fileBaseline;
-            this.note = fileBaselineNote;
-            this.state = spec == null ? NONE : fileBaseline != null ? FILE : FAILED;
-            this.gap = spec != null && fileBaseline == null ? GapReason.BASELINE_UNREADABLE : null;
-            noteWeakness();
-            this.engine = newEngine();
+            periodStore = route.newStore();
+            pending = new ArrayList<>();
+            state = "accumulating";
+            return;
         }
+        model = route.sharedBaseline;
+        if (spec != null && model == null) {
+            Path file = spec.fileFor(monitor.definitionDir(), splitValue);
+            try {
+                model = route.readBaseline(file);
+            } catch (IOException | RuntimeException e) {
+                note = "cannot read baseline file " + file + ": " + e.getMessage();
+                gap = GapReason.BASELINE_UNREADABLE;
+            }
+        }
+        state = spec == null ? "none" : model != null ? "file" : "failed";
+        noteWeakness();
+        engine = newEngine();
     }
 
-    /** The baseline in use (frozen file or fixed period), or null. */
+    /** The baseline in use (file or frozen period), or null. */
     BaselineModel model() {
         return model;
     }
@@ -105,7 +100,7 @@ final class StreamBaseline {
         return note;
     }
 
-    /** Whether an alert engine judges the final windows (false while a fixed baseline period is open). */
+    /** Whether an alert engine judges the final windows (false while a fixed period accumulates). */
     boolean judging() {
         return engine != null;
     }
@@ -114,16 +109,16 @@ final class StreamBaseline {
         return engine.cusumReadings();
     }
 
-    /** An accepted event: into the period's store when in the period, and to the sequential rule when complete. */
+    /** An accepted event: into the period's store when in the period; to the sequential rules when complete. */
     void onAccepted(DecodedEvent event) {
         long time = event.timeMillis();
-        if (periodStore != null && inPeriod(time)) {
+        if (periodStore != null && time >= spec.from().toEpochMilli() && time < spec.to().toEpochMilli()) {
             periodStore.add(0, event.row(), event.positive(), event.stratum());
         }
         if (event.complete()) {
             if (engine != null) {
                 toEngine(event);
-            } else if (time >= monitor.baseline().to().toEpochMilli()) {
+            } else if (time >= spec.to().toEpochMilli()) {
                 pending.add(event); // events of the period itself are never scored against it
             }
         }
@@ -131,21 +126,21 @@ final class StreamBaseline {
 
     /** Before the windows through end bucket {@code newFinal} are closed: freezes the period once it is complete. */
     void beforeClosing(long newFinal) {
-        if (periodStore != null && engine == null
-                && newFinal >= geometry.bucketOf(monitor.baseline().to().toEpochMilli() - 1) + 1) {
+        if (engine == null && newFinal >= geometry.bucketOf(spec.to().toEpochMilli() - 1) + 1) {
             freeze();
         }
     }
 
-    /** Judges one final window (one overlapping the period too: the CUSUM reports the events after it per window). */
+    /** Judges one final window (a window overlapping the period too: the CUSUM takes the events after it). */
     Judged judge(WindowEstimate estimate) {
-        boolean inPeriod = overlapsPeriod(estimate.windowStart(), estimate.windowEnd());
+        boolean inPeriod = spec != null && spec.isFixedPeriod() && estimate.windowStart().isBefore(spec.to())
+                && estimate.windowEnd().isAfter(spec.from());
         if (inPeriod) {
             windowsInPeriod++;
         }
         if (engine != null) {
-            if (ruleInputs != null) {
-                ruleInputs.window(estimate, inPeriod);
+            if (settings.ruleInputs() != null) {
+                settings.ruleInputs().window(estimate, inPeriod);
             }
             List<Alert> alerts = inPeriod ? engine.onBaselinePeriodWindow(estimate) : engine.onFinalEstimate(estimate);
             return new Judged(engine.withCharts(estimate), alerts);
@@ -166,36 +161,21 @@ final class StreamBaseline {
         }
     }
 
-    /**
-     * Continues the CUSUM charts of a baseline file ({@link AlertEngine#resumeCharts}) from the first
-     * window wholly within what the rebuild re-reads ({@code rereadFromMillis} on); later windows are
-     * then judged as in the uninterrupted run. A fixed period needs nothing: its rebuild re-reads it.
-     */
+    /** Continues the CUSUM charts from the first window the rebuild re-reads whole (a fixed period is re-read). */
     void resumeCharts(NavigableMap<Instant, List<CusumValue>> published, long rereadFromMillis) {
-        if (engine != null && pending == null && rereadFromMillis <= Long.MAX_VALUE - geometry.widthMillis()) {
+        if (engine != null && rereadFromMillis <= Long.MAX_VALUE - geometry.widthMillis()) {
             engine.resumeCharts(published, rereadFromMillis + geometry.widthMillis());
         }
     }
 
-    private boolean overlapsPeriod(Instant start, Instant stop) {
-        BaselineSpec spec = monitor.baseline();
-        return spec != null && spec.isFixedPeriod() && start.isBefore(spec.to()) && stop.isAfter(spec.from());
-    }
-
-    private boolean inPeriod(long time) {
-        BaselineSpec spec = monitor.baseline();
-        return time >= spec.from().toEpochMilli() && time < spec.to().toEpochMilli();
-    }
-
     private void freeze() {
-        BaselineSpec spec = monitor.baseline();
         try {
             model = estimator.fitBaseline(periodStore.window(0, 1), spec.from().toString(), spec.to().toString(),
                     monitor.checksum());
-            state = FROZEN;
+            state = "frozen";
             noteWeakness();
         } catch (IllegalArgumentException e) {
-            state = FAILED;
+            state = "failed";
             note = e.getMessage();
             gap = GapReason.BASELINE_FAILED;
         }
@@ -206,28 +186,27 @@ final class StreamBaseline {
             engine.restore(restored);
             restored = List.of();
         }
-        for (DecodedEvent event : pending) {
-            toEngine(event);
-        }
+        pending.forEach(this::toEngine);
         pending = null;
     }
 
     private void toEngine(DecodedEvent event) {
-        if (ruleInputs != null) {
-            ruleInputs.event(stream, event.timeMillis(), event.id(), event.row(), event.positive());
+        if (settings.ruleInputs() != null) {
+            settings.ruleInputs().event(stream, event.timeMillis(), event.id(), event.row(), event.positive());
         }
         engine.onEvent(event.timeMillis(), event.id(), event.row(), event.positive());
     }
 
-    /** This stream's alert engine: CUSUM alerts on the window grid, message counts under the small-cell rule. */
+    /** The alert engine: CUSUM alerts on the window grid, message counts under the small-cell rule. */
     private AlertEngine newEngine() {
-        if (ruleInputs != null) {
-            ruleInputs.engine(stream, monitor.ruleInputsKey(), model);
+        if (settings.ruleInputs() != null) {
+            settings.ruleInputs().engine(stream, monitor.ruleInputsKey(), model);
         }
-        return new AlertEngine(stream, monitor.rules(), model, replayHint, geometry, monitor.outputs().smallCells());
+        return new AlertEngine(stream, monitor.rules(), model, settings.replayHint(), geometry,
+                monitor.outputs().smallCells());
     }
 
-    /** Flags a baseline in use that rests on too little information ({@link BaselineInformation}). */
+    /** Flags a baseline that rests on too little information ({@link BaselineInformation}). */
     private void noteWeakness() {
         String weakness = model == null ? null : BaselineInformation.weakness(model);
         if (weakness != null) {
@@ -238,13 +217,12 @@ final class StreamBaseline {
 
     /** What the baseline leaves unmonitored: its own problem, the rules that do not run, the windows not judged. */
     List<MonitoringGap> gaps() {
-        BaselineSpec spec = monitor.baseline();
         GapReason reason = gap;
         String detail = note;
         if (spec == null) {
             reason = GapReason.NO_BASELINE;
             detail = "the definition has no baseline section";
-        } else if (ACCUMULATING.equals(state)) {
+        } else if (engine == null) {
             reason = GapReason.BASELINE_PENDING;
             detail = "the baseline period " + spec.from() + " to " + spec.to() + " has not closed yet";
         }

@@ -2,15 +2,15 @@ package org.oddswatch.ingest.pipeline;
 
 import java.time.Instant;
 import java.util.ArrayList;
+import java.util.Arrays;
 import java.util.List;
-import java.util.NavigableMap;
 import org.oddswatch.alerts.gaps.BaselineInformation;
 import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.estimator.WindowEstimator;
 import org.oddswatch.estimator.calibration.BaselineModel;
-import org.oddswatch.estimator.result.CusumValue;
 import org.oddswatch.estimator.result.WindowEstimate;
+import org.oddswatch.estimator.result.WindowStatus;
 import org.oddswatch.estimator.window.WindowGeometry;
 import org.oddswatch.estimator.window.WindowStore;
 import org.oddswatch.ingest.decode.DecodedEvent;
@@ -18,67 +18,58 @@ import org.oddswatch.ingest.decode.RejectReason;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 
 /**
- * One stream's state: window store, watermark, dedupe window ({@link DedupeWindow}), events held
- * beyond the horizon ({@link FutureHold}), the closing of windows ({@link WindowCloser}) and the
- * baseline with the alert engine ({@link StreamBaseline}).
+ * One stream: its time rules, {@link DedupeWindow}, {@link FutureHold}, window store and the closing
+ * of its windows, and its baseline with the alert engine ({@link StreamBaseline}).
  *
- * <p>Time rules, with buckets of one step, {@code k = width/step} buckets per window and lateness
- * {@code L}: the watermark {@code W} is the largest event time accepted; window {@code e} (end
- * bucket) is final when {@code W >= start(e) + L}. An event in bucket {@code b} is late when window
- * {@code b+1}, its first, is final. An event later than {@code W + maxFutureSkew} is held; its
- * outcome is reported through {@link HeldOutcomes} once decided.
+ * <p>Time rules, with buckets of one step and lateness {@code L}: the watermark {@code W} is the
+ * largest event time accepted; window {@code e} (end bucket) covers buckets {@code e-k .. e-1},
+ * {@code k = width/step}, and is final when {@code W >= start(e) + L}. An event in bucket {@code b}
+ * is late when window {@code b+1}, its first, is final. An event later than
+ * {@code W + maxFutureSkew} is held; its outcome goes to {@link MonitorPipeline#resolved} once
+ * decided. A window that becomes final is estimated (if it holds an event), judged
+ * ({@link StreamBaseline#judge}) and published before its alerts; then the buckets and ids no open
+ * window can use are dropped.
  */
 final class StreamState {
 
-    /** Receives the outcome of a held event once it is decided. */
-    interface HeldOutcomes {
-        void resolved(StreamState stream, HeldRecords.Record record, DecodedEvent event, RecordOutcome outcome,
-                      boolean suppress);
-    }
-
-    private final String name;
-    private final MonitorDefinition monitor;
+    final String name;
+    final MonitorDefinition monitor;
+    final StreamBaseline baseline;
+    final OutcomeCounts counts = new OutcomeCounts();
+    private final MonitorPipeline pipeline;
+    private final WindowEstimator estimator;
     private final WindowGeometry geometry;
+    private final int bucketsPerWindow;
     private final FutureHold future;
-    private final HeldOutcomes heldOutcomes;
     private final WindowStore store;
     /** The ids of the events in the store's buckets. */
     private final DedupeWindow dedupe = new DedupeWindow();
-    private final StreamBaseline baseline;
-    private final WindowCloser windows;
-    private final OutcomeCounts counts = new OutcomeCounts();
 
     private long watermark = Long.MIN_VALUE;
     /** Accepted events, and a bit per term (first 64) set once an accepted event had a value for it. */
     private long acceptedEvents;
     private long termsWithValues;
+    /** The end bucket of the newest final window, or {@link Long#MIN_VALUE} before the first. */
+    private long newestFinalWindow = Long.MIN_VALUE;
+    private WindowEstimate lastFinal;
+    private long finalWindows;
+    private double[] warmStart;
 
-    StreamState(String name, MonitorDefinition monitor, WindowEstimator estimator, WindowStore store,
-                StreamBaseline baseline, PipelineListener listener, HeldOutcomes heldOutcomes) {
+    StreamState(MonitorPipeline pipeline, MonitorRoute route, String name, String splitValue) {
         this.name = name;
-        this.monitor = monitor;
+        this.monitor = route.monitor;
+        this.baseline = new StreamBaseline(route, name, splitValue, pipeline.settings);
+        this.pipeline = pipeline;
+        this.estimator = route.estimator;
         this.geometry = monitor.geometry();
+        this.bucketsPerWindow = geometry.bucketsPerWindow();
         this.future = new FutureHold(monitor.event());
-        this.heldOutcomes = heldOutcomes;
-        this.store = store;
-        this.baseline = baseline;
-        this.windows = new WindowCloser(name, estimator, geometry, store, dedupe, baseline, listener);
+        this.store = route.newStore();
     }
 
-    String name() {
-        return name;
-    }
-
-    String monitorName() {
-        return monitor.name();
-    }
-
+    /** The watermark, or {@link Long#MIN_VALUE} before the first event. */
     long watermark() {
         return watermark;
-    }
-
-    OutcomeCounts counts() {
-        return counts;
     }
 
     /** Applies the time rules and dedupe, then stores the event; {@link RecordOutcome#HELD} beyond the horizon. */
@@ -98,8 +89,8 @@ final class StreamState {
     void hold(DecodedEvent event, HeldRecords.Record record, boolean suppress) {
         FutureHold.Held evicted = future.evictIfFull();
         if (evicted != null) {
-            dismiss(evicted, " was held beyond the watermark " + Instant.ofEpochMilli(watermark) + " + " + future.skew()
-                    + " and dropped: the hold of " + future.capacity() + " events is full", suppress);
+            dismiss(evicted, " was held beyond the watermark " + Instant.ofEpochMilli(watermark) + " + " + future.skew
+                    + " and dropped: the hold of " + future.capacity + " events is full", suppress);
         }
         long frontier = future.hold(event, record, watermark);
         if (frontier != Long.MIN_VALUE) {
@@ -110,18 +101,18 @@ final class StreamState {
 
     /** After the watermark moved: applies the held events now within the horizon, dismisses the stale ones. */
     private void settleHeld(boolean suppress) {
-        if (future.isEmpty()) {
+        if (future.size() == 0) {
             return;
         }
-        long skew = future.skew().toMillis();
+        long skew = future.skew.toMillis();
         long before;
         do {
             before = watermark;
-            long horizon = watermark > Long.MAX_VALUE - skew ? Long.MAX_VALUE : watermark + skew;
-            applyHeld(future.takeThrough(horizon), suppress);
-        } while (watermark != before && !future.isEmpty());
+            applyHeld(future.takeThrough(watermark > Long.MAX_VALUE - skew ? Long.MAX_VALUE : watermark + skew),
+                    suppress);
+        } while (watermark != before && future.size() > 0);
         for (FutureHold.Held held : future.takeHeldBefore(watermark - skew + 1)) {
-            dismiss(held, " stayed more than " + future.skew() + " after the watermark while the stream moved on from "
+            dismiss(held, " stayed more than " + future.skew + " after the watermark while the stream moved on from "
                     + Instant.ofEpochMilli(held.heldAt()) + " to " + Instant.ofEpochMilli(watermark)
                     + " without confirming it (" + monitor.event().futureConfirm() + " events spanning "
                     + monitor.event().futureSpan() + " confirm a new frontier)", suppress);
@@ -130,13 +121,13 @@ final class StreamState {
 
     private void applyHeld(List<FutureHold.Held> taken, boolean suppress) {
         for (FutureHold.Held held : taken) {
-            heldOutcomes.resolved(this, held.record(), held.event(), apply(held.event(), suppress), suppress);
+            pipeline.resolved(this, held.record(), held.event(), apply(held.event(), suppress), suppress);
         }
     }
 
     /** Rejects a held event {@code too-far-in-future}; {@code why} follows its time in the detail. */
     private void dismiss(FutureHold.Held held, String why, boolean suppress) {
-        heldOutcomes.resolved(this, held.record(), held.event(), RecordOutcome.rejected(RejectReason.TOO_FAR_IN_FUTURE,
+        pipeline.resolved(this, held.record(), held.event(), RecordOutcome.rejected(RejectReason.TOO_FAR_IN_FUTURE,
                 Instant.ofEpochMilli(held.time()) + why), suppress);
     }
 
@@ -168,7 +159,7 @@ final class StreamState {
 
     private void moveWatermark(long time, boolean suppress) {
         watermark = time;
-        windows.closeThrough(geometry.bucketOf(watermark - geometry.latenessMillis()), suppress);
+        closeThrough(geometry.bucketOf(watermark - geometry.latenessMillis()), suppress);
     }
 
     /** Moves the watermark on without an event (idle timeout, live only). */
@@ -182,48 +173,93 @@ final class StreamState {
     /** End of input: the held events are dismissed, then every window that holds events becomes final. */
     void closeAll() {
         for (FutureHold.Held held : future.takeThrough(Long.MAX_VALUE)) {
-            dismiss(held, " is more than " + future.skew() + " after the watermark " + Instant.ofEpochMilli(watermark)
+            dismiss(held, " is more than " + future.skew + " after the watermark " + Instant.ofEpochMilli(watermark)
                     + " and no new frontier was confirmed by the end of the input", false);
         }
-        windows.closeAll();
+        closeThrough((store.bucketCount() == 0 ? newestFinalWindow : store.newestBucket()) + bucketsPerWindow, false);
+        if (baseline.judging()) {
+            pipeline.listener.onCusum(name, baseline.cusumReadings());
+        }
+    }
+
+    /** Makes every window ending at or before bucket {@code newFinal} final. */
+    private void closeThrough(long newFinal, boolean suppress) {
+        if (newFinal <= newestFinalWindow) {
+            return;
+        }
+        baseline.beforeClosing(newFinal);
+        long end = newestFinalWindow == Long.MIN_VALUE ? Long.MIN_VALUE : newestFinalWindow + 1;
+        while (true) {
+            long held = store.oldestBucketFrom(end == Long.MIN_VALUE ? Long.MIN_VALUE : end - bucketsPerWindow);
+            if (held == Long.MAX_VALUE || (end = Math.max(end, held + 1)) > newFinal) {
+                break;
+            }
+            closeWindow(end++, suppress);
+        }
+        newestFinalWindow = newFinal;
+        store.expireBefore(newFinal + 1 - bucketsPerWindow);
+        dedupe.expireBefore(newFinal + 1 - bucketsPerWindow);
+        if (baseline.judging() && !suppress) {
+            pipeline.listener.onCusum(name, baseline.cusumReadings());
+        }
+    }
+
+    private void closeWindow(long end, boolean suppress) {
+        long fitStart = System.nanoTime(); // for the fit-duration meter only; never part of the output
+        WindowEstimate estimate = estimate(end, WindowStatus.FINAL);
+        long fitNanos = System.nanoTime() - fitStart;
+        warmStart = reproducibleStart(estimator.coefficientVector(estimate));
+        lastFinal = estimate;
+        finalWindows++;
+        StreamBaseline.Judged judged = baseline.judge(estimate);
+        if (!suppress) { // the estimate (with its chart values) before the window's alerts
+            pipeline.listener.onEstimate(judged.published());
+            pipeline.listener.onFinalFit(judged.published(), fitNanos);
+            for (Alert alert : judged.alerts()) {
+                pipeline.listener.onAlert(alert);
+            }
+        }
     }
 
     /** An interim estimate of the window holding the watermark, unless that window is final. */
     void emitInterim() {
-        windows.emitInterim(watermark);
+        long end = watermark == Long.MIN_VALUE ? Long.MIN_VALUE : geometry.bucketOf(watermark) + 1;
+        if (end > newestFinalWindow) { // never before the first event
+            pipeline.listener.onEstimate(estimate(end, WindowStatus.INTERIM));
+        }
     }
 
-    /** Open episodes published before a restart; applied when the alert engine exists. */
-    void restore(List<Alert> alerts) {
-        baseline.restore(alerts);
+    private WindowEstimate estimate(long end, WindowStatus status) {
+        return estimator.estimate(name, geometry.windowStart(end), geometry.windowEnd(end), status,
+                store.window(end - bucketsPerWindow, end), warmStart, baseline.model());
     }
 
-    /** See {@link StreamBaseline#resumeCharts}. */
-    void resumeCharts(NavigableMap<Instant, List<CusumValue>> published, long rereadFromMillis) {
-        baseline.resumeCharts(published, rereadFromMillis);
+    /**
+     * The next window's warm start: the coefficients rounded to single precision, so that a stream
+     * rebuilt after a restart (older windows may differ in the last bits) gives the same estimate.
+     */
+    static double[] reproducibleStart(double[] coefficients) {
+        return coefficients == null ? null : Arrays.stream(coefficients).map(c -> (float) c).toArray();
     }
 
     /** What is not monitored: the baseline's gaps, then the terms no accepted event had a value for. */
-    List<MonitoringGap> gaps() {
+    private List<MonitoringGap> gaps() {
         List<MonitoringGap> gaps = new ArrayList<>(baseline.gaps());
-        if (acceptedEvents > 0) {
-            for (int t = 0; t < Math.min(Long.SIZE, monitor.terms().size()); t++) {
-                if ((termsWithValues & (1L << t)) == 0) {
-                    gaps.add(MonitoringGap.term(name, monitor.terms().get(t).name(), "none of the "
-                            + BaselineInformation.withheld(acceptedEvents)
-                            + " accepted event(s) has a value for it, so every event is left out of the model fit"));
-                }
+        for (int t = 0; acceptedEvents > 0 && t < Math.min(Long.SIZE, monitor.terms().size()); t++) {
+            if ((termsWithValues & (1L << t)) == 0) {
+                gaps.add(MonitoringGap.term(name, monitor.terms().get(t).name(), "none of the "
+                        + BaselineInformation.withheld(acceptedEvents)
+                        + " accepted event(s) has a value for it, so every event is left out of the model fit"));
             }
         }
         return gaps;
     }
 
     StreamStatus status() {
-        WindowEstimate lastFinal = windows.lastFinal();
         BaselineModel model = baseline.model();
         return new StreamStatus(name, monitor.name(),
                 watermark == Long.MIN_VALUE ? null : Instant.ofEpochMilli(watermark),
-                lastFinal == null ? null : lastFinal.windowEnd(), windows.finalWindows(), baseline.state(),
+                lastFinal == null ? null : lastFinal.windowEnd(), finalWindows, baseline.state(),
                 baseline.note(), model == null ? null : model.events(), model == null ? null : model.cases(),
                 store.bucketCount(), store.approximateBytes(), future.size(), counts.snapshot(), gaps());
     }

@@ -20,6 +20,8 @@ import org.oddswatch.alerts.baseline.BaselineFile;
 import org.oddswatch.alerts.gaps.GapReason;
 import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.estimator.calibration.BaselineModel;
+import org.oddswatch.ingest.baseline.BaselineBuilder.BaselineRequest;
+import org.oddswatch.ingest.baseline.BaselineBuilder.BuiltBaseline;
 import org.oddswatch.ingest.definition.DefinitionLoader;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.decode.RejectReason;
@@ -80,7 +82,8 @@ class BaselineBuilderTest {
         Path events = events();
         MonitorConfig config = DefinitionLoader.load(definition(), Map.of());
         List<BuiltBaseline> built = BaselineBuilder.build(config,
-                new BaselineRequest(events, null, START, END, dir.resolve("baselines"), null, false, false));
+                new BaselineRequest(events, null, START, END, dir.resolve("baselines"), null, false, false),
+                bytes -> { });
         assertEquals(List.of("respiratory/north", "respiratory/south"), built.stream().map(BuiltBaseline::stream).toList());
         List<StreamStatus> replayed = replayedStreams(config, events);
         for (int i = 0; i < built.size(); i++) {
@@ -140,7 +143,8 @@ class BaselineBuilderTest {
         Path events = events();
         MonitorConfig config = DefinitionLoader.load(definition(), Map.of());
         List<BuiltBaseline> pooled = BaselineBuilder.build(config,
-                new BaselineRequest(events, null, START, END, dir.resolve("pooled"), "respiratory", true, false));
+                new BaselineRequest(events, null, START, END, dir.resolve("pooled"), "respiratory", true, false),
+                bytes -> { });
         assertEquals(1, pooled.size());
         assertEquals("respiratory", pooled.get(0).stream());
         assertEquals(2400, pooled.get(0).events());
@@ -148,7 +152,7 @@ class BaselineBuilderTest {
 
         List<BuiltBaseline> empty = BaselineBuilder.build(config, new BaselineRequest(events, null,
                 Instant.parse("2030-01-01T00:00:00Z"), Instant.parse("2030-02-01T00:00:00Z"), dir.resolve("none"),
-                null, false, false));
+                null, false, false), bytes -> { });
         assertEquals(1, empty.size());
         assertNull(empty.get(0).file());
         assertTrue(empty.get(0).problem().startsWith("no accepted events"), empty.get(0).problem());
@@ -190,7 +194,8 @@ class BaselineBuilderTest {
         MonitorConfig config = DefinitionLoader.load(definition, Map.of());
 
         BuiltBaseline refused = BaselineBuilder.build(config,
-                new BaselineRequest(events, null, START, END, dir.resolve("b"), null, false, false)).get(0);
+                new BaselineRequest(events, null, START, END, dir.resolve("b"), null, false, false),
+                bytes -> { }).get(0);
         assertFalse(refused.ok());
         assertEquals("refused-weak", refused.state());
         assertNull(refused.file());
@@ -201,7 +206,8 @@ class BaselineBuilderTest {
         assertFalse(Files.exists(dir.resolve("b").resolve("tiny.json")));
 
         BuiltBaseline weak = BaselineBuilder.build(config,
-                new BaselineRequest(events, null, START, END, dir.resolve("b"), null, false, true)).get(0);
+                new BaselineRequest(events, null, START, END, dir.resolve("b"), null, false, true),
+                bytes -> { }).get(0);
         assertTrue(weak.ok());
         assertEquals("frozen-weak", weak.state());
         assertEquals(refused.weakness(), weak.weakness());

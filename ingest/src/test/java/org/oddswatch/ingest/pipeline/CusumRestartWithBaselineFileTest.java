@@ -23,8 +23,8 @@ import org.oddswatch.estimator.result.CusumValue;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.estimator.result.WindowStatus;
 import org.oddswatch.ingest.baseline.BaselineBuilder;
-import org.oddswatch.ingest.baseline.BaselineRequest;
-import org.oddswatch.ingest.baseline.BuiltBaseline;
+import org.oddswatch.ingest.baseline.BaselineBuilder.BaselineRequest;
+import org.oddswatch.ingest.baseline.BaselineBuilder.BuiltBaseline;
 import org.oddswatch.ingest.definition.DefinitionLoader;
 import org.oddswatch.ingest.definition.MonitorConfig;
 
@@ -101,7 +101,7 @@ class CusumRestartWithBaselineFileTest {
         String fixed = definition("{from: 2026-02-02T00:00:00Z, to: 2026-02-05T00:00:00Z}");
         List<BuiltBaseline> built = BaselineBuilder.build(DefinitionLoader.parse("test.yaml", fixed, Map.of(), null),
                 new BaselineRequest(events, null, D0, D0.plusMillis(3 * DAY), dir.resolve("baselines"), null, false,
-                        false));
+                        false), bytes -> { });
         assertTrue(built.get(0).ok(), built.get(0).problem());
         String withFile = definition("{file: '" + built.get(0).file().toAbsolutePath() + "'}");
 
@@ -152,7 +152,8 @@ class CusumRestartWithBaselineFileTest {
         for (WindowEstimate e : first.estimates) {
             assertTrue(history.add(PublishedEstimate.json(e, SmallCellPolicy.DEFAULT).getBytes(StandardCharsets.UTF_8)));
         }
-        assertTrue(history.windows() > 0, "final windows with CUSUM values published before the stop");
+        assertTrue(!history.of(first.estimates.get(0).stream()).isEmpty(),
+                "final windows with CUSUM values published before the stop");
         Run second = new Run();
         MonitorPipeline after = pipeline(definition, second);
         after.restoreAlerts(readBack);

@@ -6,10 +6,12 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import java.util.ArrayList;
 import java.util.HashMap;
+import java.util.HashSet;
 import java.util.Iterator;
 import java.util.List;
 import java.util.Map;
 import java.util.Random;
+import java.util.Set;
 import java.util.TreeMap;
 import org.junit.jupiter.api.Test;
 
@@ -26,7 +28,8 @@ class DedupeWindowTest {
         held.expireBefore(5);
         assertTrue(held.contains("clinic-7/0001"), "bucket 5 is not below floor 5");
         assertFalse(held.add("clinic-7/0001", 6));
-        assertEquals(2, held.size());
+        assertTrue(held.contains("clinic-7/0002"));
+        assertFalse(held.contains("clinic-7/0003"));
     }
 
     @Test
@@ -44,7 +47,7 @@ class DedupeWindowTest {
         assertFalse(held.contains("b"));
         held.expireBefore(11);
         assertFalse(held.contains("a"));
-        assertEquals(0, held.size());
+        assertFalse(held.contains("b"));
     }
 
     @Test
@@ -86,7 +89,8 @@ class DedupeWindowTest {
         assertFalse(held.contains("Aa"));
         assertTrue(held.contains("BB"));
         assertTrue(held.add("Aa", 3));
-        assertEquals(2, held.size());
+        assertTrue(held.contains("Aa"));
+        assertTrue(held.contains("BB"));
     }
 
     @Test
@@ -96,7 +100,9 @@ class DedupeWindowTest {
         for (int i = 0; i < family.size(); i++) {
             assertTrue(held.add(family.get(i), i / 100));
         }
-        assertEquals(family.size(), held.size());
+        for (String id : family) {
+            assertTrue(held.contains(id), id);
+        }
         for (String id : family) {
             assertFalse(held.add(id, 50));
         }
@@ -108,7 +114,7 @@ class DedupeWindowTest {
 
     @Test
     void theEmptyIdAndAnIdWithHashOneAreDistinct() {
-        // "" hashes to 0 (the empty-slot mark) and "\u0001" to 1 (its stand-in): java.lang.String javadoc.
+        // Source: java.lang.String javadoc: "" hashes to 0 and "\u0001" to 1 (hash values a table may treat specially).
         assertEquals(0, "".hashCode());
         assertEquals(1, "\u0001".hashCode());
         DedupeWindow held = new DedupeWindow();
@@ -129,36 +135,43 @@ class DedupeWindowTest {
         held.remove("never-added");
         assertFalse(held.contains("p"));
         assertTrue(held.add("p", 1));
-        assertEquals(1, held.size());
+        assertFalse(held.add("p", 1));
+        assertFalse(held.contains("never-added"));
     }
 
     @Test
-    void growsForManyIdsAndShrinksAgainOnceTheyExpire() {
+    void holdsABurstAndKeepsNoMoreThanTwiceTheHeldIdsOnceTheyExpire() {
         DedupeWindow held = new DedupeWindow();
         for (int i = 0; i < 20_000; i++) {
             assertTrue(held.add("burst-" + i, 0));
         }
-        assertEquals(20_000, held.size());
-        assertTrue(held.capacity() >= 2 * 20_000, "at most half the slots are used: " + held.capacity());
-        held.expireBefore(1);
-        assertEquals(0, held.size());
         for (int i = 0; i < 20_000; i++) {
+            assertTrue(held.contains("burst-" + i));
+        }
+        held.expireBefore(1);
+        for (int i = 0; i < 20_000; i++) {
+            assertFalse(held.contains("burst-" + i));
             assertTrue(held.add("burst-" + i, 1), "expired, so new again");
         }
-        // A steady stream with a short horizon: tombstones are reclaimed, so the table stays small.
+        // A steady stream with a short horizon (at most 40 ids held): once the burst is purged, at
+        // most max(16, 2 * 40) entries are kept.
         for (int i = 0; i < 200_000; i++) {
             long bucket = 2 + i / 10;
             held.expireBefore(bucket - 3);
             assertTrue(held.add("steady-" + i, bucket));
+            assertTrue(i < 100_000 || held.entries() <= 2 * 40, "entries " + held.entries() + " after add " + i);
         }
-        assertEquals(40, held.size());
-        assertTrue(held.capacity() < 16 * (40 + 1), "capacity " + held.capacity());
+        for (int i = 200_000 - 40; i < 200_000; i++) {
+            assertTrue(held.contains("steady-" + i), "the last four buckets are held");
+        }
+        assertFalse(held.contains("steady-" + (200_000 - 41)));
+        assertFalse(held.contains("burst-0"));
     }
 
     /**
-     * Differential test against the map-plus-bucket-lists model the set replaced: random ids from a
-     * pool (with hash collisions and the empty id) and fresh ones, buckets around a moving frontier (some below the floor), rising floors and
-     * undone adds, checked operation by operation.
+     * Differential test against a reference model (id to bucket, ids dropped bucket by bucket): random
+     * ids from a pool (with hash collisions and the empty id) and fresh ones, buckets around a moving
+     * frontier (some below the floor), rising floors and undone adds, checked operation by operation.
      */
     @Test
     void agreesWithAHashMapModelOnARandomStream() {
@@ -173,7 +186,8 @@ class DedupeWindowTest {
         DedupeWindow held = new DedupeWindow();
         long frontier = 0;
         long floor = Long.MIN_VALUE;
-        int maxCapacity = 0;
+        Set<String> added = new HashSet<>();
+        int maxEntries = 0;
         for (int op = 0; op < 300_000; op++) {
             int kind = random.nextInt(100);
             if (kind < 2) {
@@ -188,27 +202,30 @@ class DedupeWindowTest {
             } else {
                 String id = random.nextInt(10) < 3 ? "walk-in/" + op : pool.get(random.nextInt(pool.size()));
                 long bucket = frontier - random.nextInt(8) + (kind < 4 ? -1000 : 0);
-                boolean added = held.add(id, bucket);
-                assertEquals(!model.held.containsKey(id), added, "op " + op + " id '" + id + "'");
-                if (added && kind >= 97) {
+                boolean isNew = held.add(id, bucket);
+                assertEquals(!model.held.containsKey(id), isNew, "op " + op + " id '" + id + "'");
+                if (isNew && kind >= 97) {
                     held.remove(id); // the store refused the event: the model never held it
-                } else if (added) {
+                } else if (isNew) {
                     model.add(id, bucket);
+                    added.add(id);
                 }
             }
-            maxCapacity = Math.max(maxCapacity, held.capacity());
+            maxEntries = Math.max(maxEntries, held.entries());
             if (op % 10_000 == 0) {
-                assertEquals(model.held.size(), held.size(), "op " + op);
+                for (String id : added) {
+                    assertEquals(model.held.containsKey(id), held.contains(id), "op " + op + " id '" + id + "'");
+                }
             }
         }
         for (String id : pool) {
             assertEquals(model.held.containsKey(id), held.contains(id), id);
         }
-        assertTrue(maxCapacity >= 4096, "the wide horizon made the table grow: " + maxCapacity);
-        assertTrue(held.capacity() < maxCapacity, "the narrow horizon let it shrink: " + held.capacity());
+        assertTrue(maxEntries >= 4096, "the wide horizon held many ids: " + maxEntries);
+        assertTrue(held.entries() < maxEntries / 4, "the narrow horizon let expired ids go: " + held.entries());
     }
 
-    /** The replaced structure: id to bucket, and the ids of each bucket, dropped bucket by bucket. */
+    /** The reference: id to bucket, and the ids of each bucket, dropped bucket by bucket. */
     private static final class ReferenceModel {
         final Map<String, Long> held = new HashMap<>();
         final TreeMap<Long, List<String>> idsByBucket = new TreeMap<>();

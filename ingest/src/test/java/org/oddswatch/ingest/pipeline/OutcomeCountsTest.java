@@ -17,11 +17,12 @@ class OutcomeCountsTest {
         counts.add(RecordOutcome.rejected(RejectReason.MISSING_FIELD, "no event id at /id"));
         counts.add(RecordOutcome.duplicate("id 'y' already seen"));
         counts.add(RecordOutcome.rejected(RejectReason.BAD_TIME, "not a time"));
-        assertEquals(2, counts.get(Outcome.ACCEPTED));
-        assertEquals(0, counts.get(Outcome.LATE));
-        assertEquals(6, counts.total());
-        assertEquals(2, counts.reason(RejectReason.DUPLICATE));
-        assertEquals(0, counts.reason(RejectReason.LATE));
+        OutcomeCounts.Snapshot snapshot = counts.snapshot();
+        assertEquals(2, snapshot.outcome(Outcome.ACCEPTED));
+        assertEquals(0, snapshot.outcome(Outcome.LATE));
+        assertEquals(6, snapshot.consumed());
+        assertEquals(2, snapshot.reasons().get(RejectReason.DUPLICATE));
+        assertEquals(null, snapshot.reasons().get(RejectReason.LATE));
         // Hand-written expectation: outcomes in enum order with zeros, reasons sorted by code.
         assertEquals("{\"consumed\":6,\"outcomes\":{\"accepted\":2,\"rejected\":2,\"late\":0,\"duplicate\":2},"
                         + "\"reasons\":{\"" + RejectReason.BAD_TIME + "\":1,\"duplicate\":2,\""

@@ -210,7 +210,7 @@ class ReplayRunnerTest {
     /**
      * What a restart relies on: a stream that starts mid-way (as after re-reading from an offset)
      * gives bit-identical estimates from the second window whose data are complete on, because the
-     * warm start is rounded (WindowCloser.reproducibleStart) and so no longer carries the history.
+     * warm start is rounded (StreamState.reproducibleStart) and so no longer carries the history.
      */
     @Test
     void aStreamStartedMidWayAgreesFromItsSecondCompleteWindow() throws Exception {
