@@ -1,16 +1,19 @@
 package org.oddswatch.deploy.cli;
 
+import java.io.IOException;
 import java.io.PrintWriter;
 import java.net.BindException;
 import java.nio.file.Path;
 import java.time.Duration;
 import java.util.concurrent.Callable;
 import org.oddswatch.deploy.sandbox.Sandbox;
+import org.oddswatch.deploy.sandbox.SandboxLog;
 import org.oddswatch.deploy.scenario.Scenario;
 import org.oddswatch.deploy.scenario.ScenarioOptions;
 import picocli.CommandLine.Command;
 import picocli.CommandLine.Mixin;
 import picocli.CommandLine.Option;
+import picocli.CommandLine.ParentCommand;
 import picocli.CommandLine.Spec;
 import picocli.CommandLine.Model.CommandSpec;
 
@@ -23,7 +26,13 @@ import picocli.CommandLine.Model.CommandSpec;
             + "twelve weeks), serves /metrics, /health and /status, and prints the broker's bootstrap address so "
             + "that any Kafka client can produce to it. With the default settings the scripted odds-ratio doubling "
             + "raises an alert within about a minute. Ctrl-C stops everything (exit 0).",
-            "The data are simulated. A signal calls for investigation; it is not a diagnosis or proof of cause."})
+            "The first line is the address of the live page. On a terminal the summary is one screen redrawn in "
+            + "place (plain lines when the output is not a terminal, or with --plain). Log lines, of the service, "
+            + "the Kafka clients and the embedded broker, and the alert messages as JSON go to the log file "
+            + "(--log); with --verbose they are shown on standard error as well, at info level, and the summary "
+            + "is printed as plain lines so that they do not erase each other.",
+            "The data are simulated. A signal calls for investigation; it is not a diagnosis or proof of cause. "
+            + "Local public-health rules, data-protection law and qualified epidemiologists decide what is done."})
 final class SandboxCommand implements Callable<Integer> {
 
     @Option(names = "--config", paramLabel = "FILE",
@@ -67,6 +76,11 @@ final class SandboxCommand implements Callable<Integer> {
             + "standard output is not a terminal).")
     boolean plain;
 
+    @Option(names = "--log", paramLabel = "FILE", defaultValue = "oddswatch-sandbox.log",
+            description = "Log file of the run, replaced at each start (relative to the working directory). "
+                    + "Default: ${DEFAULT-VALUE}.")
+    Path log;
+
     @Option(names = "--no-feed", description = "No simulated feed: wait for events produced by other clients.")
     boolean noFeed;
 
@@ -81,14 +95,30 @@ final class SandboxCommand implements Callable<Integer> {
     @Spec
     CommandSpec spec;
 
+    @ParentCommand
+    OddswatchCommand top;
+
     @Override
     public Integer call() throws Exception {
         validate();
         Scenario s = scenario.build(ScenarioOptions.DEFAULT_START, span, defects);
         PrintWriter out = spec.commandLine().getOut();
-        boolean redraw = !plain && System.console() != null;
-        Sandbox sandbox = new Sandbox(new Sandbox.Settings(config, kafkaPort, http, s, speed, !noFeed, refresh, redraw,
-                partitions), out);
+        boolean verbose = top != null && top.verbose();
+        // with --verbose, log lines share the terminal: a redraw would erase them
+        boolean redraw = !plain && !verbose && System.console() != null;
+        SandboxLog sandboxLog;
+        try {
+            sandboxLog = SandboxLog.open(log, verbose ? System.err : null);
+        } catch (IOException e) {
+            throw UserError.config("--log: cannot write " + log + " (" + e.getMessage() + ")", e);
+        }
+        try (sandboxLog) {
+            return run(new Sandbox(new Sandbox.Settings(config, kafkaPort, http, s, speed, !noFeed, refresh, redraw,
+                    partitions, verbose), out, sandboxLog), out);
+        }
+    }
+
+    private int run(Sandbox sandbox, PrintWriter out) throws Exception {
         StopSignals signals = StopSignals.install();
         long deadline = duration == null ? Long.MAX_VALUE : System.nanoTime() + duration.toNanos();
         String rule = untilAlert;
