@@ -116,7 +116,8 @@ public final class Sandbox {
     private long serve(EmbeddedBroker broker, MonitorConfig config, String inputTopic, Stopper stopper,
                        BooleanSupplier interrupted) throws Exception {
         PrometheusMeterRegistry registry = new PrometheusMeterRegistry(PrometheusConfig.DEFAULT);
-        SandboxView view = new SandboxView(settings.scenario(), settings.speed(), watchedTerms(config));
+        SandboxView view = new SandboxView(settings.scenario(), settings.speed(), watchedTerms(config),
+                settings.redraw() ? SandboxView.terminalWidth() : SandboxView.DEFAULT_WIDTH);
         List<JsonNode> raised = new ArrayList<>();
         Set<String> estimateTopics = new HashSet<>();
         Set<String> alertTopics = new HashSet<>();

@@ -13,8 +13,10 @@ import java.util.regex.Pattern;
 /**
  * The sandbox's log file. While it is open, the process's standard error, where the slf4j-simple
  * backend writes every logger (the service's, the Kafka clients' and the embedded broker's, and the
- * alert messages as JSON of the definition's {@code log} output), goes into {@code file} instead of
- * between the summary's redraws; with {@code echo} it goes to both.
+ * alert messages as JSON of the service's log output), goes into {@code file} instead of between the
+ * summary's redraws; with {@code echo} it goes to both. So does {@link System#out}, where Kafka's
+ * test kit prints its storage formatting: the summary keeps the terminal through a writer made on
+ * the original stream before the log is opened.
  *
  * <p>It also notes the warnings that matter for monitoring, so the summary can point at them: every
  * {@code WARN} or {@code ERROR} line of an {@code org.oddswatch} logger, except the alert messages
@@ -30,19 +32,22 @@ public final class SandboxLog implements AutoCloseable {
     private static final Pattern LINE = Pattern.compile("^\\S+ (WARN|ERROR) (\\S+) - (.*)$");
 
     private final Path file;
-    private final PrintStream previous;
+    private final PrintStream previousErr;
+    private final PrintStream previousOut;
     private final PrintStream replacement;
     private long warnings;
     private String newest;
 
-    private SandboxLog(Path file, PrintStream previous, OutputStream out, PrintStream echo) {
+    private SandboxLog(Path file, OutputStream out, PrintStream echo) {
         this.file = file;
-        this.previous = previous;
+        this.previousErr = System.err;
+        this.previousOut = System.out;
         this.replacement = new PrintStream(new NotingStream(out, echo), true, StandardCharsets.UTF_8);
     }
 
     /**
-     * Starts a new log file (an existing one is replaced) and sends standard error to it.
+     * Starts a new log file (an existing one is replaced) and sends {@link System#err} and
+     * {@link System#out} to it.
      *
      * @param file the log file
      * @param echo where log lines are shown as well (the terminal's standard error), or null for the file only
@@ -53,8 +58,9 @@ public final class SandboxLog implements AutoCloseable {
             Files.createDirectories(absolute.getParent());
         }
         OutputStream out = Files.newOutputStream(absolute);
-        SandboxLog log = new SandboxLog(absolute, System.err, out, echo);
+        SandboxLog log = new SandboxLog(absolute, out, echo);
         System.setErr(log.replacement);
+        System.setOut(log.replacement);
         return log;
     }
 
@@ -89,11 +95,14 @@ public final class SandboxLog implements AutoCloseable {
         newest = m.group(1) + " " + logger.substring(dot + 1) + ": " + m.group(3);
     }
 
-    /** Gives standard error back and closes the file. */
+    /** Gives standard error and output back and closes the file. */
     @Override
     public void close() throws IOException {
         if (System.err == replacement) {
-            System.setErr(previous);
+            System.setErr(previousErr);
+        }
+        if (System.out == replacement) {
+            System.setOut(previousOut);
         }
         replacement.close();
     }

@@ -1,6 +1,9 @@
 package org.oddswatch.deploy.sandbox;
 
 import com.fasterxml.jackson.databind.JsonNode;
+import java.io.File;
+import java.io.IOException;
+import java.nio.charset.StandardCharsets;
 import java.time.Instant;
 import java.util.ArrayList;
 import java.util.Comparator;
@@ -11,6 +14,7 @@ import java.util.List;
 import java.util.Locale;
 import java.util.Map;
 import java.util.Set;
+import java.util.concurrent.TimeUnit;
 import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.deploy.scenario.Scenario;
 import org.oddswatch.deploy.scenario.ScriptedChange;
@@ -33,13 +37,14 @@ public final class SandboxView {
     static final int STREAM_LINES = 4;
     static final int GAP_LINES = 2;
     static final int ALERT_LINES = 3;
-    /** Width of a line when the terminal does not say ({@code COLUMNS}). */
+    /** Width of a line when the terminal does not say. */
     static final int DEFAULT_WIDTH = 120;
 
-    /** The caution every summary ends with; never cut to the width. */
+    /** The caution every summary ends with; never cut, each line fits an 80-column terminal. */
     public static final List<String> CAUTION = List.of(
-            "A signal calls for investigation; it is not a diagnosis or proof of cause. Ctrl-C stops.",
-            "Local public-health rules, data-protection law and qualified epidemiologists decide what is done.");
+            "A signal calls for investigation; it is not a diagnosis or proof of cause.",
+            "Local public-health rules, data-protection law and qualified epidemiologists",
+            "decide what is done. The data are invented. Ctrl-C stops.");
 
     /**
      * What one summary shows.
@@ -64,7 +69,7 @@ public final class SandboxView {
      * @param watchedByMonitor per monitor name, its watched term names
      */
     public SandboxView(Scenario scenario, double speed, Map<String, Set<String>> watchedByMonitor) {
-        this(scenario, speed, watchedByMonitor, terminalWidth());
+        this(scenario, speed, watchedByMonitor, DEFAULT_WIDTH);
     }
 
     /** @param width longer lines of the screen are cut to this many characters */
@@ -75,12 +80,29 @@ public final class SandboxView {
         this.width = Math.max(40, width);
     }
 
-    /** The terminal's width from {@code COLUMNS} when the shell exports it, else {@link #DEFAULT_WIDTH}. */
-    static int terminalWidth() {
+    /**
+     * The terminal's width: {@code COLUMNS} when the shell exports it, else what {@code stty size}
+     * says of the controlling terminal, else {@link #DEFAULT_WIDTH}.
+     */
+    public static int terminalWidth() {
         try {
             String columns = System.getenv("COLUMNS");
-            return columns == null ? DEFAULT_WIDTH : Integer.parseInt(columns.trim());
-        } catch (NumberFormatException e) {
+            if (columns != null) {
+                return Integer.parseInt(columns.trim());
+            }
+            Process stty = new ProcessBuilder("stty", "size").redirectInput(new File("/dev/tty"))
+                    .redirectError(ProcessBuilder.Redirect.DISCARD).start();
+            if (!stty.waitFor(2, TimeUnit.SECONDS)) {
+                stty.destroyForcibly();
+                return DEFAULT_WIDTH;
+            }
+            String[] rowsColumns = new String(stty.getInputStream().readAllBytes(), StandardCharsets.US_ASCII).trim()
+                    .split("\\s+");
+            return rowsColumns.length == 2 ? Integer.parseInt(rowsColumns[1]) : DEFAULT_WIDTH;
+        } catch (IOException | NumberFormatException e) {
+            return DEFAULT_WIDTH;
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
             return DEFAULT_WIDTH;
         }
     }
@@ -102,7 +124,7 @@ public final class SandboxView {
 
     /**
      * The whole summary screen: at most {@link #MAX_LINES} lines, none longer than the width but the
-     * caution's two (under 100 characters), which are never cut.
+     * caution's (under 80 characters), which are never cut.
      */
     public List<String> screen(Frame f) {
         List<String> lines = new ArrayList<>();
@@ -112,11 +134,8 @@ public final class SandboxView {
                 week(f.simulatedNow()), speed > 0 ? String.format(Locale.ROOT, "%.0fx real time", speed) : "unpaced",
                 f.sent(), f.feedDone() ? " (feed finished)" : ""));
         lines.add("script   " + script());
-        lines.add(counts(f.counts()));
         String reasons = reasons(f.counts());
-        if (!reasons.isEmpty()) {
-            lines.add("         " + reasons);
-        }
+        lines.add(counts(f.counts()) + (reasons.isEmpty() ? "" : "; " + reasons));
         Map<String, Integer> open = openAlertsByStream(f.alerts());
         Set<String> gapStreams = new HashSet<>();
         List<MonitoringGap> gaps = ordered(f.gaps());
@@ -150,27 +169,42 @@ public final class SandboxView {
             lines.add("streams  none yet: the first window closes after its width plus the lateness");
             return lines;
         }
-        String shown = all.size() <= STREAM_LINES ? String.valueOf(all.size())
-                : STREAM_LINES + " of " + all.size();
-        lines.add(String.format(Locale.ROOT, "streams  %-21s %-10s %7s  %-22s  %s", shown, "window end", "events",
-                "prevalence (interval)", "watched odds ratio (interval), true"));
-        for (OutputWatcher.StreamView s : ranked.subList(0, Math.min(STREAM_LINES, ranked.size()))) {
-            String mark = open.containsKey(s.stream()) ? "alert" : gapStreams.contains(s.stream()) ? "gap" : "";
-            lines.add(String.format(Locale.ROOT, "  %-5s %-22s %s", mark, s.stream(), streamLine(s)));
+        List<OutputWatcher.StreamView> top = ranked.subList(0, Math.min(STREAM_LINES, ranked.size()));
+        int name = Math.max(16, top.stream().mapToInt(s -> s.stream().length()).max().orElse(0));
+        String shown = all.size() <= STREAM_LINES ? String.valueOf(all.size()) : STREAM_LINES + " of " + all.size();
+        lines.add(String.format(Locale.ROOT, "streams  %-" + (name - 1) + "s %-5s %7s  %-17s  %s", shown,
+                "ends", "events", "prevalence", "watched odds ratio (95% interval), true value"));
+        for (OutputWatcher.StreamView s : top) {
+            String mark = open.containsKey(s.stream()) ? "alert" : gapStreams.contains(s.stream()) ? "gap"
+                    : s.lastFinal() == null && s.open() != null ? "open" : "";
+            lines.add(streamLine(String.format(Locale.ROOT, "  %-5s %-" + name + "s ", mark, s.stream()), s));
         }
         return lines;
     }
 
-    private String streamLine(OutputWatcher.StreamView s) {
+    /**
+     * Window end (of the newest final window, or of the open one before the first is final), events,
+     * prevalence in percent with its interval, then the watched odds ratios, as many as fit the width
+     * whole ({@code +N} says how many did not).
+     */
+    private String streamLine(String prefix, OutputWatcher.StreamView s) {
         JsonNode e = s.lastFinal() != null ? s.lastFinal() : s.open();
         if (e == null) {
-            return "-";
+            return prefix + "-";
         }
-        StringBuilder b = new StringBuilder(String.format(Locale.ROOT, "%-10s %,7d  %-22s",
-                day(e.path("windowEnd").asText()).substring(5) + ("final".equals(e.path("status").asText()) ? "" : " open"),
-                e.path("events").asLong(), prevalence(e)));
-        for (String or : oddsRatios(e, "  ", "%s%s %.2f %s %.2f")) {
-            b.append(or);
+        JsonNode p = e.path("prevalence");
+        String prevalence = p.hasNonNull("value") ? String.format(Locale.ROOT, "%.2f%% (%.2f-%.2f)",
+                100 * p.path("value").asDouble(), 100 * p.path("lower").asDouble(), 100 * p.path("upper").asDouble())
+                : "-";
+        StringBuilder b = new StringBuilder(prefix).append(String.format(Locale.ROOT, "%-5s %,7d  %-17s",
+                day(e.path("windowEnd").asText()).substring(5), e.path("events").asLong(), prevalence));
+        List<String> ratios = oddsRatios(e, "  ", "%s%s %.2f %s %.2f");
+        for (int i = 0; i < ratios.size(); i++) {
+            String more = i + 1 < ratios.size() ? "  +" + (ratios.size() - i - 1) : "";
+            if (b.length() + ratios.get(i).length() + more.length() > width) {
+                return b.append("  +").append(ratios.size() - i).toString();
+            }
+            b.append(ratios.get(i));
         }
         return b.toString();
     }

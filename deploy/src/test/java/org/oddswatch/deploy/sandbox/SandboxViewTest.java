@@ -89,23 +89,25 @@ class SandboxViewTest {
                 text);
         assertTrue(text.contains("simulated 2026-05-06 (week 17, invented data)"), text);
         assertTrue(text.contains("records  consumed 110: accepted 100, rejected 6, late 3, duplicate 1"), text);
-        assertTrue(text.contains("by reason: bad-time 6, duplicate 1, late 3"), text);
-        // the newest final window, with its watched odds ratio and the truth beside it
-        assertTrue(lines.contains("        respiratory            04-27        8,033  0.0522 (0.0475-0.0572)  "
+        assertTrue(text.contains("duplicate 1; by reason: bad-time 6, duplicate 1, late 3"), text);
+        // the newest final window: prevalence in percent, the watched odds ratio and the truth beside it
+        assertTrue(lines.contains("        respiratory      04-27   8,033  5.22% (4.75-5.72)  "
                 + "household_contact=yes 2.40 (1.97-2.93) 2.50"), text);
         assertTrue(text.contains("alerts   none so far"), text);
         assertTrue(text.contains("not monitored: nothing"), text);
         assertTrue(text.contains("log      no warnings"), text);
-        assertEquals(SandboxView.CAUTION, lines.subList(lines.size() - 2, lines.size()), text);
+        assertEquals(SandboxView.CAUTION, lines.subList(lines.size() - 3, lines.size()), text);
         String caution = String.join(" ", SandboxView.CAUTION);
         assertTrue(caution.contains("A signal calls for investigation; it is not a diagnosis or proof of cause."), caution);
         assertTrue(caution.contains("Local public-health rules, data-protection law and qualified epidemiologists "
                 + "decide what is done."), caution);
+        assertTrue(SandboxView.CAUTION.stream().allMatch(l -> l.length() < 80), caution);
     }
 
     /**
      * Fifty streams, a hundred alert messages, every kind of gap and a dozen reject reasons: still one
-     * screen of at most 20 lines (a 24-line terminal with the shell's prompt) no wider than the terminal,
+     * screen of at most 20 lines (a 24-line terminal with the shell's prompt) no wider than an 80-column
+     * terminal,
      * the streams with an open alert or a part not monitored first, and the failed baseline's reason shown.
      */
     @Test
@@ -137,25 +139,25 @@ class SandboxViewTest {
         OutcomeCounts.Snapshot counts = new OutcomeCounts.Snapshot(99_999, Map.of("accepted", 90_000L,
                 "rejected", 9_999L), reasons);
         SandboxView narrow = new SandboxView(Scenario.respiratory(ScenarioOptions.defaults()), 300000,
-                Map.of("respiratory-by-clinic", Set.of("household_contact")), 100);
+                Map.of("respiratory-by-clinic", Set.of("household_contact")), 80);
         List<String> lines = narrow.screen(new SandboxView.Frame("http://127.0.0.1:8470/", "oddswatch-sandbox.log",
                 "127.0.0.1:9", "ready", Instant.parse("2026-05-06T12:00:00Z"), 99_999, false, counts, streams, alerts,
                 gaps, new SandboxLog.Notes(3, "WARN MonitorService: something a person should read")));
         String text = String.join("\n", lines);
         assertTrue(lines.size() <= 20, lines.size() + " lines:\n" + text);
-        assertTrue(lines.stream().allMatch(l -> l.length() <= 100), text);
-        assertTrue(lines.stream().anyMatch(l -> l.length() == 100 && l.endsWith("...")), "long lines are cut:\n" + text);
+        assertTrue(lines.stream().allMatch(l -> l.length() <= 80), text);
+        assertTrue(lines.stream().anyMatch(l -> l.length() == 80 && l.endsWith("...")), "long lines are cut:\n" + text);
         assertTrue(text.contains("streams  4 of 50"), text);
         // open alerts first (clinics 20..29 except 21, cleared last), newest of them first
         assertTrue(lines.stream().anyMatch(l -> l.startsWith("  alert respiratory-by-clinic/clinic-29")), text);
         assertTrue(lines.stream().noneMatch(l -> l.startsWith("  gap ") || l.startsWith("        respiratory")), text);
         // the parts not monitored: a failed baseline, a rule switched off before windows not judged
         assertTrue(text.contains("not monitored: 53, the first 2 shown"), text);
-        assertTrue(text.contains("  respiratory-by-clinic/clinic-07: no baseline in use [baseline-failed]: the fit did "
-                + "not converge"), text);
-        assertTrue(text.contains("  respiratory-by-clinic/clinic-08: rule calibration not running [switched-off]"), text);
+        // at 80 columns the reason's code is shown, its words may be cut
+        assertTrue(text.contains("  respiratory-by-clinic/clinic-07: no baseline in use [baseline-failed]: the "), text);
+        assertTrue(text.contains("  respiratory-by-clinic/clinic-08: rule calibration not running [switched-off"), text);
         assertTrue(text.contains("alerts   9 open"), text);
         assertTrue(text.contains("log      3 warning(s), the newest: WARN MonitorService: something"), text);
-        assertEquals(SandboxView.CAUTION, lines.subList(lines.size() - 2, lines.size()), text);
+        assertEquals(SandboxView.CAUTION, lines.subList(lines.size() - 3, lines.size()), text);
     }
 }
