@@ -175,8 +175,8 @@ public final class Sandbox {
                             + " (details in " + logFile + ")", service.failure());
                 }
                 if (feed.failure.get() != null) {
-                    throw new IllegalStateException("the simulated feed stopped: " + feed.failure.get().getMessage(),
-                            feed.failure.get());
+                    throw new IllegalStateException("the simulated feed stopped: " + feed.failure.get().getMessage()
+                            + " (details in " + logFile + ")", feed.failure.get());
                 }
                 List<MonitoringGap> gaps = gaps(status);
                 SandboxLog.Notes notes = log == null ? SandboxLog.Notes.NONE : log.notes();
