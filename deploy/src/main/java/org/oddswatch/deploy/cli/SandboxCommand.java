@@ -23,7 +23,7 @@ import picocli.CommandLine.Model.CommandSpec;
             "Run everything locally: an embedded Kafka broker, a simulated feed, the monitor service and a live summary.",
             "Starts a single-node KRaft broker on 127.0.0.1, creates the topics, streams the scenario in simulated "
             + "time faster than real time, runs the monitor service on it (baseline fitted from the scenario's first "
-            + "twelve weeks), serves /metrics, /health and /status, and prints the broker's bootstrap address so "
+            + "twelve weeks), serves the live page, /metrics, /health and /status, and prints the broker's bootstrap address so "
             + "that any Kafka client can produce to it. With the default settings the scripted odds-ratio doubling "
             + "raises an alert within about a minute. Ctrl-C stops everything (exit 0).",
             "The first line is the address of the live page. On a terminal the summary is one screen redrawn in "
@@ -61,7 +61,8 @@ final class SandboxCommand implements Callable<Integer> {
     int kafkaPort;
 
     @Option(names = "--http", paramLabel = "HOST:PORT", defaultValue = "127.0.0.1:8470",
-            description = "Address of /metrics, /health and /status (port 0: any free port). Default: ${DEFAULT-VALUE}.")
+            description = "Address of the live page (/) and of /metrics, /health and /status (port 0: any free port; "
+                    + "loopback unless you choose otherwise). Default: ${DEFAULT-VALUE}.")
     String http;
 
     @Option(names = "--partitions", paramLabel = "N", defaultValue = "1",
