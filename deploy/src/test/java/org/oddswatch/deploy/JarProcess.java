@@ -29,7 +29,8 @@ import org.junit.jupiter.api.Assumptions;
 public final class JarProcess implements AutoCloseable {
 
     private static final Pattern BOOTSTRAP = Pattern.compile("Kafka bootstrap: (\\S+)");
-    private static final Pattern HTTP = Pattern.compile("http://(\\S+)/status");
+    /** The first address printed: the sandbox's page ({@code http://host:port/}) or run's {@code /status}. */
+    private static final Pattern HTTP = Pattern.compile("http://([^/\\s]+)/");
 
     private final Process process;
     private final List<String> lines = new ArrayList<>();

@@ -61,6 +61,14 @@ public final class OddswatchCommand implements Runnable {
     /** Log levels before the first logger exists (system properties override simplelogger.properties). */
     private static void configureLogging(String[] args) {
         List<String> list = Arrays.asList(args);
+        if (list.stream().filter(a -> !a.startsWith("-")).findFirst().filter("sandbox"::equals).isPresent()) {
+            // the sandbox's log goes to its log file (SandboxLog): full logger names, so that the summary can
+            // tell the service's warnings from the broker's, and the Kafka warnings kept there
+            System.setProperty("org.slf4j.simpleLogger.showShortLogName", "false");
+            System.setProperty("org.slf4j.simpleLogger.showLogName", "true");
+            System.setProperty("org.slf4j.simpleLogger.log.org.apache.kafka", "warn");
+            System.setProperty("org.slf4j.simpleLogger.log.kafka", "warn");
+        }
         if (list.contains("--verbose")) {
             System.setProperty("org.slf4j.simpleLogger.defaultLogLevel", "info");
             System.setProperty("org.slf4j.simpleLogger.log.org.apache.kafka", "info");

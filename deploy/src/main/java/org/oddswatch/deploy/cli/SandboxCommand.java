@@ -1,16 +1,19 @@
 package org.oddswatch.deploy.cli;
 
+import java.io.IOException;
 import java.io.PrintWriter;
 import java.net.BindException;
 import java.nio.file.Path;
 import java.time.Duration;
 import java.util.concurrent.Callable;
 import org.oddswatch.deploy.sandbox.Sandbox;
+import org.oddswatch.deploy.sandbox.SandboxLog;
 import org.oddswatch.deploy.scenario.Scenario;
 import org.oddswatch.deploy.scenario.ScenarioOptions;
 import picocli.CommandLine.Command;
 import picocli.CommandLine.Mixin;
 import picocli.CommandLine.Option;
+import picocli.CommandLine.ParentCommand;
 import picocli.CommandLine.Spec;
 import picocli.CommandLine.Model.CommandSpec;
 
@@ -20,10 +23,16 @@ import picocli.CommandLine.Model.CommandSpec;
             "Run everything locally: an embedded Kafka broker, a simulated feed, the monitor service and a live summary.",
             "Starts a single-node KRaft broker on 127.0.0.1, creates the topics, streams the scenario in simulated "
             + "time faster than real time, runs the monitor service on it (baseline fitted from the scenario's first "
-            + "twelve weeks), serves /metrics, /health and /status, and prints the broker's bootstrap address so "
+            + "twelve weeks), serves the live page, /metrics, /health and /status, and prints the broker's bootstrap address so "
             + "that any Kafka client can produce to it. With the default settings the scripted odds-ratio doubling "
             + "raises an alert within about a minute. Ctrl-C stops everything (exit 0).",
-            "The data are simulated. A signal calls for investigation; it is not a diagnosis or proof of cause."})
+            "The first line is the address of the live page. On a terminal the summary is one screen redrawn in "
+            + "place (plain lines when the output is not a terminal, or with --plain). Log lines, of the service, "
+            + "the Kafka clients and the embedded broker, and the alert messages as JSON go to the log file "
+            + "(--log); with --verbose they are shown on standard error as well, at info level, and the summary "
+            + "is printed as plain lines so that they do not erase each other.",
+            "The data are simulated. A signal calls for investigation; it is not a diagnosis or proof of cause. "
+            + "Local public-health rules, data-protection law and qualified epidemiologists decide what is done."})
 final class SandboxCommand implements Callable<Integer> {
 
     @Option(names = "--config", paramLabel = "FILE",
@@ -52,7 +61,8 @@ final class SandboxCommand implements Callable<Integer> {
     int kafkaPort;
 
     @Option(names = "--http", paramLabel = "HOST:PORT", defaultValue = "127.0.0.1:8470",
-            description = "Address of /metrics, /health and /status (port 0: any free port). Default: ${DEFAULT-VALUE}.")
+            description = "Address of the live page (/) and of /metrics, /health and /status (port 0: any free port; "
+                    + "loopback unless you choose otherwise). Default: ${DEFAULT-VALUE}.")
     String http;
 
     @Option(names = "--partitions", paramLabel = "N", defaultValue = "1",
@@ -66,6 +76,11 @@ final class SandboxCommand implements Callable<Integer> {
     @Option(names = "--plain", description = "Print plain lines instead of redrawing the screen (the default when "
             + "standard output is not a terminal).")
     boolean plain;
+
+    @Option(names = "--log", paramLabel = "FILE", defaultValue = "oddswatch-sandbox.log",
+            description = "Log file of the run, replaced at each start (relative to the working directory). "
+                    + "Default: ${DEFAULT-VALUE}.")
+    Path log;
 
     @Option(names = "--no-feed", description = "No simulated feed: wait for events produced by other clients.")
     boolean noFeed;
@@ -81,14 +96,30 @@ final class SandboxCommand implements Callable<Integer> {
     @Spec
     CommandSpec spec;
 
+    @ParentCommand
+    OddswatchCommand top;
+
     @Override
     public Integer call() throws Exception {
         validate();
         Scenario s = scenario.build(ScenarioOptions.DEFAULT_START, span, defects);
         PrintWriter out = spec.commandLine().getOut();
-        boolean redraw = !plain && System.console() != null;
-        Sandbox sandbox = new Sandbox(new Sandbox.Settings(config, kafkaPort, http, s, speed, !noFeed, refresh, redraw,
-                partitions), out);
+        boolean verbose = top != null && top.verbose();
+        // with --verbose, log lines share the terminal: a redraw would erase them
+        boolean redraw = !plain && !verbose && System.console() != null;
+        SandboxLog sandboxLog;
+        try {
+            sandboxLog = SandboxLog.open(log, verbose ? System.err : null);
+        } catch (IOException e) {
+            throw UserError.config("--log: cannot write " + log + " (" + e.getMessage() + ")", e);
+        }
+        try (sandboxLog) {
+            return run(new Sandbox(new Sandbox.Settings(config, kafkaPort, http, s, speed, !noFeed, refresh, redraw,
+                    partitions, verbose), out, sandboxLog), out);
+        }
+    }
+
+    private int run(Sandbox sandbox, PrintWriter out) throws Exception {
         StopSignals signals = StopSignals.install();
         long deadline = duration == null ? Long.MAX_VALUE : System.nanoTime() + duration.toNanos();
         String rule = untilAlert;

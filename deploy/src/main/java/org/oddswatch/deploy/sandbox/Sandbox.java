@@ -4,6 +4,8 @@ import com.fasterxml.jackson.databind.JsonNode;
 import io.micrometer.prometheusmetrics.PrometheusConfig;
 import io.micrometer.prometheusmetrics.PrometheusMeterRegistry;
 import java.io.PrintWriter;
+import java.net.Inet6Address;
+import java.net.InetAddress;
 import java.nio.file.Path;
 import java.time.Duration;
 import java.time.Instant;
@@ -19,6 +21,7 @@ import java.util.concurrent.atomic.AtomicBoolean;
 import java.util.concurrent.atomic.AtomicLong;
 import java.util.concurrent.atomic.AtomicReference;
 import java.util.function.BooleanSupplier;
+import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.broker.EmbeddedBroker;
 import org.oddswatch.deploy.feed.SimulatedClock;
 import org.oddswatch.deploy.feed.TopicPublisher;
@@ -28,14 +31,24 @@ import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 import org.oddswatch.ingest.definition.TermSpec;
 import org.oddswatch.ingest.http.HttpEndpoints;
+import org.oddswatch.ingest.pipeline.PipelineSnapshot;
+import org.oddswatch.ingest.pipeline.StreamStatus;
 import org.oddswatch.ingest.service.MonitorService;
 import org.oddswatch.ingest.service.ServiceStatus;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
 
 /**
  * Everything of {@code oddswatch sandbox} in one process: an embedded single-node KRaft broker on
  * 127.0.0.1, the definition's topics (with unlimited time retention, because simulated dates lie in
  * the past), the monitor service with {@code /metrics}, {@code /health} and {@code /status}, a
  * simulated feed paced faster than real time, and a live summary read from the output topics.
+ *
+ * <p>The terminal gets the live page's address first, then the summary: on a terminal one screen
+ * ({@link SandboxView#MAX_LINES} lines at most) redrawn in place, otherwise plain lines without escape
+ * codes. Log lines and the alert messages as JSON go to the {@link SandboxLog} file; what stops part
+ * of a stream being monitored (from {@code /status}) and the warnings noted in the log are shown in the
+ * summary, so nothing fails out of sight.
  *
  * <p>{@link #run} returns when {@code stop} says so (Ctrl-C, SIGTERM, the time limit or the first
  * matching alert), after closing the feed, the service, the endpoints and the broker in that order.
@@ -51,9 +64,10 @@ public final class Sandbox {
      * @param refresh how often the summary is redrawn and interim estimates are made
      * @param redraw true to redraw a terminal screen, false for plain lines
      * @param partitions partitions of the input topics
+     * @param verbose whether log lines are shown on the terminal as well as in the log file
      */
     public record Settings(Path definition, int kafkaPort, String http, Scenario scenario, double speed, boolean feed,
-                           Duration refresh, boolean redraw, int partitions) {
+                           Duration refresh, boolean redraw, int partitions, boolean verbose) {
     }
 
     /** Progress the caller can watch (tests and the command). */
@@ -66,18 +80,25 @@ public final class Sandbox {
     public record Progress(boolean ready, long sent, List<JsonNode> raisedAlerts) {
     }
 
+    private static final Logger LOG = LoggerFactory.getLogger(Sandbox.class);
+
     private final Settings settings;
     private final PrintWriter out;
+    private final SandboxLog log;
 
-    public Sandbox(Settings settings, PrintWriter out) {
+    /**
+     * @param out the terminal: the page's address first, then the summary
+     * @param log the log file standard error goes to, or null when it stays where it is
+     */
+    public Sandbox(Settings settings, PrintWriter out, SandboxLog log) {
         this.settings = settings;
         this.out = out;
+        this.log = log;
     }
 
     /** Runs until the stopper says so; returns the number of raised alerts seen. */
     public long run(Stopper stopper, BooleanSupplier interrupted) throws Exception {
-        out.println("starting the embedded Kafka broker (single node, KRaft) ...");
-        out.flush();
+        LOG.info("starting the embedded Kafka broker (single node, KRaft)");
         try (EmbeddedBroker broker = EmbeddedBroker.start(settings.kafkaPort())) {
             MonitorConfig config = SandboxDefinition.load(settings.definition(), broker.bootstrapServers(),
                     settings.http(), settings.refresh());
@@ -95,7 +116,8 @@ public final class Sandbox {
     private long serve(EmbeddedBroker broker, MonitorConfig config, String inputTopic, Stopper stopper,
                        BooleanSupplier interrupted) throws Exception {
         PrometheusMeterRegistry registry = new PrometheusMeterRegistry(PrometheusConfig.DEFAULT);
-        SandboxView view = new SandboxView(settings.scenario(), settings.speed(), watchedTerms(config));
+        SandboxView view = new SandboxView(settings.scenario(), settings.speed(), watchedTerms(config),
+                settings.redraw() ? SandboxView.terminalWidth() : SandboxView.DEFAULT_WIDTH);
         List<JsonNode> raised = new ArrayList<>();
         Set<String> estimateTopics = new HashSet<>();
         Set<String> alertTopics = new HashSet<>();
@@ -126,8 +148,10 @@ public final class Sandbox {
                              }
                          }
                      }).start()) {
-            String httpAddress = http.address().getHostString() + ":" + http.port();
-            view.banner(broker.bootstrapServers(), httpAddress).forEach(this::println);
+            String page = pageAddress(http.address().getAddress(), http.port());
+            String logFile = log == null ? "(standard error)" : shown(log.file());
+            view.banner(page, logFile, broker.bootstrapServers(), settings.verbose()).forEach(this::println);
+            println("script   " + view.script());
             println("  input topic:     " + inputTopic + "   definition: " + config.file());
             println("  replay it:       ODDSWATCH_KAFKA_BOOTSTRAP_SERVERS=" + broker.bootstrapServers()
                     + " deploy/oddswatch replay --config " + config.file() + " --topic " + inputTopic
@@ -139,6 +163,7 @@ public final class Sandbox {
                 println("  no simulated feed (--no-feed): produce JSON events to " + inputTopic + " yourself");
             }
             long lastCounts = 0;
+            Set<String> gapsShown = new HashSet<>();
             while (true) {
                 ServiceStatus status = service.status();
                 List<JsonNode> raisedNow;
@@ -146,23 +171,35 @@ public final class Sandbox {
                     raisedNow = List.copyOf(raised);
                 }
                 if (service.failure() != null) {
-                    throw new IllegalStateException("the monitor service stopped: " + service.failure().getMessage(),
-                            service.failure());
+                    throw new IllegalStateException("the monitor service stopped: " + service.failure().getMessage()
+                            + " (details in " + logFile + ")", service.failure());
                 }
                 if (feed.failure.get() != null) {
-                    throw new IllegalStateException("the simulated feed stopped: " + feed.failure.get().getMessage(),
-                            feed.failure.get());
+                    throw new IllegalStateException("the simulated feed stopped: " + feed.failure.get().getMessage()
+                            + " (details in " + logFile + ")", feed.failure.get());
                 }
+                List<MonitoringGap> gaps = gaps(status);
+                SandboxLog.Notes notes = log == null ? SandboxLog.Notes.NONE : log.notes();
                 if (settings.redraw()) {
-                    SandboxView.Frame frame = new SandboxView.Frame(broker.bootstrapServers(), httpAddress,
+                    SandboxView.Frame frame = new SandboxView.Frame(page, logFile, broker.bootstrapServers(),
                             status.state(), feed.simulatedNow.get(), feed.sent.get(), feed.done.get(),
-                            status.counts(), watcher.streams(), watcher.alerts());
+                            status.counts(), watcher.streams(), watcher.alerts(), gaps, notes);
                     redraw(view.screen(frame));
-                } else if (System.nanoTime() - lastCounts > 10_000_000_000L) {
-                    lastCounts = System.nanoTime();
-                    Instant now = feed.simulatedNow.get();
-                    println("status   " + status.state() + ", simulated time " + (now == null ? "-" : now)
-                            + ", sent " + feed.sent.get() + "; " + view.counts(status.counts()));
+                } else {
+                    for (MonitoringGap g : gaps) {
+                        // each thing not monitored once, when it first appears (not again as its counts grow)
+                        if (gapsShown.add(g.stream() + "|" + g.scope() + "|" + g.subject() + "|" + g.reason())) {
+                            println("not monitored  " + g.describe());
+                        }
+                    }
+                    if (System.nanoTime() - lastCounts > 10_000_000_000L) {
+                        lastCounts = System.nanoTime();
+                        Instant now = feed.simulatedNow.get();
+                        println("status   " + status.state() + ", simulated time " + (now == null ? "-" : now)
+                                + ", sent " + feed.sent.get() + "; " + view.counts(status.counts()) + "; log: "
+                                + (notes.warnings() == 0 ? "no warnings" : notes.warnings() + " warning(s), the newest: "
+                                        + notes.newest()));
+                    }
                 }
                 if (interrupted.getAsBoolean()
                         || stopper.shouldStop(new Progress(service.ready(), feed.sent.get(), raisedNow))) {
@@ -174,6 +211,33 @@ public final class Sandbox {
             feed.stop();
             return raised.size();
         }
+    }
+
+    /** Everything {@code /status} says is not monitored, over all partitions. */
+    private static List<MonitoringGap> gaps(ServiceStatus status) {
+        List<MonitoringGap> gaps = new ArrayList<>();
+        for (PipelineSnapshot input : status.inputs()) {
+            for (StreamStatus s : input.streams()) {
+                gaps.addAll(s.gaps());
+            }
+        }
+        return gaps;
+    }
+
+    /**
+     * The page's address for a browser: the bound address, or the loopback address when the
+     * service listens on every interface (a browser cannot open {@code 0.0.0.0}).
+     */
+    static String pageAddress(InetAddress bound, int port) {
+        InetAddress host = bound == null || bound.isAnyLocalAddress() ? InetAddress.getLoopbackAddress() : bound;
+        String text = host.getHostAddress();
+        return "http://" + (host instanceof Inet6Address ? "[" + text + "]" : text) + ":" + port + "/";
+    }
+
+    /** A path as the user would type it: relative when under the working directory. */
+    private static String shown(Path file) {
+        Path here = Path.of("").toAbsolutePath();
+        return file.startsWith(here) ? here.relativize(file).toString() : file.toString();
     }
 
     private void sleepOrStop(BooleanSupplier interrupted) throws InterruptedException {

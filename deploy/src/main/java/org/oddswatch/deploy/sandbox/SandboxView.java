@@ -1,99 +1,281 @@
 package org.oddswatch.deploy.sandbox;
 
 import com.fasterxml.jackson.databind.JsonNode;
+import java.io.File;
+import java.io.IOException;
+import java.nio.charset.StandardCharsets;
 import java.time.Instant;
 import java.util.ArrayList;
+import java.util.Comparator;
+import java.util.HashMap;
+import java.util.HashSet;
+import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Locale;
 import java.util.Map;
 import java.util.Set;
+import java.util.concurrent.TimeUnit;
+import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.deploy.scenario.Scenario;
 import org.oddswatch.deploy.scenario.ScriptedChange;
 import org.oddswatch.ingest.pipeline.OutcomeCounts;
 
 /**
- * The sandbox's text: a full summary screen for a terminal, and single lines for logs. Plain ASCII,
+ * The sandbox's text: a summary screen for a terminal that fits in {@link #MAX_LINES} lines whatever
+ * the number of streams, alerts and reject reasons, and single lines for plain output. Plain ASCII,
  * no colours. Reads estimates and alerts as their published JSON.
+ *
+ * <p>The screen shows at most {@link #STREAM_LINES} streams, one line each, chosen by interest: streams
+ * with an open alert first, then streams with a part not monitored (a failed baseline, a rule that
+ * does not run, a term missing from every event), then the ones with the most events in their newest
+ * window. Every stream, with its charts, is on the live page.
  */
 public final class SandboxView {
 
-    /** What one summary shows. */
-    public record Frame(String bootstrap, String http, String serviceState, Instant simulatedNow, long sent,
-                        boolean feedDone, OutcomeCounts.Snapshot counts, List<OutputWatcher.StreamView> streams,
-                        List<JsonNode> alerts) {
-    }
+    /** Lines of one summary screen, at most: it fits a 24-line terminal with the shell's prompt. */
+    public static final int MAX_LINES = 20;
+    static final int STREAM_LINES = 4;
+    static final int GAP_LINES = 2;
+    static final int ALERT_LINES = 3;
+    /** Width of a line when the terminal does not say. */
+    static final int DEFAULT_WIDTH = 120;
 
-    private static final int ALERT_LINES = 8;
+    /** The caution every summary ends with; never cut, each line fits an 80-column terminal. */
+    public static final List<String> CAUTION = List.of(
+            "A signal calls for investigation; it is not a diagnosis or proof of cause.",
+            "Local public-health rules, data-protection law and qualified epidemiologists",
+            "decide what is done. The data are invented. Ctrl-C stops.");
+
+    /**
+     * What one summary shows.
+     *
+     * @param page the live page's address, {@code http://host:port/}
+     * @param logFile the log file as shown to the user
+     * @param gaps what is not monitored, from {@code /status}
+     * @param log the warnings noted in the log file
+     */
+    public record Frame(String page, String logFile, String bootstrap, String serviceState, Instant simulatedNow,
+                        long sent, boolean feedDone, OutcomeCounts.Snapshot counts,
+                        List<OutputWatcher.StreamView> streams, List<JsonNode> alerts, List<MonitoringGap> gaps,
+                        SandboxLog.Notes log) {
+    }
 
     private final Scenario scenario;
     private final double speed;
     private final Map<String, Set<String>> watchedByMonitor;
+    private final int width;
 
     /**
      * @param watchedByMonitor per monitor name, its watched term names
      */
     public SandboxView(Scenario scenario, double speed, Map<String, Set<String>> watchedByMonitor) {
+        this(scenario, speed, watchedByMonitor, DEFAULT_WIDTH);
+    }
+
+    /** @param width longer lines of the screen are cut to this many characters */
+    public SandboxView(Scenario scenario, double speed, Map<String, Set<String>> watchedByMonitor, int width) {
         this.scenario = scenario;
         this.speed = speed;
         this.watchedByMonitor = Map.copyOf(watchedByMonitor);
+        this.width = Math.max(40, width);
     }
 
-    /** The start-up lines: where the broker and the endpoints are. */
-    public List<String> banner(String bootstrap, String http) {
+    /**
+     * The terminal's width: {@code COLUMNS} when the shell exports it, else what {@code stty size}
+     * says of the controlling terminal, else {@link #DEFAULT_WIDTH}.
+     */
+    public static int terminalWidth() {
+        try {
+            String columns = System.getenv("COLUMNS");
+            if (columns != null) {
+                return Integer.parseInt(columns.trim());
+            }
+            Process stty = new ProcessBuilder("stty", "size").redirectInput(new File("/dev/tty"))
+                    .redirectError(ProcessBuilder.Redirect.DISCARD).start();
+            if (!stty.waitFor(2, TimeUnit.SECONDS)) {
+                stty.destroyForcibly();
+                return DEFAULT_WIDTH;
+            }
+            String[] rowsColumns = new String(stty.getInputStream().readAllBytes(), StandardCharsets.US_ASCII).trim()
+                    .split("\\s+");
+            return rowsColumns.length == 2 ? Integer.parseInt(rowsColumns[1]) : DEFAULT_WIDTH;
+        } catch (IOException | NumberFormatException e) {
+            return DEFAULT_WIDTH;
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+            return DEFAULT_WIDTH;
+        }
+    }
+
+    /**
+     * The first lines printed: the live page's address first, then the log file and the broker.
+     *
+     * @param verbose whether log lines are shown on the terminal as well
+     */
+    public List<String> banner(String page, String logFile, String bootstrap, boolean verbose) {
+        return List.of(
+                "page     " + page + "   (the live page; " + page + "status, /metrics and /health beside it)",
+                "log      " + logFile + "   (log lines and the alert messages as JSON"
+                        + (verbose ? "; --verbose: shown here too)" : "; --verbose shows them here too)"),
+                "Kafka bootstrap: " + bootstrap + "   (any Kafka client on this machine can produce to it)",
+                "oddswatch sandbox: simulated " + scenario.name() + " feed (invented data, seed "
+                        + scenario.options().seed() + ")");
+    }
+
+    /**
+     * The whole summary screen: at most {@link #MAX_LINES} lines, none longer than the width but the
+     * caution's (under 80 characters), which are never cut.
+     */
+    public List<String> screen(Frame f) {
         List<String> lines = new ArrayList<>();
-        lines.add("oddswatch sandbox: simulated " + scenario.name() + " feed (invented data, seed "
-                + scenario.options().seed() + ")");
-        lines.add("  Kafka bootstrap: " + bootstrap + "   (any Kafka client on this machine can produce to it)");
-        lines.add("  HTTP:            http://" + http + "/status  /metrics  /health");
+        lines.add("oddswatch sandbox   page " + f.page() + "   log " + f.logFile());
+        lines.add(String.format(Locale.ROOT, "service %s   broker %s   simulated %s (week %d, invented data), %s, %,d records sent%s",
+                f.serviceState(), f.bootstrap(), f.simulatedNow() == null ? "-" : day(f.simulatedNow()),
+                week(f.simulatedNow()), speed > 0 ? String.format(Locale.ROOT, "%.0fx real time", speed) : "unpaced",
+                f.sent(), f.feedDone() ? " (feed finished)" : ""));
+        lines.add("script   " + script());
+        String reasons = reasons(f.counts());
+        lines.add(counts(f.counts()) + (reasons.isEmpty() ? "" : "; " + reasons));
+        Map<String, Integer> open = openAlertsByStream(f.alerts());
+        Set<String> gapStreams = new HashSet<>();
+        List<MonitoringGap> gaps = ordered(f.gaps());
+        for (MonitoringGap g : gaps) {
+            if (g.scope() != MonitoringGap.Scope.WINDOWS) {
+                gapStreams.add(g.stream());
+            }
+        }
+        lines.addAll(streams(f.streams(), open, gapStreams));
+        lines.addAll(gaps(gaps));
+        lines.addAll(alerts(f.alerts(), open));
+        SandboxLog.Notes log = f.log() == null ? SandboxLog.Notes.NONE : f.log();
+        lines.add(log.warnings() == 0 ? "log      no warnings"
+                : String.format(Locale.ROOT, "log      %d warning(s), the newest: %s", log.warnings(), log.newest()));
+        List<String> cut = new ArrayList<>(lines.size() + CAUTION.size());
+        for (String line : lines) {
+            cut.add(line.length() <= width ? line : line.substring(0, width - 3) + "...");
+        }
+        cut.addAll(CAUTION);
+        return cut;
+    }
+
+    private List<String> streams(List<OutputWatcher.StreamView> all, Map<String, Integer> open, Set<String> gapStreams) {
+        List<OutputWatcher.StreamView> ranked = new ArrayList<>(all);
+        ranked.sort(Comparator.<OutputWatcher.StreamView>comparingInt(s -> open.containsKey(s.stream()) ? 0
+                        : gapStreams.contains(s.stream()) ? 1 : 2)
+                .thenComparing(Comparator.comparingLong(SandboxView::events).reversed())
+                .thenComparing(OutputWatcher.StreamView::stream));
+        List<String> lines = new ArrayList<>();
+        if (all.isEmpty()) {
+            lines.add("streams  none yet: the first window closes after its width plus the lateness");
+            return lines;
+        }
+        List<OutputWatcher.StreamView> top = ranked.subList(0, Math.min(STREAM_LINES, ranked.size()));
+        int name = Math.max(16, top.stream().mapToInt(s -> s.stream().length()).max().orElse(0));
+        String shown = all.size() <= STREAM_LINES ? String.valueOf(all.size()) : STREAM_LINES + " of " + all.size();
+        lines.add(String.format(Locale.ROOT, "streams  %-" + (name - 1) + "s %-5s %7s  %-17s  %s", shown,
+                "ends", "events", "prevalence", "watched odds ratio (95% interval), true value"));
+        for (OutputWatcher.StreamView s : top) {
+            String mark = open.containsKey(s.stream()) ? "alert" : gapStreams.contains(s.stream()) ? "gap"
+                    : s.lastFinal() == null && s.open() != null ? "open" : "";
+            lines.add(streamLine(String.format(Locale.ROOT, "  %-5s %-" + name + "s ", mark, s.stream()), s));
+        }
         return lines;
     }
 
-    /** The whole summary screen. */
-    public List<String> screen(Frame f) {
+    /**
+     * Window end (of the newest final window, or of the open one before the first is final), events,
+     * prevalence in percent with its interval, then the watched odds ratios, as many as fit the width
+     * whole ({@code +N} says how many did not).
+     */
+    private String streamLine(String prefix, OutputWatcher.StreamView s) {
+        JsonNode e = s.lastFinal() != null ? s.lastFinal() : s.open();
+        if (e == null) {
+            return prefix + "-";
+        }
+        JsonNode p = e.path("prevalence");
+        String prevalence = p.hasNonNull("value") ? String.format(Locale.ROOT, "%.2f%% (%.2f-%.2f)",
+                100 * p.path("value").asDouble(), 100 * p.path("lower").asDouble(), 100 * p.path("upper").asDouble())
+                : "-";
+        StringBuilder b = new StringBuilder(prefix).append(String.format(Locale.ROOT, "%-5s %,7d  %-17s",
+                day(e.path("windowEnd").asText()).substring(5), e.path("events").asLong(), prevalence));
+        List<String> ratios = oddsRatios(e, "  ", "%s%s %.2f %s %.2f");
+        for (int i = 0; i < ratios.size(); i++) {
+            String more = i + 1 < ratios.size() ? "  +" + (ratios.size() - i - 1) : "";
+            if (b.length() + ratios.get(i).length() + more.length() > width) {
+                return b.append("  +").append(ratios.size() - i).toString();
+            }
+            b.append(ratios.get(i));
+        }
+        return b.toString();
+    }
+
+    private static long events(OutputWatcher.StreamView s) {
+        JsonNode e = s.lastFinal() != null ? s.lastFinal() : s.open();
+        return e == null ? 0 : e.path("events").asLong();
+    }
+
+    /** Baseline, rule and term gaps before windows not judged; each once. */
+    private static List<MonitoringGap> ordered(List<MonitoringGap> gaps) {
+        Map<String, MonitoringGap> unique = new LinkedHashMap<>();
+        for (MonitoringGap g : gaps == null ? List.<MonitoringGap>of() : gaps) {
+            unique.putIfAbsent(g.describe(), g);
+        }
+        List<MonitoringGap> ordered = new ArrayList<>(unique.values());
+        ordered.sort(Comparator.comparingInt(g -> g.scope() == MonitoringGap.Scope.WINDOWS ? 1 : 0));
+        return ordered;
+    }
+
+    private static List<String> gaps(List<MonitoringGap> gaps) {
         List<String> lines = new ArrayList<>();
-        lines.add("oddswatch sandbox - simulated " + scenario.name() + " feed (invented data, seed "
-                + scenario.options().seed() + ")");
-        lines.add("broker " + f.bootstrap() + "   http://" + f.http() + "/status /metrics /health   service "
-                + f.serviceState());
-        lines.add(String.format(Locale.ROOT, "simulated time %s (week %d)   %s   %,d records sent%s",
-                f.simulatedNow() == null ? "-" : day(f.simulatedNow()), week(f.simulatedNow()),
-                speed > 0 ? String.format(Locale.ROOT, "%.0fx real time", speed) : "unpaced", f.sent(),
-                f.feedDone() ? " (feed finished)" : ""));
-        lines.add("script   " + script());
-        lines.add("");
-        lines.add(counts(f.counts()));
-        String reasons = reasons(f.counts());
-        if (!reasons.isEmpty()) {
-            lines.add("         " + reasons);
+        if (gaps.isEmpty()) {
+            lines.add("not monitored: nothing (every stream has its baseline, rules and terms)");
+            return lines;
         }
-        lines.add("");
-        lines.add(String.format(Locale.ROOT, "%-30s %-25s %8s %6s  %s", "STREAM", "WINDOW", "EVENTS", "CASES",
-                "PREVALENCE (interval)"));
-        if (f.streams().isEmpty()) {
-            lines.add("  (no estimate yet: the first window closes after its width plus the lateness)");
+        lines.add("not monitored: " + gaps.size() + (gaps.size() > GAP_LINES ? ", the first " + GAP_LINES
+                + " shown (all in /status and on the page)" : ""));
+        for (MonitoringGap g : gaps.subList(0, Math.min(GAP_LINES, gaps.size()))) {
+            lines.add("  " + g.describe());
         }
-        for (OutputWatcher.StreamView s : f.streams()) {
-            boolean first = true;
-            for (JsonNode e : new JsonNode[] {s.lastFinal(), s.open()}) {
-                if (e == null) {
-                    continue;
-                }
-                lines.add(String.format(Locale.ROOT, "%-30s %-25s %,8d %,6d  %s", first ? s.stream() : "",
-                        window(e), e.path("events").asLong(), e.path("cases").asLong(), prevalence(e)));
-                if (e == s.lastFinal()) {
-                    lines.addAll(oddsRatios(e, "    "));
-                }
-                first = false;
+        return lines;
+    }
+
+    /** Per stream, its subjects whose newest message is not {@code cleared}. */
+    private static Map<String, Integer> openAlertsByStream(List<JsonNode> alerts) {
+        Map<String, Integer> open = new HashMap<>();
+        for (JsonNode a : newestBySubject(alerts).values()) {
+            if (!"cleared".equals(a.path("state").asText())) {
+                open.merge(a.path("stream").asText(), 1, Integer::sum);
             }
         }
-        lines.add("");
-        lines.add("ALERTS (newest first)" + (f.alerts().isEmpty() ? ": none so far" : ""));
-        List<JsonNode> alerts = f.alerts();
-        for (int i = alerts.size() - 1, shown = 0; i >= 0 && shown < ALERT_LINES; i--, shown++) {
-            lines.add("  " + alert(alerts.get(i)));
+        return open;
+    }
+
+    /** The newest message of every (stream, rule, subject), in arrival order of those newest messages. */
+    private static Map<String, JsonNode> newestBySubject(List<JsonNode> alerts) {
+        Map<String, JsonNode> newest = new LinkedHashMap<>();
+        for (JsonNode a : alerts) {
+            String key = a.path("stream").asText() + "|" + a.path("rule").asText() + "|" + a.path("subject");
+            newest.remove(key);
+            newest.put(key, a);
         }
-        lines.add("");
-        lines.add("A signal calls for investigation; it is not a diagnosis or proof of cause. Ctrl-C stops.");
+        return newest;
+    }
+
+    private List<String> alerts(List<JsonNode> alerts, Map<String, Integer> openByStream) {
+        List<String> lines = new ArrayList<>();
+        int open = openByStream.values().stream().mapToInt(Integer::intValue).sum();
+        if (alerts.isEmpty()) {
+            lines.add("alerts   none so far");
+            return lines;
+        }
+        lines.add(String.format(Locale.ROOT, "alerts   %d open; each subject's newest message, open ones first, newest first",
+                open));
+        List<JsonNode> newest = new ArrayList<>(newestBySubject(alerts).values());
+        java.util.Collections.reverse(newest);
+        newest.sort(Comparator.comparingInt(a -> "cleared".equals(a.path("state").asText()) ? 1 : 0));
+        for (JsonNode a : newest.subList(0, Math.min(ALERT_LINES, newest.size()))) {
+            lines.add("  " + alert(a));
+        }
         return lines;
     }
 
@@ -173,6 +355,14 @@ public final class SandboxView {
     }
 
     private List<String> oddsRatios(JsonNode e, String indent) {
+        return oddsRatios(e, indent, "%s%-28s odds ratio %6.2f %-13s  true value at window end %.2f");
+    }
+
+    /**
+     * The watched odds ratios of an estimate, one line each by {@code format} (indent, label, odds
+     * ratio, interval, true value), and the fit state when it is not {@code converged}.
+     */
+    private List<String> oddsRatios(JsonNode e, String indent, String format) {
         List<String> lines = new ArrayList<>();
         String stream = e.path("stream").asText();
         int slash = stream.indexOf('/');
@@ -189,8 +379,7 @@ public final class SandboxView {
             String interval = c.hasNonNull("lower") && c.hasNonNull("upper")
                     ? String.format(Locale.ROOT, "(%.2f-%.2f)", c.path("lower").asDouble(), c.path("upper").asDouble())
                     : "(no interval)";
-            lines.add(String.format(Locale.ROOT, "%s%-28s odds ratio %6.2f %-13s  true value at window end %.2f", indent,
-                    label, c.path("oddsRatio").asDouble(), interval, scenario.trueOddsRatio(term, level, end)));
+            lines.add(String.format(Locale.ROOT, format, indent, label, c.path("oddsRatio").asDouble(), interval, scenario.trueOddsRatio(term, level, end)));
         }
         String fit = e.path("fit").path("state").asText("");
         if (!fit.isEmpty() && !fit.equals("converged")) {
@@ -213,7 +402,8 @@ public final class SandboxView {
                 + ("final".equals(e.path("status").asText()) ? " final" : " open");
     }
 
-    private String script() {
+    /** The scenario's scripted changes in one line. */
+    public String script() {
         List<ScriptedChange> changes = scenario.changes();
         if (changes.isEmpty()) {
             return "no scripted change (steady)";

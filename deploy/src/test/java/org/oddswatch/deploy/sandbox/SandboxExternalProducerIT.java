@@ -38,7 +38,8 @@ class SandboxExternalProducerIT {
                 .limit(40).map(ScenarioEvent::toJson).toList();
         List<String> bad = List.of("{\"id\":\"x1\",\"collectedAt\":", "not json at all",
                 "{\"id\":\"x2\",\"collectedAt\":\"2026-01-05T10:00:00Z\",\"result\":\"unclear\"}");
-        try (JarProcess sandbox = JarProcess.start("sandbox", "--plain", "--no-feed", "--http", "127.0.0.1:0")) {
+        try (JarProcess sandbox = JarProcess.start("sandbox", "--plain", "--no-feed", "--http", "127.0.0.1:0",
+                "--log", "target/sandbox-external-producer.log")) {
             String bootstrap = sandbox.bootstrap();
             Properties props = new Properties();
             props.put(ProducerConfig.BOOTSTRAP_SERVERS_CONFIG, bootstrap);

@@ -10,6 +10,8 @@ import java.util.List;
 import java.util.Map;
 import java.util.Set;
 import org.junit.jupiter.api.Test;
+import org.oddswatch.alerts.gaps.GapReason;
+import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.deploy.scenario.Scenario;
 import org.oddswatch.deploy.scenario.ScenarioOptions;
@@ -73,23 +75,89 @@ class SandboxViewTest {
     }
 
     @Test
-    void screenHasCountsStreamsAlertsAndTheCaution() throws IOException {
+    void screenHasPageCountsStreamsAlertsAndTheCaution() throws IOException {
         OutcomeCounts.Snapshot counts = new OutcomeCounts.Snapshot(110,
                 Map.of("accepted", 100L, "rejected", 6L, "late", 3L, "duplicate", 1L),
                 Map.of("bad-time", 6L, "late", 3L, "duplicate", 1L));
-        SandboxView.Frame frame = new SandboxView.Frame("127.0.0.1:9", "127.0.0.1:8470", "ready",
-                Instant.parse("2026-05-06T12:00:00Z"), 110, false, counts,
+        SandboxView.Frame frame = new SandboxView.Frame("http://127.0.0.1:8470/", "oddswatch-sandbox.log", "127.0.0.1:9",
+                "ready", Instant.parse("2026-05-06T12:00:00Z"), 110, false, counts,
                 List.of(new OutputWatcher.StreamView("respiratory", estimate("2026-04-27T00:00:00Z", "final"),
-                        estimate("2026-05-04T00:00:00Z", "interim"))), List.of());
+                        estimate("2026-05-04T00:00:00Z", "interim"))), List.of(), List.of(), SandboxLog.Notes.NONE);
         List<String> lines = view.screen(frame);
         String text = String.join("\n", lines);
-        assertTrue(text.contains("simulated time 2026-05-06 (week 17)"), text);
-        assertTrue(text.contains("records  consumed 110: accepted 100, rejected 6, late 3, duplicate 1"), text);
-        assertTrue(text.contains("by reason: bad-time 6, duplicate 1, late 3"), text);
-        assertTrue(text.contains("2026-03-30 to 04-27 final"), text);
-        assertTrue(text.contains("2026-03-30 to 05-04 open"), text);
-        assertTrue(text.contains("ALERTS (newest first): none so far"), text);
-        assertTrue(lines.get(lines.size() - 1).startsWith("A signal calls for investigation; it is not a diagnosis"),
+        assertTrue(lines.get(0).startsWith("oddswatch sandbox   page http://127.0.0.1:8470/   log oddswatch-sandbox.log"),
                 text);
+        assertTrue(text.contains("simulated 2026-05-06 (week 17, invented data)"), text);
+        assertTrue(text.contains("records  consumed 110: accepted 100, rejected 6, late 3, duplicate 1"), text);
+        assertTrue(text.contains("duplicate 1; by reason: bad-time 6, duplicate 1, late 3"), text);
+        // the newest final window: prevalence in percent, the watched odds ratio and the truth beside it
+        assertTrue(lines.contains("        respiratory      04-27   8,033  5.22% (4.75-5.72)  "
+                + "household_contact=yes 2.40 (1.97-2.93) 2.50"), text);
+        assertTrue(text.contains("alerts   none so far"), text);
+        assertTrue(text.contains("not monitored: nothing"), text);
+        assertTrue(text.contains("log      no warnings"), text);
+        assertEquals(SandboxView.CAUTION, lines.subList(lines.size() - 3, lines.size()), text);
+        String caution = String.join(" ", SandboxView.CAUTION);
+        assertTrue(caution.contains("A signal calls for investigation; it is not a diagnosis or proof of cause."), caution);
+        assertTrue(caution.contains("Local public-health rules, data-protection law and qualified epidemiologists "
+                + "decide what is done."), caution);
+        assertTrue(SandboxView.CAUTION.stream().allMatch(l -> l.length() < 80), caution);
+    }
+
+    /**
+     * Fifty streams, a hundred alert messages, every kind of gap and a dozen reject reasons: still one
+     * screen of at most 20 lines (a 24-line terminal with the shell's prompt) no wider than an 80-column
+     * terminal,
+     * the streams with an open alert or a part not monitored first, and the failed baseline's reason shown.
+     */
+    @Test
+    void screenStaysWithinTwentyLinesWhateverTheNumberOfStreamsAlertsAndGaps() throws IOException {
+        List<OutputWatcher.StreamView> streams = new java.util.ArrayList<>();
+        List<JsonNode> alerts = new java.util.ArrayList<>();
+        List<MonitoringGap> gaps = new java.util.ArrayList<>();
+        Map<String, Long> reasons = new java.util.TreeMap<>();
+        for (int i = 0; i < 50; i++) {
+            String stream = String.format(java.util.Locale.ROOT, "respiratory-by-clinic/clinic-%02d", i);
+            JsonNode e = Json.mapper().readTree(estimate("2026-04-27T00:00:00Z", "final").toString()
+                    .replace("\"respiratory\"", "\"" + stream + "\"").replace("8033", String.valueOf(1000 + i)));
+            streams.add(new OutputWatcher.StreamView(stream, e, null));
+            gaps.add(MonitoringGap.windows(stream, null, GapReason.BASELINE_PERIOD, "overlaps the baseline period", 12));
+            reasons.put("reason-" + i, (long) i);
+        }
+        gaps.add(MonitoringGap.baseline("respiratory-by-clinic/clinic-07", GapReason.BASELINE_FAILED,
+                "the fit did not converge"));
+        gaps.add(MonitoringGap.rule("respiratory-by-clinic/clinic-08", "calibration", GapReason.SWITCHED_OFF,
+                "enabled: false"));
+        gaps.add(MonitoringGap.term("respiratory-by-clinic/clinic-09", "age_band", "no accepted event has it"));
+        for (int i = 0; i < 100; i++) {
+            alerts.add(Json.mapper().readTree(String.format(java.util.Locale.ROOT, "{\"stream\":"
+                    + "\"respiratory-by-clinic/clinic-%02d\",\"rule\":\"odds-ratio-drift\",\"subject\":{\"term\":"
+                    + "\"household_contact\",\"level\":\"yes\"},\"state\":\"%s\",\"windowEnd\":"
+                    + "\"2026-05-04T00:00:00Z\",\"observed\":3.3,\"baseline\":2.3,\"evidence\":{\"z\":3.1}}",
+                    20 + i % 10, i >= 90 && i % 10 == 1 ? "cleared" : "raised")));
+        }
+        OutcomeCounts.Snapshot counts = new OutcomeCounts.Snapshot(99_999, Map.of("accepted", 90_000L,
+                "rejected", 9_999L), reasons);
+        SandboxView narrow = new SandboxView(Scenario.respiratory(ScenarioOptions.defaults()), 300000,
+                Map.of("respiratory-by-clinic", Set.of("household_contact")), 80);
+        List<String> lines = narrow.screen(new SandboxView.Frame("http://127.0.0.1:8470/", "oddswatch-sandbox.log",
+                "127.0.0.1:9", "ready", Instant.parse("2026-05-06T12:00:00Z"), 99_999, false, counts, streams, alerts,
+                gaps, new SandboxLog.Notes(3, "WARN MonitorService: something a person should read")));
+        String text = String.join("\n", lines);
+        assertTrue(lines.size() <= 20, lines.size() + " lines:\n" + text);
+        assertTrue(lines.stream().allMatch(l -> l.length() <= 80), text);
+        assertTrue(lines.stream().anyMatch(l -> l.length() == 80 && l.endsWith("...")), "long lines are cut:\n" + text);
+        assertTrue(text.contains("streams  4 of 50"), text);
+        // open alerts first (clinics 20..29 except 21, cleared last), newest of them first
+        assertTrue(lines.stream().anyMatch(l -> l.startsWith("  alert respiratory-by-clinic/clinic-29")), text);
+        assertTrue(lines.stream().noneMatch(l -> l.startsWith("  gap ") || l.startsWith("        respiratory")), text);
+        // the parts not monitored: a failed baseline, a rule switched off before windows not judged
+        assertTrue(text.contains("not monitored: 53, the first 2 shown"), text);
+        // at 80 columns the reason's code is shown, its words may be cut
+        assertTrue(text.contains("  respiratory-by-clinic/clinic-07: no baseline in use [baseline-failed]: the "), text);
+        assertTrue(text.contains("  respiratory-by-clinic/clinic-08: rule calibration not running [switched-off"), text);
+        assertTrue(text.contains("alerts   9 open"), text);
+        assertTrue(text.contains("log      3 warning(s), the newest: WARN MonitorService: something"), text);
+        assertEquals(SandboxView.CAUTION, lines.subList(lines.size() - 3, lines.size()), text);
     }
 }
