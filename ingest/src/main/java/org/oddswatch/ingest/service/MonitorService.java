@@ -10,6 +10,7 @@ import java.util.concurrent.TimeUnit;
 import org.apache.kafka.clients.consumer.CloseOptions;
 import org.apache.kafka.clients.consumer.KafkaConsumer;
 import org.apache.kafka.common.serialization.ByteArrayDeserializer;
+import org.oddswatch.alerts.live.LiveSite;
 import org.oddswatch.alerts.output.WebhookSink;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.kafka.KafkaClientSettings;
@@ -92,6 +93,11 @@ public final class MonitorService implements AutoCloseable {
     /** The latest status snapshot (thread-safe). */
     public ServiceStatus status() {
         return loop.snapshot();
+    }
+
+    /** The live page and its API over what this service published and its status (for {@code HttpEndpoints}). */
+    public LiveSite site() {
+        return new LiveSite(outputs.history(), this::status);
     }
 
     /** The error that stopped the loop, or null. */

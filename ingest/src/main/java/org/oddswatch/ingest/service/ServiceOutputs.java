@@ -7,6 +7,7 @@ import java.util.ArrayList;
 import java.util.HashMap;
 import java.util.List;
 import java.util.Map;
+import org.oddswatch.alerts.live.LiveHistory;
 import org.oddswatch.alerts.output.JsonLinesSink;
 import org.oddswatch.alerts.output.LogSink;
 import org.oddswatch.alerts.output.OutputSink;
@@ -21,19 +22,20 @@ import org.oddswatch.ingest.pipeline.PipelineListener;
  * What the live service's pipelines report to ({@link #listener()}): the {@link OutputStage}, whose
  * sinks for a monitor are the Kafka publisher, the log (alerts), the monitor's {@code outputs.webhook}
  * (alerts, delivered on the webhook's own thread) and its {@code outputs.estimatesFile} (final
- * estimates appended; a relative path resolves against the definition file's folder), then the
- * {@link PipelineMeters} of the registry.
+ * estimates appended; a relative path resolves against the definition file's folder) and the
+ * {@link LiveHistory} the live page reads, then the {@link PipelineMeters} of the registry.
  */
 final class ServiceOutputs implements AutoCloseable {
 
     private final PipelineMeters listener;
     private final Map<String, WebhookSink> webhooks = new HashMap<>();
     private final Map<Path, OutputSink> files = new HashMap<>();
+    private final LiveHistory history = new LiveHistory();
 
     ServiceOutputs(KafkaOutputPublisher publisher, MeterRegistry registry, List<MonitorDefinition> monitors) {
         OutputSink log = new LogSink();
         OutputStage stage = new OutputStage(monitors, monitor -> {
-            List<OutputSink> sinks = new ArrayList<>(List.of(publisher, log));
+            List<OutputSink> sinks = new ArrayList<>(List.of(publisher, log, history));
             WebhookSpec hook = monitor.outputs().webhook();
             if (hook != null) {
                 WebhookSink webhook = new WebhookSink(monitor.name(), URI.create(hook.url()), hook.timeout(),
@@ -61,6 +63,11 @@ final class ServiceOutputs implements AutoCloseable {
     /** The listener to give every pipeline of the service. */
     PipelineListener listener() {
         return listener;
+    }
+
+    /** What the service published, kept for the live page. */
+    LiveHistory history() {
+        return history;
     }
 
     /** The webhook sink of a monitor, or null when it has none. */
