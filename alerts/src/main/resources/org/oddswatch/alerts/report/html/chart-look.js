@@ -24,5 +24,14 @@ window.oddswatchPage = {
     var a = Math.abs(v);
     return a !== 0 && a < 0.01 ? v.toExponential(2) : a < 10 ? v.toFixed(3) : v.toFixed(2);
   },
+  /** Ticks of a logarithmic axis at the powers of two within it (when at least two are). */
+  powersOfTwo: function (scale) {
+    var t = [];
+    for (var p = -6; p <= 8; p++) {
+      var v = Math.pow(2, p);
+      if (v >= scale.min && v <= scale.max) { t.push({ value: v }); }
+    }
+    if (t.length >= 2) { scale.ticks = t; }
+  },
   pct: function (v) { return v === null || v === undefined ? 'n/a' : (100 * v).toFixed(1) + ' %'; }
 };

@@ -16,7 +16,7 @@
   var EVERY = Math.max(1, Number(params.get('every')) || 5) * 1000;
   var LAST = 60;
   var CHARTED = 4;
-  var state = { streams: [], alerts: { open: [], recent: [] }, selected: null, filter: '', refreshes: 0 };
+  var state = { streams: [], alerts: { open: [], recent: [] }, selected: null, filter: '', refreshes: 0, expanded: {} };
   var charts = {};
 
   var F = window.oddswatchPage, el = F.el, day = F.day, when = F.when, num = F.num, pct = F.pct;
@@ -39,7 +39,13 @@
     return t;
   }
   function cell(tr, text, cls) { var td = el('td', cls || null, text); tr.appendChild(td); return td; }
-  function replace(id, node) { var host = document.getElementById(id); host.textContent = ''; if (node) { host.appendChild(node); } }
+  /** Puts {@code node} in the element {@code id}, unless what is there is equal (keeps scroll and focus). */
+  function replace(id, node) {
+    var host = document.getElementById(id);
+    if (node && host.childNodes.length === 1 && host.firstChild.isEqualNode(node)) { return; }
+    host.textContent = '';
+    if (node) { host.appendChild(node); }
+  }
 
   function watched(e) {
     var ratios = (e.coefficients || []).filter(function (c) { return c.oddsRatio !== null && c.oddsRatio !== undefined; });
@@ -110,11 +116,21 @@
     st.appendChild(el('span', 'state state-' + a.state, a.state));
     cell(tr, when(a.windowEnd), 'when');
     cell(tr, num(a.value) + (a.limit != null ? ' vs ' + num(a.limit) : ''), 'num');
-    cell(tr, a.message, 'msg');
-    var cmd = cell(tr, '', 'cmd');
-    cmd.appendChild(el('code', null, a.replayCommand || ''));
-    tr.tabIndex = 0;
-    tr.addEventListener('click', function () { select(a.stream); });
+    var msg = cell(tr, '', 'msg');
+    var text = a.message || '';
+    var cut = text.indexOf(': ');
+    var more = el('details');
+    var key = a.id + '|' + a.state + '|' + a.windowEnd;
+    more.open = !!state.expanded[key];
+    more.addEventListener('toggle', function () { state.expanded[key] = more.open; });
+    more.appendChild(el('summary', null, cut > 0 && cut < 200 ? text.slice(0, cut) : text.slice(0, 160) + '…'));
+    more.appendChild(el('p', null, text));
+    msg.appendChild(more);
+    var cmd = el('div', 'cmd');
+    cmd.appendChild(el('span', 'sub', 'reproduce: '));
+    cmd.appendChild(el('code', null, a.replayCommand || 'n/a'));
+    msg.appendChild(cmd);
+    tr.querySelector('td').addEventListener('click', function () { select(a.stream); });
     return tr;
   }
   function drawAlerts(alerts) {
@@ -122,8 +138,8 @@
     var badge = document.getElementById('open-count');
     badge.textContent = String(open.length);
     badge.className = 'count-badge' + (open.length ? ' on' : '');
-    var heads = ['stream', 'rule', 'subject', 'state', 'window end', 'value vs limit', 'message', 'replay command'];
-    var numeric = [false, false, false, false, false, true, false, false];
+    var heads = ['stream', 'rule', 'subject', 'state', 'window end', 'value vs limit', 'message (select to read it all) and replay command'];
+    var numeric = [false, false, false, false, false, true, false];
     replace('open-alerts', open.length ? wrapTable(table(heads, open.map(alertRow), numeric))
       : el('p', 'empty', 'No open alert: no episode raised and not yet cleared since this service started.'));
     replace('recent-alerts', alerts.recent.length ? wrapTable(table(heads, alerts.recent.map(alertRow), numeric))
@@ -233,7 +249,10 @@
   function yAxis(title, log) {
     var a = { type: log ? 'logarithmic' : 'linear', title: { display: true, text: title, color: C.muted }, grid: { color: C.grid },
       ticks: { color: C.muted } };
-    if (log) { a.ticks.callback = function (v) { return num(v).replace(/\.?0+$/, ''); }; }
+    if (log) {
+      a.ticks.callback = function (v) { return num(v).replace(/\.?0+$/, ''); };
+      a.afterBuildTicks = F.powersOfTwo;
+    }
     return a;
   }
   function options(ends, y) {
@@ -345,8 +364,9 @@
       keys.forEach(function (k, i) {
         var color = CUSUM[i % CUSUM.length];
         function entry(e) { return (e.cusum || []).filter(function (c) { return c.rule + ' ' + subjectName(c.subject) === k; })[0]; }
-        cs.push(series('S ' + rules[k].rule, 'cusum', pts(function (e) { var c = entry(e); return c ? c.value : null; }), color));
-        cs.push(series('largest S in window', 'cusum-max', pts(function (e) { var c = entry(e); return c ? c.max : null; }), color, { borderDash: [4, 3], borderWidth: 1 }));
+        var side = rules[k].rule.replace('bernoulli-cusum-', '');
+        cs.push(series('S ' + side, 'cusum', pts(function (e) { var c = entry(e); return c ? c.value : null; }), color));
+        cs.push(series('largest S ' + side + ' in window', 'cusum-max', pts(function (e) { var c = entry(e); return c ? c.max : null; }), color, { borderDash: [4, 3], borderWidth: 1 }));
         cs.push(hline('limit ' + num(rules[k].limit), i === 0 ? 'limit' : 'limit-more', span, rules[k].limit, C.wine, [3, 3]));
       });
       cs = cs.concat(markSets(marksFor(function (a) { return a.rule.indexOf('cusum') >= 0; }, function (a) { return a.value; })));
@@ -381,7 +401,7 @@
   function refreshCharts() {
     var names = chartedStreams();
     return Promise.all(names.map(function (n) {
-      return getJson('/api/streams/' + encodeURIComponent(n) + '/estimates?last=' + LAST).then(function (d) { return [n, d]; });
+      return getJson('api/streams/' + encodeURIComponent(n) + '/estimates?last=' + LAST).then(function (d) { return [n, d]; });
     })).then(function (all) {
       var keep = {};
       all.forEach(function (p) { keep['stream-' + slug(p[0])] = true; drawStream(p[0], p[1]); });
@@ -395,7 +415,7 @@
   }
 
   function refresh() {
-    return Promise.all([getJson('/api/streams'), getJson('/api/alerts')]).then(function (r) {
+    return Promise.all([getJson('api/streams'), getJson('api/alerts')]).then(function (r) {
       state.streams = r[0].streams;
       state.alerts = r[1];
       drawService(r[0].service);

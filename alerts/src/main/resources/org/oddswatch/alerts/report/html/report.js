@@ -83,14 +83,7 @@
     return {
       type: 'logarithmic', title: { display: true, text: title, color: C.muted }, grid: { color: C.grid },
       ticks: { color: C.muted, callback: function (v) { return num(v).replace(/\.?0+$/, ''); } },
-      afterBuildTicks: function (scale) {
-        var t = [];
-        for (var p = -6; p <= 8; p++) {
-          var v = Math.pow(2, p);
-          if (v >= scale.min && v <= scale.max) { t.push({ value: v }); }
-        }
-        if (t.length >= 2) { scale.ticks = t; }
-      }
+      afterBuildTicks: F.powersOfTwo
     };
   }
 
