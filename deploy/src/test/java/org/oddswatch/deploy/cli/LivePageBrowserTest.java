@@ -46,8 +46,10 @@ import org.openqa.selenium.chrome.ChromeDriver;
  * that after the change an odds-ratio drift alert on household contact appears on the page without
  * a reload (a mark set in the page survives, and the page refreshed itself in between); that no
  * script error or policy violation is logged; that every request the page made went to the service's
- * own origin; and saves {@code target/live-page-screenshot.png} (the README's picture,
- * {@code docs/images/live-page.png}). Skips without Chromium as {@link ReplayReportBrowserTest} does.
+ * own origin; saves {@code target/live-page-screenshot.png} (the README's picture,
+ * {@code docs/images/live-page.png}); then that the filter narrows the list and the charts to the
+ * matching stream (and {@code target/live-page-records.png} shows the records and partitions). Skips
+ * without Chromium as {@link ReplayReportBrowserTest} does.
  */
 class LivePageBrowserTest {
 
@@ -122,6 +124,16 @@ class LivePageBrowserTest {
                         + ".textContent;")).contains("oddswatch replay"), "the replay command is shown");
                 driver.executeScript("window.scrollTo(0, 0);");
                 ReplayReportBrowserTest.screenshot(driver, "live-page-screenshot.png");
+
+                // The filter narrows the list (and the charts) to the matching streams.
+                driver.findElement(By.id("filter")).sendKeys("south");
+                assertEquals(1L, driver.executeScript("return document.querySelectorAll('#stream-table tbody tr').length;"));
+                awaitPage(driver, "charts of the matching stream only", "return Array.from(document.querySelectorAll("
+                        + "'#charts section.stream')).map(function (s) { return s.getAttribute('data-name'); }).join(',');",
+                        names -> "respiratory-by-region/south".equals(names));
+                driver.executeScript("document.getElementById('records').scrollIntoView();");
+                ReplayReportBrowserTest.screenshot(driver, "live-page-records.png");
+                assertEquals(List.of(), ReplayReportBrowserTest.severe(driver), "script errors after filtering");
             }
         } finally {
             driver.quit();

@@ -86,7 +86,7 @@
     Object.keys(c.reasons || {}).forEach(function (k) { var tr = el('tr'); cell(tr, 'reason'); cell(tr, k); cell(tr, count(c.reasons[k]), 'num'); rows.push(tr); });
     var wrap = el('div');
     wrap.appendChild(el('h3', null, 'Records by outcome and reason'));
-    wrap.appendChild(table(['', 'outcome or reason', 'records'], rows, [false, false, true]));
+    wrap.appendChild(table(['kind', 'outcome or reason', 'records'], rows, [false, false, true]));
     replace('record-counts', wrap);
 
     var prow = parts.map(function (p) {
