@@ -31,7 +31,7 @@ final class RunCommand implements Callable<Integer> {
     @Mixin
     DefinitionFile config;
 
-    @Option(names = "--http", paramLabel = "HOST:PORT", description = "Address of /metrics, /health and /status (overrides service.http).")
+    @Option(names = "--http", paramLabel = "HOST:PORT", description = "Address of the live page /, its API /api/, /metrics, /health and /status (overrides service.http; default 127.0.0.1:8470, loopback only).")
     String http;
 
     @Option(names = "--instance", paramLabel = "NAME", description = "Name of this instance in client ids and in the service_instance tag of meters (default: the host name).")
@@ -57,7 +57,7 @@ final class RunCommand implements Callable<Integer> {
         try (MonitorService service = new MonitorService(definition, registry, name)) {
             HttpEndpoints endpoints;
             try {
-                endpoints = HttpEndpoints.start(address, registry, service::ready, service::status);
+                endpoints = HttpEndpoints.start(address, registry, service::ready, service::status, service.site());
             } catch (BindException e) {
                 throw UserError.config("cannot listen on " + definition.service().http() + " (" + e.getMessage() + ")", e);
             }
@@ -67,7 +67,8 @@ final class RunCommand implements Callable<Integer> {
                         + String.join(", ", definition.topics()) + " via " + definition.kafka().getOrDefault(
                                 "bootstrap.servers", "(no bootstrap.servers)") + ", group "
                         + definition.service().groupId() + "; http://" + endpoints.address().getHostString() + ":"
-                        + endpoints.port() + "/status");
+                        + endpoints.port() + "/status; live page http://" + endpoints.address().getHostString() + ":"
+                        + endpoints.port() + "/");
                 out.flush();
                 while (!signals.stopRequested()) {
                     if (service.awaitStopped(Duration.ofMillis(200))) {

@@ -128,7 +128,7 @@ public final class Sandbox {
         boolean plain = !settings.redraw();
         try (MonitorService service = new MonitorService(config, registry, "sandbox").start();
              HttpEndpoints http = HttpEndpoints.start(HttpEndpoints.parseAddress(config.service().http()), registry,
-                     service::ready, service::status);
+                     service::ready, service::status, service.site());
              OutputWatcher watcher = new OutputWatcher(broker.clientProps(), estimateTopics, alertTopics,
                      e -> {
                          if (plain) {

@@ -141,6 +141,14 @@ class ReplayReportBrowserTest {
      * allows no request) and the browser console recorded; skips where Chromium is absent.
      */
     static ChromeDriver offlineChromium(Path dir) throws IOException {
+        return chromium(dir, true);
+    }
+
+    /**
+     * Headless Chromium with its console log kept; {@code offline}: the network emulated off (a page
+     * from a file), else on (a page served on the loopback address).
+     */
+    static ChromeDriver chromium(Path dir, boolean offline) throws IOException {
         Path chromium = tool("ODDSWATCH_CHROMIUM", "/usr/bin/chromium");
         Path chromedriver = tool("ODDSWATCH_CHROMEDRIVER", "/usr/bin/chromedriver");
         ChromeDriverService service = new ChromeDriverService.Builder()
@@ -155,9 +163,11 @@ class ReplayReportBrowserTest {
         logs.enable(LogType.BROWSER, Level.ALL);
         options.setCapability("goog:loggingPrefs", logs);
         ChromeDriver driver = new ChromeDriver(service, options);
-        ChromiumNetworkConditions offline = new ChromiumNetworkConditions();
-        offline.setOffline(true);
-        driver.setNetworkConditions(offline);
+        if (offline) {
+            ChromiumNetworkConditions off = new ChromiumNetworkConditions();
+            off.setOffline(true);
+            driver.setNetworkConditions(off);
+        }
         return driver;
     }
 

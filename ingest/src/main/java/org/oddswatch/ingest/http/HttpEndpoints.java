@@ -1,5 +1,6 @@
 package org.oddswatch.ingest.http;
 
+import com.sun.net.httpserver.Headers;
 import com.sun.net.httpserver.HttpExchange;
 import com.sun.net.httpserver.HttpServer;
 import io.micrometer.prometheusmetrics.PrometheusMeterRegistry;
@@ -12,14 +13,22 @@ import java.util.concurrent.Executors;
 import java.util.function.BooleanSupplier;
 import java.util.function.Supplier;
 import org.oddswatch.alerts.json.Json;
+import org.oddswatch.alerts.live.LiveSite;
+import org.oddswatch.alerts.live.WebAnswer;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
 /**
  * The service's read-only HTTP endpoints on the JDK's built-in server: {@code GET /metrics}
  * (Prometheus text), {@code GET /health} (200 {@code {"status":"ready"}} once state is rebuilt, else
- * 503 {@code {"status":"rebuilding"}}) and {@code GET /status} (the status supplier as JSON). Other
- * paths answer 404, other methods 405.
+ * 503 {@code {"status":"rebuilding"}}), {@code GET /status} (the status supplier as JSON) and, when
+ * given a {@link LiveSite}, the live page at {@code /} and its API under {@code /api/}. Other paths
+ * answer 404. Only GET and HEAD are served (HEAD: the GET's status and headers, no body); any other
+ * method answers 405 with {@code Allow: GET, HEAD}.
+ *
+ * <p>Every answer carries {@value #NOSNIFF_HEADER}: nosniff, {@code Referrer-Policy: no-referrer},
+ * {@code X-Frame-Options: DENY}, {@code Cache-Control: no-store} and a Content-Security-Policy: the
+ * page's own (its inline parts by hash, requests to its own origin only), else {@value #STRICT_POLICY}.
  *
  * <p>The JDK server reads a request on an executor thread with no read timeout of its own, so a
  * client that never finishes its request holds a thread. The endpoints run {@value #WORKERS} threads
@@ -52,7 +61,14 @@ public final class HttpEndpoints implements AutoCloseable {
         }
     }
 
-    private record Reply(int status, String contentType, String body) {
+    /** The Content-Security-Policy of every answer but the live page: nothing may load or run. */
+    static final String STRICT_POLICY = "default-src 'none'; frame-ancestors 'none'; base-uri 'none'; form-action 'none'";
+    static final String NOSNIFF_HEADER = "X-Content-Type-Options";
+
+    private record Reply(int status, String contentType, String body, String policy) {
+        Reply(int status, String contentType, String body) {
+            this(status, contentType, body, null);
+        }
     }
 
     private final HttpServer server;
@@ -72,7 +88,23 @@ public final class HttpEndpoints implements AutoCloseable {
      */
     public static HttpEndpoints start(InetSocketAddress address, PrometheusMeterRegistry registry, BooleanSupplier ready,
                                       Supplier<?> status) throws IOException {
+        return start(address, registry, ready, status, null);
+    }
+
+    /**
+     * Binds and starts the endpoints with the live page and its API.
+     *
+     * @param site the page at {@code /} and the API under {@code /api/}, or null for neither
+     */
+    public static HttpEndpoints start(InetSocketAddress address, PrometheusMeterRegistry registry, BooleanSupplier ready,
+                                      Supplier<?> status, LiveSite site) throws IOException {
         HttpServer server = HttpServer.create(address, 16);
+        server.createContext("/", exchange -> respond(exchange, () -> {
+            WebAnswer answer = site == null ? null
+                    : site.answer(exchange.getRequestURI().getRawPath(), exchange.getRequestURI().getRawQuery());
+            return answer == null ? notFound(exchange.getRequestURI().getPath())
+                    : new Reply(answer.status(), answer.contentType(), answer.body(), answer.policy());
+        }));
         server.createContext("/metrics", exchange -> respond(exchange, () ->
                 new Reply(200, PROMETHEUS_TEXT, registry.scrape())));
         server.createContext("/health", exchange -> respond(exchange, () -> ready.getAsBoolean()
@@ -130,15 +162,20 @@ public final class HttpEndpoints implements AutoCloseable {
         executor.shutdownNow();
     }
 
+    private static Reply notFound(String path) {
+        return new Reply(404, JSON, Json.write(Map.of("error", "not found: " + path)));
+    }
+
     private static void respond(HttpExchange exchange, Supplier<Reply> source) throws IOException {
         try (exchange) {
             String path = exchange.getRequestURI().getPath();
             boolean head = "HEAD".equals(exchange.getRequestMethod());
             Reply reply;
-            if (!path.equals(exchange.getHttpContext().getPath())) {
-                reply = new Reply(404, JSON, Json.write(Map.of("error", "not found: " + path)));
+            String context = exchange.getHttpContext().getPath();
+            if (!context.equals("/") && !path.equals(context)) {
+                reply = notFound(path);
             } else if (!head && !"GET".equals(exchange.getRequestMethod())) {
-                reply = new Reply(405, JSON, Json.write(Map.of("error", "only GET is served")));
+                reply = new Reply(405, JSON, Json.write(Map.of("error", "only GET and HEAD are served")));
                 exchange.getResponseHeaders().add("Allow", "GET, HEAD");
             } else {
                 try {
@@ -149,7 +186,13 @@ public final class HttpEndpoints implements AutoCloseable {
                 }
             }
             byte[] body = reply.body().getBytes(StandardCharsets.UTF_8);
-            exchange.getResponseHeaders().add("Content-Type", reply.contentType());
+            Headers headers = exchange.getResponseHeaders();
+            headers.add("Content-Type", reply.contentType());
+            headers.add("Content-Security-Policy", reply.policy() == null ? STRICT_POLICY : reply.policy());
+            headers.add(NOSNIFF_HEADER, "nosniff");
+            headers.add("Referrer-Policy", "no-referrer");
+            headers.add("X-Frame-Options", "DENY");
+            headers.add("Cache-Control", "no-store");
             exchange.sendResponseHeaders(reply.status(), head ? -1 : body.length);
             if (!head) {
                 exchange.getResponseBody().write(body);

@@ -15,6 +15,8 @@ import java.util.concurrent.TimeUnit;
 import org.apache.kafka.clients.consumer.CloseOptions;
 import org.apache.kafka.clients.consumer.KafkaConsumer;
 import org.apache.kafka.common.serialization.ByteArrayDeserializer;
+import org.oddswatch.alerts.live.LiveHistory;
+import org.oddswatch.alerts.live.LiveSite;
 import org.oddswatch.alerts.output.JsonLinesSink;
 import org.oddswatch.alerts.output.LogSink;
 import org.oddswatch.alerts.output.OutputSink;
@@ -39,7 +41,8 @@ import org.slf4j.LoggerFactory;
  * <p>Each monitor's outputs pass the {@link OutputStage} to the Kafka publisher, the log (alerts),
  * its {@code outputs.webhook} (alerts, on the webhook's own thread) and its
  * {@code outputs.estimatesFile} (final estimates appended; a relative path resolves against the
- * definition file's folder), then the {@link PipelineMeters}.
+ * definition file's folder) and the {@link LiveHistory} the live page reads, then the
+ * {@link PipelineMeters}.
  */
 public final class MonitorService implements AutoCloseable {
 
@@ -50,6 +53,7 @@ public final class MonitorService implements AutoCloseable {
     private final KafkaOutputPublisher publisher;
     private final Map<String, WebhookSink> webhooks = new HashMap<>();
     private final Map<Path, OutputSink> files = new HashMap<>();
+    private final LiveHistory history = new LiveHistory();
     private final List<KafkaClientMetrics> clientMetrics;
     private final PollLoop loop;
     private final Thread thread;
@@ -85,7 +89,7 @@ public final class MonitorService implements AutoCloseable {
     }
 
     private List<OutputSink> sinks(MonitorDefinition monitor, OutputSink log, MeterRegistry registry) {
-        List<OutputSink> sinks = new ArrayList<>(List.of(publisher, log));
+        List<OutputSink> sinks = new ArrayList<>(List.of(publisher, log, history));
         WebhookSpec hook = monitor.outputs().webhook();
         if (hook != null) {
             WebhookSink webhook = new WebhookSink(monitor.name(), URI.create(hook.url()), hook.timeout(), hook.attempts());
@@ -131,6 +135,11 @@ public final class MonitorService implements AutoCloseable {
     /** The latest status snapshot (thread-safe). */
     public ServiceStatus status() {
         return loop.snapshot();
+    }
+
+    /** The live page and its API over what this service published and its status (for {@code HttpEndpoints}). */
+    public LiveSite site() {
+        return new LiveSite(history, this::status);
     }
 
     /** The error that stopped the loop, or null. */

@@ -1,12 +1,12 @@
 package org.oddswatch.alerts.report.html;
 
 /** Text escaped for HTML element content and double-quoted attribute values. */
-final class Html {
+public final class Html {
 
     private Html() {
     }
 
-    static String escape(String text) {
+    public static String escape(String text) {
         StringBuilder b = new StringBuilder(text.length() + 16);
         for (int i = 0; i < text.length(); i++) {
             char c = text.charAt(i);

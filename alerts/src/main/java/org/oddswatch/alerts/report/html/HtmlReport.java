@@ -41,7 +41,7 @@ public final class HtmlReport {
     private static final String STYLE = resource("report.css");
     private static final String SCRIPT = resource("report.js");
     /** Chart.js followed by the chart look both pages share. */
-    static final String CHARTS = ChartLibrary.SCRIPT + "\n" + resource("chart-look.js");
+    public static final String CHARTS = ChartLibrary.SCRIPT + "\n" + resource("chart-look.js");
     private static final Pattern PLACEHOLDER = Pattern.compile("\\{\\{(\\w+)}}");
 
     private HtmlReport() {
@@ -87,13 +87,30 @@ public final class HtmlReport {
         return fill(TEMPLATE, parts);
     }
 
+    /** The policy of the pages written to files: inline scripts and styles only, no request at all. */
+    static final String FILE_POLICY = "default-src 'none'; script-src 'unsafe-inline'; style-src 'unsafe-inline'; img-src data:";
+
     /** The pages' shared head (doctype to {@code </head>}: the policy allowing no request, title, styles). */
     static String head(String title, String generator) {
-        return fill(HEAD, Map.of("title", Html.escape(title), "generator", Html.escape(generator), "style", STYLE));
+        return head(title, generator, FILE_POLICY, "");
+    }
+
+    /**
+     * The shared head with another Content-Security-Policy and styles added after the shared ones
+     * (the live page, which is served and allows requests to its own origin only).
+     */
+    public static String head(String title, String generator, String policy, String moreStyle) {
+        return fill(HEAD, Map.of("title", Html.escape(title), "generator", Html.escape(generator), "style",
+                style(moreStyle), "policy", policy));
+    }
+
+    /** The style text {@link #head(String, String, String, String)} inlines (for a policy's hash). */
+    public static String style(String moreStyle) {
+        return moreStyle.isEmpty() ? STYLE : STYLE + "\n" + moreStyle;
     }
 
     /** Replaces each {@code {{name}}} of {@code template} in one pass (inserted text is never re-read). */
-    static String fill(String template, Map<String, String> parts) {
+    public static String fill(String template, Map<String, String> parts) {
         Matcher m = PLACEHOLDER.matcher(template);
         StringBuilder b = new StringBuilder(template.length() + parts.values().stream().mapToInt(String::length).sum());
         while (m.find()) {
@@ -107,7 +124,7 @@ public final class HtmlReport {
         return b.toString();
     }
 
-    static String resource(String name) {
+    public static String resource(String name) {
         try (InputStream in = HtmlReport.class.getResourceAsStream(name)) {
             if (in == null) {
                 throw new IllegalStateException("missing resource " + name);

@@ -15,23 +15,7 @@
     cleared: { color: C.moss, style: 'rectRot', radius: 7, label: 'cleared' }
   };
 
-  function el(tag, cls, text) {
-    var e = document.createElement(tag);
-    if (cls) { e.className = cls; }
-    if (text !== undefined && text !== null) { e.textContent = String(text); }
-    return e;
-  }
-  function day(ms) { return new Date(ms).toISOString().slice(0, 10); }
-  function when(ms) {
-    var s = new Date(ms).toISOString();
-    return s.slice(11, 19) === '00:00:00' ? s.slice(0, 10) : s.slice(0, 16).replace('T', ' ') + ' UTC';
-  }
-  function num(v) {
-    if (v === null || v === undefined) { return 'n/a'; }
-    var a = Math.abs(v);
-    return a !== 0 && a < 0.01 ? v.toExponential(2) : a < 10 ? v.toFixed(3) : v.toFixed(2);
-  }
-  function pct(v) { return v === null || v === undefined ? 'n/a' : (100 * v).toFixed(1) + ' %'; }
+  var F = window.oddswatchPage, el = F.el, day = F.day, when = F.when, num = F.num, pct = F.pct;
   function count(v) { return v === null || v === undefined ? 'withheld' : v.toLocaleString('en'); }
   function points(xs, ys) {
     var out = [];
@@ -99,14 +83,7 @@
     return {
       type: 'logarithmic', title: { display: true, text: title, color: C.muted }, grid: { color: C.grid },
       ticks: { color: C.muted, callback: function (v) { return num(v).replace(/\.?0+$/, ''); } },
-      afterBuildTicks: function (scale) {
-        var t = [];
-        for (var p = -6; p <= 8; p++) {
-          var v = Math.pow(2, p);
-          if (v >= scale.min && v <= scale.max) { t.push({ value: v }); }
-        }
-        if (t.length >= 2) { scale.ticks = t; }
-      }
+      afterBuildTicks: F.powersOfTwo
     };
   }
 

@@ -1,0 +1,191 @@
+package org.oddswatch.alerts.live;
+
+import java.time.Instant;
+import java.util.ArrayDeque;
+import java.util.ArrayList;
+import java.util.Deque;
+import java.util.Iterator;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.TreeMap;
+import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.lifecycle.AlertState;
+import org.oddswatch.alerts.output.OutputSink;
+import org.oddswatch.alerts.output.Published;
+import org.oddswatch.estimator.result.WindowEstimate;
+import org.oddswatch.estimator.result.WindowStatus;
+
+/**
+ * The live page's memory: what this service instance published since it started, bounded. An
+ * {@link OutputSink} fed after the output stage, so it keeps the published JSON text (small cells
+ * already withheld) and never a record's values:
+ * <ul>
+ *   <li>per stream, the last {@value #WINDOWS} final estimates (oldest dropped first) and the newest
+ *       interim estimate of the window still open;</li>
+ *   <li>the open alert episodes (raised or continuing, the newest message of each; a cleared message
+ *       closes its episode), at most {@value #OPEN_ALERTS} (the oldest dropped first);</li>
+ *   <li>the last {@value #RECENT_ALERTS} alert messages of any state.</li>
+ * </ul>
+ * At most {@value #STREAMS} streams are kept; estimates of further streams are counted in
+ * {@link #droppedStreams()} and not kept. Memory is therefore bounded by about
+ * {@code STREAMS x (WINDOWS + 1)} estimate lines (a few kilobytes each).
+ *
+ * <p>Written by the thread that runs the pipelines, read by the HTTP threads: every method holds this
+ * object's lock for a copy of references, never for I/O. State rebuilt after a restart publishes
+ * nothing, so after a restart the history starts with the first window published again.
+ */
+public final class LiveHistory implements OutputSink {
+
+    /** Final windows kept per stream. */
+    public static final int WINDOWS = 120;
+    /** Streams kept. */
+    public static final int STREAMS = 1000;
+    /** Open alert episodes kept. */
+    public static final int OPEN_ALERTS = 500;
+    /** Recent alert messages kept. */
+    public static final int RECENT_ALERTS = 200;
+
+    /** One published output kept: its stream, monitor, window end and JSON text. */
+    public record Kept(String stream, String monitor, Instant windowEnd, String json) {
+    }
+
+    private static final class StreamHistory {
+        final String monitor;
+        final Deque<Kept> finals = new ArrayDeque<>();
+        Kept open;
+
+        StreamHistory(String monitor) {
+            this.monitor = monitor;
+        }
+    }
+
+    private final Map<String, StreamHistory> streams = new TreeMap<>();
+    private final LinkedHashMap<String, Kept> openAlerts = new LinkedHashMap<>();
+    private final Deque<Kept> recentAlerts = new ArrayDeque<>();
+    private long droppedStreams;
+
+    @Override
+    public synchronized void estimate(WindowEstimate estimate, Published published) {
+        StreamHistory stream = streams.get(estimate.stream());
+        if (stream == null) {
+            if (streams.size() >= STREAMS) {
+                droppedStreams++;
+                return;
+            }
+            stream = new StreamHistory(published.monitor());
+            streams.put(estimate.stream(), stream);
+        }
+        Kept kept = new Kept(estimate.stream(), published.monitor(), estimate.windowEnd(), published.json());
+        if (estimate.status() == WindowStatus.FINAL) {
+            Kept newest = stream.finals.peekLast();
+            if (newest != null && !estimate.windowEnd().isAfter(newest.windowEnd())) {
+                // Sent again (at-least-once after a rebuild): the same window replaces its copy in place.
+                replaceSameWindow(stream.finals, kept);
+                return;
+            }
+            stream.finals.addLast(kept);
+            if (stream.finals.size() > WINDOWS) {
+                stream.finals.removeFirst();
+            }
+            if (stream.open != null && !stream.open.windowEnd().isAfter(estimate.windowEnd())) {
+                stream.open = null;
+            }
+        } else {
+            Kept newest = stream.finals.peekLast();
+            if (newest == null || estimate.windowEnd().isAfter(newest.windowEnd())) {
+                stream.open = kept;
+            }
+        }
+    }
+
+    private static void replaceSameWindow(Deque<Kept> finals, Kept kept) {
+        List<Kept> copy = new ArrayList<>(finals);
+        for (int i = 0; i < copy.size(); i++) {
+            if (copy.get(i).windowEnd().equals(kept.windowEnd())) {
+                copy.set(i, kept);
+                finals.clear();
+                finals.addAll(copy);
+                return;
+            }
+        }
+    }
+
+    @Override
+    public synchronized void alert(Alert alert, Published published) {
+        Kept kept = new Kept(alert.stream(), published.monitor(), alert.windowEnd(), published.json());
+        recentAlerts.addLast(kept);
+        if (recentAlerts.size() > RECENT_ALERTS) {
+            recentAlerts.removeFirst();
+        }
+        if (alert.state() == AlertState.CLEARED) {
+            openAlerts.remove(alert.id());
+        } else {
+            openAlerts.remove(alert.id());
+            openAlerts.put(alert.id(), kept);
+            if (openAlerts.size() > OPEN_ALERTS) {
+                Iterator<String> oldest = openAlerts.keySet().iterator();
+                oldest.next();
+                oldest.remove();
+            }
+        }
+    }
+
+    /** The kept streams' names, sorted. */
+    public synchronized List<String> streams() {
+        return List.copyOf(streams.keySet());
+    }
+
+    /** Whether the stream has published anything kept here. */
+    public synchronized boolean has(String stream) {
+        return streams.containsKey(stream);
+    }
+
+    /** The monitor of a kept stream, or null. */
+    public synchronized String monitor(String stream) {
+        StreamHistory s = streams.get(stream);
+        return s == null ? null : s.monitor;
+    }
+
+    /** The last {@code n} final estimates of the stream, oldest first (empty for an unknown stream). */
+    public synchronized List<Kept> finals(String stream, int n) {
+        StreamHistory s = streams.get(stream);
+        if (s == null || n <= 0) {
+            return List.of();
+        }
+        List<Kept> all = new ArrayList<>(s.finals);
+        return List.copyOf(all.subList(Math.max(0, all.size() - n), all.size()));
+    }
+
+    /** The newest final estimate of the stream, or null. */
+    public synchronized Kept newestFinal(String stream) {
+        StreamHistory s = streams.get(stream);
+        return s == null ? null : s.finals.peekLast();
+    }
+
+    /** The newest interim estimate of the window after the newest final one, or null. */
+    public synchronized Kept open(String stream) {
+        StreamHistory s = streams.get(stream);
+        return s == null ? null : s.open;
+    }
+
+    /** The open episodes' newest messages, in the order they were last updated (oldest first). */
+    public synchronized List<Kept> openAlerts() {
+        return List.copyOf(openAlerts.values());
+    }
+
+    /** The last {@code n} alert messages, newest first. */
+    public synchronized List<Kept> recentAlerts(int n) {
+        List<Kept> out = new ArrayList<>(Math.min(n, recentAlerts.size()));
+        Iterator<Kept> newestFirst = recentAlerts.descendingIterator();
+        while (newestFirst.hasNext() && out.size() < n) {
+            out.add(newestFirst.next());
+        }
+        return out;
+    }
+
+    /** Streams whose estimates were not kept because {@value #STREAMS} streams already were. */
+    public synchronized long droppedStreams() {
+        return droppedStreams;
+    }
+}
