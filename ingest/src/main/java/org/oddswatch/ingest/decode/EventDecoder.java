@@ -4,6 +4,7 @@ import com.fasterxml.jackson.core.JsonPointer;
 import com.fasterxml.jackson.databind.JsonNode;
 import java.time.DateTimeException;
 import java.util.List;
+import java.util.regex.Pattern;
 import org.oddswatch.estimator.terms.CategoricalTerm;
 import org.oddswatch.estimator.terms.CodingOutcome;
 import org.oddswatch.estimator.terms.DesignCoder;
@@ -23,6 +24,8 @@ import org.oddswatch.ingest.definition.TermSpec;
  */
 public final class EventDecoder {
 
+    private static final Pattern EPOCH_MILLIS = Pattern.compile("-?\\p{Nd}+");
+
     private final DesignCoder coder;
     private final JsonPointer idField;
     private final JsonPointer timeField;
@@ -38,7 +41,7 @@ public final class EventDecoder {
         this.timeField = monitor.event().time();
         this.outcome = monitor.event().outcome();
         this.splitField = monitor.split() == null ? null : monitor.split().field();
-        this.terms = List.copyOf(monitor.terms());
+        this.terms = monitor.terms();
         this.stratumTerm = monitor.stratumTermIndex();
     }
 
@@ -50,17 +53,13 @@ public final class EventDecoder {
     public Decoding decode(JsonNode tree) {
         try {
             String id = identifier(tree, idField, "event id", false);
-            JsonNode timeNode = tree.at(timeField);
-            if (absent(timeNode)) {
-                throw new UnreadableRecordException(RejectReason.MISSING_FIELD, "no event time at " + timeField);
-            }
             long time;
             try {
-                time = parseTime(timeNode);
+                time = parseTime(present(tree.at(timeField), "event time", timeField));
             } catch (IllegalArgumentException e) {
                 throw new UnreadableRecordException(RejectReason.BAD_TIME, e.getMessage());
             }
-            boolean positive = positive(tree.at(outcome.field()));
+            boolean positive = positive(present(tree.at(outcome.field()), "outcome", outcome.field()));
             String splitValue = splitField == null ? null : identifier(tree, splitField, "split value", true);
             return decodeTerms(tree, id, time, positive, splitValue);
         } catch (UnreadableRecordException e) {
@@ -71,10 +70,7 @@ public final class EventDecoder {
     /** The event id or split value at {@code field}, as text ({@code compared}: in compared form). */
     private static String identifier(JsonNode tree, JsonPointer field, String what, boolean compared)
             throws UnreadableRecordException {
-        JsonNode node = tree.at(field);
-        if (absent(node)) {
-            throw new UnreadableRecordException(RejectReason.MISSING_FIELD, "no " + what + " at " + field);
-        }
+        JsonNode node = present(tree.at(field), what, field);
         String problem = null;
         String text = node.isValueNode() ? compared ? scalarText(node) : node.asText() : null;
         if (text == null) {
@@ -91,9 +87,6 @@ public final class EventDecoder {
     }
 
     private boolean positive(JsonNode node) throws UnreadableRecordException {
-        if (absent(node)) {
-            throw new UnreadableRecordException(RejectReason.MISSING_FIELD, "no outcome at " + outcome.field());
-        }
         String text = node.isValueNode() ? scalarText(node) : null;
         if (text != null && outcome.positive().contains(text)) {
             return true;
@@ -155,8 +148,12 @@ public final class EventDecoder {
         return -1;
     }
 
-    private static boolean absent(JsonNode node) {
-        return node.isMissingNode() || node.isNull() || (node.isTextual() && node.textValue().isEmpty());
+    /** {@code node}, unless absent: a missing member, {@code null} or empty text. */
+    private static JsonNode present(JsonNode node, String what, JsonPointer field) throws UnreadableRecordException {
+        if (node.isMissingNode() || node.isNull() || node.isTextual() && node.textValue().isEmpty()) {
+            throw new UnreadableRecordException(RejectReason.MISSING_FIELD, "no " + what + " at " + field);
+        }
+        return node;
     }
 
     /**
@@ -185,12 +182,7 @@ public final class EventDecoder {
         }
         String text = node.textValue();
         String trimmed = text.trim();
-        int sign = trimmed.startsWith("-") ? 1 : 0;
-        int end = sign;
-        while (end < trimmed.length() && Character.isDigit(trimmed.charAt(end))) {
-            end++;
-        }
-        if (end > sign && end == trimmed.length()) {
+        if (EPOCH_MILLIS.matcher(trimmed).matches()) {
             try {
                 return Long.parseLong(trimmed);
             } catch (NumberFormatException e) {
@@ -216,19 +208,10 @@ public final class EventDecoder {
 
     /** A JSON scalar as the plain Java value {@link DesignCoder#code} expects; null when absent. */
     private static Object plain(JsonNode node) {
-        if (node.isMissingNode() || node.isNull()) {
+        if (node.isMissingNode() || node.isNull() || node.isTextual() && node.textValue().isEmpty()) {
             return null;
         }
-        if (node.isTextual()) {
-            String text = node.textValue();
-            return text.isEmpty() ? null : text;
-        }
-        if (node.isBoolean()) {
-            return node.booleanValue();
-        }
-        if (node.isIntegralNumber() && node.canConvertToLong()) {
-            return node.longValue();
-        }
-        return node.doubleValue();
+        return node.isTextual() ? node.textValue() : node.isBoolean() ? (Object) node.booleanValue()
+                : node.isIntegralNumber() && node.canConvertToLong() ? (Object) node.longValue() : node.doubleValue();
     }
 }

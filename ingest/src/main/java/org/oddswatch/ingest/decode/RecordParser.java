@@ -83,10 +83,6 @@ public final class RecordParser {
     }
 
     private static String firstLine(String message) {
-        if (message == null) {
-            return "unreadable JSON";
-        }
-        int newline = message.indexOf('\n');
-        return newline < 0 ? message : message.substring(0, newline);
+        return message == null ? "unreadable JSON" : message.lines().findFirst().orElse("");
     }
 }

@@ -70,8 +70,8 @@ final class MonitorReader {
         int futureHold = event.get("futureHold").integer(1000, v -> v >= futureConfirm && v <= MAX_FUTURE_HOLD,
                 "must be from futureConfirm (" + futureConfirm + ") to " + MAX_FUTURE_HOLD);
         return new EventSpec(event.require("id").pointer(), event.require("time").pointer(),
-                event.get("maxFutureSkew").nonNegativeDuration(Duration.ofDays(1)), futureConfirm,
-                event.get("futureSpan").nonNegativeDuration(Duration.ofHours(1)), futureHold,
+                event.get("maxFutureSkew").duration(Duration.ofDays(1), true), futureConfirm,
+                event.get("futureSpan").duration(Duration.ofHours(1), true), futureHold,
                 new OutcomeSpec(outcome.require("field").pointer(), positive, negative));
     }
 
@@ -88,8 +88,8 @@ final class MonitorReader {
     private static WindowSpec window(DefNode window) throws DefinitionException {
         window.mapping("width", "step", "lateness", "align");
         DefNode widthNode = window.require("width");
-        Duration width = widthNode.positiveDuration(null);
-        Duration step = window.require("step").positiveDuration(null);
+        Duration width = widthNode.duration(null, false);
+        Duration step = window.require("step").duration(null, false);
         String widthStep = "width " + widthNode.text();
         widthNode.errorIf(width.toMillis() % step.toMillis() != 0 || width.compareTo(step) < 0,
                 widthStep + " is not a whole multiple of step " + window.get("step").text());
@@ -98,7 +98,7 @@ final class MonitorReader {
                 + window.get("step").text() + "; at most " + MAX_STEPS_PER_WINDOW
                 + " steps per window are allowed (every window sums that many buckets)");
         DefNode align = window.get("align");
-        return new WindowSpec(width, step, window.get("lateness").nonNegativeDuration(Duration.ZERO),
+        return new WindowSpec(width, step, window.get("lateness").duration(Duration.ZERO, true),
                 align.present() ? align.instant() : Instant.EPOCH);
     }
 
@@ -186,7 +186,7 @@ final class MonitorReader {
             urlNode.errorIf(!url.startsWith("http://") && !url.startsWith("https://"),
                     "'" + url + "' is not an http:// or https:// address");
             int attempts = hook.get("attempts").integer(4, v -> v >= 1, "must be at least 1");
-            webhook = new WebhookSpec(url, hook.get("timeout").positiveDuration(Duration.ofSeconds(5)), attempts);
+            webhook = new WebhookSpec(url, hook.get("timeout").duration(Duration.ofSeconds(5), false), attempts);
         }
         int withholdBelow = node.get("withholdCountsBelow").integer(SmallCellPolicy.DEFAULT_LIMIT,
                 v -> v >= 2 && v <= 1000,
