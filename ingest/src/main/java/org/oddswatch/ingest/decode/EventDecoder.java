@@ -5,6 +5,7 @@ import com.fasterxml.jackson.databind.JsonNode;
 import java.time.DateTimeException;
 import java.util.List;
 import java.util.regex.Pattern;
+import java.util.stream.IntStream;
 import org.oddswatch.estimator.terms.CategoricalTerm;
 import org.oddswatch.estimator.terms.CodingOutcome;
 import org.oddswatch.estimator.terms.DesignCoder;
@@ -71,15 +72,11 @@ public final class EventDecoder {
     private static String identifier(JsonNode tree, JsonPointer field, String what, boolean compared)
             throws UnreadableRecordException {
         JsonNode node = present(tree.at(field), what, field);
-        String problem = null;
         String text = node.isValueNode() ? compared ? scalarText(node) : node.asText() : null;
-        if (text == null) {
-            problem = "must be text or a number";
-        } else if (node.isNumber() && !Double.isFinite(node.doubleValue())) {
-            problem = "is a number beyond the range of a double (" + text + ")";
-        } else if (node.isTextual() && Unicode.hasUnpairedSurrogate(text)) {
-            problem = "holds an unpaired UTF-16 surrogate"; // no UTF-8 form: no output could show it
-        }
+        String problem = text == null ? "must be text or a number"
+                : node.isNumber() && !Double.isFinite(node.doubleValue()) ? "is a number beyond the range of a double (" + text + ")"
+                : node.isTextual() && Unicode.hasUnpairedSurrogate(text) ? "holds an unpaired UTF-16 surrogate" // no UTF-8 form
+                : null;
         if (problem != null) {
             throw new UnreadableRecordException(RejectReason.BAD_ID, "the " + what + " at " + field + " " + problem);
         }
@@ -88,11 +85,8 @@ public final class EventDecoder {
 
     private boolean positive(JsonNode node) throws UnreadableRecordException {
         String text = node.isValueNode() ? scalarText(node) : null;
-        if (text != null && outcome.positive().contains(text)) {
-            return true;
-        }
-        if (text != null && outcome.negative().contains(text)) {
-            return false;
+        if (text != null && (outcome.positive().contains(text) || outcome.negative().contains(text))) {
+            return outcome.positive().contains(text);
         }
         throw new UnreadableRecordException(RejectReason.BAD_OUTCOME, "outcome "
                 + (text == null ? "value" : "'" + text + "'") + " at " + outcome.field()
@@ -116,14 +110,10 @@ public final class EventDecoder {
         double[] row = new double[coder.width()];
         CodingOutcome coding = coder.code(raw, row);
         String notNumeric = null;
-        int term;
-        while (coding.isRejected() && (term = numericTerm(coding)) >= 0) {
+        for (int term; coding.isRejected() && (term = numericTerm(coding)) >= 0; coding = coder.code(raw, row)) {
             // not a finite number: missing, like an absent value
-            if (notNumeric == null) {
-                notNumeric = coding.term() + ": " + coding.detail() + " (taken as missing)";
-            }
+            notNumeric = notNumeric != null ? notNumeric : coding.term() + ": " + coding.detail() + " (taken as missing)";
             raw[term] = null;
-            coding = coder.code(raw, row);
         }
         if (coding.isRejected()) {
             return Decoding.rejected(coding.reason(), coding.term() + ": " + coding.detail());
@@ -138,14 +128,9 @@ public final class EventDecoder {
 
     /** The index of the numeric term whose value {@code coding} rejected as not a number, or -1. */
     private int numericTerm(CodingOutcome coding) {
-        if (RejectReason.BAD_VALUE.equals(coding.reason())) {
-            for (int t = 0; t < terms.size(); t++) {
-                if (terms.get(t).term() instanceof NumericTerm && terms.get(t).name().equals(coding.term())) {
-                    return t;
-                }
-            }
-        }
-        return -1;
+        return !RejectReason.BAD_VALUE.equals(coding.reason()) ? -1 : IntStream.range(0, terms.size())
+                .filter(t -> terms.get(t).term() instanceof NumericTerm && terms.get(t).name().equals(coding.term()))
+                .findFirst().orElse(-1);
     }
 
     /** {@code node}, unless absent: a missing member, {@code null} or empty text. */
