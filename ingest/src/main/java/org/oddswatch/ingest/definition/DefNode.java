@@ -1,5 +1,6 @@
 package org.oddswatch.ingest.definition;
 
+import com.fasterxml.jackson.core.JsonParseException;
 import com.fasterxml.jackson.core.JsonParser;
 import com.fasterxml.jackson.core.JsonPointer;
 import com.fasterxml.jackson.core.JsonProcessingException;
@@ -72,14 +73,15 @@ final class DefNode {
             }
             return new DefNode(file, parser.lines, root, "");
         } catch (JsonProcessingException e) {
+            if (e.getProcessor() instanceof LineIndex index && index.problem != null) {
+                throw index.problem;
+            }
             throw new DefinitionException(file, e.getLocation() == null ? 0 : e.getLocation().getLineNr(), "",
                     "not valid YAML: " + e.getOriginalMessage().lines() // without SnakeYAML's position lines
                             .filter(part -> !part.isBlank() && !Character.isWhitespace(part.charAt(0)))
                             .map(String::strip).collect(Collectors.joining(": ")));
         } catch (IOException e) {
             throw new DefinitionException(file, 0, "", "cannot read: " + e.getMessage());
-        } catch (UncheckedDefinitionException e) {
-            throw e.problem;
         }
     }
 
@@ -88,6 +90,8 @@ final class DefNode {
 
         final Map<String, Integer> lines = new HashMap<>();
         private final String file;
+        /** A duplicate key or a tagged value, which stops the reading. */
+        DefinitionException problem;
 
         LineIndex(String file, JsonParser parser) {
             super(parser);
@@ -106,12 +110,15 @@ final class DefNode {
             }
             JsonStreamContext at = token.isStructStart() ? getParsingContext().getParent() : getParsingContext();
             if (token == JsonToken.FIELD_NAME && lines.putIfAbsent(path(at), line()) != null) {
-                throw new UncheckedDefinitionException(new DefinitionException(file, line(), path(at), "duplicate key"));
+                problem = new DefinitionException(file, line(), path(at), "duplicate key");
             } else if (token == JsonToken.VALUE_EMBEDDED_OBJECT) {
-                throw new UncheckedDefinitionException(new DefinitionException(file, line(), path(at),
-                        "unsupported YAML value (a tagged or binary value); write it as plain text"));
+                problem = new DefinitionException(file, line(), path(at),
+                        "unsupported YAML value (a tagged or binary value); write it as plain text");
             } else if (at.inArray() || at.inRoot()) {
                 lines.putIfAbsent(path(at), line());
+            }
+            if (problem != null) {
+                throw new JsonParseException(this, problem.getMessage());
             }
             return token;
         }
@@ -123,16 +130,6 @@ final class DefNode {
             String parent = path(at.getParent());
             return at.inArray() ? parent + "[" + at.getCurrentIndex() + "]"
                     : parent.isEmpty() ? at.getCurrentName() : parent + "." + at.getCurrentName();
-        }
-    }
-
-    /** Carries a located problem out of the tree reader, which only lets I/O exceptions through. */
-    private static final class UncheckedDefinitionException extends RuntimeException {
-        final DefinitionException problem;
-
-        UncheckedDefinitionException(DefinitionException problem) {
-            super(problem.getMessage(), null, false, false);
-            this.problem = problem;
         }
     }
 

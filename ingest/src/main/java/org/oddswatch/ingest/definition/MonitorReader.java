@@ -39,20 +39,19 @@ final class MonitorReader {
                 "'" + name + "' is not a valid monitor name (letters, digits, '.', '_', '-')");
         String topic = topic(node.require("input").mapping("topic").require("topic"), null);
         EventSpec event = event(node.require("event"));
-        SplitSpec split = null;
-        DefNode splitNode = node.get("split");
-        if (splitNode.present()) {
-            splitNode.mapping("field", "maxStreams");
-            int maxStreams = splitNode.get("maxStreams").integer(64, v -> v >= 1, "must be at least 1");
-            split = new SplitSpec(splitNode.require("field").pointer(), maxStreams);
+        DefNode split = node.get("split");
+        if (split.present()) {
+            split.mapping("field", "maxStreams");
         }
+        int maxStreams = split.get("maxStreams").integer(64, v -> v >= 1, "must be at least 1");
+        SplitSpec splitSpec = split.present() ? new SplitSpec(split.require("field").pointer(), maxStreams) : null;
         List<TermSpec> terms = TermReader.read(node.get("terms"));
         WindowSpec window = window(node.require("window"));
         EstimateSpec estimates = estimates(node.get("estimates"), terms);
         BaselineSpec baseline = baseline(node.get("baseline"), window, definitionDir);
         List<String> notices = new ArrayList<>();
         AlertRulesConfig rules = RulesReader.read(node.get("rules"), terms, notices);
-        return new MonitorDefinition(name, topic, event, split, terms, window, estimates, baseline, rules,
+        return new MonitorDefinition(name, topic, event, splitSpec, terms, window, estimates, baseline, rules,
                 outputs(node.get("outputs")), definitionDir, DefinitionChecksum.of(event.outcome(), terms), notices);
     }
 
@@ -121,10 +120,9 @@ final class MonitorReader {
         DefNode stratifyNode = node.get("stratifyBy");
         String stratifyBy = stratifyNode.optionalName();
         if (stratifyBy != null) {
-            TermSpec term = terms.stream().filter(t -> t.name().equals(stratifyBy)).findFirst().orElse(null);
-            stratifyNode.errorIf(term == null, "'" + stratifyBy + "' is not a declared term");
-            stratifyNode.errorIf(!(term.term() instanceof CategoricalTerm),
-                    "'" + stratifyBy + "' must be a categorical term");
+            TermSpec term = terms.stream().filter(t -> t.name().equals(stratifyBy)).findFirst()
+                    .orElseThrow(() -> stratifyNode.error("'" + stratifyBy + "' is not a declared term"));
+            stratifyNode.errorIf(!(term.term() instanceof CategoricalTerm), "'" + stratifyBy + "' must be a categorical term");
         }
         double minEvents = node.get("minEventsPerParameter").number(10, v -> v > 0, "must be positive");
         Double sensitivity = null;
@@ -132,18 +130,14 @@ final class MonitorReader {
         DefNode accuracy = node.get("testAccuracy");
         if (accuracy.present()) {
             accuracy.mapping("sensitivity", "specificity");
-            sensitivity = proportion(accuracy.require("sensitivity"));
-            specificity = proportion(accuracy.require("specificity"));
+            sensitivity = accuracy.require("sensitivity").number(0, v -> v > 0 && v <= 1, "must be a proportion in (0, 1]");
+            specificity = accuracy.require("specificity").number(0, v -> v > 0 && v <= 1, "must be a proportion in (0, 1]");
             accuracy.errorIf(sensitivity + specificity <= 1,
                     "sensitivity + specificity must exceed 1 for the Rogan-Gladen adjustment");
         }
         return new EstimateSpec(level, interval, stratifyBy, minEvents, sensitivity, specificity,
                 node.get("patternLimit").integer(4096, v -> v >= 1, "must be at least 1"),
                 node.get("profileIntervals").bool(true));
-    }
-
-    private static double proportion(DefNode node) throws DefinitionException {
-        return node.number(Double.NaN, v -> v > 0 && v <= 1, "must be a proportion in (0, 1]");
     }
 
     private static BaselineSpec baseline(DefNode node, WindowSpec window, Path definitionDir)
