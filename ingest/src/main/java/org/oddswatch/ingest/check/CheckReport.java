@@ -36,8 +36,9 @@ public record CheckReport(String input, OutcomeCounts.Snapshot records, List<Mon
                     .append(outcomes(m.counts())).append('\n');
             m.counts().reasons().forEach((reason, count) -> {
                 Example example = examples.get(reason);
-                text.append("    ").append(reason).append(": ").append(count).append(example == null || example.line() <= 0
-                        ? "" : " (first at line " + example.line() + ": " + example.detail() + ")").append('\n');
+                text.append("    ").append(reason).append(": ").append(count)
+                        .append(example == null || example.line() <= 0 ? ""
+                                : " (first at line " + example.line() + ": " + example.detail() + ")").append('\n');
             });
         }
         if (gaps.isEmpty()) {

@@ -74,8 +74,10 @@ public final class EventDecoder {
         JsonNode node = present(tree.at(field), what, field);
         String text = node.isValueNode() ? compared ? scalarText(node) : node.asText() : null;
         String problem = text == null ? "must be text or a number"
-                : node.isNumber() && !Double.isFinite(node.doubleValue()) ? "is a number beyond the range of a double (" + text + ")"
-                : node.isTextual() && Unicode.hasUnpairedSurrogate(text) ? "holds an unpaired UTF-16 surrogate" // no UTF-8 form
+                : node.isNumber() && !Double.isFinite(node.doubleValue())
+                ? "is a number beyond the range of a double (" + text + ")"
+                : node.isTextual() && Unicode.hasUnpairedSurrogate(text)
+                ? "holds an unpaired UTF-16 surrogate" // no UTF-8 form: no output could show it
                 : null;
         if (problem != null) {
             throw new UnreadableRecordException(RejectReason.BAD_ID, "the " + what + " at " + field + " " + problem);
@@ -112,7 +114,9 @@ public final class EventDecoder {
         String notNumeric = null;
         for (int term; coding.isRejected() && (term = numericTerm(coding)) >= 0; coding = coder.code(raw, row)) {
             // not a finite number: missing, like an absent value
-            notNumeric = notNumeric != null ? notNumeric : coding.term() + ": " + coding.detail() + " (taken as missing)";
+            if (notNumeric == null) {
+                notNumeric = coding.term() + ": " + coding.detail() + " (taken as missing)";
+            }
             raw[term] = null;
         }
         if (coding.isRejected()) {

@@ -299,7 +299,8 @@ final class DefNode {
         } catch (DateTimeParseException e) {
             throw error("'" + text + "' is not an RFC 3339 time (for example 2026-01-05T00:00:00Z)");
         }
-        errorIf(value.isBefore(MIN_INSTANT) || value.isAfter(MAX_INSTANT), "'" + text + "' is outside the years 1 to 9999");
+        errorIf(value.isBefore(MIN_INSTANT) || value.isAfter(MAX_INSTANT),
+                "'" + text + "' is outside the years 1 to 9999");
         return value;
     }
 
@@ -317,6 +318,7 @@ final class DefNode {
     }
 
     private String describe() {
-        return !present() ? "nothing" : node.isObject() ? "a mapping" : node.isArray() ? "a list" : "'" + node.asText() + "'";
+        return !present() ? "nothing" : node.isObject() ? "a mapping" : node.isArray() ? "a list"
+                : "'" + node.asText() + "'";
     }
 }

@@ -62,8 +62,8 @@ public final class DefinitionLoader {
             line += bytes[i] == '\n' ? 1 : 0;
             lineStart = bytes[i] == '\n' ? i + 1 : lineStart;
         }
-        throw new DefinitionException(name, line, "", "not valid UTF-8 (byte 0x" + Integer.toHexString(bytes[bad] & 0xFF)
-                + " at column " + (bad - lineStart + 1) + "); save the definition as UTF-8");
+        String at = "byte 0x" + Integer.toHexString(bytes[bad] & 0xFF) + " at column " + (bad - lineStart + 1);
+        throw new DefinitionException(name, line, "", "not valid UTF-8 (" + at + "); save the definition as UTF-8");
     }
 
     /**
@@ -82,7 +82,8 @@ public final class DefinitionLoader {
         if (limitsNode.present()) {
             limitsNode.mapping("maxRecordBytes", "maxDepth");
             limits = new RecordLimits(
-                    limitsNode.get("maxRecordBytes").integer(limits.maxRecordBytes(), v -> v >= 16, "must be at least 16"),
+                    limitsNode.get("maxRecordBytes").integer(limits.maxRecordBytes(), v -> v >= 16,
+                            "must be at least 16"),
                     limitsNode.get("maxDepth").integer(limits.maxDepth(), v -> v >= 1, "must be at least 1"));
         }
         DefNode monitorsNode = root.require("monitors");
@@ -91,7 +92,8 @@ public final class DefinitionLoader {
         Set<String> names = new HashSet<>();
         for (DefNode element : monitorsNode.elements()) {
             MonitorDefinition monitor = MonitorReader.read(element, definitionDir);
-            element.get("name").errorIf(!names.add(monitor.name()), "monitor name '" + monitor.name() + "' is used twice");
+            element.get("name").errorIf(!names.add(monitor.name()),
+                    "monitor name '" + monitor.name() + "' is used twice");
             monitors.add(monitor);
         }
         return new MonitorConfig(file, kafka, service, limits, monitors);
@@ -110,7 +112,8 @@ public final class DefinitionLoader {
         }
         new TreeMap<>(environment).forEach((key, value) -> { // sorted: the same winner every time
             if (key.startsWith(KAFKA_ENV_PREFIX) && key.length() > KAFKA_ENV_PREFIX.length()) {
-                properties.put(key.substring(KAFKA_ENV_PREFIX.length()).toLowerCase(Locale.ROOT).replace('_', '.'), value);
+                String property = key.substring(KAFKA_ENV_PREFIX.length()).toLowerCase(Locale.ROOT);
+                properties.put(property.replace('_', '.'), value);
             }
         });
         return properties;

@@ -122,7 +122,8 @@ final class MonitorReader {
         if (stratifyBy != null) {
             TermSpec term = terms.stream().filter(t -> t.name().equals(stratifyBy)).findFirst()
                     .orElseThrow(() -> stratifyNode.error("'" + stratifyBy + "' is not a declared term"));
-            stratifyNode.errorIf(!(term.term() instanceof CategoricalTerm), "'" + stratifyBy + "' must be a categorical term");
+            stratifyNode.errorIf(!(term.term() instanceof CategoricalTerm),
+                    "'" + stratifyBy + "' must be a categorical term");
         }
         double minEvents = node.get("minEventsPerParameter").number(10, v -> v > 0, "must be positive");
         Double sensitivity = null;
@@ -130,8 +131,9 @@ final class MonitorReader {
         DefNode accuracy = node.get("testAccuracy");
         if (accuracy.present()) {
             accuracy.mapping("sensitivity", "specificity");
-            sensitivity = accuracy.require("sensitivity").number(0, v -> v > 0 && v <= 1, "must be a proportion in (0, 1]");
-            specificity = accuracy.require("specificity").number(0, v -> v > 0 && v <= 1, "must be a proportion in (0, 1]");
+            String proportion = "must be a proportion in (0, 1]";
+            sensitivity = accuracy.require("sensitivity").number(0, v -> v > 0 && v <= 1, proportion);
+            specificity = accuracy.require("specificity").number(0, v -> v > 0 && v <= 1, proportion);
             accuracy.errorIf(sensitivity + specificity <= 1,
                     "sensitivity + specificity must exceed 1 for the Rogan-Gladen adjustment");
         }
