@@ -47,11 +47,17 @@ public record MonitorDefinition(String name, String topic, EventSpec event, Spli
     }
 
     public WindowGeometry geometry() {
-        return window.geometry();
+        return new WindowGeometry(window.width().toMillis(), window.step().toMillis(), window.align().toEpochMilli(),
+                window.lateness().toMillis());
     }
 
     public EstimatorOptions estimatorOptions() {
-        return estimates.options();
+        EstimatorOptions options = EstimatorOptions.defaults().withLevel(estimates.level())
+                .withPrevalenceInterval(estimates.prevalenceInterval()).withStratifyBy(estimates.stratifyBy())
+                .withMinEventsPerParameter(estimates.minEventsPerParameter())
+                .withProfileIntervals(estimates.profileIntervals());
+        return estimates.sensitivity() == null ? options
+                : options.withTestAccuracy(estimates.sensitivity(), estimates.specificity());
     }
 
     /** Index of the stratifying term among the terms, or -1. */
