@@ -62,7 +62,7 @@ public final class EventDecoder {
             }
             boolean positive = positive(present(tree.at(outcome.field()), "outcome", outcome.field()));
             String splitValue = splitField == null ? null : identifier(tree, splitField, "split value", true);
-            return decodeTerms(tree, id, time, positive, splitValue);
+            return new Decoding(decodeTerms(tree, id, time, positive, splitValue), null);
         } catch (UnreadableRecordException e) {
             return new Decoding(null, e.rejection());
         }
@@ -95,14 +95,16 @@ public final class EventDecoder {
                 + " is neither positive " + outcome.positive() + " nor negative " + outcome.negative());
     }
 
-    private Decoding decodeTerms(JsonNode tree, String id, long time, boolean positive, String splitValue) {
+    private DecodedEvent decodeTerms(JsonNode tree, String id, long time, boolean positive, String splitValue)
+            throws UnreadableRecordException {
         Object[] raw = new Object[terms.size()];
         long absentTerms = 0;
         for (int t = 0; t < raw.length; t++) {
             JsonNode value = tree.at(terms.get(t).field());
             if (value.isContainerNode()) {
-                return Decoding.rejected(RejectReason.BAD_VALUE, terms.get(t).name() + ": expected a single value at "
-                        + terms.get(t).field() + ", found " + (value.isArray() ? "a list" : "an object"));
+                throw new UnreadableRecordException(RejectReason.BAD_VALUE, terms.get(t).name()
+                        + ": expected a single value at " + terms.get(t).field() + ", found "
+                        + (value.isArray() ? "a list" : "an object"));
             }
             raw[t] = plain(value);
             if (raw[t] == null && t < Long.SIZE) {
@@ -120,14 +122,14 @@ public final class EventDecoder {
             raw[term] = null;
         }
         if (coding.isRejected()) {
-            return Decoding.rejected(coding.reason(), coding.term() + ": " + coding.detail());
+            throw new UnreadableRecordException(coding.reason(), coding.term() + ": " + coding.detail());
         }
         String missingDetail = coding.isOk() ? null : notNumeric != null ? notNumeric
                 : coding.term() + ": " + coding.detail();
         int stratum = stratumTerm < 0 ? -1
                 : ((CategoricalTerm) terms.get(stratumTerm).term()).levelIndex(raw[stratumTerm]);
-        return Decoding.of(new DecodedEvent(id, time, positive, splitValue, coding.isOk() ? row : null, stratum,
-                missingDetail, absentTerms));
+        return new DecodedEvent(id, time, positive, splitValue, coding.isOk() ? row : null, stratum, missingDetail,
+                absentTerms);
     }
 
     /** The index of the numeric term whose value {@code coding} rejected as not a number, or -1. */
