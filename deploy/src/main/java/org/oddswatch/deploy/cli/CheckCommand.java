@@ -2,7 +2,6 @@ package org.oddswatch.deploy.cli;
 
 import java.io.PrintWriter;
 import java.nio.file.Path;
-import java.util.List;
 import java.util.concurrent.Callable;
 import org.oddswatch.ingest.check.CheckReport;
 import org.oddswatch.ingest.check.DefinitionChecker;
@@ -61,7 +60,6 @@ final class CheckCommand implements Callable<Integer> {
     private String describe(MonitorConfig definition) {
         StringBuilder b = new StringBuilder();
         b.append(config.path).append(": valid, ").append(definition.monitors().size()).append(" monitor(s)\n");
-        List<CheckReport.MonitorFacts> facts = DefinitionChecker.facts(definition);
         for (int i = 0; i < definition.monitors().size(); i++) {
             MonitorDefinition m = definition.monitors().get(i);
             StringBuilder watched = new StringBuilder();
@@ -79,7 +77,7 @@ final class CheckCommand implements Callable<Integer> {
                             ? ", baseline " + m.baseline().from() + " to " + m.baseline().to()
                             : ", baseline file " + m.baseline().file())
                     .append('\n');
-            CheckReport.appendRules(b, facts.get(i));
+            CheckReport.appendRules(b, m);
         }
         return b.toString();
     }

@@ -2,36 +2,22 @@ package org.oddswatch.ingest.check;
 
 import java.util.List;
 import java.util.Map;
+import org.oddswatch.alerts.engine.AlertRulesConfig;
 import org.oddswatch.alerts.gaps.MonitoringGap;
+import org.oddswatch.ingest.definition.MonitorDefinition;
 import org.oddswatch.ingest.pipeline.OutcomeCounts;
 
 /**
- * The result of checking a definition, and optionally sample events against it.
+ * What sample events did under a definition.
  *
- * @param monitors one line of facts per monitor
- * @param events what the sample events did, or null without events
+ * @param input the events file
+ * @param records one outcome per record (accepted when any monitor accepted it)
+ * @param monitors per monitor: every record's outcome for that monitor, streams included
+ * @param examples the first record of each reason
+ * @param gaps what the sample would leave unmonitored and why, once every window is closed
  */
-public record CheckReport(String file, List<MonitorFacts> monitors, EventCheck events) {
-
-    /**
-     * What a monitor reads and fits, and which rules run.
-     *
-     * @param rules every rule, on or off with the reason ({@code AlertRulesConfig.RuleSwitch#describe})
-     * @param notices what the definition means that may not be expected (a rule running because it is not listed)
-     */
-    public record MonitorFacts(String monitor, String topic, int terms, List<String> watched, int designColumns,
-                               String checksum, List<String> rules, List<String> notices) {
-    }
-
-    /**
-     * @param records one outcome per record (accepted when any monitor accepted it)
-     * @param monitors per monitor: every record's outcome for that monitor, streams included
-     * @param examples the first record of each reason
-     * @param gaps what the sample would leave unmonitored and why, once every window is closed
-     */
-    public record EventCheck(String input, OutcomeCounts.Snapshot records, List<MonitorCounts> monitors,
-                             Map<String, Example> examples, List<MonitoringGap> gaps) {
-    }
+public record CheckReport(String input, OutcomeCounts.Snapshot records, List<MonitorCounts> monitors,
+                          Map<String, Example> examples, List<MonitoringGap> gaps) {
 
     public record MonitorCounts(String monitor, int streams, OutcomeCounts.Snapshot counts) {
     }
@@ -43,50 +29,32 @@ public record CheckReport(String file, List<MonitorFacts> monitors, EventCheck e
     /** A plain-text rendering, one fact per line, for the command line. */
     public String describe() {
         StringBuilder text = new StringBuilder();
-        text.append(file).append(": valid, ").append(monitors.size()).append(" monitor(s)\n");
-        for (MonitorFacts m : monitors) {
-            text.append("  ").append(m.monitor()).append(": topic ").append(m.topic()).append(", ").append(m.terms())
-                    .append(" terms, ").append(m.designColumns()).append(" design columns, watched: ")
-                    .append(m.watched().isEmpty() ? "none" : String.join(", ", m.watched())).append('\n');
-            appendRules(text, m);
+        text.append(input).append(": ").append(records.consumed()).append(" record(s): ").append(outcomes(records))
+                .append('\n');
+        for (MonitorCounts m : monitors) {
+            text.append("  ").append(m.monitor()).append(" (").append(m.streams()).append(" stream(s)): ")
+                    .append(outcomes(m.counts())).append('\n');
+            m.counts().reasons().forEach((reason, count) -> {
+                Example example = examples.get(reason);
+                text.append("    ").append(reason).append(": ").append(count)
+                        .append(example == null || example.line() <= 0 ? ""
+                                : " (first at line " + example.line() + ": " + example.detail() + ")").append('\n');
+            });
         }
-        if (events != null) {
-            OutcomeCounts.Snapshot r = events.records();
-            text.append(events.input()).append(": ").append(r.consumed()).append(" record(s): ").append(outcomes(r))
-                    .append('\n');
-            for (MonitorCounts m : events.monitors()) {
-                text.append("  ").append(m.monitor()).append(" (").append(m.streams()).append(" stream(s)): ")
-                        .append(outcomes(m.counts())).append('\n');
-                for (Map.Entry<String, Long> reason : m.counts().reasons().entrySet()) {
-                    text.append("    ").append(reason.getKey()).append(": ").append(reason.getValue());
-                    Example example = events.examples().get(reason.getKey());
-                    if (example != null && example.line() > 0) {
-                        text.append(" (first at line ").append(example.line()).append(": ").append(example.detail())
-                                .append(')');
-                    }
-                    text.append('\n');
-                }
-            }
-            appendGaps(text, events.gaps());
-        }
-        return text.toString();
-    }
-
-    /** The monitor's rules, one per line, and its notices. */
-    public static void appendRules(StringBuilder text, MonitorFacts m) {
-        text.append("    rules:\n");
-        m.rules().forEach(rule -> text.append("      ").append(rule).append('\n'));
-        m.notices().forEach(notice -> text.append("    note: ").append(notice).append('\n'));
-    }
-
-    /** What the sample would leave unmonitored, one line each, or that nothing is. */
-    private static void appendGaps(StringBuilder text, List<MonitoringGap> gaps) {
         if (gaps.isEmpty()) {
-            text.append("not monitored: nothing (every rule ran and judged every final window)\n");
-            return;
+            return text.append("not monitored: nothing (every rule ran and judged every final window)\n").toString();
         }
         text.append("not monitored (").append(gaps.size()).append("):\n");
         gaps.forEach(gap -> text.append("  ").append(gap.describe()).append('\n'));
+        return text.toString();
+    }
+
+    /** The monitor's rules, on or off with the reason, one per line, and its notices. */
+    public static void appendRules(StringBuilder text, MonitorDefinition monitor) {
+        text.append("    rules:\n");
+        monitor.rules().switches().stream().map(AlertRulesConfig.RuleSwitch::describe)
+                .forEach(rule -> text.append("      ").append(rule).append('\n'));
+        monitor.notices().forEach(notice -> text.append("    note: ").append(notice).append('\n'));
     }
 
     /** For example {@code 200 accepted, 3 rejected, 0 late, 1 duplicate}. */

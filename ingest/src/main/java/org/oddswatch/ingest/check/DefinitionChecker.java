@@ -8,14 +8,8 @@ import java.util.ArrayList;
 import java.util.List;
 import java.util.Map;
 import java.util.TreeMap;
-import org.oddswatch.alerts.engine.AlertRulesConfig;
 import org.oddswatch.alerts.gaps.MonitoringGap;
-import org.oddswatch.estimator.terms.Term;
-import org.oddswatch.ingest.definition.DefinitionException;
-import org.oddswatch.ingest.definition.DefinitionLoader;
 import org.oddswatch.ingest.definition.MonitorConfig;
-import org.oddswatch.ingest.definition.MonitorDefinition;
-import org.oddswatch.ingest.definition.TermSpec;
 import org.oddswatch.ingest.pipeline.MonitorPipeline;
 import org.oddswatch.ingest.pipeline.OutcomeCounts;
 import org.oddswatch.ingest.pipeline.PipelineListener;
@@ -30,26 +24,16 @@ import org.oddswatch.ingest.replay.InputFormat;
 import org.oddswatch.ingest.replay.RecordSink;
 
 /**
- * Validates a monitor definition and, given sample events, runs them through the same pipeline as
- * replay (windows closed at the end, rules run, estimates and alerts discarded): how many each monitor
- * would accept or reject, by reason, and what would not be monitored ({@link MonitoringGap}).
+ * Runs sample events through the same pipeline as replay (windows closed at the end, rules run,
+ * estimates and alerts discarded): how many each monitor would accept or reject, by reason, and what
+ * would not be monitored ({@link MonitoringGap}). The definition itself is validated by loading it.
  */
 public final class DefinitionChecker {
 
     private DefinitionChecker() {
     }
 
-    /** Validates the definition only. */
-    public static CheckReport check(Path config) throws DefinitionException {
-        MonitorConfig loaded = DefinitionLoader.load(config);
-        return new CheckReport(loaded.file(), facts(loaded), null);
-    }
-
-    /**
-     * Checks sample events against a loaded definition.
-     *
-     * @param format the events' format, or null to tell by the file name
-     */
+    /** Checks sample events against a loaded definition; {@code format} null tells it by the file name. */
     public static CheckReport check(MonitorConfig config, Path events, InputFormat format) throws IOException {
         if (!Files.isRegularFile(events)) {
             throw new IOException("events file " + events + " does not exist");
@@ -93,8 +77,7 @@ public final class DefinitionChecker {
             }
             monitors.add(new CheckReport.MonitorCounts(monitor.monitor(), monitor.streams(), counts));
         }
-        return new CheckReport(config.file(), facts(config),
-                new CheckReport.EventCheck(events.toString(), snapshot.totals(), monitors, examples, gaps));
+        return new CheckReport(events.toString(), snapshot.totals(), monitors, examples, gaps);
     }
 
     /** Duplicates are not sent to rejects; keep their first line as an example too. */
@@ -102,19 +85,5 @@ public final class DefinitionChecker {
         if (outcome.reason() != null) {
             examples.putIfAbsent(outcome.reason(), new CheckReport.Example(line, null, outcome.detail()));
         }
-    }
-
-    /** What each monitor reads and fits, and its rules. */
-    public static List<CheckReport.MonitorFacts> facts(MonitorConfig config) {
-        List<CheckReport.MonitorFacts> facts = new ArrayList<>();
-        for (MonitorDefinition monitor : config.monitors()) {
-            List<String> watched = monitor.terms().stream().map(TermSpec::term).filter(Term::watched)
-                    .map(Term::name).toList();
-            List<String> rules = monitor.rules().switches().stream().map(AlertRulesConfig.RuleSwitch::describe)
-                    .toList();
-            facts.add(new CheckReport.MonitorFacts(monitor.name(), monitor.topic(), monitor.terms().size(), watched,
-                    monitor.designCoder().width(), monitor.checksum(), rules, monitor.notices()));
-        }
-        return facts;
     }
 }

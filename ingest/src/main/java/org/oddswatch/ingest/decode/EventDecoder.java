@@ -4,6 +4,8 @@ import com.fasterxml.jackson.core.JsonPointer;
 import com.fasterxml.jackson.databind.JsonNode;
 import java.time.DateTimeException;
 import java.util.List;
+import java.util.regex.Pattern;
+import java.util.stream.IntStream;
 import org.oddswatch.estimator.terms.CategoricalTerm;
 import org.oddswatch.estimator.terms.CodingOutcome;
 import org.oddswatch.estimator.terms.DesignCoder;
@@ -23,6 +25,8 @@ import org.oddswatch.ingest.definition.TermSpec;
  */
 public final class EventDecoder {
 
+    private static final Pattern EPOCH_MILLIS = Pattern.compile("-?\\p{Nd}+");
+
     private final DesignCoder coder;
     private final JsonPointer idField;
     private final JsonPointer timeField;
@@ -38,7 +42,7 @@ public final class EventDecoder {
         this.timeField = monitor.event().time();
         this.outcome = monitor.event().outcome();
         this.splitField = monitor.split() == null ? null : monitor.split().field();
-        this.terms = List.copyOf(monitor.terms());
+        this.terms = monitor.terms();
         this.stratumTerm = monitor.stratumTermIndex();
     }
 
@@ -50,19 +54,15 @@ public final class EventDecoder {
     public Decoding decode(JsonNode tree) {
         try {
             String id = identifier(tree, idField, "event id", false);
-            JsonNode timeNode = tree.at(timeField);
-            if (absent(timeNode)) {
-                throw new UnreadableRecordException(RejectReason.MISSING_FIELD, "no event time at " + timeField);
-            }
             long time;
             try {
-                time = parseTime(timeNode);
+                time = parseTime(present(tree.at(timeField), "event time", timeField));
             } catch (IllegalArgumentException e) {
                 throw new UnreadableRecordException(RejectReason.BAD_TIME, e.getMessage());
             }
-            boolean positive = positive(tree.at(outcome.field()));
+            boolean positive = positive(present(tree.at(outcome.field()), "outcome", outcome.field()));
             String splitValue = splitField == null ? null : identifier(tree, splitField, "split value", true);
-            return decodeTerms(tree, id, time, positive, splitValue);
+            return new Decoding(decodeTerms(tree, id, time, positive, splitValue), null);
         } catch (UnreadableRecordException e) {
             return new Decoding(null, e.rejection());
         }
@@ -71,19 +71,14 @@ public final class EventDecoder {
     /** The event id or split value at {@code field}, as text ({@code compared}: in compared form). */
     private static String identifier(JsonNode tree, JsonPointer field, String what, boolean compared)
             throws UnreadableRecordException {
-        JsonNode node = tree.at(field);
-        if (absent(node)) {
-            throw new UnreadableRecordException(RejectReason.MISSING_FIELD, "no " + what + " at " + field);
-        }
-        String problem = null;
+        JsonNode node = present(tree.at(field), what, field);
         String text = node.isValueNode() ? compared ? scalarText(node) : node.asText() : null;
-        if (text == null) {
-            problem = "must be text or a number";
-        } else if (node.isNumber() && !Double.isFinite(node.doubleValue())) {
-            problem = "is a number beyond the range of a double (" + text + ")";
-        } else if (node.isTextual() && Unicode.hasUnpairedSurrogate(text)) {
-            problem = "holds an unpaired UTF-16 surrogate"; // no UTF-8 form: no output could show it
-        }
+        String problem = text == null ? "must be text or a number"
+                : node.isNumber() && !Double.isFinite(node.doubleValue())
+                ? "is a number beyond the range of a double (" + text + ")"
+                : node.isTextual() && Unicode.hasUnpairedSurrogate(text)
+                ? "holds an unpaired UTF-16 surrogate" // no UTF-8 form: no output could show it
+                : null;
         if (problem != null) {
             throw new UnreadableRecordException(RejectReason.BAD_ID, "the " + what + " at " + field + " " + problem);
         }
@@ -91,29 +86,25 @@ public final class EventDecoder {
     }
 
     private boolean positive(JsonNode node) throws UnreadableRecordException {
-        if (absent(node)) {
-            throw new UnreadableRecordException(RejectReason.MISSING_FIELD, "no outcome at " + outcome.field());
-        }
         String text = node.isValueNode() ? scalarText(node) : null;
-        if (text != null && outcome.positive().contains(text)) {
-            return true;
-        }
-        if (text != null && outcome.negative().contains(text)) {
-            return false;
+        if (text != null && (outcome.positive().contains(text) || outcome.negative().contains(text))) {
+            return outcome.positive().contains(text);
         }
         throw new UnreadableRecordException(RejectReason.BAD_OUTCOME, "outcome "
                 + (text == null ? "value" : "'" + text + "'") + " at " + outcome.field()
                 + " is neither positive " + outcome.positive() + " nor negative " + outcome.negative());
     }
 
-    private Decoding decodeTerms(JsonNode tree, String id, long time, boolean positive, String splitValue) {
+    private DecodedEvent decodeTerms(JsonNode tree, String id, long time, boolean positive, String splitValue)
+            throws UnreadableRecordException {
         Object[] raw = new Object[terms.size()];
         long absentTerms = 0;
         for (int t = 0; t < raw.length; t++) {
             JsonNode value = tree.at(terms.get(t).field());
             if (value.isContainerNode()) {
-                return Decoding.rejected(RejectReason.BAD_VALUE, terms.get(t).name() + ": expected a single value at "
-                        + terms.get(t).field() + ", found " + (value.isArray() ? "a list" : "an object"));
+                throw new UnreadableRecordException(RejectReason.BAD_VALUE, terms.get(t).name()
+                        + ": expected a single value at " + terms.get(t).field() + ", found "
+                        + (value.isArray() ? "a list" : "an object"));
             }
             raw[t] = plain(value);
             if (raw[t] == null && t < Long.SIZE) {
@@ -123,40 +114,37 @@ public final class EventDecoder {
         double[] row = new double[coder.width()];
         CodingOutcome coding = coder.code(raw, row);
         String notNumeric = null;
-        int term;
-        while (coding.isRejected() && (term = numericTerm(coding)) >= 0) {
+        for (int term; coding.isRejected() && (term = numericTerm(coding)) >= 0; coding = coder.code(raw, row)) {
             // not a finite number: missing, like an absent value
             if (notNumeric == null) {
                 notNumeric = coding.term() + ": " + coding.detail() + " (taken as missing)";
             }
             raw[term] = null;
-            coding = coder.code(raw, row);
         }
         if (coding.isRejected()) {
-            return Decoding.rejected(coding.reason(), coding.term() + ": " + coding.detail());
+            throw new UnreadableRecordException(coding.reason(), coding.term() + ": " + coding.detail());
         }
         String missingDetail = coding.isOk() ? null : notNumeric != null ? notNumeric
                 : coding.term() + ": " + coding.detail();
         int stratum = stratumTerm < 0 ? -1
                 : ((CategoricalTerm) terms.get(stratumTerm).term()).levelIndex(raw[stratumTerm]);
-        return Decoding.of(new DecodedEvent(id, time, positive, splitValue, coding.isOk() ? row : null, stratum,
-                missingDetail, absentTerms));
+        return new DecodedEvent(id, time, positive, splitValue, coding.isOk() ? row : null, stratum, missingDetail,
+                absentTerms);
     }
 
     /** The index of the numeric term whose value {@code coding} rejected as not a number, or -1. */
     private int numericTerm(CodingOutcome coding) {
-        if (RejectReason.BAD_VALUE.equals(coding.reason())) {
-            for (int t = 0; t < terms.size(); t++) {
-                if (terms.get(t).term() instanceof NumericTerm && terms.get(t).name().equals(coding.term())) {
-                    return t;
-                }
-            }
-        }
-        return -1;
+        return !RejectReason.BAD_VALUE.equals(coding.reason()) ? -1 : IntStream.range(0, terms.size())
+                .filter(t -> terms.get(t).term() instanceof NumericTerm && terms.get(t).name().equals(coding.term()))
+                .findFirst().orElse(-1);
     }
 
-    private static boolean absent(JsonNode node) {
-        return node.isMissingNode() || node.isNull() || (node.isTextual() && node.textValue().isEmpty());
+    /** {@code node}, unless absent: a missing member, {@code null} or empty text. */
+    private static JsonNode present(JsonNode node, String what, JsonPointer field) throws UnreadableRecordException {
+        if (node.isMissingNode() || node.isNull() || node.isTextual() && node.textValue().isEmpty()) {
+            throw new UnreadableRecordException(RejectReason.MISSING_FIELD, "no " + what + " at " + field);
+        }
+        return node;
     }
 
     /**
@@ -185,12 +173,7 @@ public final class EventDecoder {
         }
         String text = node.textValue();
         String trimmed = text.trim();
-        int sign = trimmed.startsWith("-") ? 1 : 0;
-        int end = sign;
-        while (end < trimmed.length() && Character.isDigit(trimmed.charAt(end))) {
-            end++;
-        }
-        if (end > sign && end == trimmed.length()) {
+        if (EPOCH_MILLIS.matcher(trimmed).matches()) {
             try {
                 return Long.parseLong(trimmed);
             } catch (NumberFormatException e) {
@@ -216,19 +199,10 @@ public final class EventDecoder {
 
     /** A JSON scalar as the plain Java value {@link DesignCoder#code} expects; null when absent. */
     private static Object plain(JsonNode node) {
-        if (node.isMissingNode() || node.isNull()) {
+        if (node.isMissingNode() || node.isNull() || node.isTextual() && node.textValue().isEmpty()) {
             return null;
         }
-        if (node.isTextual()) {
-            String text = node.textValue();
-            return text.isEmpty() ? null : text;
-        }
-        if (node.isBoolean()) {
-            return node.booleanValue();
-        }
-        if (node.isIntegralNumber() && node.canConvertToLong()) {
-            return node.longValue();
-        }
-        return node.doubleValue();
+        return node.isTextual() ? node.textValue() : node.isBoolean() ? (Object) node.booleanValue()
+                : node.isIntegralNumber() && node.canConvertToLong() ? (Object) node.longValue() : node.doubleValue();
     }
 }

@@ -29,17 +29,13 @@ public final class RecordParser {
 
     public RecordParser(RecordLimits limits) {
         this.limits = limits;
-        this.reader = JsonMapper.builder(new JsonFactoryBuilder()
-                        .streamReadConstraints(StreamReadConstraints.builder()
-                                .maxNestingDepth(limits.maxDepth())
-                                .maxStringLength(Math.max(limits.maxRecordBytes(), 1))
-                                .build())
-                        .build())
+        this.reader = JsonMapper.builder(new JsonFactoryBuilder().streamReadConstraints(StreamReadConstraints.builder()
+                        .maxNestingDepth(limits.maxDepth()).maxStringLength(Math.max(limits.maxRecordBytes(), 1))
+                        .build()).build())
                 .enable(DeserializationFeature.FAIL_ON_TRAILING_TOKENS)
                 .enable(DeserializationFeature.USE_BIG_DECIMAL_FOR_FLOATS)
                 .disable(JsonNodeFeature.STRIP_TRAILING_BIGDECIMAL_ZEROES)
-                .build()
-                .reader();
+                .build().reader();
     }
 
     /** The record's JSON object; otherwise throws with the reason and a readable detail. */
@@ -83,10 +79,6 @@ public final class RecordParser {
     }
 
     private static String firstLine(String message) {
-        if (message == null) {
-            return "unreadable JSON";
-        }
-        int newline = message.indexOf('\n');
-        return newline < 0 ? message : message.substring(0, newline);
+        return message == null ? "unreadable JSON" : message.lines().findFirst().orElse("");
     }
 }

@@ -1,6 +1,5 @@
 package org.oddswatch.ingest.decode;
 
-import java.util.List;
 import org.oddswatch.estimator.terms.CodingOutcome;
 
 /**
@@ -38,10 +37,6 @@ public final class RejectReason {
     public static final String LATE = "late";
     /** Outcome reason of duplicates: the id was already seen in a bucket still held. */
     public static final String DUPLICATE = "duplicate";
-
-    /** Every rejection reason, in the order they are documented. */
-    public static final List<String> ALL = List.of(MALFORMED_JSON, MALFORMED_CSV, NOT_AN_OBJECT, OVERSIZED, TOO_DEEP,
-            MISSING_FIELD, BAD_ID, BAD_OUTCOME, BAD_TIME, TOO_FAR_IN_FUTURE, UNKNOWN_LEVEL, BAD_VALUE, TOO_MANY_STREAMS);
 
     private RejectReason() {
     }

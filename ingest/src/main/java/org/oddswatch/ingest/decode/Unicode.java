@@ -5,9 +5,9 @@ import java.nio.CharBuffer;
 import java.nio.charset.StandardCharsets;
 
 /**
- * Well-formedness of UTF-8 bytes and UTF-16 text. UTF-8 is checked by the JDK's decoder, which
- * reports every sequence outside table 3-7 of the Unicode Standard (15.0, section 3.9): overlong
- * forms ({@code C0 AF}), encoded surrogates ({@code ED A0 80}), code points above U+10FFFF, truncated
+ * Well-formedness of UTF-8 bytes and UTF-16 text. UTF-8 is checked by the JDK's decoder, which reports
+ * every sequence outside table 3-7 of the Unicode Standard (15.0, section 3.9): overlong forms
+ * ({@code C0 AF}), encoded surrogates ({@code ED A0 80}), code points above U+10FFFF, truncated
  * sequences and stray continuation bytes. Jackson's parser lets the first three through.
  */
 public final class Unicode {
@@ -21,35 +21,29 @@ public final class Unicode {
         while (ascii < to && bytes[ascii] >= 0) {
             ascii++;
         }
-        if (ascii == to) {
-            return -1;
-        }
         ByteBuffer in = ByteBuffer.wrap(bytes, ascii, to - ascii);
-        boolean bad = StandardCharsets.UTF_8.newDecoder() // reports malformed input
-                .decode(in, CharBuffer.allocate(to - ascii), true).isError();
-        return bad ? in.position() : -1;
+        return ascii < to && StandardCharsets.UTF_8.newDecoder() // reports malformed input
+                .decode(in, CharBuffer.allocate(to - ascii), true).isError() ? in.position() : -1;
     }
 
     /** True when {@code text} holds a surrogate that is not part of a pair. */
     public static boolean hasUnpairedSurrogate(String text) {
-        for (int i = 0; i < text.length(); ) {
-            int c = text.codePointAt(i); // a lone surrogate comes back as itself
-            if (c >= Character.MIN_SURROGATE && c <= Character.MAX_SURROGATE) {
+        for (int i = 0, c; i < text.length(); i += Character.charCount(c)) {
+            if (isSurrogate(c = text.codePointAt(i))) { // a lone surrogate comes back as itself
                 return true;
             }
-            i += Character.charCount(c);
         }
         return false;
     }
 
     /** {@code text} with every unpaired surrogate replaced by U+FFFD, so that it can be encoded. */
     public static String wellFormed(String text) {
-        if (text == null || !hasUnpairedSurrogate(text)) {
-            return text;
-        }
-        StringBuilder b = new StringBuilder(text.length());
-        text.codePoints().forEach(c -> b.appendCodePoint(
-                c >= Character.MIN_SURROGATE && c <= Character.MAX_SURROGATE ? '\uFFFD' : c));
-        return b.toString();
+        return text == null || !hasUnpairedSurrogate(text) ? text : text.codePoints()
+                .map(c -> isSurrogate(c) ? 0xFFFD : c)
+                .collect(StringBuilder::new, StringBuilder::appendCodePoint, StringBuilder::append).toString();
+    }
+
+    private static boolean isSurrogate(int codePoint) {
+        return codePoint >= Character.MIN_SURROGATE && codePoint <= Character.MAX_SURROGATE;
     }
 }

@@ -1,9 +1,6 @@
 package org.oddswatch.ingest.decode;
 
-/**
- * A record that cannot be read: by no monitor ({@link RecordParser}: not one JSON object within the
- * record limits) or by one ({@link EventDecoder}). Bad input, not a defect: it carries no stack trace.
- */
+/** A record that cannot be read, by no monitor ({@link RecordParser}) or by one: bad input, so no stack trace. */
 public final class UnreadableRecordException extends Exception {
 
     private final transient Rejection rejection;

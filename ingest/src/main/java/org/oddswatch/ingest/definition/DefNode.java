@@ -1,28 +1,29 @@
 package org.oddswatch.ingest.definition;
 
-import com.fasterxml.jackson.core.JsonLocation;
+import com.fasterxml.jackson.core.JsonParseException;
 import com.fasterxml.jackson.core.JsonParser;
 import com.fasterxml.jackson.core.JsonPointer;
 import com.fasterxml.jackson.core.JsonProcessingException;
+import com.fasterxml.jackson.core.JsonStreamContext;
 import com.fasterxml.jackson.core.JsonToken;
+import com.fasterxml.jackson.core.util.JsonParserDelegate;
+import com.fasterxml.jackson.databind.DeserializationFeature;
 import com.fasterxml.jackson.databind.JsonNode;
-import com.fasterxml.jackson.databind.node.ArrayNode;
-import com.fasterxml.jackson.databind.node.JsonNodeFactory;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import com.fasterxml.jackson.databind.cfg.JsonNodeFeature;
 import com.fasterxml.jackson.databind.node.MissingNode;
-import com.fasterxml.jackson.databind.node.ObjectNode;
 import com.fasterxml.jackson.dataformat.yaml.YAMLFactory;
+import com.fasterxml.jackson.dataformat.yaml.YAMLParser;
 import java.io.IOException;
 import java.time.Duration;
 import java.time.Instant;
 import java.time.OffsetDateTime;
 import java.time.format.DateTimeParseException;
 import java.util.ArrayList;
-import java.util.Arrays;
 import java.util.HashMap;
 import java.util.List;
 import java.util.Locale;
 import java.util.Map;
-import java.util.Set;
 import java.util.TreeSet;
 import java.util.function.DoublePredicate;
 import java.util.function.IntPredicate;
@@ -31,11 +32,9 @@ import java.util.stream.Collectors;
 
 /**
  * One place in a definition file: its Jackson node, its key path ({@code monitors[0].terms[2].reference})
- * and the file's table of lines. Every accessor that finds a wrong value throws a
- * {@link DefinitionException} naming file, line and key.
- *
- * <p>Plain YAML scalars such as {@code yes}, {@code no} or {@code on} stay text (YAML 1.1 would
- * read them as booleans); only {@code true}/{@code false} are booleans.
+ * and the line of every key and list element of the file. An accessor that finds a wrong value throws a
+ * {@link DefinitionException} naming file, line and key. Only {@code true}/{@code false} are YAML
+ * booleans: {@code yes}, {@code no}, {@code on}, {@code off} stay text.
  */
 final class DefNode {
 
@@ -44,10 +43,12 @@ final class DefNode {
     private static final Instant MIN_INSTANT = Instant.parse("0001-01-01T00:00:00Z");
     private static final Instant MAX_INSTANT = Instant.parse("9999-12-31T23:59:59.999Z");
     private static final Pattern BAD_ESCAPE = Pattern.compile("~(?![01])");
-    private static final JsonNodeFactory NODES = JsonNodeFactory.instance;
+    private static final ObjectMapper YAML = new ObjectMapper(
+            new YAMLFactory().enable(YAMLParser.Feature.PARSE_BOOLEAN_LIKE_WORDS_AS_STRINGS))
+            .enable(DeserializationFeature.USE_BIG_DECIMAL_FOR_FLOATS, DeserializationFeature.USE_BIG_INTEGER_FOR_INTS)
+            .configure(JsonNodeFeature.STRIP_TRAILING_BIGDECIMAL_ZEROES, false);
 
     private final String file;
-    /** The line of every key and list element, by path; a {@link JsonNode} keeps no locations. */
     private final Map<String, Integer> lines;
     private final JsonNode node;
     private final String path;
@@ -59,83 +60,77 @@ final class DefNode {
         this.path = path;
     }
 
-    /** Parses one YAML document, recording the line of every key and list element. */
+    /** Parses one YAML document. */
     static DefNode parse(String file, String text) throws DefinitionException {
-        Map<String, Integer> lines = new HashMap<>();
-        try (JsonParser parser = new YAMLFactory().createParser(text)) {
+        try (LineIndex parser = new LineIndex(file, YAML.createParser(text))) {
             if (parser.nextToken() == null) {
                 throw new DefinitionException(file, 1, "", "the file is empty");
             }
-            lines.put("", line(parser));
-            JsonNode root = read(parser, "", lines, file);
+            JsonNode root = YAML.readTree(parser);
             if (parser.nextToken() != null) {
-                throw new DefinitionException(file, line(parser), "",
+                throw new DefinitionException(file, parser.line(), "",
                         "a second YAML document starts here; a definition file holds exactly one");
             }
-            return new DefNode(file, lines, root, "");
+            return new DefNode(file, parser.lines, root, "");
         } catch (JsonProcessingException e) {
-            JsonLocation where = e.getLocation();
-            throw new DefinitionException(file, where == null ? 0 : where.getLineNr(), "",
-                    "not valid YAML: " + yamlProblem(e.getOriginalMessage()));
+            if (e.getProcessor() instanceof LineIndex index && index.problem != null) {
+                throw index.problem;
+            }
+            throw new DefinitionException(file, e.getLocation() == null ? 0 : e.getLocation().getLineNr(), "",
+                    "not valid YAML: " + e.getOriginalMessage().lines() // without SnakeYAML's position lines
+                            .filter(part -> !part.isBlank() && !Character.isWhitespace(part.charAt(0)))
+                            .map(String::strip).collect(Collectors.joining(": ")));
         } catch (IOException e) {
             throw new DefinitionException(file, 0, "", "cannot read: " + e.getMessage());
         }
     }
 
-    private static JsonNode read(JsonParser parser, String path, Map<String, Integer> lines, String file)
-            throws IOException, DefinitionException {
-        JsonToken token = parser.currentToken();
-        switch (token) {
-            case START_OBJECT:
-                ObjectNode object = NODES.objectNode();
-                while (parser.nextToken() == JsonToken.FIELD_NAME) {
-                    String name = parser.currentName();
-                    String childPath = path.isEmpty() ? name : path + "." + name;
-                    int line = line(parser);
-                    if (object.has(name)) {
-                        throw new DefinitionException(file, line, childPath, "duplicate key");
-                    }
-                    lines.put(childPath, line);
-                    parser.nextToken();
-                    object.set(name, read(parser, childPath, lines, file));
-                }
-                return object;
-            case START_ARRAY:
-                ArrayNode array = NODES.arrayNode();
-                while (parser.nextToken() != JsonToken.END_ARRAY) {
-                    String childPath = path + "[" + array.size() + "]";
-                    lines.put(childPath, line(parser));
-                    array.add(read(parser, childPath, lines, file));
-                }
-                return array;
-            case VALUE_STRING:
-                return NODES.textNode(parser.getText());
-            case VALUE_NUMBER_INT:
-                return NODES.numberNode(parser.getBigIntegerValue());
-            case VALUE_NUMBER_FLOAT:
-                return NODES.numberNode(parser.getDecimalValue());
-            case VALUE_TRUE:
-            case VALUE_FALSE:
-                String text = parser.getText();
-                return "true".equalsIgnoreCase(text) || "false".equalsIgnoreCase(text)
-                        ? NODES.booleanNode(token == JsonToken.VALUE_TRUE) : NODES.textNode(text);
-            case VALUE_NULL:
-                return NODES.nullNode();
-            default:
-                throw new DefinitionException(file, line(parser), path,
-                        "unsupported YAML value (a tagged or binary value); write it as plain text");
+    /** A parser that records, by key path, the line of every key and list element as the tree is read. */
+    private static final class LineIndex extends JsonParserDelegate {
+
+        final Map<String, Integer> lines = new HashMap<>();
+        private final String file;
+        /** A duplicate key or a tagged value, which stops the reading. */
+        DefinitionException problem;
+
+        LineIndex(String file, JsonParser parser) {
+            super(parser);
+            this.file = file;
         }
-    }
 
-    private static int line(JsonParser parser) {
-        return parser.currentTokenLocation().getLineNr();
-    }
+        int line() {
+            return currentTokenLocation().getLineNr();
+        }
 
-    /** SnakeYAML's message without its position lines and source excerpt (the line is reported anyway). */
-    private static String yamlProblem(String message) {
-        return Arrays.stream(String.valueOf(message).split("\n"))
-                .filter(part -> !part.isBlank() && !Character.isWhitespace(part.charAt(0)))
-                .map(String::strip).collect(Collectors.joining(": "));
+        @Override
+        public JsonToken nextToken() throws IOException {
+            JsonToken token = super.nextToken();
+            if (token == null || token.isStructEnd()) {
+                return token;
+            }
+            JsonStreamContext at = token.isStructStart() ? getParsingContext().getParent() : getParsingContext();
+            if (token == JsonToken.FIELD_NAME && lines.putIfAbsent(path(at), line()) != null) {
+                problem = new DefinitionException(file, line(), path(at), "duplicate key");
+            } else if (token == JsonToken.VALUE_EMBEDDED_OBJECT) {
+                problem = new DefinitionException(file, line(), path(at),
+                        "unsupported YAML value (a tagged or binary value); write it as plain text");
+            } else if (at.inArray() || at.inRoot()) {
+                lines.putIfAbsent(path(at), line());
+            }
+            if (problem != null) {
+                throw new JsonParseException(this, problem.getMessage());
+            }
+            return token;
+        }
+
+        private static String path(JsonStreamContext at) {
+            if (at.inRoot()) {
+                return "";
+            }
+            String parent = path(at.getParent());
+            return at.inArray() ? parent + "[" + at.getCurrentIndex() + "]"
+                    : parent.isEmpty() ? at.getCurrentName() : parent + "." + at.getCurrentName();
+        }
     }
 
     String path() {
@@ -168,7 +163,6 @@ final class DefNode {
         return errorAt(path, problem);
     }
 
-    /** Throws {@code problem} at this node when {@code wrong}. */
     void errorIf(boolean wrong, String problem) throws DefinitionException {
         if (wrong) {
             throw error(problem);
@@ -189,11 +183,9 @@ final class DefNode {
     /** This node, checked to be a mapping with no keys outside {@code allowed}. */
     DefNode mapping(String... allowed) throws DefinitionException {
         errorIf(!node.isObject(), "expected a mapping, found " + describe());
-        Set<String> known = new TreeSet<>(List.of(allowed));
+        TreeSet<String> known = new TreeSet<>(List.of(allowed));
         for (String name : (Iterable<String>) node::fieldNames) {
-            if (!known.contains(name)) {
-                throw get(name).error("unknown key (expected one of " + String.join(", ", known) + ")");
-            }
+            get(name).errorIf(!known.contains(name), "unknown key (expected one of " + String.join(", ", known) + ")");
         }
         return this;
     }
@@ -239,34 +231,26 @@ final class DefNode {
 
     /** {@code true}/{@code false}, also written {@code yes}/{@code no} or {@code on}/{@code off}. */
     boolean bool(boolean fallback) throws DefinitionException {
-        if (!present()) {
-            return fallback;
+        if (!present() || node.isBoolean()) {
+            return present() ? node.booleanValue() : fallback;
         }
-        if (node.isBoolean()) {
-            return node.booleanValue();
-        }
-        switch (node.isTextual() ? node.textValue().toLowerCase(Locale.ROOT) : "") {
-            case "yes": case "on": case "true":
-                return true;
-            case "no": case "off": case "false":
-                return false;
-            default:
-                throw error("expected true or false, found " + describe());
-        }
+        return switch (node.isTextual() ? node.textValue().toLowerCase(Locale.ROOT) : "") {
+            case "yes", "on", "true" -> true;
+            case "no", "off", "false" -> false;
+            default -> throw error("expected true or false, found " + describe());
+        };
     }
 
     /** A number, or {@code fallback} when absent; a number that is not {@code valid} is an error. */
     double number(double fallback, DoublePredicate valid, String problem) throws DefinitionException {
         double value = fallback;
-        if (node.isNumber()) {
-            value = node.doubleValue();
-        } else if (node.isTextual()) {
-            try {
-                value = Double.parseDouble(node.textValue().trim());
-            } catch (NumberFormatException e) {
-                throw error("expected a number, found " + describe());
+        try {
+            if (node.isNumber() || node.isTextual()) {
+                value = node.isNumber() ? node.doubleValue() : Double.parseDouble(node.textValue().trim());
+            } else if (present()) {
+                throw new NumberFormatException();
             }
-        } else if (present()) {
+        } catch (NumberFormatException e) {
             throw error("expected a number, found " + describe());
         }
         errorIf(!valid.test(value), problem);
@@ -282,8 +266,11 @@ final class DefNode {
         return (int) value;
     }
 
-    /** An ISO-8601 duration ({@code P28D}, {@code PT30S}) of whole milliseconds, at most {@link #MAX_DURATION}. */
-    private Duration duration(Duration fallback) throws DefinitionException {
+    /**
+     * An ISO-8601 duration ({@code P28D}, {@code PT30S}) of whole milliseconds, at most {@link #MAX_DURATION},
+     * or {@code fallback} when absent; never negative, zero only when {@code zeroAllowed}.
+     */
+    Duration duration(Duration fallback, boolean zeroAllowed) throws DefinitionException {
         if (!present()) {
             return fallback;
         }
@@ -294,22 +281,12 @@ final class DefNode {
         } catch (DateTimeParseException e) {
             throw error("'" + text + "' is not an ISO-8601 duration (for example P28D or PT30S)");
         }
+        long days = MAX_DURATION.toDays();
         errorIf(value.abs().compareTo(MAX_DURATION) > 0,
-                text + " is longer than the longest duration allowed, " + MAX_DURATION.toDays() + " days (P"
-                        + MAX_DURATION.toDays() + "D)");
+                text + " is longer than the longest duration allowed, " + days + " days (P" + days + "D)");
         errorIf(value.getNano() % 1_000_000 != 0, text + " is not a whole number of milliseconds");
-        return value;
-    }
-
-    Duration positiveDuration(Duration fallback) throws DefinitionException {
-        Duration value = duration(fallback);
-        errorIf(value.isNegative() || value.isZero(), "must be a positive duration");
-        return value;
-    }
-
-    Duration nonNegativeDuration(Duration fallback) throws DefinitionException {
-        Duration value = duration(fallback);
-        errorIf(value.isNegative(), "must not be negative");
+        errorIf(value.isNegative() || !zeroAllowed && value.isZero(),
+                zeroAllowed ? "must not be negative" : "must be a positive duration");
         return value;
     }
 
@@ -330,21 +307,18 @@ final class DefNode {
     /** A JSON Pointer (RFC 6901): '/'-separated tokens with the escapes ~0 and ~1 only. */
     JsonPointer pointer() throws DefinitionException {
         String text = text();
-        errorIf(text.isEmpty() || text.charAt(0) != '/',
-                "'" + text + "' is not a JSON Pointer: it must start with '/' (for example /exposure/household)");
-        errorIf(BAD_ESCAPE.matcher(text).find(),
-                "'" + text + "' is not a JSON Pointer: '~' must be followed by 0 or 1");
+        String notPointer = "'" + text + "' is not a JSON Pointer: ";
+        errorIf(!text.startsWith("/"), notPointer + "it must start with '/' (for example /exposure/household)");
+        errorIf(BAD_ESCAPE.matcher(text).find(), notPointer + "'~' must be followed by 0 or 1");
         try {
             return JsonPointer.compile(text);
         } catch (IllegalArgumentException e) {
-            throw error("'" + text + "' is not a JSON Pointer: " + e.getMessage());
+            throw error(notPointer + e.getMessage());
         }
     }
 
     private String describe() {
-        if (!present()) {
-            return "nothing";
-        }
-        return node.isObject() ? "a mapping" : node.isArray() ? "a list" : "'" + node.asText() + "'";
+        return !present() ? "nothing" : node.isObject() ? "a mapping" : node.isArray() ? "a list"
+                : "'" + node.asText() + "'";
     }
 }

@@ -3,11 +3,9 @@ package org.oddswatch.ingest.definition;
 import java.io.IOException;
 import java.nio.ByteBuffer;
 import java.nio.CharBuffer;
-import java.nio.charset.CharsetDecoder;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
-import java.time.Duration;
 import java.util.ArrayList;
 import java.util.HashSet;
 import java.util.List;
@@ -53,23 +51,19 @@ public final class DefinitionLoader {
 
     /** The file's text; ill-formed UTF-8 is an error naming the line and column of the first bad byte. */
     private static String utf8(String name, byte[] bytes) throws DefinitionException {
-        ByteBuffer in = ByteBuffer.wrap(bytes);
-        CharsetDecoder decoder = StandardCharsets.UTF_8.newDecoder(); // reports malformed input by default
-        if (!decoder.decode(in, CharBuffer.allocate(bytes.length), true).isError()) {
+        ByteBuffer in = ByteBuffer.wrap(bytes); // the JDK's decoder reports malformed input by default
+        if (!StandardCharsets.UTF_8.newDecoder().decode(in, CharBuffer.allocate(bytes.length), true).isError()) {
             return new String(bytes, StandardCharsets.UTF_8);
         }
         int bad = in.position();
         int line = 1;
         int lineStart = 0;
         for (int i = 0; i < bad; i++) {
-            if (bytes[i] == '\n') {
-                line++;
-                lineStart = i + 1;
-            }
+            line += bytes[i] == '\n' ? 1 : 0;
+            lineStart = bytes[i] == '\n' ? i + 1 : lineStart;
         }
-        throw new DefinitionException(name, line, "", "not valid UTF-8 (byte 0x"
-                + Integer.toHexString(bytes[bad] & 0xFF) + " at column " + (bad - lineStart + 1)
-                + "); save the definition as UTF-8");
+        String at = "byte 0x" + Integer.toHexString(bytes[bad] & 0xFF) + " at column " + (bad - lineStart + 1);
+        throw new DefinitionException(name, line, "", "not valid UTF-8 (" + at + "); save the definition as UTF-8");
     }
 
     /**
@@ -87,17 +81,16 @@ public final class DefinitionLoader {
         DefNode limitsNode = root.get("limits");
         if (limitsNode.present()) {
             limitsNode.mapping("maxRecordBytes", "maxDepth");
-            int bytes = limitsNode.get("maxRecordBytes").integer(limits.maxRecordBytes(), v -> v >= 16,
-                    "must be at least 16");
-            limits = new RecordLimits(bytes, limitsNode.get("maxDepth").integer(limits.maxDepth(), v -> v >= 1,
-                    "must be at least 1"));
+            limits = new RecordLimits(
+                    limitsNode.get("maxRecordBytes").integer(limits.maxRecordBytes(), v -> v >= 16,
+                            "must be at least 16"),
+                    limitsNode.get("maxDepth").integer(limits.maxDepth(), v -> v >= 1, "must be at least 1"));
         }
         DefNode monitorsNode = root.require("monitors");
-        List<DefNode> elements = monitorsNode.elements();
-        monitorsNode.errorIf(elements.isEmpty(), "at least one monitor is needed");
+        monitorsNode.errorIf(monitorsNode.elements().isEmpty(), "at least one monitor is needed");
         List<MonitorDefinition> monitors = new ArrayList<>();
         Set<String> names = new HashSet<>();
-        for (DefNode element : elements) {
+        for (DefNode element : monitorsNode.elements()) {
             MonitorDefinition monitor = MonitorReader.read(element, definitionDir);
             element.get("name").errorIf(!names.add(monitor.name()),
                     "monitor name '" + monitor.name() + "' is used twice");
@@ -117,13 +110,12 @@ public final class DefinitionLoader {
             node.errorIf(!node.json().isObject(), "expected a mapping of Kafka client properties");
             flatten(node, "", properties);
         }
-        for (Map.Entry<String, String> variable : new TreeMap<>(environment).entrySet()) {
-            String key = variable.getKey();
+        new TreeMap<>(environment).forEach((key, value) -> { // sorted: the same winner every time
             if (key.startsWith(KAFKA_ENV_PREFIX) && key.length() > KAFKA_ENV_PREFIX.length()) {
-                String property = key.substring(KAFKA_ENV_PREFIX.length()).toLowerCase(Locale.ROOT).replace('_', '.');
-                properties.put(property, variable.getValue());
+                String property = key.substring(KAFKA_ENV_PREFIX.length()).toLowerCase(Locale.ROOT);
+                properties.put(property.replace('_', '.'), value);
             }
-        }
+        });
         return properties;
     }
 
@@ -152,8 +144,8 @@ public final class DefinitionLoader {
         http.errorIf(address.lastIndexOf(':') <= 0 || !port.matches("[0-9]{1,5}") || Integer.parseInt(port) > 65535,
                 "'" + address + "' is not host:port (for example 127.0.0.1:8470)");
         return new ServiceSettings(address, node.get("groupId").text(defaults.groupId()),
-                node.get("refresh").positiveDuration(defaults.refresh()),
-                node.get("idleTimeout").positiveDuration(defaults.idleTimeout()),
-                node.get("rebuildMargin").nonNegativeDuration(defaults.rebuildMargin()));
+                node.get("refresh").duration(defaults.refresh(), false),
+                node.get("idleTimeout").duration(defaults.idleTimeout(), false),
+                node.get("rebuildMargin").duration(defaults.rebuildMargin(), true));
     }
 }

@@ -6,6 +6,7 @@ import java.util.List;
 import java.util.Map;
 import java.util.Set;
 import java.util.TreeMap;
+import java.util.stream.Collectors;
 
 /**
  * A loaded definition file.
@@ -25,9 +26,7 @@ public record MonitorConfig(String file, Map<String, String> kafka, ServiceSetti
 
     /** Input topics in order of first use. */
     public Set<String> topics() {
-        Set<String> topics = new LinkedHashSet<>();
-        monitors.forEach(monitor -> topics.add(monitor.topic()));
-        return topics;
+        return monitors.stream().map(MonitorDefinition::topic).collect(Collectors.toCollection(LinkedHashSet::new));
     }
 
     /** The monitors reading {@code topic}, in file order. */

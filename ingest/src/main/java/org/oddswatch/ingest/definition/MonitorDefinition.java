@@ -41,30 +41,29 @@ public record MonitorDefinition(String name, String topic, EventSpec event, Spli
         return new DesignCoder(terms.stream().map(TermSpec::term).toList());
     }
 
-    /**
-     * What a definition whose alert rules are re-run on this monitor's recorded rule inputs must share
-     * with it: the model checksum and the window grid.
-     */
+    /** What a definition re-running this monitor's recorded rule inputs must share with it: model and window grid. */
     public String ruleInputsKey() {
         return "model " + checksum + ", window " + geometry();
     }
 
     public WindowGeometry geometry() {
-        return window.geometry();
+        return new WindowGeometry(window.width().toMillis(), window.step().toMillis(), window.align().toEpochMilli(),
+                window.lateness().toMillis());
     }
 
     public EstimatorOptions estimatorOptions() {
-        return estimates.options();
+        EstimatorOptions options = EstimatorOptions.defaults().withLevel(estimates.level())
+                .withPrevalenceInterval(estimates.prevalenceInterval()).withStratifyBy(estimates.stratifyBy())
+                .withMinEventsPerParameter(estimates.minEventsPerParameter())
+                .withProfileIntervals(estimates.profileIntervals());
+        return estimates.sensitivity() == null ? options
+                : options.withTestAccuracy(estimates.sensitivity(), estimates.specificity());
     }
 
     /** Index of the stratifying term among the terms, or -1. */
     public int stratumTermIndex() {
-        for (int t = 0; t < terms.size(); t++) {
-            if (terms.get(t).name().equals(estimates.stratifyBy())) {
-                return t;
-            }
-        }
-        return -1;
+        String by = estimates.stratifyBy();
+        return by == null ? -1 : terms.stream().map(TermSpec::name).toList().indexOf(by);
     }
 
     /** Levels of the stratifying term, 0 for none. */

@@ -39,20 +39,19 @@ final class MonitorReader {
                 "'" + name + "' is not a valid monitor name (letters, digits, '.', '_', '-')");
         String topic = topic(node.require("input").mapping("topic").require("topic"), null);
         EventSpec event = event(node.require("event"));
-        SplitSpec split = null;
-        DefNode splitNode = node.get("split");
-        if (splitNode.present()) {
-            splitNode.mapping("field", "maxStreams");
-            int maxStreams = splitNode.get("maxStreams").integer(64, v -> v >= 1, "must be at least 1");
-            split = new SplitSpec(splitNode.require("field").pointer(), maxStreams);
+        DefNode split = node.get("split");
+        if (split.present()) {
+            split.mapping("field", "maxStreams");
         }
+        int maxStreams = split.get("maxStreams").integer(64, v -> v >= 1, "must be at least 1");
+        SplitSpec splitSpec = split.present() ? new SplitSpec(split.require("field").pointer(), maxStreams) : null;
         List<TermSpec> terms = TermReader.read(node.get("terms"));
         WindowSpec window = window(node.require("window"));
         EstimateSpec estimates = estimates(node.get("estimates"), terms);
         BaselineSpec baseline = baseline(node.get("baseline"), window, definitionDir);
         List<String> notices = new ArrayList<>();
         AlertRulesConfig rules = RulesReader.read(node.get("rules"), terms, notices);
-        return new MonitorDefinition(name, topic, event, split, terms, window, estimates, baseline, rules,
+        return new MonitorDefinition(name, topic, event, splitSpec, terms, window, estimates, baseline, rules,
                 outputs(node.get("outputs")), definitionDir, DefinitionChecksum.of(event.outcome(), terms), notices);
     }
 
@@ -70,8 +69,8 @@ final class MonitorReader {
         int futureHold = event.get("futureHold").integer(1000, v -> v >= futureConfirm && v <= MAX_FUTURE_HOLD,
                 "must be from futureConfirm (" + futureConfirm + ") to " + MAX_FUTURE_HOLD);
         return new EventSpec(event.require("id").pointer(), event.require("time").pointer(),
-                event.get("maxFutureSkew").nonNegativeDuration(Duration.ofDays(1)), futureConfirm,
-                event.get("futureSpan").nonNegativeDuration(Duration.ofHours(1)), futureHold,
+                event.get("maxFutureSkew").duration(Duration.ofDays(1), true), futureConfirm,
+                event.get("futureSpan").duration(Duration.ofHours(1), true), futureHold,
                 new OutcomeSpec(outcome.require("field").pointer(), positive, negative));
     }
 
@@ -88,8 +87,8 @@ final class MonitorReader {
     private static WindowSpec window(DefNode window) throws DefinitionException {
         window.mapping("width", "step", "lateness", "align");
         DefNode widthNode = window.require("width");
-        Duration width = widthNode.positiveDuration(null);
-        Duration step = window.require("step").positiveDuration(null);
+        Duration width = widthNode.duration(null, false);
+        Duration step = window.require("step").duration(null, false);
         String widthStep = "width " + widthNode.text();
         widthNode.errorIf(width.toMillis() % step.toMillis() != 0 || width.compareTo(step) < 0,
                 widthStep + " is not a whole multiple of step " + window.get("step").text());
@@ -98,7 +97,7 @@ final class MonitorReader {
                 + window.get("step").text() + "; at most " + MAX_STEPS_PER_WINDOW
                 + " steps per window are allowed (every window sums that many buckets)");
         DefNode align = window.get("align");
-        return new WindowSpec(width, step, window.get("lateness").nonNegativeDuration(Duration.ZERO),
+        return new WindowSpec(width, step, window.get("lateness").duration(Duration.ZERO, true),
                 align.present() ? align.instant() : Instant.EPOCH);
     }
 
@@ -121,8 +120,8 @@ final class MonitorReader {
         DefNode stratifyNode = node.get("stratifyBy");
         String stratifyBy = stratifyNode.optionalName();
         if (stratifyBy != null) {
-            TermSpec term = terms.stream().filter(t -> t.name().equals(stratifyBy)).findFirst().orElse(null);
-            stratifyNode.errorIf(term == null, "'" + stratifyBy + "' is not a declared term");
+            TermSpec term = terms.stream().filter(t -> t.name().equals(stratifyBy)).findFirst()
+                    .orElseThrow(() -> stratifyNode.error("'" + stratifyBy + "' is not a declared term"));
             stratifyNode.errorIf(!(term.term() instanceof CategoricalTerm),
                     "'" + stratifyBy + "' must be a categorical term");
         }
@@ -132,18 +131,15 @@ final class MonitorReader {
         DefNode accuracy = node.get("testAccuracy");
         if (accuracy.present()) {
             accuracy.mapping("sensitivity", "specificity");
-            sensitivity = proportion(accuracy.require("sensitivity"));
-            specificity = proportion(accuracy.require("specificity"));
+            String proportion = "must be a proportion in (0, 1]";
+            sensitivity = accuracy.require("sensitivity").number(0, v -> v > 0 && v <= 1, proportion);
+            specificity = accuracy.require("specificity").number(0, v -> v > 0 && v <= 1, proportion);
             accuracy.errorIf(sensitivity + specificity <= 1,
                     "sensitivity + specificity must exceed 1 for the Rogan-Gladen adjustment");
         }
         return new EstimateSpec(level, interval, stratifyBy, minEvents, sensitivity, specificity,
                 node.get("patternLimit").integer(4096, v -> v >= 1, "must be at least 1"),
                 node.get("profileIntervals").bool(true));
-    }
-
-    private static double proportion(DefNode node) throws DefinitionException {
-        return node.number(Double.NaN, v -> v > 0 && v <= 1, "must be a proportion in (0, 1]");
     }
 
     private static BaselineSpec baseline(DefNode node, WindowSpec window, Path definitionDir)
@@ -186,7 +182,7 @@ final class MonitorReader {
             urlNode.errorIf(!url.startsWith("http://") && !url.startsWith("https://"),
                     "'" + url + "' is not an http:// or https:// address");
             int attempts = hook.get("attempts").integer(4, v -> v >= 1, "must be at least 1");
-            webhook = new WebhookSpec(url, hook.get("timeout").positiveDuration(Duration.ofSeconds(5)), attempts);
+            webhook = new WebhookSpec(url, hook.get("timeout").duration(Duration.ofSeconds(5), false), attempts);
         }
         int withholdBelow = node.get("withholdCountsBelow").integer(SmallCellPolicy.DEFAULT_LIMIT,
                 v -> v >= 2 && v <= 1000,

@@ -69,25 +69,16 @@ final class RulesReader {
         }
         Class<?> target = e instanceof MismatchedInputException m ? m.getTargetType()
                 : e.getCause() instanceof InputCoercionException c ? c.getTargetType() : null;
-        String expected;
-        if (target == null) {
-            expected = "a valid value";
-        } else if (target == int.class || target == Integer.class || target == long.class || target == Long.class) {
-            expected = "a whole number within the range of an int";
-        } else if (Number.class.isAssignableFrom(target) || target.isPrimitive() && target != boolean.class) {
-            expected = "a number";
-        } else if (target == boolean.class || target == Boolean.class) {
-            expected = "true or false";
-        } else if (target == String.class) {
-            expected = "a text value";
-        } else if (Collection.class.isAssignableFrom(target) || target.isArray()) {
-            expected = "a list";
-        } else {
-            expected = "a mapping of settings";
-        }
-        String found = value.isMissingNode() ? "a value that does not fit" : value.isObject() ? "a mapping"
-                : value.isArray() ? "a list" : value.isNull() ? "nothing" : "'" + value.asText() + "'";
-        return "expected " + expected + ", found " + found;
+        String expected = target == null ? "a valid value"
+                : target == int.class || target == Integer.class || target == long.class || target == Long.class
+                ? "a whole number within the range of an int"
+                : Number.class.isAssignableFrom(target) || target.isPrimitive() && target != boolean.class ? "a number"
+                : target == boolean.class || target == Boolean.class ? "true or false"
+                : target == String.class ? "a text value"
+                : Collection.class.isAssignableFrom(target) || target.isArray() ? "a list" : "a mapping of settings";
+        return "expected " + expected + ", found " + (value.isMissingNode() ? "a value that does not fit"
+                : value.isObject() ? "a mapping" : value.isArray() ? "a list" : value.isNull() ? "nothing"
+                : "'" + value.asText() + "'");
     }
 
     /**
@@ -116,11 +107,14 @@ final class RulesReader {
         return bound;
     }
 
-    /** Checks every text value under a key {@code term}, or listed under a key {@code terms}, at any depth. */
+    /** Checks that every text value under a key {@code term}, or listed under {@code terms}, names a watched term. */
     private static void checkTermReferences(DefNode node, String key, List<TermSpec> terms)
             throws DefinitionException {
         if (node.json().isTextual() && (key.equals("term") || key.equals("terms[]"))) {
-            checkWatched(node, terms);
+            String name = node.text();
+            TermSpec spec = terms.stream().filter(t -> t.name().equals(name)).findFirst()
+                    .orElseThrow(() -> node.error("'" + name + "' is not a declared term"));
+            node.errorIf(!spec.term().watched(), "term '" + name + "' is not watched (set watched: true on it)");
         } else if (node.json().isArray()) {
             for (DefNode element : node.elements()) {
                 checkTermReferences(element, key.equals("terms") ? "terms[]" : "", terms);
@@ -130,12 +124,5 @@ final class RulesReader {
                 checkTermReferences(node.get(name), name, terms);
             }
         }
-    }
-
-    private static void checkWatched(DefNode where, List<TermSpec> terms) throws DefinitionException {
-        String name = where.text();
-        TermSpec spec = terms.stream().filter(t -> t.name().equals(name)).findFirst()
-                .orElseThrow(() -> where.error("'" + name + "' is not a declared term"));
-        where.errorIf(!spec.term().watched(), "term '" + name + "' is not watched (set watched: true on it)");
     }
 }

@@ -1,7 +1,6 @@
 package org.oddswatch.ingest.check;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
-import static org.junit.jupiter.api.Assertions.assertNull;
 import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
@@ -16,6 +15,7 @@ import org.junit.jupiter.api.io.TempDir;
 import org.oddswatch.ingest.decode.RejectReason;
 import org.oddswatch.ingest.definition.DefinitionException;
 import org.oddswatch.ingest.definition.DefinitionLoader;
+import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.pipeline.GapScenario;
 import org.oddswatch.ingest.pipeline.HouseEvents;
 import org.oddswatch.ingest.pipeline.Outcome;
@@ -30,16 +30,6 @@ class DefinitionCheckerTest {
     }
 
     @Test
-    void definitionOnly() throws Exception {
-        CheckReport report = DefinitionChecker.check(definition());
-        assertNull(report.events());
-        assertEquals(List.of("household_contact", "recent_travel"), report.monitors().get(0).watched());
-        // intercept + 2 binary + 3 age-band indicators + 1 sex indicator
-        assertEquals(7, report.monitors().get(0).designColumns());
-        assertTrue(report.describe().contains("respiratory: topic clinic-tests"), report.describe());
-    }
-
-    @Test
     void sampleEventsAreCountedByReason() throws Exception {
         List<String> lines = new ArrayList<>(HouseEvents.generate(5, 200, Instant.parse("2026-03-02T00:00:00Z"),
                 14 * 86_400_000L, 0, "north", "south"));
@@ -50,7 +40,7 @@ class DefinitionCheckerTest {
         Path events = dir.resolve("sample.jsonl");
         Files.write(events, lines, StandardCharsets.UTF_8);
         CheckReport report = DefinitionChecker.check(DefinitionLoader.load(definition()), events, null);
-        CheckReport.EventCheck check = report.events();
+        CheckReport check = report;
         assertEquals(204, check.records().consumed());
         assertEquals(200, check.records().outcome(Outcome.ACCEPTED));
         assertEquals(1, check.records().outcome(Outcome.DUPLICATE));
@@ -72,7 +62,7 @@ class DefinitionCheckerTest {
     void anInvalidDefinitionIsReportedWithItsLine() throws Exception {
         Path bad = dir.resolve("bad.yaml");
         Files.writeString(bad, Files.readString(definition()).replace("step: P7D", "step: P5D"));
-        DefinitionException e = assertThrows(DefinitionException.class, () -> DefinitionChecker.check(bad));
+        DefinitionException e = assertThrows(DefinitionException.class, () -> DefinitionLoader.load(bad));
         assertEquals(24, e.line());
         assertEquals("monitors[0].window.width", e.key());
     }
@@ -88,19 +78,20 @@ class DefinitionCheckerTest {
         Files.writeString(definition, GapScenario.definition("clinic-tests"));
         Path events = dir.resolve("sample.csv");
         Files.write(events, GapScenario.csvLines(), StandardCharsets.UTF_8);
-        CheckReport report = DefinitionChecker.check(DefinitionLoader.load(definition), events, null);
-        CheckReport.MonitorFacts facts = report.monitors().get(0);
-        assertEquals(List.of("odds-ratio-drift: on (needs a baseline)", "odds-ratio-bounds: on",
-                "calibration: on (needs a baseline)",
-                "bernoulli-cusum: off [switched-off]: switched off in the definition (rules.cusum.enabled: false)"),
-                facts.rules());
-        assertEquals(2, facts.notices().size(), "drift and calibration are not listed: " + facts.notices());
-        assertEquals(GapScenario.EXPECTED, GapScenario.keys(report.events().gaps()));
+        MonitorConfig config = DefinitionLoader.load(definition);
+        CheckReport report = DefinitionChecker.check(config, events, null);
+        StringBuilder rules = new StringBuilder();
+        CheckReport.appendRules(rules, config.monitors().get(0));
+        assertEquals(String.join("\n", "    rules:", "      odds-ratio-drift: on (needs a baseline)",
+                "      odds-ratio-bounds: on", "      calibration: on (needs a baseline)",
+                "      bernoulli-cusum: off [switched-off]: switched off in the definition (rules.cusum.enabled: false)",
+                ""), rules.substring(0, rules.indexOf("    note: ")));
+        assertEquals(2, config.monitors().get(0).notices().size(), "drift and calibration are not listed: " + rules);
+        assertTrue(rules.toString().contains("    note: monitors[0].rules.oddsRatioDrift is not listed, so it runs with its "
+                + "defaults"), rules.toString());
+        assertEquals(GapScenario.EXPECTED, GapScenario.keys(report.gaps()));
 
         String text = report.describe();
-        assertTrue(text.contains("    rules:\n      odds-ratio-drift: on (needs a baseline)\n"), text);
-        assertTrue(text.contains("    note: monitors[0].rules.oddsRatioDrift is not listed, so it runs with its "
-                + "defaults"), text);
         assertTrue(text.contains("not monitored (7):\n  clinic: no baseline in use [baseline-failed]: cannot fit a "
                 + "baseline model"), text);
         assertTrue(text.contains("  clinic: term smoker missing from every event [term-missing]"), text);

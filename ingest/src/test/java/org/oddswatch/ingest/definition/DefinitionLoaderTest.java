@@ -392,6 +392,10 @@ class DefinitionLoaderTest {
         assertEquals(8, monitor.split().maxStreams());
         assertEquals("respiratory/east", monitor.streamName("east"));
         assertEquals(4, monitor.strata());
+        assertEquals(List.of("household_contact", "recent_travel"),
+                monitor.terms().stream().filter(t -> t.term().watched()).map(TermSpec::name).toList());
+        // intercept + 2 binary + 3 age-band indicators + 1 sex indicator
+        assertEquals(7, monitor.designCoder().width());
         assertEquals("PLAINTEXT", config.kafka().get("security.protocol"));
         assertEquals(file.toString(), config.file());
     }
