@@ -8,6 +8,7 @@ import java.util.Map;
 import java.util.function.Function;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.lifecycle.IncidentTracker;
 import org.oddswatch.alerts.output.OutputSink;
 import org.oddswatch.alerts.output.Published;
 import org.oddswatch.alerts.privacy.PublishedAlert;
@@ -29,6 +30,10 @@ import org.oddswatch.ingest.pipeline.RejectedRecord;
  * last whole UTF-8 character ({@code valueTruncated: true}, {@code valueBytes}: the original length),
  * a detail over {@value #REJECT_DETAIL_LIMIT} characters likewise. A reject no monitor claims goes to
  * the first monitor of its source topic. The stage does not close its sinks.
+ *
+ * <p>Each alert also goes to one {@link IncidentTracker} for all monitors, and each incident message
+ * it gives goes to the sinks of its first stream's monitor (key: the incident id). Related streams:
+ * a split stream and an unsplit monitor reading the same input topic (its parent).
  */
 public final class OutputStage implements PipelineListener {
 
@@ -39,6 +44,7 @@ public final class OutputStage implements PipelineListener {
 
     private final List<MonitorDefinition> monitors;
     private final Map<String, List<OutputSink>> sinks = new LinkedHashMap<>();
+    private final IncidentTracker incidents;
 
     /**
      * @param monitors the monitors whose outputs pass here
@@ -49,6 +55,14 @@ public final class OutputStage implements PipelineListener {
         for (MonitorDefinition monitor : monitors) {
             sinks.put(monitor.name(), List.copyOf(sinksOf.apply(monitor)));
         }
+        this.incidents = new IncidentTracker(this::splitAndParent);
+    }
+
+    /** True when one stream is a split stream and the other an unsplit monitor on the same input topic. */
+    private boolean splitAndParent(String a, String b) {
+        MonitorDefinition ma = MonitorDefinition.ofStream(monitors, a);
+        MonitorDefinition mb = MonitorDefinition.ofStream(monitors, b);
+        return ma.topic().equals(mb.topic()) && (ma.split() == null) != (mb.split() == null);
     }
 
     /** The key of an estimate on the estimates topic. */
@@ -70,6 +84,11 @@ public final class OutputStage implements PipelineListener {
         Published published = new Published(monitor.name(), alert.id(),
                 PublishedAlert.json(alert, monitor.outputs().smallCells()));
         sinks.get(monitor.name()).forEach(sink -> sink.alert(alert, published));
+        incidents.accept(alert).ifPresent(incident -> {
+            MonitorDefinition first = MonitorDefinition.ofStream(monitors, incident.streams().get(0));
+            Published message = new Published(first.name(), incident.id(), Json.write(incident));
+            sinks.get(first.name()).forEach(sink -> sink.incident(incident, message));
+        });
     }
 
     @Override

@@ -19,8 +19,8 @@ import org.oddswatch.ingest.pipeline.PipelineListener;
 
 /**
  * What the live service's pipelines report to ({@link #listener()}): the {@link OutputStage}, whose
- * sinks for a monitor are the Kafka publisher, the log (alerts), the monitor's {@code outputs.webhook}
- * (alerts, delivered on the webhook's own thread) and its {@code outputs.estimatesFile} (final
+ * sinks for a monitor are the Kafka publisher, the log (incidents), the monitor's {@code outputs.webhook}
+ * (incidents, or every alert with {@code send: episodes}; delivered on the webhook's own thread) and its {@code outputs.estimatesFile} (final
  * estimates appended; a relative path resolves against the definition file's folder), then the
  * {@link PipelineMeters} of the registry.
  */
@@ -36,8 +36,8 @@ final class ServiceOutputs implements AutoCloseable {
             List<OutputSink> sinks = new ArrayList<>(List.of(publisher, log));
             WebhookSpec hook = monitor.outputs().webhook();
             if (hook != null) {
-                WebhookSink webhook = new WebhookSink(monitor.name(), URI.create(hook.url()), hook.timeout(),
-                        hook.attempts());
+                WebhookSink webhook = new WebhookSink(monitor.name(), hook.send(), URI.create(hook.url()),
+                        hook.timeout(), hook.attempts());
                 webhook.bindTo(registry);
                 webhooks.put(monitor.name(), webhook);
                 sinks.add(webhook);
