@@ -13,9 +13,10 @@ import org.apache.commons.math3.linear.RealMatrix;
  *
  * <p>Computed: the Markov-chain approximation of Brook and Evans (1972, Biometrika 59:539) on a
  * lattice {@code S = jδ ≤ h}: δ is the smaller increment in absolute value divided by an integer k
- * (at least about {@code cells} states on [0, h]), so the frequent increment moves exactly k states
- * and only the rare one is rounded to the nearest state (a cell-midpoint chain with a ceiling would
- * bias every small step by up to one cell, which at p = 0.05 is as large as the in-control drift);
+ * (at least about {@code cells} states on [0, h]), so the frequent increment moves exactly k states;
+ * a value between two states goes to both, split so that the mean step is exact (rounding would bias
+ * every rare step the same way, and a cell-midpoint chain with a ceiling every small step by up to
+ * one cell, which at p = 0.05 is as large as the in-control drift);
  * values at or below 0 go to state 0, values above h are a signal, and the average run length from 0
  * solves {@code (I − Q) L = 1}. Simulated: Bernoulli(p) outcomes through the same recursion.
  */
@@ -43,12 +44,23 @@ record BernoulliCusumRunLength(double p, double multiplier, double h, int cells)
         for (int i = 0; i < n; i++) {
             a.addToEntry(i, i, 1);
             for (boolean y : new boolean[] {true, false}) {
+                double prob = y ? p : 1 - p;
                 double next = i * width + (y ? up : down);
-                long j = next <= 0 ? 0 : Math.round(next / width);
-                if (next > h || j >= n) {
+                if (next > h) {
                     continue; // absorbed: a signal
                 }
-                a.addToEntry(i, (int) j, -(y ? p : 1 - p));
+                if (next <= 0) {
+                    a.addToEntry(i, 0, -prob);
+                    continue;
+                }
+                // Between two lattice points: split so that the mean step is exact.
+                double x = next / width;
+                long lo = (long) Math.floor(x + 1e-9);
+                double upper = Math.max(0, x - lo);
+                a.addToEntry(i, (int) Math.min(lo, n - 1), -prob * (1 - upper));
+                if (upper > 1e-9 && lo + 1 < n) {
+                    a.addToEntry(i, (int) (lo + 1), -prob * upper); // beyond the last point: a signal
+                }
             }
         }
         double[] ones = new double[n];

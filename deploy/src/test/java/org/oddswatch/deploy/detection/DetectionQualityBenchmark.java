@@ -60,12 +60,12 @@ import org.oddswatch.ingest.pipeline.RecordOrigin;
  * continuing) of a counted rule on a counted stream. Standard errors are simulation errors. In-control
  * run lengths: each {@link InControlRunLength} computed and simulated.
  *
- * <p>Replicates (system properties): {@code detection.years} (default 30) and {@code detection.runs}
- * (60) for the house scenario, {@code detection.districtYears} (8) and {@code detection.districtRuns}
- * (16) for the districts, {@code detection.arlRuns} (400) simulated run lengths per detector; the
- * defaults take about 15 minutes on a shared 2-core machine. Seeds
- * are fixed. A quick look: {@code -Ddetection.years=6 -Ddetection.runs=20 -Ddetection.districtYears=3
- * -Ddetection.districtRuns=8 -Ddetection.arlRuns=60}. Results go to {@code deploy/target/detection.md}.
+ * <p>Replicates (system properties): {@code detection.years} (default 50) and {@code detection.runs}
+ * (100) for the house scenario, {@code detection.districtYears} (16) and {@code detection.districtRuns}
+ * (30) for the districts, {@code detection.arlRuns} (2000) simulated run lengths per detector; the
+ * defaults take about 12 minutes on a shared, busy 2-core machine. Seeds
+ * are fixed. A quick look (about 3 minutes): {@code -Ddetection.years=10 -Ddetection.runs=20
+ * -Ddetection.districtYears=3 -Ddetection.districtRuns=6 -Ddetection.arlRuns=400}. Results go to {@code deploy/target/detection.md}.
  */
 @Tag("benchmark")
 class DetectionQualityBenchmark {
@@ -76,7 +76,7 @@ class DetectionQualityBenchmark {
     private static final int CHANGE_AFTER_BASELINE = 4;
     private static final int CHANGE_WEEK = BASELINE_WEEKS + CHANGE_AFTER_BASELINE;
     private static final int FOLLOW_WEEKS = 6;
-    private static final int ARL_RUNS = Integer.getInteger("detection.arlRuns", 400);
+    private static final int ARL_RUNS = Integer.getInteger("detection.arlRuns", 2000);
 
     /** The detectors whose computed and simulated in-control run lengths are compared; add new ones here. */
     static final List<InControlRunLength> RUN_LENGTHS = List.of(
@@ -127,14 +127,14 @@ class DetectionQualityBenchmark {
 
     private static final Setup HOUSE = new Setup("house scenario (1 monitor, weekly windows)",
             SimulatedProgramme.house(), "monitors:\n" + MONITOR.formatted("respiratory", "", "P7D"), 1,
-            Integer.getInteger("detection.years", 30), Integer.getInteger("detection.runs", 60), 7_000_000L, null,
+            Integer.getInteger("detection.years", 50), Integer.getInteger("detection.runs", 100), 7_000_000L, null,
             List.of("respiratory"), List.of("respiratory"));
 
     private static final Setup DISTRICTS = new Setup(
             "sixteen districts (programme monitor + 16 district streams, 28-day windows stepped weekly)",
             SimulatedProgramme.districts(), "monitors:\n" + MONITOR.formatted("districts", "", "P28D")
                     + MONITOR.formatted("districts-by-site", "    split: {field: /site, maxStreams: 16}", "P28D"), 4,
-            Integer.getInteger("detection.districtYears", 8), Integer.getInteger("detection.districtRuns", 16),
+            Integer.getInteger("detection.districtYears", 16), Integer.getInteger("detection.districtRuns", 30),
             17_000_000L, "d01", List.of("districts-by-site/d01"), List.of("districts", "districts-by-site"));
 
     /** What one simulated feed produced. */
