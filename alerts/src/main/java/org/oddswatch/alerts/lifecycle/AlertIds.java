@@ -16,7 +16,19 @@ public final class AlertIds {
     }
 
     public static String episodeId(String stream, String rule, AlertSubject subject, Instant raisedWindowEnd) {
-        String text = stream + "\n" + rule + "\n" + subject.label() + "\n" + raisedWindowEnd;
+        return hex24(stream + "\n" + rule + "\n" + subject.label() + "\n" + raisedWindowEnd);
+    }
+
+    /**
+     * The id of the incident an episode opened: the first 24 hex digits of SHA-256 over
+     * {@code "incident\n" + episode id}, so it differs from every episode id yet follows from the
+     * first episode alone.
+     */
+    public static String incidentId(String firstEpisodeId) {
+        return hex24("incident\n" + firstEpisodeId);
+    }
+
+    private static String hex24(String text) {
         try {
             byte[] digest = MessageDigest.getInstance("SHA-256").digest(text.getBytes(StandardCharsets.UTF_8));
             StringBuilder hex = new StringBuilder(24);

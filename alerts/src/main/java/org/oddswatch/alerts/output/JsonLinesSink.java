@@ -11,6 +11,7 @@ import java.nio.file.StandardOpenOption;
 import java.util.LinkedHashMap;
 import java.util.Map;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.lifecycle.Incident;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.estimator.result.WindowStatus;
 import org.oddswatch.alerts.metrics.OddswatchMeters;
@@ -19,10 +20,10 @@ import org.slf4j.LoggerFactory;
 
 /**
  * JSON Lines files, one output per line as published: final window estimates (interim ones are
- * not written), alerts, and rejects with the record's bytes whole. Two uses:
+ * not written), alerts, incident messages, and rejects with the record's bytes whole. Two uses:
  * <ul>
- *   <li>{@link #replayFiles}: a replay's {@code estimates.jsonl}, {@code alerts.jsonl} and
- *       {@code rejects.jsonl}, created afresh; an I/O error ends the replay
+ *   <li>{@link #replayFiles}: a replay's {@code estimates.jsonl}, {@code alerts.jsonl},
+ *       {@code rejects.jsonl} and (when given) {@code incidents.jsonl}, created afresh; an I/O error ends the replay
  *       ({@link UncheckedIOException});</li>
  *   <li>{@link #appendingEstimates}: the live service's {@code outputs.estimatesFile}, final
  *       estimates appended and flushed line by line; an I/O error is logged at ERROR and the line is
@@ -39,22 +40,33 @@ public final class JsonLinesSink implements OutputSink {
     private final Path estimates;
     private final Path alerts;
     private final Path rejects;
+    private final Path incidents;
     private final boolean live;
     private final Map<Path, Writer> writers = new LinkedHashMap<>();
     /** Lines a live sink could not append (each also logged at ERROR). */
     private final java.util.concurrent.atomic.AtomicLong failedLines = new java.util.concurrent.atomic.AtomicLong();
 
-    private JsonLinesSink(Path estimates, Path alerts, Path rejects, boolean live) {
+    private JsonLinesSink(Path estimates, Path alerts, Path rejects, Path incidents, boolean live) {
         this.estimates = estimates;
         this.alerts = alerts;
         this.rejects = rejects;
+        this.incidents = incidents;
         this.live = live;
     }
 
-    /** The three files of a replay, each created (or emptied) now. */
+    /** The three files of a replay, each created (or emptied) now; incidents are not written. */
     public static JsonLinesSink replayFiles(Path estimates, Path alerts, Path rejects) throws IOException {
-        JsonLinesSink sink = new JsonLinesSink(estimates, alerts, rejects, false);
-        for (Path file : new Path[] {estimates, alerts, rejects}) {
+        return replayFiles(estimates, alerts, rejects, null);
+    }
+
+    /** The files of a replay, each created (or emptied) now; {@code incidents} may be null (not written). */
+    public static JsonLinesSink replayFiles(Path estimates, Path alerts, Path rejects, Path incidents)
+            throws IOException {
+        JsonLinesSink sink = new JsonLinesSink(estimates, alerts, rejects, incidents, false);
+        for (Path file : new Path[] {estimates, alerts, rejects, incidents}) {
+            if (file == null) {
+                continue;
+            }
             sink.writers.put(file, new BufferedWriter(Files.newBufferedWriter(file, StandardCharsets.UTF_8), 1 << 16));
         }
         return sink;
@@ -62,7 +74,7 @@ public final class JsonLinesSink implements OutputSink {
 
     /** Final estimates appended to {@code file} (created with its folders on the first one). */
     public static JsonLinesSink appendingEstimates(Path file) {
-        return new JsonLinesSink(file, null, null, true);
+        return new JsonLinesSink(file, null, null, null, true);
     }
 
     @Override
@@ -75,6 +87,11 @@ public final class JsonLinesSink implements OutputSink {
     @Override
     public void alert(Alert alert, Published published) {
         line(alerts, published.json());
+    }
+
+    @Override
+    public void incident(Incident incident, Published published) {
+        line(incidents, published.json());
     }
 
     @Override

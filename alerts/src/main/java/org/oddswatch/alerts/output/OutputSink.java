@@ -2,6 +2,7 @@ package org.oddswatch.alerts.output;
 
 import java.util.List;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.lifecycle.Incident;
 import org.oddswatch.estimator.result.WindowEstimate;
 
 /**
@@ -19,6 +20,13 @@ public interface OutputSink extends AutoCloseable {
 
     /** An alert message: raised, continuing or cleared. */
     default void alert(Alert alert, Published published) {
+    }
+
+    /**
+     * An incident message: opened, updated or resolved (the episodes that agree about one change;
+     * see {@code IncidentTracker}). Published under the monitor of its first episode's stream.
+     */
+    default void incident(Incident incident, Published published) {
     }
 
     /**
@@ -51,6 +59,11 @@ public interface OutputSink extends AutoCloseable {
             @Override
             public void alert(Alert alert, Published published) {
                 each.forEach(sink -> sink.alert(alert, published));
+            }
+
+            @Override
+            public void incident(Incident incident, Published published) {
+                each.forEach(sink -> sink.incident(incident, published));
             }
 
             @Override

@@ -19,20 +19,24 @@ import java.util.concurrent.ThreadPoolExecutor;
 import java.util.concurrent.TimeUnit;
 import java.util.concurrent.atomic.AtomicLong;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.lifecycle.Incident;
 import org.oddswatch.alerts.metrics.OddswatchMeters;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
 /**
- * HTTP POST of each alert's JSON ({@code Content-Type: application/json}) to one monitor's URL.
- * Delivery runs on one daemon thread fed by a bounded queue, so {@link #alert} only enqueues and
+ * HTTP POST of each incident message's JSON, or (for a receiver that wants every episode) each alert
+ * message's JSON ({@code Content-Type: application/json}) to one monitor's URL: {@link Carries}.
+ * Delivery runs on one daemon thread fed by a bounded queue, so {@link #incident} and {@link #alert}
+ * only enqueue and
  * returns at once: the poll loop never waits for a receiver. Each attempt has a request timeout; a
  * 2xx response is success; any other status, an I/O error or a timeout is retried up to
  * {@code attempts} attempts in all, waiting {@code backoff}, then twice that, and so on (at most
- * 60 s). When every attempt failed, or the queue is full, the alert is dropped from this sink (it is
- * still on the alerts topic and in the log), counted and logged at ERROR. The
- * {@code Idempotency-Key} header carries {@code <alert id>:<state>:<windowEnd>} so a receiver can
- * discard a duplicate of a retried delivery.
+ * 60 s). When every attempt failed, or the queue is full, the message is dropped from this sink (its
+ * episodes are still on the alerts topic), counted and logged at ERROR. The
+ * {@code Idempotency-Key} header carries {@code <incident id>:<revision>} (incidents) or
+ * {@code <alert id>:<state>:<windowEnd>} (episodes) so a receiver can discard a duplicate of a
+ * retried delivery.
  *
  * <p>Meters ({@link #bindTo}): {@value OddswatchMeters#WEBHOOK_ATTEMPTS} by {@code monitor} and
  * {@code outcome} ({@code success}, {@code status}, {@code error}, {@code timeout}) and
@@ -45,7 +49,16 @@ public final class WebhookSink implements OutputSink, MeterBinder {
     private static final List<String> OUTCOMES = List.of("success", "status", "error", "timeout");
     private static final List<String> REASONS = List.of("attempts-exhausted", "queue-full", "interrupted");
 
+    /** What a webhook posts. */
+    public enum Carries {
+        /** One message per change of an incident (opened, updated, resolved): what on-call receives by default. */
+        INCIDENTS,
+        /** Every alert message of every episode, as on the alerts topic. */
+        EPISODES
+    }
+
     private final String monitor;
+    private final Carries carries;
     private final URI url;
     private final Duration timeout;
     private final int attempts;
@@ -64,10 +77,25 @@ public final class WebhookSink implements OutputSink, MeterBinder {
      * @param queueCapacity alerts waiting for delivery before new ones are dropped
      */
     public WebhookSink(String monitor, URI url, Duration timeout, int attempts, Duration backoff, int queueCapacity) {
+        this(monitor, Carries.EPISODES, url, timeout, attempts, backoff, queueCapacity);
+    }
+
+    /**
+     * @param monitor the monitor whose messages this sink posts (a meter tag)
+     * @param carries incident messages or every alert message
+     * @param url where to POST
+     * @param timeout per-attempt request (and connect) timeout
+     * @param attempts attempts in all, at least 1
+     * @param backoff wait before the first retry; doubled for each further retry
+     * @param queueCapacity messages waiting for delivery before new ones are dropped
+     */
+    public WebhookSink(String monitor, Carries carries, URI url, Duration timeout, int attempts, Duration backoff,
+                       int queueCapacity) {
         if (attempts < 1 || queueCapacity < 1) {
             throw new IllegalArgumentException("attempts and queue capacity must be at least 1");
         }
         this.monitor = monitor;
+        this.carries = carries;
         this.url = url;
         this.timeout = timeout;
         this.attempts = attempts;
@@ -81,9 +109,14 @@ public final class WebhookSink implements OutputSink, MeterBinder {
                 });
     }
 
-    /** Defaults: 500 ms first backoff, 1000 queued alerts. */
+    /** Every alert message; defaults: 500 ms first backoff, 1000 queued messages. */
     public WebhookSink(String monitor, URI url, Duration timeout, int attempts) {
         this(monitor, url, timeout, attempts, Duration.ofMillis(500), 1000);
+    }
+
+    /** Defaults: 500 ms first backoff, 1000 queued messages. */
+    public WebhookSink(String monitor, Carries carries, URI url, Duration timeout, int attempts) {
+        this(monitor, carries, url, timeout, attempts, Duration.ofMillis(500), 1000);
     }
 
     private static Map<String, AtomicLong> counts(List<String> keys) {
@@ -104,18 +137,33 @@ public final class WebhookSink implements OutputSink, MeterBinder {
 
     @Override
     public void alert(Alert alert, Published published) {
-        try {
-            executor.execute(() -> deliver(alert, published.json()));
-        } catch (RejectedExecutionException e) {
-            failuresByReason.get("queue-full").incrementAndGet();
-            LOG.error("webhook {}: queue full, alert {} ({}) dropped from this sink", url, alert.id(), alert.state());
+        if (carries == Carries.EPISODES) {
+            enqueue("alert " + alert.id() + " (" + alert.state() + ")",
+                    alert.id() + ":" + alert.state() + ":" + alert.windowEnd(), published.json());
         }
     }
 
-    private void deliver(Alert alert, String body) {
+    @Override
+    public void incident(Incident incident, Published published) {
+        if (carries == Carries.INCIDENTS) {
+            enqueue("incident " + incident.id() + " (" + incident.change() + ", revision " + incident.revision() + ")",
+                    incident.id() + ":" + incident.revision(), published.json());
+        }
+    }
+
+    private void enqueue(String what, String idempotencyKey, String body) {
+        try {
+            executor.execute(() -> deliver(what, idempotencyKey, body));
+        } catch (RejectedExecutionException e) {
+            failuresByReason.get("queue-full").incrementAndGet();
+            LOG.error("webhook {}: queue full, {} dropped from this sink", url, what);
+        }
+    }
+
+    private void deliver(String what, String idempotencyKey, String body) {
         HttpRequest request = HttpRequest.newBuilder(url).timeout(timeout)
                 .header("Content-Type", "application/json")
-                .header("Idempotency-Key", alert.id() + ":" + alert.state() + ":" + alert.windowEnd())
+                .header("Idempotency-Key", idempotencyKey)
                 .POST(HttpRequest.BodyPublishers.ofString(body)).build();
         long wait = backoff.toMillis();
         for (int attempt = 1; attempt <= attempts; attempt++) {
@@ -127,18 +175,18 @@ public final class WebhookSink implements OutputSink, MeterBinder {
                     return;
                 }
                 outcome = "status";
-                LOG.warn("webhook {}: alert {} attempt {}/{} got HTTP {}", url, alert.id(), attempt, attempts,
+                LOG.warn("webhook {}: {} attempt {}/{} got HTTP {}", url, what, attempt, attempts,
                         response.statusCode());
             } catch (HttpTimeoutException e) {
                 outcome = "timeout";
-                LOG.warn("webhook {}: alert {} attempt {}/{} timed out after {}", url, alert.id(), attempt, attempts,
+                LOG.warn("webhook {}: {} attempt {}/{} timed out after {}", url, what, attempt, attempts,
                         timeout);
             } catch (IOException e) {
                 outcome = "error";
-                LOG.warn("webhook {}: alert {} attempt {}/{} failed: {}", url, alert.id(), attempt, attempts,
+                LOG.warn("webhook {}: {} attempt {}/{} failed: {}", url, what, attempt, attempts,
                         e.toString());
             } catch (InterruptedException e) {
-                interrupted(alert);
+                interrupted(what);
                 return;
             }
             attemptsByOutcome.get(outcome).incrementAndGet();
@@ -146,20 +194,20 @@ public final class WebhookSink implements OutputSink, MeterBinder {
                 try {
                     Thread.sleep(wait);
                 } catch (InterruptedException e) {
-                    interrupted(alert);
+                    interrupted(what);
                     return;
                 }
                 wait = Math.min(wait * 2, 60_000);
             }
         }
         failuresByReason.get("attempts-exhausted").incrementAndGet();
-        LOG.error("webhook {}: alert {} ({}) not delivered after {} attempts", url, alert.id(), alert.state(), attempts);
+        LOG.error("webhook {}: {} not delivered after {} attempts", url, what, attempts);
     }
 
-    private void interrupted(Alert alert) {
+    private void interrupted(String what) {
         Thread.currentThread().interrupt();
         failuresByReason.get("interrupted").incrementAndGet();
-        LOG.error("webhook {}: interrupted, alert {} not delivered", url, alert.id());
+        LOG.error("webhook {}: interrupted, {} not delivered", url, what);
     }
 
     /** Alerts delivered with a 2xx response. */

@@ -23,6 +23,8 @@ import org.oddswatch.alerts.engine.AlertEngine;
 import org.oddswatch.alerts.engine.AlertRulesConfig;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.lifecycle.Incident;
+import org.oddswatch.alerts.lifecycle.IncidentTracker;
 import org.oddswatch.alerts.metrics.OddswatchMeters;
 import org.oddswatch.alerts.privacy.PublishedAlert;
 import org.oddswatch.alerts.privacy.SmallCellPolicy;
@@ -92,6 +94,35 @@ class WebhookSinkTest {
         assertEquals(a.id() + ":raised:" + a.windowEnd(), keys.get(0));
         assertEquals(2.0, count(registry, OddswatchMeters.WEBHOOK_ATTEMPTS, "outcome", "status"));
         assertEquals(1.0, count(registry, OddswatchMeters.WEBHOOK_ATTEMPTS, "outcome", "success"));
+    }
+
+    @Test
+    void anIncidentWebhookPostsIncidentMessagesOnlyAndAnEpisodeWebhookAlertsOnly() throws Exception {
+        List<String> bodies = new CopyOnWriteArrayList<>();
+        List<String> keys = new CopyOnWriteArrayList<>();
+        URI url = start(exchange -> {
+            bodies.add(new String(exchange.getRequestBody().readAllBytes(), StandardCharsets.UTF_8));
+            keys.add(exchange.getRequestHeaders().getFirst("Idempotency-Key"));
+            exchange.sendResponseHeaders(204, -1);
+            exchange.close();
+        });
+        Alert a = alert();
+        Incident incident = IncidentTracker.sameStream().accept(a).orElseThrow();
+        Published message = new Published("resp", incident.id(), Json.write(incident));
+        try (WebhookSink sink = new WebhookSink("resp", WebhookSink.Carries.INCIDENTS, url, Duration.ofSeconds(5), 2)) {
+            sink.alert(a, published(a));
+            sink.incident(incident, message);
+            assertTrue(sink.awaitIdle(Duration.ofSeconds(30)));
+            assertEquals(1, sink.delivered());
+        }
+        assertEquals(List.of(message.json()), bodies, "the incident's JSON, not the alert's");
+        assertEquals(List.of(incident.id() + ":1"), keys);
+        try (WebhookSink sink = new WebhookSink("resp", WebhookSink.Carries.EPISODES, url, Duration.ofSeconds(5), 2)) {
+            sink.incident(incident, message);
+            sink.alert(a, published(a));
+            assertTrue(sink.awaitIdle(Duration.ofSeconds(30)));
+        }
+        assertEquals(List.of(message.json(), Json.write(a)), bodies);
     }
 
     @Test

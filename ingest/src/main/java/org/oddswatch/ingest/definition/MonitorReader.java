@@ -10,6 +10,7 @@ import java.util.Map;
 import java.util.Set;
 import java.util.regex.Pattern;
 import org.oddswatch.alerts.engine.AlertRulesConfig;
+import org.oddswatch.alerts.output.WebhookSink;
 import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.estimator.terms.CategoricalTerm;
 
@@ -176,13 +177,18 @@ final class MonitorReader {
         WebhookSpec webhook = null;
         DefNode hook = node.get("webhook");
         if (hook.present()) {
-            hook.mapping("url", "timeout", "attempts");
+            hook.mapping("url", "timeout", "attempts", "send");
             DefNode urlNode = hook.require("url");
             String url = urlNode.name();
             urlNode.errorIf(!url.startsWith("http://") && !url.startsWith("https://"),
                     "'" + url + "' is not an http:// or https:// address");
             int attempts = hook.get("attempts").integer(4, v -> v >= 1, "must be at least 1");
-            webhook = new WebhookSpec(url, hook.get("timeout").duration(Duration.ofSeconds(5), false), attempts);
+            DefNode sendNode = hook.get("send");
+            String send = sendNode.text("incidents");
+            sendNode.errorIf(!send.equals("incidents") && !send.equals("episodes"),
+                    "'" + send + "' is not incidents (one message per change of an incident) or episodes (every alert message)");
+            webhook = new WebhookSpec(url, hook.get("timeout").duration(Duration.ofSeconds(5), false), attempts,
+                    send.equals("episodes") ? WebhookSink.Carries.EPISODES : WebhookSink.Carries.INCIDENTS);
         }
         int withholdBelow = node.get("withholdCountsBelow").integer(SmallCellPolicy.DEFAULT_LIMIT,
                 v -> v >= 2 && v <= 1000,

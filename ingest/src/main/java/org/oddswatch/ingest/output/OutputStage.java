@@ -8,6 +8,7 @@ import java.util.Map;
 import java.util.function.Function;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.lifecycle.IncidentTracker;
 import org.oddswatch.alerts.output.OutputSink;
 import org.oddswatch.alerts.output.Published;
 import org.oddswatch.alerts.privacy.PublishedAlert;
@@ -19,16 +20,20 @@ import org.oddswatch.ingest.pipeline.RecordOrigin;
 import org.oddswatch.ingest.pipeline.RejectedRecord;
 
 /**
- * Where the pipeline's outputs leave it, in the live service and in a replay alike: each estimate,
- * alert and reject goes to its monitor, is written as JSON once under that monitor's small-cell rule
- * ({@link PublishedEstimate}, {@link PublishedAlert}) and is handed to the monitor's sinks in order.
- * Keys: an estimate {@code <stream>|<windowEnd>} (interim and final share it, so a compacted topic
- * keeps the final one); an alert its id; a reject {@code <topic>/<partition>/<offset>} of its record
- * ({@code line/<n>} in a file). A reject no monitor claims goes to the first monitor of its source
- * topic. A reject also comes as a message that fits the producer's default 1 MiB request: a value
- * over {@value #REJECT_VALUE_LIMIT} bytes is cut at the last whole UTF-8 character
- * ({@code valueTruncated: true}, {@code valueBytes}: the original length), a detail over
- * {@value #REJECT_DETAIL_LIMIT} characters likewise. The stage does not close its sinks.
+ * Where the pipeline's outputs leave it, the same for the live service and for a replay: each
+ * estimate, alert and reject is assigned to its monitor, written as JSON once under that monitor's
+ * small-cell rule ({@link PublishedEstimate}, {@link PublishedAlert}) and handed to the monitor's
+ * sinks in order. Keys: an estimate {@code <stream>|<windowEnd>} (interim and final share it, so a
+ * compacted topic keeps the final one); an alert its id; a reject the {@code <topic>/<partition>/<offset>}
+ * of its record ({@code line/<n>} in a file). A reject also comes as a message that fits the
+ * producer's default 1 MiB request: a value over {@value #REJECT_VALUE_LIMIT} bytes is cut at the
+ * last whole UTF-8 character ({@code valueTruncated: true}, {@code valueBytes}: the original length),
+ * a detail over {@value #REJECT_DETAIL_LIMIT} characters likewise. A reject no monitor claims goes to
+ * the first monitor of its source topic. The stage does not close its sinks.
+ *
+ * <p>Each alert also goes to one {@link IncidentTracker} for all monitors, and each incident message
+ * it gives goes to the sinks of its first stream's monitor (key: the incident id). Related streams:
+ * a split stream and an unsplit monitor reading the same input topic (its parent).
  */
 public final class OutputStage implements PipelineListener {
 
@@ -39,6 +44,7 @@ public final class OutputStage implements PipelineListener {
 
     private final List<MonitorDefinition> monitors;
     private final Map<String, List<OutputSink>> sinks = new LinkedHashMap<>();
+    private final IncidentTracker incidents;
 
     /** @param sinksOf the sinks of each monitor, in the order they receive an output */
     public OutputStage(List<MonitorDefinition> monitors, Function<MonitorDefinition, List<OutputSink>> sinksOf) {
@@ -46,6 +52,14 @@ public final class OutputStage implements PipelineListener {
         for (MonitorDefinition monitor : monitors) {
             sinks.put(monitor.name(), List.copyOf(sinksOf.apply(monitor)));
         }
+        this.incidents = new IncidentTracker(this::splitAndParent);
+    }
+
+    /** True when one stream is a split stream and the other an unsplit monitor on the same input topic. */
+    private boolean splitAndParent(String a, String b) {
+        MonitorDefinition ma = MonitorDefinition.ofStream(monitors, a);
+        MonitorDefinition mb = MonitorDefinition.ofStream(monitors, b);
+        return ma.topic().equals(mb.topic()) && (ma.split() == null) != (mb.split() == null);
     }
 
     /** The key of an estimate on the estimates topic. */
@@ -67,6 +81,11 @@ public final class OutputStage implements PipelineListener {
         Published published = new Published(monitor.name(), alert.id(),
                 PublishedAlert.json(alert, monitor.outputs().smallCells()));
         sinks.get(monitor.name()).forEach(sink -> sink.alert(alert, published));
+        incidents.accept(alert).ifPresent(incident -> {
+            MonitorDefinition first = MonitorDefinition.ofStream(monitors, incident.streams().get(0));
+            Published message = new Published(first.name(), incident.id(), Json.write(incident));
+            sinks.get(first.name()).forEach(sink -> sink.incident(incident, message));
+        });
     }
 
     @Override

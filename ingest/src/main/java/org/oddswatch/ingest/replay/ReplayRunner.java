@@ -20,6 +20,7 @@ import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.alerts.engine.RuleInputs;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.lifecycle.Incident;
 import org.oddswatch.alerts.output.CsvEstimatesSink;
 import org.oddswatch.alerts.output.JsonLinesSink;
 import org.oddswatch.alerts.output.OutputSink;
@@ -55,6 +56,8 @@ public final class ReplayRunner {
     public static final String ESTIMATES_CSV = "estimates.csv";
     public static final String REJECTS = "rejects.jsonl";
     public static final String ALERTS = "alerts.jsonl";
+    /** The incident messages of the whole file (alert episodes grouped; not limited to a range). */
+    public static final String INCIDENTS = "incidents.jsonl";
     public static final String SUMMARY = "summary.json";
     /** The alert engines' calls ({@link RuleInputs}), for re-running the rules with other limits ({@link RuleRerun}). */
     public static final String RULE_INPUTS = "rules-input.jsonl";
@@ -95,7 +98,7 @@ public final class ReplayRunner {
         InputFormat format = request.format() != null ? request.format() : InputFormat.of(request.input());
         Path out = request.out();
         OutputSink files = OutputSink.all(JsonLinesSink.replayFiles(out.resolve(ESTIMATES), out.resolve(ALERTS),
-                out.resolve(REJECTS)), new CsvEstimatesSink(out.resolve(ESTIMATES_CSV)));
+                out.resolve(REJECTS), out.resolve(INCIDENTS)), new CsvEstimatesSink(out.resolve(ESTIMATES_CSV)));
         ReportOutputs outputs = new ReportOutputs(request, monitors, files);
         MonitorPipeline pipeline;
         Files.deleteIfExists(out.resolve(RULE_INPUTS)); // never one left from an earlier replay
@@ -207,6 +210,11 @@ public final class ReplayRunner {
                 alerts.add(alert);
                 files.alert(alert, published);
             }
+        }
+
+        @Override
+        public void incident(Incident incident, Published published) {
+            files.incident(incident, published);
         }
 
         @Override

@@ -38,8 +38,9 @@ import org.slf4j.LoggerFactory;
  * committed only after the outputs of the records before them are stored. A clean {@link #close()}
  * (also from a SIGTERM hook) commits everything, leaves the group and closes the clients.
  *
- * <p>Each monitor's outputs pass the {@link OutputStage} to the Kafka publisher, the log (alerts),
- * its {@code outputs.webhook} (alerts, on the webhook's own thread) and its
+ * <p>Each monitor's outputs pass the {@link OutputStage} to the Kafka publisher, the log (incidents),
+ * its {@code outputs.webhook} (incidents, or every alert with {@code send: episodes}; on the
+ * webhook's own thread) and its
  * {@code outputs.estimatesFile} (final estimates appended; a relative path resolves against the
  * definition file's folder) and the {@link LiveHistory} the live page reads, then the
  * {@link PipelineMeters}.
@@ -92,7 +93,8 @@ public final class MonitorService implements AutoCloseable {
         List<OutputSink> sinks = new ArrayList<>(List.of(publisher, log, history));
         WebhookSpec hook = monitor.outputs().webhook();
         if (hook != null) {
-            WebhookSink webhook = new WebhookSink(monitor.name(), URI.create(hook.url()), hook.timeout(), hook.attempts());
+            WebhookSink webhook = new WebhookSink(monitor.name(), hook.send(), URI.create(hook.url()), hook.timeout(),
+                    hook.attempts());
             webhook.bindTo(registry);
             webhooks.put(monitor.name(), webhook);
             sinks.add(webhook);

@@ -99,7 +99,7 @@ final class TestDefinitions {
                       alertsTopic: %s-alerts
                 %s
                 """.formatted(bootstrap, prefix, input, prefix, prefix, prefix,
-                webhookUrl == null ? "" : "      webhook: {url: \"" + webhookUrl + "\", timeout: PT5S, attempts: 2}");
+                webhookUrl == null ? "" : "      webhook: {url: \"" + webhookUrl + "\", timeout: PT5S, attempts: 2, send: episodes}");
     }
 
     static MonitorConfig config(String yaml) {

@@ -1,0 +1,139 @@
+package org.oddswatch.alerts.lifecycle;
+
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.HashMap;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.Optional;
+import java.util.function.BiPredicate;
+
+/**
+ * Groups alert episodes that agree about one change into incidents, so on-call hears of a change
+ * once, with every agreeing rule as evidence, instead of once per rule and stream.
+ *
+ * <p>An episode's extent runs from the window start of its raising message to the window end of its
+ * clearing message, and is open-ended while it is open. Two episodes agree when their streams are
+ * related (the same stream, or whatever {@code related} accepts, such as a split stream and its
+ * parent monitor) and their extents overlap. Since an incident stays open only while one of its
+ * episodes is open, a raised episode joins the oldest open incident holding an episode on a related
+ * stream; otherwise it opens a new one. Incidents are never merged, and a resolved incident never
+ * reopens: a later episode opens a new incident.
+ *
+ * <p>Messages, one per change of the incident ({@link #accept} returns at most one):
+ * <ul>
+ *   <li>{@code opened}: a raised episode with no open agreeing incident;</li>
+ *   <li>{@code updated}: a raised episode joins, or one episode clears while others stay open;</li>
+ *   <li>{@code resolved}: the last open episode cleared.</li>
+ * </ul>
+ * A {@code continuing} message refreshes its episode's evidence and the incident's window span
+ * without a message. The id comes from the first episode ({@link AlertIds#incidentId}), and the
+ * tracker reads no clock: the same alert messages in the same order give the same incidents, live
+ * or in replay.
+ *
+ * <p>After a restart the tracker starts empty (the alerts topic, not the incidents, is the record).
+ * A {@code continuing} message of an episode it does not know opens an incident for it, with the
+ * id and revision 1 that episode would have given as first episode, so a receiver that keys on
+ * {@code id} and {@code revision} sees a repeat, not a new change; a {@code cleared} message of an
+ * unknown episode gives no message.
+ */
+public final class IncidentTracker {
+
+    private final BiPredicate<String, String> related;
+    private final List<OpenIncident> open = new ArrayList<>();
+    private final Map<String, OpenIncident> byEpisode = new HashMap<>();
+
+    /** @param related true when episodes on the two streams may describe the same change (need not hold for equal streams) */
+    public IncidentTracker(BiPredicate<String, String> related) {
+        this.related = related;
+    }
+
+    /** A tracker grouping only episodes of the same stream. */
+    public static IncidentTracker sameStream() {
+        return new IncidentTracker(String::equals);
+    }
+
+    /** The incident message this alert message causes, if any. */
+    public Optional<Incident> accept(Alert alert) {
+        OpenIncident incident = byEpisode.get(alert.id());
+        if (incident == null) {
+            if (alert.state() == AlertState.CLEARED) {
+                return Optional.empty();
+            }
+            incident = agreeing(alert.stream());
+            if (incident == null) {
+                incident = new OpenIncident(AlertIds.incidentId(alert.id()), alert.replayCommand());
+                open.add(incident);
+                incident.record(alert);
+                byEpisode.put(alert.id(), incident);
+                return Optional.of(incident.message(IncidentChange.OPENED, alert));
+            }
+            incident.record(alert);
+            byEpisode.put(alert.id(), incident);
+            return Optional.of(incident.message(IncidentChange.UPDATED, alert));
+        }
+        incident.record(alert);
+        if (alert.state() != AlertState.CLEARED) {
+            return Optional.empty();
+        }
+        if (incident.openEpisodes() > 0) {
+            return Optional.of(incident.message(IncidentChange.UPDATED, alert));
+        }
+        open.remove(incident);
+        incident.episodes.keySet().forEach(byEpisode::remove);
+        return Optional.of(incident.message(IncidentChange.RESOLVED, alert));
+    }
+
+    /** Incidents with at least one open episode. */
+    public int openIncidents() {
+        return open.size();
+    }
+
+    private OpenIncident agreeing(String stream) {
+        for (OpenIncident incident : open) {
+            for (IncidentEvidence e : incident.episodes.values()) {
+                if (e.stream().equals(stream) || related.test(e.stream(), stream) || related.test(stream, e.stream())) {
+                    return incident;
+                }
+            }
+        }
+        return null;
+    }
+
+    /** The mutable state of one open incident. */
+    private static final class OpenIncident {
+        final String id;
+        final String replayCommand;
+        final Map<String, IncidentEvidence> episodes = new LinkedHashMap<>();
+        Instant from;
+        Instant to;
+        int revision;
+
+        OpenIncident(String id, String replayCommand) {
+            this.id = id;
+            this.replayCommand = replayCommand;
+        }
+
+        void record(Alert alert) {
+            episodes.put(alert.id(), IncidentEvidence.of(alert));
+            from = from == null || alert.windowStart().isBefore(from) ? alert.windowStart() : from;
+            to = to == null || alert.windowEnd().isAfter(to) ? alert.windowEnd() : to;
+        }
+
+        int openEpisodes() {
+            return (int) episodes.values().stream().filter(IncidentEvidence::open).count();
+        }
+
+        Incident message(IncidentChange change, Alert cause) {
+            revision++;
+            List<String> streams = episodes.values().stream().map(IncidentEvidence::stream).distinct().toList();
+            List<IncidentEvidence> evidence = List.copyOf(episodes.values());
+            String reason = cause.state() + " " + cause.rule() + " (" + cause.subject().label() + ") on "
+                    + cause.stream() + ", episode " + cause.id();
+            return new Incident(id, revision, change, streams, from, to, openEpisodes(), reason, evidence,
+                    IncidentText.compose(id, change, streams, from, to, evidence, reason, replayCommand),
+                    replayCommand);
+        }
+    }
+}
