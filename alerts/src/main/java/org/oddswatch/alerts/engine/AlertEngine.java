@@ -213,7 +213,8 @@ public final class AlertEngine {
     private void cusumReport(WindowEstimate estimate, List<Alert> out) {
         if (scoreCusum != null) {
             for (Reading reading : scoreCusum.report(estimate.windowEnd())) {
-                if (reading.zone() == Zone.UNKNOWN) {
+                if (reading.zone() == Zone.UNKNOWN && reading.events() > 0) {
+                    // a step without new events (inside the baseline period, or a silent stream) is no gap of this rule
                     gaps.unjudged(OddsRatioCusumRule.NAME, GapReason.TOO_FEW_EVENTS, estimate.windowEnd(),
                             reading.detail());
                 }

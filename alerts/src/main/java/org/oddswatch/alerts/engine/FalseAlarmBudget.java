@@ -15,6 +15,7 @@ import org.oddswatch.alerts.engine.AlertRulesConfig.TermLimits;
 import org.oddswatch.alerts.rules.BernoulliCusumRule;
 import org.oddswatch.alerts.rules.CalibrationRule;
 import org.oddswatch.alerts.rules.CusumRunLength;
+import org.oddswatch.alerts.rules.Format;
 import org.oddswatch.alerts.rules.OddsRatioCusumRule;
 import org.oddswatch.alerts.rules.OddsRatioCusumRule.ChartSettings;
 import org.oddswatch.alerts.rules.OddsRatioDriftRule;
@@ -151,9 +152,9 @@ public final class FalseAlarmBudget {
         if (rules.oddsRatioCusum() != null && rules.oddsRatioCusum().limit() == null) {
             left.add("oddsRatioCusum.limit");
         }
-        return String.format(Locale.ROOT, "false-alarm budget: %.4g a year for the monitor, %.4g per stream over %d"
-                + " stream%s (confidence %.2f against the baseline's error); %s", rules.falseAlarmsPerYear(),
-                rules.falseAlarmsPerYear() / Math.max(1, streams), Math.max(1, streams), streams == 1 ? "" : "s",
+        return String.format(Locale.ROOT, "false-alarm budget: %s a year for the monitor, %s per stream over %d"
+                + " stream%s (confidence %.2f against the baseline's error); %s", Format.num(rules.falseAlarmsPerYear()),
+                Format.num(rules.falseAlarmsPerYear() / Math.max(1, streams)), Math.max(1, streams), streams == 1 ? "" : "s",
                 rules.budgetConfidence(), left.isEmpty() ? "every limit is explicit"
                         : String.join(" and ", left) + " derived per stream from its baseline");
     }
@@ -270,23 +271,42 @@ public final class FalseAlarmBudget {
             double k = scoreReference.get(j);
             double shift = Double.isFinite(baselineSteps) && baselineSteps > 0 ? quantile / Math.sqrt(baselineSteps) : 0;
             double target = stepsPerYear / share;
-            double h = CusumRunLength.normalTwoSidedLimit(target, k, shift);
+            String unreached = "";
+            double h;
+            try {
+                h = CusumRunLength.normalTwoSidedLimit(target, k, shift);
+            } catch (IllegalArgumentException e) {
+                // a baseline so short that its error's quantile exceeds k: no limit keeps the guarantee;
+                // take the limit for a known baseline and say so
+                h = CusumRunLength.normalTwoSidedLimit(target, k, 0);
+                unreached = "; NO GUARANTEE: the baseline period is too short for the confidence asked, limit for a"
+                        + " known baseline";
+                shift = 0;
+            }
             scoreCharts.put(j, new ChartSettings(k, h));
             shares.add(new Share(OddsRatioCusumRule.NAME, columns.get(j).label(), "derived", share, h,
                     String.format(Locale.ROOT, "k %.3f; run length >= %.0f steps at an in-control shift of %.3f"
                             + " (its %.0f %% quantile from the baseline's error); %.0f steps with a known baseline",
                             k, target, shift, 100 * rules.budgetConfidence(),
-                            CusumRunLength.normalTwoSided(h, k, 0, CusumRunLength.BUDGET_GRID))));
+                            CusumRunLength.normalTwoSided(h, k, 0, CusumRunLength.BUDGET_GRID)) + unreached));
         }
         if (cusumDerived) {
             double q = quantile / Math.sqrt(baseline.events() * prevalence * (1 - prevalence));
             double target = eventsPerYear / share;
-            double up = bernoulliLimit(target, cusum.up(), prevalence, Math.exp(q));
-            double down = bernoulliLimit(target, cusum.down(), prevalence, Math.exp(-q));
-            cusumLimit = Math.max(up, down);
+            String unreached = "";
+            try {
+                cusumLimit = Math.max(bernoulliLimit(target, cusum.up(), prevalence, Math.exp(q)),
+                        bernoulliLimit(target, cusum.down(), prevalence, Math.exp(-q)));
+            } catch (IllegalArgumentException e) {
+                // too few baseline events for the confidence asked: the limit for a known baseline risk
+                q = 0;
+                cusumLimit = Math.max(bernoulliLimit(target, cusum.up(), prevalence, 1),
+                        bernoulliLimit(target, cusum.down(), prevalence, 1));
+                unreached = "; NO GUARANTEE: too few baseline events for the confidence asked, limit for a known risk";
+            }
             shares.add(new Share(BernoulliCusumRule.UP, "all events", "derived", share, cusumLimit,
                     String.format(Locale.ROOT, "run length >= %.0f events at true odds x%.4f; %.0f events a year",
-                            target, Math.exp(q), eventsPerYear)));
+                            target, Math.exp(q), eventsPerYear) + unreached));
             shares.add(new Share(BernoulliCusumRule.DOWN, "all events", "derived", share, cusumLimit,
                     String.format(Locale.ROOT, "run length >= %.0f events at true odds x%.4f", target, Math.exp(-q))));
         }

@@ -28,9 +28,14 @@ public record CheckReport(String file, List<MonitorFacts> monitors, EventCheck e
      * @param monitors per monitor: every record's outcome for that monitor, streams included
      * @param examples the first record of each reason
      * @param gaps what the sample would leave unmonitored and why, once every window is closed
+     * @param budgets per stream with a baseline, the false-alarm budget's split and the limits it
+     *     derived ({@code FalseAlarmBudget.Share#describe}), in stream order
      */
     public record EventCheck(String input, OutcomeCounts.Snapshot records, List<MonitorCounts> monitors,
-                             Map<String, Example> examples, List<MonitoringGap> gaps) {
+                             Map<String, Example> examples, List<MonitoringGap> gaps, Map<String, List<String>> budgets) {
+        public EventCheck {
+            budgets = budgets == null ? Map.of() : budgets;
+        }
     }
 
     public record MonitorCounts(String monitor, int streams, OutcomeCounts.Snapshot counts) {
@@ -67,6 +72,10 @@ public record CheckReport(String file, List<MonitorFacts> monitors, EventCheck e
                     text.append('\n');
                 }
             }
+            events.budgets().forEach((stream, lines) -> {
+                text.append("limits of stream ").append(stream).append(" (false-alarm budget):\n");
+                lines.forEach(line -> text.append("  ").append(line).append('\n'));
+            });
             appendGaps(text, events.gaps());
         }
         return text.toString();

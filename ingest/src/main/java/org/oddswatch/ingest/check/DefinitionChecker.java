@@ -9,6 +9,7 @@ import java.util.List;
 import java.util.Map;
 import java.util.TreeMap;
 import org.oddswatch.alerts.engine.AlertRulesConfig;
+import org.oddswatch.alerts.engine.FalseAlarmBudget;
 import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.estimator.terms.Term;
 import org.oddswatch.ingest.definition.DefinitionException;
@@ -94,7 +95,8 @@ public final class DefinitionChecker {
             monitors.add(new CheckReport.MonitorCounts(monitor.monitor(), monitor.streams(), counts));
         }
         return new CheckReport(config.file(), facts(config),
-                new CheckReport.EventCheck(events.toString(), snapshot.totals(), monitors, examples, gaps));
+                new CheckReport.EventCheck(events.toString(), snapshot.totals(), monitors, examples, gaps,
+                        pipeline.budgetSplits()));
     }
 
     /** Duplicates are not sent to rejects; keep their first line as an example too. */
@@ -110,8 +112,9 @@ public final class DefinitionChecker {
         for (MonitorDefinition monitor : config.monitors()) {
             List<String> watched = monitor.terms().stream().map(TermSpec::term).filter(Term::watched)
                     .map(Term::name).toList();
-            List<String> rules = monitor.rules().switches().stream().map(AlertRulesConfig.RuleSwitch::describe)
-                    .toList();
+            List<String> rules = new ArrayList<>(monitor.rules().switches().stream()
+                    .map(AlertRulesConfig.RuleSwitch::describe).toList());
+            rules.add(FalseAlarmBudget.describe(monitor.rules(), monitor.split() == null ? 1 : monitor.split().maxStreams()));
             facts.add(new CheckReport.MonitorFacts(monitor.name(), monitor.topic(), monitor.terms().size(), watched,
                     monitor.designCoder().width(), monitor.checksum(), rules, monitor.notices()));
         }

@@ -218,6 +218,11 @@ final class StreamState {
         return gaps;
     }
 
+    /** The stream's false-alarm budget and derived limits, or null while it has no alert engine. */
+    org.oddswatch.alerts.engine.FalseAlarmBudget budget() {
+        return baseline.budget();
+    }
+
     StreamStatus status() {
         WindowEstimate lastFinal = windows.lastFinal();
         BaselineModel model = baseline.model();

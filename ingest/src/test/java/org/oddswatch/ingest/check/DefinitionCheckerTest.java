@@ -37,6 +37,9 @@ class DefinitionCheckerTest {
         // intercept + 2 binary + 3 age-band indicators + 1 sex indicator
         assertEquals(7, report.monitors().get(0).designColumns());
         assertTrue(report.describe().contains("respiratory: topic clinic-tests"), report.describe());
+        assertTrue(report.describe().contains("      false-alarm budget: 1.000 a year for the monitor, 0.125 per stream over 8 streams"
+                + " (confidence 0.90 against the baseline's error); cusum.limit and oddsRatioCusum.limit derived per"
+                + " stream from its baseline\n"), report.describe());
     }
 
     @Test
@@ -92,7 +95,10 @@ class DefinitionCheckerTest {
         CheckReport.MonitorFacts facts = report.monitors().get(0);
         assertEquals(List.of("odds-ratio-drift: on (needs a baseline)", "odds-ratio-bounds: on",
                 "calibration: on (needs a baseline)",
-                "bernoulli-cusum: off [switched-off]: switched off in the definition (rules.cusum.enabled: false)"),
+                "bernoulli-cusum: off [switched-off]: switched off in the definition (rules.cusum.enabled: false)",
+                "odds-ratio-cusum: on (needs a baseline)",
+                "false-alarm budget: 1.000 a year for the monitor, 1.000 per stream over 1 stream (confidence 0.90 against the"
+                        + " baseline's error); oddsRatioCusum.limit derived per stream from its baseline"),
                 facts.rules());
         assertEquals(2, facts.notices().size(), "drift and calibration are not listed: " + facts.notices());
         assertEquals(GapScenario.EXPECTED, GapScenario.keys(report.events().gaps()));
@@ -101,7 +107,7 @@ class DefinitionCheckerTest {
         assertTrue(text.contains("    rules:\n      odds-ratio-drift: on (needs a baseline)\n"), text);
         assertTrue(text.contains("    note: monitors[0].rules.oddsRatioDrift is not listed, so it runs with its "
                 + "defaults"), text);
-        assertTrue(text.contains("not monitored (7):\n  clinic: no baseline in use [baseline-failed]: cannot fit a "
+        assertTrue(text.contains("not monitored (8):\n  clinic: no baseline in use [baseline-failed]: cannot fit a "
                 + "baseline model"), text);
         assertTrue(text.contains("  clinic: term smoker missing from every event [term-missing]"), text);
         assertTrue(text.contains("  clinic: rule bernoulli-cusum not running [switched-off]"), text);
