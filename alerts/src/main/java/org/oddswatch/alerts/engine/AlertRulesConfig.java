@@ -91,6 +91,17 @@ public record AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsR
                         "it runs only on bounds the definition gives (oddsRatioBounds.terms)"));
         list.add(toggle(CalibrationRule.NAME, calibration != null, true, "calibration"));
         list.add(toggle(CUSUM, cusum != null, true, "cusum"));
+        return list;
+    }
+
+    /**
+     * {@link #switches()} and the step-score CUSUM's switch ({@code check} lists them all). The step
+     * CUSUM is kept out of {@link #switches()}, which the monitoring-gap lists are built from: a
+     * stream without a baseline already shows that nothing compared with a baseline runs, and the
+     * windows it does not judge are listed under its own name.
+     */
+    public List<RuleSwitch> allSwitches() {
+        List<RuleSwitch> list = new ArrayList<>(switches());
         list.add(toggle(OddsRatioCusumRule.NAME, oddsRatioCusum != null, true, "oddsRatioCusum"));
         return list;
     }

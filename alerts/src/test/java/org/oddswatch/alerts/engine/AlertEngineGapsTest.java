@@ -25,13 +25,11 @@ class AlertEngineGapsTest {
                 AlertRulesConfig.defaults().calibration(), null);
         AlertEngine engine = new AlertEngine(Fixtures.STREAM, cusumOff, null, null);
         assertEquals(List.of("rule|odds-ratio-drift|baseline-failed|null", "rule|odds-ratio-bounds|not-configured|null",
-                "rule|calibration|baseline-failed|null", "rule|bernoulli-cusum|switched-off|null",
-                "rule|odds-ratio-cusum|switched-off|null"),
+                "rule|calibration|baseline-failed|null", "rule|bernoulli-cusum|switched-off|null"),
                 keys(engine.gaps(GapReason.BASELINE_FAILED, "no positives")));
         assertEquals("no positives", engine.gaps(GapReason.BASELINE_FAILED, "no positives").get(0).detail());
         AlertEngine withBaseline = new AlertEngine(Fixtures.STREAM, cusumOff, Fixtures.baseline(), null);
-        assertEquals(List.of("rule|odds-ratio-bounds|not-configured|null", "rule|bernoulli-cusum|switched-off|null",
-                "rule|odds-ratio-cusum|switched-off|null"),
+        assertEquals(List.of("rule|odds-ratio-bounds|not-configured|null", "rule|bernoulli-cusum|switched-off|null"),
                 keys(withBaseline.gaps(null, null)), "the baseline's rules run");
     }
 
@@ -57,17 +55,16 @@ class AlertEngineGapsTest {
                 null));
         List<MonitoringGap> gaps = engine.gaps(null, null);
         assertEquals(List.of("rule|odds-ratio-bounds|not-configured|null", "rule|calibration|switched-off|null",
-                "rule|bernoulli-cusum|switched-off|null", "rule|odds-ratio-cusum|switched-off|null",
-                "windows|odds-ratio-drift|fit-unusable|1",
+                "rule|bernoulli-cusum|switched-off|null", "windows|odds-ratio-drift|fit-unusable|1",
                 "windows|odds-ratio-drift|too-few-events|2", "windows|odds-ratio-drift|no-fit|1"), keys(gaps));
         // the guard's minimum is 100 events (the default): 99 is refused, 100 judged
         assertEquals("50 events, fewer than the minimum 100 (newest: the window ending 2026-05-04T00:00:00Z)",
-                gaps.get(5).detail());
+                gaps.get(4).detail());
         assertEquals("respiratory-north: 2 final window(s) not judged by odds-ratio-drift [too-few-events]: 50 events, "
-                + "fewer than the minimum 100 (newest: the window ending 2026-05-04T00:00:00Z)", gaps.get(5).describe());
+                + "fewer than the minimum 100 (newest: the window ending 2026-05-04T00:00:00Z)", gaps.get(4).describe());
         String report = ReplayReport.render(List.of(), List.of(), gaps, "t");
         assertTrue(report.contains("\n## Not monitored\n\n"), report);
-        assertTrue(report.contains("- " + gaps.get(4).describe() + "\n"), report);
+        assertTrue(report.contains("- " + gaps.get(3).describe() + "\n"), report);
         assertTrue(!ReplayReport.render(List.of(), List.of(), "t").contains("Not monitored"), "no list, no section");
     }
 }

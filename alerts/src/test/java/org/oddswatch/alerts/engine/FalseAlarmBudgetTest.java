@@ -120,4 +120,20 @@ class FalseAlarmBudgetTest {
         assertTrue(b.overspent());
         assertEquals(0.05 / 4, b.shares().get(3).perYear(), 1e-12, "a tenth of the stream's share is left for the rest");
     }
+
+    @Test
+    void theEngineRunsTheDerivedLimits() {
+        AlertRulesConfig rules = rules(3.0, null);
+        WindowGeometry grid = new WindowGeometry(4 * WEEK, WEEK, 0, 0);
+        AlertEngine engine = new AlertEngine("s", rules, baseline(), null, grid,
+                org.oddswatch.alerts.privacy.SmallCellPolicy.DEFAULT, 4);
+        FalseAlarmBudget expected = FalseAlarmBudget.derive(rules, baseline(), grid, 4);
+        assertEquals(expected.shares(), engine.budget().shares());
+        assertTrue(engine.cusumReadings().stream().allMatch(r -> r.limit() == expected.cusumLimit()),
+                "the Bernoulli charts run with h = " + expected.cusumLimit());
+        // a split of 1 stream gets four times the share, so lower limits
+        FalseAlarmBudget alone = FalseAlarmBudget.derive(rules, baseline(), grid, 1);
+        assertTrue(alone.cusumLimit() < expected.cusumLimit());
+        assertTrue(alone.scoreCharts().get(1).limit() < expected.scoreCharts().get(1).limit());
+    }
 }

@@ -112,7 +112,7 @@ public final class DefinitionChecker {
         for (MonitorDefinition monitor : config.monitors()) {
             List<String> watched = monitor.terms().stream().map(TermSpec::term).filter(Term::watched)
                     .map(Term::name).toList();
-            List<String> rules = new ArrayList<>(monitor.rules().switches().stream()
+            List<String> rules = new ArrayList<>(monitor.rules().allSwitches().stream()
                     .map(AlertRulesConfig.RuleSwitch::describe).toList());
             rules.add(FalseAlarmBudget.describe(monitor.rules(), monitor.split() == null ? 1 : monitor.split().maxStreams()));
             facts.add(new CheckReport.MonitorFacts(monitor.name(), monitor.topic(), monitor.terms().size(), watched,

@@ -107,7 +107,7 @@ class DefinitionCheckerTest {
         assertTrue(text.contains("    rules:\n      odds-ratio-drift: on (needs a baseline)\n"), text);
         assertTrue(text.contains("    note: monitors[0].rules.oddsRatioDrift is not listed, so it runs with its "
                 + "defaults"), text);
-        assertTrue(text.contains("not monitored (8):\n  clinic: no baseline in use [baseline-failed]: cannot fit a "
+        assertTrue(text.contains("not monitored (7):\n  clinic: no baseline in use [baseline-failed]: cannot fit a "
                 + "baseline model"), text);
         assertTrue(text.contains("  clinic: term smoker missing from every event [term-missing]"), text);
         assertTrue(text.contains("  clinic: rule bernoulli-cusum not running [switched-off]"), text);

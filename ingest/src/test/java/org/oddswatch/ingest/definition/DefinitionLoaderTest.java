@@ -299,8 +299,7 @@ class DefinitionLoaderTest {
         assertEquals(List.of("odds-ratio-drift: on (needs a baseline)",
                 "odds-ratio-bounds: off [not-configured]: it runs only on bounds the definition gives (oddsRatioBounds.terms)",
                 "calibration: off [switched-off]: switched off in the definition (rules.calibration.enabled: false)",
-                "bernoulli-cusum: off [switched-off]: switched off in the definition (rules.cusum.enabled: false)",
-                "odds-ratio-cusum: on (needs a baseline)"),
+                "bernoulli-cusum: off [switched-off]: switched off in the definition (rules.cusum.enabled: false)"),
                 rules.switches().stream().map(AlertRulesConfig.RuleSwitch::describe).toList());
 
         DefinitionException notBoolean = error(VALID.replace("  - name: south",

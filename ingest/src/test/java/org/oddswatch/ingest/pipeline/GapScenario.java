@@ -28,7 +28,6 @@ public final class GapScenario {
             "rule|odds-ratio-drift|baseline-failed",
             "rule|calibration|baseline-failed",
             "rule|bernoulli-cusum|switched-off",
-            "rule|odds-ratio-cusum|baseline-failed",
             "windows|odds-ratio-bounds|no-fit",
             "windows|null|baseline-period",
             "term|smoker|term-missing");

@@ -421,8 +421,8 @@ class ReplayRunnerTest {
         assertEquals("baseline-failed", written.path("gaps").get(0).path("reason").asText());
         assertEquals(stream.baselineNote(), written.path("gaps").get(0).path("detail").asText());
         assertEquals("switched-off", written.path("gaps").get(3).path("reason").asText());
-        assertEquals("smoker", written.path("gaps").get(7).path("subject").asText());
-        assertEquals("term-missing", written.path("gaps").get(7).path("reason").asText());
+        assertEquals("smoker", written.path("gaps").get(6).path("subject").asText());
+        assertEquals("term-missing", written.path("gaps").get(6).path("reason").asText());
 
         String report = Files.readString(dir.resolve("gaps").resolve("report.md"));
         String section = report.substring(report.indexOf("## Not monitored"), report.indexOf("## Stream clinic"));
