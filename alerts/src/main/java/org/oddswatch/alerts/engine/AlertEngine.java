@@ -24,6 +24,7 @@ import org.oddswatch.alerts.rules.Format;
 import org.oddswatch.alerts.rules.InformationGuard;
 import org.oddswatch.alerts.rules.Measurement;
 import org.oddswatch.alerts.rules.OddsRatioBoundsRule;
+import org.oddswatch.alerts.rules.OddsRatioCusumRule;
 import org.oddswatch.alerts.rules.OddsRatioDriftRule;
 import org.oddswatch.alerts.rules.Reading;
 import org.oddswatch.alerts.rules.WindowRule;
@@ -52,6 +53,8 @@ public final class AlertEngine {
     private final ReplayHint replay;
     private final List<WindowRule> windowRules = new ArrayList<>();
     private final BernoulliCusumRule cusum;
+    private final OddsRatioCusumRule scoreCusum;
+    private final FalseAlarmBudget budget;
     private final EpisodeTracker tracker;
     private final Map<String, Alert> lastByKey = new LinkedHashMap<>();
     private final long baselineFrom;
@@ -78,6 +81,16 @@ public final class AlertEngine {
      */
     public AlertEngine(String stream, AlertRulesConfig rules, BaselineModel baseline, ReplayHint replay,
                        WindowGeometry grid, SmallCellPolicy cells) {
+        this(stream, rules, baseline, replay, grid, cells, 1);
+    }
+
+    /**
+     * @param streams the monitor's streams its false-alarm budget is shared by (its split's
+     *     {@code maxStreams}, 1 without a split); limits the definition leaves out come from
+     *     {@link FalseAlarmBudget}
+     */
+    public AlertEngine(String stream, AlertRulesConfig rules, BaselineModel baseline, ReplayHint replay,
+                       WindowGeometry grid, SmallCellPolicy cells, int streams) {
         this.stream = stream;
         this.baseline = baseline;
         this.replay = replay == null ? new ReplayHint(null, null, null) : replay;
@@ -96,10 +109,20 @@ public final class AlertEngine {
             windowRules.add(new CalibrationRule(r.calibration(),
                     gaps.guard(CalibrationRule.NAME, r.guardFor(r.calibration().guard()))));
         }
+        this.budget = baseline == null ? null : FalseAlarmBudget.derive(r, baseline, grid, streams);
         cusum = baseline != null && r.cusum() != null
-                ? new BernoulliCusumRule(r.cusum(), new InformationGuard(r.guardFor(r.cusum().guard())), baseline,
-                        grid, cells)
+                ? new BernoulliCusumRule(AlertRulesConfig.withLimit(r.cusum(), budget.cusumLimit()),
+                        new InformationGuard(r.guardFor(r.cusum().guard())), baseline, grid, cells)
                 : null;
+        if (baseline != null && r.oddsRatioCusum() != null && !budget.scoreCharts().isEmpty()) {
+            List<Integer> columns = new ArrayList<>(budget.scoreCharts().keySet());
+            columns.sort(null);
+            scoreCusum = new OddsRatioCusumRule(baseline, columns, columns.stream().map(budget.scoreCharts()::get).toList(),
+                    gaps.guard(OddsRatioCusumRule.NAME, r.guardFor(r.oddsRatioCusum().guard())),
+                    r.oddsRatioCusum().clearAfter(), r.oddsRatioCusum().clearFraction());
+        } else {
+            scoreCusum = null;
+        }
         baselineFrom = baseline == null ? Long.MAX_VALUE : parse(baseline.periodStart(), Long.MAX_VALUE);
         baselineTo = baseline == null ? Long.MIN_VALUE : parse(baseline.periodEnd(), Long.MIN_VALUE);
     }
@@ -188,6 +211,16 @@ public final class AlertEngine {
     }
 
     private void cusumReport(WindowEstimate estimate, List<Alert> out) {
+        if (scoreCusum != null) {
+            for (Reading reading : scoreCusum.report(estimate.windowEnd())) {
+                if (reading.zone() == Zone.UNKNOWN && reading.events() > 0) {
+                    // a step without new events (inside the baseline period, or a silent stream) is no gap of this rule
+                    gaps.unjudged(OddsRatioCusumRule.NAME, GapReason.TOO_FEW_EVENTS, estimate.windowEnd(),
+                            reading.detail());
+                }
+                publishable(reading, out);
+            }
+        }
         if (cusum != null) {
             for (Reading reading : cusum.report(estimate.windowEnd())) {
                 publishable(reading, out);
@@ -226,10 +259,20 @@ public final class AlertEngine {
      * @param row the coded design row (intercept first)
      */
     public void onEvent(long eventTimeMillis, String id, double[] row, boolean positive) {
-        if (cusum == null || (eventTimeMillis >= baselineFrom && eventTimeMillis < baselineTo)) {
+        if (eventTimeMillis >= baselineFrom && eventTimeMillis < baselineTo) {
             return;
         }
-        cusum.offer(eventTimeMillis, id, row, positive);
+        if (cusum != null) {
+            cusum.offer(eventTimeMillis, id, row, positive);
+        }
+        if (scoreCusum != null) {
+            scoreCusum.offer(eventTimeMillis, id, row, positive);
+        }
+    }
+
+    /** How the false-alarm budget was split and the limits it gave this stream (null without a baseline). */
+    public FalseAlarmBudget budget() {
+        return budget;
     }
 
     /** Current CUSUM chart values (empty without a CUSUM), for meters. */

@@ -7,6 +7,7 @@ import java.util.Objects;
 import org.oddswatch.alerts.gaps.GapReason;
 import org.oddswatch.alerts.rules.CalibrationRule;
 import org.oddswatch.alerts.rules.OddsRatioBoundsRule;
+import org.oddswatch.alerts.rules.OddsRatioCusumRule;
 import org.oddswatch.alerts.rules.OddsRatioDriftRule;
 import org.oddswatch.estimator.fit.FitState;
 
@@ -23,12 +24,30 @@ import org.oddswatch.estimator.fit.FitState;
  * @param oddsRatioBounds interval of a watched odds ratio wholly beyond fixed bounds
  * @param calibration observed/expected, calibration slope and Hosmer–Lemeshow of the baseline model
  * @param cusum risk-adjusted Bernoulli CUSUM of each event against the baseline model
+ * @param oddsRatioCusum two-sided CUSUM of each step's score statistic for each watched coefficient
+ * @param falseAlarmsPerYear the false alarms a year the monitor tolerates across all its streams and
+ *     rules (default 1); {@link FalseAlarmBudget} derives every limit the definition leaves out from it
+ * @param budgetConfidence the probability with which each derived limit keeps its share of the budget
+ *     despite the baseline's estimation error (default 0.9; Gandy &amp; Kvaløy 2013)
  */
 public record AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsRatioBounds oddsRatioBounds,
-                               Calibration calibration, Cusum cusum) {
+                               Calibration calibration, Cusum cusum, OddsRatioCusum oddsRatioCusum,
+                               Double falseAlarmsPerYear, Double budgetConfidence) {
 
     public AlertRulesConfig {
         guard = guard == null ? new Guard(null, null, null) : guard;
+        falseAlarmsPerYear = falseAlarmsPerYear == null ? 1.0 : falseAlarmsPerYear;
+        budgetConfidence = budgetConfidence == null ? 0.9 : budgetConfidence;
+        requirePositive("falseAlarmsPerYear", falseAlarmsPerYear);
+        if (!(budgetConfidence >= 0.5 && budgetConfidence < 1)) {
+            throw new IllegalArgumentException("budgetConfidence must be in [0.5, 1), got " + budgetConfidence);
+        }
+    }
+
+    /** The rules without the step-score CUSUM, with the default budget (the settings of earlier versions). */
+    public AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsRatioBounds oddsRatioBounds,
+                            Calibration calibration, Cusum cusum) {
+        this(guard, oddsRatioDrift, oddsRatioBounds, calibration, cusum, null, null, null);
     }
 
     /**
@@ -37,7 +56,8 @@ public record AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsR
      */
     public static AlertRulesConfig defaults() {
         return new AlertRulesConfig(null, new OddsRatioDrift(null, null, null, null, null, null), null,
-                new Calibration(null, null, null, null, null, null, null), new Cusum(null, null, null, null, null, null, null));
+                new Calibration(null, null, null, null, null, null, null), new Cusum(null, null, null, null, null, null, null),
+                new OddsRatioCusum(null, null, null, null, null, null, null), null, null);
     }
 
     /** The CUSUM's name as one rule (its charts raise {@code bernoulli-cusum-up} and {@code -down}). */
@@ -71,6 +91,18 @@ public record AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsR
                         "it runs only on bounds the definition gives (oddsRatioBounds.terms)"));
         list.add(toggle(CalibrationRule.NAME, calibration != null, true, "calibration"));
         list.add(toggle(CUSUM, cusum != null, true, "cusum"));
+        return list;
+    }
+
+    /**
+     * {@link #switches()} and the step-score CUSUM's switch ({@code check} lists them all). The step
+     * CUSUM is kept out of {@link #switches()}, which the monitoring-gap lists are built from: a
+     * stream without a baseline already shows that nothing compared with a baseline runs, and the
+     * windows it does not judge are listed under its own name.
+     */
+    public List<RuleSwitch> allSwitches() {
+        List<RuleSwitch> list = new ArrayList<>(switches());
+        list.add(toggle(OddsRatioCusumRule.NAME, oddsRatioCusum != null, true, "oddsRatioCusum"));
         return list;
     }
 
@@ -253,7 +285,8 @@ public record AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsR
      *
      * @param up odds multiplier the upper chart is tuned to detect, &gt; 1 (default 1.5)
      * @param down odds multiplier of the lower chart, &lt; 1 (default 1/1.5)
-     * @param limit decision limit h of both charts (default 8.0)
+     * @param limit decision limit h of both charts (default: derived from the false-alarm budget, see
+     *     {@link FalseAlarmBudget}; 8.0 where it cannot be derived)
      * @param clearAfter final windows in a row without a signal, each closing with the chart below
      *     {@code clearFraction · limit}, to clear an open episode (default 2)
      * @param clearFraction the clear limit as a share of h, in (0, 1) (default 0.5)
@@ -266,7 +299,6 @@ public record AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsR
         public Cusum {
             up = up == null ? 1.5 : up;
             down = down == null ? 1.0 / 1.5 : down;
-            limit = limit == null ? 8.0 : limit;
             clearAfter = clearAfter == null ? 2 : clearAfter;
             clearFraction = clearFraction == null ? 0.5 : clearFraction;
             terms = terms == null ? List.of() : List.copyOf(terms);
@@ -276,10 +308,63 @@ public record AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsR
             if (!(down > 0 && down < 1)) {
                 throw new IllegalArgumentException("cusum.down must be an odds multiplier in (0, 1)");
             }
-            requirePositive("cusum.limit", limit);
+            if (limit != null) {
+                requirePositive("cusum.limit", limit);
+            }
             requireAtLeast("cusum.clearAfter", clearAfter, 1);
             if (!(clearFraction > 0 && clearFraction < 1)) {
                 throw new IllegalArgumentException("cusum.clearFraction must be in (0, 1), got " + clearFraction);
+            }
+        }
+    }
+
+    /** The limit used where the budget cannot derive one (no baseline event rate): the earlier fixed default. */
+    public static final double CUSUM_FALLBACK_LIMIT = 8.0;
+
+    /**
+     * The {@code cusum} section with its limit in place: the given one, else {@code derived}.
+     */
+    public static Cusum withLimit(Cusum c, double derived) {
+        return c.limit() != null ? c : new Cusum(c.up(), c.down(), derived, c.clearAfter(), c.clearFraction(),
+                c.terms(), c.guard());
+    }
+
+    /**
+     * Two-sided CUSUM of the score statistic of each watched coefficient on each step's new events
+     * ({@code OddsRatioCusumRule}).
+     *
+     * @param designOddsRatio the change of the watched odds ratio the chart is tuned to, as a factor
+     *     (default 2; 1/2 is the same design): k is half of {@code |ln designOddsRatio|} in a step's
+     *     standard errors, as the baseline predicts them
+     * @param reference k itself, in standard-error units (overrides {@code designOddsRatio})
+     * @param limit decision limit h (default: derived from the false-alarm budget); a term entry's
+     *     {@code limit} wins for that term
+     * @param clearAfter final windows in a row without a signal, both sides below
+     *     {@code clearFraction · h}, to clear (default 2)
+     * @param clearFraction the clear limit as a share of h, in (0, 1) (default 0.5)
+     * @param terms which watched terms (default every watched column of the baseline)
+     * @param guard {@code minEvents}: new events a step needs to be judged
+     */
+    public record OddsRatioCusum(Double designOddsRatio, Double reference, Double limit, Integer clearAfter,
+                                 Double clearFraction, List<TermLimits> terms, Guard guard) {
+        public OddsRatioCusum {
+            designOddsRatio = designOddsRatio == null ? 2.0 : designOddsRatio;
+            clearAfter = clearAfter == null ? 2 : clearAfter;
+            clearFraction = clearFraction == null ? 0.5 : clearFraction;
+            terms = terms == null ? List.of() : List.copyOf(terms);
+            requirePositive("oddsRatioCusum.designOddsRatio", designOddsRatio);
+            if (designOddsRatio == 1.0) {
+                throw new IllegalArgumentException("oddsRatioCusum.designOddsRatio must differ from 1");
+            }
+            if (reference != null && !(reference >= 0 && reference < 10)) {
+                throw new IllegalArgumentException("oddsRatioCusum.reference must be in [0, 10), got " + reference);
+            }
+            if (limit != null) {
+                requirePositive("oddsRatioCusum.limit", limit);
+            }
+            requireAtLeast("oddsRatioCusum.clearAfter", clearAfter, 1);
+            if (!(clearFraction > 0 && clearFraction < 1)) {
+                throw new IllegalArgumentException("oddsRatioCusum.clearFraction must be in (0, 1), got " + clearFraction);
             }
         }
     }

@@ -5,6 +5,7 @@ import java.util.ArrayList;
 import java.util.Comparator;
 import java.util.List;
 import java.util.PriorityQueue;
+import org.oddswatch.alerts.engine.AlertRulesConfig;
 import org.oddswatch.alerts.engine.AlertRulesConfig.Cusum;
 import org.oddswatch.alerts.engine.AlertRulesConfig.TermLimits;
 import org.oddswatch.alerts.lifecycle.AlertSubject;
@@ -100,10 +101,12 @@ public final class BernoulliCusumRule {
         }
     }
 
+    /** A section without a limit (one the budget derives) runs here with the fixed fallback. */
     private void addPair(AlertSubject subject, int column, Cusum settings) {
-        charts.add(new BernoulliChart(UP, subject, column, settings.up(), settings.limit(), minEvents, clearAfter,
+        double h = settings.limit() == null ? AlertRulesConfig.CUSUM_FALLBACK_LIMIT : settings.limit();
+        charts.add(new BernoulliChart(UP, subject, column, settings.up(), h, minEvents, clearAfter,
                 clearFraction, cells, grid));
-        charts.add(new BernoulliChart(DOWN, subject, column, settings.down(), settings.limit(), minEvents, clearAfter,
+        charts.add(new BernoulliChart(DOWN, subject, column, settings.down(), h, minEvents, clearAfter,
                 clearFraction, cells, grid));
     }
 

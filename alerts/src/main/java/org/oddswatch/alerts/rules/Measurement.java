@@ -25,6 +25,8 @@ public record Measurement(String measure, Double value, Side side) {
     public static final String HOSMER_LEMESHOW_P = "hosmer-lemeshow-p";
     /** Risk-adjusted Bernoulli CUSUM: cumulative log-likelihood ratio of the chart. */
     public static final String CUSUM_LLR = "cusum-log-likelihood-ratio";
+    /** Two-sided CUSUM of each step's score statistic for a watched coefficient ({@code OddsRatioCusumRule}). */
+    public static final String ODDS_RATIO_CUSUM = "odds-ratio-score-cusum";
 
     /** Where a value lies relative to a limit; {@link #toString()} is the JSON label. */
     public enum Side {
@@ -59,12 +61,13 @@ public record Measurement(String measure, Double value, Side side) {
             case CALIBRATION_SLOPE -> "the calibration slope";
             case HOSMER_LEMESHOW_P -> "the Hosmer-Lemeshow p-value";
             case CUSUM_LLR -> "the CUSUM log-likelihood ratio";
+            case ODDS_RATIO_CUSUM -> "the CUSUM of the odds ratio's step scores";
             default -> measure;
         };
     }
 
     /** The value formatted for its measure: two decimals for z and chart statistics, else three significant decimals. */
     public static String format(String measure, Double value) {
-        return ODDS_RATIO_Z.equals(measure) || CUSUM_LLR.equals(measure) ? Format.stat(value) : Format.num(value);
+        return ODDS_RATIO_Z.equals(measure) || CUSUM_LLR.equals(measure) || ODDS_RATIO_CUSUM.equals(measure) ? Format.stat(value) : Format.num(value);
     }
 }

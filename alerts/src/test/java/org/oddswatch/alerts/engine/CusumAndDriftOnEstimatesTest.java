@@ -63,7 +63,8 @@ class CusumAndDriftOnEstimatesTest {
 
     @Test
     void cusumValuesAreTheChartsAtEachWindowEnd() {
-        AlertRulesConfig.Cusum settings = AlertRulesConfig.defaults().cusum();
+        // an explicit h (the default limit is derived from the false-alarm budget)
+        AlertRulesConfig.Cusum settings = AlertRulesConfig.withLimit(AlertRulesConfig.defaults().cusum(), 8.0);
         BaselineModel model = Fixtures.baseline();
         AlertEngine engine = new AlertEngine(Fixtures.STREAM, new AlertRulesConfig(null, null, null, null, settings),
                 model, null);

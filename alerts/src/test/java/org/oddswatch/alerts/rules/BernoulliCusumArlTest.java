@@ -6,6 +6,7 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 import java.util.List;
 import java.util.SplittableRandom;
 import org.junit.jupiter.api.Test;
+import org.oddswatch.alerts.engine.AlertRulesConfig;
 import org.oddswatch.alerts.engine.AlertRulesConfig.Cusum;
 import org.oddswatch.alerts.engine.AlertRulesConfig.Guard;
 import org.oddswatch.estimator.calibration.BaselineModel;
@@ -86,47 +87,49 @@ class BernoulliCusumArlTest {
     @Test
     void markovChainConvergesWithTheGrid() {
         // Source: Brook & Evans 1972; the chain's answer must not depend on the grid once it is fine.
-        double coarse = BrookEvans.bernoulli(3, 2, SHARE, RISK, 1, 500);
-        double fine = BrookEvans.bernoulli(3, 2, SHARE, RISK, 1, 1000);
+        double coarse = CusumRunLength.bernoulli(3, 2, SHARE, RISK, 1, 500);
+        double fine = CusumRunLength.bernoulli(3, 2, SHARE, RISK, 1, 1000);
         assertEquals(fine, coarse, 0.005 * fine);
     }
 
     @Test
     void inControlRunLengthOfTheUpperChart() {
         // Source: Brook & Evans (1972) Markov chain (written in BrookEvans, independent of the chart code)
-        double markov = BrookEvans.bernoulli(3, 2, SHARE, RISK, 1, 1000);
+        double markov = CusumRunLength.bernoulli(3, 2, SHARE, RISK, 1, 1000);
         assertTrue(markov > 1000 && markov < 2000, "sanity: " + markov);
         assertAgrees(markov, simulate(BernoulliCusumRule.UP, 3, 2, 1, 400, 20260401L), "ARL0 up, h=3, R=2");
     }
 
     @Test
     void shiftedRunLengthOfTheUpperChart() {
-        double markov = BrookEvans.bernoulli(3, 2, SHARE, RISK, 2, 1000);
+        double markov = CusumRunLength.bernoulli(3, 2, SHARE, RISK, 2, 1000);
         assertAgrees(markov, simulate(BernoulliCusumRule.UP, 3, 2, 2, 1500, 20260402L), "ARL1 up, odds doubled");
     }
 
     @Test
     void runLengthsOfTheLowerChart() {
-        double inControl = BrookEvans.bernoulli(3, 0.5, SHARE, RISK, 1, 1000);
+        double inControl = CusumRunLength.bernoulli(3, 0.5, SHARE, RISK, 1, 1000);
         assertAgrees(inControl, simulate(BernoulliCusumRule.DOWN, 3, 0.5, 1, 300, 20260403L), "ARL0 down");
-        double halved = BrookEvans.bernoulli(3, 0.5, SHARE, RISK, 0.5, 1000);
+        double halved = CusumRunLength.bernoulli(3, 0.5, SHARE, RISK, 0.5, 1000);
         assertAgrees(halved, simulate(BernoulliCusumRule.DOWN, 3, 0.5, 0.5, 1500, 20260404L), "ARL1 down, odds halved");
     }
 
     @Test
     void defaultLimitsKeepFalseAlarmsRareAtTheReferenceLoad() {
-        // The defaults' reference load (alerts/README.md): 2000 events a week, 5% prevalence. R_up 1.5, R_down 1/1.5, h 8.
-        Cusum d = new Cusum(null, null, null, null, null, null, null);
+        // The reference load (alerts/README.md): 2000 events a week, 5% prevalence. R_up 1.5, R_down 1/1.5, and
+        // h 8, the limit used where the budget cannot derive one (and the fixed default before the budget).
+        Cusum d = AlertRulesConfig.withLimit(new Cusum(null, null, null, null, null, null, null),
+                AlertRulesConfig.CUSUM_FALLBACK_LIMIT);
         double[] share = {1.0};
         double[] risk = {0.05};
-        double up = BrookEvans.bernoulli(d.limit(), d.up(), share, risk, 1, 1000);
-        double down = BrookEvans.bernoulli(d.limit(), d.down(), share, risk, 1, 1000);
+        double up = CusumRunLength.bernoulli(d.limit(), d.up(), share, risk, 1, 1000);
+        double down = CusumRunLength.bernoulli(d.limit(), d.down(), share, risk, 1, 1000);
         double falseAlarmsPerYear = 2000 * 52 * (1 / up + 1 / down);
         System.out.printf("defaults: ARL0 up %.0f, down %.0f events; %.3f false alarms a year at 104,000 events%n", up, down,
                 falseAlarmsPerYear);
         assertTrue(falseAlarmsPerYear < 0.5, "CUSUM false alarms per year at defaults: " + falseAlarmsPerYear);
         // A 30% rise in prevalence (5% -> 6.5%, odds x 1.32) is signalled within about two weeks on average.
-        double shifted = BrookEvans.bernoulli(d.limit(), d.up(), share, risk, (0.065 / 0.935) / (0.05 / 0.95), 1000);
+        double shifted = CusumRunLength.bernoulli(d.limit(), d.up(), share, risk, (0.065 / 0.935) / (0.05 / 0.95), 1000);
         System.out.printf("defaults: ARL after a 30%% prevalence rise %.0f events%n", shifted);
         assertTrue(shifted < 2 * 2000, "ARL after a 30% prevalence rise: " + shifted);
     }

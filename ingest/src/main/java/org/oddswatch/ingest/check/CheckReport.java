@@ -3,6 +3,7 @@ package org.oddswatch.ingest.check;
 import java.util.List;
 import java.util.Map;
 import org.oddswatch.alerts.engine.AlertRulesConfig;
+import org.oddswatch.alerts.engine.FalseAlarmBudget;
 import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 import org.oddswatch.ingest.pipeline.OutcomeCounts;
@@ -15,9 +16,11 @@ import org.oddswatch.ingest.pipeline.OutcomeCounts;
  * @param monitors per monitor: every record's outcome for that monitor, streams included
  * @param examples the first record of each reason
  * @param gaps what the sample would leave unmonitored and why, once every window is closed
+ * @param budgets per stream with a baseline, the false-alarm budget's split and the limits it derived
+ *     ({@code FalseAlarmBudget.Share#describe}), in stream order
  */
 public record CheckReport(String input, OutcomeCounts.Snapshot records, List<MonitorCounts> monitors,
-                          Map<String, Example> examples, List<MonitoringGap> gaps) {
+                          Map<String, Example> examples, List<MonitoringGap> gaps, Map<String, List<String>> budgets) {
 
     public record MonitorCounts(String monitor, int streams, OutcomeCounts.Snapshot counts) {
     }
@@ -41,6 +44,10 @@ public record CheckReport(String input, OutcomeCounts.Snapshot records, List<Mon
                                 : " (first at line " + example.line() + ": " + example.detail() + ")").append('\n');
             });
         }
+        budgets.forEach((stream, lines) -> {
+            text.append("limits of stream ").append(stream).append(" (false-alarm budget):\n");
+            lines.forEach(line -> text.append("  ").append(line).append('\n'));
+        });
         if (gaps.isEmpty()) {
             return text.append("not monitored: nothing (every rule ran and judged every final window)\n").toString();
         }
@@ -49,11 +56,13 @@ public record CheckReport(String input, OutcomeCounts.Snapshot records, List<Mon
         return text.toString();
     }
 
-    /** The monitor's rules, on or off with the reason, one per line, and its notices. */
+    /** The monitor's rules, on or off with the reason, one per line, its false-alarm budget and its notices. */
     public static void appendRules(StringBuilder text, MonitorDefinition monitor) {
         text.append("    rules:\n");
-        monitor.rules().switches().stream().map(AlertRulesConfig.RuleSwitch::describe)
+        monitor.rules().allSwitches().stream().map(AlertRulesConfig.RuleSwitch::describe)
                 .forEach(rule -> text.append("      ").append(rule).append('\n'));
+        text.append("      ").append(FalseAlarmBudget.describe(monitor.rules(),
+                monitor.split() == null ? 1 : monitor.split().maxStreams())).append('\n');
         monitor.notices().forEach(notice -> text.append("    note: ").append(notice).append('\n'));
     }
 

@@ -77,7 +77,7 @@ public final class DefinitionChecker {
             }
             monitors.add(new CheckReport.MonitorCounts(monitor.monitor(), monitor.streams(), counts));
         }
-        return new CheckReport(events.toString(), snapshot.totals(), monitors, examples, gaps);
+        return new CheckReport(events.toString(), snapshot.totals(), monitors, examples, gaps, pipeline.budgetSplits());
     }
 
     /** Duplicates are not sent to rejects; keep their first line as an example too. */

@@ -22,8 +22,11 @@ import org.oddswatch.alerts.json.Json;
 final class RulesReader {
 
     /** Rule sections that run with their defaults unless switched off. */
-    private static final List<String> DEFAULT_ON = List.of("oddsRatioDrift", "calibration", "cusum");
-    private static final List<String> SECTIONS = List.of("oddsRatioDrift", "oddsRatioBounds", "calibration", "cusum");
+    private static final List<String> DEFAULT_ON = List.of("oddsRatioDrift", "calibration", "cusum", "oddsRatioCusum");
+    /** Default rules that an unlisted section once switched off: only these get a notice when unlisted. */
+    private static final List<String> ONCE_OFF_WHEN_UNLISTED = List.of("oddsRatioDrift", "calibration", "cusum");
+    private static final List<String> SECTIONS = List.of("oddsRatioDrift", "oddsRatioBounds", "calibration", "cusum",
+            "oddsRatioCusum");
 
     private RulesReader() {
     }
@@ -93,9 +96,11 @@ final class RulesReader {
             DefNode child = node.get(section);
             if (!child.present() && DEFAULT_ON.contains(section)) {
                 bound.putObject(section);
-                notices.add(node.path() + "." + section + " is not listed, so it runs with its defaults (until "
-                        + "this version an unlisted rule was off); write '" + section
-                        + ": {enabled: false}' to switch it off");
+                if (ONCE_OFF_WHEN_UNLISTED.contains(section)) {
+                    notices.add(node.path() + "." + section + " is not listed, so it runs with its defaults (until "
+                            + "this version an unlisted rule was off); write '" + section
+                            + ": {enabled: false}' to switch it off");
+                }
             } else if (child.json().isObject() && child.get("enabled").present()) {
                 // a section that is not a mapping is left to the binding, which names the problem
                 ((ObjectNode) bound.get(section)).remove("enabled");

@@ -4,9 +4,11 @@ import com.fasterxml.jackson.databind.JsonNode;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
 import java.util.List;
+import java.util.Locale;
 import java.util.Map;
 import java.util.function.Consumer;
 import java.util.stream.Collectors;
+import org.oddswatch.alerts.engine.FalseAlarmBudget;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.lifecycle.AlertState;
 import org.oddswatch.ingest.decode.DecodedEvent;
@@ -311,6 +313,27 @@ public final class MonitorPipeline {
     /** The counts by record (one outcome per record). */
     public OutcomeCounts.Snapshot totals() {
         return totals.snapshot();
+    }
+
+    /**
+     * Per stream with an alert engine, in stream order: the lines of its false-alarm budget's split
+     * (the limits it derived and how), for {@code check}.
+     */
+    public Map<String, List<String>> budgetSplits() {
+        Map<String, List<String>> out = new LinkedHashMap<>();
+        for (MonitorRoute route : routes) {
+            for (StreamState stream : route.streams.values()) {
+                FalseAlarmBudget budget = stream.budget();
+                if (budget != null) {
+                    List<String> lines = new ArrayList<>();
+                    lines.add(String.format(Locale.ROOT, "this stream's share: %.4g false alarms a year%s",
+                            budget.perStream(), budget.overspent() ? " (explicit limits use up more than 90 % of it)" : ""));
+                    budget.shares().forEach(share -> lines.add(share.describe()));
+                    out.put(stream.name, lines);
+                }
+            }
+        }
+        return out;
     }
 
     public PipelineSnapshot snapshot() {

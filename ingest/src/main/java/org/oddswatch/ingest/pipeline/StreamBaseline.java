@@ -197,13 +197,18 @@ final class StreamBaseline {
         engine.onEvent(event.timeMillis(), event.id(), event.row(), event.positive());
     }
 
-    /** The alert engine: CUSUM alerts on the window grid, message counts under the small-cell rule. */
+    /** The engine's false-alarm budget, or null while there is no engine (or no baseline model). */
+    org.oddswatch.alerts.engine.FalseAlarmBudget budget() {
+        return engine == null ? null : engine.budget();
+    }
+
+    /** This stream's alert engine: CUSUM alerts on the window grid, message counts under the small-cell rule. */
     private AlertEngine newEngine() {
         if (settings.ruleInputs() != null) {
             settings.ruleInputs().engine(stream, monitor.ruleInputsKey(), model);
         }
-        return new AlertEngine(stream, monitor.rules(), model, settings.replayHint(), geometry,
-                monitor.outputs().smallCells());
+        return new AlertEngine(stream, monitor.rules(), model, settings.replayHint(), geometry, monitor.outputs().smallCells(),
+                monitor.split() == null ? 1 : monitor.split().maxStreams());
     }
 
     /** Flags a baseline that rests on too little information ({@link BaselineInformation}). */

@@ -255,6 +255,11 @@ final class StreamState {
         return gaps;
     }
 
+    /** The stream's false-alarm budget and derived limits, or null while it has no alert engine. */
+    org.oddswatch.alerts.engine.FalseAlarmBudget budget() {
+        return baseline.budget();
+    }
+
     StreamStatus status() {
         BaselineModel model = baseline.model();
         return new StreamStatus(name, monitor.name(),

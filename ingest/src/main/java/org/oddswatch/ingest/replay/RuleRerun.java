@@ -63,7 +63,7 @@ public final class RuleRerun {
                             + "): only the rules sections may differ");
                 }
                 return new AlertEngine(stream, monitor.rules(), baseline, hint, monitor.geometry(),
-                        monitor.outputs().smallCells());
+                        monitor.outputs().smallCells(), monitor.split() == null ? 1 : monitor.split().maxStreams());
             }, alert -> {
                 if (ReplayRunner.inRange(from, to, alert.windowStart(), alert.windowEnd())) {
                     MonitorDefinition monitor = MonitorDefinition.ofStream(config.monitors(), alert.stream());

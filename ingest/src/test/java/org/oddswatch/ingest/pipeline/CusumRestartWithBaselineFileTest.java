@@ -76,7 +76,7 @@ class CusumRestartWithBaselineFileTest {
 
     private String definition(String baseline) {
         return MonitorPipelineTest.DEFINITION.replace(MonitorPipelineTest.NO_RULES, "    baseline: " + baseline + "\n"
-                + "    rules: {oddsRatioDrift: {enabled: false}, calibration: {enabled: false}, cusum: {},"
+                + "    rules: {oddsRatioDrift: {enabled: false}, calibration: {enabled: false}, cusum: {limit: 8.0},"
                 + " guard: {minEvents: 100}}");
     }
 

@@ -54,12 +54,15 @@ final class RuleLines {
                     + " (per-term settings may differ).";
             oddsRatioCharts.forEach(chart -> node(lines, chart).put("note", note));
         }
-        if (rules.cusum() != null) {
+        if (rules.cusum() != null && rules.cusum().limit() != null) {
             cusumCharts.forEach(chart -> add(limits, chart, rules.cusum().limit()));
             if (cusumCharts.isEmpty()) {
                 lines.put("cusumNote", "CUSUM charts (limit h = " + Format.stat(rules.cusum().limit())
                         + "): no signal in this replay.");
             }
+        } else if (rules.cusum() != null && cusumCharts.isEmpty()) {
+            // a limit derived from the false-alarm budget is on each stream's estimates, not in the rules
+            lines.put("cusumNote", "CUSUM charts (limit from the false-alarm budget): no signal in this replay.");
         }
     }
 

@@ -6,12 +6,17 @@ import org.apache.commons.math3.distribution.NormalDistribution;
  * Average run lengths of one-sided CUSUM charts by the Markov-chain method of Brook &amp; Evans (1972,
  * <i>Biometrika</i> 59:539): the interval [0, h] is cut into states, the chart's transition
  * probabilities between states are written down, and the ARL from state 0 solves
- * {@code (I - Q) L = 1}, Q being the transitions among non-absorbing states. Written for the
- * tests, independently of the chart code.
+ * {@code (I - Q) L = 1}, Q being the transitions among non-absorbing states. Independent of the
+ * chart code (it is the check of the charts' simulated run lengths in the tests), and the basis of
+ * the limits the false-alarm budget derives ({@code engine.FalseAlarmBudget}). Pure: same arguments,
+ * same answer.
  */
-final class BrookEvans {
+public final class CusumRunLength {
 
-    private BrookEvans() {
+    /** Grid size the budget uses: within 0.5 % of the 400-state chain at the limits it solves for. */
+    public static final int BUDGET_GRID = 150;
+
+    private CusumRunLength() {
     }
 
     /**
@@ -22,7 +27,7 @@ final class BrookEvans {
      * points is split between them in proportion to the distance, which keeps the mean drift exact
      * (plain rounding to the nearest point, the textbook variant, biases the drift).
      */
-    static double bernoulli(double h, double r, double[] share, double[] risk, double trueMultiplier, int n) {
+    public static double bernoulli(double h, double r, double[] share, double[] risk, double trueMultiplier, int n) {
         double w = h / n;
         double[][] q = new double[n + 1][n + 1];
         for (int i = 0; i <= n; i++) {
@@ -56,23 +61,71 @@ final class BrookEvans {
      * the textbook discretisation: state 0 is [0, w/2), state j the interval of width w centred on
      * j w, with w = 2h / (2n - 1), transitions from the centre.
      */
-    static double normalOneSided(double h, double k, double mu, int n) {
+    public static double normalOneSided(double h, double k, double mu, int n) {
         NormalDistribution z = new NormalDistribution(null, mu, 1.0);
         double w = 2 * h / (2 * n - 1);
+        // the transitions depend on j - i only: cdf[m + n] = F((m + 0.5) w + k), m = -n .. n
+        double[] cdf = new double[2 * n + 1];
+        for (int m = -n; m <= n; m++) {
+            cdf[m + n] = z.cumulativeProbability((m + 0.5) * w + k);
+        }
         double[][] q = new double[n][n];
         for (int i = 0; i < n; i++) {
-            double s = i * w;
-            q[i][0] = z.cumulativeProbability(w / 2 - s + k);
+            q[i][0] = cdf[-i + n];
             for (int j = 1; j < n; j++) {
-                q[i][j] = z.cumulativeProbability((j + 0.5) * w - s + k) - z.cumulativeProbability((j - 0.5) * w - s + k);
+                q[i][j] = cdf[j - i + n] - cdf[j - i - 1 + n];
             }
         }
         return solveFromZero(q);
     }
 
     /** Two-sided ARL from the one-sided ones, 1/L = 1/L+ + 1/L- (exact enough when k &gt; 0, Siegmund 1985). */
-    static double normalTwoSided(double h, double k, double mu, int n) {
+    public static double normalTwoSided(double h, double k, double mu, int n) {
         return 1 / (1 / normalOneSided(h, k, mu, n) + 1 / normalOneSided(h, k, -mu, n));
+    }
+
+    /**
+     * The smallest decision limit h (to 1e-4) whose two-sided normal CUSUM, reference value
+     * {@code k}, has an average run length of at least {@code target} steps when the standardised
+     * increments have mean {@code mu}. The ARL grows with h, so h is bracketed by doubling from 0.5
+     * and then bisected.
+     *
+     * @throws IllegalArgumentException when {@code target} is not above 1
+     */
+    public static double normalTwoSidedLimit(double target, double k, double mu) {
+        return smallestLimit(h -> normalTwoSided(h, k, mu, BUDGET_GRID), target, 0.5, 1e-4);
+    }
+
+    /**
+     * The smallest decision limit whose run length {@code runLength(h)} (growing with h) reaches
+     * {@code target}: bracketed by doubling from {@code start}, then bisected to {@code tolerance}.
+     *
+     * @throws IllegalArgumentException when {@code target} is not a finite number above 1, or no
+     *     limit up to 256 reaches it
+     */
+    public static double smallestLimit(java.util.function.DoubleUnaryOperator runLength, double target, double start,
+                                       double tolerance) {
+        if (!(target > 1) || Double.isInfinite(target)) {
+            throw new IllegalArgumentException("target run length must be finite and above 1: " + target);
+        }
+        double lo = 0;
+        double hi = start;
+        while (runLength.applyAsDouble(hi) < target) {
+            lo = hi;
+            hi *= 2;
+            if (hi > 256) {
+                throw new IllegalArgumentException("no limit up to 256 reaches run length " + target);
+            }
+        }
+        while (hi - lo > tolerance) {
+            double mid = (lo + hi) / 2;
+            if (runLength.applyAsDouble(mid) < target) {
+                lo = mid;
+            } else {
+                hi = mid;
+            }
+        }
+        return hi;
     }
 
     /** L_0 of (I - Q) L = 1 by Gaussian elimination with partial pivoting. */

@@ -1,0 +1,204 @@
+package org.oddswatch.alerts.rules;
+
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.Comparator;
+import java.util.List;
+import java.util.PriorityQueue;
+import org.oddswatch.alerts.lifecycle.AlertSubject;
+import org.oddswatch.alerts.lifecycle.Evidence;
+import org.oddswatch.estimator.calibration.BaselineModel;
+import org.oddswatch.estimator.terms.Column;
+
+/**
+ * Sequential test of each watched odds ratio on each window step's new events: a two-sided normal
+ * CUSUM (Page 1954) of the step's score statistic {@code z_t} ({@link StepScore}: the watched
+ * coefficient against its baseline value, the intercept re-estimated on the step's events).
+ * <pre>
+ *   S+_t = max(0, S+_{t-1} + z_t - k)      signal "above" when S+_t &gt; h
+ *   S-_t = max(0, S-_{t-1} - z_t - k)      signal "below" when S-_t &gt; h
+ * </pre>
+ * A signalling side restarts at 0, so each later signal rests on fresh evidence and the run-length
+ * theory applies again. In control the {@code z_t} of successive steps are independent (disjoint
+ * events) and about N(0, 1), so the in-control average run length in steps is that of the normal
+ * CUSUM, computed by {@link CusumRunLength#normalTwoSided}; {@code engine.FalseAlarmBudget} solves
+ * for {@code h} from a false-alarm budget.
+ *
+ * <p>Steps and order: {@link #offer} buffers events; {@link #report} (once per final window, with
+ * its end) takes the buffered events before that end, in (event time, id) order, as the step's new
+ * events. With overlapping windows each step's events are only the ones that entered the window,
+ * so no event counts twice.
+ *
+ * <p>Readings (subject: the watched term and level): {@link Zone#BEYOND} when a side signalled
+ * (direction +1 above, -1 below; value: the side's statistic at the signal; window: from the start of
+ * the first step since that side last stood at 0, to the window's end); {@link Zone#INSIDE} when
+ * neither signalled and both stand below {@code clearFraction · h}; {@link Zone#BETWEEN} otherwise;
+ * {@link Zone#UNKNOWN} when the step has fewer events than the guard's {@code minEvents}, no positive
+ * or no negative, or no spread in the column (the chart is left as it stood).
+ */
+public final class OddsRatioCusumRule {
+
+    public static final String NAME = "odds-ratio-cusum";
+
+    /**
+     * One watched column's chart settings.
+     *
+     * @param reference the reference value k, in standard-error units of a step
+     * @param limit the decision limit h
+     */
+    public record ChartSettings(double reference, double limit) {
+        public ChartSettings {
+            if (!(reference >= 0) || !(limit > 0) || Double.isInfinite(limit)) {
+                throw new IllegalArgumentException("CUSUM needs k >= 0 and a finite h > 0: k " + reference + ", h " + limit);
+            }
+        }
+    }
+
+    /** One watched column's pair of sides. */
+    private static final class Chart {
+        final Column column;
+        final int index;
+        final AlertSubject subject;
+        final double k;
+        final CusumChart up;
+        final CusumChart down;
+        long upStart = Long.MIN_VALUE;
+        long downStart = Long.MIN_VALUE;
+        StepScore step = new StepScore();
+
+        Chart(Column column, int index, ChartSettings settings) {
+            this.column = column;
+            this.index = index;
+            this.subject = new AlertSubject(column.term(), column.level());
+            this.k = settings.reference();
+            this.up = new CusumChart(settings.limit());
+            this.down = new CusumChart(settings.limit());
+        }
+    }
+
+    private final BaselineModel baseline;
+    private final long minEvents;
+    private final int clearAfter;
+    private final double clearFraction;
+    private final List<Chart> charts = new ArrayList<>();
+    private final PriorityQueue<Pending> pending = new PriorityQueue<>(
+            Comparator.comparingLong(Pending::time).thenComparing(Pending::id));
+    private long lastReportEnd = Long.MIN_VALUE;
+
+    /**
+     * @param watched the watched design columns (indices into the baseline's columns) with their settings
+     * @param clearAfter windows in a row inside the clear limit to clear
+     * @param clearFraction the clear limit as a share of h
+     */
+    public OddsRatioCusumRule(BaselineModel baseline, List<Integer> watched, List<ChartSettings> settings,
+                              InformationGuard guard, int clearAfter, double clearFraction) {
+        this.baseline = baseline;
+        this.minEvents = guard.minEvents();
+        this.clearAfter = clearAfter;
+        this.clearFraction = clearFraction;
+        for (int i = 0; i < watched.size(); i++) {
+            int j = watched.get(i);
+            charts.add(new Chart(baseline.columns().get(j), j, settings.get(i)));
+        }
+    }
+
+    /** Buffers one complete-case event; {@code row} is the coded design row (intercept first). */
+    public void offer(long eventTimeMillis, String id, double[] row, boolean positive) {
+        if (row.length != baseline.columns().size()) {
+            throw new IllegalArgumentException("design row has " + row.length + " columns, the baseline "
+                    + baseline.columns().size());
+        }
+        double eta = baseline.linearPredictor(row);
+        if (!Double.isFinite(eta)) {
+            return;
+        }
+        double[] x = new double[charts.size()];
+        for (int c = 0; c < x.length; c++) {
+            x[c] = row[charts.get(c).index];
+        }
+        pending.add(new Pending(eventTimeMillis, id == null ? "" : id, eta, x, positive));
+    }
+
+    /**
+     * Takes the buffered events before {@code windowEnd} as one step and gives one reading per watched
+     * column (see the class description); a report at or before the previous one gives nothing.
+     */
+    public List<Reading> report(Instant windowEnd) {
+        long end = windowEnd.toEpochMilli();
+        if (end <= lastReportEnd) {
+            return List.of();
+        }
+        while (!pending.isEmpty() && pending.peek().time < end) {
+            Pending p = pending.poll();
+            for (int c = 0; c < charts.size(); c++) {
+                charts.get(c).step.add(p.eta, p.x[c], p.positive);
+            }
+        }
+        long stepStart = lastReportEnd;
+        List<Reading> out = new ArrayList<>(charts.size());
+        for (Chart chart : charts) {
+            out.add(read(chart, stepStart, windowEnd));
+            chart.step = new StepScore();
+        }
+        lastReportEnd = end;
+        return out;
+    }
+
+    private Reading read(Chart chart, long stepStart, Instant windowEnd) {
+        StepScore step = chart.step;
+        Instant from = stepStart == Long.MIN_VALUE ? windowEnd : Instant.ofEpochMilli(stepStart);
+        double h = chart.up.limit();
+        double clearLimit = clearFraction * h;
+        double bBase = baseline.coefficients()[chart.index];
+        StepScore.Score score = step.events() < minEvents ? null : step.score();
+        if (score == null) {
+            String why = step.events() < minEvents
+                    ? step.events() + " new events, fewer than the minimum " + minEvents
+                    : "the step's events give no score for " + chart.subject.label()
+                            + " (no positive, no negative, or every event with the same value)";
+            return new Reading(NAME, chart.subject, Zone.UNKNOWN, 0, 1, clearAfter, from, windowEnd, null,
+                    Math.exp(bBase), h, clearLimit, null, step.events(), why,
+                    new Measurement(Measurement.ODDS_RATIO_CUSUM, null, null));
+        }
+        long startKey = stepStart == Long.MIN_VALUE ? windowEnd.toEpochMilli() : stepStart;
+        if (chart.up.value() == 0.0) {
+            chart.upStart = startKey;
+        }
+        if (chart.down.value() == 0.0) {
+            chart.downStart = startKey;
+        }
+        double z = score.z();
+        boolean upSignal = chart.up.add(z - chart.k);
+        boolean downSignal = chart.down.add(-z - chart.k);
+        double stepOddsRatio = Math.exp(bBase + score.shift());
+        String measured = "the odds ratio of " + chart.subject.label() + " among the step's " + step.events()
+                + " new events is about " + Format.num(stepOddsRatio) + " against " + Format.num(Math.exp(bBase))
+                + " in the baseline (score z = " + Format.stat(z) + ", intercept re-estimated on the step)";
+        if (upSignal || downSignal) {
+            boolean above = upSignal && (!downSignal || chart.up.value() >= chart.down.value());
+            CusumChart side = above ? chart.up : chart.down;
+            double value = side.value();
+            long start = above ? chart.upStart : chart.downStart;
+            side.reset();
+            String detail = measured + "; the two-sided CUSUM of these step scores (k = " + Format.stat(chart.k)
+                    + ") reached " + Format.stat(value) + " on its " + (above ? "upper" : "lower")
+                    + " side, above its limit h = " + Format.stat(h) + " (that side restarts at zero)";
+            return new Reading(NAME, chart.subject, Zone.BEYOND, above ? 1 : -1, 1, clearAfter,
+                    Instant.ofEpochMilli(start), windowEnd, stepOddsRatio, Math.exp(bBase), h, clearLimit,
+                    new Evidence(z, value, null, null, null), step.events(), detail,
+                    new Measurement(Measurement.ODDS_RATIO_CUSUM, value,
+                            above ? Measurement.Side.ABOVE : Measurement.Side.BELOW));
+        }
+        double high = Math.max(chart.up.value(), chart.down.value());
+        Zone zone = high < clearLimit ? Zone.INSIDE : Zone.BETWEEN;
+        String detail = measured + "; the two-sided CUSUM stands at " + Format.stat(chart.up.value()) + " (upper) and "
+                + Format.stat(chart.down.value()) + " (lower) against h = " + Format.stat(h) + " (clear limit "
+                + Format.stat(clearLimit) + ")";
+        return new Reading(NAME, chart.subject, zone, 0, 1, clearAfter, from, windowEnd, stepOddsRatio,
+                Math.exp(bBase), h, clearLimit, new Evidence(z, high, null, null, null), step.events(), detail,
+                new Measurement(Measurement.ODDS_RATIO_CUSUM, high, null));
+    }
+
+    private record Pending(long time, String id, double eta, double[] x, boolean positive) {
+    }
+}

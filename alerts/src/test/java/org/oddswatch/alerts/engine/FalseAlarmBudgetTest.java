@@ -1,0 +1,139 @@
+package org.oddswatch.alerts.engine;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import java.util.List;
+import org.junit.jupiter.api.Test;
+import org.oddswatch.alerts.engine.AlertRulesConfig.Calibration;
+import org.oddswatch.alerts.engine.AlertRulesConfig.Cusum;
+import org.oddswatch.alerts.engine.AlertRulesConfig.OddsRatioCusum;
+import org.oddswatch.alerts.engine.AlertRulesConfig.OddsRatioDrift;
+import org.oddswatch.alerts.engine.FalseAlarmBudget.Share;
+import org.oddswatch.alerts.rules.CusumRunLength;
+import org.oddswatch.alerts.rules.OddsRatioCusumRule.ChartSettings;
+import org.oddswatch.estimator.calibration.BaselineModel;
+import org.oddswatch.estimator.terms.Column;
+import org.oddswatch.estimator.window.WindowGeometry;
+
+/**
+ * The budget's split on a constructed monitor: 2 false alarms a year over 4 streams, weekly steps, a
+ * 12-week baseline of 24,000 events (1,200 positives), two watched columns, drift at |z| 3, the
+ * step-score CUSUM and the Bernoulli CUSUM left to the budget, calibration on.
+ */
+class FalseAlarmBudgetTest {
+
+    private static final long WEEK = 7 * 86_400_000L;
+    private static final double STEPS_PER_YEAR = 365.25 / 7;
+    private static final double SE_HOUSEHOLD = 0.065;
+    private static final double SE_TRAVEL = 0.09;
+
+    private static BaselineModel baseline() {
+        List<Column> cols = List.of(Column.intercept(), new Column("household_contact", "yes", "no", null, true, true),
+                new Column("recent_travel", "yes", "no", null, true, true),
+                new Column("sex", "male", "female", null, false, true));
+        double[][] cov = new double[4][4];
+        cov[0][0] = 0.003;
+        cov[1][1] = SE_HOUSEHOLD * SE_HOUSEHOLD;
+        cov[2][2] = SE_TRAVEL * SE_TRAVEL;
+        cov[3][3] = 0.004;
+        return new BaselineModel(cols, new double[] {-3.2, 0.9, 0.6, 0.1}, cov, "2026-01-05T00:00:00Z",
+                "2026-03-30T00:00:00Z", 24_000, 1_200, null);
+    }
+
+    private static AlertRulesConfig rules(Double driftLimit, Double scoreLimit) {
+        return new AlertRulesConfig(null, new OddsRatioDrift(driftLimit, null, null, null, null, null), null,
+                new Calibration(null, null, null, null, null, null, null), new Cusum(null, null, null, null, null, null, null),
+                new OddsRatioCusum(null, null, scoreLimit, null, null, null, null), 2.0, null);
+    }
+
+    private static FalseAlarmBudget derive(AlertRulesConfig rules) {
+        return FalseAlarmBudget.derive(rules, baseline(), new WindowGeometry(4 * WEEK, WEEK, 0, 0), 4);
+    }
+
+    @Test
+    void theMonitorsBudgetIsSplitOverStreamsThenOverRules() {
+        FalseAlarmBudget b = derive(rules(3.0, null));
+        assertEquals(0.5, b.perStream(), 1e-15);
+        // Source: standard normal table, P(|Z| >= 3) = 0.0026997960632601
+        double drift = STEPS_PER_YEAR * 0.0026997960632601;
+        List<Share> shares = b.shares();
+        assertEquals(List.of("odds-ratio-drift explicit", "odds-ratio-drift explicit", "calibration not counted",
+                "odds-ratio-cusum derived", "odds-ratio-cusum derived", "bernoulli-cusum-up derived",
+                "bernoulli-cusum-down derived"), shares.stream().map(s -> s.rule() + " " + s.how()).toList());
+        assertEquals(drift, shares.get(0).perYear(), 1e-9);
+        double each = (0.5 - 2 * drift) / 4;
+        for (Share s : shares.subList(3, 7)) {
+            assertEquals(each, s.perYear(), 1e-12, s.describe());
+        }
+        double total = shares.stream().filter(s -> !Double.isNaN(s.perYear())).mapToDouble(Share::perYear).sum();
+        assertEquals(0.5, total, 1e-12, "the counted shares use the stream's share exactly");
+        assertFalse(b.overspent());
+    }
+
+    @Test
+    void eachDerivedLimitIsTheSmallestThatKeepsItsShareAtTheBaselinesErrorQuantile() {
+        FalseAlarmBudget b = derive(rules(3.0, null));
+        double each = (0.5 - 2 * STEPS_PER_YEAR * 0.0026997960632601) / 4;
+        double target = STEPS_PER_YEAR / each;
+        // 90 % of |N(0, 1/12)| lies below 1.6449 / sqrt(12): the in-control shift the limit is solved at
+        double shift = 1.6448536269514722 / Math.sqrt(12);
+        double k = Math.log(2) / (SE_HOUSEHOLD * Math.sqrt(12)) / 2;
+        ChartSettings household = b.scoreCharts().get(1);
+        assertEquals(k, household.reference(), 1e-12);
+        double h = household.limit();
+        assertTrue(CusumRunLength.normalTwoSided(h, k, shift, CusumRunLength.BUDGET_GRID) >= target);
+        assertTrue(CusumRunLength.normalTwoSided(h - 0.01, k, shift, CusumRunLength.BUDGET_GRID) < target,
+                "boundary: a limit 0.01 lower misses the target run length " + target);
+        // Bernoulli pair: 24,000 events in 12 weeks, so 104,357 a year; prevalence 0.05
+        double events = 24_000 / 12.0 * STEPS_PER_YEAR;
+        double q = 1.6448536269514722 / Math.sqrt(24_000 * 0.05 * 0.95);
+        double cusum = b.cusumLimit();
+        double up = CusumRunLength.bernoulli(cusum, 1.5, new double[] {1}, new double[] {0.05}, Math.exp(q), 300);
+        double down = CusumRunLength.bernoulli(cusum, 1 / 1.5, new double[] {1}, new double[] {0.05}, Math.exp(-q), 300);
+        assertTrue(Math.min(up, down) >= events / each, "both charts reach " + events / each + ": " + up + ", " + down);
+        double lower = cusum - 0.011;
+        assertTrue(Math.min(CusumRunLength.bernoulli(lower, 1.5, new double[] {1}, new double[] {0.05}, Math.exp(q), 300),
+                CusumRunLength.bernoulli(lower, 1 / 1.5, new double[] {1}, new double[] {0.05}, Math.exp(-q), 300))
+                < events / each, "boundary of the Bernoulli limit");
+    }
+
+    @Test
+    void explicitLimitsWinAndAreChargedFirst() {
+        FalseAlarmBudget b = derive(rules(3.0, 4.5));
+        assertEquals(4.5, b.scoreCharts().get(1).limit());
+        assertEquals(4.5, b.scoreCharts().get(2).limit());
+        Share household = b.shares().get(3);
+        assertEquals("explicit", household.how());
+        double k = b.scoreCharts().get(1).reference();
+        assertEquals(STEPS_PER_YEAR / CusumRunLength.normalTwoSided(4.5, k, 0, CusumRunLength.BUDGET_GRID),
+                household.perYear(), 1e-12);
+        // only the Bernoulli pair is left to the budget now
+        double charged = b.shares().stream().filter(s -> "explicit".equals(s.how())).mapToDouble(Share::perYear).sum();
+        assertEquals((0.5 - charged) / 2, b.shares().get(5).perYear(), 1e-12);
+    }
+
+    @Test
+    void explicitLimitsThatSpendTheBudgetAreFlagged() {
+        FalseAlarmBudget b = derive(rules(1.5, null));
+        assertTrue(b.overspent());
+        assertEquals(0.05 / 4, b.shares().get(3).perYear(), 1e-12, "a tenth of the stream's share is left for the rest");
+    }
+
+    @Test
+    void theEngineRunsTheDerivedLimits() {
+        AlertRulesConfig rules = rules(3.0, null);
+        WindowGeometry grid = new WindowGeometry(4 * WEEK, WEEK, 0, 0);
+        AlertEngine engine = new AlertEngine("s", rules, baseline(), null, grid,
+                org.oddswatch.alerts.privacy.SmallCellPolicy.DEFAULT, 4);
+        FalseAlarmBudget expected = FalseAlarmBudget.derive(rules, baseline(), grid, 4);
+        assertEquals(expected.shares(), engine.budget().shares());
+        assertTrue(engine.cusumReadings().stream().allMatch(r -> r.limit() == expected.cusumLimit()),
+                "the Bernoulli charts run with h = " + expected.cusumLimit());
+        // a split of 1 stream gets four times the share, so lower limits
+        FalseAlarmBudget alone = FalseAlarmBudget.derive(rules, baseline(), grid, 1);
+        assertTrue(alone.cusumLimit() < expected.cusumLimit());
+        assertTrue(alone.scoreCharts().get(1).limit() < expected.scoreCharts().get(1).limit());
+    }
+}
