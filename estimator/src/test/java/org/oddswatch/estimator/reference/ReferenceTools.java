@@ -72,7 +72,7 @@ public final class ReferenceTools {
     public static void require(boolean available, String what) {
         if (!available && "1".equals(System.getenv(REQUIRE_VARIABLE))) {
             fail(what + " is not installed, and " + REQUIRE_VARIABLE + "=1 requires every live reference check "
-                    + "to run (on Debian: apt-get install r-base-core r-cran-brglm2 python3-statsmodels)");
+                    + "to run (on Debian: apt-get install r-base-core r-cran-brglm2 r-cran-spc python3-statsmodels)");
         }
         assumeTrue(available, what + " is not installed");
     }
