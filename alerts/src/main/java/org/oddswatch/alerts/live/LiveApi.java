@@ -27,8 +27,12 @@ import org.oddswatch.alerts.json.Json;
  *   <li>{@code /api/streams/{stream}/estimates?last=N}: the stream's last N final estimates, oldest
  *       first (N from 1 to {@value LiveHistory#WINDOWS}, default {@value #DEFAULT_LAST}), and its open
  *       window; a stream neither in the status nor in the history answers 404;</li>
- *   <li>{@code /api/alerts?recent=N}: the open episodes' newest messages and the last N messages
- *       (newest first; N from 0 to {@value LiveHistory#RECENT_ALERTS}, default {@value #DEFAULT_RECENT}).</li>
+ *   <li>{@code /api/alerts?recent=N}: the open episodes' newest messages ({@code open}, at most
+ *       {@value LiveHistory#OPEN_ALERTS}) and the last N messages ({@code recent}, newest first; N from 0
+ *       to {@value LiveHistory#RECENT_ALERTS}, default {@value #DEFAULT_RECENT}); and under
+ *       {@code incidents} the same for incidents: the open incidents' newest messages ({@code open},
+ *       at most {@value LiveHistory#OPEN_INCIDENTS}) and the last N incident messages ({@code recent},
+ *       newest first, the same N).</li>
  * </ul>
  * A stream name in a path is URL-encoded (a {@code /} in it may be written as {@code %2F} or as is).
  */
@@ -161,6 +165,11 @@ public final class LiveApi {
         history.openAlerts().forEach(k -> open.addRawValue(new RawValue(k.json())));
         ArrayNode last = root.putArray("recent");
         history.recentAlerts(recent).forEach(k -> last.addRawValue(new RawValue(k.json())));
+        ObjectNode incidents = root.putObject("incidents");
+        ArrayNode openIncidents = incidents.putArray("open");
+        history.openIncidents().forEach(k -> openIncidents.addRawValue(new RawValue(k.json())));
+        ArrayNode lastIncidents = incidents.putArray("recent");
+        history.recentIncidents(recent).forEach(k -> lastIncidents.addRawValue(new RawValue(k.json())));
         root.set("limits", limits());
         return Json.write(root);
     }
@@ -178,7 +187,8 @@ public final class LiveApi {
 
     private static ObjectNode limits() {
         return JsonNodeFactory.instance.objectNode().put("streams", STREAMS).put("windows", LiveHistory.WINDOWS)
-                .put("openAlerts", LiveHistory.OPEN_ALERTS).put("recentAlerts", LiveHistory.RECENT_ALERTS);
+                .put("openAlerts", LiveHistory.OPEN_ALERTS).put("recentAlerts", LiveHistory.RECENT_ALERTS)
+                .put("openIncidents", LiveHistory.OPEN_INCIDENTS).put("recentIncidents", LiveHistory.RECENT_INCIDENTS);
     }
 
     private static void raw(ObjectNode node, String field, LiveHistory.Kept kept) {

@@ -11,6 +11,8 @@ import java.util.Map;
 import java.util.TreeMap;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.lifecycle.AlertState;
+import org.oddswatch.alerts.lifecycle.Incident;
+import org.oddswatch.alerts.lifecycle.IncidentChange;
 import org.oddswatch.alerts.output.OutputSink;
 import org.oddswatch.alerts.output.Published;
 import org.oddswatch.estimator.result.WindowEstimate;
@@ -25,7 +27,10 @@ import org.oddswatch.estimator.result.WindowStatus;
  *       interim estimate of the window still open;</li>
  *   <li>the open alert episodes (raised or continuing, the newest message of each; a cleared message
  *       closes its episode), at most {@value #OPEN_ALERTS} (the oldest dropped first);</li>
- *   <li>the last {@value #RECENT_ALERTS} alert messages of any state.</li>
+ *   <li>the last {@value #RECENT_ALERTS} alert messages of any state;</li>
+ *   <li>the open incidents (opened or updated, the newest message of each; a resolved message closes
+ *       its incident), at most {@value #OPEN_INCIDENTS} (the one updated longest ago dropped first);</li>
+ *   <li>the last {@value #RECENT_INCIDENTS} incident messages of any change.</li>
  * </ul>
  * At most {@value #STREAMS} streams are kept; estimates of further streams are counted in
  * {@link #droppedStreams()} and not kept. Memory is therefore bounded by about
@@ -45,6 +50,10 @@ public final class LiveHistory implements OutputSink {
     public static final int OPEN_ALERTS = 500;
     /** Recent alert messages kept. */
     public static final int RECENT_ALERTS = 200;
+    /** Open incidents kept (each has at least one open episode, so no more than {@link #OPEN_ALERTS}). */
+    public static final int OPEN_INCIDENTS = 500;
+    /** Recent incident messages kept. */
+    public static final int RECENT_INCIDENTS = 200;
 
     /** One published output kept: its stream, monitor, window end and JSON text. */
     public record Kept(String stream, String monitor, Instant windowEnd, String json) {
@@ -63,6 +72,8 @@ public final class LiveHistory implements OutputSink {
     private final Map<String, StreamHistory> streams = new TreeMap<>();
     private final LinkedHashMap<String, Kept> openAlerts = new LinkedHashMap<>();
     private final Deque<Kept> recentAlerts = new ArrayDeque<>();
+    private final LinkedHashMap<String, Kept> openIncidents = new LinkedHashMap<>();
+    private final Deque<Kept> recentIncidents = new ArrayDeque<>();
     private long droppedStreams;
 
     @Override
@@ -114,17 +125,33 @@ public final class LiveHistory implements OutputSink {
     @Override
     public synchronized void alert(Alert alert, Published published) {
         Kept kept = new Kept(alert.stream(), published.monitor(), alert.windowEnd(), published.json());
-        recentAlerts.addLast(kept);
-        if (recentAlerts.size() > RECENT_ALERTS) {
-            recentAlerts.removeFirst();
+        keep(alert.id(), kept, alert.state() == AlertState.CLEARED, openAlerts, OPEN_ALERTS, recentAlerts, RECENT_ALERTS);
+    }
+
+    /** Kept under its first stream and the latest window end of its episodes ({@link Incident#to()}). */
+    @Override
+    public synchronized void incident(Incident incident, Published published) {
+        Kept kept = new Kept(incident.streams().get(0), published.monitor(), incident.to(), published.json());
+        keep(incident.id(), kept, incident.change() == IncidentChange.RESOLVED, openIncidents, OPEN_INCIDENTS,
+                recentIncidents, RECENT_INCIDENTS);
+    }
+
+    /**
+     * Adds a message to {@code recent} (the oldest dropped beyond {@code recentCap}) and, unless it
+     * closes its item, makes it the newest entry of {@code open} (the one updated longest ago dropped
+     * beyond {@code openCap}); a closing message removes its item from {@code open}.
+     */
+    private static void keep(String id, Kept kept, boolean closes, LinkedHashMap<String, Kept> open, int openCap,
+                             Deque<Kept> recent, int recentCap) {
+        recent.addLast(kept);
+        if (recent.size() > recentCap) {
+            recent.removeFirst();
         }
-        if (alert.state() == AlertState.CLEARED) {
-            openAlerts.remove(alert.id());
-        } else {
-            openAlerts.remove(alert.id());
-            openAlerts.put(alert.id(), kept);
-            if (openAlerts.size() > OPEN_ALERTS) {
-                Iterator<String> oldest = openAlerts.keySet().iterator();
+        open.remove(id);
+        if (!closes) {
+            open.put(id, kept);
+            if (open.size() > openCap) {
+                Iterator<String> oldest = open.keySet().iterator();
                 oldest.next();
                 oldest.remove();
             }
@@ -176,12 +203,26 @@ public final class LiveHistory implements OutputSink {
 
     /** The last {@code n} alert messages, newest first. */
     public synchronized List<Kept> recentAlerts(int n) {
-        List<Kept> out = new ArrayList<>(Math.min(n, recentAlerts.size()));
-        Iterator<Kept> newestFirst = recentAlerts.descendingIterator();
+        return newestFirst(recentAlerts, n);
+    }
+
+    private static List<Kept> newestFirst(Deque<Kept> kept, int n) {
+        List<Kept> out = new ArrayList<>(Math.max(0, Math.min(n, kept.size())));
+        Iterator<Kept> newestFirst = kept.descendingIterator();
         while (newestFirst.hasNext() && out.size() < n) {
             out.add(newestFirst.next());
         }
         return out;
+    }
+
+    /** The open incidents' newest messages, in the order they were last updated (oldest first). */
+    public synchronized List<Kept> openIncidents() {
+        return List.copyOf(openIncidents.values());
+    }
+
+    /** The last {@code n} incident messages, newest first. */
+    public synchronized List<Kept> recentIncidents(int n) {
+        return newestFirst(recentIncidents, n);
     }
 
     /** Streams whose estimates were not kept because {@value #STREAMS} streams already were. */

@@ -17,7 +17,9 @@ import org.junit.jupiter.api.Test;
 import org.oddswatch.alerts.Fixtures;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.lifecycle.AlertIds;
 import org.oddswatch.alerts.lifecycle.AlertState;
+import org.oddswatch.alerts.lifecycle.IncidentTracker;
 import org.oddswatch.alerts.output.Published;
 import org.oddswatch.alerts.privacy.PublishedAlert;
 import org.oddswatch.alerts.privacy.PublishedEstimate;
@@ -29,7 +31,7 @@ import org.oddswatch.estimator.result.WindowStatus;
 /**
  * The live API's JSON over a {@link LiveHistory} fed as the output stage feeds it (published JSON
  * under the small-cell rule): what each path lists, the bounds of {@code last} and {@code recent}
- * (each side of each bound), small cells withheld exactly as published, unknown streams 404, stream
+ * (each side of each bound), open and recent incidents as published, small cells withheld exactly as published, unknown streams 404, stream
  * names with a slash, and the page: its policy allows its inline parts by their SHA-256 and nothing
  * else inline.
  */
@@ -163,6 +165,43 @@ class LiveApiTest {
         assertEquals(400, api.answer("/api/alerts", "recent=-1").status());
         assertEquals(200, api.answer("/api/alerts", "recent=" + LiveHistory.RECENT_ALERTS).status());
         assertEquals(400, api.answer("/api/alerts", "recent=" + (LiveHistory.RECENT_ALERTS + 1)).status());
+    }
+
+    @Test
+    void alertsGiveOpenAndRecentIncidentsAsPublished() throws Exception {
+        LiveHistory history = new LiveHistory();
+        IncidentTracker tracker = IncidentTracker.sameStream();
+        List<Alert> sent = List.of(LiveHistoryTest.alert(NORTH, "e1", AlertState.RAISED, 2, 2010),
+                LiveHistoryTest.alert("quiet", "q1", AlertState.RAISED, 2, 2010),
+                LiveHistoryTest.alert(NORTH, "e2", AlertState.RAISED, 3, 3),
+                LiveHistoryTest.alert("quiet", "q1", AlertState.CLEARED, 3, 2010));
+        List<String> published = new ArrayList<>();
+        for (Alert a : sent) {
+            publish(history, a);
+            tracker.accept(a).ifPresent(i -> {
+                published.add(Json.write(i));
+                history.incident(i, new Published("respiratory", i.id(), Json.write(i)));
+            });
+        }
+        assertEquals(4, published.size(), "opened, opened, updated, resolved");
+        LiveApi api = api(history);
+        JsonNode body = ok(api.answer("/api/alerts", null));
+        JsonNode open = body.at("/incidents/open");
+        assertEquals(1, open.size(), "the quiet stream's incident is resolved");
+        assertEquals(Json.mapper().readTree(published.get(2)), open.get(0), "the newest message as published");
+        assertEquals(AlertIds.incidentId("e1"), open.at("/0/id").asText());
+        assertEquals(2, open.at("/0/revision").asInt());
+        assertEquals("updated", open.at("/0/change").asText());
+        assertEquals(List.of("e1", "e2"), List.of(open.at("/0/evidence/0/episode").asText(), open.at("/0/evidence/1/episode").asText()));
+        assertFalse(open.get(0).toString().contains("\"events\""), "no episode counts in an incident (e2 has 3 events)");
+        JsonNode recent = body.at("/incidents/recent");
+        assertEquals(List.of("resolved", "updated", "opened", "opened"), List.of(recent.at("/0/change").asText(),
+                recent.at("/1/change").asText(), recent.at("/2/change").asText(), recent.at("/3/change").asText()), "newest first");
+        assertEquals(1, ok(api.answer("/api/alerts", "recent=1")).at("/incidents/recent").size(), "recent bounds both lists");
+        assertEquals(0, ok(api.answer("/api/alerts", "recent=0")).at("/incidents/recent").size());
+        assertEquals(1, ok(api.answer("/api/alerts", "recent=0")).at("/incidents/open").size(), "open incidents are not cut by recent");
+        assertEquals(LiveHistory.OPEN_INCIDENTS, body.at("/limits/openIncidents").asInt());
+        assertEquals(LiveHistory.RECENT_INCIDENTS, body.at("/limits/recentIncidents").asInt());
     }
 
     @Test

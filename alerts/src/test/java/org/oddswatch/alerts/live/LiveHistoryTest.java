@@ -4,13 +4,18 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertNull;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import com.fasterxml.jackson.databind.JsonNode;
 import java.time.Instant;
+import java.util.ArrayList;
 import java.util.List;
 import org.junit.jupiter.api.Test;
 import org.oddswatch.alerts.Fixtures;
+import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.lifecycle.AlertIds;
 import org.oddswatch.alerts.lifecycle.AlertState;
 import org.oddswatch.alerts.lifecycle.AlertSubject;
+import org.oddswatch.alerts.lifecycle.IncidentTracker;
 import org.oddswatch.alerts.output.Published;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.estimator.result.WindowStatus;
@@ -18,8 +23,8 @@ import org.oddswatch.estimator.result.WindowStatus;
 /**
  * The live page's memory: bounded per stream (the oldest final window goes first), the open window
  * replaced by each interim estimate and dropped once its window is final, an estimate sent again
- * replacing its copy, open episodes closed by their cleared message, recent messages bounded, and at
- * most {@value LiveHistory#STREAMS} streams.
+ * replacing its copy, open episodes closed by their cleared message, open incidents closed by their
+ * resolved message, recent messages of both bounded, and at most {@value LiveHistory#STREAMS} streams.
  */
 class LiveHistoryTest {
 
@@ -125,6 +130,52 @@ class LiveHistoryTest {
             history.alert(a, published(a));
         }
         assertEquals(LiveHistory.OPEN_ALERTS, history.openAlerts().size());
+    }
+
+    /** Feeds the alert to the history and the incident message it causes, as the output stage does. */
+    static void publishWithIncident(LiveHistory history, IncidentTracker tracker, Alert a) {
+        history.alert(a, published(a));
+        tracker.accept(a).ifPresent(i -> history.incident(i, new Published("respiratory", i.id(), Json.write(i))));
+    }
+
+    private static List<String> changes(List<LiveHistory.Kept> kept) throws Exception {
+        List<String> out = new ArrayList<>();
+        for (LiveHistory.Kept k : kept) {
+            JsonNode n = Json.mapper().readTree(k.json());
+            out.add(n.get("id").asText() + " " + n.get("change").asText() + " " + n.get("revision").asInt());
+        }
+        return out;
+    }
+
+    @Test
+    void aResolvedMessageClosesItsIncidentAndIncidentMessagesAreBounded() throws Exception {
+        LiveHistory history = new LiveHistory();
+        IncidentTracker tracker = IncidentTracker.sameStream();
+        publishWithIncident(history, tracker, alert("a", "e1", AlertState.RAISED, 3, 2010));
+        publishWithIncident(history, tracker, alert("b", "e2", AlertState.RAISED, 3, 2010));
+        publishWithIncident(history, tracker, alert("a", "e3", AlertState.RAISED, 4, 2010));
+        String a = AlertIds.incidentId("e1");
+        String b = AlertIds.incidentId("e2");
+        assertEquals(List.of(b + " opened 1", a + " updated 2"), changes(history.openIncidents()),
+                "the newest message of each open incident, the last updated last");
+        assertEquals("a", history.openIncidents().get(1).stream(), "kept under its first stream");
+        assertEquals(Fixtures.start(5), history.openIncidents().get(1).windowEnd(), "the latest window end of its episodes");
+        publishWithIncident(history, tracker, alert("b", "e2", AlertState.CLEARED, 5, 2010));
+        assertEquals(List.of(a + " updated 2"), changes(history.openIncidents()), "resolved: no longer open");
+        assertEquals(List.of(b + " resolved 2", a + " updated 2", b + " opened 1", a + " opened 1"),
+                changes(history.recentIncidents(10)), "newest first");
+        assertEquals(List.of(b + " resolved 2"), changes(history.recentIncidents(1)));
+        assertEquals(List.of(), history.recentIncidents(0));
+
+        for (int i = 0; i < LiveHistory.OPEN_INCIDENTS + 3; i++) {
+            publishWithIncident(history, tracker, alert("s" + i, "o" + i, AlertState.RAISED, 6, 2010));
+        }
+        List<LiveHistory.Kept> open = history.openIncidents();
+        assertEquals(LiveHistory.OPEN_INCIDENTS, open.size());
+        assertEquals("s3", open.get(0).stream(), "incident a and the first three new ones, updated longest ago, are dropped");
+        assertEquals(LiveHistory.RECENT_INCIDENTS, history.recentIncidents(10_000).size());
+        assertEquals(AlertIds.incidentId("o" + (LiveHistory.OPEN_INCIDENTS + 2)),
+                Json.mapper().readTree(history.recentIncidents(1).get(0).json()).get("id").asText());
     }
 
     @Test
