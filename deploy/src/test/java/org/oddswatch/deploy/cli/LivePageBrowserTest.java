@@ -1,6 +1,7 @@
 package org.oddswatch.deploy.cli;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertNull;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 import static org.junit.jupiter.api.Assertions.fail;
@@ -44,7 +45,9 @@ import org.openqa.selenium.chrome.ChromeDriver;
  * household-contact odds ratio. The scenario is sent in two parts: up to the change, then the rest
  * while the page is open. Checks that the page lists every stream of the API and draws its charts;
  * that after the change an odds-ratio drift alert on household contact appears on the page without
- * a reload (a mark set in the page survives, and the page refreshed itself in between); that no
+ * a reload (a mark set in the page survives, and the page refreshed itself in between), and so does an
+ * open incident with that episode among its evidence, whose button narrows the open alerts to its
+ * episodes and back; that no
  * script error or policy violation is logged; that every request the page made went to the service's
  * own origin; saves {@code target/live-page-screenshot.png} (the README's picture,
  * {@code docs/images/live-page.png}); then that the filter narrows the list and the charts to the
@@ -61,7 +64,7 @@ class LivePageBrowserTest {
     Path dir;
 
     @Test
-    void thePageShowsStreamsChartsAndTheDriftAlertWithoutReload() throws Exception {
+    void thePageShowsStreamsChartsTheDriftAlertAndItsIncidentWithoutReload() throws Exception {
         ChromeDriver driver = ReplayReportBrowserTest.chromium(dir, false);
         Scenario scenario = Scenario.respiratory(ScenarioOptions.defaults().withDuration(Duration.ofDays(7L * WEEKS)));
         Instant change = scenario.changeTime(scenario.changes().get(0));
@@ -94,6 +97,7 @@ class LivePageBrowserTest {
                         n -> ((Number) n).intValue() >= 3 * 3);
                 assertDrawnCharts(driver);
                 Set<String> before = raisedOddsRatioRows(driver);
+                Set<String> incidentsBefore = oddsRatioIncidentRows(driver);
                 driver.executeScript("window.oddswatchMark = 'not reloaded';");
                 long refreshesBefore = ((Number) driver.executeScript(
                         "return Number(document.body.getAttribute('data-refreshes'));")).longValue();
@@ -105,7 +109,13 @@ class LivePageBrowserTest {
                     now.removeAll(before);
                     return !now.isEmpty();
                 });
+                awaitPage(driver, "an open incident with the household-contact drift episode as evidence", null, x -> {
+                    Set<String> now = oddsRatioIncidentRows(driver);
+                    now.removeAll(incidentsBefore);
+                    return !now.isEmpty();
+                });
                 assertEquals("not reloaded", driver.executeScript("return window.oddswatchMark;"), "no reload");
+                assertIncidentListsItsEpisodes(driver);
                 long refreshesAfter = ((Number) driver.executeScript(
                         "return Number(document.body.getAttribute('data-refreshes'));")).longValue();
                 assertTrue(refreshesAfter > refreshesBefore, "the page refreshed itself");
@@ -150,6 +160,49 @@ class LivePageBrowserTest {
         Set<String> out = new LinkedHashSet<>();
         rows.forEach(r -> out.add(String.valueOf(r)));
         return out;
+    }
+
+    /**
+     * Open-incident rows ({@code id|revision}) whose evidence lists an odds-ratio drift episode on
+     * household contact.
+     */
+    private static Set<String> oddsRatioIncidentRows(ChromeDriver driver) {
+        List<?> rows = (List<?>) driver.executeScript("return Array.from(document.querySelectorAll('#open-incidents tbody tr'))"
+                + ".filter(function (r) { return Array.from(r.querySelectorAll('.evidence li')).some(function (li) {"
+                + " return li.textContent.indexOf('odds-ratio-drift') >= 0 && li.textContent.indexOf('household_contact=yes') >= 0; }); })"
+                + ".map(function (r) { return r.getAttribute('data-incident') + '|' + r.querySelector('td').textContent; });");
+        Set<String> out = new LinkedHashSet<>();
+        rows.forEach(r -> out.add(String.valueOf(r)));
+        return out;
+    }
+
+    /**
+     * Selecting an open incident's button lists only its episodes under the open alerts (at least one,
+     * each named in its evidence) with a bar saying so; selecting again lists every open alert.
+     */
+    private static void assertIncidentListsItsEpisodes(ChromeDriver driver) throws Exception {
+        JsonNode seen = Json.mapper().readTree((String) driver.executeScript("""
+                var row = document.querySelector('#open-incidents tbody tr');
+                var episodes = Array.from(row.querySelectorAll('.evidence li')).map(function (li) { return li.getAttribute('data-episode'); });
+                var every = document.querySelectorAll('#open-alerts tbody tr').length;
+                row.querySelector('button.show').click();
+                var listed = Array.from(document.querySelectorAll('#open-alerts tbody tr')).map(function (r) { return r.getAttribute('data-alert'); });
+                var bar = document.getElementById('focus');
+                var focused = document.querySelector('#open-incidents tbody tr.focused button.show');
+                var result = { episodes: episodes, every: every, listed: listed, bar: bar.textContent,
+                  barShown: !bar.classList.contains('hidden'), pressed: focused.getAttribute('aria-pressed') };
+                focused.click();
+                result.after = document.querySelectorAll('#open-alerts tbody tr').length;
+                result.barAfter = !bar.classList.contains('hidden');
+                return JSON.stringify(result);"""));
+        assertTrue(seen.get("listed").size() >= 1, "its open episodes are listed: " + seen);
+        Set<String> episodes = new LinkedHashSet<>();
+        seen.get("episodes").forEach(e -> episodes.add(e.asText()));
+        seen.get("listed").forEach(a -> assertTrue(episodes.contains(a.asText()), "only its episodes: " + seen));
+        assertTrue(seen.get("barShown").asBoolean() && seen.get("bar").asText().startsWith("Listing the "), seen.toString());
+        assertEquals("true", seen.get("pressed").asText());
+        assertEquals(seen.get("every").asInt(), seen.get("after").asInt(), "every open alert again: " + seen);
+        assertFalse(seen.get("barAfter").asBoolean(), "the bar is gone: " + seen);
     }
 
     /** Every chart has a laid-out canvas, and every prevalence chart a drawn point per window. */

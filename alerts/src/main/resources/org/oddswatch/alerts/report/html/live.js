@@ -16,7 +16,9 @@
   var EVERY = Math.max(1, Number(params.get('every')) || 5) * 1000;
   var LAST = 60;
   var CHARTED = 4;
-  var state = { streams: [], alerts: { open: [], recent: [] }, selected: null, filter: '', refreshes: 0, expanded: {} };
+  /** Episodes listed with an incident before the rest fold away. */
+  var SHOWN_EPISODES = 4;
+  var state = { streams: [], alerts: { open: [], recent: [], incidents: { open: [], recent: [] } }, selected: null, focus: null, filter: '', refreshes: 0, expanded: {} };
   var charts = {};
 
   var F = window.oddswatchPage, el = F.el, day = F.day, when = F.when, num = F.num, pct = F.pct;
@@ -134,18 +136,135 @@
     return tr;
   }
   function drawAlerts(alerts) {
-    var open = alerts.open.slice().reverse();
+    var only = focusedEpisodes();
+    function mine(a) { return !only || only[a.id]; }
+    var open = alerts.open.slice().reverse().filter(mine), recent = alerts.recent.filter(mine);
     var badge = document.getElementById('open-count');
-    badge.textContent = String(open.length);
-    badge.className = 'count-badge' + (open.length ? ' on' : '');
+    badge.textContent = String(alerts.open.length);
+    badge.className = 'count-badge' + (alerts.open.length ? ' on' : '');
     var heads = ['stream', 'rule', 'subject', 'state', 'window end', 'value vs limit', 'message (select to read it all) and replay command'];
     var numeric = [false, false, false, false, false, true, false];
     replace('open-alerts', open.length ? wrapTable(table(heads, open.map(alertRow), numeric))
-      : el('p', 'empty', 'No open alert: no episode raised and not yet cleared since this service started.'));
-    replace('recent-alerts', alerts.recent.length ? wrapTable(table(heads, alerts.recent.map(alertRow), numeric))
-      : el('p', 'empty', 'No alert message yet.'));
+      : el('p', 'empty', only ? 'None of its episodes is open now.' : 'No open alert: no episode raised and not yet cleared since this service started.'));
+    replace('recent-alerts', recent.length ? wrapTable(table(heads, recent.map(alertRow), numeric))
+      : el('p', 'empty', only ? 'None of its episodes\' messages is among the recent ones.' : 'No alert message yet.'));
   }
   function wrapTable(t) { var w = el('div', 'table-wrap'); w.appendChild(t); return w; }
+
+  /* ---------- incidents ---------- */
+  function incidentsOf(alerts) { return alerts.incidents || { open: [], recent: [] }; }
+  /** The newest message of incident {@code id}: open first, else the newest recent one; or null. */
+  function findIncident(id) {
+    var inc = incidentsOf(state.alerts), all = inc.open.concat(inc.recent);
+    for (var i = 0; i < all.length; i++) { if (all[i].id === id) { return all[i]; } }
+    return null;
+  }
+  /** The window end of the incident's opening message when it is still among the recent ones, else null. */
+  function openedAt(i) {
+    var first = incidentsOf(state.alerts).recent.filter(function (m) { return m.id === i.id && m.revision === 1; })[0];
+    return first ? first.to : null;
+  }
+  function focusOn(id) {
+    state.focus = state.focus === id ? null : id;
+    drawIncidents(state.alerts);
+    drawAlerts(state.alerts);
+    if (state.focus) { document.getElementById('alerts').scrollIntoView({ block: 'start' }); }
+  }
+  /** One line per episode: its state, rule, subject (and stream when the incident spans several), figure vs limit. */
+  function evidenceList(episodes, withStream) {
+    var ul = el('ul', 'evidence');
+    episodes.forEach(function (e) {
+      var li = el('li');
+      li.setAttribute('data-episode', e.episode);
+      li.appendChild(el('span', 'state state-' + e.state, e.state));
+      li.appendChild(document.createTextNode(' ' + e.rule + ' · ' + e.subject + (withStream ? ' · ' + e.stream : '')));
+      li.appendChild(el('span', 'on', ' (' + (e.measure || '') + ' ' + num(e.value) + (e.limit != null ? ' vs ' + num(e.limit) : '') + ')'));
+      ul.appendChild(li);
+    });
+    return ul;
+  }
+  function incidentRow(i, withButton) {
+    var tr = el('tr', state.focus === i.id ? 'focused' : null);
+    tr.setAttribute('data-incident', i.id);
+    var idCell = cell(tr, '');
+    var ch = el('span', 'change change-' + i.change, i.change);
+    idCell.appendChild(ch);
+    idCell.appendChild(el('div', null, 'revision ' + i.revision));
+    idCell.appendChild(el('div', 'incident-id', i.id));
+    if (withButton) {
+      var b = el('button', 'show', state.focus === i.id ? 'List every alert' : 'List its episodes');
+      b.type = 'button';
+      b.setAttribute('aria-pressed', state.focus === i.id ? 'true' : 'false');
+      b.addEventListener('click', function () { focusOn(i.id); });
+      idCell.appendChild(b);
+    }
+    var streams = cell(tr, '', 'streams-list');
+    (i.streams || []).forEach(function (s) { streams.appendChild(el('div', null, s)); });
+    var opened = openedAt(i);
+    var time = cell(tr, '', 'when');
+    time.appendChild(el('div', null, (opened ? 'opened at window end ' + when(opened) : 'evidence since ' + when(i.from))));
+    time.appendChild(el('div', 'sub', 'latest window end ' + when(i.to)));
+    var episodes = i.evidence || [], many = (i.streams || []).length > 1;
+    var evCell = cell(tr, '', 'ev');
+    evCell.appendChild(el('div', 'sub', i.openEpisodes + ' of ' + episodes.length + ' episode' + (episodes.length === 1 ? '' : 's') + ' open'));
+    evCell.appendChild(evidenceList(episodes.slice(0, SHOWN_EPISODES), many));
+    if (episodes.length > SHOWN_EPISODES) {
+      var rest = el('details', 'more');
+      var restKey = 'evidence|' + i.id;
+      rest.open = !!state.expanded[restKey];
+      rest.addEventListener('toggle', function () { state.expanded[restKey] = rest.open; });
+      rest.appendChild(el('summary', null, (episodes.length - SHOWN_EPISODES) + ' more'));
+      rest.appendChild(evidenceList(episodes.slice(SHOWN_EPISODES), many));
+      evCell.appendChild(rest);
+    }
+    var msg = cell(tr, '', 'msg');
+    var more = el('details');
+    var key = 'incident|' + i.id + '|' + i.revision;
+    more.open = !!state.expanded[key];
+    more.addEventListener('toggle', function () { state.expanded[key] = more.open; });
+    more.appendChild(el('summary', null, i.reason || 'message'));
+    more.appendChild(el('p', null, i.message || ''));
+    msg.appendChild(more);
+    var cmd = el('div', 'cmd');
+    cmd.appendChild(el('span', 'sub', 'reproduce: '));
+    cmd.appendChild(el('code', null, i.replayCommand || 'n/a'));
+    msg.appendChild(cmd);
+    return tr;
+  }
+  function drawIncidents(alerts) {
+    var inc = incidentsOf(alerts);
+    var open = inc.open.slice().reverse();
+    var badge = document.getElementById('incident-count');
+    badge.textContent = String(open.length);
+    badge.className = 'count-badge' + (open.length ? ' on' : '');
+    var heads = ['incident', 'streams', 'opened', 'its episodes (the evidence)', 'message (select to read it all) and replay command'];
+    replace('open-incidents', open.length ? wrapTable(table(heads, open.map(function (i) { return incidentRow(i, true); })))
+      : el('p', 'empty', 'No open incident: no episode raised and not yet cleared since this service started.'));
+    replace('recent-incidents', inc.recent.length ? wrapTable(table(heads, inc.recent.map(function (i) { return incidentRow(i, false); })))
+      : el('p', 'empty', 'No incident message yet.'));
+  }
+  /** The focused incident's episode ids (null when none is focused), and its bar above the alerts. */
+  function focusedEpisodes() {
+    var bar = document.getElementById('focus');
+    var i = state.focus ? findIncident(state.focus) : null;
+    if (!i) {
+      state.focus = null;
+      bar.className = 'focus hidden';
+      bar.textContent = '';
+      return null;
+    }
+    var ids = {};
+    (i.evidence || []).forEach(function (e) { ids[e.episode] = true; });
+    bar.className = 'focus';
+    bar.textContent = '';
+    bar.appendChild(el('span', null, 'Listing the ' + (i.evidence || []).length + ' episode' + ((i.evidence || []).length === 1 ? '' : 's')
+      + ' of the incident on ' + (i.streams || []).join(', ') + ' (' + i.change + ', revision ' + i.revision + ').'));
+    var all = el('button', 'show', 'List every alert');
+    all.type = 'button';
+    all.addEventListener('click', function () { focusOn(state.focus); });
+    bar.appendChild(all);
+    return ids;
+  }
 
   /* ---------- stream list ---------- */
   function visibleStreams() {
@@ -419,6 +538,7 @@
       state.streams = r[0].streams;
       state.alerts = r[1];
       drawService(r[0].service);
+      drawIncidents(r[1]);
       drawAlerts(r[1]);
       drawStreamTable();
       return refreshCharts();
