@@ -153,13 +153,10 @@ class LivePageBrowserTest {
     /** Rows of the open-alerts table naming a raised or continuing odds-ratio drift on household contact. */
     private static Set<String> raisedOddsRatioRows(ChromeDriver driver) {
         // One script call: the table is redrawn on each refresh, so elements found earlier may be gone.
-        List<?> rows = (List<?>) driver.executeScript("return Array.from(document.querySelectorAll('#open-alerts tbody tr'))"
+        return strings(driver, "return Array.from(document.querySelectorAll('#open-alerts tbody tr'))"
                 + ".filter(function (r) { return r.textContent.indexOf('odds-ratio-drift') >= 0"
                 + " && r.textContent.indexOf('household_contact=yes') >= 0; })"
                 + ".map(function (r) { return r.getAttribute('data-alert'); });");
-        Set<String> out = new LinkedHashSet<>();
-        rows.forEach(r -> out.add(String.valueOf(r)));
-        return out;
     }
 
     /**
@@ -167,12 +164,16 @@ class LivePageBrowserTest {
      * household contact.
      */
     private static Set<String> oddsRatioIncidentRows(ChromeDriver driver) {
-        List<?> rows = (List<?>) driver.executeScript("return Array.from(document.querySelectorAll('#open-incidents tbody tr'))"
+        return strings(driver, "return Array.from(document.querySelectorAll('#open-incidents tbody tr'))"
                 + ".filter(function (r) { return Array.from(r.querySelectorAll('.evidence li')).some(function (li) {"
                 + " return li.textContent.indexOf('odds-ratio-drift') >= 0 && li.textContent.indexOf('household_contact=yes') >= 0; }); })"
                 + ".map(function (r) { return r.getAttribute('data-incident') + '|' + r.querySelector('td').textContent; });");
+    }
+
+    /** The strings a script returns, in order, once each. */
+    private static Set<String> strings(ChromeDriver driver, String script) {
         Set<String> out = new LinkedHashSet<>();
-        rows.forEach(r -> out.add(String.valueOf(r)));
+        ((List<?>) driver.executeScript(script)).forEach(r -> out.add(String.valueOf(r)));
         return out;
     }
 

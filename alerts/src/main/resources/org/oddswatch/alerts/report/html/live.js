@@ -202,8 +202,9 @@
     (i.streams || []).forEach(function (s) { streams.appendChild(el('div', null, s)); });
     var opened = openedAt(i);
     var time = cell(tr, '', 'when');
-    time.appendChild(el('div', null, (opened ? 'opened at window end ' + when(opened) : 'evidence since ' + when(i.from))));
-    time.appendChild(el('div', 'sub', 'latest window end ' + when(i.to)));
+    time.appendChild(el('div', null, opened ? when(opened) : 'before ' + when(i.to)));
+    time.appendChild(el('div', 'sub', 'evidence from ' + when(i.from)));
+    time.appendChild(el('div', 'sub', 'to ' + when(i.to)));
     var episodes = i.evidence || [], many = (i.streams || []).length > 1;
     var evCell = cell(tr, '', 'ev');
     evCell.appendChild(el('div', 'sub', i.openEpisodes + ' of ' + episodes.length + ' episode' + (episodes.length === 1 ? '' : 's') + ' open'));
@@ -237,7 +238,7 @@
     var badge = document.getElementById('incident-count');
     badge.textContent = String(open.length);
     badge.className = 'count-badge' + (open.length ? ' on' : '');
-    var heads = ['incident', 'streams', 'opened', 'its episodes (the evidence)', 'message (select to read it all) and replay command'];
+    var heads = ['incident', 'streams', 'opened (window end)', 'its episodes (the evidence)', 'message (select to read it all) and replay command'];
     replace('open-incidents', open.length ? wrapTable(table(heads, open.map(function (i) { return incidentRow(i, true); })))
       : el('p', 'empty', 'No open incident: no episode raised and not yet cleared since this service started.'));
     replace('recent-incidents', inc.recent.length ? wrapTable(table(heads, inc.recent.map(function (i) { return incidentRow(i, false); })))
