@@ -50,7 +50,8 @@ import org.openqa.selenium.chrome.ChromeDriver;
  * episodes and back; that no
  * script error or policy violation is logged; that every request the page made went to the service's
  * own origin; saves {@code target/live-page-screenshot.png} (the README's picture,
- * {@code docs/images/live-page.png}); then that the filter narrows the list and the charts to the
+ * {@code docs/images/live-page.png}) and {@code target/live-page-incident-episodes.png} (the alerts
+ * narrowed to the incident's episodes); then that the filter narrows the list and the charts to the
  * matching stream (and {@code target/live-page-records.png} shows the records and partitions). Skips
  * without Chromium as {@link ReplayReportBrowserTest} does.
  */
@@ -116,6 +117,9 @@ class LivePageBrowserTest {
                 });
                 assertEquals("not reloaded", driver.executeScript("return window.oddswatchMark;"), "no reload");
                 assertIncidentListsItsEpisodes(driver);
+                driver.executeScript("document.querySelector('#open-incidents tbody tr button.show').click(); window.scrollTo(0, 0);");
+                ReplayReportBrowserTest.screenshot(driver, "live-page-incident-episodes.png");
+                driver.executeScript("document.querySelector('#focus button.show').click();");
                 long refreshesAfter = ((Number) driver.executeScript(
                         "return Number(document.body.getAttribute('data-refreshes'));")).longValue();
                 assertTrue(refreshesAfter > refreshesBefore, "the page refreshed itself");
