@@ -35,8 +35,11 @@ import org.oddswatch.estimator.window.WindowGeometry;
  *       alarms &le; steps × per-step probability) is valid and conservative;</li>
  *   <li>an explicit CUSUM limit: events (or steps) per year divided by its computed in-control run
  *       length;</li>
- *   <li>calibration and bounds: not charged (their interval-based bands have no computable rate; the
- *       split lists them as such).</li>
+ *   <li>calibration: {@code stepsPerYear} times the union bound of its tests' in-control
+ *       probabilities per step ({@link CalibrationFalseAlarms}: the O/E and slope bands through
+ *       their standard errors from the baseline, the Hosmer–Lemeshow test at its p limit), so a split
+ *       monitor's streams share one budget with their calibration too;</li>
+ *   <li>bounds: not charged (they are the user's fixed thresholds on the odds ratio's interval).</li>
  * </ul>
  * What remains (at least a tenth of the stream's share, flagged as overspent when the explicit
  * limits took more) is split equally over the charts whose limit is left to the budget: each
@@ -222,8 +225,25 @@ public final class FalseAlarmBudget {
             }
         }
         if (rules.calibration() != null) {
-            shares.add(new Share(CalibrationRule.NAME, "calibration", "not counted", Double.NaN, null,
-                    "interval bands; no computable false-alarm rate"));
+            double windowMillis = grid == null ? stepMillis : grid.widthMillis();
+            List<CalibrationFalseAlarms.Term> terms = CalibrationFalseAlarms.perStep(rules.calibration(), baseline,
+                    windowMillis / periodMillis);
+            if (terms.isEmpty()) {
+                shares.add(new Share(CalibrationRule.NAME, "calibration", "not counted", Double.NaN, null,
+                        "the baseline gives no expected positives per window"));
+            } else {
+                double perStep = terms.stream().mapToDouble(CalibrationFalseAlarms.Term::perStep).sum();
+                double perYear = stepsPerYear * perStep;
+                charged += perYear;
+                StringBuilder parts = new StringBuilder();
+                for (CalibrationFalseAlarms.Term t : terms) {
+                    parts.append(parts.length() == 0 ? "" : ", ").append(t.test())
+                            .append(String.format(Locale.ROOT, " %.1e", t.perStep()));
+                }
+                shares.add(new Share(CalibrationRule.NAME, "calibration", "explicit", perYear, null,
+                        String.format(Locale.ROOT, "union bound: %.1f steps a year x %.2e per step (%s)", stepsPerYear,
+                                perStep, parts)));
+            }
         }
         OddsRatioCusum score = rules.oddsRatioCusum();
         Map<Integer, Double> scoreReference = new LinkedHashMap<>();
