@@ -313,7 +313,15 @@ public final class FalseAlarmBudget {
                 shift = 0;
             }
             double tau = Double.isFinite(baselineSteps) && baselineSteps > 0 ? 1 / Math.sqrt(baselineSteps) : 0;
-            h = Math.max(h, CusumRunLength.normalTwoSidedLimitOverError(target, k, tau));
+            try {
+                h = Math.max(h, CusumRunLength.normalTwoSidedLimitOverError(target, k, tau));
+            } catch (IllegalArgumentException e) {
+                // k small against the baseline's error (a small stream): the baselines whose error
+                // exceeds k drift to a signal whatever h, so no limit keeps the average; keep the
+                // limit of the conditional guarantee and say so
+                unreached += "; NO AVERAGE GUARANTEE: the baseline's error (sd " + String.format(Locale.ROOT, "%.3f", tau)
+                        + ") is too large against k for any limit to keep the target on average over baselines";
+            }
             scoreCharts.put(j, new ChartSettings(k, h));
             shares.add(new Share(OddsRatioCusumRule.NAME, columns.get(j).label(), "derived", share, h,
                     String.format(Locale.ROOT, "k %.3f; run length >= %.0f steps at an in-control shift of %.3f"

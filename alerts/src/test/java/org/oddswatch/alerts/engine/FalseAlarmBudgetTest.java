@@ -146,4 +146,17 @@ class FalseAlarmBudgetTest {
         assertTrue(alone.cusumLimit() < expected.cusumLimit());
         assertTrue(alone.scoreCharts().get(1).limit() < expected.scoreCharts().get(1).limit());
     }
+
+    @Test
+    void aSmallStreamWhoseBaselineErrorExceedsKGetsALimitAndSaysThereIsNoAverageGuarantee() {
+        // household se 0.5 over 12 weekly steps: I_step = 1/3, k = ln 2 · sqrt(1/3) / 2 = 0.200, below the
+        // baseline error's sd 1/sqrt(12) = 0.289, so baselines beyond k drift to a signal whatever h
+        List<Column> cols = List.of(Column.intercept(), new Column("household_contact", "yes", "no", null, true, true));
+        BaselineModel small = new BaselineModel(cols, new double[] {-2, 0.7}, new double[][] {{0.1, 0}, {0, 0.25}},
+                "2026-01-05T00:00:00Z", "2026-03-30T00:00:00Z", 2_400, 270, null);
+        FalseAlarmBudget b = FalseAlarmBudget.derive(rules(3.0, null), small, new WindowGeometry(4 * WEEK, WEEK, 0, 0), 16);
+        Share household = b.shares().stream().filter(s -> s.rule().equals("odds-ratio-cusum")).findFirst().orElseThrow();
+        assertTrue(household.detail().contains("NO AVERAGE GUARANTEE"), household.describe());
+        assertTrue(b.scoreCharts().get(1).limit() > 0);
+    }
 }
