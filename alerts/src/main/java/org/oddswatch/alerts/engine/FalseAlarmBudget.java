@@ -35,8 +35,11 @@ import org.oddswatch.estimator.window.WindowGeometry;
  *       alarms &le; steps × per-step probability) is valid and conservative;</li>
  *   <li>an explicit CUSUM limit: events (or steps) per year divided by its computed in-control run
  *       length;</li>
- *   <li>calibration and bounds: not charged (their interval-based bands have no computable rate; the
- *       split lists them as such).</li>
+ *   <li>calibration: {@code stepsPerYear} times the union bound of its tests' in-control
+ *       probabilities per step ({@link CalibrationFalseAlarms}: the O/E and slope bands through
+ *       their standard errors from the baseline, the Hosmer–Lemeshow test at its p limit), so a split
+ *       monitor's streams share one budget with their calibration too;</li>
+ *   <li>bounds: not charged (they are the user's fixed thresholds on the odds ratio's interval).</li>
  * </ul>
  * What remains (at least a tenth of the stream's share, flagged as overspent when the explicit
  * limits took more) is split equally over the charts whose limit is left to the budget: each
@@ -56,7 +59,16 @@ import org.oddswatch.estimator.window.WindowGeometry;
  * {@code |shift|} grows, so the limit that keeps the run length at or above the target with
  * probability {@code budgetConfidence = 1 - α} over the baseline's error is the limit computed at
  * the shift's quantile {@code τ · Φ⁻¹(1 - α/2)}; no resampling is needed because the run length is
- * monotone in the one parameter that carries the error. For the Bernoulli charts the error sits in
+ * monotone in the one parameter that carries the error. That guarantee alone does not bound the
+ * false alarms a monitor raises on average: a chart with in-control mean {@code s} alarms at the
+ * long-run rate {@code 1 / L(s)} (it restarts after each signal), so over baselines the expected
+ * rate is {@code E_s[1 / L(s)]}, which the few baselines beyond the quantile dominate (with a
+ * 12-week baseline and weekly steps, {@code τ = 0.29}, the averaged run length of a chart with
+ * k 1.54, h 1.93 is 536 steps against 1,152 with a known baseline). The limit is therefore also
+ * held to the target on that average ({@link CusumRunLength#normalTwoSidedOverError}, Gauss–Hermite
+ * quadrature over {@code s ~ N(0, τ²)}), and the larger of the two limits is used: the budget is
+ * then kept both with the stated confidence for one baseline and in expectation over baselines.
+ * For the Bernoulli charts the error sits in
  * the overall log odds, {@code se ≈ 1 / sqrt(n p (1 - p))} from the baseline's events n and
  * prevalence p: the upper chart is solved at true odds {@code exp(+q)} times the baseline's, the lower
  * at {@code exp(-q)}, {@code q = se · Φ⁻¹(1 - α/2)}, and both use the larger h. The Bernoulli run
@@ -213,8 +225,25 @@ public final class FalseAlarmBudget {
             }
         }
         if (rules.calibration() != null) {
-            shares.add(new Share(CalibrationRule.NAME, "calibration", "not counted", Double.NaN, null,
-                    "interval bands; no computable false-alarm rate"));
+            double windowMillis = grid == null ? stepMillis : grid.widthMillis();
+            List<CalibrationFalseAlarms.Term> terms = CalibrationFalseAlarms.perStep(rules.calibration(), baseline,
+                    windowMillis / periodMillis);
+            if (terms.isEmpty()) {
+                shares.add(new Share(CalibrationRule.NAME, "calibration", "not counted", Double.NaN, null,
+                        "the baseline gives no expected positives per window"));
+            } else {
+                double perStep = terms.stream().mapToDouble(CalibrationFalseAlarms.Term::perStep).sum();
+                double perYear = stepsPerYear * perStep;
+                charged += perYear;
+                StringBuilder parts = new StringBuilder();
+                for (CalibrationFalseAlarms.Term t : terms) {
+                    parts.append(parts.length() == 0 ? "" : ", ").append(t.test())
+                            .append(String.format(Locale.ROOT, " %.1e", t.perStep()));
+                }
+                shares.add(new Share(CalibrationRule.NAME, "calibration", "explicit", perYear, null,
+                        String.format(Locale.ROOT, "union bound: %.1f steps a year x %.2e per step (%s)", stepsPerYear,
+                                perStep, parts)));
+            }
         }
         OddsRatioCusum score = rules.oddsRatioCusum();
         Map<Integer, Double> scoreReference = new LinkedHashMap<>();
@@ -283,11 +312,23 @@ public final class FalseAlarmBudget {
                         + " known baseline";
                 shift = 0;
             }
+            double tau = Double.isFinite(baselineSteps) && baselineSteps > 0 ? 1 / Math.sqrt(baselineSteps) : 0;
+            try {
+                h = Math.max(h, CusumRunLength.normalTwoSidedLimitOverError(target, k, tau));
+            } catch (IllegalArgumentException e) {
+                // k small against the baseline's error (a small stream): the baselines whose error
+                // exceeds k drift to a signal whatever h, so no limit keeps the average; keep the
+                // limit of the conditional guarantee and say so
+                unreached += "; NO AVERAGE GUARANTEE: the baseline's error (sd " + String.format(Locale.ROOT, "%.3f", tau)
+                        + ") is too large against k for any limit to keep the target on average over baselines";
+            }
             scoreCharts.put(j, new ChartSettings(k, h));
             shares.add(new Share(OddsRatioCusumRule.NAME, columns.get(j).label(), "derived", share, h,
                     String.format(Locale.ROOT, "k %.3f; run length >= %.0f steps at an in-control shift of %.3f"
-                            + " (its %.0f %% quantile from the baseline's error); %.0f steps with a known baseline",
+                            + " (its %.0f %% quantile from the baseline's error) and >= %.0f steps on average over"
+                            + " that error (sd %.3f); %.0f steps with a known baseline",
                             k, target, shift, 100 * rules.budgetConfidence(),
+                            CusumRunLength.normalTwoSidedOverError(h, k, tau, CusumRunLength.BUDGET_GRID), tau,
                             CusumRunLength.normalTwoSided(h, k, 0, CusumRunLength.BUDGET_GRID)) + unreached));
         }
         if (cusumDerived) {

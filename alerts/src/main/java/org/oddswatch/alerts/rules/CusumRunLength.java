@@ -1,5 +1,7 @@
 package org.oddswatch.alerts.rules;
 
+import org.apache.commons.math3.analysis.integration.gauss.GaussIntegrator;
+import org.apache.commons.math3.analysis.integration.gauss.GaussIntegratorFactory;
 import org.apache.commons.math3.distribution.NormalDistribution;
 
 /**
@@ -82,6 +84,43 @@ public final class CusumRunLength {
     /** Two-sided ARL from the one-sided ones, 1/L = 1/L+ + 1/L- (exact enough when k &gt; 0, Siegmund 1985). */
     public static double normalTwoSided(double h, double k, double mu, int n) {
         return 1 / (1 / normalOneSided(h, k, mu, n) + 1 / normalOneSided(h, k, -mu, n));
+    }
+
+    /** Gauss–Hermite nodes for averaging over the baseline's error; within 0.1 % of 40 nodes at the budget's limits. */
+    static final int ERROR_NODES = 16;
+
+    /**
+     * The two-sided normal CUSUM's run length averaged over an estimated baseline: the increments'
+     * in-control mean is {@code s ~ N(0, tau²)}, fixed for the chart's life (the baseline's error),
+     * and the result is the long-run mean spacing of false alarms over baselines,
+     * <pre>
+     *   L̄ = 1 / E_s[1 / L(h, k, s)],    1/L(s) = 1/L+(s) + 1/L+(-s)
+     * </pre>
+     * Because the chart restarts after each signal, a chart with mean {@code s} raises signals at
+     * the long-run rate {@code 1 / L(s)} (renewal-reward theorem), so the expected number of false
+     * alarms over {@code T} steps is {@code T · E_s[1/L(s)]}, not {@code T / L(0)}: by Jensen's
+     * inequality and the fast fall of L with {@code |s|} the averaged rate is the larger, often
+     * several times larger. The expectation is taken by Gauss–Hermite quadrature with
+     * {@value #ERROR_NODES} nodes ({@code E f(s) = π^{-1/2} Σ w_i f(√2 τ x_i)}); the nodes are
+     * symmetric, so {@code E[1/L] = 2 E[1/L+(s)]}. With {@code tau = 0} it equals
+     * {@link #normalTwoSided}.
+     */
+    public static double normalTwoSidedOverError(double h, double k, double tau, int n) {
+        if (!(tau > 0)) {
+            return normalTwoSided(h, k, 0, n);
+        }
+        GaussIntegrator nodes = new GaussIntegratorFactory().hermite(ERROR_NODES);
+        double rate = 0;
+        for (int i = 0; i < nodes.getNumberOfPoints(); i++) {
+            double s = Math.sqrt(2) * tau * nodes.getPoint(i);
+            rate += nodes.getWeight(i) * 2 / normalOneSided(h, k, s, n);
+        }
+        return Math.sqrt(Math.PI) / rate;
+    }
+
+    /** The smallest h (to 1e-4) with {@link #normalTwoSidedOverError} at least {@code target}. */
+    public static double normalTwoSidedLimitOverError(double target, double k, double tau) {
+        return smallestLimit(h -> normalTwoSidedOverError(h, k, tau, BUDGET_GRID), target, 0.5, 1e-4);
     }
 
     /**

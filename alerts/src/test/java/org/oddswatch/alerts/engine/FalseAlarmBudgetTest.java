@@ -28,6 +28,10 @@ class FalseAlarmBudgetTest {
     private static final double STEPS_PER_YEAR = 365.25 / 7;
     private static final double SE_HOUSEHOLD = 0.065;
     private static final double SE_TRAVEL = 0.09;
+    // Source: R 4.2.2, the calibration rule's union bound written out with pnorm for this baseline and a
+    // 4-week window (400 expected positives; slope information 0.81/0.065^2 + 0.36/0.09^2 + 0.01/0.004):
+    // O/E 1.33e-8 each side, slope 2.976e-5 each side, HL 1e-4; per year x 365.25/7 = 0.00832491787133
+    private static final double CALIBRATION_PER_YEAR = 0.00832491787133;
 
     private static BaselineModel baseline() {
         List<Column> cols = List.of(Column.intercept(), new Column("household_contact", "yes", "no", null, true, true),
@@ -59,11 +63,12 @@ class FalseAlarmBudgetTest {
         // Source: standard normal table, P(|Z| >= 3) = 0.0026997960632601
         double drift = STEPS_PER_YEAR * 0.0026997960632601;
         List<Share> shares = b.shares();
-        assertEquals(List.of("odds-ratio-drift explicit", "odds-ratio-drift explicit", "calibration not counted",
+        assertEquals(List.of("odds-ratio-drift explicit", "odds-ratio-drift explicit", "calibration explicit",
                 "odds-ratio-cusum derived", "odds-ratio-cusum derived", "bernoulli-cusum-up derived",
                 "bernoulli-cusum-down derived"), shares.stream().map(s -> s.rule() + " " + s.how()).toList());
         assertEquals(drift, shares.get(0).perYear(), 1e-9);
-        double each = (0.5 - 2 * drift) / 4;
+        assertEquals(CALIBRATION_PER_YEAR, shares.get(2).perYear(), 1e-9, shares.get(2).describe());
+        double each = (0.5 - 2 * drift - shares.get(2).perYear()) / 4;
         for (Share s : shares.subList(3, 7)) {
             assertEquals(each, s.perYear(), 1e-12, s.describe());
         }
@@ -75,7 +80,7 @@ class FalseAlarmBudgetTest {
     @Test
     void eachDerivedLimitIsTheSmallestThatKeepsItsShareAtTheBaselinesErrorQuantile() {
         FalseAlarmBudget b = derive(rules(3.0, null));
-        double each = (0.5 - 2 * STEPS_PER_YEAR * 0.0026997960632601) / 4;
+        double each = (0.5 - 2 * STEPS_PER_YEAR * 0.0026997960632601 - CALIBRATION_PER_YEAR) / 4;
         double target = STEPS_PER_YEAR / each;
         // 90 % of |N(0, 1/12)| lies below 1.6449 / sqrt(12): the in-control shift the limit is solved at
         double shift = 1.6448536269514722 / Math.sqrt(12);
@@ -83,8 +88,13 @@ class FalseAlarmBudgetTest {
         ChartSettings household = b.scoreCharts().get(1);
         assertEquals(k, household.reference(), 1e-12);
         double h = household.limit();
+        // both conditions hold at h: the run length at the shift quantile, and the run length averaged
+        // over the baseline's error N(0, 1/12); a limit 0.01 lower misses one of them
+        double tau = 1 / Math.sqrt(12);
         assertTrue(CusumRunLength.normalTwoSided(h, k, shift, CusumRunLength.BUDGET_GRID) >= target);
-        assertTrue(CusumRunLength.normalTwoSided(h - 0.01, k, shift, CusumRunLength.BUDGET_GRID) < target,
+        assertTrue(CusumRunLength.normalTwoSidedOverError(h, k, tau, CusumRunLength.BUDGET_GRID) >= target);
+        assertTrue(CusumRunLength.normalTwoSided(h - 0.01, k, shift, CusumRunLength.BUDGET_GRID) < target
+                || CusumRunLength.normalTwoSidedOverError(h - 0.01, k, tau, CusumRunLength.BUDGET_GRID) < target,
                 "boundary: a limit 0.01 lower misses the target run length " + target);
         // Bernoulli pair: 24,000 events in 12 weeks, so 104,357 a year; prevalence 0.05
         double events = 24_000 / 12.0 * STEPS_PER_YEAR;
@@ -135,5 +145,18 @@ class FalseAlarmBudgetTest {
         FalseAlarmBudget alone = FalseAlarmBudget.derive(rules, baseline(), grid, 1);
         assertTrue(alone.cusumLimit() < expected.cusumLimit());
         assertTrue(alone.scoreCharts().get(1).limit() < expected.scoreCharts().get(1).limit());
+    }
+
+    @Test
+    void aSmallStreamWhoseBaselineErrorExceedsKGetsALimitAndSaysThereIsNoAverageGuarantee() {
+        // household se 0.5 over 12 weekly steps: I_step = 1/3, k = ln 2 · sqrt(1/3) / 2 = 0.200, below the
+        // baseline error's sd 1/sqrt(12) = 0.289, so baselines beyond k drift to a signal whatever h
+        List<Column> cols = List.of(Column.intercept(), new Column("household_contact", "yes", "no", null, true, true));
+        BaselineModel small = new BaselineModel(cols, new double[] {-2, 0.7}, new double[][] {{0.1, 0}, {0, 0.25}},
+                "2026-01-05T00:00:00Z", "2026-03-30T00:00:00Z", 2_400, 270, null);
+        FalseAlarmBudget b = FalseAlarmBudget.derive(rules(3.0, null), small, new WindowGeometry(4 * WEEK, WEEK, 0, 0), 16);
+        Share household = b.shares().stream().filter(s -> s.rule().equals("odds-ratio-cusum")).findFirst().orElseThrow();
+        assertTrue(household.detail().contains("NO AVERAGE GUARANTEE"), household.describe());
+        assertTrue(b.scoreCharts().get(1).limit() > 0);
     }
 }

@@ -53,4 +53,18 @@ class CusumRunLengthTest {
         assertTrue(CusumRunLength.normalTwoSided(h, 1.2, 0.3, CusumRunLength.BUDGET_GRID) >= 500);
         assertTrue(CusumRunLength.normalTwoSided(h - 0.01, 1.2, 0.3, CusumRunLength.BUDGET_GRID) < 500);
     }
+
+    @Test
+    void theRunLengthAveragedOverTheBaselinesErrorAgreesWithRsSpcPackage() {
+        // Source: R 4.2.2, package spc 0.6.7: 1 / integrate(function(s) dnorm(s, 0, tau) /
+        // xcusum.arl(k, h, mu = s, sided = "two"), -6 tau, 6 tau) = 536.0598 for k = 1.54, h = 1.93,
+        // tau = 1/sqrt(12) (known baseline: 1152.108), and 92.2788 for k = 0.5, h = 4, tau = 0.2
+        assertEquals(536.0598, CusumRunLength.normalTwoSidedOverError(1.93, 1.54, 1 / Math.sqrt(12), 400), 536 * 0.005);
+        assertEquals(92.2788, CusumRunLength.normalTwoSidedOverError(4, 0.5, 0.2, 400), 92.3 * 0.005);
+        assertEquals(CusumRunLength.normalTwoSided(4, 0.5, 0, 150), CusumRunLength.normalTwoSidedOverError(4, 0.5, 0, 150));
+        double h = CusumRunLength.normalTwoSidedLimitOverError(1152, 1.54, 1 / Math.sqrt(12));
+        assertTrue(CusumRunLength.normalTwoSidedOverError(h, 1.54, 1 / Math.sqrt(12), CusumRunLength.BUDGET_GRID) >= 1152);
+        assertTrue(CusumRunLength.normalTwoSidedOverError(h - 0.01, 1.54, 1 / Math.sqrt(12), CusumRunLength.BUDGET_GRID)
+                < 1152, "boundary: 0.01 lower misses the target");
+    }
 }

@@ -1,0 +1,118 @@
+package org.oddswatch.alerts.engine;
+
+import java.util.ArrayList;
+import java.util.List;
+import org.apache.commons.math3.distribution.NormalDistribution;
+import org.apache.commons.math3.linear.LUDecomposition;
+import org.apache.commons.math3.linear.MatrixUtils;
+import org.apache.commons.math3.linear.RealMatrix;
+import org.oddswatch.alerts.engine.AlertRulesConfig.Calibration;
+import org.oddswatch.estimator.calibration.BaselineModel;
+
+/**
+ * The calibration rule's false-alarm probability per window step in control, bounded by the union of
+ * its tests (the rule signals when any one signals, so {@code P(signal) ≤ Σ P(test signals)}):
+ * <pre>
+ *   O/E above:   1 − Φ((ln oeMax + z_c·s_w) / sqrt(s_w² + s_b²)),   s_w = 1/sqrt(E_w), s_b = 1/sqrt(cases_base)
+ *   O/E below:   Φ((ln oeMin − z_c·s_w) / sqrt(s_w² + s_b²))
+ *   slope above: 1 − Φ((slopeMax − 1 + slopeZ·t_w) / sqrt(t_w² + t_b²))
+ *   slope below: Φ((slopeMin − 1 − slopeZ·t_w) / sqrt(t_w² + t_b²))
+ *   Hosmer–Lemeshow: its p limit (the test's own level)
+ * </pre>
+ * The O/E interval is treated as a normal interval on the log scale ({@code z_c = 1.96}, the default
+ * estimate level 0.95; the rule's exact Poisson interval is close to it at the window counts
+ * monitored) with {@code E_w} the window's expected positives, the baseline's cases over its period
+ * times the window's width. The calibration slope's standard error follows from the baseline's
+ * information along its own linear predictor: the slope multiplies {@code η − β_0}, so its
+ * information on the baseline's events is {@code β_s' V_ss⁻¹ β_s} ({@code β_s} the coefficients but
+ * the intercept, {@code V_ss} their covariance; the intercept profiled out), scaled to a window by
+ * its share of the baseline's events ({@code t_w}); {@code t_b} is that of the whole baseline. The
+ * {@code s_b}, {@code t_b} terms average each test over the baseline's estimation error: the figures
+ * are the probability over both the window and the baseline, which is what the expected number of
+ * false alarms needs (expectation is linear, so the union bound holds for it step by step). Pure.
+ */
+final class CalibrationFalseAlarms {
+
+    /** The normal quantile of the default estimate level 0.95 that the O/E interval is taken at. */
+    static final double OE_INTERVAL_Z = 1.959963984540054;
+    private static final NormalDistribution STANDARD = new NormalDistribution(null, 0, 1);
+
+    private CalibrationFalseAlarms() {
+    }
+
+    /**
+     * One test's share of the bound.
+     *
+     * @param test the test in words
+     * @param perStep its in-control signalling probability per window step
+     */
+    record Term(String test, double perStep) {
+    }
+
+    /**
+     * The union bound's terms for one stream (see the class description); an empty list when the
+     * baseline gives no expected positives per window.
+     *
+     * @param windowShare the window's events as a share of the baseline's (window width over the
+     *     baseline's period)
+     */
+    static List<Term> perStep(Calibration settings, BaselineModel baseline, double windowShare) {
+        List<Term> out = new ArrayList<>();
+        double windowCases = baseline.cases() * windowShare;
+        if (!(windowCases > 0) || !Double.isFinite(windowCases)) {
+            return out;
+        }
+        double sw = 1 / Math.sqrt(windowCases);
+        double sb = 1 / Math.sqrt(baseline.cases());
+        double s = Math.hypot(sw, sb);
+        out.add(new Term("O/E above", STANDARD.cumulativeProbability(
+                -(Math.log(settings.observedExpected().max()) + OE_INTERVAL_Z * sw) / s)));
+        out.add(new Term("O/E below", STANDARD.cumulativeProbability(
+                (Math.log(settings.observedExpected().min()) - OE_INTERVAL_Z * sw) / s)));
+        double slopeInformation = slopeInformation(baseline);
+        if (slopeInformation > 0 && Double.isFinite(slopeInformation)) {
+            double tw = 1 / Math.sqrt(slopeInformation * windowShare);
+            double tb = 1 / Math.sqrt(slopeInformation);
+            double t = Math.hypot(tw, tb);
+            out.add(new Term("slope above", STANDARD.cumulativeProbability(
+                    -(settings.slope().max() - 1 + settings.slopeZ() * tw) / t)));
+            out.add(new Term("slope below", STANDARD.cumulativeProbability(
+                    (settings.slope().min() - 1 - settings.slopeZ() * tw) / t)));
+        }
+        out.add(new Term("Hosmer-Lemeshow", settings.hosmerLemeshowP()));
+        return out;
+    }
+
+    /** {@code β_s' V_ss⁻¹ β_s}: the baseline's information on a slope multiplying its linear predictor; NaN if singular. */
+    static double slopeInformation(BaselineModel baseline) {
+        List<Integer> kept = new ArrayList<>();
+        for (int j = 0; j < baseline.columns().size(); j++) {
+            if (!baseline.columns().get(j).isIntercept()) {
+                kept.add(j);
+            }
+        }
+        int m = kept.size();
+        if (m == 0) {
+            return Double.NaN;
+        }
+        double[][] v = new double[m][m];
+        double[] b = new double[m];
+        for (int i = 0; i < m; i++) {
+            b[i] = baseline.coefficients()[kept.get(i)];
+            for (int l = 0; l < m; l++) {
+                v[i][l] = baseline.covariance()[kept.get(i)][kept.get(l)];
+            }
+        }
+        RealMatrix cov = MatrixUtils.createRealMatrix(v);
+        LUDecomposition lu = new LUDecomposition(cov);
+        if (!lu.getSolver().isNonSingular()) {
+            return Double.NaN;
+        }
+        double[] solved = lu.getSolver().solve(MatrixUtils.createRealVector(b)).toArray();
+        double info = 0;
+        for (int i = 0; i < m; i++) {
+            info += b[i] * solved[i];
+        }
+        return info;
+    }
+}
