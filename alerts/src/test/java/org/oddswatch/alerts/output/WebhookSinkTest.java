@@ -158,7 +158,10 @@ class WebhookSinkTest {
             exchange.close();
         });
         SimpleMeterRegistry registry = new SimpleMeterRegistry();
-        try (WebhookSink sink = new WebhookSink("resp", url, Duration.ofMillis(300), 2, Duration.ofMillis(10), 1)) {
+        // Attempts time out after 1.5 s: the first alert holds the worker for two attempts (3 s), long
+        // enough on a loaded machine for the next two calls to find it busy (at 300 ms a slow machine let
+        // the worker take the queued alert before the third call, which was then queued, not dropped).
+        try (WebhookSink sink = new WebhookSink("resp", url, Duration.ofMillis(1500), 2, Duration.ofMillis(10), 1)) {
             sink.bindTo(registry);
             // publish must return while the server still holds the request: the server is released
             // only after every publish call below has returned (a deadlock guard, not a timing check)
