@@ -71,6 +71,8 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
     private boolean deferralLogged;
     private long lastCommitNanos = System.nanoTime();
     private long lastStatusNanos;
+    /** Set by a commit: the next status snapshot is built at once, so it covers what was committed. */
+    private boolean statusDue;
     private volatile boolean closing;
 
     /**
@@ -130,7 +132,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
                 boolean troubleChanged = broker.checkConnection(now, assignedOnce);
                 timers.tick(owned.values(), now, broker.inputPaused());
                 meters.ready(ready());
-                if (troubleChanged || now - lastStatusNanos >= STATUS_NANOS) {
+                if (statusDue || troubleChanged || now - lastStatusNanos >= STATUS_NANOS) {
                     publishStatus();
                 }
             }
@@ -296,6 +298,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
             }
             deferralLogged = false;
             offsets.forEach((tp, om) -> owned.get(tp).lastCommitted = om.offset());
+            statusDue = true; // /status never shows fewer records than the group has committed
         }
         broker.succeeded(Operation.COMMIT, "outputs stored and offsets committed");
         lastCommitNanos = System.nanoTime();
@@ -334,5 +337,6 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
         String state = ready() ? "ready" : closing ? "stopped" : reason != null ? "waiting-for-broker" : "rebuilding";
         status.publish(owned.values(), state, reason, counts);
         lastStatusNanos = System.nanoTime();
+        statusDue = false;
     }
 }
