@@ -167,6 +167,27 @@ public final class CusumRunLength {
         return hi;
     }
 
+    /**
+     * {@code max(smallestLimit(first, ...), smallestLimit(second, ...))}, solving for the second
+     * limit only when it is the larger. Why the result is the same: the doubling brackets h by
+     * multiples {@code start · 2^m} and the bisection then halves the bracket to {@code tolerance},
+     * so every point it tries, and the limit it returns, lies on one grid, the multiples of
+     * {@code start · 2^-K} with K the least integer making that at most {@code tolerance}, whatever
+     * the bracket; with a run length growing in h (which the bisection assumes), the limit is the
+     * smallest grid point reaching {@code target}. So when {@code second} already reaches the target
+     * at the first limit, its own limit is no larger and the maximum is the first limit; otherwise it
+     * is the second limit, solved as usual (and it throws as usual). One run length instead of a
+     * whole search: the false-alarm budget solves each stream's limits once, at its start.
+     *
+     * @throws IllegalArgumentException as {@link #smallestLimit} for either
+     */
+    public static double largerLimit(java.util.function.DoubleUnaryOperator first,
+                                     java.util.function.DoubleUnaryOperator second, double target, double start,
+                                     double tolerance) {
+        double h = smallestLimit(first, target, start, tolerance);
+        return second.applyAsDouble(h) >= target ? h : smallestLimit(second, target, start, tolerance);
+    }
+
     /** L_0 of (I - Q) L = 1 by Gaussian elimination with partial pivoting. */
     private static double solveFromZero(double[][] q) {
         int n = q.length;
