@@ -10,8 +10,8 @@ import org.oddswatch.estimator.calibration.BaselineModel;
  * The events the sequential rules have not yet taken, held until their time is closed and then
  * delivered in (event time, id) order to every rule that reads from it. One buffer serves both CUSUM
  * rules of a stream ({@link BernoulliCusumRule} and {@link OddsRatioCusumRule}), so each event is
- * copied, held and sorted once, and its baseline linear predictor {@code eta = x'b} computed once;
- * a rule built without a buffer gets one of its own.
+ * copied, held and sorted once, and its baseline linear predictor {@code eta = x'b} computed once
+ * (when it is added, while its row is at hand); a rule built without a buffer gets one of its own.
  *
  * <p>Order and determinism: {@link #deliverBefore} takes every held event with time before the
  * closing time, sorts those by (event time, id) and hands each, in that order, to each reader in the
@@ -23,7 +23,9 @@ import org.oddswatch.estimator.calibration.BaselineModel;
  *
  * <p>Cost: events arrive nearly in time order, so the sort of one delivery (a merge sort, linear on
  * sorted runs) costs about one comparison per event, where a binary heap costs about
- * {@code log2(held)} per event and rule. Not thread-safe; one instance per stream.
+ * {@code log2(held)} per event and rule. A delivery finds the due events by scanning an array of
+ * the held events' times (a few days' events), not the events themselves, which lie scattered in
+ * memory. Not thread-safe; one instance per stream.
  */
 public final class PendingEvents {
 
@@ -47,7 +49,11 @@ public final class PendingEvents {
     private final int width;
     private final List<Reader> readers = new ArrayList<>(2);
     private Held[] held = new Held[1024];
+    /** The held events' times, beside them: a delivery scans these, not the events themselves. */
+    private long[] times = new long[1024];
     private int size;
+    /** The earliest held time (Long.MAX_VALUE when none): a close before it has nothing to deliver. */
+    private long earliest = Long.MAX_VALUE;
     private Held[] due = new Held[1024];
 
     /** @param baseline the model whose linear predictor each event carries (its columns fix the row width) */
@@ -73,8 +79,12 @@ public final class PendingEvents {
         }
         if (size == held.length) {
             held = Arrays.copyOf(held, 2 * size);
+            times = Arrays.copyOf(times, 2 * size);
         }
-        held[size++] = new Held(eventTimeMillis, id == null ? "" : id, row.clone(), positive);
+        times[size] = eventTimeMillis;
+        earliest = Math.min(earliest, eventTimeMillis);
+        held[size++] = new Held(eventTimeMillis, id == null ? "" : id, row.clone(), baseline.linearPredictor(row),
+                positive);
     }
 
     /** Events held, not yet delivered. */
@@ -87,35 +97,38 @@ public final class PendingEvents {
      * (event time, id) order (see the class description); the later ones stay held.
      */
     void deliverBefore(long closedBeforeMillis) {
+        if (earliest >= closedBeforeMillis) {
+            return; // the stream's other rule has already taken them, or none is due
+        }
         int n = 0;
         int kept = 0;
+        long keptEarliest = Long.MAX_VALUE;
         for (int i = 0; i < size; i++) {
-            Held h = held[i];
-            if (h.time < closedBeforeMillis) {
+            long time = times[i];
+            if (time < closedBeforeMillis) {
                 if (n == due.length) {
                     due = Arrays.copyOf(due, 2 * n);
                 }
-                due[n++] = h;
+                due[n++] = held[i];
             } else {
-                held[kept++] = h;
+                times[kept] = time;
+                held[kept++] = held[i];
+                keptEarliest = Math.min(keptEarliest, time);
             }
-        }
-        if (n == 0) {
-            return;
         }
         Arrays.fill(held, kept, size, null);
         size = kept;
+        earliest = keptEarliest;
         Arrays.sort(due, 0, n, ORDER);
         for (int i = 0; i < n; i++) {
             Held h = due[i];
-            double eta = baseline.linearPredictor(h.row);
             for (int r = 0; r < readers.size(); r++) {
-                readers.get(r).take(h.time, h.row, eta, h.positive);
+                readers.get(r).take(h.time, h.row, h.eta, h.positive);
             }
             due[i] = null;
         }
     }
 
-    private record Held(long time, String id, double[] row, boolean positive) {
+    private record Held(long time, String id, double[] row, double eta, boolean positive) {
     }
 }
