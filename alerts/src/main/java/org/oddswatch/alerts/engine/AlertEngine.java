@@ -26,6 +26,7 @@ import org.oddswatch.alerts.rules.Measurement;
 import org.oddswatch.alerts.rules.OddsRatioBoundsRule;
 import org.oddswatch.alerts.rules.OddsRatioCusumRule;
 import org.oddswatch.alerts.rules.OddsRatioDriftRule;
+import org.oddswatch.alerts.rules.PendingEvents;
 import org.oddswatch.alerts.rules.Reading;
 import org.oddswatch.alerts.rules.WindowRule;
 import org.oddswatch.alerts.rules.Zone;
@@ -54,6 +55,8 @@ public final class AlertEngine {
     private final List<WindowRule> windowRules = new ArrayList<>();
     private final BernoulliCusumRule cusum;
     private final OddsRatioCusumRule scoreCusum;
+    /** The events both CUSUM rules take, held once for both until their time closes (null without a CUSUM). */
+    private final PendingEvents events;
     private final FalseAlarmBudget budget;
     private final EpisodeTracker tracker;
     private final Map<String, Alert> lastByKey = new LinkedHashMap<>();
@@ -110,16 +113,19 @@ public final class AlertEngine {
                     gaps.guard(CalibrationRule.NAME, r.guardFor(r.calibration().guard()))));
         }
         this.budget = baseline == null ? null : FalseAlarmBudget.derive(r, baseline, grid, streams);
-        cusum = baseline != null && r.cusum() != null
+        boolean withCusum = baseline != null && r.cusum() != null;
+        boolean withScoreCusum = baseline != null && r.oddsRatioCusum() != null && !budget.scoreCharts().isEmpty();
+        events = withCusum || withScoreCusum ? new PendingEvents(baseline) : null;
+        cusum = withCusum
                 ? new BernoulliCusumRule(AlertRulesConfig.withLimit(r.cusum(), budget.cusumLimit()),
-                        new InformationGuard(r.guardFor(r.cusum().guard())), baseline, grid, cells)
+                        new InformationGuard(r.guardFor(r.cusum().guard())), baseline, grid, cells, events)
                 : null;
-        if (baseline != null && r.oddsRatioCusum() != null && !budget.scoreCharts().isEmpty()) {
+        if (withScoreCusum) {
             List<Integer> columns = new ArrayList<>(budget.scoreCharts().keySet());
             columns.sort(null);
             scoreCusum = new OddsRatioCusumRule(baseline, columns, columns.stream().map(budget.scoreCharts()::get).toList(),
                     gaps.guard(OddsRatioCusumRule.NAME, r.guardFor(r.oddsRatioCusum().guard())),
-                    r.oddsRatioCusum().clearAfter(), r.oddsRatioCusum().clearFraction());
+                    r.oddsRatioCusum().clearAfter(), r.oddsRatioCusum().clearFraction(), events);
         } else {
             scoreCusum = null;
         }
@@ -252,9 +258,9 @@ public final class AlertEngine {
     }
 
     /**
-     * Buffers one accepted complete-case event for the sequential (CUSUM) rule. Events are
-     * processed only when their bucket closes, in (event time, id) order, so arrival order within the
-     * allowed lateness does not matter.
+     * Buffers one accepted complete-case event for the sequential (CUSUM) rules, once for both (a
+     * {@link PendingEvents} they share). Events are processed only when their bucket closes, in
+     * (event time, id) order, so arrival order within the allowed lateness does not matter.
      *
      * @param row the coded design row (intercept first)
      */
@@ -262,11 +268,8 @@ public final class AlertEngine {
         if (eventTimeMillis >= baselineFrom && eventTimeMillis < baselineTo) {
             return;
         }
-        if (cusum != null) {
-            cusum.offer(eventTimeMillis, id, row, positive);
-        }
-        if (scoreCusum != null) {
-            scoreCusum.offer(eventTimeMillis, id, row, positive);
+        if (events != null) {
+            events.add(eventTimeMillis, id, row, positive);
         }
     }
 

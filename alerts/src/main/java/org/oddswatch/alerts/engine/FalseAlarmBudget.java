@@ -313,8 +313,14 @@ public final class FalseAlarmBudget {
                 shift = 0;
             }
             double tau = Double.isFinite(baselineSteps) && baselineSteps > 0 ? 1 / Math.sqrt(baselineSteps) : 0;
+            // h = max(h, the limit on average over the error): that limit is solved for only when it
+            // is the larger (see CusumRunLength.largerLimit for why the result is the same)
+            double averaged = CusumRunLength.normalTwoSidedOverError(h, k, tau, CusumRunLength.BUDGET_GRID);
             try {
-                h = Math.max(h, CusumRunLength.normalTwoSidedLimitOverError(target, k, tau));
+                if (!(averaged >= target)) {
+                    h = Math.max(h, CusumRunLength.normalTwoSidedLimitOverError(target, k, tau));
+                    averaged = CusumRunLength.normalTwoSidedOverError(h, k, tau, CusumRunLength.BUDGET_GRID);
+                }
             } catch (IllegalArgumentException e) {
                 // k small against the baseline's error (a small stream): the baselines whose error
                 // exceeds k drift to a signal whatever h, so no limit keeps the average; keep the
@@ -327,8 +333,7 @@ public final class FalseAlarmBudget {
                     String.format(Locale.ROOT, "k %.3f; run length >= %.0f steps at an in-control shift of %.3f"
                             + " (its %.0f %% quantile from the baseline's error) and >= %.0f steps on average over"
                             + " that error (sd %.3f); %.0f steps with a known baseline",
-                            k, target, shift, 100 * rules.budgetConfidence(),
-                            CusumRunLength.normalTwoSidedOverError(h, k, tau, CusumRunLength.BUDGET_GRID), tau,
+                            k, target, shift, 100 * rules.budgetConfidence(), averaged, tau,
                             CusumRunLength.normalTwoSided(h, k, 0, CusumRunLength.BUDGET_GRID)) + unreached));
         }
         if (cusumDerived) {
@@ -336,13 +341,11 @@ public final class FalseAlarmBudget {
             double target = eventsPerYear / share;
             String unreached = "";
             try {
-                cusumLimit = Math.max(bernoulliLimit(target, cusum.up(), prevalence, Math.exp(q)),
-                        bernoulliLimit(target, cusum.down(), prevalence, Math.exp(-q)));
+                cusumLimit = largerBernoulliLimit(target, cusum, prevalence, Math.exp(q), Math.exp(-q));
             } catch (IllegalArgumentException e) {
                 // too few baseline events for the confidence asked: the limit for a known baseline risk
                 q = 0;
-                cusumLimit = Math.max(bernoulliLimit(target, cusum.up(), prevalence, 1),
-                        bernoulliLimit(target, cusum.down(), prevalence, 1));
+                cusumLimit = largerBernoulliLimit(target, cusum, prevalence, 1, 1);
                 unreached = "; NO GUARANTEE: too few baseline events for the confidence asked, limit for a known risk";
             }
             shares.add(new Share(BernoulliCusumRule.UP, "all events", "derived", share, cusumLimit,
@@ -359,9 +362,16 @@ public final class FalseAlarmBudget {
                 BERNOULLI_GRID);
     }
 
-    /** The smallest h (to 0.01) whose Bernoulli chart reaches {@code target} events in control. */
-    static double bernoulliLimit(double target, double r, double prevalence, double trueMultiplier) {
-        return CusumRunLength.smallestLimit(h -> bernoulli(h, r, prevalence, trueMultiplier), target, 1, 0.01);
+    /**
+     * The larger of the up and down charts' limits, each the smallest h (to 0.01) whose Bernoulli
+     * chart reaches {@code target} events (the up chart's at true odds x {@code upMultiplier}, the down
+     * chart's at x {@code downMultiplier}); the down chart's is solved only when it is the larger
+     * ({@link CusumRunLength#largerLimit}).
+     */
+    private static double largerBernoulliLimit(double target, Cusum cusum, double prevalence, double upMultiplier,
+                                               double downMultiplier) {
+        return CusumRunLength.largerLimit(h -> bernoulli(h, cusum.up(), prevalence, upMultiplier),
+                h -> bernoulli(h, cusum.down(), prevalence, downMultiplier), target, 1, 0.01);
     }
 
     private static double periodMillis(BaselineModel baseline) {

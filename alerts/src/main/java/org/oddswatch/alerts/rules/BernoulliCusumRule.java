@@ -4,7 +4,6 @@ import java.time.Instant;
 import java.util.ArrayList;
 import java.util.Comparator;
 import java.util.List;
-import java.util.PriorityQueue;
 import org.oddswatch.alerts.engine.AlertRulesConfig;
 import org.oddswatch.alerts.engine.AlertRulesConfig.Cusum;
 import org.oddswatch.alerts.engine.AlertRulesConfig.TermLimits;
@@ -24,7 +23,8 @@ import org.oddswatch.estimator.window.WindowGeometry;
  * {@code R_down < 1} ({@code bernoulli-cusum-down}), over all events (subject {@code calibration})
  * and, when configured, over the events whose indicator of a watched term is 1 (subject that term).
  *
- * <p>Order and determinism: {@link #offer} only buffers; {@link #close} processes the buffered
+ * <p>Order and determinism: {@link #offer} only buffers (in a {@link PendingEvents} the rule may share
+ * with the {@link OddsRatioCusumRule} of the same stream); {@link #close} processes the buffered
  * events with time before the closing time, sorted by (event time, id), so arrival order within the
  * allowed lateness does not matter. An event offered after its time was closed is processed with
  * the next close, in its sorted place among those events. A signal restarts the chart at 0, so each
@@ -67,8 +67,7 @@ public final class BernoulliCusumRule {
     private final double clearFraction;
     private final long minEvents;
     private final List<BernoulliChart> charts = new ArrayList<>();
-    private final PriorityQueue<Pending> pending = new PriorityQueue<>(
-            Comparator.comparingLong(Pending::time).thenComparing(Pending::id));
+    private final PendingEvents pending;
     private long lastReportEnd = Long.MIN_VALUE;
     private List<CusumValue> lastValues = List.of();
 
@@ -83,6 +82,15 @@ public final class BernoulliCusumRule {
      */
     public BernoulliCusumRule(Cusum settings, InformationGuard guard, BaselineModel baseline, WindowGeometry grid,
                               SmallCellPolicy cells) {
+        this(settings, guard, baseline, grid, cells, new PendingEvents(baseline));
+    }
+
+    /**
+     * @param events the buffer the rule takes its events from, shared with the stream's other
+     *     sequential rule: events go into it once ({@link PendingEvents#add}), not through {@link #offer}
+     */
+    public BernoulliCusumRule(Cusum settings, InformationGuard guard, BaselineModel baseline, WindowGeometry grid,
+                              SmallCellPolicy cells, PendingEvents events) {
         this.grid = grid;
         this.cells = cells;
         this.baseline = baseline;
@@ -99,6 +107,8 @@ public final class BernoulliCusumRule {
                 }
             }
         }
+        this.pending = events;
+        events.register(this::take);
     }
 
     /** A section without a limit (one the budget derives) runs here with the fixed fallback. */
@@ -110,27 +120,32 @@ public final class BernoulliCusumRule {
                 clearFraction, cells, grid));
     }
 
-    /** Buffers one complete-case event; {@code row} is the coded design row (intercept first), copied. */
+    /**
+     * Buffers one complete-case event; {@code row} is the coded design row (intercept first), copied.
+     * With a shared buffer, add the event to the buffer instead (once for all its rules).
+     */
     public void offer(long eventTimeMillis, String id, double[] row, boolean positive) {
-        if (row.length != baseline.columns().size()) {
-            throw new IllegalArgumentException("design row has " + row.length + " columns, the baseline "
-                    + baseline.columns().size());
-        }
-        pending.add(new Pending(eventTimeMillis, id == null ? "" : id, row.clone(), positive));
+        pending.add(eventTimeMillis, id, row, positive);
     }
 
-    /** Processes every buffered event with time before {@code closedBeforeMillis}, in (time, id) order. */
+    /**
+     * Processes every buffered event with time before {@code closedBeforeMillis}, in (time, id) order
+     * (with a shared buffer, every rule reading from it takes them).
+     */
     public void close(long closedBeforeMillis) {
-        while (!pending.isEmpty() && pending.peek().time < closedBeforeMillis) {
-            Pending p = pending.poll();
-            double risk = baseline.risk(p.row);
-            if (!(risk > 0 && risk < 1)) {
-                continue;
-            }
-            for (BernoulliChart chart : charts) {
-                if ((chart.column < 0 || p.row[chart.column] == 1.0) && p.time >= chart.resumedAt) {
-                    chart.add(p.time, p.positive, risk);
-                }
+        pending.deliverBefore(closedBeforeMillis);
+    }
+
+    /** One event from the buffer, in order: to every chart whose subject it belongs to. */
+    private void take(long time, double[] row, double eta, boolean positive) {
+        double risk = StepScore.expit(eta);
+        if (!(risk > 0 && risk < 1)) {
+            return;
+        }
+        for (int c = 0; c < charts.size(); c++) {
+            BernoulliChart chart = charts.get(c);
+            if ((chart.column < 0 || row[chart.column] == 1.0) && time >= chart.resumedAt) {
+                chart.add(time, positive, risk);
             }
         }
     }
@@ -231,8 +246,5 @@ public final class BernoulliCusumRule {
     /** Events the chart of {@code rule} over all events had processed at its first signal, or -1 (run-length tests). */
     long firstSignalAt(String rule) {
         return charts.stream().filter(c -> c.rule.equals(rule) && c.column < 0).findFirst().orElseThrow().firstSignal;
-    }
-
-    private record Pending(long time, String id, double[] row, boolean positive) {
     }
 }

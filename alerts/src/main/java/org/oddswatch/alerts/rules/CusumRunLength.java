@@ -30,6 +30,12 @@ public final class CusumRunLength {
      * (plain rounding to the nearest point, the textbook variant, biases the drift).
      */
     public static double bernoulli(double h, double r, double[] share, double[] risk, double trueMultiplier, int n) {
+        return solveFromZero(bernoulliTransitions(h, r, share, risk, trueMultiplier, n));
+    }
+
+    /** The transition matrix Q of {@link #bernoulli}, states 0..n. */
+    static double[][] bernoulliTransitions(double h, double r, double[] share, double[] risk, double trueMultiplier,
+                                           int n) {
         double w = h / n;
         double[][] q = new double[n + 1][n + 1];
         for (int i = 0; i <= n; i++) {
@@ -55,7 +61,7 @@ public final class CusumRunLength {
                 }
             }
         }
-        return solveFromZero(q);
+        return q;
     }
 
     /**
@@ -167,13 +173,53 @@ public final class CusumRunLength {
         return hi;
     }
 
-    /** L_0 of (I - Q) L = 1 by Gaussian elimination with partial pivoting. */
-    private static double solveFromZero(double[][] q) {
+    /**
+     * {@code max(smallestLimit(first, ...), smallestLimit(second, ...))}, solving for the second
+     * limit only when it is the larger. Why the result is the same: the doubling brackets h by
+     * multiples {@code start · 2^m} and the bisection then halves the bracket to {@code tolerance},
+     * so every point it tries, and the limit it returns, lies on one grid, the multiples of
+     * {@code start · 2^-K} with K the least integer making that at most {@code tolerance}, whatever
+     * the bracket; with a run length growing in h (which the bisection assumes), the limit is the
+     * smallest grid point reaching {@code target}. So when {@code second} already reaches the target
+     * at the first limit, its own limit is no larger and the maximum is the first limit; otherwise it
+     * is the second limit, solved as usual (and it throws as usual). One run length instead of a
+     * whole search: the false-alarm budget solves each stream's limits once, at its start.
+     *
+     * @throws IllegalArgumentException as {@link #smallestLimit} for either
+     */
+    public static double largerLimit(java.util.function.DoubleUnaryOperator first,
+                                     java.util.function.DoubleUnaryOperator second, double target, double start,
+                                     double tolerance) {
+        double h = smallestLimit(first, target, start, tolerance);
+        return second.applyAsDouble(h) >= target ? h : smallestLimit(second, target, start, tolerance);
+    }
+
+    /**
+     * L_0 of (I - Q) L = 1 by Gaussian elimination with partial pivoting. A row operation runs only
+     * up to the last column where the pivot row can be non-zero (and the right-hand side): the
+     * Bernoulli chains are banded (an event moves the chart by one of a few fixed steps), so most of
+     * each row is exactly zero, and subtracting {@code f · 0} from an entry leaves it as it was. The
+     * result is the plain elimination's to the last bit (a non-finite {@code f}, from a singular
+     * matrix, takes the whole row as the plain elimination does); dense chains (the normal ones) run
+     * the whole row as before.
+     */
+    static double solveFromZero(double[][] q) {
+        return solveFromZero(q, true);
+    }
+
+    /** {@link #solveFromZero(double[][])}, with row operations over whole rows when {@code banded} is false (the plain elimination). */
+    static double solveFromZero(double[][] q, boolean banded) {
         int n = q.length;
         double[][] a = new double[n][n + 1];
+        // last[i]: the last column (< n) of row i that may be non-zero; beyond it the row is exactly 0
+        int[] last = new int[n];
         for (int i = 0; i < n; i++) {
+            last[i] = -1;
             for (int j = 0; j < n; j++) {
                 a[i][j] = (i == j ? 1 : 0) - q[i][j];
+                if (a[i][j] != 0) {
+                    last[i] = j;
+                }
             }
             a[i][n] = 1;
         }
@@ -187,15 +233,21 @@ public final class CusumRunLength {
             double[] tmp = a[col];
             a[col] = a[piv];
             a[piv] = tmp;
+            int tmpLast = last[col];
+            last[col] = last[piv];
+            last[piv] = tmpLast;
             double d = a[col][col];
             for (int i = col + 1; i < n; i++) {
                 double f = a[i][col] / d;
                 if (f != 0) {
                     double[] ri = a[i];
                     double[] rc = a[col];
-                    for (int j = col; j <= n; j++) {
+                    int end = banded && Double.isFinite(f) ? last[col] : n - 1;
+                    for (int j = col; j <= end; j++) {
                         ri[j] -= f * rc[j];
                     }
+                    ri[n] -= f * rc[n];
+                    last[i] = Math.max(last[i], end);
                 }
             }
         }

@@ -2,9 +2,7 @@ package org.oddswatch.alerts.rules;
 
 import java.time.Instant;
 import java.util.ArrayList;
-import java.util.Comparator;
 import java.util.List;
-import java.util.PriorityQueue;
 import org.oddswatch.alerts.lifecycle.AlertSubject;
 import org.oddswatch.alerts.lifecycle.Evidence;
 import org.oddswatch.estimator.calibration.BaselineModel;
@@ -24,9 +22,10 @@ import org.oddswatch.estimator.terms.Column;
  * CUSUM, computed by {@link CusumRunLength#normalTwoSided}; {@code engine.FalseAlarmBudget} solves
  * for {@code h} from a false-alarm budget.
  *
- * <p>Steps and order: {@link #offer} buffers events; {@link #report} (once per final window, with
- * its end) takes the buffered events before that end, in (event time, id) order, as the step's new
- * events. With overlapping windows each step's events are only the ones that entered the window,
+ * <p>Steps and order: {@link #offer} buffers events (in a {@link PendingEvents} the rule may share
+ * with the {@link BernoulliCusumRule} of the same stream); {@link #report} (once per final window,
+ * with its end) takes the buffered events before that end, in (event time, id) order, as the step's
+ * new events. With overlapping windows each step's events are only the ones that entered the window,
  * so no event counts twice.
  *
  * <p>Readings (subject: the watched term and level): {@link Zone#BEYOND} when a side signalled
@@ -64,7 +63,7 @@ public final class OddsRatioCusumRule {
         final CusumChart down;
         long upStart = Long.MIN_VALUE;
         long downStart = Long.MIN_VALUE;
-        StepScore step = new StepScore();
+        final StepScore step = new StepScore();
 
         Chart(Column column, int index, ChartSettings settings) {
             this.column = column;
@@ -81,8 +80,7 @@ public final class OddsRatioCusumRule {
     private final int clearAfter;
     private final double clearFraction;
     private final List<Chart> charts = new ArrayList<>();
-    private final PriorityQueue<Pending> pending = new PriorityQueue<>(
-            Comparator.comparingLong(Pending::time).thenComparing(Pending::id));
+    private final PendingEvents pending;
     private long lastReportEnd = Long.MIN_VALUE;
 
     /**
@@ -92,6 +90,15 @@ public final class OddsRatioCusumRule {
      */
     public OddsRatioCusumRule(BaselineModel baseline, List<Integer> watched, List<ChartSettings> settings,
                               InformationGuard guard, int clearAfter, double clearFraction) {
+        this(baseline, watched, settings, guard, clearAfter, clearFraction, new PendingEvents(baseline));
+    }
+
+    /**
+     * @param events the buffer the rule takes its events from, shared with the stream's other
+     *     sequential rule: events go into it once ({@link PendingEvents#add}), not through {@link #offer}
+     */
+    public OddsRatioCusumRule(BaselineModel baseline, List<Integer> watched, List<ChartSettings> settings,
+                              InformationGuard guard, int clearAfter, double clearFraction, PendingEvents events) {
         this.baseline = baseline;
         this.minEvents = guard.minEvents();
         this.clearAfter = clearAfter;
@@ -100,23 +107,27 @@ public final class OddsRatioCusumRule {
             int j = watched.get(i);
             charts.add(new Chart(baseline.columns().get(j), j, settings.get(i)));
         }
+        this.pending = events;
+        events.register(this::take);
     }
 
-    /** Buffers one complete-case event; {@code row} is the coded design row (intercept first). */
+    /**
+     * Buffers one complete-case event; {@code row} is the coded design row (intercept first), copied.
+     * With a shared buffer, add the event to the buffer instead (once for all its rules).
+     */
     public void offer(long eventTimeMillis, String id, double[] row, boolean positive) {
-        if (row.length != baseline.columns().size()) {
-            throw new IllegalArgumentException("design row has " + row.length + " columns, the baseline "
-                    + baseline.columns().size());
-        }
-        double eta = baseline.linearPredictor(row);
+        pending.add(eventTimeMillis, id, row, positive);
+    }
+
+    /** One event from the buffer, in order: into the current step of every watched column (none without a finite eta). */
+    private void take(long time, double[] row, double eta, boolean positive) {
         if (!Double.isFinite(eta)) {
             return;
         }
-        double[] x = new double[charts.size()];
-        for (int c = 0; c < x.length; c++) {
-            x[c] = row[charts.get(c).index];
+        for (int c = 0; c < charts.size(); c++) {
+            Chart chart = charts.get(c);
+            chart.step.add(eta, row[chart.index], positive);
         }
-        pending.add(new Pending(eventTimeMillis, id == null ? "" : id, eta, x, positive));
     }
 
     /**
@@ -128,17 +139,12 @@ public final class OddsRatioCusumRule {
         if (end <= lastReportEnd) {
             return List.of();
         }
-        while (!pending.isEmpty() && pending.peek().time < end) {
-            Pending p = pending.poll();
-            for (int c = 0; c < charts.size(); c++) {
-                charts.get(c).step.add(p.eta, p.x[c], p.positive);
-            }
-        }
+        pending.deliverBefore(end);
         long stepStart = lastReportEnd;
         List<Reading> out = new ArrayList<>(charts.size());
         for (Chart chart : charts) {
             out.add(read(chart, stepStart, windowEnd));
-            chart.step = new StepScore();
+            chart.step.clear();
         }
         lastReportEnd = end;
         return out;
@@ -197,8 +203,5 @@ public final class OddsRatioCusumRule {
         return new Reading(NAME, chart.subject, zone, 0, 1, clearAfter, from, windowEnd, stepOddsRatio,
                 Math.exp(bBase), h, clearLimit, new Evidence(z, high, null, null, null), step.events(), detail,
                 new Measurement(Measurement.ODDS_RATIO_CUSUM, high, null));
-    }
-
-    private record Pending(long time, String id, double eta, double[] x, boolean positive) {
     }
 }

@@ -18,7 +18,8 @@ package org.oddswatch.alerts.rules;
  * and because the intercept is re-estimated a change in overall prevalence the baseline does not
  * expect moves it only through the small change of the weights: z measures the odds ratio.
  * Sums run in the order the events are added; the rule adds them in (event time, id) order, so the
- * result is byte-identical for the same events. Not thread-safe; one instance per step.
+ * result is byte-identical for the same events. Not thread-safe; one instance per chart, {@link #clear
+ * cleared} for each step (it keeps its arrays, so a step's events cost no allocation once they fit).
  */
 final class StepScore {
 
@@ -42,6 +43,12 @@ final class StepScore {
         y[n] = positive;
         n++;
         positives += positive ? 1 : 0;
+    }
+
+    /** Forgets the step's events (the next step starts empty). */
+    void clear() {
+        n = 0;
+        positives = 0;
     }
 
     int events() {
@@ -104,7 +111,12 @@ final class StepScore {
                 ? new Score(u / Math.sqrt(information), u / information) : null;
     }
 
-    private static double expit(double eta) {
+    /**
+     * The logistic function {@code 1 / (1 + exp(-eta))}, evaluated on the side where {@code exp}
+     * cannot overflow; the same arithmetic as {@code BaselineModel.risk}, so a risk made from a
+     * stored linear predictor equals the model's to the last bit.
+     */
+    static double expit(double eta) {
         return eta >= 0 ? 1 / (1 + Math.exp(-eta)) : Math.exp(eta) / (1 + Math.exp(eta));
     }
 }
