@@ -34,7 +34,6 @@ public final class Fixtures {
                 new Column("age_years", null, null, 10.0, false, false));
     }
 
-    /** Baseline: intercept -3.0 (se 0.05), household_contact 0.7 (se 0.08), age 0.1 (se 0.02). */
     /**
      * The rule set that earlier versions ran by default: the window z-rule on every watched term,
      * calibration with the fixed bands O/E [0.8, 1.25] and slope [0.7, 1.3], both CUSUMs with their
@@ -51,6 +50,7 @@ public final class Fixtures {
                 org.oddswatch.alerts.engine.AlertRulesConfig.defaults().oddsRatioCusum(), null, null);
     }
 
+    /** Baseline: intercept -3.0 (se 0.05), household_contact 0.7 (se 0.08), age 0.1 (se 0.02). */
     public static BaselineModel baseline() {
         double[][] cov = {{0.0025, 0, 0}, {0, 0.0064, 0}, {0, 0, 0.0004}};
         return new BaselineModel(columns(), new double[] {-3.0, 0.7, 0.1}, cov, "2026-01-05T00:00:00Z",

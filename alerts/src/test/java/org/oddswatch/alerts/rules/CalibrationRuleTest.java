@@ -2,6 +2,7 @@ package org.oddswatch.alerts.rules;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertNull;
+import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import java.util.List;
 import org.junit.jupiter.api.Test;
@@ -35,6 +36,23 @@ class CalibrationRuleTest {
     private static String state(AlertEngine e, WindowEstimate w) {
         List<Alert> a = e.onFinalEstimate(w);
         return a.isEmpty() ? "-" : a.get(0).state().toString().substring(0, 2);
+    }
+
+    @Test
+    void bandEndsLeftOutRunAtTheValuesTheBudgetDerives() {
+        AlertEngine e = new AlertEngine(Fixtures.STREAM, new AlertRulesConfig(null, null, null,
+                new Calibration(null, null, null, null, null, null, null), null), Fixtures.baseline(), null);
+        Calibration derived = e.budget().calibration();
+        double max = derived.observedExpected().max();
+        // the fixture's baseline (1,210 positives in 12 weeks, weekly windows) with the whole budget for
+        // calibration: a band of its own, not the fallback 1.25
+        assertTrue(max > 1 && max != 1.25, derived.toString());
+        assertEquals("-", state(e, w(0, Fixtures.calibration(max + 0.1, max, max + 0.2, 1.0, 0.1, 0.5))));
+        AlertEngine again = new AlertEngine(Fixtures.STREAM, new AlertRulesConfig(null, null, null,
+                new Calibration(null, null, null, null, null, null, null), null), Fixtures.baseline(), null);
+        Alert a = again.onFinalEstimate(w(0, Fixtures.calibration(max + 0.1, max + 1e-9, max + 0.2, 1.0, 0.1, 0.5)))
+                .get(0);
+        assertEquals(max, a.limit(), "raised against the derived end");
     }
 
     @Test

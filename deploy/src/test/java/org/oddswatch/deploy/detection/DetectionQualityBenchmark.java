@@ -49,7 +49,8 @@ import org.oddswatch.ingest.pipeline.RecordOrigin;
  *       positives, too few for a 7-parameter model at 10 events per parameter).</li>
  * </ul>
  * Both have a fixed 12-week baseline and the defaults of {@code AlertRulesConfig}
- * ({@code oddsRatioDrift: {}} on both watched terms, {@code calibration: {}}, {@code cusum: {}}).
+ * ({@code calibration: {}} with its bands from the budget, {@code cusum: {}}, the step CUSUM on both
+ * watched terms; the window z-rule only with {@code -Ddetection.drift=on}, see {@link #EXTRA_RULES}).
  *
  * <p>False alarms: no change, 52 monitored weekly steps per simulated year; every raised episode is a
  * false alarm, counted per monitor, and every opened incident (the grouping on-call receives). Delay:
