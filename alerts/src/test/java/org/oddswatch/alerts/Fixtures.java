@@ -34,6 +34,22 @@ public final class Fixtures {
                 new Column("age_years", null, null, 10.0, false, false));
     }
 
+    /**
+     * The rule set that earlier versions ran by default: the window z-rule on every watched term,
+     * calibration with the fixed bands O/E [0.8, 1.25] and slope [0.7, 1.3], both CUSUMs with their
+     * limits from the budget. Tests of messages, meters and reports use it for its drift alerts; the
+     * defaults now leave the z-rule off and derive the calibration bands (AlertRulesConfigTest).
+     */
+    public static org.oddswatch.alerts.engine.AlertRulesConfig earlierDefaults() {
+        return new org.oddswatch.alerts.engine.AlertRulesConfig(null,
+                new org.oddswatch.alerts.engine.AlertRulesConfig.OddsRatioDrift(null, null, null, null, null, null), null,
+                new org.oddswatch.alerts.engine.AlertRulesConfig.Calibration(
+                        new org.oddswatch.alerts.engine.AlertRulesConfig.Band(0.8, 1.25),
+                        new org.oddswatch.alerts.engine.AlertRulesConfig.Band(0.7, 1.3), null, null, null, null, null),
+                org.oddswatch.alerts.engine.AlertRulesConfig.defaults().cusum(),
+                org.oddswatch.alerts.engine.AlertRulesConfig.defaults().oddsRatioCusum(), null, null);
+    }
+
     /** Baseline: intercept -3.0 (se 0.05), household_contact 0.7 (se 0.08), age 0.1 (se 0.02). */
     public static BaselineModel baseline() {
         double[][] cov = {{0.0025, 0, 0}, {0, 0.0064, 0}, {0, 0, 0.0004}};

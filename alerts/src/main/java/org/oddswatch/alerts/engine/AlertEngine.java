@@ -100,6 +100,7 @@ public final class AlertEngine {
         this.tracker = new EpisodeTracker(stream);
         AlertRulesConfig r = rules == null ? AlertRulesConfig.defaults() : rules;
         this.gaps = new RuleGaps(stream, r);
+        this.budget = baseline == null ? null : FalseAlarmBudget.derive(r, baseline, grid, streams);
         if (baseline != null && r.oddsRatioDrift() != null) {
             windowRules.add(new OddsRatioDriftRule(r.oddsRatioDrift(),
                     gaps.guard(OddsRatioDriftRule.NAME, r.guardFor(r.oddsRatioDrift().guard())), baseline));
@@ -109,10 +110,10 @@ public final class AlertEngine {
                     gaps.guard(OddsRatioBoundsRule.NAME, r.guardFor(r.oddsRatioBounds().guard()))));
         }
         if (baseline != null && r.calibration() != null) {
-            windowRules.add(new CalibrationRule(r.calibration(),
+            // band ends the definition leaves out come from the budget
+            windowRules.add(new CalibrationRule(budget.calibration(),
                     gaps.guard(CalibrationRule.NAME, r.guardFor(r.calibration().guard()))));
         }
-        this.budget = baseline == null ? null : FalseAlarmBudget.derive(r, baseline, grid, streams);
         boolean withCusum = baseline != null && r.cusum() != null;
         boolean withScoreCusum = baseline != null && r.oddsRatioCusum() != null && !budget.scoreCharts().isEmpty();
         events = withCusum || withScoreCusum ? new PendingEvents(baseline) : null;

@@ -51,11 +51,15 @@ public record AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsR
     }
 
     /**
-     * What a monitor gets when its definition has no {@code rules} mapping: drift on every watched
-     * term, calibration and the CUSUM with their defaults; bounds need explicit limits and stay off.
+     * What a monitor gets when its definition has no {@code rules} mapping: the step-score CUSUM on
+     * every watched term, calibration and the Bernoulli CUSUM with their defaults, all limits from
+     * the false-alarm budget. The window z-rule ({@code oddsRatioDrift}) runs only when configured:
+     * the step CUSUM finds an odds-ratio doubling as fast without it (detection harness), and its
+     * union-bound charge would take budget from the charts that find changes. Bounds need explicit
+     * limits and stay off.
      */
     public static AlertRulesConfig defaults() {
-        return new AlertRulesConfig(null, new OddsRatioDrift(null, null, null, null, null, null), null,
+        return new AlertRulesConfig(null, null, null,
                 new Calibration(null, null, null, null, null, null, null), new Cusum(null, null, null, null, null, null, null),
                 new OddsRatioCusum(null, null, null, null, null, null, null), null, null);
     }
@@ -85,7 +89,11 @@ public record AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsR
     /** Every rule, in a fixed order, with whether it is on. */
     public List<RuleSwitch> switches() {
         List<RuleSwitch> list = new ArrayList<>(4);
-        list.add(toggle(OddsRatioDriftRule.NAME, oddsRatioDrift != null, true, "oddsRatioDrift"));
+        // off by default: the window z-rule runs only where the definition lists it
+        list.add(oddsRatioDrift != null ? new RuleSwitch(OddsRatioDriftRule.NAME, true, true, null, null)
+                : new RuleSwitch(OddsRatioDriftRule.NAME, false, true, GapReason.NOT_CONFIGURED,
+                        "it runs only where the definition lists it (rules.oddsRatioDrift); the step CUSUM watches the"
+                                + " odds ratios by default"));
         list.add(oddsRatioBounds != null ? new RuleSwitch(OddsRatioBoundsRule.NAME, true, false, null, null)
                 : new RuleSwitch(OddsRatioBoundsRule.NAME, false, false, GapReason.NOT_CONFIGURED,
                         "it runs only on bounds the definition gives (oddsRatioBounds.terms)"));
@@ -239,7 +247,11 @@ public record AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsR
         }
     }
 
-    /** A band {@code [min, max]} of a calibration figure; omitted ends take the section defaults. */
+    /**
+     * A band {@code [min, max]} of a calibration figure. An end left out is derived from the
+     * false-alarm budget where the stream has a baseline ({@link FalseAlarmBudget}), else it takes the
+     * section's fallback default; an end that is given always wins.
+     */
     public record Band(Double min, Double max) {
         Band withDefaults(double defaultMin, double defaultMax, String key) {
             double lo = min == null ? defaultMin : min;
@@ -249,24 +261,35 @@ public record AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsR
             }
             return new Band(lo, hi);
         }
+
+        /** Whether both ends are given. */
+        public boolean complete() {
+            return min != null && max != null;
+        }
     }
 
     /**
      * Calibration of the baseline model on each final window. Raised when any figure is clearly
-     * outside its band: the O/E interval wholly outside {@code observedExpected} (default
-     * [0.8, 1.25]); the slope's Wald interval ({@code slope ± slopeZ·se}) wholly outside
-     * {@code slope} (default [0.7, 1.3], slopeZ 1.96); the Hosmer–Lemeshow p-value (g degrees of
-     * freedom, see {@code CalibrationRule}) below {@code hosmerLemeshowP} (default 0.0001: against a
-     * frozen model the statistic also picks up the baseline's own estimation error, which grows with
-     * the window's size; 0.001 gave about 0.2-0.4 false alarms a year with 28-day windows). A window counts towards clearing when the O/E and
-     * slope point estimates are inside their bands and the HL p-value is at least ten times its limit.
+     * outside its band: the O/E interval wholly outside {@code observedExpected}; the slope's Wald
+     * interval ({@code slope ± slopeZ·se}) wholly outside {@code slope} (slopeZ default 1.96); the
+     * Hosmer–Lemeshow p-value (g degrees of freedom, see {@code CalibrationRule}) below
+     * {@code hosmerLemeshowP} (default 0.0001: against a frozen model the statistic also picks up the
+     * baseline's own estimation error, which grows with the window's size; 0.001 gave about 0.2-0.4
+     * false alarms a year with 28-day windows). Band ends the definition leaves out are derived per
+     * stream from the false-alarm budget ({@link FalseAlarmBudget}, {@code CalibrationFalseAlarms});
+     * where no budget can derive them (no baseline period or no expected positives) they take the
+     * fallback defaults O/E [0.8, 1.25] and slope [0.7, 1.3] ({@link #observedExpectedBand()},
+     * {@link #slopeBand()}). The components keep what the definition wrote, so explicit ends are told
+     * from defaults. A window counts towards clearing when the O/E and slope point estimates are
+     * inside their bands and the HL p-value is at least ten times its limit.
      */
     public record Calibration(Band observedExpected, Band slope, Double slopeZ, Double hosmerLemeshowP,
                               Integer consecutive, Integer clearAfter, Guard guard) {
         public Calibration {
-            observedExpected = (observedExpected == null ? new Band(null, null) : observedExpected)
-                    .withDefaults(0.8, 1.25, "calibration.observedExpected");
-            slope = (slope == null ? new Band(null, null) : slope).withDefaults(0.7, 1.3, "calibration.slope");
+            observedExpected = observedExpected == null ? new Band(null, null) : observedExpected;
+            slope = slope == null ? new Band(null, null) : slope;
+            observedExpected.withDefaults(OE_FALLBACK_MIN, OE_FALLBACK_MAX, "calibration.observedExpected");
+            slope.withDefaults(SLOPE_FALLBACK_MIN, SLOPE_FALLBACK_MAX, "calibration.slope");
             slopeZ = slopeZ == null ? 1.96 : slopeZ;
             hosmerLemeshowP = hosmerLemeshowP == null ? 0.0001 : hosmerLemeshowP;
             consecutive = consecutive == null ? 1 : consecutive;
@@ -278,7 +301,37 @@ public record AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsR
             requireAtLeast("calibration.consecutive", consecutive, 1);
             requireAtLeast("calibration.clearAfter", clearAfter, 1);
         }
+
+        /** The O/E band the rule uses: the ends given (or derived and set), else the fallback [0.8, 1.25]. */
+        public Band observedExpectedBand() {
+            return observedExpected.withDefaults(OE_FALLBACK_MIN, OE_FALLBACK_MAX, "calibration.observedExpected");
+        }
+
+        /** The slope band the rule uses: the ends given (or derived and set), else the fallback [0.7, 1.3]. */
+        public Band slopeBand() {
+            return slope.withDefaults(SLOPE_FALLBACK_MIN, SLOPE_FALLBACK_MAX, "calibration.slope");
+        }
+
+        /** Whether any band end is left to the false-alarm budget. */
+        public boolean bandsLeftOut() {
+            return !observedExpected.complete() || !slope.complete();
+        }
+
+        /** The same settings with both bands complete: the given ends kept, the left-out ones set. */
+        public Calibration withBands(Band oe, Band slopeBand) {
+            return new Calibration(new Band(observedExpected.min() != null ? observedExpected.min() : oe.min(),
+                    observedExpected.max() != null ? observedExpected.max() : oe.max()),
+                    new Band(slope.min() != null ? slope.min() : slopeBand.min(),
+                            slope.max() != null ? slope.max() : slopeBand.max()),
+                    slopeZ, hosmerLemeshowP, consecutive, clearAfter, guard);
+        }
     }
+
+    /** Fallback calibration bands, used where the budget cannot derive them. */
+    public static final double OE_FALLBACK_MIN = 0.8;
+    public static final double OE_FALLBACK_MAX = 1.25;
+    public static final double SLOPE_FALLBACK_MIN = 0.7;
+    public static final double SLOPE_FALLBACK_MAX = 1.3;
 
     /**
      * Risk-adjusted Bernoulli CUSUM (Steiner et al. 2000) against the baseline model.

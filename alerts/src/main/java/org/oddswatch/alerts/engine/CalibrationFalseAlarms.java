@@ -66,21 +66,82 @@ final class CalibrationFalseAlarms {
         double sb = 1 / Math.sqrt(baseline.cases());
         double s = Math.hypot(sw, sb);
         out.add(new Term("O/E above", STANDARD.cumulativeProbability(
-                -(Math.log(settings.observedExpected().max()) + OE_INTERVAL_Z * sw) / s)));
+                -(Math.log(settings.observedExpectedBand().max()) + OE_INTERVAL_Z * sw) / s)));
         out.add(new Term("O/E below", STANDARD.cumulativeProbability(
-                (Math.log(settings.observedExpected().min()) - OE_INTERVAL_Z * sw) / s)));
+                (Math.log(settings.observedExpectedBand().min()) - OE_INTERVAL_Z * sw) / s)));
         double slopeInformation = slopeInformation(baseline);
         if (slopeInformation > 0 && Double.isFinite(slopeInformation)) {
             double tw = 1 / Math.sqrt(slopeInformation * windowShare);
             double tb = 1 / Math.sqrt(slopeInformation);
             double t = Math.hypot(tw, tb);
             out.add(new Term("slope above", STANDARD.cumulativeProbability(
-                    -(settings.slope().max() - 1 + settings.slopeZ() * tw) / t)));
+                    -(settings.slopeBand().max() - 1 + settings.slopeZ() * tw) / t)));
             out.add(new Term("slope below", STANDARD.cumulativeProbability(
-                    (settings.slope().min() - 1 - settings.slopeZ() * tw) / t)));
+                    (settings.slopeBand().min() - 1 - settings.slopeZ() * tw) / t)));
         }
         out.add(new Term("Hosmer-Lemeshow", settings.hosmerLemeshowP()));
         return out;
+    }
+
+    /**
+     * The calibration settings with every band end the definition left out derived from a per-step
+     * false-alarm budget {@code π} (the inverse of {@link #perStep}). The explicit parts (the
+     * Hosmer–Lemeshow level and any given band end) are charged first; what remains, at least a tenth
+     * of {@code π}, is split equally over the left-out ends, each getting {@code π_e} and
+     * {@code z_e = Φ⁻¹(1 − π_e)}:
+     * <pre>
+     *   O/E max   = exp( s·z_e − z_c·s_w)      O/E min   = exp(z_c·s_w − s·z_e)
+     *   slope max = 1 + t·z_e − slopeZ·t_w     slope min = 1 − t·z_e + slopeZ·t_w
+     * </pre>
+     * (solving each line of the class description's bound for its band end). Each end stays at least
+     * 0.01 (log scale for O/E) beyond 1, so a band never closes on the value in control; where that
+     * floor binds, the end costs more than {@code π_e}, which {@link #perStep} of the result shows.
+     * Slope ends fall back to the defaults where the baseline gives no slope information. Returns null
+     * when the baseline gives no expected positives per window (the fallback bands then apply).
+     *
+     * @param perStepBudget {@code π}, the calibration's share of false alarms per window step
+     */
+    static AlertRulesConfig.Calibration withDerivedBands(Calibration settings, BaselineModel baseline,
+                                                         double windowShare, double perStepBudget) {
+        double windowCases = baseline.cases() * windowShare;
+        if (!(windowCases > 0) || !Double.isFinite(windowCases) || !(perStepBudget > 0)) {
+            return null;
+        }
+        AlertRulesConfig.Band oe = settings.observedExpected();
+        AlertRulesConfig.Band slope = settings.slope();
+        double slopeInformation = slopeInformation(baseline);
+        boolean slopeKnown = slopeInformation > 0 && Double.isFinite(slopeInformation);
+        int leftOut = (oe.min() == null ? 1 : 0) + (oe.max() == null ? 1 : 0)
+                + (slopeKnown ? (slope.min() == null ? 1 : 0) + (slope.max() == null ? 1 : 0) : 0);
+        // what the explicit parts cost: perStep of the settings with the left-out ends at "never"
+        AlertRulesConfig.Calibration explicitOnly = settings.withBands(new AlertRulesConfig.Band(1e-9, 1e9),
+                new AlertRulesConfig.Band(-1e9, 1e9));
+        double explicitCost = perStep(explicitOnly, baseline, windowShare).stream().mapToDouble(Term::perStep).sum();
+        double each = leftOut == 0 ? 0 : Math.max(perStepBudget - explicitCost, 0.1 * perStepBudget) / leftOut;
+        double ze = leftOut == 0 ? 0 : STANDARD.inverseCumulativeProbability(1 - each);
+        double sw = 1 / Math.sqrt(windowCases);
+        double s = Math.hypot(sw, 1 / Math.sqrt(baseline.cases()));
+        double logOe = Math.max(0.01, s * ze - OE_INTERVAL_Z * sw);
+        AlertRulesConfig.Band oeBand = new AlertRulesConfig.Band(Math.exp(-logOe), Math.exp(logOe));
+        AlertRulesConfig.Band slopeBand = new AlertRulesConfig.Band(AlertRulesConfig.SLOPE_FALLBACK_MIN,
+                AlertRulesConfig.SLOPE_FALLBACK_MAX);
+        if (slopeKnown) {
+            double tw = 1 / Math.sqrt(slopeInformation * windowShare);
+            double t = Math.hypot(tw, 1 / Math.sqrt(slopeInformation));
+            double half = Math.max(0.01, t * ze - settings.slopeZ() * tw);
+            slopeBand = new AlertRulesConfig.Band(1 - half, 1 + half);
+        }
+        return settings.withBands(oeBand, slopeBand);
+    }
+
+    /** The terms in words for the split: {@code O/E above 1.2e-05, ...}. */
+    static String describe(List<Term> terms) {
+        StringBuilder parts = new StringBuilder();
+        for (Term t : terms) {
+            parts.append(parts.length() == 0 ? "" : ", ").append(t.test())
+                    .append(String.format(java.util.Locale.ROOT, " %.1e", t.perStep()));
+        }
+        return parts.toString();
     }
 
     /** {@code β_s' V_ss⁻¹ β_s}: the baseline's information on a slope multiplying its linear predictor; NaN if singular. */

@@ -118,8 +118,11 @@ public final class FalseAlarmBudget {
     private final double perStream;
     private final boolean overspent;
 
+    private final AlertRulesConfig.Calibration calibration;
+
     private FalseAlarmBudget(List<Share> shares, double cusumLimit, Map<Integer, ChartSettings> scoreCharts,
-                             double perStream, boolean overspent) {
+                             double perStream, boolean overspent, AlertRulesConfig.Calibration calibration) {
+        this.calibration = calibration;
         this.shares = List.copyOf(shares);
         this.cusumLimit = cusumLimit;
         this.scoreCharts = scoreCharts;
@@ -147,6 +150,14 @@ public final class FalseAlarmBudget {
         return cusumLimit;
     }
 
+    /**
+     * The calibration settings the rule runs with: band ends left out derived from the budget (as in
+     * the split), given ones kept; null without the calibration rule.
+     */
+    public AlertRulesConfig.Calibration calibration() {
+        return calibration;
+    }
+
     /** The step-score CUSUM's settings by watched design column (index into the baseline's columns). */
     public Map<Integer, ChartSettings> scoreCharts() {
         return scoreCharts;
@@ -163,6 +174,9 @@ public final class FalseAlarmBudget {
         }
         if (rules.oddsRatioCusum() != null && rules.oddsRatioCusum().limit() == null) {
             left.add("oddsRatioCusum.limit");
+        }
+        if (rules.calibration() != null && rules.calibration().bandsLeftOut()) {
+            left.add("calibration bands");
         }
         return String.format(Locale.ROOT, "false-alarm budget: %s a year for the monitor, %s per stream over %d"
                 + " stream%s (confidence %.2f against the baseline's error); %s", Format.num(rules.falseAlarmsPerYear()),
@@ -224,25 +238,24 @@ public final class FalseAlarmBudget {
                                 limit, perStep)));
             }
         }
-        if (rules.calibration() != null) {
-            double windowMillis = grid == null ? stepMillis : grid.widthMillis();
-            List<CalibrationFalseAlarms.Term> terms = CalibrationFalseAlarms.perStep(rules.calibration(), baseline,
-                    windowMillis / periodMillis);
-            if (terms.isEmpty()) {
+        double windowShare = (grid == null ? stepMillis : grid.widthMillis()) / periodMillis;
+        AlertRulesConfig.Calibration calibration = rules.calibration();
+        int calibrationLine = -1;
+        if (calibration != null) {
+            List<CalibrationFalseAlarms.Term> terms = CalibrationFalseAlarms.perStep(calibration, baseline, windowShare);
+            if (calibration.bandsLeftOut() && !terms.isEmpty()) {
+                calibrationLine = shares.size();
+                units++;
+            } else if (terms.isEmpty()) {
                 shares.add(new Share(CalibrationRule.NAME, "calibration", "not counted", Double.NaN, null,
                         "the baseline gives no expected positives per window"));
             } else {
                 double perStep = terms.stream().mapToDouble(CalibrationFalseAlarms.Term::perStep).sum();
                 double perYear = stepsPerYear * perStep;
                 charged += perYear;
-                StringBuilder parts = new StringBuilder();
-                for (CalibrationFalseAlarms.Term t : terms) {
-                    parts.append(parts.length() == 0 ? "" : ", ").append(t.test())
-                            .append(String.format(Locale.ROOT, " %.1e", t.perStep()));
-                }
                 shares.add(new Share(CalibrationRule.NAME, "calibration", "explicit", perYear, null,
                         String.format(Locale.ROOT, "union bound: %.1f steps a year x %.2e per step (%s)", stepsPerYear,
-                                perStep, parts)));
+                                perStep, CalibrationFalseAlarms.describe(terms))));
             }
         }
         OddsRatioCusum score = rules.oddsRatioCusum();
@@ -296,6 +309,18 @@ public final class FalseAlarmBudget {
         remaining = Math.max(remaining, 0.1 * perStream);
         double share = units == 0 ? 0 : remaining / units;
 
+        if (calibrationLine >= 0) {
+            AlertRulesConfig.Calibration derived = CalibrationFalseAlarms.withDerivedBands(calibration, baseline,
+                    windowShare, share / stepsPerYear);
+            calibration = derived != null ? derived : calibration;
+            List<CalibrationFalseAlarms.Term> terms = CalibrationFalseAlarms.perStep(calibration, baseline, windowShare);
+            double perStep = terms.stream().mapToDouble(CalibrationFalseAlarms.Term::perStep).sum();
+            shares.add(calibrationLine, new Share(CalibrationRule.NAME, "calibration", "derived", stepsPerYear * perStep,
+                    null, String.format(Locale.ROOT, "O/E [%.3f, %.3f], slope [%.3f, %.3f]; union bound: %.1f steps a"
+                            + " year x %.2e per step (%s)", calibration.observedExpected().min(),
+                            calibration.observedExpected().max(), calibration.slope().min(), calibration.slope().max(),
+                            stepsPerYear, perStep, CalibrationFalseAlarms.describe(terms))));
+        }
         for (int j : scoreDerived) {
             double k = scoreReference.get(j);
             double shift = Double.isFinite(baselineSteps) && baselineSteps > 0 ? quantile / Math.sqrt(baselineSteps) : 0;
@@ -354,7 +379,7 @@ public final class FalseAlarmBudget {
             shares.add(new Share(BernoulliCusumRule.DOWN, "all events", "derived", share, cusumLimit,
                     String.format(Locale.ROOT, "run length >= %.0f events at true odds x%.4f", target, Math.exp(-q))));
         }
-        return new FalseAlarmBudget(shares, cusumLimit, Map.copyOf(scoreCharts), perStream, overspent);
+        return new FalseAlarmBudget(shares, cusumLimit, Map.copyOf(scoreCharts), perStream, overspent, calibration);
     }
 
     private static double bernoulli(double h, double r, double prevalence, double trueMultiplier) {

@@ -44,8 +44,8 @@ public final class CalibrationRule implements WindowRule {
     public List<Reading> evaluate(WindowEstimate e) {
         CalibrationEstimate c = e.calibration();
         AlertSubject subject = AlertSubject.calibration();
-        double oeMin = settings.observedExpected().min();
-        double oeMax = settings.observedExpected().max();
+        double oeMin = settings.observedExpectedBand().min();
+        double oeMax = settings.observedExpectedBand().max();
         if (c == null) {
             return List.of(reading(e, Zone.UNKNOWN, 0, null, null, 0, "no calibration estimate"));
         }
@@ -53,8 +53,8 @@ public final class CalibrationRule implements WindowRule {
         if (refusal != null) {
             return List.of(reading(e, Zone.UNKNOWN, 0, c.observedExpected(), oeMax, c.events(), refusal));
         }
-        double slopeMin = settings.slope().min();
-        double slopeMax = settings.slope().max();
+        double slopeMin = settings.slopeBand().min();
+        double slopeMax = settings.slopeBand().max();
         Double slopeLow = c.slope() != null && c.slopeSe() != null ? c.slope() - settings.slopeZ() * c.slopeSe() : null;
         Double slopeHigh = c.slope() != null && c.slopeSe() != null ? c.slope() + settings.slopeZ() * c.slopeSe() : null;
         Double hlP = externalP(c);

@@ -21,8 +21,8 @@ class AlertEngineGapsTest {
 
     @Test
     void rulesOffAndRulesWithoutABaselineAreListedWithTheirReason() {
-        AlertRulesConfig cusumOff = new AlertRulesConfig(null, AlertRulesConfig.defaults().oddsRatioDrift(), null,
-                AlertRulesConfig.defaults().calibration(), null);
+        AlertRulesConfig cusumOff = new AlertRulesConfig(null, Fixtures.earlierDefaults().oddsRatioDrift(), null,
+                Fixtures.earlierDefaults().calibration(), null);
         AlertEngine engine = new AlertEngine(Fixtures.STREAM, cusumOff, null, null);
         assertEquals(List.of("rule|odds-ratio-drift|baseline-failed|null", "rule|odds-ratio-bounds|not-configured|null",
                 "rule|calibration|baseline-failed|null", "rule|bernoulli-cusum|switched-off|null"),
@@ -39,7 +39,7 @@ class AlertEngineGapsTest {
      */
     @Test
     void windowsNotJudgedAreCountedByRuleAndReason() {
-        AlertRulesConfig driftOnly = new AlertRulesConfig(null, AlertRulesConfig.defaults().oddsRatioDrift(), null,
+        AlertRulesConfig driftOnly = new AlertRulesConfig(null, Fixtures.earlierDefaults().oddsRatioDrift(), null,
                 null, null);
         AlertEngine engine = new AlertEngine(Fixtures.STREAM, driftOnly, Fixtures.baseline(), null);
         engine.onFinalEstimate(Fixtures.windowWithZ(0, 0.5));

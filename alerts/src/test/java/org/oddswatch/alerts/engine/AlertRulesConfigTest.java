@@ -34,9 +34,12 @@ class AlertRulesConfigTest {
         assertEquals(1, c.oddsRatioDrift().consecutive());
         assertEquals(2, c.oddsRatioDrift().clearAfter());
         assertTrue(c.oddsRatioDrift().terms().isEmpty());
-        assertEquals(0.8, c.calibration().observedExpected().min());
-        assertEquals(1.5, c.calibration().observedExpected().max());
-        assertEquals(0.7, c.calibration().slope().min());
+        assertNull(c.calibration().observedExpected().min(), "left out: the budget derives it per stream");
+        assertEquals(1.5, c.calibration().observedExpected().max(), "given: kept");
+        assertEquals(0.8, c.calibration().observedExpectedBand().min(), "the fallback where no budget derives it");
+        assertEquals(1.5, c.calibration().observedExpectedBand().max());
+        assertEquals(0.7, c.calibration().slopeBand().min());
+        assertTrue(c.calibration().bandsLeftOut());
         assertEquals(0.0001, c.calibration().hosmerLemeshowP());
         assertNull(c.oddsRatioBounds());
         assertNull(c.cusum());
@@ -94,11 +97,12 @@ class AlertRulesConfigTest {
     }
 
     @Test
-    void defaultsTurnOnDriftCalibrationAndCusum() {
+    void defaultsTurnOnCalibrationAndBothCusumsButNotTheWindowZRule() {
         AlertRulesConfig d = AlertRulesConfig.defaults();
-        assertNotNull(d.oddsRatioDrift());
+        assertNull(d.oddsRatioDrift(), "the window z-rule runs only when configured");
         assertNotNull(d.calibration());
         assertNotNull(d.cusum());
+        assertNotNull(d.oddsRatioCusum());
         assertNull(d.oddsRatioBounds());
     }
 }

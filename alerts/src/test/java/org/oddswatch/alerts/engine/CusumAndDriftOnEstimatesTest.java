@@ -28,7 +28,7 @@ class CusumAndDriftOnEstimatesTest {
     @Test
     void driftZIsTheRulesTwoSampleStatistic() {
         AlertEngine engine = new AlertEngine(Fixtures.STREAM, new AlertRulesConfig(null,
-                AlertRulesConfig.defaults().oddsRatioDrift(), null, null, null), Fixtures.baseline(), null);
+                Fixtures.earlierDefaults().oddsRatioDrift(), null, null, null), Fixtures.baseline(), null);
         WindowEstimate window = Fixtures.window(0, 1.1, 0.12);
         List<Alert> alerts = engine.onFinalEstimate(window);
         WindowEstimate carried = engine.withCharts(window);
@@ -54,7 +54,7 @@ class CusumAndDriftOnEstimatesTest {
     @Test
     void withoutChartRulesTheEstimateIsUnchanged() {
         AlertEngine engine = new AlertEngine(Fixtures.STREAM, new AlertRulesConfig(null, null,
-                AlertRulesConfig.defaults().oddsRatioBounds(), null, null), Fixtures.baseline(), null);
+                Fixtures.earlierDefaults().oddsRatioBounds(), null, null), Fixtures.baseline(), null);
         WindowEstimate window = Fixtures.window(0, 1.1, 0.12);
         engine.onFinalEstimate(window);
         assertSame(window, engine.withCharts(window));
@@ -64,11 +64,11 @@ class CusumAndDriftOnEstimatesTest {
     @Test
     void cusumValuesAreTheChartsAtEachWindowEnd() {
         // an explicit h (the default limit is derived from the false-alarm budget)
-        AlertRulesConfig.Cusum settings = AlertRulesConfig.withLimit(AlertRulesConfig.defaults().cusum(), 8.0);
+        AlertRulesConfig.Cusum settings = AlertRulesConfig.withLimit(Fixtures.earlierDefaults().cusum(), 8.0);
         BaselineModel model = Fixtures.baseline();
         AlertEngine engine = new AlertEngine(Fixtures.STREAM, new AlertRulesConfig(null, null, null, null, settings),
                 model, null);
-        InformationGuard guard = new InformationGuard(AlertRulesConfig.defaults().guardFor(settings.guard()));
+        InformationGuard guard = new InformationGuard(Fixtures.earlierDefaults().guardFor(settings.guard()));
         BernoulliCusumRule alone = new BernoulliCusumRule(settings, guard, model);
         long processed = 0;
         // the upper chart over all events, by hand: W = y ln R - ln(1 - p + R p), S = max(0, S + W)

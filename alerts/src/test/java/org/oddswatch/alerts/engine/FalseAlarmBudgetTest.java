@@ -6,6 +6,7 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import java.util.List;
 import org.junit.jupiter.api.Test;
+import org.oddswatch.alerts.engine.AlertRulesConfig.Band;
 import org.oddswatch.alerts.engine.AlertRulesConfig.Calibration;
 import org.oddswatch.alerts.engine.AlertRulesConfig.Cusum;
 import org.oddswatch.alerts.engine.AlertRulesConfig.OddsRatioCusum;
@@ -46,10 +47,74 @@ class FalseAlarmBudgetTest {
                 "2026-03-30T00:00:00Z", 24_000, 1_200, null);
     }
 
+    /** Drift at the given limit, calibration with explicit bands (the earlier defaults), CUSUMs as given. */
     private static AlertRulesConfig rules(Double driftLimit, Double scoreLimit) {
+        return rules(driftLimit, scoreLimit, new Calibration(new Band(0.8, 1.25), new Band(0.7, 1.3), null, null, null,
+                null, null));
+    }
+
+    private static AlertRulesConfig rules(Double driftLimit, Double scoreLimit, Calibration calibration) {
         return new AlertRulesConfig(null, new OddsRatioDrift(driftLimit, null, null, null, null, null), null,
-                new Calibration(null, null, null, null, null, null, null), new Cusum(null, null, null, null, null, null, null),
+                calibration, new Cusum(null, null, null, null, null, null, null),
                 new OddsRatioCusum(null, null, scoreLimit, null, null, null, null), 2.0, null);
+    }
+
+    private static Calibration bandsLeftOut(Band observedExpected) {
+        return new Calibration(observedExpected, null, null, null, null, null, null);
+    }
+
+    @Test
+    void calibrationBandsLeftOutAreDerivedFromTheirShare() {
+        FalseAlarmBudget b = derive(rules(3.0, null, bandsLeftOut(null)));
+        List<Share> shares = b.shares();
+        assertEquals(List.of("odds-ratio-drift explicit", "odds-ratio-drift explicit", "calibration derived",
+                "odds-ratio-cusum derived", "odds-ratio-cusum derived", "bernoulli-cusum-up derived",
+                "bernoulli-cusum-down derived"), shares.stream().map(s -> s.rule() + " " + s.how()).toList());
+        // Source: R 4.2.2, the union bound of CalibrationFalseAlarms solved for the band ends with qnorm:
+        // share (0.5 - 2·(365.25/7)·2·pnorm(-3))/5 = 0.0436513993082409 a year per unit, 8.3658e-4 a
+        // step; the Hosmer-Lemeshow level 1e-4 first, the rest over 4 ends: z_e = qnorm(1 - e) = 3.56182306330084;
+        // O/E = exp(±(s·z_e - 1.96·s_w)) with s_w = 1/sqrt(400), s = sqrt(s_w² + 1/1200): [0.897947432139773,
+        // 1.11365093791408]; slope 1 ± (t·z_e - 1.96·t_w): [0.75863072803647, 1.24136927196353]
+        double unit = 0.0436513993082409;
+        Calibration c = b.calibration();
+        assertEquals(0.897947432139773, c.observedExpected().min(), 1e-9);
+        assertEquals(1.11365093791408, c.observedExpected().max(), 1e-9);
+        assertEquals(0.75863072803647, c.slope().min(), 1e-9);
+        assertEquals(1.24136927196353, c.slope().max(), 1e-9);
+        assertEquals(unit, shares.get(2).perYear(), 1e-9, "the derived bands spend the calibration's share: "
+                + shares.get(2).describe());
+        for (Share s : shares.subList(3, 7)) {
+            assertEquals(unit, s.perYear(), 1e-12, s.describe());
+        }
+        double total = shares.stream().mapToDouble(Share::perYear).sum();
+        assertEquals(0.5, total, 1e-9, "the stream's share is used exactly");
+    }
+
+    @Test
+    void aGivenBandEndWinsAndOnlyTheLeftOutOnesAreDerived() {
+        FalseAlarmBudget b = derive(rules(3.0, null, bandsLeftOut(new Band(null, 1.5))));
+        Calibration c = b.calibration();
+        assertEquals(1.5, c.observedExpected().max(), "explicit");
+        assertTrue(c.observedExpected().min() > 0.8 && c.observedExpected().min() < 1, c.toString());
+        double total = b.shares().stream().mapToDouble(Share::perYear).sum();
+        assertEquals(0.5, total, 1e-9, "the explicit end is charged and the rest still adds up");
+        // every end given: charged as explicit, the bands as written
+        FalseAlarmBudget explicit = derive(rules(3.0, null));
+        assertEquals("explicit", explicit.shares().get(2).how());
+        assertEquals(new Band(0.8, 1.25), explicit.calibration().observedExpected());
+    }
+
+    @Test
+    void theDefaultRulesOfASplitMonitorAddUpWithinItsBudget() {
+        // the defaults (no window z-rule) on a monitor split 16 ways: one false alarm a year in all
+        AlertRulesConfig defaults = AlertRulesConfig.defaults();
+        FalseAlarmBudget b = FalseAlarmBudget.derive(defaults, baseline(), new WindowGeometry(4 * WEEK, WEEK, 0, 0), 16);
+        assertEquals(List.of("calibration derived", "odds-ratio-cusum derived", "odds-ratio-cusum derived",
+                "bernoulli-cusum-up derived", "bernoulli-cusum-down derived"),
+                b.shares().stream().map(s -> s.rule() + " " + s.how()).toList());
+        double total = b.shares().stream().mapToDouble(Share::perYear).sum();
+        assertEquals(1.0 / 16, total, 1e-9, "16 streams spend the monitor's one false alarm a year");
+        assertFalse(b.overspent());
     }
 
     private static FalseAlarmBudget derive(AlertRulesConfig rules) {

@@ -20,7 +20,7 @@ import org.oddswatch.alerts.json.Json;
 class AlertMessageTest {
 
     private static Alert raise(ReplayHint hint) {
-        AlertEngine e = new AlertEngine(Fixtures.STREAM, AlertRulesConfig.defaults(), Fixtures.baseline(), hint);
+        AlertEngine e = new AlertEngine(Fixtures.STREAM, Fixtures.earlierDefaults(), Fixtures.baseline(), hint);
         return e.onFinalEstimate(Fixtures.window(0, Math.log(4.0), 0.15)).get(0);
     }
 
@@ -76,8 +76,7 @@ class AlertMessageTest {
     @Test
     void everyAlertNamesItsMeasureValueLimitAndDirectionInFieldsAndWords() {
         AlertEngine e = new AlertEngine(Fixtures.STREAM, new AlertRulesConfig(null, null, null,
-                new AlertRulesConfig.Calibration(null, null, null, null, null, null, null), null), Fixtures.baseline(),
-                null);
+                Fixtures.earlierDefaults().calibration(), null), Fixtures.baseline(), null);
         // one calibration episode decided by three different figures in turn
         Alert hl = e.onFinalEstimate(calibrated(0, Fixtures.calibration(1.0, 0.9, 1.1, 1.0, 0.1, 9.38e-6))).get(0);
         Alert oe = e.onFinalEstimate(calibrated(1, Fixtures.calibration(1.36, 1.28, 1.45, 1.0, 0.1, 0.5))).get(0);
@@ -113,7 +112,7 @@ class AlertMessageTest {
         assertEquals("observed-expected-ratio", cleared.measure());
 
         // a drift below the baseline: the z, its negative limit, the odds ratios in their own fields
-        AlertEngine drift = new AlertEngine(Fixtures.STREAM, AlertRulesConfig.defaults(), Fixtures.baseline(), null);
+        AlertEngine drift = new AlertEngine(Fixtures.STREAM, Fixtures.earlierDefaults(), Fixtures.baseline(), null);
         Alert down = drift.onFinalEstimate(Fixtures.windowWithZ(0, -3.5)).get(0);
         assertEquals("odds-ratio-z", down.measure());
         assertEquals(-3.5, down.value(), 1e-9);

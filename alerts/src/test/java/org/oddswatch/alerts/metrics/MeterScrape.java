@@ -43,7 +43,7 @@ final class MeterScrape {
         webhook.close();
         org.oddswatch.alerts.output.JsonLinesSink.appendingEstimates(java.nio.file.Path.of("estimates.jsonl"))
                 .bindFailures(registry, "monitor");
-        AlertEngine engine = new AlertEngine(Fixtures.STREAM, AlertRulesConfig.defaults(), Fixtures.baseline(), null);
+        AlertEngine engine = new AlertEngine(Fixtures.STREAM, Fixtures.earlierDefaults(), Fixtures.baseline(), null);
         var w = Fixtures.window(0, Math.log(4.0), 0.15, Fixtures.fit(org.oddswatch.estimator.fit.FitState.CONVERGED,
                 org.oddswatch.estimator.fit.FitMethod.NEWTON, 2000), Fixtures.calibration(1.1, 0.9, 1.3, 0.95, 0.1, 0.4));
         fits.finalEstimate(w, org.oddswatch.alerts.privacy.SmallCellPolicy.DEFAULT);

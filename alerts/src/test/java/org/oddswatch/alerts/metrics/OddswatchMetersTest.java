@@ -108,7 +108,7 @@ class OddswatchMetersTest {
         SimpleMeterRegistry registry = new SimpleMeterRegistry();
         AlertMeters meters = new AlertMeters();
         meters.bindTo(registry);
-        Alert raised = new AlertEngine(Fixtures.STREAM, AlertRulesConfig.defaults(), Fixtures.baseline(), null)
+        Alert raised = new AlertEngine(Fixtures.STREAM, Fixtures.earlierDefaults(), Fixtures.baseline(), null)
                 .onFinalEstimate(Fixtures.windowWithZ(0, 4)).get(0);
         meters.restored(raised);
         assertEquals(1.0, registry.get(OddswatchMeters.ALERT_STATE).gauge().value());

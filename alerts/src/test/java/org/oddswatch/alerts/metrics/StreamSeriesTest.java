@@ -61,7 +61,7 @@ class StreamSeriesTest {
                 base.cases(), base.prevalence(), base.strata(), base.fit(), base.coefficients(), base.calibration(),
                 base.notes());
         meters.fits().finalEstimate(w, SmallCellPolicy.DEFAULT);
-        AlertEngine engine = new AlertEngine(stream, AlertRulesConfig.defaults(), Fixtures.baseline(), null);
+        AlertEngine engine = new AlertEngine(stream, Fixtures.earlierDefaults(), Fixtures.baseline(), null);
         List<Alert> alerts = engine.onFinalEstimate(w);
         assertFalse(alerts.isEmpty(), "a drift alert for the alert-state gauge");
         alerts.forEach(meters.alerts()::alert);

@@ -23,7 +23,7 @@ class LogSinkTest {
 
     @Test
     void logsEachIncidentMessageOnceAndNoAlertMessage() {
-        List<Alert> alerts = new AlertEngine(Fixtures.STREAM, AlertRulesConfig.defaults(), Fixtures.baseline(), null)
+        List<Alert> alerts = new AlertEngine(Fixtures.STREAM, Fixtures.earlierDefaults(), Fixtures.baseline(), null)
                 .onFinalEstimate(Fixtures.windowWithZ(0, 4));
         Alert raised = alerts.get(0);
         Incident opened = IncidentTracker.sameStream().accept(raised).orElseThrow();

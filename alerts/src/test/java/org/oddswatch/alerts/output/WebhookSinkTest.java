@@ -44,7 +44,7 @@ class WebhookSinkTest {
     }
 
     private static Alert alert() {
-        return new AlertEngine(Fixtures.STREAM, AlertRulesConfig.defaults(), Fixtures.baseline(), null)
+        return new AlertEngine(Fixtures.STREAM, Fixtures.earlierDefaults(), Fixtures.baseline(), null)
                 .onFinalEstimate(Fixtures.windowWithZ(0, 4)).get(0);
     }
 

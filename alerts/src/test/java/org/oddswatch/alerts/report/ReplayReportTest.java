@@ -28,7 +28,7 @@ class ReplayReportTest {
 
     @Test
     void reportListsWindowsAndAlertsWithCautionAndWithholdsSmallCounts(@TempDir Path dir) throws Exception {
-        AlertEngine engine = new AlertEngine(Fixtures.STREAM, AlertRulesConfig.defaults(), Fixtures.baseline(), null);
+        AlertEngine engine = new AlertEngine(Fixtures.STREAM, Fixtures.earlierDefaults(), Fixtures.baseline(), null);
         List<WindowEstimate> windows = List.of(Fixtures.windowWithZ(0, 0.5), Fixtures.windowWithZ(1, 4.2),
                 withCounts(Fixtures.windowWithZ(2, 0.1), 60, 3), withCounts(Fixtures.windowWithZ(3, 0.1), 4, 0),
                 withCounts(Fixtures.windowWithZ(4, 0.1), 40, 37));
@@ -62,7 +62,7 @@ class ReplayReportTest {
 
     @Test
     void calibrationRowsNameTheMeasureNotTheSubjectTwice() {
-        AlertEngine engine = new AlertEngine(Fixtures.STREAM, AlertRulesConfig.defaults(), Fixtures.baseline(), null);
+        AlertEngine engine = new AlertEngine(Fixtures.STREAM, Fixtures.earlierDefaults(), Fixtures.baseline(), null);
         WindowEstimate w = Fixtures.window(0, 0.7, 0.15, Fixtures.fit(FitState.CONVERGED, FitMethod.NEWTON, 2000),
                 Fixtures.calibration(1.0, 0.9, 1.1, 1.0, 0.1, 9.38e-6));
         List<Alert> alerts = engine.onFinalEstimate(w);

@@ -2,6 +2,7 @@ package org.oddswatch.alerts.rules;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertNull;
+import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import java.util.List;
 import org.junit.jupiter.api.Test;
@@ -19,7 +20,8 @@ import org.oddswatch.estimator.result.WindowEstimate;
 class CalibrationRuleTest {
 
     private static AlertEngine engine() {
-        Calibration c = new Calibration(null, null, null, null, null, null, null);
+        // the earlier default bands, given explicitly (left out, the budget would derive them)
+        Calibration c = new Calibration(new Band(0.8, 1.25), new Band(0.7, 1.3), null, null, null, null, null);
         return new AlertEngine(Fixtures.STREAM, new AlertRulesConfig(null, null, null, c, null), Fixtures.baseline(), null);
     }
 
@@ -34,6 +36,23 @@ class CalibrationRuleTest {
     private static String state(AlertEngine e, WindowEstimate w) {
         List<Alert> a = e.onFinalEstimate(w);
         return a.isEmpty() ? "-" : a.get(0).state().toString().substring(0, 2);
+    }
+
+    @Test
+    void bandEndsLeftOutRunAtTheValuesTheBudgetDerives() {
+        AlertEngine e = new AlertEngine(Fixtures.STREAM, new AlertRulesConfig(null, null, null,
+                new Calibration(null, null, null, null, null, null, null), null), Fixtures.baseline(), null);
+        Calibration derived = e.budget().calibration();
+        double max = derived.observedExpected().max();
+        // the fixture's baseline (1,210 positives in 12 weeks, weekly windows) with the whole budget for
+        // calibration: a band of its own, not the fallback 1.25
+        assertTrue(max > 1 && max != 1.25, derived.toString());
+        assertEquals("-", state(e, w(0, Fixtures.calibration(max + 0.1, max, max + 0.2, 1.0, 0.1, 0.5))));
+        AlertEngine again = new AlertEngine(Fixtures.STREAM, new AlertRulesConfig(null, null, null,
+                new Calibration(null, null, null, null, null, null, null), null), Fixtures.baseline(), null);
+        Alert a = again.onFinalEstimate(w(0, Fixtures.calibration(max + 0.1, max + 1e-9, max + 0.2, 1.0, 0.1, 0.5)))
+                .get(0);
+        assertEquals(max, a.limit(), "raised against the derived end");
     }
 
     @Test
@@ -80,7 +99,7 @@ class CalibrationRuleTest {
         CalibrationEstimate at27 = new CalibrationEstimate(2000, 100, 100.0, 1.0, 0.9, 1.1, 0.0, 0.1, 1.0, 0.1, 27.0, 10,
                 0.000707, 0.04, 0.7);
         assertEquals(0.002604, CalibrationRule.externalP(at27), 1e-6);
-        Calibration limit001 = new Calibration(null, null, null, 0.001, null, null, null);
+        Calibration limit001 = new Calibration(new Band(0.8, 1.25), new Band(0.7, 1.3), null, 0.001, null, null, null);
         AlertEngine e27 = new AlertEngine(Fixtures.STREAM, new AlertRulesConfig(null, null, null, limit001, null),
                 Fixtures.baseline(), null);
         assertEquals("-", state(e27, w(0, at27)), "the 8-degree p would raise at 0.001, the 10-degree one does not");
@@ -111,7 +130,7 @@ class CalibrationRuleTest {
 
     @Test
     void customBandsAndGuard() {
-        Calibration c = new Calibration(new Band(0.9, null), new Band(null, 1.1), null, 0.01, 2, 1, null);
+        Calibration c = new Calibration(new Band(0.9, 1.25), new Band(0.7, 1.1), null, 0.01, 2, 1, null);
         AlertEngine e = new AlertEngine(Fixtures.STREAM, new AlertRulesConfig(null, null, null, c, null),
                 Fixtures.baseline(), null);
         CalibrationEstimate low = Fixtures.calibration(0.8, 0.7, 0.89, 1.0, 0.1, 0.5);

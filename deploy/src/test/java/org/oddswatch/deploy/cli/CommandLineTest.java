@@ -218,8 +218,9 @@ class CommandLineTest {
                 + "      bernoulli-cusum: off [switched-off]: switched off in the definition (rules.cusum.enabled: false)\n"
                 + "      odds-ratio-cusum: on (needs a baseline)\n"
                 + "      false-alarm budget: 1.000 a year for the monitor, 1.000 per stream over 1 stream (confidence 0.90"
-                + " against the baseline's error); oddsRatioCusum.limit derived per stream from its baseline\n"
-                + "    note: monitors[0].rules.oddsRatioDrift is not listed, so it runs with its defaults"), check.out());
+                + " against the baseline's error); oddsRatioCusum.limit and calibration bands derived per stream from its"
+                + " baseline\n    note: monitors[0].rules.calibration is not listed, so it runs with its defaults"),
+                check.out());
         Result replay = run("replay", "--config", definition.toString(), "--input", events.toString(), "--out",
                 dir.resolve("out").toString());
         assertEquals(0, replay.status(), replay.err());

@@ -49,7 +49,8 @@ import org.oddswatch.ingest.pipeline.RecordOrigin;
  *       positives, too few for a 7-parameter model at 10 events per parameter).</li>
  * </ul>
  * Both have a fixed 12-week baseline and the defaults of {@code AlertRulesConfig}
- * ({@code oddsRatioDrift: {}} on both watched terms, {@code calibration: {}}, {@code cusum: {}}).
+ * ({@code calibration: {}} with its bands from the budget, {@code cusum: {}}, the step CUSUM on both
+ * watched terms; the window z-rule only with {@code -Ddetection.drift=on}, see {@link #EXTRA_RULES}).
  *
  * <p>False alarms: no change, 52 monitored weekly steps per simulated year; every raised episode is a
  * false alarm, counted per monitor, and every opened incident (the grouping on-call receives). Delay:
@@ -112,10 +113,29 @@ class DetectionQualityBenchmark {
                 estimates: {level: 0.95, prevalenceInterval: wilson, minEventsPerParameter: 10}
                 baseline: {from: 2026-01-05T00:00:00Z, to: 2026-03-30T00:00:00Z}
                 rules:
-                  oddsRatioDrift: {}
                   calibration: {}
                   cusum: {}
-            """;
+            %s""";
+
+    /**
+     * Rule lines added to every monitor for a measurement away from the defaults (system properties):
+     * {@code detection.drift} {@code on} or {@code off} lists the window z-rule explicitly (unset: the
+     * defaults decide), {@code detection.falseAlarmsPerYear} sets the budget.
+     */
+    private static final String EXTRA_RULES = extraRules();
+
+    private static String extraRules() {
+        StringBuilder b = new StringBuilder();
+        String drift = System.getProperty("detection.drift", "");
+        if (drift.equals("on") || drift.equals("off")) {
+            b.append("      oddsRatioDrift: ").append(drift.equals("on") ? "{}" : "{enabled: false}").append('\n');
+        }
+        String budget = System.getProperty("detection.falseAlarmsPerYear", "");
+        if (!budget.isEmpty()) {
+            b.append("      falseAlarmsPerYear: ").append(Double.parseDouble(budget)).append('\n');
+        }
+        return b.toString();
+    }
 
     /**
      * One programme with its monitors.
@@ -128,14 +148,15 @@ class DetectionQualityBenchmark {
     }
 
     private static final Setup HOUSE = new Setup("house scenario (1 monitor, weekly windows)",
-            SimulatedProgramme.house(), "monitors:\n" + MONITOR.formatted("respiratory", "", "P7D"), 1,
+            SimulatedProgramme.house(), "monitors:\n" + MONITOR.formatted("respiratory", "", "P7D", EXTRA_RULES), 1,
             Integer.getInteger("detection.years", 50), Integer.getInteger("detection.runs", 100), 7_000_000L, null,
             List.of("respiratory"), List.of("respiratory"));
 
     private static final Setup DISTRICTS = new Setup(
             "sixteen districts (programme monitor + 16 district streams, 28-day windows stepped weekly)",
-            SimulatedProgramme.districts(), "monitors:\n" + MONITOR.formatted("districts", "", "P28D")
-                    + MONITOR.formatted("districts-by-site", "    split: {field: /site, maxStreams: 16}", "P28D"), 4,
+            SimulatedProgramme.districts(), "monitors:\n" + MONITOR.formatted("districts", "", "P28D", EXTRA_RULES)
+                    + MONITOR.formatted("districts-by-site", "    split: {field: /site, maxStreams: 16}", "P28D",
+                            EXTRA_RULES), 4,
             Integer.getInteger("detection.districtYears", 16), Integer.getInteger("detection.districtRuns", 30),
             17_000_000L, "d01", List.of("districts-by-site/d01"), List.of("districts", "districts-by-site"));
 

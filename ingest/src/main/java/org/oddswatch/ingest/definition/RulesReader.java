@@ -22,9 +22,11 @@ import org.oddswatch.alerts.json.Json;
 final class RulesReader {
 
     /** Rule sections that run with their defaults unless switched off. */
-    private static final List<String> DEFAULT_ON = List.of("oddsRatioDrift", "calibration", "cusum", "oddsRatioCusum");
+    private static final List<String> DEFAULT_ON = List.of("calibration", "cusum", "oddsRatioCusum");
     /** Default rules that an unlisted section once switched off: only these get a notice when unlisted. */
-    private static final List<String> ONCE_OFF_WHEN_UNLISTED = List.of("oddsRatioDrift", "calibration", "cusum");
+    private static final List<String> ONCE_OFF_WHEN_UNLISTED = List.of("calibration", "cusum");
+    /** The window z-rule: on by default in earlier versions, now only when listed. */
+    private static final String RETIRED_DEFAULT = "oddsRatioDrift";
     private static final List<String> SECTIONS = List.of("oddsRatioDrift", "oddsRatioBounds", "calibration", "cusum",
             "oddsRatioCusum");
 
@@ -85,16 +87,21 @@ final class RulesReader {
     }
 
     /**
-     * The mapping to bind: every rule with defaults (drift, calibration, CUSUM) runs unless its
-     * section says {@code enabled: false}; the bounds rule (no defaults) runs when its section is
-     * there and not switched off. Sections switched off are removed, unlisted default rules added
+     * The mapping to bind: every rule with defaults (calibration, both CUSUMs) runs unless its
+     * section says {@code enabled: false}; the bounds rule (no defaults) and the window z-rule
+     * ({@code oddsRatioDrift}, a default in earlier versions, noticed when unlisted) run when their
+     * section is there and not switched off. Sections switched off are removed, unlisted default rules added
      * empty (each with a notice: an unlisted rule was once off), {@code enabled} keys dropped.
      */
     private static ObjectNode switchedOn(DefNode node, List<String> notices) throws DefinitionException {
         ObjectNode bound = ((ObjectNode) node.json()).deepCopy();
         for (String section : SECTIONS) {
             DefNode child = node.get(section);
-            if (!child.present() && DEFAULT_ON.contains(section)) {
+            if (!child.present() && section.equals(RETIRED_DEFAULT)) {
+                notices.add(node.path() + "." + section + " is not listed, so it does not run (until this version it"
+                        + " ran by default; the step CUSUM oddsRatioCusum watches the odds ratios); write '" + section
+                        + ": {}' to run it");
+            } else if (!child.present() && DEFAULT_ON.contains(section)) {
                 bound.putObject(section);
                 if (ONCE_OFF_WHEN_UNLISTED.contains(section)) {
                     notices.add(node.path() + "." + section + " is not listed, so it runs with its defaults (until "

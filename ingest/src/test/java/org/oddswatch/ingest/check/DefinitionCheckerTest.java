@@ -64,8 +64,8 @@ class DefinitionCheckerTest {
         CheckReport.appendRules(rules, DefinitionLoader.load(definition()).monitors().get(0));
         // The split monitor allows 8 streams: a budget of 1 a year is 1/8 per stream.
         assertTrue(rules.toString().contains("      false-alarm budget: 1.000 a year for the monitor, 0.125 per stream over 8"
-                + " streams (confidence 0.90 against the baseline's error); cusum.limit and oddsRatioCusum.limit derived per"
-                + " stream from its baseline\n"), rules.toString());
+                + " streams (confidence 0.90 against the baseline's error); cusum.limit and oddsRatioCusum.limit and"
+                + " calibration bands derived per stream from its baseline\n"), rules.toString());
     }
 
     @Test
@@ -97,10 +97,10 @@ class DefinitionCheckerTest {
                 "      bernoulli-cusum: off [switched-off]: switched off in the definition (rules.cusum.enabled: false)",
                 "      odds-ratio-cusum: on (needs a baseline)",
                 "      false-alarm budget: 1.000 a year for the monitor, 1.000 per stream over 1 stream (confidence 0.90 against the"
-                        + " baseline's error); oddsRatioCusum.limit derived per stream from its baseline",
+                        + " baseline's error); oddsRatioCusum.limit and calibration bands derived per stream from its baseline",
                 ""), rules.substring(0, rules.indexOf("    note: ")));
-        assertEquals(2, config.monitors().get(0).notices().size(), "drift and calibration are not listed: " + rules);
-        assertTrue(rules.toString().contains("    note: monitors[0].rules.oddsRatioDrift is not listed, so it runs with its "
+        assertEquals(1, config.monitors().get(0).notices().size(), "calibration is not listed: " + rules);
+        assertTrue(rules.toString().contains("    note: monitors[0].rules.calibration is not listed, so it runs with its "
                 + "defaults"), rules.toString());
         assertEquals(GapScenario.EXPECTED, GapScenario.keys(report.gaps()));
 

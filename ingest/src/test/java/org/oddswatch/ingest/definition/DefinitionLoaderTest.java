@@ -281,7 +281,8 @@ class DefinitionLoaderTest {
         MonitorDefinition north = listed.monitor("north");
         assertNotNull(north.rules().cusum(), "cusum is not listed: it runs with its defaults");
         assertNull(north.rules().cusum().limit(), "its limit is left to the false-alarm budget");
-        assertEquals(0.8, north.rules().calibration().observedExpected().min());
+        assertNull(north.rules().calibration().observedExpected().min(), "a band left to the false-alarm budget");
+        assertEquals(0.8, north.rules().calibration().observedExpectedBand().min(), "its fallback");
         assertNull(north.rules().oddsRatioBounds(), "bounds have no defaults");
         assertEquals(2, north.notices().size(), north.notices().toString());
         assertTrue(north.notices().get(0).startsWith("monitors[0].rules.calibration is not listed, so it runs"),

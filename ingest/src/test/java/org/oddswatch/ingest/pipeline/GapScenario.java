@@ -50,6 +50,7 @@ public final class GapScenario {
                     window: {width: P28D, step: P7D, lateness: P1D, align: 2026-01-05T00:00:00Z}
                     baseline: {from: 2026-01-05T00:00:00Z, to: 2026-02-02T00:00:00Z}
                     rules:
+                      oddsRatioDrift: {}
                       oddsRatioBounds: {terms: [{term: household_contact, above: 5}]}
                       cusum: {enabled: false}
                 """.formatted(topic);

@@ -129,8 +129,9 @@ class HtmlReportTest {
                 FitMethod.NEWTON, 2000), Fixtures.calibration(1.0, 0.9, 1.1, 1.0, 0.1, 0.5)));
         JsonNode lines = island(HtmlReport.render(windows, List.of(), "t",
                 ReportOptions.withholding(SmallCellPolicy.DEFAULT).withRules(stream -> rules))).get("streams").get(0).get("lines");
-        assertEquals("[0.75,1.25]", lines.get("oe").get("limits").toString(), "the set minimum, the default maximum");
-        assertEquals("[0.7,1.3]", lines.get("slope").get("limits").toString());
+        // band ends left out are derived per stream from the false-alarm budget, not drawn from the rules
+        assertEquals("[0.75]", lines.get("oe").get("limits").toString(), "the set minimum only");
+        assertFalse(lines.path("slope").has("limits"), "the slope band is left to the budget");
         assertEquals("[1.0,6.0]", lines.get("or:household_contact=yes").get("limits").toString());
         assertTrue(lines.get("or:household_contact=yes").get("note").asText().contains("|z| ≥ 3.50"));
         assertEquals("CUSUM charts (limit h = 9.00): no signal in this replay.", lines.get("cusumNote").asText());
@@ -166,7 +167,7 @@ class HtmlReportTest {
             }
         }
         Path file = HtmlReport.write(dir, windows, alerts, "A year of ten streams",
-                ReportOptions.withholding(SmallCellPolicy.DEFAULT).withRejects(rejects).withRules(stream -> AlertRulesConfig.defaults()));
+                ReportOptions.withholding(SmallCellPolicy.DEFAULT).withRejects(rejects).withRules(stream -> Fixtures.earlierDefaults()));
         long bytes = Files.size(file);
         String html = Files.readString(file, StandardCharsets.UTF_8);
         assertEquals(10, island(html).get("streams").size());
@@ -205,7 +206,7 @@ class HtmlReportTest {
     }
 
     private static List<Alert> alerts(List<WindowEstimate> windows) {
-        AlertEngine engine = new AlertEngine(windows.get(0).stream(), AlertRulesConfig.defaults(), Fixtures.baseline(),
+        AlertEngine engine = new AlertEngine(windows.get(0).stream(), Fixtures.earlierDefaults(), Fixtures.baseline(),
                 null);
         List<Alert> alerts = new ArrayList<>();
         windows.forEach(w -> alerts.addAll(engine.onFinalEstimate(w)));
