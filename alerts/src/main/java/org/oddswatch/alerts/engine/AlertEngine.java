@@ -16,6 +16,7 @@ import org.oddswatch.alerts.lifecycle.AlertText;
 import org.oddswatch.alerts.lifecycle.EpisodeTracker;
 import org.oddswatch.alerts.lifecycle.EpisodeTracker.Transition;
 import org.oddswatch.alerts.lifecycle.Evidence;
+import org.oddswatch.alerts.privacy.SmallCellAlerts;
 import org.oddswatch.alerts.privacy.SmallCellPolicy;
 import org.oddswatch.alerts.rules.BernoulliCusumRule;
 import org.oddswatch.alerts.rules.CalibrationRule;
@@ -66,6 +67,9 @@ public final class AlertEngine {
     private Instant chartsEnd;
     private final List<DriftValue> drift = new ArrayList<>();
     private final RuleGaps gaps;
+    /** The small-cell rule, and what it withholds of the final window being judged (its alerts withhold the same). */
+    private final SmallCellPolicy cells;
+    private SmallCellPolicy.Withheld windowCells;
 
     /**
      * @param stream the stream name
@@ -95,6 +99,7 @@ public final class AlertEngine {
     public AlertEngine(String stream, AlertRulesConfig rules, BaselineModel baseline, ReplayHint replay,
                        WindowGeometry grid, SmallCellPolicy cells, int streams) {
         this.stream = stream;
+        this.cells = cells == null ? SmallCellPolicy.DEFAULT : cells;
         this.baseline = baseline;
         this.replay = replay == null ? new ReplayHint(null, null, null) : replay;
         this.tracker = new EpisodeTracker(stream);
@@ -196,6 +201,7 @@ public final class AlertEngine {
     private void startCharts(WindowEstimate estimate) {
         chartsEnd = estimate.windowEnd();
         drift.clear();
+        windowCells = cells.assess(estimate);
     }
 
     /**
@@ -355,7 +361,11 @@ public final class AlertEngine {
         boolean cleared = t.state() == AlertState.CLEARED;
         Measurement m = reading.measurement();
         Measurement.Side side = cleared ? Measurement.Side.WITHIN : m.side();
-        String message = AlertText.compose(stream, reading, t.state(), t.run(), side, baselineLabel(), command);
+        String withheld = SmallCellAlerts.reason(reading.rule(), reading.events(), windowCells, cells);
+        String message = withheld == null
+                ? AlertText.compose(stream, reading, t.state(), t.run(), side, baselineLabel(), command)
+                : AlertText.composeWithheld(stream, reading, t.state(), t.run(), cells.count(reading.events()), withheld,
+                        baselineLabel(), command);
         Double limit = cleared ? reading.clearLimit() : reading.limit();
         Evidence e = reading.evidence();
         Integer run = cleared ? null : t.run();
@@ -364,6 +374,9 @@ public final class AlertEngine {
         Alert alert = new Alert(t.id(), stream, reading.rule(), reading.subject(), t.state(), reading.windowStart(),
                 reading.windowEnd(), m.measure(), m.value(), side, reading.observed(), reading.baseline(), limit,
                 reading.clearLimit(), evidence, reading.events(), message, command);
+        if (withheld != null) {
+            alert = SmallCellAlerts.withhold(alert, withheld);
+        }
         lastByKey.put(reading.key(), alert);
         out.add(alert);
     }

@@ -1,6 +1,7 @@
 package org.oddswatch.alerts.lifecycle;
 
 import java.time.Instant;
+import java.util.List;
 import org.oddswatch.alerts.rules.Measurement;
 
 /**
@@ -31,9 +32,25 @@ import org.oddswatch.alerts.rules.Measurement;
  * @param events events in the window
  * @param message one paragraph an on-call person can act on, with the investigation caution
  * @param replayCommand the exact {@code oddswatch replay ...} command that reproduces it
+ * @param withheld the figures left out under the small-cell rule, each with its reason (null when
+ *     none is: the alert is then written exactly as before the list existed); a small {@code events}
+ *     is added to it where the alert is published ({@code privacy.PublishedAlert})
  */
 public record Alert(String id, String stream, String rule, AlertSubject subject, AlertState state, Instant windowStart,
                     Instant windowEnd, String measure, Double value, Measurement.Side direction, Double observed,
                     Double baseline, Double limit, Double clearLimit, Evidence evidence, long events, String message,
-                    String replayCommand) {
+                    String replayCommand, List<WithheldFigure> withheld) {
+
+    public Alert {
+        withheld = withheld == null || withheld.isEmpty() ? null : List.copyOf(withheld);
+    }
+
+    /** An alert with nothing withheld. */
+    public Alert(String id, String stream, String rule, AlertSubject subject, AlertState state, Instant windowStart,
+                 Instant windowEnd, String measure, Double value, Measurement.Side direction, Double observed,
+                 Double baseline, Double limit, Double clearLimit, Evidence evidence, long events, String message,
+                 String replayCommand) {
+        this(id, stream, rule, subject, state, windowStart, windowEnd, measure, value, direction, observed, baseline,
+                limit, clearLimit, evidence, events, message, replayCommand, null);
+    }
 }

@@ -24,17 +24,44 @@ public final class AlertText {
      */
     public static String compose(String stream, Reading r, AlertState state, int run, Measurement.Side side,
                                  String baselineLabel, String replayCommand) {
+        StringBuilder b = opening(stream, r, state).append(", on ").append(Format.count(r.events())).append(" events, ")
+                .append(r.detail()).append('.');
+        b.append(' ').append(measured(r, state, side));
+        return closing(b, r, state, run, baselineLabel, replayCommand);
+    }
+
+    /**
+     * The paragraph of an alert whose figures are withheld under the small-cell rule: the same
+     * opening, run, baseline, replay command and caution, but neither the rule's own sentence nor
+     * the measured value (both quote the window's figures); instead the sentence that they are
+     * withheld and why. The events are named unless they are a small count themselves.
+     *
+     * @param events the events, or the withheld label (e.g. {@code <5}) when they are a small count
+     * @param reason the small count that withholds the figures, e.g. {@code positives from 1 to 4}
+     */
+    public static String composeWithheld(String stream, Reading r, AlertState state, int run, String events,
+                                         String reason, String baselineLabel, String replayCommand) {
+        String measure = r.measurement() == null ? null : r.measurement().measure();
+        StringBuilder b = opening(stream, r, state).append(", on ").append(events).append(" events: ")
+                .append(Measurement.words(measure)).append(measure == null ? "" : " (" + measure + ")")
+                .append(" and the other figures of this reading are withheld for small numbers (").append(reason)
+                .append("), as in the window's published estimate.");
+        return closing(b, r, state, run, baselineLabel, replayCommand);
+    }
+
+    private static StringBuilder opening(String stream, Reading r, AlertState state) {
         String opening = switch (state) {
             case RAISED -> "Raised";
             case CONTINUING -> "Continuing";
             case CLEARED -> "Cleared";
         };
-        StringBuilder b = new StringBuilder();
-        b.append(opening).append(" (").append(r.rule()).append(", ").append(r.subject().label()).append(") on stream ")
-                .append(stream).append(": in the window ").append(r.windowStart()).append(" to ").append(r.windowEnd())
-                .append(" (end exclusive), on ").append(Format.count(r.events())).append(" events, ").append(r.detail())
-                .append('.');
-        b.append(' ').append(measured(r, state, side));
+        return new StringBuilder().append(opening).append(" (").append(r.rule()).append(", ")
+                .append(r.subject().label()).append(") on stream ").append(stream).append(": in the window ")
+                .append(r.windowStart()).append(" to ").append(r.windowEnd()).append(" (end exclusive)");
+    }
+
+    private static String closing(StringBuilder b, Reading r, AlertState state, int run, String baselineLabel,
+                                  String replayCommand) {
         switch (state) {
             case RAISED -> b.append(run > 1 ? " Raised after " + run + " readings in a row beyond the limit." : "");
             case CONTINUING -> b.append(" The condition persists; the episode stays open.");

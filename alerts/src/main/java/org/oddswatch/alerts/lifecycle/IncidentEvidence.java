@@ -1,6 +1,7 @@
 package org.oddswatch.alerts.lifecycle;
 
 import java.time.Instant;
+import java.util.List;
 import org.oddswatch.alerts.rules.Measurement;
 
 /**
@@ -19,16 +20,24 @@ import org.oddswatch.alerts.rules.Measurement;
  * @param value its value in the latest message
  * @param direction the side of the limit the value lies on
  * @param limit the limit the value was compared with
+ * @param withheld when the latest message withheld its value under the small-cell rule, that entry of
+ *     its {@code withheld} list ({@code value} and the reason); null otherwise
  */
 public record IncidentEvidence(String episode, String stream, String rule, String subject, AlertState state,
                                Instant windowStart, Instant windowEnd, String measure, Double value,
-                               Measurement.Side direction, Double limit) {
+                               Measurement.Side direction, Double limit, List<WithheldFigure> withheld) {
 
-    /** The evidence an alert message gives. */
+    public IncidentEvidence {
+        withheld = withheld == null || withheld.isEmpty() ? null : List.copyOf(withheld);
+    }
+
+    /** The evidence an alert message gives: its value, or the value's entry of its {@code withheld} list. */
     public static IncidentEvidence of(Alert alert) {
+        List<WithheldFigure> withheld = alert.withheld() == null ? null
+                : alert.withheld().stream().filter(w -> "value".equals(w.field())).toList();
         return new IncidentEvidence(alert.id(), alert.stream(), alert.rule(), alert.subject().label(), alert.state(),
                 alert.windowStart(), alert.windowEnd(), alert.measure(), alert.value(), alert.direction(),
-                alert.limit());
+                alert.limit(), withheld);
     }
 
     /** True while the episode has not been cleared. */

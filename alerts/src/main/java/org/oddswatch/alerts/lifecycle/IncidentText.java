@@ -25,7 +25,10 @@ final class IncidentText {
         for (IncidentEvidence e : evidence) {
             b.append(' ').append(e.rule()).append(" (").append(e.subject()).append(") on ").append(e.stream())
                     .append(", ").append(e.state());
-            if (e.measure() != null && e.value() != null) {
+            if (e.measure() != null && e.withheld() != null) {
+                b.append(": ").append(e.measure()).append(" withheld for small numbers (")
+                        .append(e.withheld().get(0).reason()).append(')');
+            } else if (e.measure() != null && e.value() != null) {
                 b.append(": ").append(e.measure()).append(' ').append(String.format(Locale.ROOT, "%.4g", e.value()));
                 if (e.limit() != null && e.direction() != null) {
                     b.append(' ').append(e.direction()).append(' ')

@@ -2,6 +2,7 @@ package org.oddswatch.alerts.lifecycle;
 
 import java.time.Instant;
 import java.util.ArrayList;
+import java.util.Comparator;
 import java.util.HashMap;
 import java.util.LinkedHashMap;
 import java.util.List;
@@ -32,11 +33,14 @@ import java.util.function.BiPredicate;
  * tracker reads no clock: the same alert messages in the same order give the same incidents, live
  * or in replay.
  *
- * <p>After a restart the tracker starts empty (the alerts topic, not the incidents, is the record).
- * A {@code continuing} message of an episode it does not know opens an incident for it, with the
- * id and revision 1 that episode would have given as first episode, so a receiver that keys on
- * {@code id} and {@code revision} sees a repeat, not a new change; a {@code cleared} message of an
- * unknown episode gives no message.
+ * <p>After a restart the alerts topic, not the incidents, is the record: {@link #restore} replays the
+ * alert messages published before it, so every incident open then goes on with its id, its
+ * episodes and its next revision, and its episodes' later messages (a clearing among them) update
+ * or resolve it as in an uninterrupted run. Where that record is incomplete (a compacted alerts
+ * topic keeps only each episode's newest message), a {@code continuing} message of an episode the
+ * tracker does not know opens an incident for it, with the id and revision 1 that episode would
+ * have given as first episode, so a receiver that keys on {@code id} and {@code revision} sees a
+ * repeat, not a new change; a {@code cleared} message of an unknown episode gives no message.
  */
 public final class IncidentTracker {
 
@@ -83,6 +87,35 @@ public final class IncidentTracker {
         open.remove(incident);
         incident.episodes.keySet().forEach(byEpisode::remove);
         return Optional.of(incident.message(IncidentChange.RESOLVED, alert));
+    }
+
+    /**
+     * Continues the incidents of alert messages published before a restart, without sending any
+     * message: the messages are replayed, in window order (their order in {@code published} among
+     * equal window ends, as on the alerts topic), through a tracker of the same relation, and each
+     * incident still open at the end that this tracker does not hold yet (by id, and by episode) is
+     * taken over with its episodes, window span and revision. Incidents this tracker already holds
+     * stay as they are (they are newer), so calling it again with the same or an overlapping record
+     * (each partition of a topic restores its monitors' alerts) changes nothing. Deterministic: the
+     * same record gives the same incidents.
+     *
+     * @param published alert messages read back from the alerts topics, in the order read
+     * @return the incidents taken over
+     */
+    public int restore(List<Alert> published) {
+        IncidentTracker replay = new IncidentTracker(related);
+        published.stream().sorted(Comparator.comparing(Alert::windowEnd)).forEach(replay::accept);
+        int taken = 0;
+        for (OpenIncident incident : replay.open) {
+            boolean known = open.stream().anyMatch(o -> o.id.equals(incident.id))
+                    || incident.episodes.keySet().stream().anyMatch(byEpisode::containsKey);
+            if (!known) {
+                open.add(incident);
+                incident.episodes.keySet().forEach(episode -> byEpisode.put(episode, incident));
+                taken++;
+            }
+        }
+        return taken;
     }
 
     /** Incidents with at least one open episode. */

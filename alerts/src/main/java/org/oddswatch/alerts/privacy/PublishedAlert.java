@@ -1,15 +1,19 @@
 package org.oddswatch.alerts.privacy;
 
+import com.fasterxml.jackson.databind.node.ArrayNode;
 import com.fasterxml.jackson.databind.node.ObjectNode;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
 
 /**
- * The JSON of an alert as published (alerts topic, {@code alerts.jsonl}, webhook, log): when its
+ * The JSON of an alert as published (alerts topic, {@code alerts.jsonl}, webhook, live page): the
+ * alert as made, whose figures {@link SmallCellAlerts} already left out and listed in
+ * {@code withheld} when the estimate of its window withholds them; here in addition, when its
  * {@code events} is a small count under the {@link SmallCellPolicy} (a CUSUM excursion can be a
- * handful of events), the field is left out and a {@code withheld} list names it and the reason, as
- * for estimates. Otherwise the alert is written exactly as {@code Json.write(alert)}. A restart reads
- * such an alert back with {@code events} 0; the lifecycle does not use it.
+ * handful of events), that field is left out and heads the {@code withheld} list, as for estimates.
+ * Otherwise the alert is written exactly as {@code Json.write(alert)}, so an alert with nothing to
+ * withhold is byte for byte what it was before alerts withheld figures. A restart reads such an
+ * alert back with {@code events} 0 and the figures absent; the lifecycle uses neither.
  */
 public final class PublishedAlert {
 
@@ -23,8 +27,12 @@ public final class PublishedAlert {
         }
         ObjectNode tree = Json.mapper().valueToTree(alert);
         tree.remove("events");
-        tree.putArray("withheld").addObject().put("field", "events").put("reason", "events from 1 to "
-                + (policy.limit() - 1));
+        tree.remove("withheld");
+        ArrayNode withheld = tree.putArray("withheld");
+        withheld.addObject().put("field", "events").put("reason", "events from 1 to " + (policy.limit() - 1));
+        if (alert.withheld() != null) {
+            alert.withheld().forEach(w -> withheld.addObject().put("field", w.field()).put("reason", w.reason()));
+        }
         return Json.write(tree);
     }
 }

@@ -197,8 +197,9 @@ public final class ReplayReport {
     /** "hosmer-lemeshow-p 9.38e-06 below the limit 1.00e-04" (the clear limit for a clearing). */
     private static String measured(Alert a) {
         String name = a.measure() == null ? "observed" : a.measure();
-        StringBuilder b = new StringBuilder(name).append(' ').append(Measurement.format(a.measure(),
-                a.measure() == null ? a.observed() : a.value()));
+        StringBuilder b = new StringBuilder(name).append(' ').append(a.withheld() != null
+                ? "withheld for small numbers (" + a.withheld().get(0).reason() + ")"
+                : Measurement.format(a.measure(), a.measure() == null ? a.observed() : a.value()));
         if (a.limit() != null) {
             String side = a.direction() == null ? "against" : a.direction() == Measurement.Side.WITHIN
                     ? "within the clear limit" : a.direction() + " the limit";

@@ -132,4 +132,62 @@ class IncidentTrackerTest {
         assertTrue(first.get(0).startsWith("{\"id\":\"") && first.get(0).contains("\"change\":\"opened\""), first.get(0));
         assertTrue(first.get(3).contains("\"change\":\"resolved\""), first.get(3));
     }
+
+    /**
+     * A restart between any two messages: a tracker restored from the messages before it (restored
+     * twice, as two partitions of one topic do) gives, for the messages after it, the very incident
+     * messages of the uninterrupted tracker: same ids, revisions and text; the clearing resolves.
+     */
+    @Test
+    void aRestoredTrackerContinuesEveryOpenIncidentAsIfUninterrupted() {
+        List<Alert> alerts = List.of(
+                alert("by-region/north", "odds-ratio-drift", "household_contact", AlertState.RAISED, 2, 2),
+                alert("programme", "calibration", null, AlertState.RAISED, 3, 3),
+                alert("by-region/north", "odds-ratio-drift", "household_contact", AlertState.CONTINUING, 2, 3),
+                alert("by-region/north", "odds-ratio-drift", "household_contact", AlertState.CLEARED, 2, 5),
+                alert("programme", "calibration", null, AlertState.CONTINUING, 3, 5),
+                alert("by-region/south", "odds-ratio-drift", "household_contact", AlertState.RAISED, 5, 5),
+                alert("programme", "calibration", null, AlertState.CLEARED, 3, 7),
+                alert("by-region/south", "odds-ratio-drift", "household_contact", AlertState.CLEARED, 5, 8));
+        List<String> uninterrupted = new ArrayList<>();
+        IncidentTracker whole = new IncidentTracker(IncidentTrackerTest::splitAndParent);
+        List<Integer> messageAt = new ArrayList<>();
+        for (int i = 0; i < alerts.size(); i++) {
+            int at = i;
+            whole.accept(alerts.get(i)).ifPresent(incident -> {
+                uninterrupted.add(Json.write(incident));
+                messageAt.add(at);
+            });
+        }
+        assertEquals(6, uninterrupted.size(), String.join("\n", uninterrupted));
+        for (int cut = 1; cut < alerts.size(); cut++) {
+            IncidentTracker restarted = new IncidentTracker(IncidentTrackerTest::splitAndParent);
+            restarted.restore(alerts.subList(0, cut));
+            assertEquals(0, restarted.restore(alerts.subList(0, cut)), "a second restore takes nothing over");
+            List<String> after = new ArrayList<>();
+            for (Alert a : alerts.subList(cut, alerts.size())) {
+                restarted.accept(a).ifPresent(incident -> after.add(Json.write(incident)));
+            }
+            int firstAfter = cut;
+            int skipped = (int) messageAt.stream().filter(i -> i < firstAfter).count();
+            assertEquals(uninterrupted.subList(skipped, uninterrupted.size()), after, "restart after message " + cut);
+        }
+        // without the restore the first episode's clearing would be lost (the old behaviour)
+        IncidentTracker forgetful = new IncidentTracker(IncidentTrackerTest::splitAndParent);
+        assertEquals(Optional.empty(), forgetful.accept(alerts.get(3)));
+    }
+
+    @Test
+    void restoringTheSameRecordGivesTheSameIncidents() {
+        List<Alert> record = List.of(
+                alert("programme", "calibration", null, AlertState.RAISED, 3, 3),
+                alert("programme", "odds-ratio-drift", "household_contact", AlertState.RAISED, 4, 4));
+        IncidentTracker a = IncidentTracker.sameStream();
+        IncidentTracker b = IncidentTracker.sameStream();
+        assertEquals(1, a.restore(record));
+        b.restore(record);
+        Alert next = alert("programme", "calibration", null, AlertState.CLEARED, 3, 6);
+        assertEquals(Json.write(a.accept(next).orElseThrow()), Json.write(b.accept(next).orElseThrow()));
+        assertEquals(1, a.openIncidents());
+    }
 }

@@ -22,6 +22,9 @@ import java.util.concurrent.atomic.AtomicLong;
 import java.util.concurrent.atomic.AtomicReference;
 import java.util.function.BooleanSupplier;
 import org.oddswatch.alerts.gaps.MonitoringGap;
+import org.oddswatch.alerts.json.Json;
+import org.oddswatch.alerts.live.LiveSite;
+import org.oddswatch.alerts.live.WebAnswer;
 import org.oddswatch.broker.EmbeddedBroker;
 import org.oddswatch.deploy.feed.SimulatedClock;
 import org.oddswatch.deploy.feed.TopicPublisher;
@@ -164,6 +167,7 @@ public final class Sandbox {
             }
             long lastCounts = 0;
             Set<String> gapsShown = new HashSet<>();
+            LiveSite site = service.site();
             while (true) {
                 ServiceStatus status = service.status();
                 List<JsonNode> raisedNow;
@@ -183,7 +187,7 @@ public final class Sandbox {
                 if (settings.redraw()) {
                     SandboxView.Frame frame = new SandboxView.Frame(page, logFile, broker.bootstrapServers(),
                             status.state(), feed.simulatedNow.get(), feed.sent.get(), feed.done.get(),
-                            status.counts(), watcher.streams(), watcher.alerts(), gaps, notes);
+                            status.counts(), watcher.streams(), watcher.alerts(), openIncidents(site), gaps, notes);
                     redraw(view.screen(frame));
                 } else {
                     for (MonitoringGap g : gaps) {
@@ -214,6 +218,25 @@ public final class Sandbox {
     }
 
     /** Everything {@code /status} says is not monitored, over all partitions. */
+    /**
+     * The open incidents' newest messages as the service published them (its live API), oldest
+     * first; none when the API does not answer.
+     */
+    static List<JsonNode> openIncidents(LiveSite site) {
+        WebAnswer answer = site.answer("/api/alerts", "recent=0");
+        if (answer == null || answer.status() != 200) {
+            return List.of();
+        }
+        try {
+            List<JsonNode> open = new ArrayList<>();
+            Json.mapper().readTree(answer.body()).path("incidents").path("open").forEach(open::add);
+            return open;
+        } catch (java.io.IOException e) {
+            LOG.warn("the live API's incidents could not be read: {}", e.getMessage());
+            return List.of();
+        }
+    }
+
     private static List<MonitoringGap> gaps(ServiceStatus status) {
         List<MonitoringGap> gaps = new ArrayList<>();
         for (PipelineSnapshot input : status.inputs()) {

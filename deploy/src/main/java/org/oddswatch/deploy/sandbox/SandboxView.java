@@ -26,9 +26,12 @@ import org.oddswatch.ingest.pipeline.OutcomeCounts;
  * no colours. Reads estimates and alerts as their published JSON.
  *
  * <p>The screen shows at most {@link #STREAM_LINES} streams, one line each, chosen by interest: streams
- * with an open alert first, then streams with a part not monitored (a failed baseline, a rule that
+ * with an open alert episode first, then streams with a part not monitored (a failed baseline, a rule that
  * does not run, a term missing from every event), then the ones with the most events in their newest
- * window. Every stream, with its charts, is on the live page.
+ * window. Every stream, with its charts, is on the live page. Below them the open incidents, as
+ * on-call receives them (one per change, newest first, at most {@link #INCIDENT_LINES}), each with
+ * its agreeing rules as evidence; the episodes' own messages are on the live page and the alerts
+ * topic.
  */
 public final class SandboxView {
 
@@ -36,7 +39,7 @@ public final class SandboxView {
     public static final int MAX_LINES = 20;
     static final int STREAM_LINES = 4;
     static final int GAP_LINES = 2;
-    static final int ALERT_LINES = 3;
+    static final int INCIDENT_LINES = 3;
     /** Width of a line when the terminal does not say. */
     static final int DEFAULT_WIDTH = 120;
 
@@ -51,13 +54,16 @@ public final class SandboxView {
      *
      * @param page the live page's address, {@code http://host:port/}
      * @param logFile the log file as shown to the user
+     * @param alerts the alert messages read from the alerts topic, oldest first
+     * @param incidents the open incidents' newest messages as the service published them (its live
+     *     API's {@code incidents.open}), oldest first
      * @param gaps what is not monitored, from {@code /status}
      * @param log the warnings noted in the log file
      */
     public record Frame(String page, String logFile, String bootstrap, String serviceState, Instant simulatedNow,
                         long sent, boolean feedDone, OutcomeCounts.Snapshot counts,
-                        List<OutputWatcher.StreamView> streams, List<JsonNode> alerts, List<MonitoringGap> gaps,
-                        SandboxLog.Notes log) {
+                        List<OutputWatcher.StreamView> streams, List<JsonNode> alerts, List<JsonNode> incidents,
+                        List<MonitoringGap> gaps, SandboxLog.Notes log) {
     }
 
     private final Scenario scenario;
@@ -146,7 +152,7 @@ public final class SandboxView {
         }
         lines.addAll(streams(f.streams(), open, gapStreams));
         lines.addAll(gaps(gaps));
-        lines.addAll(alerts(f.alerts(), open));
+        lines.addAll(incidents(f.incidents(), f.alerts(), open));
         SandboxLog.Notes log = f.log() == null ? SandboxLog.Notes.NONE : f.log();
         lines.add(log.warnings() == 0 ? "log      no warnings"
                 : String.format(Locale.ROOT, "log      %d warning(s), the newest: %s", log.warnings(), log.newest()));
@@ -261,22 +267,63 @@ public final class SandboxView {
         return newest;
     }
 
-    private List<String> alerts(List<JsonNode> alerts, Map<String, Integer> openByStream) {
+    /**
+     * The open incidents, newest first, one line each: its latest change, id, streams, first window
+     * and its episodes as evidence. Without one open, the newest alert message (or that there is none).
+     */
+    private List<String> incidents(List<JsonNode> incidents, List<JsonNode> alerts, Map<String, Integer> openByStream) {
         List<String> lines = new ArrayList<>();
-        int open = openByStream.values().stream().mapToInt(Integer::intValue).sum();
-        if (alerts.isEmpty()) {
-            lines.add("alerts   none so far");
+        int episodes = openByStream.values().stream().mapToInt(Integer::intValue).sum();
+        List<JsonNode> open = new ArrayList<>(incidents == null ? List.of() : incidents);
+        if (open.isEmpty()) {
+            lines.add(alerts.isEmpty() ? "alerts   none so far"
+                    : "incidents none open; " + episodes + " alert episode(s) open; newest message: "
+                            + alert(alerts.get(alerts.size() - 1)));
             return lines;
         }
-        lines.add(String.format(Locale.ROOT, "alerts   %d open; each subject's newest message, open ones first, newest first",
-                open));
-        List<JsonNode> newest = new ArrayList<>(newestBySubject(alerts).values());
-        java.util.Collections.reverse(newest);
-        newest.sort(Comparator.comparingInt(a -> "cleared".equals(a.path("state").asText()) ? 1 : 0));
-        for (JsonNode a : newest.subList(0, Math.min(ALERT_LINES, newest.size()))) {
-            lines.add("  " + alert(a));
+        java.util.Collections.reverse(open);
+        lines.add(String.format(Locale.ROOT, "incidents %d open (one per change, newest first); %d alert episode(s) open",
+                open.size(), episodes));
+        for (JsonNode incident : open.subList(0, Math.min(INCIDENT_LINES, open.size()))) {
+            lines.add("  " + incident(incident));
         }
         return lines;
+    }
+
+    /**
+     * One line per incident message: "UPDATED  1a2b3c4d from 2026-04-20, 2 episodes (1 open) on
+     * respiratory +1: odds-ratio-drift household_contact=yes continuing (odds-ratio-z 3.41 above
+     * 3.00); ..." (its latest change, the id's first 8 digits, the first window, its episodes, the
+     * first stream and how many more, then each episode). A figure the incident withholds for small
+     * numbers is shown as withheld.
+     */
+    public String incident(JsonNode i) {
+        List<String> streams = texts(i.path("streams"));
+        String id = i.path("id").asText();
+        int episodes = i.path("evidence").size();
+        StringBuilder b = new StringBuilder(String.format(Locale.ROOT, "%-8s %s from %s, %d episode%s (%d open) on %s%s:",
+                i.path("change").asText().toUpperCase(Locale.ROOT), id.substring(0, Math.min(8, id.length())),
+                day(i.path("from").asText()), episodes, episodes == 1 ? "" : "s", i.path("openEpisodes").asInt(),
+                streams.isEmpty() ? "-" : streams.get(0), streams.size() > 1 ? " +" + (streams.size() - 1) : ""));
+        String separator = " ";
+        for (JsonNode e : i.path("evidence")) {
+            String subject = e.path("subject").asText();
+            b.append(separator).append(e.path("rule").asText()).append(subject.equals("calibration") ? "" : " " + subject)
+                    .append(' ').append(e.path("state").asText());
+            if (e.has("withheld")) {
+                b.append(" (").append(e.path("measure").asText()).append(" withheld, small numbers)");
+            } else if (e.hasNonNull("measure") && e.hasNonNull("value")) {
+                b.append(" (").append(measured(e)).append(')');
+            }
+            separator = "; ";
+        }
+        return b.toString();
+    }
+
+    private static List<String> texts(JsonNode array) {
+        List<String> out = new ArrayList<>();
+        array.forEach(n -> out.add(n.asText()));
+        return out;
     }
 
     /** One line per final estimate (plain mode). */
@@ -299,15 +346,12 @@ public final class SandboxView {
         StringBuilder b = new StringBuilder(String.format(Locale.ROOT, "%-10s %s %s%s, window ending %s",
                 a.path("state").asText().toUpperCase(Locale.ROOT), a.path("stream").asText(), a.path("rule").asText(),
                 what, day(a.path("windowEnd").asText())));
+        if (a.has("withheld") && !a.has("value")) {
+            return b.append(": figures withheld for small numbers").toString();
+        }
         if (a.hasNonNull("measure") && a.hasNonNull("value")) {
             // what is measured, its value and the side of the limit: "hosmer-lemeshow-p 9.38e-06 below 1.00e-04"
-            b.append(String.format(Locale.ROOT, ": %s %.3g", a.path("measure").asText(), a.path("value").asDouble()));
-            if (a.hasNonNull("direction") && a.hasNonNull("limit")) {
-                boolean negate = "odds-ratio-z".equals(a.path("measure").asText())
-                        && "below".equals(a.path("direction").asText());
-                b.append(String.format(Locale.ROOT, " %s %.3g", a.path("direction").asText(),
-                        negate ? -a.path("limit").asDouble() : a.path("limit").asDouble()));
-            }
+            b.append(": ").append(measured(a));
             if (a.path("measure").asText().equals("odds-ratio-z") && a.hasNonNull("observed")
                     && a.hasNonNull("baseline")) {
                 b.append(String.format(Locale.ROOT, ", odds ratio %.3g vs baseline %.3g", a.path("observed").asDouble(),
@@ -329,6 +373,18 @@ public final class SandboxView {
         }
         if (ev.hasNonNull("cusum")) {
             b.append(String.format(Locale.ROOT, ", CUSUM %.2f", ev.path("cusum").asDouble()));
+        }
+        return b.toString();
+    }
+
+    /** The measure, its value and the side of the limit: "hosmer-lemeshow-p 9.38e-06 below 1.00e-04". */
+    private static String measured(JsonNode a) {
+        StringBuilder b = new StringBuilder(String.format(Locale.ROOT, "%s %.3g", a.path("measure").asText(),
+                a.path("value").asDouble()));
+        if (a.hasNonNull("direction") && a.hasNonNull("limit")) {
+            boolean negate = "odds-ratio-z".equals(a.path("measure").asText()) && "below".equals(a.path("direction").asText());
+            b.append(String.format(Locale.ROOT, " %s %.3g", a.path("direction").asText(),
+                    negate ? -a.path("limit").asDouble() : a.path("limit").asDouble()));
         }
         return b.toString();
     }

@@ -74,6 +74,27 @@ class SandboxViewTest {
                 + "odds-ratio-z -3.14 below -3.00, odds ratio 1.20 vs baseline 2.32", view.alert(z));
     }
 
+    /** An open incident of one stream: a drift episode and a CUSUM episode whose value is withheld. */
+    private static JsonNode incident(String stream) throws IOException {
+        return Json.mapper().readTree(String.format(java.util.Locale.ROOT, "{\"id\":\"%s-incident\",\"revision\":2,"
+                + "\"change\":\"opened\",\"streams\":[\"%s\"],\"from\":\"2026-04-27T00:00:00Z\",\"to\":"
+                + "\"2026-05-04T00:00:00Z\",\"openEpisodes\":2,\"evidence\":[{\"episode\":\"e1\",\"stream\":\"%s\","
+                + "\"rule\":\"odds-ratio-drift\",\"subject\":\"household_contact=yes\",\"state\":\"raised\","
+                + "\"measure\":\"odds-ratio-z\",\"value\":3.1,\"direction\":\"above\",\"limit\":3.0},"
+                + "{\"episode\":\"e2\",\"stream\":\"%s\",\"rule\":\"bernoulli-cusum-up\",\"subject\":"
+                + "\"calibration\",\"state\":\"continuing\",\"measure\":\"cusum-log-likelihood-ratio\","
+                + "\"direction\":\"above\",\"limit\":8.0,\"withheld\":[{\"field\":\"value\",\"reason\":"
+                + "\"positives from 1 to 4\"}]}]}", stream.substring(stream.length() - 2), stream, stream, stream));
+    }
+
+    @Test
+    void incidentLineNamesChangeStreamsAndEveryAgreeingRule() throws IOException {
+        assertEquals("OPENED   07-incid from 2026-04-27, 2 episodes (2 open) on respiratory-by-clinic/clinic-07: odds-ratio-drift "
+                + "household_contact=yes raised (odds-ratio-z 3.10 above 3.00); bernoulli-cusum-up continuing "
+                + "(cusum-log-likelihood-ratio withheld, small numbers)",
+                view.incident(incident("respiratory-by-clinic/clinic-07")));
+    }
+
     @Test
     void screenHasPageCountsStreamsAlertsAndTheCaution() throws IOException {
         OutcomeCounts.Snapshot counts = new OutcomeCounts.Snapshot(110,
@@ -82,7 +103,8 @@ class SandboxViewTest {
         SandboxView.Frame frame = new SandboxView.Frame("http://127.0.0.1:8470/", "oddswatch-sandbox.log", "127.0.0.1:9",
                 "ready", Instant.parse("2026-05-06T12:00:00Z"), 110, false, counts,
                 List.of(new OutputWatcher.StreamView("respiratory", estimate("2026-04-27T00:00:00Z", "final"),
-                        estimate("2026-05-04T00:00:00Z", "interim"))), List.of(), List.of(), SandboxLog.Notes.NONE);
+                        estimate("2026-05-04T00:00:00Z", "interim"))), List.of(), List.of(), List.of(),
+                SandboxLog.Notes.NONE);
         List<String> lines = view.screen(frame);
         String text = String.join("\n", lines);
         assertTrue(lines.get(0).startsWith("oddswatch sandbox   page http://127.0.0.1:8470/   log oddswatch-sandbox.log"),
@@ -136,13 +158,20 @@ class SandboxViewTest {
                     + "\"2026-05-04T00:00:00Z\",\"observed\":3.3,\"baseline\":2.3,\"evidence\":{\"z\":3.1}}",
                     20 + i % 10, i >= 90 && i % 10 == 1 ? "cleared" : "raised")));
         }
+        // one open incident per clinic with an open episode, as the live API gives them (oldest first)
+        List<JsonNode> incidents = new java.util.ArrayList<>();
+        for (int c = 20; c < 30; c++) {
+            if (c != 21) {
+                incidents.add(incident(String.format(java.util.Locale.ROOT, "respiratory-by-clinic/clinic-%02d", c)));
+            }
+        }
         OutcomeCounts.Snapshot counts = new OutcomeCounts.Snapshot(99_999, Map.of("accepted", 90_000L,
                 "rejected", 9_999L), reasons);
         SandboxView narrow = new SandboxView(Scenario.respiratory(ScenarioOptions.defaults()), 300000,
                 Map.of("respiratory-by-clinic", Set.of("household_contact")), 80);
         List<String> lines = narrow.screen(new SandboxView.Frame("http://127.0.0.1:8470/", "oddswatch-sandbox.log",
                 "127.0.0.1:9", "ready", Instant.parse("2026-05-06T12:00:00Z"), 99_999, false, counts, streams, alerts,
-                gaps, new SandboxLog.Notes(3, "WARN MonitorService: something a person should read")));
+                incidents, gaps, new SandboxLog.Notes(3, "WARN MonitorService: something a person should read")));
         String text = String.join("\n", lines);
         assertTrue(lines.size() <= 20, lines.size() + " lines:\n" + text);
         assertTrue(lines.stream().allMatch(l -> l.length() <= 80), text);
@@ -156,7 +185,15 @@ class SandboxViewTest {
         // at 80 columns the reason's code is shown, its words may be cut
         assertTrue(text.contains("  respiratory-by-clinic/clinic-07: no baseline in use [baseline-failed]: the "), text);
         assertTrue(text.contains("  respiratory-by-clinic/clinic-08: rule calibration not running [switched-off"), text);
-        assertTrue(text.contains("alerts   9 open"), text);
+        // the open incidents, not each episode: newest first, three of them, each with its evidence
+        assertTrue(lines.contains("incidents 9 open (one per change, newest first); 9 alert episode(s) open"), text);
+        // (cut at 80 columns: the rest is on the live page)
+        int first = lines.indexOf("incidents 9 open (one per change, newest first); 9 alert episode(s) open") + 1;
+        assertTrue(lines.get(first).startsWith("  OPENED   29-incid from 2026-04-27, 2 episodes (2 open) on "
+                + "respiratory-by-cl..."), text);
+        assertTrue(lines.get(first + 1).startsWith("  OPENED   28-incid ") && lines.get(first + 2).startsWith("  OPENED   27-incid "),
+                text);
+        assertEquals(3, lines.stream().filter(l -> l.startsWith("  OPENED ")).count(), text);
         assertTrue(text.contains("log      3 warning(s), the newest: WARN MonitorService: something"), text);
         assertEquals(SandboxView.CAUTION, lines.subList(lines.size() - 3, lines.size()), text);
     }

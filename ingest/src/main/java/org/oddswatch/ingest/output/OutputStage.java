@@ -33,7 +33,8 @@ import org.oddswatch.ingest.pipeline.RejectedRecord;
  *
  * <p>Each alert also goes to one {@link IncidentTracker} for all monitors, and each incident message
  * it gives goes to the sinks of its first stream's monitor (key: the incident id). Related streams:
- * a split stream and an unsplit monitor reading the same input topic (its parent).
+ * a split stream and an unsplit monitor reading the same input topic (its parent). After a restart
+ * the alerts read back ({@link #onAlertsRestored}) continue the incidents open before it.
  */
 public final class OutputStage implements PipelineListener {
 
@@ -86,6 +87,12 @@ public final class OutputStage implements PipelineListener {
             Published message = new Published(first.name(), incident.id(), Json.write(incident));
             sinks.get(first.name()).forEach(sink -> sink.incident(incident, message));
         });
+    }
+
+    /** After a restart: the incidents open before it go on ({@link IncidentTracker#restore}). */
+    @Override
+    public void onAlertsRestored(List<Alert> published) {
+        incidents.restore(published);
     }
 
     @Override

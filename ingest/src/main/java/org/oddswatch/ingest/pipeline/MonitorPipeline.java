@@ -261,9 +261,10 @@ public final class MonitorPipeline {
     /**
      * Restores open alert episodes published before a restart (of a stream not seen yet: on its first
      * event). The latest message of each open episode of a stream this pipeline holds then goes to
-     * {@link PipelineListener#onAlertRestored}.
+     * {@link PipelineListener#onAlertRestored}; the whole list first to {@link PipelineListener#onAlertsRestored}.
      */
     public void restoreAlerts(List<Alert> published) {
+        listener.onAlertsRestored(published);
         published.stream().collect(Collectors.groupingBy(Alert::stream, LinkedHashMap::new, Collectors.toList()))
                 .forEach((name, alerts) -> {
                     StreamState stream = streamsByName.get(name);

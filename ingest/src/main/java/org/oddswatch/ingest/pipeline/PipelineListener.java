@@ -44,6 +44,14 @@ public interface PipelineListener {
     default void onCusum(String stream, List<CusumReading> readings) {
     }
 
+    /**
+     * The alert messages published before a restart, as read back for a pipeline before its rebuild
+     * (in the order read; each partition of a topic gets its monitors' alerts, so the same messages may
+     * come more than once): for state that spans streams, such as open incidents. Not published again.
+     */
+    default void onAlertsRestored(List<Alert> published) {
+    }
+
     /** An alert episode still open after a restart (its latest published message), not published again. */
     default void onAlertRestored(Alert alert) {
     }

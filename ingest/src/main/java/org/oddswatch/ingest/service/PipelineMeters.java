@@ -76,6 +76,11 @@ final class PipelineMeters implements PipelineListener {
     }
 
     @Override
+    public void onAlertsRestored(List<Alert> published) {
+        outputs.onAlertsRestored(published);
+    }
+
+    @Override
     public void onAlertRestored(Alert alert) {
         alerts.restored(alert);
     }

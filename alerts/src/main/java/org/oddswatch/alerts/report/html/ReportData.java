@@ -147,6 +147,9 @@ final class ReportData {
 
     /** Where the marker sits: the alert's observed value, or the window's O/E for a p-value alert. */
     private static Double markerValue(Alert a, AlertPlacement place, WindowEstimate window) {
+        if (a.withheld() != null) {
+            return null; // the alert's figures are withheld, and so is the window's calibration it would be drawn at
+        }
         if (AlertPlacement.isPValue(place.measure())) {
             return window == null || window.calibration() == null ? 1.0 : window.calibration().observedExpected();
         }

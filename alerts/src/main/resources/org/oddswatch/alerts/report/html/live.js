@@ -117,7 +117,7 @@
     var st = cell(tr, '');
     st.appendChild(el('span', 'state state-' + a.state, a.state));
     cell(tr, when(a.windowEnd), 'when');
-    cell(tr, num(a.value) + (a.limit != null ? ' vs ' + num(a.limit) : ''), 'num');
+    cell(tr, (a.withheld && a.value == null ? 'withheld' : num(a.value)) + (a.limit != null ? ' vs ' + num(a.limit) : ''), 'num');
     var msg = cell(tr, '', 'msg');
     var text = a.message || '';
     var cut = text.indexOf(': ');
@@ -178,7 +178,8 @@
       li.setAttribute('data-episode', e.episode);
       li.appendChild(el('span', 'state state-' + e.state, e.state));
       li.appendChild(document.createTextNode(' ' + e.rule + ' · ' + e.subject + (withStream ? ' · ' + e.stream : '')));
-      li.appendChild(el('span', 'on', ' (' + (e.measure || '') + ' ' + num(e.value) + (e.limit != null ? ' vs ' + num(e.limit) : '') + ')'));
+      li.appendChild(el('span', 'on', ' (' + (e.measure || '') + ' ' + (e.withheld && e.value == null ? 'withheld' : num(e.value))
+        + (e.limit != null ? ' vs ' + num(e.limit) : '') + ')'));
       ul.appendChild(li);
     });
     return ul;
