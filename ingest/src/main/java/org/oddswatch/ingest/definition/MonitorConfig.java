@@ -33,4 +33,9 @@ public record MonitorConfig(String file, Map<String, String> kafka, ServiceSetti
     public List<MonitorDefinition> monitorsFor(String topic) {
         return monitors.stream().filter(monitor -> monitor.topic().equals(topic)).toList();
     }
+
+    /** The monitor named {@code name}, or null. */
+    public MonitorDefinition monitor(String name) {
+        return monitors.stream().filter(monitor -> monitor.name().equals(name)).findFirst().orElse(null);
+    }
 }

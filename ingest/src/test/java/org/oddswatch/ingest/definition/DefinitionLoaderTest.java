@@ -59,7 +59,7 @@ class DefinitionLoaderTest {
     void loadsSeveralMonitorsWithDefaults() throws Exception {
         MonitorConfig config = parse(VALID);
         assertEquals(2, config.monitors().size());
-        MonitorDefinition north = monitor(config, "north");
+        MonitorDefinition north = config.monitor("north");
         assertEquals("clinic-tests", north.topic());
         assertEquals("/exposure/household", north.terms().get(0).field().toString());
         BinaryTerm household = (BinaryTerm) north.terms().get(0).term();
@@ -81,7 +81,7 @@ class DefinitionLoaderTest {
         assertEquals(4096, north.estimates().patternLimit());
         assertEquals("oddswatch-estimates", north.outputs().estimatesTopic());
         assertNull(north.split());
-        MonitorDefinition south = monitor(config, "south");
+        MonitorDefinition south = config.monitor("south");
         assertEquals(List.of("positive", "true", "1"), south.event().outcome().positive());
         assertEquals(Duration.ZERO, south.window().lateness());
         assertEquals(List.of(north, south), config.monitorsFor("clinic-tests"));
@@ -346,7 +346,7 @@ class DefinitionLoaderTest {
     @Test
     void checksumFollowsTheModelOnly() throws Exception {
         MonitorConfig config = parse(VALID);
-        String north = monitor(config, "north").checksum();
+        String north = config.monitor("north").checksum();
         assertEquals(64, north.length());
         String renamedWindow = parse(VALID.replace("width: P28D", "width: P21D")).monitor("north").checksum();
         assertEquals(north, renamedWindow);
@@ -369,17 +369,17 @@ class DefinitionLoaderTest {
         // "field":"/ageBand","kind":"categorical","levels":["0-17","18-39","40-64","65+"],"reference":"18-39",
         // "undeclared":"REJECT"}]}
         assertEquals("f63fbf42bf8439e6f23d54e4f5d6360d5163d77a7265808a279577eec505ad3e",
-                monitor(config, "north").checksum());
+                config.monitor("north").checksum());
         // {"outcome":{"field":"/r","positive":["1","positive","true"],"negative":["0","false","negative"]},"terms":[]}
         assertEquals("96162ce85c51a65197cc7807e746a6e4ab92c0e86430600a14a07acde22f5829",
-                monitor(config, "south").checksum());
+                config.monitor("south").checksum());
     }
 
     @Test
     void yesAndNoStayText() throws Exception {
         MonitorConfig config = parse(VALID.replace("kind: binary, watched: true",
                 "kind: binary, level: yes, reference: no, watched: yes"));
-        BinaryTerm term = (BinaryTerm) monitor(config, "north").terms().get(0).term();
+        BinaryTerm term = (BinaryTerm) config.monitor("north").terms().get(0).term();
         assertEquals("yes", term.level());
         assertEquals("no", term.reference());
         assertTrue(term.watched());
@@ -412,9 +412,5 @@ class DefinitionLoaderTest {
 
     static Path resource(String name) throws URISyntaxException {
         return Path.of(DefinitionLoaderTest.class.getResource(name).toURI());
-    }
-
-    private static MonitorDefinition monitor(MonitorConfig config, String name) {
-        return config.monitors().stream().filter(m -> m.name().equals(name)).findFirst().orElseThrow();
     }
 }
