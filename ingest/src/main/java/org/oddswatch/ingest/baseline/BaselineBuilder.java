@@ -133,8 +133,7 @@ public final class BaselineBuilder {
         };
         MonitorPipeline pipeline = new MonitorPipeline(request.events().toString(), monitors, collector,
                 PipelineSettings.defaults().withLimits(config.limits()));
-        EventFileReader.read(request.events(), request.format() == null ? InputFormat.of(request.events())
-                : request.format(), new ReplayRunner.PipelineFeed(pipeline), bytesRead);
+        EventFileReader.read(request.events(), request.format(), new ReplayRunner.PipelineFeed(pipeline), bytesRead);
         Files.createDirectories(request.outDir());
         List<BuiltBaseline> built = new ArrayList<>();
         for (Accumulator accumulator : accumulators.values()) {

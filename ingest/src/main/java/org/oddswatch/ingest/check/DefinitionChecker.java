@@ -1,6 +1,5 @@
 package org.oddswatch.ingest.check;
 
-import com.fasterxml.jackson.databind.node.ObjectNode;
 import java.io.IOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -15,13 +14,12 @@ import org.oddswatch.ingest.pipeline.OutcomeCounts;
 import org.oddswatch.ingest.pipeline.PipelineListener;
 import org.oddswatch.ingest.pipeline.PipelineSettings;
 import org.oddswatch.ingest.pipeline.PipelineSnapshot;
-import org.oddswatch.ingest.pipeline.RecordOrigin;
 import org.oddswatch.ingest.pipeline.RecordOutcome;
 import org.oddswatch.ingest.pipeline.RejectedRecord;
 import org.oddswatch.ingest.pipeline.StreamStatus;
 import org.oddswatch.ingest.replay.EventFileReader;
 import org.oddswatch.ingest.replay.InputFormat;
-import org.oddswatch.ingest.replay.RecordSink;
+import org.oddswatch.ingest.replay.ReplayRunner;
 
 /**
  * Runs sample events through the same pipeline as replay (windows closed at the end, rules run,
@@ -48,20 +46,12 @@ public final class DefinitionChecker {
         };
         MonitorPipeline pipeline = new MonitorPipeline(events.toString(), config.monitors(), listener,
                 PipelineSettings.defaults().withLimits(config.limits()));
-        EventFileReader.read(events, format == null ? InputFormat.of(events) : format, new RecordSink() {
+        EventFileReader.read(events, format, new ReplayRunner.PipelineFeed(pipeline) {
             @Override
-            public void json(byte[] value, long line) {
-                noteDuplicate(pipeline.offer(value, RecordOrigin.line(line), false), line, examples);
-            }
-
-            @Override
-            public void tree(ObjectNode row, byte[] original, long line) {
-                noteDuplicate(pipeline.offerTree(row, original, RecordOrigin.line(line), false), line, examples);
-            }
-
-            @Override
-            public void unreadable(byte[] original, long line, String reason, String detail) {
-                pipeline.offerUnreadable(original, RecordOrigin.line(line), reason, detail, false);
+            protected void offered(RecordOutcome outcome, long line) {
+                if (outcome.reason() != null) { // duplicates are not sent to rejects: their first line is kept too
+                    examples.putIfAbsent(outcome.reason(), new CheckReport.Example(line, null, outcome.detail()));
+                }
             }
         });
         pipeline.closeAll();
@@ -78,12 +68,5 @@ public final class DefinitionChecker {
             monitors.add(new CheckReport.MonitorCounts(monitor.monitor(), monitor.streams(), counts));
         }
         return new CheckReport(events.toString(), snapshot.totals(), monitors, examples, gaps, pipeline.budgetSplits());
-    }
-
-    /** Duplicates are not sent to rejects; keep their first line as an example too. */
-    private static void noteDuplicate(RecordOutcome outcome, long line, Map<String, CheckReport.Example> examples) {
-        if (outcome.reason() != null) {
-            examples.putIfAbsent(outcome.reason(), new CheckReport.Example(line, null, outcome.detail()));
-        }
     }
 }

@@ -2,8 +2,11 @@ package org.oddswatch.ingest.definition;
 
 import java.nio.file.Path;
 import java.util.List;
+import org.oddswatch.alerts.engine.AlertEngine;
 import org.oddswatch.alerts.engine.AlertRulesConfig;
+import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.estimator.EstimatorOptions;
+import org.oddswatch.estimator.calibration.BaselineModel;
 import org.oddswatch.estimator.terms.CategoricalTerm;
 import org.oddswatch.estimator.terms.DesignCoder;
 import org.oddswatch.estimator.window.WindowGeometry;
@@ -70,6 +73,15 @@ public record MonitorDefinition(String name, String topic, EventSpec event, Spli
     public int strata() {
         int t = stratumTermIndex();
         return t < 0 ? 0 : ((CategoricalTerm) terms.get(t).term()).levels().size();
+    }
+
+    /**
+     * The alert engine of one of this monitor's streams: its rules on the window grid, message counts
+     * under the small-cell rule, the false-alarm budget shared by up to {@code split.maxStreams} streams.
+     */
+    public AlertEngine alertEngine(String stream, BaselineModel baseline, ReplayHint hint) {
+        return new AlertEngine(stream, rules, baseline, hint, geometry(), outputs.smallCells(),
+                split == null ? 1 : split.maxStreams());
     }
 
     /** Event time a stream must keep: one window width plus the allowed lateness, in milliseconds. */

@@ -49,16 +49,10 @@ public final class HttpEndpoints implements AutoCloseable {
     /** Longest time to send a response (a large /metrics scrape included), in seconds. */
     static final int MAX_RESPONSE_SECONDS = 30;
 
-    static {
-        setUnlessGiven("sun.net.httpserver.maxReqTime", Integer.toString(MAX_REQUEST_SECONDS));
-        setUnlessGiven("sun.net.httpserver.maxRspTime", Integer.toString(MAX_RESPONSE_SECONDS));
-        setUnlessGiven("sun.net.httpserver.timerMillis", "250"); // how often the limits are checked
-    }
-
-    private static void setUnlessGiven(String property, String value) {
-        if (System.getProperty(property) == null) {
-            System.setProperty(property, value);
-        }
+    static { // unless the command line gives them
+        System.getProperties().putIfAbsent("sun.net.httpserver.maxReqTime", Integer.toString(MAX_REQUEST_SECONDS));
+        System.getProperties().putIfAbsent("sun.net.httpserver.maxRspTime", Integer.toString(MAX_RESPONSE_SECONDS));
+        System.getProperties().putIfAbsent("sun.net.httpserver.timerMillis", "250"); // how often the limits are checked
     }
 
     /** The Content-Security-Policy of every answer but the live page: nothing may load or run. */

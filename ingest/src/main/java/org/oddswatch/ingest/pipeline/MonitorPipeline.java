@@ -71,12 +71,6 @@ public final class MonitorPipeline {
         return streamsByName.size();
     }
 
-    /** The watermark (largest event time) of a stream, or {@link Long#MIN_VALUE} when unknown. */
-    public long watermark(String stream) {
-        StreamState state = streamsByName.get(stream);
-        return state == null ? Long.MIN_VALUE : state.watermark();
-    }
-
     /**
      * Offers one record value: {@link #offerTree} once parsed, else {@link #offerUnreadable}.
      *

@@ -1,7 +1,5 @@
 package org.oddswatch.ingest.pipeline;
 
-import java.nio.ByteBuffer;
-import java.nio.charset.CharacterCodingException;
 import java.nio.charset.StandardCharsets;
 import java.util.Base64;
 import org.oddswatch.ingest.decode.Unicode;
@@ -32,16 +30,9 @@ public record RejectedRecord(String monitor, String stream, Outcome outcome, Str
         return new Json(Unicode.wellFormed(monitor), Unicode.wellFormed(stream), outcome, reason,
                 Unicode.wellFormed(detail), origin.topic(),
                 origin.partition() < 0 ? null : origin.partition(), origin.offset() < 0 ? null : origin.offset(),
-                origin.lineNumber() < 0 ? null : origin.lineNumber(), value == null ? null : utf8(value),
+                origin.lineNumber() < 0 ? null : origin.lineNumber(),
+                value == null || Unicode.firstInvalidUtf8(value, 0, value.length) >= 0 ? null
+                        : new String(value, StandardCharsets.UTF_8),
                 value == null ? null : Base64.getEncoder().encodeToString(value));
-    }
-
-    /** The bytes as text when they are valid UTF-8, else null (a new decoder reports malformed input). */
-    private static String utf8(byte[] bytes) {
-        try {
-            return StandardCharsets.UTF_8.newDecoder().decode(ByteBuffer.wrap(bytes)).toString();
-        } catch (CharacterCodingException e) {
-            return null;
-        }
     }
 }

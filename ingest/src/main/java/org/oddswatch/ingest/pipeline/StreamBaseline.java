@@ -202,13 +202,12 @@ final class StreamBaseline {
         return engine == null ? null : engine.budget();
     }
 
-    /** This stream's alert engine: CUSUM alerts on the window grid, message counts under the small-cell rule. */
+    /** This stream's alert engine, its calls recorded when the replay keeps the rule inputs. */
     private AlertEngine newEngine() {
         if (settings.ruleInputs() != null) {
             settings.ruleInputs().engine(stream, monitor.ruleInputsKey(), model);
         }
-        return new AlertEngine(stream, monitor.rules(), model, settings.replayHint(), geometry, monitor.outputs().smallCells(),
-                monitor.split() == null ? 1 : monitor.split().maxStreams());
+        return monitor.alertEngine(stream, model, settings.replayHint());
     }
 
     /** Flags a baseline that rests on too little information ({@link BaselineInformation}). */

@@ -67,11 +67,6 @@ final class StreamState {
         this.store = route.newStore();
     }
 
-    /** The watermark, or {@link Long#MIN_VALUE} before the first event. */
-    long watermark() {
-        return watermark;
-    }
-
     /** Applies the time rules and dedupe, then stores the event; {@link RecordOutcome#HELD} beyond the horizon. */
     RecordOutcome offer(DecodedEvent event, boolean suppress) {
         if (future.beyond(event.timeMillis(), watermark)) {

@@ -59,11 +59,14 @@ public final class EventFileReader {
         read(file, format, sink, bytes -> { });
     }
 
-    /** As {@link #read(Path, InputFormat, RecordSink)}, telling {@code bytesRead} each chunk read (progress). */
+    /**
+     * As {@link #read(Path, InputFormat, RecordSink)}, telling {@code bytesRead} each chunk read (progress);
+     * a null {@code format} is told by the file name ({@link InputFormat#of}).
+     */
     public static void read(Path file, InputFormat format, RecordSink sink, LongConsumer bytesRead) throws IOException {
         try (InputStream in = Files.newInputStream(file)) {
             EventFileReader lines = new EventFileReader(in, bytesRead);
-            if (format == InputFormat.CSV) {
+            if ((format == null ? InputFormat.of(file) : format) == InputFormat.CSV) {
                 lines.readCsv(sink);
                 return;
             }

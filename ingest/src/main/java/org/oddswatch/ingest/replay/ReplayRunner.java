@@ -41,6 +41,7 @@ import org.oddswatch.ingest.pipeline.MonitorPipeline;
 import org.oddswatch.ingest.pipeline.PipelineSettings;
 import org.oddswatch.ingest.pipeline.PipelineSnapshot;
 import org.oddswatch.ingest.pipeline.RecordOrigin;
+import org.oddswatch.ingest.pipeline.RecordOutcome;
 
 /**
  * Replays an event file through the same {@link MonitorPipeline} and output stage as the live
@@ -148,26 +149,33 @@ public final class ReplayRunner {
                 outputs.alerts.size(), monitors, streams);
     }
 
-    /** Feeds file records to the pipeline with their line numbers (also used by the baseline builder). */
-    public static final class PipelineFeed implements RecordSink {
+    /**
+     * Feeds file records to the pipeline with their line numbers (also used by the baseline builder
+     * and the checker, which overrides {@link #offered} to see each readable record's outcome).
+     */
+    public static class PipelineFeed implements RecordSink {
         private final MonitorPipeline pipeline;
 
         public PipelineFeed(MonitorPipeline pipeline) {
             this.pipeline = pipeline;
         }
 
-        @Override
-        public void json(byte[] value, long line) {
-            pipeline.offer(value, RecordOrigin.line(line), false);
+        /** The outcome of the readable record on {@code line}; nothing by default. */
+        protected void offered(RecordOutcome outcome, long line) {
         }
 
         @Override
-        public void tree(ObjectNode row, byte[] original, long line) {
-            pipeline.offerTree(row, original, RecordOrigin.line(line), false);
+        public final void json(byte[] value, long line) {
+            offered(pipeline.offer(value, RecordOrigin.line(line), false), line);
         }
 
         @Override
-        public void unreadable(byte[] original, long line, String reason, String detail) {
+        public final void tree(ObjectNode row, byte[] original, long line) {
+            offered(pipeline.offerTree(row, original, RecordOrigin.line(line), false), line);
+        }
+
+        @Override
+        public final void unreadable(byte[] original, long line, String reason, String detail) {
             pipeline.offerUnreadable(original, RecordOrigin.line(line), reason, detail, false);
         }
     }

@@ -9,7 +9,6 @@ import java.nio.file.Path;
 import java.time.Instant;
 import java.util.ArrayList;
 import java.util.List;
-import org.oddswatch.alerts.engine.AlertEngine;
 import org.oddswatch.alerts.engine.ReplayHint;
 import org.oddswatch.alerts.engine.RuleInputs;
 import org.oddswatch.alerts.json.Json;
@@ -62,8 +61,7 @@ public final class RuleRerun {
                             + "in more than its rules (replayed: " + model + "; here: " + monitor.ruleInputsKey()
                             + "): only the rules sections may differ");
                 }
-                return new AlertEngine(stream, monitor.rules(), baseline, hint, monitor.geometry(),
-                        monitor.outputs().smallCells(), monitor.split() == null ? 1 : monitor.split().maxStreams());
+                return monitor.alertEngine(stream, baseline, hint);
             }, alert -> {
                 if (ReplayRunner.inRange(from, to, alert.windowStart(), alert.windowEnd())) {
                     MonitorDefinition monitor = MonitorDefinition.ofStream(config.monitors(), alert.stream());

@@ -38,12 +38,8 @@ import org.slf4j.LoggerFactory;
  * committed only after the outputs of the records before them are stored. A clean {@link #close()}
  * (also from a SIGTERM hook) commits everything, leaves the group and closes the clients.
  *
- * <p>Each monitor's outputs pass the {@link OutputStage} to the Kafka publisher, the log (incidents),
- * its {@code outputs.webhook} (incidents, or every alert with {@code send: episodes}; on the
- * webhook's own thread) and its
- * {@code outputs.estimatesFile} (final estimates appended; a relative path resolves against the
- * definition file's folder) and the {@link LiveHistory} the live page reads, then the
- * {@link PipelineMeters}.
+ * <p>Each monitor's outputs pass the {@link OutputStage} to its sinks ({@link #sinks}), then the
+ * {@link PipelineMeters}; a webhook delivers on its own thread.
  */
 public final class MonitorService implements AutoCloseable {
 

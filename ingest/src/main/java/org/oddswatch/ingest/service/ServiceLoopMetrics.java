@@ -20,17 +20,13 @@ import org.oddswatch.ingest.pipeline.PipelineSnapshot;
 import org.oddswatch.ingest.pipeline.StreamStatus;
 
 /**
- * Meters of the service's poll loop, bound like Micrometer's own binders, all tagged
- * {@value #SERVICE_INSTANCE} with the instance name ({@code instance} is Prometheus's scrape target):
- * {@code oddswatch.service.records} (tag {@code phase}: {@code live}, or {@code rebuild} for the
- * suppressed re-read), {@code oddswatch.service.rebuilds} (partitions), {@code
- * oddswatch.service.rebuild.duration} (plan to live), {@code oddswatch.service.ready}, {@code
- * oddswatch.service.loop} (tag {@code step}: {@code poll} and {@code apply} per polled batch,
- * {@code commit} per commit, outputs stored included), {@code oddswatch.service.outputs.refused}, and
- * the multi-gauge {@code oddswatch.monitoring.gaps}: a series per {@link MonitoringGap} (tags
- * {@code monitor}, {@code stream}, {@code scope}, {@code subject} or {@code none}, {@code reason};
- * value the final windows not judged for scope {@code windows}, else 1) that goes with its gap or
- * stream. Tags never carry record values.
+ * Meters of the service's poll loop, tagged {@value #SERVICE_INSTANCE} with the instance name
+ * ({@code instance} is Prometheus's scrape target): records by phase ({@code live}, or {@code rebuild}
+ * for the suppressed re-read), rebuilds and their duration (plan to live), readiness, the loop's time
+ * per step ({@code poll} and {@code apply} per polled batch, {@code commit} per commit, outputs stored
+ * included) and outputs refused; untagged, the multi-gauge {@code oddswatch.monitoring.gaps}: a series
+ * per {@link MonitoringGap} (value the final windows not judged for scope {@code windows}, else 1)
+ * that goes with its gap or stream. Tags never carry record values.
  */
 final class ServiceLoopMetrics implements MeterBinder {
 

@@ -145,12 +145,12 @@ class MonitorPipelineTest {
         assertEquals(Outcome.ACCEPTED, send("a", 1.0, "north").outcome());
         // More than maxFutureSkew (P1D) after the watermark: held, neither counted nor applied yet.
         assertTrue(send("b", 2.01, "north").held());
-        assertEquals(at(1.0).toEpochMilli(), pipeline.watermark("resp/north"));
+        assertEquals(at(1.0).toEpochMilli(), watermark(pipeline, "resp/north"));
         assertEquals(1, pipeline.snapshot().streams().get(0).heldFuture());
         assertEquals(1, pipeline.totals().consumed());
         // The stream's present comes within a day of it: applied, counted, and it moves the watermark.
         assertEquals(Outcome.ACCEPTED, send("c", 2.0, "north").outcome());
-        assertEquals(at(2.01).toEpochMilli(), pipeline.watermark("resp/north"));
+        assertEquals(at(2.01).toEpochMilli(), watermark(pipeline, "resp/north"));
         assertEquals(0, pipeline.snapshot().streams().get(0).heldFuture());
         assertEquals(3, pipeline.totals().outcome(Outcome.ACCEPTED));
         assertEquals(3, pipeline.snapshot().streams().get(0).counts().outcome(Outcome.ACCEPTED));
@@ -202,13 +202,13 @@ class MonitorPipelineTest {
         for (int i = 0; i < 10; i++) {
             assertEquals(Outcome.ACCEPTED, send("a" + i, 0.1 + i * 0.05, "north").outcome());
         }
-        long before = pipeline.watermark("resp/north");
+        long before = watermark(pipeline, "resp/north");
         for (int t = 0; t < 3; t++) {
             String typo = HouseEvents.json("typo" + t, Instant.parse("2099-02-03T10:00:00Z").plusSeconds(3L * t),
                     "north", true, false, "40-64", "female", false);
             assertTrue(send(typo).held());
         }
-        assertEquals(before, pipeline.watermark("resp/north"));
+        assertEquals(before, watermark(pipeline, "resp/north"));
         int lateOrRejected = 0;
         for (int i = 0; i < 1000; i++) {
             RecordOutcome outcome = send("r" + i, 0.6 + i * 0.003, "north");
@@ -217,7 +217,7 @@ class MonitorPipelineTest {
             }
         }
         assertEquals(0, lateOrRejected, "all 1,000 real events are accepted");
-        assertEquals(at(0.6 + 999 * 0.003).toEpochMilli(), pipeline.watermark("resp/north"));
+        assertEquals(at(0.6 + 999 * 0.003).toEpochMilli(), watermark(pipeline, "resp/north"));
         var counts = pipeline.snapshot().streams().get(0).counts();
         assertEquals(1010, counts.outcome(Outcome.ACCEPTED));
         assertEquals(3L, counts.reasons().get(RejectReason.TOO_FAR_IN_FUTURE));
@@ -236,7 +236,7 @@ class MonitorPipelineTest {
         assertEquals(2L, pipeline.totals().reasons().get(RejectReason.TOO_FAR_IN_FUTURE));
         assertEquals(List.of("t0", "t1"), out.rejects.stream().map(r -> idOf(r)).toList());
         assertTrue(out.rejects.get(1).detail().contains("by the end of the input"), out.rejects.get(1).detail());
-        assertEquals(at(1.0).toEpochMilli(), pipeline.watermark("resp/north"));
+        assertEquals(at(1.0).toEpochMilli(), watermark(pipeline, "resp/north"));
     }
 
     @Test
@@ -563,5 +563,11 @@ class MonitorPipelineTest {
                 throw new AssertionError(e);
             }
         }
+    }
+
+    /** A stream's watermark in epoch milliseconds as {@code /status} shows it. */
+    private static long watermark(MonitorPipeline pipeline, String stream) {
+        return pipeline.snapshot().streams().stream().filter(s -> s.stream().equals(stream)).findFirst()
+                .orElseThrow().watermark().toEpochMilli();
     }
 }
