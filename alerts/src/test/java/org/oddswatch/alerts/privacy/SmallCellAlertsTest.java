@@ -113,9 +113,9 @@ class SmallCellAlertsTest {
         return json;
     }
 
-    /** The alert a fresh engine with the default rules raises on {@code window}. */
+    /** The alert a fresh engine with the drift rule listed (the earlier defaults) raises on {@code window}. */
     private static Alert drift(WindowEstimate window) {
-        return only(new AlertEngine(Fixtures.STREAM, AlertRulesConfig.defaults(), Fixtures.baseline(), null)
+        return only(new AlertEngine(Fixtures.STREAM, Fixtures.earlierDefaults(), Fixtures.baseline(), null)
                 .onFinalEstimate(window));
     }
 
