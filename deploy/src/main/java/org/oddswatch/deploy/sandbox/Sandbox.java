@@ -10,6 +10,7 @@ import java.nio.file.Path;
 import java.time.Duration;
 import java.time.Instant;
 import java.util.ArrayList;
+import java.util.Collections;
 import java.util.HashMap;
 import java.util.HashSet;
 import java.util.Iterator;
@@ -167,6 +168,7 @@ public final class Sandbox {
             }
             long lastCounts = 0;
             Set<String> gapsShown = new HashSet<>();
+            Set<String> incidentsShown = new HashSet<>();
             LiveSite site = service.site();
             while (true) {
                 ServiceStatus status = service.status();
@@ -196,6 +198,7 @@ public final class Sandbox {
                             println("not monitored  " + g.describe());
                         }
                     }
+                    printNewIncidentMessages(site, view, incidentsShown);
                     if (System.nanoTime() - lastCounts > 10_000_000_000L) {
                         lastCounts = System.nanoTime();
                         Instant now = feed.simulatedNow.get();
@@ -217,26 +220,45 @@ public final class Sandbox {
         }
     }
 
-    /** Everything {@code /status} says is not monitored, over all partitions. */
     /**
      * The open incidents' newest messages as the service published them (its live API), oldest
      * first; none when the API does not answer.
      */
     static List<JsonNode> openIncidents(LiveSite site) {
-        WebAnswer answer = site.answer("/api/alerts", "recent=0");
+        return incidents(site, "open", 0);
+    }
+
+    /** The last {@code recent} incident messages from the live API, newest first, or those still open. */
+    private static List<JsonNode> incidents(LiveSite site, String which, int recent) {
+        WebAnswer answer = site.answer("/api/alerts", "recent=" + recent);
         if (answer == null || answer.status() != 200) {
             return List.of();
         }
         try {
-            List<JsonNode> open = new ArrayList<>();
-            Json.mapper().readTree(answer.body()).path("incidents").path("open").forEach(open::add);
-            return open;
+            List<JsonNode> found = new ArrayList<>();
+            Json.mapper().readTree(answer.body()).path("incidents").path(which).forEach(found::add);
+            return found;
         } catch (java.io.IOException e) {
             LOG.warn("the live API's incidents could not be read: {}", e.getMessage());
             return List.of();
         }
     }
 
+    /**
+     * Plain mode: one line per incident message not shown yet (opened, updated, resolved), oldest
+     * first; {@code shown} holds the id and revision of each line already printed.
+     */
+    private void printNewIncidentMessages(LiveSite site, SandboxView view, Set<String> shown) {
+        List<JsonNode> recent = new ArrayList<>(incidents(site, "recent", 50));
+        Collections.reverse(recent);
+        for (JsonNode i : recent) {
+            if (shown.add(i.path("id").asText() + "#" + i.path("revision").asText())) {
+                println("incident " + view.incident(i));
+            }
+        }
+    }
+
+    /** Everything {@code /status} says is not monitored, over all partitions. */
     private static List<MonitoringGap> gaps(ServiceStatus status) {
         List<MonitoringGap> gaps = new ArrayList<>();
         for (PipelineSnapshot input : status.inputs()) {

@@ -93,6 +93,9 @@ class SandboxTerminalTest {
         assertTrue(run.logFile().contains(ALERT_JSON), "the alert's JSON in the file as well");
         // plain lines: no escape codes
         assertFalse(run.terminal().contains("\033"), run.terminal());
+        // the incident the drift opened, as on-call receives it
+        assertTrue(run.terminal().lines().anyMatch(l -> l.startsWith("incident OPENED")
+                && l.contains("odds-ratio-drift household_contact=yes raised")), run.terminal());
         assertTrue(PAGE.matcher(run.terminal().lines().findFirst().orElse("")).find(), run.terminal());
     }
 
