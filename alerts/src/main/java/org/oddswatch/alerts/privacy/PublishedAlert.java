@@ -29,7 +29,7 @@ public final class PublishedAlert {
         tree.remove("events");
         tree.remove("withheld");
         ArrayNode withheld = tree.putArray("withheld");
-        withheld.addObject().put("field", "events").put("reason", "events from 1 to " + (policy.limit() - 1));
+        withheld.addObject().put("field", "events").put("reason", policy.range("events"));
         if (alert.withheld() != null) {
             alert.withheld().forEach(w -> withheld.addObject().put("field", w.field()).put("reason", w.reason()));
         }

@@ -34,7 +34,7 @@ public final class SmallCellAlerts {
      */
     public static String reason(String rule, long events, SmallCellPolicy.Withheld window, SmallCellPolicy cells) {
         if (cells.small(events)) {
-            return "events from 1 to " + (cells.limit() - 1);
+            return cells.range("events");
         }
         if (window == null) {
             return null;

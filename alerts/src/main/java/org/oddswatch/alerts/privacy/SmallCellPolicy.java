@@ -111,7 +111,8 @@ public record SmallCellPolicy(int limit) {
         return new Withheld(eventsWithheld ? window : null, window, strata, calibration);
     }
 
-    private String range(String what) {
+    /** The reason a small count of {@code what} is withheld, e.g. {@code "events from 1 to 4"}. */
+    public String range(String what) {
         return what + " from 1 to " + (limit - 1);
     }
 
