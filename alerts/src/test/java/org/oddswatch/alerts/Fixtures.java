@@ -105,12 +105,16 @@ public final class Fixtures {
 
     /**
      * A calibration estimate over 10 risk groups whose Hosmer–Lemeshow statistic has the tail
-     * probability {@code hlP} on 10 degrees of freedom (the frozen-model p-value the rule uses); the
+     * probability {@code hlP} as the rule takes it against {@link #baseline()} (10 degrees of freedom,
+     * allowing for the baseline's error); the
      * estimate's own p-value is the 8-degree one.
      */
     public static CalibrationEstimate calibration(double oe, double oeLower, double oeUpper, double slope,
                                                   double slopeSe, double hlP) {
-        double statistic = new ChiSquaredDistribution(null, 10).inverseCumulativeProbability(1 - hlP);
+        // the statistic whose p-value, as the rule takes it against baseline() (10 degrees of freedom,
+        // divided by 1 + 2,000 / 24,000 for the baseline's error), is hlP
+        double statistic = new ChiSquaredDistribution(null, 10).inverseCumulativeProbability(1 - hlP)
+                * (1 + 2000.0 / baseline().events());
         double ownP = 1 - new ChiSquaredDistribution(null, 8).cumulativeProbability(statistic);
         return new CalibrationEstimate(2000, Math.round(100 * oe), 100.0, oe, oeLower, oeUpper, 0.0, 0.1, slope,
                 slopeSe, statistic, 10, ownP, 0.04, 0.7);

@@ -117,7 +117,7 @@ public final class AlertEngine {
         if (baseline != null && r.calibration() != null) {
             // band ends the definition leaves out come from the budget
             windowRules.add(new CalibrationRule(budget.calibration(),
-                    gaps.guard(CalibrationRule.NAME, r.guardFor(r.calibration().guard()))));
+                    gaps.guard(CalibrationRule.NAME, r.guardFor(r.calibration().guard())), baseline.events()));
         }
         boolean withCusum = baseline != null && r.cusum() != null;
         boolean withScoreCusum = baseline != null && r.oddsRatioCusum() != null && !budget.scoreCharts().isEmpty();

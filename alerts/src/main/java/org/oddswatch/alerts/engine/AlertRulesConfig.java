@@ -272,10 +272,9 @@ public record AlertRulesConfig(Guard guard, OddsRatioDrift oddsRatioDrift, OddsR
      * Calibration of the baseline model on each final window. Raised when any figure is clearly
      * outside its band: the O/E interval wholly outside {@code observedExpected}; the slope's Wald
      * interval ({@code slope ± slopeZ·se}) wholly outside {@code slope} (slopeZ default 1.96); the
-     * Hosmer–Lemeshow p-value (g degrees of freedom, see {@code CalibrationRule}) below
-     * {@code hosmerLemeshowP} (default 0.0001: against a frozen model the statistic also picks up the
-     * baseline's own estimation error, which grows with the window's size; 0.001 gave about 0.2-0.4
-     * false alarms a year with 28-day windows). Band ends the definition leaves out are derived per
+     * Hosmer–Lemeshow p-value (g degrees of freedom, allowing for the baseline's own estimation error,
+     * see {@code CalibrationRule.externalP}) below {@code hosmerLemeshowP} (default 0.0001, charged to
+     * the false-alarm budget at that level per window step). Band ends the definition leaves out are derived per
      * stream from the false-alarm budget ({@link FalseAlarmBudget}, {@code CalibrationFalseAlarms});
      * where no budget can derive them (no baseline period or no expected positives) they take the
      * fallback defaults O/E [0.8, 1.25] and slope [0.7, 1.3] ({@link #observedExpectedBand()},

@@ -16,7 +16,8 @@ import org.oddswatch.estimator.result.WindowEstimate;
  * <ol>
  *   <li>the O/E interval {@code [oeLower, oeUpper]} lies wholly above or wholly below the band;</li>
  *   <li>the slope's Wald interval {@code slope ± slopeZ·slopeSe} lies wholly outside the slope band;</li>
- *   <li>the Hosmer–Lemeshow p-value is below its limit (direction +1).</li>
+ *   <li>the Hosmer–Lemeshow p-value ({@link #externalP}: g degrees of freedom, allowing for the
+ *       baseline's error) is below its limit (direction +1).</li>
  * </ol>
  * {@link Zone#INSIDE} when the O/E and slope point estimates are inside their bands and the HL
  * p-value is at least ten times its limit (figures that are absent do not block); otherwise
@@ -29,10 +30,13 @@ public final class CalibrationRule implements WindowRule {
 
     private final Calibration settings;
     private final InformationGuard guard;
+    private final long baselineEvents;
 
-    public CalibrationRule(Calibration settings, InformationGuard guard) {
+    /** @param baselineEvents the baseline's events, for the Hosmer–Lemeshow p-value ({@link #externalP}) */
+    public CalibrationRule(Calibration settings, InformationGuard guard, long baselineEvents) {
         this.settings = settings;
         this.guard = guard;
+        this.baselineEvents = baselineEvents;
     }
 
     @Override
@@ -57,7 +61,7 @@ public final class CalibrationRule implements WindowRule {
         double slopeMax = settings.slopeBand().max();
         Double slopeLow = c.slope() != null && c.slopeSe() != null ? c.slope() - settings.slopeZ() * c.slopeSe() : null;
         Double slopeHigh = c.slope() != null && c.slopeSe() != null ? c.slope() + settings.slopeZ() * c.slopeSe() : null;
-        Double hlP = externalP(c);
+        Double hlP = externalP(c, baselineEvents);
         List<String> beyond = new ArrayList<>();
         Figure decided = null;
         if (c.oeLower() != null && c.oeLower() > oeMax) {
@@ -109,18 +113,38 @@ public final class CalibrationRule implements WindowRule {
     }
 
     /**
-     * Hosmer–Lemeshow p-value for a frozen model on new data: the chi-square statistic against g
-     * degrees of freedom (g = groups formed), because no parameter was estimated on this window
-     * (Hosmer &amp; Lemeshow, <i>Applied Logistic Regression</i>, 2nd ed., on external validation; the
-     * g - 2 of the estimate's own p-value applies to the development sample). Falls back to the
-     * estimate's p-value when the statistic or the group count is missing.
+     * Hosmer–Lemeshow p-value for a frozen, estimated model on new data:
+     * <pre>
+     *   p = P(χ²_g &gt; X / (1 + n_w / N_b))
+     * </pre>
+     * with X the window's statistic over g groups, n_w the window's events and N_b the baseline's.
+     * <ul>
+     *   <li>g degrees of freedom, not g − 2: no parameter was estimated on this window (Hosmer &amp;
+     *       Lemeshow, <i>Applied Logistic Regression</i>, 2nd ed., on external validation; the g − 2 of
+     *       the estimate's own p-value applies to the development sample).</li>
+     *   <li>The divisor allows for the baseline's own estimation error, which the classic statistic
+     *       ignores: each group's expected count carries the baseline coefficients' error, so the
+     *       residual vector's covariance is {@code D + G Σ_b G'} rather than the binomial {@code D}
+     *       ({@code G} the groups' sums of {@code p(1 − p)·x}, {@code Σ_b} the baseline's covariance).
+     *       Relative to {@code D} its largest eigenvalue is at most {@code 1 + n_w / N_b} (grouping
+     *       keeps at most the window's information {@code I_w}, and {@code Σ_b ≈ I_w⁻¹ · n_w / N_b}
+     *       when the window's events resemble the baseline's), so {@code X / (1 + n_w / N_b)} is
+     *       stochastically no larger than χ²_g in control and the p-value stays at or above its
+     *       nominal level. Without the divisor, 28-day windows against a 12-week baseline raised
+     *       about 17 times the false alarms the limit stands for (the detection benchmark's sixteen
+     *       districts).</li>
+     * </ul>
+     * Falls back to the estimate's p-value when the statistic or the group count is missing, and to
+     * no divisor when {@code baselineEvents} is not positive.
      */
-    static Double externalP(CalibrationEstimate c) {
+    static Double externalP(CalibrationEstimate c, long baselineEvents) {
         if (c.hosmerLemeshow() == null || c.hosmerLemeshowGroups() == null || c.hosmerLemeshowGroups() < 1
                 || !Double.isFinite(c.hosmerLemeshow())) {
             return c.hosmerLemeshowP();
         }
-        return 1.0 - new ChiSquaredDistribution(null, c.hosmerLemeshowGroups()).cumulativeProbability(c.hosmerLemeshow());
+        double inflation = baselineEvents > 0 ? 1 + (double) c.events() / baselineEvents : 1;
+        return 1.0 - new ChiSquaredDistribution(null, c.hosmerLemeshowGroups())
+                .cumulativeProbability(c.hosmerLemeshow() / inflation);
     }
 
     /**

@@ -98,21 +98,42 @@ class CalibrationRuleTest {
         // pchisq(27, 10, lower.tail = FALSE) = 0.002604; pchisq(31, 10, lower.tail = FALSE) = 0.000587.
         CalibrationEstimate at27 = new CalibrationEstimate(2000, 100, 100.0, 1.0, 0.9, 1.1, 0.0, 0.1, 1.0, 0.1, 27.0, 10,
                 0.000707, 0.04, 0.7);
-        assertEquals(0.002604, CalibrationRule.externalP(at27), 1e-6);
-        Calibration limit001 = new Calibration(new Band(0.8, 1.25), new Band(0.7, 1.3), null, 0.001, null, null, null);
-        AlertEngine e27 = new AlertEngine(Fixtures.STREAM, new AlertRulesConfig(null, null, null, limit001, null),
-                Fixtures.baseline(), null);
-        assertEquals("-", state(e27, w(0, at27)), "the 8-degree p would raise at 0.001, the 10-degree one does not");
+        assertEquals(0.002604, CalibrationRule.externalP(at27, 0), 1e-6);
         CalibrationEstimate at31 = new CalibrationEstimate(2000, 100, 100.0, 1.0, 0.9, 1.1, 0.0, 0.1, 1.0, 0.1, 31.0, 10,
                 0.0001, 0.04, 0.7);
-        assertEquals(0.000587, CalibrationRule.externalP(at31), 1e-6);
-        AlertEngine e31 = new AlertEngine(Fixtures.STREAM, new AlertRulesConfig(null, null, null, limit001, null),
-                Fixtures.baseline(), null);
-        assertEquals("ra", state(e31, w(0, at31)));
+        assertEquals(0.000587, CalibrationRule.externalP(at31, 0), 1e-6);
         // without the statistic the estimate's own p-value is used
         CalibrationEstimate noStat = new CalibrationEstimate(2000, 100, 100.0, 1.0, 0.9, 1.1, 0.0, 0.1, 1.0, 0.1, null,
                 null, 0.0005, 0.04, 0.7);
-        assertEquals(0.0005, CalibrationRule.externalP(noStat));
+        assertEquals(0.0005, CalibrationRule.externalP(noStat, 24000));
+    }
+
+    @Test
+    void hosmerLemeshowAllowsForTheBaselinesError() {
+        // Source: R 4.x pchisq(27 / (1 + 2000 / 24000), 10, lower.tail = FALSE) = 0.005493234,
+        // pchisq(31 / (1 + 2000 / 24000), 10, lower.tail = FALSE) = 0.001437702 and
+        // qchisq(1 - 1e-4, 10) * (1 + 2000 / 24000) = 38.52768 (the statistic at which a window of 2,000
+        // events against the fixture's baseline of 24,000 reaches p = 1e-4).
+        CalibrationEstimate at27 = new CalibrationEstimate(2000, 100, 100.0, 1.0, 0.9, 1.1, 0.0, 0.1, 1.0, 0.1, 27.0, 10,
+                0.000707, 0.04, 0.7);
+        assertEquals(0.005493234, CalibrationRule.externalP(at27, 24000), 1e-8);
+        CalibrationEstimate at31 = new CalibrationEstimate(2000, 100, 100.0, 1.0, 0.9, 1.1, 0.0, 0.1, 1.0, 0.1, 31.0, 10,
+                0.0001, 0.04, 0.7);
+        assertEquals(0.001437702, CalibrationRule.externalP(at31, 24000), 1e-8);
+        // through the engine (baseline of 24,000 events, default limit 1e-4): raised just above the
+        // divided critical value, not just below it; without the divisor both would raise
+        assertEquals("ra", state(engine(), w(0, hl(38.53))));
+        assertEquals("-", state(engine(), w(0, hl(38.52))));
+        assertEquals(1e-4, CalibrationRule.externalP(hl(38.52768177), 24000), 1e-10);
+        // with 31 and a limit of 0.001: the classic p (0.000587) would raise, the divided one does not
+        Calibration limit001 = new Calibration(new Band(0.8, 1.25), new Band(0.7, 1.3), null, 0.001, null, null, null);
+        AlertEngine e31 = new AlertEngine(Fixtures.STREAM, new AlertRulesConfig(null, null, null, limit001, null),
+                Fixtures.baseline(), null);
+        assertEquals("-", state(e31, w(0, at31)));
+    }
+
+    private static CalibrationEstimate hl(double statistic) {
+        return new CalibrationEstimate(2000, 100, 100.0, 1.0, 0.9, 1.1, 0.0, 0.1, 1.0, 0.1, statistic, 10, 0.5, 0.04, 0.7);
     }
 
     @Test

@@ -120,7 +120,8 @@ class DetectionQualityBenchmark {
     /**
      * Rule lines added to every monitor for a measurement away from the defaults (system properties):
      * {@code detection.drift} {@code on} or {@code off} lists the window z-rule explicitly (unset: the
-     * defaults decide), {@code detection.falseAlarmsPerYear} sets the budget.
+     * defaults decide), {@code detection.falseAlarmsPerYear} sets the budget and {@code detection.budgetConfidence} its
+     * confidence against the baseline's error.
      */
     private static final String EXTRA_RULES = extraRules();
 
@@ -133,6 +134,10 @@ class DetectionQualityBenchmark {
         String budget = System.getProperty("detection.falseAlarmsPerYear", "");
         if (!budget.isEmpty()) {
             b.append("      falseAlarmsPerYear: ").append(Double.parseDouble(budget)).append('\n');
+        }
+        String confidence = System.getProperty("detection.budgetConfidence", "");
+        if (!confidence.isEmpty()) {
+            b.append("      budgetConfidence: ").append(Double.parseDouble(confidence)).append('\n');
         }
         return b.toString();
     }
@@ -231,7 +236,8 @@ class DetectionQualityBenchmark {
                         String monitor = a.stream().contains("/") ? a.stream().substring(0, a.stream().indexOf('/'))
                                 : a.stream();
                         episodes[setup.monitors().indexOf(monitor)][y]++;
-                        byRule.merge(a.rule() + " " + a.subject().label(), 1, Integer::sum);
+                        byRule.merge(a.rule() + " " + a.subject().label() + " (" + a.measure() + " " + a.direction() + ")", 1,
+                                Integer::sum);
                     }
                 }
                 for (Incident i : out.incidents) {
