@@ -11,14 +11,19 @@ import org.oddswatch.estimator.calibration.BaselineModel;
 
 /**
  * The calibration rule's false-alarm probability per window step in control, bounded by the union of
- * its tests (the rule signals when any one signals, so {@code P(signal) ≤ Σ P(test signals)}):
+ * its tests (the rule signals when any one signals, so {@code P(signal) ≤ Σ P(test signals)}). Each
+ * band test is charged the larger of two probabilities, the same two conditions the CUSUM limits are
+ * held to ({@link FalseAlarmBudget}):
  * <pre>
- *   O/E above:   1 − Φ((ln oeMax + z_c·s_w) / sqrt(s_w² + s_b²)),   s_w = 1/sqrt(E_w), s_b = 1/sqrt(cases_base)
- *   O/E below:   Φ((ln oeMin − z_c·s_w) / sqrt(s_w² + s_b²))
- *   slope above: 1 − Φ((slopeMax − 1 + slopeZ·t_w) / sqrt(t_w² + t_b²))
- *   slope below: Φ((slopeMin − 1 − slopeZ·t_w) / sqrt(t_w² + t_b²))
- *   Hosmer–Lemeshow: its p limit (the test's own level)
+ *   averaged over the baseline's error:          conditional, at the error's quantile q:
+ *   O/E above:   1 − Φ((ln oeMax + z_c·s_w) / s)          1 − Φ((ln oeMax + z_c·s_w − q·s_b) / s_w)
+ *   O/E below:   Φ((ln oeMin − z_c·s_w) / s)              Φ((ln oeMin − z_c·s_w + q·s_b) / s_w)
+ *   slope above: 1 − Φ((slopeMax − 1 + slopeZ·t_w) / t)   1 − Φ((slopeMax − 1 + slopeZ·t_w − q·t_b) / t_w)
+ *   slope below: Φ((slopeMin − 1 − slopeZ·t_w) / t)       Φ((slopeMin − 1 − slopeZ·t_w + q·t_b) / t_w)
+ *   Hosmer–Lemeshow: its p limit (the rule's p-value already allows for the baseline's error)
  * </pre>
+ * with {@code s_w = 1/sqrt(E_w)}, {@code s_b = 1/sqrt(cases_base)}, {@code s = sqrt(s_w² + s_b²)},
+ * {@code t = sqrt(t_w² + t_b²)} and {@code q = Φ⁻¹(1 − α/2)}, {@code 1 − α} the budget's confidence.
  * The O/E interval is treated as a normal interval on the log scale ({@code z_c = 1.96}, the default
  * estimate level 0.95; the rule's exact Poisson interval is close to it at the window counts
  * monitored) with {@code E_w} the window's expected positives, the baseline's cases over its period
@@ -26,10 +31,14 @@ import org.oddswatch.estimator.calibration.BaselineModel;
  * information along its own linear predictor: the slope multiplies {@code η − β_0}, so its
  * information on the baseline's events is {@code β_s' V_ss⁻¹ β_s} ({@code β_s} the coefficients but
  * the intercept, {@code V_ss} their covariance; the intercept profiled out), scaled to a window by
- * its share of the baseline's events ({@code t_w}); {@code t_b} is that of the whole baseline. The
- * {@code s_b}, {@code t_b} terms average each test over the baseline's estimation error: the figures
- * are the probability over both the window and the baseline, which is what the expected number of
- * false alarms needs (expectation is linear, so the union bound holds for it step by step). Pure.
+ * its share of the baseline's events ({@code t_w}); {@code t_b} is that of the whole baseline.
+ * The averaged column is the probability over both the window and the baseline, which is what the
+ * expected number of false alarms needs (expectation is linear, so the union bound holds for it step
+ * by step). The conditional column is the probability for a baseline whose error lies at its
+ * {@code 1 − α/2} quantile against the test (the baseline's error is fixed for the stream's life, so
+ * it shifts every window alike; guaranteed conditional performance, Gandy &amp; Kvaløy 2013): with
+ * the larger of the two, the charge holds on average over baselines and, with probability
+ * {@code 1 − α}, for the baseline the stream actually has. Pure.
  */
 final class CalibrationFalseAlarms {
 
@@ -55,32 +64,47 @@ final class CalibrationFalseAlarms {
      *
      * @param windowShare the window's events as a share of the baseline's (window width over the
      *     baseline's period)
+     * @param confidence the budget's confidence {@code 1 − α} against the baseline's error
      */
-    static List<Term> perStep(Calibration settings, BaselineModel baseline, double windowShare) {
+    static List<Term> perStep(Calibration settings, BaselineModel baseline, double windowShare, double confidence) {
         List<Term> out = new ArrayList<>();
         double windowCases = baseline.cases() * windowShare;
         if (!(windowCases > 0) || !Double.isFinite(windowCases)) {
             return out;
         }
+        double q = errorQuantile(confidence);
         double sw = 1 / Math.sqrt(windowCases);
         double sb = 1 / Math.sqrt(baseline.cases());
         double s = Math.hypot(sw, sb);
-        out.add(new Term("O/E above", STANDARD.cumulativeProbability(
-                -(Math.log(settings.observedExpectedBand().max()) + OE_INTERVAL_Z * sw) / s)));
-        out.add(new Term("O/E below", STANDARD.cumulativeProbability(
-                (Math.log(settings.observedExpectedBand().min()) - OE_INTERVAL_Z * sw) / s)));
+        double oeMax = Math.log(settings.observedExpectedBand().max()) + OE_INTERVAL_Z * sw;
+        double oeMin = Math.log(settings.observedExpectedBand().min()) - OE_INTERVAL_Z * sw;
+        out.add(new Term("O/E above", Math.max(upper(oeMax / s), upper((oeMax - q * sb) / sw))));
+        out.add(new Term("O/E below", Math.max(lower(oeMin / s), lower((oeMin + q * sb) / sw))));
         double slopeInformation = slopeInformation(baseline);
         if (slopeInformation > 0 && Double.isFinite(slopeInformation)) {
             double tw = 1 / Math.sqrt(slopeInformation * windowShare);
             double tb = 1 / Math.sqrt(slopeInformation);
             double t = Math.hypot(tw, tb);
-            out.add(new Term("slope above", STANDARD.cumulativeProbability(
-                    -(settings.slopeBand().max() - 1 + settings.slopeZ() * tw) / t)));
-            out.add(new Term("slope below", STANDARD.cumulativeProbability(
-                    (settings.slopeBand().min() - 1 - settings.slopeZ() * tw) / t)));
+            double slopeMax = settings.slopeBand().max() - 1 + settings.slopeZ() * tw;
+            double slopeMin = settings.slopeBand().min() - 1 - settings.slopeZ() * tw;
+            out.add(new Term("slope above", Math.max(upper(slopeMax / t), upper((slopeMax - q * tb) / tw))));
+            out.add(new Term("slope below", Math.max(lower(slopeMin / t), lower((slopeMin + q * tb) / tw))));
         }
         out.add(new Term("Hosmer-Lemeshow", settings.hosmerLemeshowP()));
         return out;
+    }
+
+    /** {@code Φ⁻¹(1 − α/2)} for the budget's confidence {@code 1 − α}. */
+    private static double errorQuantile(double confidence) {
+        return STANDARD.inverseCumulativeProbability(1 - (1 - confidence) / 2);
+    }
+
+    private static double upper(double z) {
+        return STANDARD.cumulativeProbability(-z);
+    }
+
+    private static double lower(double z) {
+        return STANDARD.cumulativeProbability(z);
     }
 
     /**
@@ -90,19 +114,21 @@ final class CalibrationFalseAlarms {
      * of {@code π}, is split equally over the left-out ends, each getting {@code π_e} and
      * {@code z_e = Φ⁻¹(1 − π_e)}:
      * <pre>
-     *   O/E max   = exp( s·z_e − z_c·s_w)      O/E min   = exp(z_c·s_w − s·z_e)
-     *   slope max = 1 + t·z_e − slopeZ·t_w     slope min = 1 − t·z_e + slopeZ·t_w
+     *   O/E max   = exp( m_o − z_c·s_w)      O/E min   = exp(z_c·s_w − m_o)      m_o = max(s·z_e, s_w·z_e + q·s_b)
+     *   slope max = 1 + m_t − slopeZ·t_w     slope min = 1 − m_t + slopeZ·t_w   m_t = max(t·z_e, t_w·z_e + q·t_b)
      * </pre>
-     * (solving each line of the class description's bound for its band end). Each end stays at least
+     * (solving each line of the class description's bound for its band end: the end must keep both
+     * the averaged and the conditional probability at {@code π_e}, so the farther of the two ends). Each end stays at least
      * 0.01 (log scale for O/E) beyond 1, so a band never closes on the value in control; where that
      * floor binds, the end costs more than {@code π_e}, which {@link #perStep} of the result shows.
      * Slope ends fall back to the defaults where the baseline gives no slope information. Returns null
      * when the baseline gives no expected positives per window (the fallback bands then apply).
      *
      * @param perStepBudget {@code π}, the calibration's share of false alarms per window step
+     * @param confidence the budget's confidence {@code 1 − α} against the baseline's error
      */
     static AlertRulesConfig.Calibration withDerivedBands(Calibration settings, BaselineModel baseline,
-                                                         double windowShare, double perStepBudget) {
+                                                         double windowShare, double perStepBudget, double confidence) {
         double windowCases = baseline.cases() * windowShare;
         if (!(windowCases > 0) || !Double.isFinite(windowCases) || !(perStepBudget > 0)) {
             return null;
@@ -116,19 +142,23 @@ final class CalibrationFalseAlarms {
         // what the explicit parts cost: perStep of the settings with the left-out ends at "never"
         AlertRulesConfig.Calibration explicitOnly = settings.withBands(new AlertRulesConfig.Band(1e-9, 1e9),
                 new AlertRulesConfig.Band(-1e9, 1e9));
-        double explicitCost = perStep(explicitOnly, baseline, windowShare).stream().mapToDouble(Term::perStep).sum();
+        double explicitCost = perStep(explicitOnly, baseline, windowShare, confidence).stream()
+                .mapToDouble(Term::perStep).sum();
         double each = leftOut == 0 ? 0 : Math.max(perStepBudget - explicitCost, 0.1 * perStepBudget) / leftOut;
         double ze = leftOut == 0 ? 0 : STANDARD.inverseCumulativeProbability(1 - each);
+        double q = errorQuantile(confidence);
         double sw = 1 / Math.sqrt(windowCases);
-        double s = Math.hypot(sw, 1 / Math.sqrt(baseline.cases()));
-        double logOe = Math.max(0.01, s * ze - OE_INTERVAL_Z * sw);
+        double sb = 1 / Math.sqrt(baseline.cases());
+        double s = Math.hypot(sw, sb);
+        double logOe = Math.max(0.01, Math.max(s * ze, sw * ze + q * sb) - OE_INTERVAL_Z * sw);
         AlertRulesConfig.Band oeBand = new AlertRulesConfig.Band(Math.exp(-logOe), Math.exp(logOe));
         AlertRulesConfig.Band slopeBand = new AlertRulesConfig.Band(AlertRulesConfig.SLOPE_FALLBACK_MIN,
                 AlertRulesConfig.SLOPE_FALLBACK_MAX);
         if (slopeKnown) {
             double tw = 1 / Math.sqrt(slopeInformation * windowShare);
-            double t = Math.hypot(tw, 1 / Math.sqrt(slopeInformation));
-            double half = Math.max(0.01, t * ze - settings.slopeZ() * tw);
+            double tb = 1 / Math.sqrt(slopeInformation);
+            double t = Math.hypot(tw, tb);
+            double half = Math.max(0.01, Math.max(t * ze, tw * ze + q * tb) - settings.slopeZ() * tw);
             slopeBand = new AlertRulesConfig.Band(1 - half, 1 + half);
         }
         return settings.withBands(oeBand, slopeBand);

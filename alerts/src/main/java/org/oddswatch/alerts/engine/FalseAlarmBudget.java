@@ -242,7 +242,8 @@ public final class FalseAlarmBudget {
         AlertRulesConfig.Calibration calibration = rules.calibration();
         int calibrationLine = -1;
         if (calibration != null) {
-            List<CalibrationFalseAlarms.Term> terms = CalibrationFalseAlarms.perStep(calibration, baseline, windowShare);
+            List<CalibrationFalseAlarms.Term> terms = CalibrationFalseAlarms.perStep(calibration, baseline, windowShare,
+                    rules.budgetConfidence());
             if (calibration.bandsLeftOut() && !terms.isEmpty()) {
                 calibrationLine = shares.size();
                 units++;
@@ -311,9 +312,10 @@ public final class FalseAlarmBudget {
 
         if (calibrationLine >= 0) {
             AlertRulesConfig.Calibration derived = CalibrationFalseAlarms.withDerivedBands(calibration, baseline,
-                    windowShare, share / stepsPerYear);
+                    windowShare, share / stepsPerYear, rules.budgetConfidence());
             calibration = derived != null ? derived : calibration;
-            List<CalibrationFalseAlarms.Term> terms = CalibrationFalseAlarms.perStep(calibration, baseline, windowShare);
+            List<CalibrationFalseAlarms.Term> terms = CalibrationFalseAlarms.perStep(calibration, baseline, windowShare,
+                    rules.budgetConfidence());
             double perStep = terms.stream().mapToDouble(CalibrationFalseAlarms.Term::perStep).sum();
             shares.add(calibrationLine, new Share(CalibrationRule.NAME, "calibration", "derived", stepsPerYear * perStep,
                     null, String.format(Locale.ROOT, "O/E [%.3f, %.3f], slope [%.3f, %.3f]; union bound: %.1f steps a"

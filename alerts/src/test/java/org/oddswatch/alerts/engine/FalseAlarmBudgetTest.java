@@ -30,9 +30,13 @@ class FalseAlarmBudgetTest {
     private static final double SE_HOUSEHOLD = 0.065;
     private static final double SE_TRAVEL = 0.09;
     // Source: R 4.2.2, the calibration rule's union bound written out with pnorm for this baseline and a
-    // 4-week window (400 expected positives; slope information 0.81/0.065^2 + 0.36/0.09^2 + 0.01/0.004):
-    // O/E 1.33e-8 each side, slope 2.976e-5 each side, HL 1e-4; per year x 365.25/7 = 0.00832491787133
-    private static final double CALIBRATION_PER_YEAR = 0.00832491787133;
+    // 4-week window (400 expected positives; slope information 0.81/0.065^2 + 0.36/0.09^2 + 0.01/0.004),
+    // each band test at the larger of its probability averaged over the baseline's error and its
+    // probability at the error's 90 % quantile (q = qnorm(0.95)): O/E 2.21017e-8 each side, slope
+    // 1.138469e-4 each side (the conditional one in both), HL 1e-4; per year x 365.25/7 = 0.0171008961262636
+    private static final double CALIBRATION_PER_YEAR = 0.0171008961262636;
+    /** The tests pin the budget's confidence at 0.9 (the quantile 1.6449 below), whatever the default. */
+    private static final double CONFIDENCE = 0.9;
 
     private static BaselineModel baseline() {
         List<Column> cols = List.of(Column.intercept(), new Column("household_contact", "yes", "no", null, true, true),
@@ -56,7 +60,7 @@ class FalseAlarmBudgetTest {
     private static AlertRulesConfig rules(Double driftLimit, Double scoreLimit, Calibration calibration) {
         return new AlertRulesConfig(null, new OddsRatioDrift(driftLimit, null, null, null, null, null), null,
                 calibration, new Cusum(null, null, null, null, null, null, null),
-                new OddsRatioCusum(null, null, scoreLimit, null, null, null, null), 2.0, null);
+                new OddsRatioCusum(null, null, scoreLimit, null, null, null, null), 2.0, CONFIDENCE);
     }
 
     private static Calibration bandsLeftOut(Band observedExpected) {
@@ -73,14 +77,16 @@ class FalseAlarmBudgetTest {
         // Source: R 4.2.2, the union bound of CalibrationFalseAlarms solved for the band ends with qnorm:
         // share (0.5 - 2·(365.25/7)·2·pnorm(-3))/5 = 0.0436513993082409 a year per unit, 8.3658e-4 a
         // step; the Hosmer-Lemeshow level 1e-4 first, the rest over 4 ends: z_e = qnorm(1 - e) = 3.56182306330084;
-        // O/E = exp(±(s·z_e - 1.96·s_w)) with s_w = 1/sqrt(400), s = sqrt(s_w² + 1/1200): [0.897947432139773,
-        // 1.11365093791408]; slope 1 ± (t·z_e - 1.96·t_w): [0.75863072803647, 1.24136927196353]
+        // O/E = exp(±(m - 1.96·s_w)), m = max(s·z_e, s_w·z_e + q·s_b) with s_w = 1/sqrt(400), s_b = 1/sqrt(1200),
+        // s = sqrt(s_w² + s_b²), q = qnorm(0.95) (the conditional one, 0.2256 against 0.2056, is the larger):
+        // [0.880226702550262, 1.13607096569863]; slope 1 ± (max(t·z_e, t_w·z_e + q·t_b) - 1.96·t_w):
+        // [0.71393643157301, 1.28606356842699]
         double unit = 0.0436513993082409;
         Calibration c = b.calibration();
-        assertEquals(0.897947432139773, c.observedExpected().min(), 1e-9);
-        assertEquals(1.11365093791408, c.observedExpected().max(), 1e-9);
-        assertEquals(0.75863072803647, c.slope().min(), 1e-9);
-        assertEquals(1.24136927196353, c.slope().max(), 1e-9);
+        assertEquals(0.880226702550262, c.observedExpected().min(), 1e-9);
+        assertEquals(1.13607096569863, c.observedExpected().max(), 1e-9);
+        assertEquals(0.71393643157301, c.slope().min(), 1e-9);
+        assertEquals(1.28606356842699, c.slope().max(), 1e-9);
         assertEquals(unit, shares.get(2).perYear(), 1e-9, "the derived bands spend the calibration's share: "
                 + shares.get(2).describe());
         for (Share s : shares.subList(3, 7)) {
