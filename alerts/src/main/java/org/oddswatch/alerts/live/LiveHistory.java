@@ -175,7 +175,7 @@ public final class LiveHistory implements OutputSink {
                 openAlerts, OPEN_ALERTS);
     }
 
-    /** The latest message of an incident open before a restart, kept as its open message. Not added to the recent messages. */
+    /** The latest message of an incident open before a restart, kept as its open message (not as a recent one). */
     @Override
     public synchronized void restoredIncident(Incident incident, Published published) {
         if (incident.change() != IncidentChange.RESOLVED) {

@@ -60,7 +60,10 @@ public interface OutputSink extends AutoCloseable {
     default void restoredAlert(Alert alert, Published published) {
     }
 
-    /** The latest message of an incident still open after a restart, as the incident tracker restored it. Not published again. */
+    /**
+     * The latest message of an incident still open after a restart, as the incident tracker
+     * restored it. Not published again.
+     */
     default void restoredIncident(Incident incident, Published published) {
     }
 

@@ -25,7 +25,8 @@ public final class PublishedAlert {
 
     /** One line of JSON for every alert output. */
     public static String json(Alert alert, SmallCellPolicy policy) {
-        boolean readBack = alert.withheld() != null && alert.withheld().stream().anyMatch(w -> "events".equals(w.field()));
+        boolean readBack = alert.withheld() != null
+                && alert.withheld().stream().anyMatch(w -> "events".equals(w.field()));
         if (!readBack && !policy.small(alert.events())) {
             return Json.write(alert);
         }

@@ -81,10 +81,8 @@ public final class OutputStage implements PipelineListener {
 
     @Override
     public void onAlert(Alert alert) {
-        MonitorDefinition monitor = MonitorDefinition.ofStream(monitors, alert.stream());
-        Published published = new Published(monitor.name(), alert.id(),
-                PublishedAlert.json(alert, monitor.outputs().smallCells()));
-        sinks.get(monitor.name()).forEach(sink -> sink.alert(alert, published));
+        Published published = published(alert);
+        sinks.get(published.monitor()).forEach(sink -> sink.alert(alert, published));
         incidents.accept(alert).ifPresent(incident -> toSinks(incident, false));
     }
 
@@ -110,13 +108,17 @@ public final class OutputStage implements PipelineListener {
         incidents.restoreLatest(published).forEach(incident -> toSinks(incident, true));
     }
 
-    /** After a restart: an open episode's latest message, written as when published, to {@link OutputSink#restoredAlert}. */
+    /** After a restart: an open episode's latest message, written as published, to {@link OutputSink#restoredAlert}. */
     @Override
     public void onAlertRestored(Alert alert) {
+        Published published = published(alert);
+        sinks.get(published.monitor()).forEach(sink -> sink.restoredAlert(alert, published));
+    }
+
+    /** The alert as its monitor publishes it (key: its id). */
+    private Published published(Alert alert) {
         MonitorDefinition monitor = MonitorDefinition.ofStream(monitors, alert.stream());
-        Published published = new Published(monitor.name(), alert.id(),
-                PublishedAlert.json(alert, monitor.outputs().smallCells()));
-        sinks.get(monitor.name()).forEach(sink -> sink.restoredAlert(alert, published));
+        return new Published(monitor.name(), alert.id(), PublishedAlert.json(alert, monitor.outputs().smallCells()));
     }
 
     /** After a restart: a final estimate read back, its text as read, to {@link OutputSink#restoredEstimate}. */

@@ -56,7 +56,10 @@ public interface PipelineListener {
     default void onAlertRestored(Alert alert) {
     }
 
-    /** A final estimate published before a restart, read back for a stream the pipeline holds (its JSON as read), not published again. */
+    /**
+     * A final estimate published before a restart, read back for a stream the pipeline holds (its
+     * JSON as read), not published again.
+     */
     default void onEstimateRestored(WindowEstimate estimate, String publishedJson) {
     }
 

@@ -147,7 +147,9 @@ final class RebuildPlanner {
                     LOG.info("{} rebuilt: {} records re-read in {} ms", p.partition,
                             p.pipeline.snapshot().rebuilt(), nanos / 1_000_000);
                     meters.rebuildFinished(nanos);
-                    p.pipeline.streams().forEach(s -> p.finals.of(s).forEach(f -> restored.onEstimateRestored(f.estimate(), f.json())));
+                    for (String stream : p.pipeline.streams()) {
+                        p.finals.of(stream).forEach(f -> restored.onEstimateRestored(f.estimate(), f.json()));
+                    }
                     p.finals = null;
                     any = true;
                 }
@@ -220,27 +222,36 @@ final class RebuildPlanner {
      * when no partition has a record time (nothing was processed before).
      */
     private RecentFinals publishedFinals(List<OwnedPartition> pending, Map<TopicPartition, Long> recordTimes) {
-        List<MonitorDefinition> monitors = pending.stream().flatMap(p -> config.monitorsFor(p.partition.topic()).stream())
-                .distinct().toList();
+        List<MonitorDefinition> monitors = pending.stream()
+                .flatMap(p -> config.monitorsFor(p.partition.topic()).stream()).distinct().toList();
         RecentFinals finals = new RecentFinals(stream -> monitors.stream().anyMatch(m -> m.owns(stream)));
         long from = Long.MAX_VALUE;
         for (Map.Entry<TopicPartition, Long> t : recordTimes.entrySet()) {
-            long step = config.monitorsFor(t.getKey().topic()).stream().mapToLong(m -> m.window().step().toMillis()).max()
-                    .orElse(0);
-            from = Math.min(from, t.getValue() - spans.get(t.getKey().topic()).lookBackMillis() - LiveHistory.WINDOWS * step);
+            String topic = t.getKey().topic();
+            long step = config.monitorsFor(topic).stream().mapToLong(m -> m.window().step().toMillis()).max().orElse(0);
+            from = Math.min(from, t.getValue() - spans.get(topic).lookBackMillis() - LiveHistory.WINDOWS * step);
         }
-        if (from != Long.MAX_VALUE) {
-            readBack(monitors.stream().map(m -> m.outputs().estimatesTopic()).collect(Collectors.toCollection(TreeSet::new)),
-                    Math.max(0, from), r -> {
-                        if (r.value() != null && !finals.add(r.value())) {
-                            LOG.warn("skipping unreadable estimate at {}-{}@{}", r.topic(), r.partition(), r.offset());
-                        }
-                    });
+        if (from == Long.MAX_VALUE) {
+            return finals;
+        }
+        Set<String> topics = monitors.stream().map(m -> m.outputs().estimatesTopic())
+                .collect(Collectors.toCollection(TreeSet::new));
+        readBack(topics, Math.max(0, from), r -> {
+            if (r.value() != null && !finals.add(r.value())) {
+                LOG.warn("skipping unreadable estimate at {}-{}@{}", r.topic(), r.partition(), r.offset());
+            }
+        });
+        if (finals.passedOver() > 0) {
+            LOG.warn("the live page shows the estimates of {} streams at most: {} final estimates of further streams "
+                    + "not restored", LiveHistory.STREAMS, finals.passedOver());
         }
         return finals;
     }
 
-    /** Every record of {@code topics}, from the beginning (or the first at or after {@code fromMillis}) to the end offsets at the time of the read. */
+    /**
+     * Every record of {@code topics}, from the beginning (or the first stamped at or after
+     * {@code fromMillis}) to the end offsets at the time of the read.
+     */
     private void readBack(Set<String> topics, Long fromMillis, Consumer<ConsumerRecord<byte[], byte[]>> sink) {
         if (topics.isEmpty()) {
             return;
