@@ -23,7 +23,8 @@ import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.estimator.result.WindowStatus;
 
 /**
- * The live page's memory: what this service instance published since it started, bounded. An
+ * The live page's memory: what this service instance published since it started and what it read
+ * back of what was published before and is still current (below), bounded. An
  * {@link OutputSink} fed after the output stage, so it keeps the published JSON text (small cells
  * already withheld) and never a record's values:
  * <ul>
