@@ -103,16 +103,28 @@ public final class IncidentTracker {
      * @return the incidents taken over
      */
     public int restore(List<Alert> published) {
+        return restoreLatest(published).size();
+    }
+
+    /**
+     * {@link #restore}, giving the latest message of each incident taken over: the message of its
+     * last change in the replay, which is the one published before the restart when the record is
+     * complete (the same messages in the same order give the same incidents).
+     *
+     * @param published alert messages read back from the alerts topics, in the order read
+     * @return one message per incident taken over, in the order the incidents opened
+     */
+    public List<Incident> restoreLatest(List<Alert> published) {
         IncidentTracker replay = new IncidentTracker(related);
         published.stream().sorted(Comparator.comparing(Alert::windowEnd)).forEach(replay::accept);
-        int taken = 0;
+        List<Incident> taken = new ArrayList<>();
         for (OpenIncident incident : replay.open) {
             boolean known = open.stream().anyMatch(o -> o.id.equals(incident.id))
                     || incident.episodes.keySet().stream().anyMatch(byEpisode::containsKey);
             if (!known) {
                 open.add(incident);
                 incident.episodes.keySet().forEach(episode -> byEpisode.put(episode, incident));
-                taken++;
+                taken.add(incident.latest);
             }
         }
         return taken;
@@ -142,6 +154,8 @@ public final class IncidentTracker {
         Instant from;
         Instant to;
         int revision;
+        /** The message of the latest change. */
+        Incident latest;
 
         OpenIncident(String id, String replayCommand) {
             this.id = id;
@@ -164,9 +178,10 @@ public final class IncidentTracker {
             List<IncidentEvidence> evidence = List.copyOf(episodes.values());
             String reason = cause.state() + " " + cause.rule() + " (" + cause.subject().label() + ") on "
                     + cause.stream() + ", episode " + cause.id();
-            return new Incident(id, revision, change, streams, from, to, openEpisodes(), reason, evidence,
+            latest = new Incident(id, revision, change, streams, from, to, openEpisodes(), reason, evidence,
                     IncidentText.compose(id, change, streams, from, to, evidence, reason, replayCommand),
                     replayCommand);
+            return latest;
         }
     }
 }

@@ -1,5 +1,7 @@
 package org.oddswatch.alerts.live;
 
+import com.fasterxml.jackson.core.JsonProcessingException;
+import com.fasterxml.jackson.databind.JsonNode;
 import java.time.Instant;
 import java.util.ArrayDeque;
 import java.util.ArrayList;
@@ -8,7 +10,9 @@ import java.util.Iterator;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
+import java.util.Set;
 import java.util.TreeMap;
+import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.lifecycle.AlertState;
 import org.oddswatch.alerts.lifecycle.Incident;
@@ -19,7 +23,8 @@ import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.estimator.result.WindowStatus;
 
 /**
- * The live page's memory: what this service instance published since it started, bounded. An
+ * The live page's memory: what this service instance published since it started and what it read
+ * back of what was published before and is still current (below), bounded. An
  * {@link OutputSink} fed after the output stage, so it keeps the published JSON text (small cells
  * already withheld) and never a record's values:
  * <ul>
@@ -37,8 +42,17 @@ import org.oddswatch.estimator.result.WindowStatus;
  * {@code STREAMS x (WINDOWS + 1)} estimate lines (a few kilobytes each).
  *
  * <p>Written by the thread that runs the pipelines, read by the HTTP threads: every method holds this
- * object's lock for a copy of references, never for I/O. State rebuilt after a restart publishes
- * nothing, so after a restart the history starts with the first window published again.
+ * object's lock for a copy of references, never for I/O.
+ *
+ * <p>After a restart or a partition hand-over nothing is published again, so the service hands over
+ * what it read back ({@code restored...}, as published, small cells withheld as they were): the
+ * final estimates of each stream it now holds ({@link #restoredEstimate}: merged by window end with
+ * the kept ones, the newest {@value #WINDOWS} kept; a window already kept stays as it is), the open
+ * episodes ({@link #restoredAlert}) and the open incidents ({@link #restoredIncident}). They join
+ * the open lists, not the recent ones, which hold only what this instance published. When a
+ * partition leaves ({@link #released}), its streams keep their estimates here, but their open
+ * episodes, and the open incidents all of whose streams are among them, leave the open lists: this
+ * instance no longer follows them (their new owner shows them).
  */
 public final class LiveHistory implements OutputSink {
 
@@ -78,14 +92,9 @@ public final class LiveHistory implements OutputSink {
 
     @Override
     public synchronized void estimate(WindowEstimate estimate, Published published) {
-        StreamHistory stream = streams.get(estimate.stream());
+        StreamHistory stream = history(estimate.stream(), published.monitor());
         if (stream == null) {
-            if (streams.size() >= STREAMS) {
-                droppedStreams++;
-                return;
-            }
-            stream = new StreamHistory(published.monitor());
-            streams.put(estimate.stream(), stream);
+            return;
         }
         Kept kept = new Kept(estimate.stream(), published.monitor(), estimate.windowEnd(), published.json());
         if (estimate.status() == WindowStatus.FINAL) {
@@ -107,6 +116,115 @@ public final class LiveHistory implements OutputSink {
             if (newest == null || estimate.windowEnd().isAfter(newest.windowEnd())) {
                 stream.open = kept;
             }
+        }
+    }
+
+    /** The stream's history, new if need be; null (counted) when {@value #STREAMS} streams are kept already. */
+    private StreamHistory history(String name, String monitor) {
+        StreamHistory stream = streams.get(name);
+        if (stream == null) {
+            if (streams.size() >= STREAMS) {
+                droppedStreams++;
+                return null;
+            }
+            stream = new StreamHistory(monitor);
+            streams.put(name, stream);
+        }
+        return stream;
+    }
+
+    /**
+     * A final estimate read back after a restart: merged into the stream's finals by window end (a
+     * window already kept stays as kept: this instance published it since), the oldest beyond
+     * {@value #WINDOWS} dropped; an interim estimate not after it is no longer the open window.
+     * Interim estimates are ignored.
+     */
+    @Override
+    public synchronized void restoredEstimate(WindowEstimate estimate, Published published) {
+        if (estimate.status() != WindowStatus.FINAL) {
+            return;
+        }
+        StreamHistory stream = history(estimate.stream(), published.monitor());
+        if (stream == null) {
+            return;
+        }
+        TreeMap<Instant, Kept> merged = new TreeMap<>();
+        stream.finals.forEach(k -> merged.put(k.windowEnd(), k));
+        merged.putIfAbsent(estimate.windowEnd(),
+                new Kept(estimate.stream(), published.monitor(), estimate.windowEnd(), published.json()));
+        while (merged.size() > WINDOWS) {
+            merged.pollFirstEntry();
+        }
+        stream.finals.clear();
+        stream.finals.addAll(merged.values());
+        if (stream.open != null && !stream.open.windowEnd().isAfter(merged.lastKey())) {
+            stream.open = null;
+        }
+    }
+
+    /**
+     * The latest message of an episode open before a restart: kept as its open message unless a newer
+     * one (a later window) is kept already; a cleared message is ignored. Not added to the recent messages.
+     */
+    @Override
+    public synchronized void restoredAlert(Alert alert, Published published) {
+        Kept known = openAlerts.get(alert.id());
+        if (alert.state() == AlertState.CLEARED || known != null && known.windowEnd().isAfter(alert.windowEnd())) {
+            return;
+        }
+        restoreOpen(alert.id(), new Kept(alert.stream(), published.monitor(), alert.windowEnd(), published.json()),
+                openAlerts, OPEN_ALERTS);
+    }
+
+    /** The latest message of an incident open before a restart, kept as its open message (not as a recent one). */
+    @Override
+    public synchronized void restoredIncident(Incident incident, Published published) {
+        if (incident.change() != IncidentChange.RESOLVED) {
+            restoreOpen(incident.id(), new Kept(incident.streams().get(0), published.monitor(), incident.to(),
+                    published.json()), openIncidents, OPEN_INCIDENTS);
+        }
+    }
+
+    /** Replaces the open item's message in place, or adds it as the newest (see {@link #putNewest}). */
+    private static void restoreOpen(String id, Kept kept, LinkedHashMap<String, Kept> open, int cap) {
+        if (open.replace(id, kept) == null) {
+            putNewest(id, kept, open, cap);
+        }
+    }
+
+    /** Puts the item as the newest of {@code open}, the one updated longest ago dropped beyond {@code cap}. */
+    private static void putNewest(String id, Kept kept, LinkedHashMap<String, Kept> open, int cap) {
+        open.remove(id);
+        open.put(id, kept);
+        if (open.size() > cap) {
+            Iterator<String> oldest = open.keySet().iterator();
+            oldest.next();
+            oldest.remove();
+        }
+    }
+
+    /**
+     * The streams left this instance: their open episodes leave the open list, and so do the open
+     * incidents whose every stream is among them; their estimates and the recent messages stay.
+     */
+    @Override
+    public synchronized void released(List<String> released) {
+        Set<String> gone = Set.copyOf(released);
+        openAlerts.values().removeIf(k -> gone.contains(k.stream()));
+        openIncidents.values().removeIf(k -> allAmong(gone, k.json()));
+    }
+
+    /** True when every stream of the incident message {@code json} is in {@code streams}. */
+    private static boolean allAmong(Set<String> streams, String json) {
+        try {
+            for (JsonNode stream : Json.mapper().readTree(json).path("streams")) {
+                if (!streams.contains(stream.asText())) {
+                    return false;
+                }
+            }
+            return true;
+        } catch (JsonProcessingException e) {
+            throw new IllegalStateException("an incident message kept here is not JSON", e);
         }
     }
 
@@ -147,14 +265,10 @@ public final class LiveHistory implements OutputSink {
         if (recent.size() > recentCap) {
             recent.removeFirst();
         }
-        open.remove(id);
-        if (!closes) {
-            open.put(id, kept);
-            if (open.size() > openCap) {
-                Iterator<String> oldest = open.keySet().iterator();
-                oldest.next();
-                oldest.remove();
-            }
+        if (closes) {
+            open.remove(id);
+        } else {
+            putNewest(id, kept, open, openCap);
         }
     }
 

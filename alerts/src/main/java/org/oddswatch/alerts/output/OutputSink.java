@@ -11,6 +11,11 @@ import org.oddswatch.estimator.result.WindowEstimate;
  * A sink takes only what it publishes (the others are no-ops). Calls come from the thread that runs
  * the pipeline, so a sink must return quickly: one that talks to the network hands the work to its
  * own thread. A live sink never throws on a delivery failure; it logs and counts it.
+ *
+ * <p>After a restart or a partition hand-over the service rebuilds its state without publishing
+ * anything again; what it read back of its earlier outputs and still holds to be current comes to the
+ * {@code restored...} methods, with the text as published. A sink that only publishes ignores them
+ * (the defaults); a sink that shows what is current (the live page) takes them.
  */
 public interface OutputSink extends AutoCloseable {
 
@@ -37,6 +42,33 @@ public interface OutputSink extends AutoCloseable {
      *     (the same text as {@code reject.json()} when nothing is cut)
      */
     default void reject(Published reject, String messageJson) {
+    }
+
+    /**
+     * A final window estimate published before a restart, read back from the estimates topic (the
+     * newest windows of a stream this service now holds). Not published again.
+     *
+     * @param published its monitor, key and JSON text as read back
+     */
+    default void restoredEstimate(WindowEstimate estimate, Published published) {
+    }
+
+    /**
+     * The latest message of an alert episode still open after a restart (read back from the alerts
+     * topic, a stream this service now holds). Not published again.
+     */
+    default void restoredAlert(Alert alert, Published published) {
+    }
+
+    /**
+     * The latest message of an incident still open after a restart, as the incident tracker
+     * restored it. Not published again.
+     */
+    default void restoredIncident(Incident incident, Published published) {
+    }
+
+    /** These streams left this service instance (their partition was revoked or lost). */
+    default void released(List<String> streams) {
     }
 
     /** Releases resources; pending deliveries may finish within a short grace period. */
@@ -69,6 +101,26 @@ public interface OutputSink extends AutoCloseable {
             @Override
             public void reject(Published reject, String messageJson) {
                 each.forEach(sink -> sink.reject(reject, messageJson));
+            }
+
+            @Override
+            public void restoredEstimate(WindowEstimate estimate, Published published) {
+                each.forEach(sink -> sink.restoredEstimate(estimate, published));
+            }
+
+            @Override
+            public void restoredAlert(Alert alert, Published published) {
+                each.forEach(sink -> sink.restoredAlert(alert, published));
+            }
+
+            @Override
+            public void restoredIncident(Incident incident, Published published) {
+                each.forEach(sink -> sink.restoredIncident(incident, published));
+            }
+
+            @Override
+            public void released(List<String> streams) {
+                each.forEach(sink -> sink.released(streams));
             }
 
             @Override

@@ -13,7 +13,10 @@ import org.oddswatch.alerts.lifecycle.Alert;
  * handful of events), that field is left out and heads the {@code withheld} list, as for estimates.
  * Otherwise the alert is written exactly as {@code Json.write(alert)}, so an alert with nothing to
  * withhold is byte for byte what it was before alerts withheld figures. A restart reads such an
- * alert back with {@code events} 0 and the figures absent; the lifecycle uses neither.
+ * alert back with {@code events} 0 and the figures absent; the lifecycle uses neither. Written again
+ * (the live page after a restart), an alert read back gives the text that was published: one whose
+ * {@code withheld} list already names {@code events} is written without {@code events} and with its
+ * list as it is.
  */
 public final class PublishedAlert {
 
@@ -22,11 +25,16 @@ public final class PublishedAlert {
 
     /** One line of JSON for every alert output. */
     public static String json(Alert alert, SmallCellPolicy policy) {
-        if (!policy.small(alert.events())) {
+        boolean readBack = alert.withheld() != null
+                && alert.withheld().stream().anyMatch(w -> "events".equals(w.field()));
+        if (!readBack && !policy.small(alert.events())) {
             return Json.write(alert);
         }
         ObjectNode tree = Json.mapper().valueToTree(alert);
         tree.remove("events");
+        if (readBack) {
+            return Json.write(tree);
+        }
         tree.remove("withheld");
         ArrayNode withheld = tree.putArray("withheld");
         withheld.addObject().put("field", "events").put("reason", policy.range("events"));

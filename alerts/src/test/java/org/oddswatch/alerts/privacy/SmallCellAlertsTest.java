@@ -178,6 +178,21 @@ class SmallCellAlertsTest {
         return only(engine.onFinalEstimate(counts(bare, windowEvents, windowCases)));
     }
 
+    /** The live page after a restart writes the alerts read back again: the text must be the one published. */
+    @Test
+    void anAlertReadBackIsWrittenAgainAsPublished() throws Exception {
+        Alert fewEvents = bernoulli(2.0, 4, 0, 0);
+        Alert fewPositives = bernoulli(2.6, 5, 2010, 3);
+        Alert nothingWithheld = bernoulli(2.6, 5, 2010, 101);
+        for (Alert alert : List.of(fewEvents, fewPositives, nothingWithheld)) {
+            String published = PublishedAlert.json(alert, CELLS);
+            Alert readBack = Json.mapper().readValue(published, Alert.class);
+            assertEquals(published, PublishedAlert.json(readBack, CELLS), published);
+        }
+        assertEquals(0, Json.mapper().readValue(PublishedAlert.json(fewEvents, CELLS), Alert.class).events(),
+                "read back without its small count");
+    }
+
     @Test
     void bernoulliCusumOnAWindowWithFewPositives() throws Exception {
         // h = 2.6: the 5th positive crosses; the excursion's 5 events are shown, the window (3 positives) is not

@@ -8,6 +8,7 @@ import java.util.Map;
 import java.util.function.Function;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.lifecycle.Incident;
 import org.oddswatch.alerts.lifecycle.IncidentTracker;
 import org.oddswatch.alerts.output.OutputSink;
 import org.oddswatch.alerts.output.Published;
@@ -34,7 +35,9 @@ import org.oddswatch.ingest.pipeline.RejectedRecord;
  * <p>Each alert also goes to one {@link IncidentTracker} for all monitors, and each incident message
  * it gives goes to the sinks of its first stream's monitor (key: the incident id). Related streams:
  * a split stream and an unsplit monitor reading the same input topic (its parent). After a restart
- * the alerts read back ({@link #onAlertsRestored}) continue the incidents open before it.
+ * the alerts read back ({@link #onAlertsRestored}) continue the incidents open before it; what was
+ * published before and is still current (open episodes and incidents, recent final estimates) goes
+ * to the sinks' {@code restored...} methods, never published again.
  */
 public final class OutputStage implements PipelineListener {
 
@@ -78,21 +81,58 @@ public final class OutputStage implements PipelineListener {
 
     @Override
     public void onAlert(Alert alert) {
-        MonitorDefinition monitor = MonitorDefinition.ofStream(monitors, alert.stream());
-        Published published = new Published(monitor.name(), alert.id(),
-                PublishedAlert.json(alert, monitor.outputs().smallCells()));
-        sinks.get(monitor.name()).forEach(sink -> sink.alert(alert, published));
-        incidents.accept(alert).ifPresent(incident -> {
-            MonitorDefinition first = MonitorDefinition.ofStream(monitors, incident.streams().get(0));
-            Published message = new Published(first.name(), incident.id(), Json.write(incident));
-            sinks.get(first.name()).forEach(sink -> sink.incident(incident, message));
-        });
+        Published published = published(alert);
+        sinks.get(published.monitor()).forEach(sink -> sink.alert(alert, published));
+        incidents.accept(alert).ifPresent(incident -> toSinks(incident, false));
     }
 
-    /** After a restart: the incidents open before it go on ({@link IncidentTracker#restore}). */
+    /** To the sinks of the incident's first stream's monitor (key: the incident id), published or restored. */
+    private void toSinks(Incident incident, boolean restored) {
+        MonitorDefinition first = MonitorDefinition.ofStream(monitors, incident.streams().get(0));
+        Published message = new Published(first.name(), incident.id(), Json.write(incident));
+        for (OutputSink sink : sinks.get(first.name())) {
+            if (restored) {
+                sink.restoredIncident(incident, message);
+            } else {
+                sink.incident(incident, message);
+            }
+        }
+    }
+
+    /**
+     * After a restart: the incidents open before it go on ({@link IncidentTracker#restoreLatest}), and
+     * the latest message of each taken over goes to the sinks' {@link OutputSink#restoredIncident}.
+     */
     @Override
     public void onAlertsRestored(List<Alert> published) {
-        incidents.restore(published);
+        incidents.restoreLatest(published).forEach(incident -> toSinks(incident, true));
+    }
+
+    /** After a restart: an open episode's latest message, written as published, to {@link OutputSink#restoredAlert}. */
+    @Override
+    public void onAlertRestored(Alert alert) {
+        Published published = published(alert);
+        sinks.get(published.monitor()).forEach(sink -> sink.restoredAlert(alert, published));
+    }
+
+    /** The alert as its monitor publishes it (key: its id). */
+    private Published published(Alert alert) {
+        MonitorDefinition monitor = MonitorDefinition.ofStream(monitors, alert.stream());
+        return new Published(monitor.name(), alert.id(), PublishedAlert.json(alert, monitor.outputs().smallCells()));
+    }
+
+    /** After a restart: a final estimate read back, its text as read, to {@link OutputSink#restoredEstimate}. */
+    @Override
+    public void onEstimateRestored(WindowEstimate estimate, String publishedJson) {
+        MonitorDefinition monitor = MonitorDefinition.ofStream(monitors, estimate.stream());
+        Published published = new Published(monitor.name(), estimateKey(estimate), publishedJson);
+        sinks.get(monitor.name()).forEach(sink -> sink.restoredEstimate(estimate, published));
+    }
+
+    /** Streams that left this instance: every sink hears of it once ({@link OutputSink#released}). */
+    @Override
+    public void onStreamsReleased(List<String> streams) {
+        sinks.values().stream().flatMap(List::stream).distinct().forEach(sink -> sink.released(streams));
     }
 
     @Override

@@ -56,6 +56,13 @@ public interface PipelineListener {
     default void onAlertRestored(Alert alert) {
     }
 
+    /**
+     * A final estimate published before a restart, read back for a stream the pipeline holds (its
+     * JSON as read), not published again.
+     */
+    default void onEstimateRestored(WindowEstimate estimate, String publishedJson) {
+    }
+
     /** These streams left the pipeline's owner (its partition was revoked or lost): forget their meters. */
     default void onStreamsReleased(List<String> streams) {
     }

@@ -2,6 +2,7 @@ package org.oddswatch.ingest.service;
 
 import org.apache.kafka.clients.consumer.ConsumerRecord;
 import org.apache.kafka.common.TopicPartition;
+import org.oddswatch.alerts.live.RecentFinals;
 import org.oddswatch.ingest.pipeline.MonitorPipeline;
 import org.oddswatch.ingest.pipeline.Outcome;
 import org.oddswatch.ingest.pipeline.PipelineListener;
@@ -38,6 +39,8 @@ final class OwnedPartition {
     long nextCommit = -1;
     /** The last offset this instance committed, or -1. */
     long lastCommitted = -1;
+    /** The final estimates read back for the live page while rebuilding; handed on and let go when live. */
+    RecentFinals finals;
 
     OwnedPartition(TopicPartition partition, MonitorPipeline pipeline) {
         this.partition = partition;

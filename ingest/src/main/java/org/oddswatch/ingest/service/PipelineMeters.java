@@ -82,7 +82,13 @@ final class PipelineMeters implements PipelineListener {
 
     @Override
     public void onAlertRestored(Alert alert) {
+        outputs.onAlertRestored(alert);
         alerts.restored(alert);
+    }
+
+    @Override
+    public void onEstimateRestored(WindowEstimate estimate, String publishedJson) {
+        outputs.onEstimateRestored(estimate, publishedJson);
     }
 
     @Override
@@ -92,6 +98,7 @@ final class PipelineMeters implements PipelineListener {
 
     @Override
     public void onStreamsReleased(List<String> streams) {
+        outputs.onStreamsReleased(streams);
         for (String stream : streams) {
             records.forgetStream(stream);
             fits.forgetStream(stream);

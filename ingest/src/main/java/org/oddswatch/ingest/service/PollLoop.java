@@ -92,7 +92,7 @@ final class PollLoop implements Runnable, ConsumerRebalanceListener {
         String apiTimeout = config.kafka().get(ConsumerConfig.DEFAULT_API_TIMEOUT_MS_CONFIG);
         Duration timeout = apiTimeout == null ? Duration.ofSeconds(30) : Duration.ofMillis(Long.parseLong(apiTimeout.trim()));
         this.brokerWait = timeout.compareTo(MAX_BROKER_WAIT) < 0 ? timeout : MAX_BROKER_WAIT;
-        this.planner = new RebuildPlanner(config, consumer, lookup, readerProps, meters, timeout);
+        this.planner = new RebuildPlanner(config, consumer, lookup, readerProps, meters, timeout, pipelines.listener());
         this.broker = new BrokerWatch(consumer, owned,
                 String.valueOf(config.kafka().get(CommonClientConfigs.BOOTSTRAP_SERVERS_CONFIG)), brokerWait, timeout,
                 COMMIT_INTERVAL_NANOS);

@@ -22,10 +22,13 @@ import org.apache.kafka.common.TopicPartition;
 import org.apache.kafka.common.errors.TimeoutException;
 import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
+import org.oddswatch.alerts.live.LiveHistory;
+import org.oddswatch.alerts.live.RecentFinals;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 import org.oddswatch.ingest.kafka.BoundedTopicReader;
 import org.oddswatch.ingest.pipeline.CusumHistory;
+import org.oddswatch.ingest.pipeline.PipelineListener;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
@@ -35,7 +38,9 @@ import org.slf4j.LoggerFactory;
  * the timestamp {@code T} of the record there (before it, at the end), a seek to the first offset
  * at or after {@link RebuildSpan#startMillis}{@code (T)}, and a re-read up to {@code C} with output
  * suppressed; before it each pipeline gets its monitors' published alerts (open episodes go on) and
- * the CUSUM values published with the final estimates. Every look-up is made before any state
+ * the CUSUM values published with the final estimates. When a partition's rebuild is done, the live
+ * page gets the newest final estimates published of the streams its pipeline holds
+ * ({@link #publishedFinals}: a read bounded in time and memory). Every look-up is made before any state
  * changes, so a failed one (a {@link org.apache.kafka.common.errors.RetriableException}) leaves the
  * partitions paused and {@code ASSIGNED}. Runs on the poll-loop thread, never in a rebalance callback.
  */
@@ -52,14 +57,17 @@ final class RebuildPlanner {
     private final Duration timeout;
     private final boolean resetToLatest;
     private final Map<String, RebuildSpan> spans = new HashMap<>();
+    private final PipelineListener restored;
 
     /**
      * @param lookup a consumer of its own (no group) that reads the record at a committed offset
      * @param readerProps properties of the consumers that read the published alerts and estimates
      * @param timeout bound of each blocking look-up
+     * @param restored where the final estimates read back go ({@link PipelineListener#onEstimateRestored})
      */
     RebuildPlanner(MonitorConfig config, KafkaConsumer<byte[], byte[]> consumer, KafkaConsumer<byte[], byte[]> lookup,
-                   Properties readerProps, ServiceLoopMetrics meters, Duration timeout) {
+                   Properties readerProps, ServiceLoopMetrics meters, Duration timeout, PipelineListener restored) {
+        this.restored = restored;
         this.config = config;
         this.consumer = consumer;
         this.lookup = lookup;
@@ -92,6 +100,7 @@ final class RebuildPlanner {
         Map<TopicPartition, Long> end = consumer.endOffsets(tps, timeout);
         Map<TopicPartition, Long> until = new HashMap<>();
         Map<TopicPartition, Long> startTimes = new HashMap<>();
+        Map<TopicPartition, Long> recordTimes = new HashMap<>();
         for (TopicPartition tp : tps) {
             OffsetAndMetadata c = committed.get(tp);
             long upTo = c != null ? c.offset() : resetToLatest ? end.get(tp) : beginning.get(tp);
@@ -103,12 +112,15 @@ final class RebuildPlanner {
                     recordMillis == null ? null : Instant.ofEpochMilli(recordMillis));
             if (recordMillis != null && upTo > beginning.get(tp)) {
                 startTimes.put(tp, Math.max(0, spans.get(tp.topic()).startMillis(recordMillis)));
+                recordTimes.put(tp, recordMillis);
             }
         }
         Map<TopicPartition, OffsetAndTimestamp> found = startTimes.isEmpty() ? Map.of()
                 : consumer.offsetsForTimes(startTimes, timeout);
+        RecentFinals finals = publishedFinals(pending, recordTimes);
         for (OwnedPartition p : pending) { // every look-up answered: only now does state change
             TopicPartition tp = p.partition;
+            p.finals = finals;
             long seekTo = until.get(tp);
             p.pipeline.restoreAlerts(alerts.get(p));
             if (startTimes.containsKey(tp)) {
@@ -135,6 +147,10 @@ final class RebuildPlanner {
                     LOG.info("{} rebuilt: {} records re-read in {} ms", p.partition,
                             p.pipeline.snapshot().rebuilt(), nanos / 1_000_000);
                     meters.rebuildFinished(nanos);
+                    for (String stream : p.pipeline.streams()) {
+                        p.finals.of(stream).forEach(f -> restored.onEstimateRestored(f.estimate(), f.json()));
+                    }
+                    p.finals = null;
                     any = true;
                 }
             }
@@ -167,7 +183,7 @@ final class RebuildPlanner {
                 .filter(m -> m.rules() == null || m.rules().cusum() != null).map(m -> m.outputs().estimatesTopic())
                 .collect(Collectors.toCollection(TreeSet::new));
         CusumHistory history = new CusumHistory();
-        readBack(topics, r -> {
+        readBack(topics, null, r -> {
             if (r.value() != null && !history.add(r.value())) {
                 LOG.warn("skipping unreadable estimate at {}-{}@{}", r.topic(), r.partition(), r.offset());
             }
@@ -180,7 +196,7 @@ final class RebuildPlanner {
         Set<String> topics = new TreeSet<>();
         pending.forEach(p -> config.monitorsFor(p.partition.topic()).forEach(m -> topics.add(m.outputs().alertsTopic())));
         List<Alert> published = new ArrayList<>();
-        readBack(topics, r -> {
+        readBack(topics, null, r -> {
             try {
                 published.add(Json.mapper().readValue(r.value(), Alert.class));
             } catch (IOException | RuntimeException e) {
@@ -195,13 +211,53 @@ final class RebuildPlanner {
         return out;
     }
 
-    /** Every record of {@code topics}, from the beginning to the end offsets at the time of the read. */
-    private void readBack(Set<String> topics, Consumer<ConsumerRecord<byte[], byte[]>> sink) {
+    /**
+     * The newest final estimates ({@link RecentFinals}: at most {@link LiveHistory#WINDOWS} per stream)
+     * of the pending partitions' monitors, for the live page. Bounded in time: each estimates topic
+     * is read from the first record stamped at or after {@code min over partitions (T - L - W x S)},
+     * {@code T} the partition's record time at the committed offset, {@code L} its rebuild look-back
+     * ({@link RebuildSpan}), {@code W} = {@link LiveHistory#WINDOWS} and {@code S} the longest step
+     * of its monitors; a window's estimate is published after its events arrive, so with records
+     * stamped at or after their event time this holds the newest {@code W} windows. Nothing is read
+     * when no partition has a record time (nothing was processed before).
+     */
+    private RecentFinals publishedFinals(List<OwnedPartition> pending, Map<TopicPartition, Long> recordTimes) {
+        List<MonitorDefinition> monitors = pending.stream()
+                .flatMap(p -> config.monitorsFor(p.partition.topic()).stream()).distinct().toList();
+        RecentFinals finals = new RecentFinals(stream -> monitors.stream().anyMatch(m -> m.owns(stream)));
+        long from = Long.MAX_VALUE;
+        for (Map.Entry<TopicPartition, Long> t : recordTimes.entrySet()) {
+            String topic = t.getKey().topic();
+            long step = config.monitorsFor(topic).stream().mapToLong(m -> m.window().step().toMillis()).max().orElse(0);
+            from = Math.min(from, t.getValue() - spans.get(topic).lookBackMillis() - LiveHistory.WINDOWS * step);
+        }
+        if (from == Long.MAX_VALUE) {
+            return finals;
+        }
+        Set<String> topics = monitors.stream().map(m -> m.outputs().estimatesTopic())
+                .collect(Collectors.toCollection(TreeSet::new));
+        readBack(topics, Math.max(0, from), r -> {
+            if (r.value() != null && !finals.add(r.value())) {
+                LOG.warn("skipping unreadable estimate at {}-{}@{}", r.topic(), r.partition(), r.offset());
+            }
+        });
+        if (finals.passedOver() > 0) {
+            LOG.warn("the live page shows the estimates of {} streams at most: {} final estimates of further streams "
+                    + "not restored", LiveHistory.STREAMS, finals.passedOver());
+        }
+        return finals;
+    }
+
+    /**
+     * Every record of {@code topics}, from the beginning (or the first stamped at or after
+     * {@code fromMillis}) to the end offsets at the time of the read.
+     */
+    private void readBack(Set<String> topics, Long fromMillis, Consumer<ConsumerRecord<byte[], byte[]>> sink) {
         if (topics.isEmpty()) {
             return;
         }
         try (BoundedTopicReader reader = new BoundedTopicReader(readerProps, Duration.ofSeconds(30))) {
-            topics.forEach(topic -> reader.read(topic, null, sink));
+            topics.forEach(topic -> reader.read(topic, fromMillis, sink));
         }
     }
 }
