@@ -217,7 +217,7 @@ class CommandLineTest {
                 + "      odds-ratio-bounds: on\n      calibration: on (needs a baseline)\n"
                 + "      bernoulli-cusum: off [switched-off]: switched off in the definition (rules.cusum.enabled: false)\n"
                 + "      odds-ratio-cusum: on (needs a baseline)\n"
-                + "      false-alarm budget: 1.000 a year for the monitor, 1.000 per stream over 1 stream (confidence 0.90"
+                + "      false-alarm budget: 1.000 a year for the monitor, 1.000 per stream over 1 stream (confidence 0.99"
                 + " against the baseline's error); oddsRatioCusum.limit and calibration bands derived per stream from its"
                 + " baseline\n    note: monitors[0].rules.calibration is not listed, so it runs with its defaults"),
                 check.out());

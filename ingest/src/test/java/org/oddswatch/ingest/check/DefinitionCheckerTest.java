@@ -64,7 +64,7 @@ class DefinitionCheckerTest {
         CheckReport.appendRules(rules, DefinitionLoader.load(definition()).monitors().get(0));
         // The split monitor allows 8 streams: a budget of 1 a year is 1/8 per stream.
         assertTrue(rules.toString().contains("      false-alarm budget: 1.000 a year for the monitor, 0.125 per stream over 8"
-                + " streams (confidence 0.90 against the baseline's error); cusum.limit and oddsRatioCusum.limit and"
+                + " streams (confidence 0.99 against the baseline's error); cusum.limit and oddsRatioCusum.limit and"
                 + " calibration bands derived per stream from its baseline\n"), rules.toString());
     }
 
@@ -96,7 +96,7 @@ class DefinitionCheckerTest {
                 "      odds-ratio-bounds: on", "      calibration: on (needs a baseline)",
                 "      bernoulli-cusum: off [switched-off]: switched off in the definition (rules.cusum.enabled: false)",
                 "      odds-ratio-cusum: on (needs a baseline)",
-                "      false-alarm budget: 1.000 a year for the monitor, 1.000 per stream over 1 stream (confidence 0.90 against the"
+                "      false-alarm budget: 1.000 a year for the monitor, 1.000 per stream over 1 stream (confidence 0.99 against the"
                         + " baseline's error); oddsRatioCusum.limit and calibration bands derived per stream from its baseline",
                 ""), rules.substring(0, rules.indexOf("    note: ")));
         assertEquals(1, config.monitors().get(0).notices().size(), "calibration is not listed: " + rules);
