@@ -38,9 +38,9 @@ import org.slf4j.LoggerFactory;
  * the timestamp {@code T} of the record there (before it, at the end), a seek to the first offset
  * at or after {@link RebuildSpan#startMillis}{@code (T)}, and a re-read up to {@code C} with output
  * suppressed; before it each pipeline gets its monitors' published alerts (open episodes go on) and
- * the CUSUM values published with the final estimates. When a partition's rebuild is done, the live
- * page gets the newest final estimates published of the streams its pipeline holds
- * ({@link #publishedFinals}: a read bounded in time and memory). Every look-up is made before any state
+ * the CUSUM values published with the final estimates; when its rebuild is done, the live page gets
+ * the newest final estimates of the streams it holds. Both come from one read of the estimates
+ * topics, bounded in time ({@link #publishedFinals}). Every look-up is made before any state
  * changes, so a failed one (a {@link org.apache.kafka.common.errors.RetriableException}) leaves the
  * partitions paused and {@code ASSIGNED}. Runs on the poll-loop thread, never in a rebalance callback.
  */
@@ -94,13 +94,11 @@ final class RebuildPlanner {
         }
         Set<TopicPartition> tps = pending.stream().map(p -> p.partition).collect(Collectors.toSet());
         Map<OwnedPartition, List<Alert>> alerts = publishedAlerts(pending);
-        CusumHistory charts = publishedCharts(pending);
         Map<TopicPartition, OffsetAndMetadata> committed = consumer.committed(tps, timeout);
         Map<TopicPartition, Long> beginning = consumer.beginningOffsets(tps, timeout);
         Map<TopicPartition, Long> end = consumer.endOffsets(tps, timeout);
         Map<TopicPartition, Long> until = new HashMap<>();
         Map<TopicPartition, Long> startTimes = new HashMap<>();
-        Map<TopicPartition, Long> recordTimes = new HashMap<>();
         for (TopicPartition tp : tps) {
             OffsetAndMetadata c = committed.get(tp);
             long upTo = c != null ? c.offset() : resetToLatest ? end.get(tp) : beginning.get(tp);
@@ -112,12 +110,12 @@ final class RebuildPlanner {
                     recordMillis == null ? null : Instant.ofEpochMilli(recordMillis));
             if (recordMillis != null && upTo > beginning.get(tp)) {
                 startTimes.put(tp, Math.max(0, spans.get(tp.topic()).startMillis(recordMillis)));
-                recordTimes.put(tp, recordMillis);
             }
         }
         Map<TopicPartition, OffsetAndTimestamp> found = startTimes.isEmpty() ? Map.of()
                 : consumer.offsetsForTimes(startTimes, timeout);
-        RecentFinals finals = publishedFinals(pending, recordTimes);
+        CusumHistory charts = new CusumHistory();
+        RecentFinals finals = publishedFinals(pending, startTimes, charts);
         for (OwnedPartition p : pending) { // every look-up answered: only now does state change
             TopicPartition tp = p.partition;
             p.finals = finals;
@@ -177,20 +175,6 @@ final class RebuildPlanner {
         throw new TimeoutException("could not read the record at " + tp + "@" + target + " within " + timeout);
     }
 
-    /** The CUSUM values published with the final estimates of the pending partitions' monitors. */
-    private CusumHistory publishedCharts(List<OwnedPartition> pending) {
-        Set<String> topics = pending.stream().flatMap(p -> config.monitorsFor(p.partition.topic()).stream())
-                .filter(m -> m.rules() == null || m.rules().cusum() != null).map(m -> m.outputs().estimatesTopic())
-                .collect(Collectors.toCollection(TreeSet::new));
-        CusumHistory history = new CusumHistory();
-        readBack(topics, null, r -> {
-            if (r.value() != null && !history.add(r.value())) {
-                LOG.warn("skipping unreadable estimate at {}-{}@{}", r.topic(), r.partition(), r.offset());
-            }
-        });
-        return history;
-    }
-
     /** The published alerts of each pending partition's monitors. */
     private Map<OwnedPartition, List<Alert>> publishedAlerts(List<OwnedPartition> pending) {
         Set<String> topics = new TreeSet<>();
@@ -212,24 +196,29 @@ final class RebuildPlanner {
     }
 
     /**
-     * The newest final estimates ({@link RecentFinals}: at most {@link LiveHistory#WINDOWS} per stream)
-     * of the pending partitions' monitors, for the live page. Bounded in time: each estimates topic
-     * is read from the first record stamped at or after {@code min over partitions (T - L - W x S)},
-     * {@code T} the partition's record time at the committed offset, {@code L} its rebuild look-back
-     * ({@link RebuildSpan}), {@code W} = {@link LiveHistory#WINDOWS} and {@code S} the longest step
-     * of its monitors; a window's estimate is published after its events arrive, so with records
-     * stamped at or after their event time this holds the newest {@code W} windows. Nothing is read
-     * when no partition has a record time (nothing was processed before).
+     * One read of the pending partitions' monitors' estimates topics, from the first record stamped at
+     * or after {@code B = min over partitions (S - W x step)}: {@code S} the re-read start
+     * ({@link RebuildSpan#startMillis}, at most {@code T - look-back}), {@code W} = {@link LiveHistory#WINDOWS},
+     * {@code step} the monitors' longest; none when no partition has a record time. An estimate is
+     * published after its window's events arrive, so with records stamped at or after their event time
+     * every window ending at or after {@code B} is read. The CUSUM values go to {@code charts}: a chart
+     * resumes only from a window ending at or after {@code S + width}, so exactly as from the whole
+     * topic (a stream with no final window since then starts at 0 at {@code S}, as before); of the
+     * published readings that bring the episode runs forward, those before {@code B} count only for an
+     * open CUSUM episode whose stream published fewer than {@code clearAfter} final windows in the
+     * {@code W} steps before {@code S} (its clearing can come later, never earlier; a raise takes one
+     * reading). Returned: the newest {@code W} final windows per stream, for the live page.
      */
-    private RecentFinals publishedFinals(List<OwnedPartition> pending, Map<TopicPartition, Long> recordTimes) {
+    private RecentFinals publishedFinals(List<OwnedPartition> pending, Map<TopicPartition, Long> startTimes,
+                                         CusumHistory charts) {
         List<MonitorDefinition> monitors = pending.stream()
                 .flatMap(p -> config.monitorsFor(p.partition.topic()).stream()).distinct().toList();
         RecentFinals finals = new RecentFinals(stream -> monitors.stream().anyMatch(m -> m.owns(stream)));
         long from = Long.MAX_VALUE;
-        for (Map.Entry<TopicPartition, Long> t : recordTimes.entrySet()) {
-            String topic = t.getKey().topic();
-            long step = config.monitorsFor(topic).stream().mapToLong(m -> m.window().step().toMillis()).max().orElse(0);
-            from = Math.min(from, t.getValue() - spans.get(topic).lookBackMillis() - LiveHistory.WINDOWS * step);
+        for (Map.Entry<TopicPartition, Long> t : startTimes.entrySet()) {
+            long step = config.monitorsFor(t.getKey().topic()).stream().mapToLong(m -> m.window().step().toMillis())
+                    .max().orElse(0);
+            from = Math.min(from, t.getValue() - LiveHistory.WINDOWS * step);
         }
         if (from == Long.MAX_VALUE) {
             return finals;
@@ -237,7 +226,7 @@ final class RebuildPlanner {
         Set<String> topics = monitors.stream().map(m -> m.outputs().estimatesTopic())
                 .collect(Collectors.toCollection(TreeSet::new));
         readBack(topics, Math.max(0, from), r -> {
-            if (r.value() != null && !finals.add(r.value())) {
+            if (r.value() != null && !(charts.add(r.value()) & finals.add(r.value()))) {
                 LOG.warn("skipping unreadable estimate at {}-{}@{}", r.topic(), r.partition(), r.offset());
             }
         });
