@@ -34,6 +34,7 @@ import org.oddswatch.alerts.rules.Zone;
 import org.oddswatch.estimator.calibration.BaselineModel;
 import org.oddswatch.estimator.result.ChartSubject;
 import org.oddswatch.estimator.result.CusumValue;
+import org.oddswatch.estimator.result.StepCusumValue;
 import org.oddswatch.estimator.result.DriftValue;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.estimator.result.WindowStatus;
@@ -217,10 +218,11 @@ public final class AlertEngine {
             return estimate;
         }
         List<CusumValue> cusumValues = cusum == null ? List.of() : cusum.reportedValues();
-        if (drift.isEmpty() && cusumValues.isEmpty()) {
+        List<StepCusumValue> stepValues = scoreCusum == null ? List.of() : scoreCusum.reportedValues();
+        if (drift.isEmpty() && cusumValues.isEmpty() && stepValues.isEmpty()) {
             return estimate;
         }
-        return estimate.withCharts(drift, cusumValues);
+        return estimate.withCharts(drift, cusumValues, stepValues);
     }
 
     private void cusumReport(WindowEstimate estimate, List<Alert> out) {
@@ -320,30 +322,42 @@ public final class AlertEngine {
     /**
      * Continues the CUSUM charts after a restart from the values published with this stream's final
      * windows (read back from the estimates topic): each chart from the earliest window ending at or
-     * after {@code notBeforeMillis} whose entry for it is complete ({@link BernoulliCusumRule#resume}).
-     * The caller re-feeds every event at or after {@code notBeforeMillis}; the charts then give the
-     * uninterrupted run's values, readings and messages for every window after the one they resumed
-     * from. Call before any event. A chart without such an entry starts at 0 with the events
-     * re-fed, as before.
+     * after {@code notBeforeMillis} whose entry for it is complete ({@link BernoulliCusumRule#resume},
+     * {@link OddsRatioCusumRule#resume}). The caller re-feeds every event at or after
+     * {@code notBeforeMillis}; the charts then give the uninterrupted run's values, readings and
+     * messages for every window after the one they resumed from. Call before any event. A chart
+     * without such an entry starts at 0 with the events re-fed, as before.
      *
-     * @param published this stream's published CUSUM values by final window end
+     * @param published this stream's published Bernoulli CUSUM values by final window end
+     * @param publishedSteps this stream's published step CUSUM values by final window end
      * @return the charts resumed
      */
-    public int resumeCharts(NavigableMap<Instant, List<CusumValue>> published, long notBeforeMillis) {
-        if (cusum == null) {
-            return 0;
-        }
+    public int resumeCharts(NavigableMap<Instant, List<CusumValue>> published,
+                            NavigableMap<Instant, List<StepCusumValue>> publishedSteps, long notBeforeMillis) {
         int resumed = 0;
-        for (Map.Entry<Instant, List<CusumValue>> e : published.tailMap(Instant.ofEpochMilli(notBeforeMillis), true)
-                .entrySet()) {
-            for (CusumValue value : e.getValue()) {
-                resumed += cusum.resume(e.getKey(), value) ? 1 : 0;
+        List<Reading> readings = new ArrayList<>();
+        Instant notBefore = Instant.ofEpochMilli(notBeforeMillis);
+        if (cusum != null) {
+            for (Map.Entry<Instant, List<CusumValue>> e : published.tailMap(notBefore, true).entrySet()) {
+                for (CusumValue value : e.getValue()) {
+                    resumed += cusum.resume(e.getKey(), value) ? 1 : 0;
+                }
             }
+            readings.addAll(cusum.publishedReadings(published));
+        }
+        if (scoreCusum != null) {
+            for (Map.Entry<Instant, List<StepCusumValue>> e : publishedSteps.tailMap(notBefore, true).entrySet()) {
+                for (StepCusumValue value : e.getValue()) {
+                    resumed += scoreCusum.resume(e.getKey(), value) ? 1 : 0;
+                }
+            }
+            readings.addAll(scoreCusum.publishedReadings(publishedSteps));
         }
         // the windows a resumed chart will not read again: their readings after the newest message
         // restored bring the episode runs to where they stood (they publish nothing: any message they
         // would give was published then)
-        for (Reading reading : cusum.publishedReadings(published)) {
+        readings.sort(Comparator.comparing(Reading::windowEnd));
+        for (Reading reading : readings) {
             Instant upTo = tracker.publishedUpTo(reading.key());
             if (upTo == null || reading.windowEnd().isAfter(upTo)) {
                 tracker.step(reading);

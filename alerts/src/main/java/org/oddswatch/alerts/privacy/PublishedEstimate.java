@@ -12,7 +12,7 @@ import org.oddswatch.estimator.result.WindowEstimate;
  * estimate JSON with the fields {@link SmallCellPolicy} withholds left out, and a {@code withheld}
  * list naming each left-out field and the reason, for example
  * {@code "withheld":[{"field":"cases","reason":"positives from 1 to 4"}, ...]}. The chart values
- * ({@code drift} and {@code cusum}) are statistics, not counts, but they rest on the window's
+ * ({@code drift}, {@code cusum} and {@code stepCusum}) are statistics, not counts, but they rest on the window's
  * events: when the window's counts are withheld, so are they. An estimate with
  * nothing to withhold is written exactly as {@code Json.write(estimate)}, byte for byte.
  * Deterministic: the same estimate and limit give the same text.
@@ -35,7 +35,8 @@ public final class PublishedEstimate {
             tree.remove("events");
         }
         if (w.cases() != null) {
-            for (String field : new String[] {"cases", "prevalence", "coefficients", "notes", "drift", "cusum"}) {
+            for (String field : new String[] {"cases", "prevalence", "coefficients", "notes", "drift", "cusum",
+                    "stepCusum"}) {
                 if (tree.remove(field) != null) {
                     withheld.put(field, w.cases());
                 }

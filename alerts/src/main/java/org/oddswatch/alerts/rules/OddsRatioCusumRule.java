@@ -2,10 +2,16 @@ package org.oddswatch.alerts.rules;
 
 import java.time.Instant;
 import java.util.ArrayList;
+import java.util.Comparator;
 import java.util.List;
+import java.util.Locale;
+import java.util.NavigableMap;
+import java.util.Objects;
 import org.oddswatch.alerts.lifecycle.AlertSubject;
 import org.oddswatch.alerts.lifecycle.Evidence;
 import org.oddswatch.estimator.calibration.BaselineModel;
+import org.oddswatch.estimator.result.ChartSubject;
+import org.oddswatch.estimator.result.StepCusumValue;
 import org.oddswatch.estimator.terms.Column;
 
 /**
@@ -63,7 +69,10 @@ public final class OddsRatioCusumRule {
         final CusumChart down;
         long upStart = Long.MIN_VALUE;
         long downStart = Long.MIN_VALUE;
+        /** The window end the chart was resumed from after a restart ({@link #resume}); MIN_VALUE when not. */
+        long resumedAt = Long.MIN_VALUE;
         final StepScore step = new StepScore();
+        StepCusumValue reported;
 
         Chart(Column column, int index, ChartSettings settings) {
             this.column = column;
@@ -126,7 +135,9 @@ public final class OddsRatioCusumRule {
         }
         for (int c = 0; c < charts.size(); c++) {
             Chart chart = charts.get(c);
-            chart.step.add(eta, row[chart.index], positive);
+            if (time >= chart.resumedAt) { // a resumed chart already holds the events before its window's end
+                chart.step.add(eta, row[chart.index], positive);
+            }
         }
     }
 
@@ -143,10 +154,80 @@ public final class OddsRatioCusumRule {
         long stepStart = lastReportEnd;
         List<Reading> out = new ArrayList<>(charts.size());
         for (Chart chart : charts) {
-            out.add(read(chart, stepStart, windowEnd));
+            if (end > chart.resumedAt) { // windows up to a resumed chart's window were read before the restart
+                Reading reading = read(chart, stepStart, windowEnd);
+                out.add(reading);
+                chart.reported = value(chart, reading);
+            } else {
+                chart.reported = null;
+            }
             chart.step.clear();
         }
         lastReportEnd = end;
+        return out;
+    }
+
+    /** Each chart's state after the latest {@link #report}, for the final estimate (none for a chart not read). */
+    public List<StepCusumValue> reportedValues() {
+        return charts.stream().map(c -> c.reported).filter(Objects::nonNull).toList();
+    }
+
+    private static StepCusumValue value(Chart chart, Reading reading) {
+        return new StepCusumValue(new ChartSubject(chart.subject.term(), chart.subject.level()), chart.up.value(),
+                chart.down.value(), chart.up.value() == 0.0 ? null : Instant.ofEpochMilli(chart.upStart),
+                chart.down.value() == 0.0 ? null : Instant.ofEpochMilli(chart.downStart), chart.up.limit(),
+                reading.zone().name().toLowerCase(Locale.ROOT), reading.direction());
+    }
+
+    /**
+     * Continues one chart after a restart from the state published with the final window ending at
+     * {@code windowEnd}: both sides' values and the steps they started at. The caller re-feeds the
+     * events from before that window's end; the chart takes only those at or after it, and reads no
+     * window ending at or before it, so from the next window on it gives the uninterrupted run's
+     * values and readings. A value for no watched column, or for a chart already resumed, is ignored.
+     *
+     * @return whether a chart was resumed
+     */
+    public boolean resume(Instant windowEnd, StepCusumValue value) {
+        for (Chart chart : charts) {
+            if (chart.resumedAt == Long.MIN_VALUE && chart.subject.term().equals(value.subject().term())
+                    && Objects.equals(chart.subject.level(), value.subject().level()) && value.zone() != null) {
+                chart.up.resume(value.upper());
+                chart.down.resume(value.lower());
+                chart.upStart = value.upperStart() == null ? Long.MIN_VALUE : value.upperStart().toEpochMilli();
+                chart.downStart = value.lowerStart() == null ? Long.MIN_VALUE : value.lowerStart().toEpochMilli();
+                chart.resumedAt = windowEnd.toEpochMilli();
+                return true;
+            }
+        }
+        return false;
+    }
+
+    /**
+     * The readings the resumed charts gave at published final windows up to the one each was resumed
+     * from, in window order, with the zone and direction the entry names: the episode lifecycle
+     * replays them (publishing nothing) so its runs stand where they stood in the uninterrupted run.
+     */
+    public List<Reading> publishedReadings(NavigableMap<Instant, List<StepCusumValue>> published) {
+        List<Reading> out = new ArrayList<>();
+        for (Chart chart : charts) {
+            if (chart.resumedAt == Long.MIN_VALUE) {
+                continue;
+            }
+            for (var e : published.headMap(Instant.ofEpochMilli(chart.resumedAt), true).entrySet()) {
+                for (StepCusumValue v : e.getValue()) {
+                    if (v.zone() != null && chart.subject.term().equals(v.subject().term())
+                            && Objects.equals(chart.subject.level(), v.subject().level())) {
+                        Zone zone = Zone.valueOf(v.zone().toUpperCase(Locale.ROOT));
+                        double high = Math.max(v.upper(), v.lower());
+                        out.add(new Reading(NAME, chart.subject, zone, v.direction(), 1, clearAfter, e.getKey(),
+                                e.getKey(), null, null, v.limit(), clearFraction * v.limit(), null, 0, "",
+                                new Measurement(Measurement.ODDS_RATIO_CUSUM, high, null)));
+                    }
+                }
+            }
+        }
+        out.sort(Comparator.comparing(Reading::windowEnd));
         return out;
     }
 

@@ -16,11 +16,14 @@ import java.util.List;
  *     rules computed one; null (left out of the JSON) otherwise
  * @param cusum the CUSUM charts' values at the end of a final window, where a CUSUM rule runs; null
  *     (left out of the JSON) otherwise
+ * @param stepCusum the odds-ratio step CUSUM of each watched coefficient at the end of a final window,
+ *     where that rule runs; null (left out of the JSON) otherwise
  */
 public record WindowEstimate(String stream, Instant windowStart, Instant windowEnd, WindowStatus status, long events,
                              long cases, PrevalenceEstimate prevalence, List<StratumPrevalence> strata, FitSummary fit,
                              List<CoefficientEstimate> coefficients, CalibrationEstimate calibration,
-                             List<String> notes, List<DriftValue> drift, List<CusumValue> cusum) {
+                             List<String> notes, List<DriftValue> drift, List<CusumValue> cusum,
+                             List<StepCusumValue> stepCusum) {
 
     public WindowEstimate {
         strata = strata == null ? List.of() : List.copyOf(strata);
@@ -28,6 +31,16 @@ public record WindowEstimate(String stream, Instant windowStart, Instant windowE
         notes = notes == null ? List.of() : List.copyOf(notes);
         drift = drift == null || drift.isEmpty() ? null : List.copyOf(drift);
         cusum = cusum == null || cusum.isEmpty() ? null : List.copyOf(cusum);
+        stepCusum = stepCusum == null || stepCusum.isEmpty() ? null : List.copyOf(stepCusum);
+    }
+
+    /** An estimate with drift and Bernoulli CUSUM values but no step CUSUM. */
+    public WindowEstimate(String stream, Instant windowStart, Instant windowEnd, WindowStatus status, long events,
+                          long cases, PrevalenceEstimate prevalence, List<StratumPrevalence> strata, FitSummary fit,
+                          List<CoefficientEstimate> coefficients, CalibrationEstimate calibration, List<String> notes,
+                          List<DriftValue> drift, List<CusumValue> cusum) {
+        this(stream, windowStart, windowEnd, status, events, cases, prevalence, strata, fit, coefficients, calibration,
+                notes, drift, cusum, null);
     }
 
     /** An estimate without chart values (what the estimator itself gives). */
@@ -35,13 +48,19 @@ public record WindowEstimate(String stream, Instant windowStart, Instant windowE
                           long cases, PrevalenceEstimate prevalence, List<StratumPrevalence> strata, FitSummary fit,
                           List<CoefficientEstimate> coefficients, CalibrationEstimate calibration, List<String> notes) {
         this(stream, windowStart, windowEnd, status, events, cases, prevalence, strata, fit, coefficients, calibration,
-                notes, null, null);
+                notes, null, null, null);
+    }
+
+    /** This estimate with the given chart values and no step CUSUM (an empty or null list leaves that field out). */
+    public WindowEstimate withCharts(List<DriftValue> driftValues, List<CusumValue> cusumValues) {
+        return withCharts(driftValues, cusumValues, null);
     }
 
     /** This estimate with the given chart values (an empty or null list leaves that field out). */
-    public WindowEstimate withCharts(List<DriftValue> driftValues, List<CusumValue> cusumValues) {
+    public WindowEstimate withCharts(List<DriftValue> driftValues, List<CusumValue> cusumValues,
+                                     List<StepCusumValue> stepCusumValues) {
         return new WindowEstimate(stream, windowStart, windowEnd, status, events, cases, prevalence, strata, fit,
-                coefficients, calibration, notes, driftValues, cusumValues);
+                coefficients, calibration, notes, driftValues, cusumValues, stepCusumValues);
     }
 
     /** The coefficient of {@code term} (and {@code level}, which may be null), or null. */

@@ -15,6 +15,7 @@ import org.oddswatch.alerts.rules.CusumReading;
 import org.oddswatch.estimator.WindowEstimator;
 import org.oddswatch.estimator.calibration.BaselineModel;
 import org.oddswatch.estimator.result.CusumValue;
+import org.oddswatch.estimator.result.StepCusumValue;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.estimator.window.WindowGeometry;
 import org.oddswatch.estimator.window.WindowStore;
@@ -162,9 +163,10 @@ final class StreamBaseline {
     }
 
     /** Continues the CUSUM charts from the first window the rebuild re-reads whole (a fixed period is re-read). */
-    void resumeCharts(NavigableMap<Instant, List<CusumValue>> published, long rereadFromMillis) {
+    void resumeCharts(NavigableMap<Instant, List<CusumValue>> published,
+                      NavigableMap<Instant, List<StepCusumValue>> publishedSteps, long rereadFromMillis) {
         if (engine != null && rereadFromMillis <= Long.MAX_VALUE - geometry.widthMillis()) {
-            engine.resumeCharts(published, rereadFromMillis + geometry.widthMillis());
+            engine.resumeCharts(published, publishedSteps, rereadFromMillis + geometry.widthMillis());
         }
     }
 
