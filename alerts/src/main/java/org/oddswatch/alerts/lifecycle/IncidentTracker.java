@@ -44,6 +44,23 @@ import java.util.function.BiPredicate;
  * tracker does not know opens an incident for it, with the id and revision 1 that episode would
  * have given as first episode, so a receiver that keys on {@code id} and {@code revision} sees a
  * repeat, not a new change; a {@code cleared} message of an unknown episode gives no message.
+ *
+ * <p>Streams that leave the tracker's owner (a partition revoked or lost, when another instance takes
+ * it over) are {@linkplain #release released}: the tracker forgets their episodes, since their later
+ * messages are the new owner's to group, and sends nothing. An incident all of whose open episodes
+ * were on released streams is forgotten (not resolved: the new owner restores it and resolves it). An
+ * incident that also holds an open episode of a kept stream goes on here as a <em>part</em>: what
+ * receivers key on stays what a replay gives (its id, from its first episode, released or not; its
+ * revision, counting on; its window span), while its evidence and streams keep only the kept
+ * episodes. When released streams come back, {@link #restore} takes the read-back record as the
+ * truth for the incidents it has a newer revision of: the read-back incident replaces the one held
+ * here when its revision is higher, or equal and the held one is a part; an incident the read-back
+ * resolved at such a revision is forgotten here. Since the replay inside {@link #restore} counts the
+ * revisions from the alert messages as a replay of them does, the next message continues at the
+ * revision a replay gives, under the same id. A part can arise only where related streams are read
+ * from different partitions (an unsplit monitor reading a topic of several partitions); there each
+ * owner sends the messages of its own episodes, so two owners may send the same revision of one
+ * incident until one of them restores the other's record.
  */
 public final class IncidentTracker {
 
