@@ -197,6 +197,14 @@ class IncidentTrackerTest {
         return feed(tracker, alerts.toArray(Alert[]::new)).stream().map(Json::write).toList();
     }
 
+    /** A drift episode raised, a CUSUM episode joining, the drift clearing, then the CUSUM: four messages on the stream. */
+    private static List<Alert> twoEpisodes(String stream) {
+        return List.of(alert(stream, "odds-ratio-drift", "household_contact", AlertState.RAISED, 2, 2),
+                alert(stream, "bernoulli-cusum-up", null, AlertState.RAISED, 3, 3),
+                alert(stream, "odds-ratio-drift", "household_contact", AlertState.CLEARED, 2, 5),
+                alert(stream, "bernoulli-cusum-up", null, AlertState.CLEARED, 3, 7));
+    }
+
     /**
      * A partition handed over and back: this instance releases the stream of an open incident (and
      * sends nothing), the other owner goes on with it (an episode clears: revision 3), and when the
@@ -206,11 +214,12 @@ class IncidentTrackerTest {
      */
     @Test
     void aReleasedIncidentIsForgottenAndComesBackAtTheRevisionItsNewOwnerReached() {
-        Alert drift = alert("by-region/north", "odds-ratio-drift", "household_contact", AlertState.RAISED, 2, 2);
-        Alert cusum = alert("by-region/north", "bernoulli-cusum-up", null, AlertState.RAISED, 3, 3);
-        Alert driftCleared = alert("by-region/north", "odds-ratio-drift", "household_contact", AlertState.CLEARED, 2, 5);
-        Alert cusumCleared = alert("by-region/north", "bernoulli-cusum-up", null, AlertState.CLEARED, 3, 7);
-        List<String> whole = uninterrupted(IncidentTracker.sameStream(), List.of(drift, cusum, driftCleared, cusumCleared));
+        List<Alert> episodes = twoEpisodes("by-region/north");
+        Alert drift = episodes.get(0);
+        Alert cusum = episodes.get(1);
+        Alert driftCleared = episodes.get(2);
+        Alert cusumCleared = episodes.get(3);
+        List<String> whole = uninterrupted(IncidentTracker.sameStream(), episodes);
         assertEquals(4, whole.size(), String.join("\n", whole));
 
         IncidentTracker here = IncidentTracker.sameStream();
@@ -239,12 +248,12 @@ class IncidentTrackerTest {
      */
     @Test
     void aRestoreTakesTheReadBackAsTheTruthWhereItsRevisionIsNewer() {
-        Alert drift = alert("programme", "odds-ratio-drift", "household_contact", AlertState.RAISED, 2, 2);
-        Alert cusum = alert("programme", "bernoulli-cusum-up", null, AlertState.RAISED, 3, 3);
-        Alert driftCleared = alert("programme", "odds-ratio-drift", "household_contact", AlertState.CLEARED, 2, 5);
-        Alert cusumCleared = alert("programme", "bernoulli-cusum-up", null, AlertState.CLEARED, 3, 7);
+        List<Alert> all = new ArrayList<>(twoEpisodes("programme"));
+        Alert drift = all.get(0);
+        Alert cusum = all.get(1);
+        Alert driftCleared = all.get(2);
         Alert later = alert("programme", "calibration", null, AlertState.RAISED, 12, 12);
-        List<Alert> all = List.of(drift, cusum, driftCleared, cusumCleared, later);
+        all.add(later);
         List<Incident> messages = feed(IncidentTracker.sameStream(), all.toArray(Alert[]::new));
         assertEquals(List.of(1, 2, 3, 4, 1), messages.stream().map(Incident::revision).toList());
         List<String> whole = messages.stream().map(Json::write).toList();
