@@ -117,7 +117,8 @@ public final class IncidentTracker {
      *   <li>an incident this tracker holds under the same id is replaced by the replay's when the
      *       replay's revision is higher (another owner went on with it), or equal and the held one is
      *       a part left by {@link #release}; it is forgotten when the replay resolved it at such a
-     *       revision. Otherwise the held one stays (it is as new or newer);</li>
+     *       revision. Otherwise the held one stays (it is as new or newer), and so it does when
+     *       another incident held here has one of the replay's episodes;</li>
      *   <li>an incident still open in the replay that this tracker does not hold (by id, nor by any
      *       of its episodes) is taken over with its episodes, window span and revision.</li>
      * </ul>
@@ -150,18 +151,20 @@ public final class IncidentTracker {
         List<Incident> changed = new ArrayList<>();
         for (Incident read : last.values()) {
             OpenIncident held = open.stream().filter(o -> o.id.equals(read.id())).findFirst().orElse(null);
-            if (held != null) {
-                if (read.revision() < held.revision || read.revision() == held.revision && !held.part) {
-                    continue;
-                }
-                forget(held);
-                if (read.change() == IncidentChange.RESOLVED) {
-                    changed.add(read);
-                    continue;
-                }
-            }
             OpenIncident incident = replayOpen.get(read.id());
-            if (incident != null && incident.episodes.keySet().stream().noneMatch(byEpisode::containsKey)) {
+            boolean newer = held == null
+                    || read.revision() > held.revision || read.revision() == held.revision && held.part;
+            boolean free = incident == null || incident.episodes.keySet().stream()
+                    .allMatch(episode -> byEpisode.getOrDefault(episode, held) == held);
+            if (!newer || !free || held == null && incident == null) {
+                continue;
+            }
+            if (held != null) {
+                forget(held);
+            }
+            if (incident == null) {
+                changed.add(read);
+            } else {
                 open.add(incident);
                 incident.episodes.keySet().forEach(episode -> byEpisode.put(episode, incident));
                 changed.add(incident.latest);
