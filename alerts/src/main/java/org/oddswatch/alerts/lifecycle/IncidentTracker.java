@@ -2,12 +2,15 @@ package org.oddswatch.alerts.lifecycle;
 
 import java.time.Instant;
 import java.util.ArrayList;
+import java.util.Collection;
 import java.util.Comparator;
 import java.util.HashMap;
+import java.util.Iterator;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
 import java.util.Optional;
+import java.util.Set;
 import java.util.function.BiPredicate;
 
 /**
@@ -41,6 +44,23 @@ import java.util.function.BiPredicate;
  * tracker does not know opens an incident for it, with the id and revision 1 that episode would
  * have given as first episode, so a receiver that keys on {@code id} and {@code revision} sees a
  * repeat, not a new change; a {@code cleared} message of an unknown episode gives no message.
+ *
+ * <p>Streams that leave the tracker's owner (a partition revoked or lost, when another instance takes
+ * it over) are {@linkplain #release released}: the tracker forgets their episodes, since their later
+ * messages are the new owner's to group, and sends nothing. An incident all of whose open episodes
+ * were on released streams is forgotten (not resolved: the new owner restores it and resolves it). An
+ * incident that also holds an open episode of a kept stream goes on here as a <em>part</em>: what
+ * receivers key on stays what a replay gives (its id, from its first episode, released or not; its
+ * revision, counting on; its window span), while its evidence and streams keep only the kept
+ * episodes. When released streams come back, {@link #restore} takes the read-back record as the
+ * truth for the incidents it has a newer revision of: the read-back incident replaces the one held
+ * here when its revision is higher, or equal and the held one is a part; an incident the read-back
+ * resolved at such a revision is forgotten here. Since the replay inside {@link #restore} counts the
+ * revisions from the alert messages as a replay of them does, the next message continues at the
+ * revision a replay gives, under the same id. A part can arise only where related streams are read
+ * from different partitions (an unsplit monitor reading a topic of several partitions); there each
+ * owner sends the messages of its own episodes, so two owners may send the same revision of one
+ * incident until one of them restores the other's record.
  */
 public final class IncidentTracker {
 
@@ -84,50 +104,109 @@ public final class IncidentTracker {
         if (incident.openEpisodes() > 0) {
             return Optional.of(incident.message(IncidentChange.UPDATED, alert));
         }
-        open.remove(incident);
-        incident.episodes.keySet().forEach(byEpisode::remove);
+        forget(incident);
         return Optional.of(incident.message(IncidentChange.RESOLVED, alert));
     }
 
     /**
-     * Continues the incidents of alert messages published before a restart, without sending any
-     * message: the messages are replayed, in window order (their order in {@code published} among
-     * equal window ends, as on the alerts topic), through a tracker of the same relation, and each
-     * incident still open at the end that this tracker does not hold yet (by id, and by episode) is
-     * taken over with its episodes, window span and revision. Incidents this tracker already holds
-     * stay as they are (they are newer), so calling it again with the same or an overlapping record
-     * (each partition of a topic restores its monitors' alerts) changes nothing. Deterministic: the
-     * same record gives the same incidents.
+     * Continues the incidents of alert messages published before a restart or a hand-over, without
+     * sending any message: the messages are replayed, in window order (their order in
+     * {@code published} among equal window ends, as on the alerts topic), through a tracker of the
+     * same relation. Then, in the order the replay's incidents opened:
+     * <ul>
+     *   <li>an incident this tracker holds under the same id is replaced by the replay's when the
+     *       replay's revision is higher (another owner went on with it), or equal and the held one is
+     *       a part left by {@link #release}; it is forgotten when the replay resolved it at such a
+     *       revision. Otherwise the held one stays (it is as new or newer), and so it does when
+     *       another incident held here has one of the replay's episodes;</li>
+     *   <li>an incident still open in the replay that this tracker does not hold (by id, nor by any
+     *       of its episodes) is taken over with its episodes, window span and revision.</li>
+     * </ul>
+     * Calling it again with the same or an overlapping record (each partition of a topic restores
+     * its monitors' alerts) changes nothing. Deterministic: the same record gives the same incidents.
      *
      * @param published alert messages read back from the alerts topics, in the order read
-     * @return the incidents taken over
+     * @return the incidents taken over, replaced or forgotten
      */
     public int restore(List<Alert> published) {
         return restoreLatest(published).size();
     }
 
     /**
-     * {@link #restore}, giving the latest message of each incident taken over: the message of its
-     * last change in the replay, which is the one published before the restart when the record is
-     * complete (the same messages in the same order give the same incidents).
+     * {@link #restore}, giving the latest message of each incident it took over, replaced or forgot:
+     * the message of its last change in the replay ({@code resolved} for one forgotten), which is the
+     * one published last when the record is complete (the same messages in the same order give the
+     * same incidents).
      *
      * @param published alert messages read back from the alerts topics, in the order read
-     * @return one message per incident taken over, in the order the incidents opened
+     * @return one message per incident taken over, replaced or forgotten, in the order the incidents opened
      */
     public List<Incident> restoreLatest(List<Alert> published) {
         IncidentTracker replay = new IncidentTracker(related);
-        published.stream().sorted(Comparator.comparing(Alert::windowEnd)).forEach(replay::accept);
-        List<Incident> taken = new ArrayList<>();
-        for (OpenIncident incident : replay.open) {
-            boolean known = open.stream().anyMatch(o -> o.id.equals(incident.id))
-                    || incident.episodes.keySet().stream().anyMatch(byEpisode::containsKey);
-            if (!known) {
+        Map<String, Incident> last = new LinkedHashMap<>();
+        published.stream().sorted(Comparator.comparing(Alert::windowEnd))
+                .forEach(alert -> replay.accept(alert).ifPresent(incident -> last.put(incident.id(), incident)));
+        Map<String, OpenIncident> replayOpen = new HashMap<>();
+        replay.open.forEach(incident -> replayOpen.put(incident.id, incident));
+        List<Incident> changed = new ArrayList<>();
+        for (Incident read : last.values()) {
+            OpenIncident held = open.stream().filter(o -> o.id.equals(read.id())).findFirst().orElse(null);
+            OpenIncident incident = replayOpen.get(read.id());
+            boolean newer = held == null
+                    || read.revision() > held.revision || read.revision() == held.revision && held.part;
+            boolean free = incident == null || incident.episodes.keySet().stream()
+                    .allMatch(episode -> byEpisode.getOrDefault(episode, held) == held);
+            if (!newer || !free || held == null && incident == null) {
+                continue;
+            }
+            if (held != null) {
+                forget(held);
+            }
+            if (incident == null) {
+                changed.add(read);
+            } else {
                 open.add(incident);
                 incident.episodes.keySet().forEach(episode -> byEpisode.put(episode, incident));
-                taken.add(incident.latest);
+                changed.add(incident.latest);
             }
         }
-        return taken;
+        return changed;
+    }
+
+    /**
+     * Forgets the episodes of streams that left this tracker's owner, sending no message: an incident
+     * all of whose open episodes were on them is forgotten (not resolved); one with an open episode
+     * on a kept stream goes on as a part, with the kept episodes only (see the class description).
+     *
+     * @param streams the streams released (a partition revoked or lost); unknown ones are ignored
+     * @return the incidents forgotten
+     */
+    public int release(Collection<String> streams) {
+        Set<String> gone = Set.copyOf(streams);
+        int forgotten = 0;
+        for (OpenIncident incident : List.copyOf(open)) {
+            boolean cut = false;
+            for (Iterator<IncidentEvidence> it = incident.episodes.values().iterator(); it.hasNext(); ) {
+                IncidentEvidence episode = it.next();
+                if (gone.contains(episode.stream())) {
+                    it.remove();
+                    byEpisode.remove(episode.episode());
+                    cut = true;
+                }
+            }
+            if (incident.openEpisodes() == 0) {
+                forget(incident);
+                forgotten++;
+            } else if (cut) {
+                incident.part = true;
+            }
+        }
+        return forgotten;
+    }
+
+    private void forget(OpenIncident incident) {
+        open.remove(incident);
+        incident.episodes.keySet().forEach(byEpisode::remove);
     }
 
     /** Incidents with at least one open episode. */
@@ -154,6 +233,8 @@ public final class IncidentTracker {
         Instant from;
         Instant to;
         int revision;
+        /** True when {@link #release} took some of its episodes away. */
+        boolean part;
         /** The message of the latest change. */
         Incident latest;
 

@@ -176,10 +176,15 @@ public final class LiveHistory implements OutputSink {
                 openAlerts, OPEN_ALERTS);
     }
 
-    /** The latest message of an incident open before a restart, kept as its open message (not as a recent one). */
+    /**
+     * The latest message of an incident read back after a restart or a hand-over, kept as its open
+     * message (not as a recent one); a resolved one (another instance resolved it meanwhile) closes it.
+     */
     @Override
     public synchronized void restoredIncident(Incident incident, Published published) {
-        if (incident.change() != IncidentChange.RESOLVED) {
+        if (incident.change() == IncidentChange.RESOLVED) {
+            openIncidents.remove(incident.id());
+        } else {
             restoreOpen(incident.id(), new Kept(incident.streams().get(0), published.monitor(), incident.to(),
                     published.json()), openIncidents, OPEN_INCIDENTS);
         }

@@ -61,8 +61,9 @@ public interface OutputSink extends AutoCloseable {
     }
 
     /**
-     * The latest message of an incident still open after a restart, as the incident tracker
-     * restored it. Not published again.
+     * The latest message of an incident as the incident tracker restored it after a restart or a
+     * hand-over: still open, or {@code resolved} when the record read back ended one it held. Not
+     * published again.
      */
     default void restoredIncident(Incident incident, Published published) {
     }

@@ -13,6 +13,7 @@ import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.lifecycle.AlertState;
 import org.oddswatch.alerts.lifecycle.Incident;
+import org.oddswatch.alerts.lifecycle.IncidentChange;
 import org.oddswatch.alerts.lifecycle.IncidentTracker;
 import org.oddswatch.alerts.output.Published;
 import org.oddswatch.estimator.result.WindowEstimate;
@@ -139,5 +140,27 @@ class LiveHistoryRestoreTest {
         assertEquals(List.of("m/north", "m/south"), firstStreams, "only the incident all on released streams leaves");
         assertEquals(1, history.finals("m/east", 10).size(), "its estimates stay");
         assertEquals(4, history.recentAlerts(10).size(), "recent messages stay");
+    }
+
+    /**
+     * An incident the page lists as open that another instance resolved meanwhile: the resolution
+     * the tracker reads back when the stream comes here closes it (not a recent message, as nothing
+     * was sent here).
+     */
+    @Test
+    void aResolutionReadBackClosesTheOpenIncident() {
+        IncidentTracker tracker = IncidentTracker.sameStream();
+        LiveHistory history = new LiveHistory();
+        Alert raised = LiveHistoryTest.alert("b", "e3", AlertState.RAISED, 4, 2010);
+        Alert other = LiveHistoryTest.alert("a", "e1", AlertState.RAISED, 4, 2010);
+        tracker.restoreLatest(List.of(raised, other))
+                .forEach(i -> history.restoredIncident(i, new Published("respiratory", i.id(), Json.write(i))));
+        assertEquals(List.of("b", "a"), history.openIncidents().stream().map(LiveHistory.Kept::stream).toList());
+        List<Incident> ended = tracker.restoreLatest(List.of(raised, other,
+                LiveHistoryTest.alert("b", "e3", AlertState.CLEARED, 6, 2010)));
+        assertEquals(List.of(IncidentChange.RESOLVED), ended.stream().map(Incident::change).toList());
+        ended.forEach(i -> history.restoredIncident(i, new Published("respiratory", i.id(), Json.write(i))));
+        assertEquals(List.of("a"), history.openIncidents().stream().map(LiveHistory.Kept::stream).toList());
+        assertEquals(List.of(), history.recentIncidents(10));
     }
 }

@@ -100,8 +100,9 @@ public final class OutputStage implements PipelineListener {
     }
 
     /**
-     * After a restart: the incidents open before it go on ({@link IncidentTracker#restoreLatest}), and
-     * the latest message of each taken over goes to the sinks' {@link OutputSink#restoredIncident}.
+     * After a restart or a hand-over: the incidents open before it go on, the read-back taken as the
+     * truth where it is newer ({@link IncidentTracker#restoreLatest}), and the latest message of each
+     * taken over, replaced or ended goes to the sinks' {@link OutputSink#restoredIncident}.
      */
     @Override
     public void onAlertsRestored(List<Alert> published) {
@@ -129,9 +130,13 @@ public final class OutputStage implements PipelineListener {
         sinks.get(monitor.name()).forEach(sink -> sink.restoredEstimate(estimate, published));
     }
 
-    /** Streams that left this instance: every sink hears of it once ({@link OutputSink#released}). */
+    /**
+     * Streams that left this instance: the incident grouping forgets their episodes
+     * ({@link IncidentTracker#release}) and every sink hears of it once ({@link OutputSink#released}).
+     */
     @Override
     public void onStreamsReleased(List<String> streams) {
+        incidents.release(streams);
         sinks.values().stream().flatMap(List::stream).distinct().forEach(sink -> sink.released(streams));
     }
 

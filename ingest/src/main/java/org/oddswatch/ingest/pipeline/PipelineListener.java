@@ -63,7 +63,7 @@ public interface PipelineListener {
     default void onEstimateRestored(WindowEstimate estimate, String publishedJson) {
     }
 
-    /** These streams left the pipeline's owner (its partition was revoked or lost): forget their meters. */
+    /** These streams left the pipeline's owner (its partition was revoked or lost): forget their meters and open items. */
     default void onStreamsReleased(List<String> streams) {
     }
 }
