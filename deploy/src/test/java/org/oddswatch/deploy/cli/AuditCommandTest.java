@@ -22,7 +22,7 @@ import org.oddswatch.broker.EmbeddedBrokerExtension;
 import org.oddswatch.deploy.audit.AuditSummary;
 
 /**
- * {@code audit} against a real replay: 20 simulated weeks at 1,000 events a week through the example
+ * {@code audit} against a real replay: 20 simulated weeks at 2,000 events a week through the example
  * definition raise at least three alert messages after the week-16 change. A recorded file equal to
  * the replay's alerts.jsonl but with one message removed, one added and one changed is reported
  * exactly so; the identical file, and the same messages on a topic, agree.
@@ -43,7 +43,7 @@ class AuditCommandTest {
     @BeforeAll
     static void replayASimulatedSpanThatRaisesAlerts() throws IOException {
         Path events = dir.resolve("events.jsonl");
-        assertEquals(0, CommandLineTest.run("simulate", "--rate", "1000", "--duration", "20w", "--out",
+        assertEquals(0, CommandLineTest.run("simulate", "--rate", "2000", "--duration", "20w", "--out",
                 events.toString()).status());
         replay = dir.resolve("replay");
         CommandLineTest.Result r = CommandLineTest.run("replay", "--config", EXAMPLE.toString(), "--input",
