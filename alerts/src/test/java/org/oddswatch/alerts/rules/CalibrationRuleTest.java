@@ -96,11 +96,9 @@ class CalibrationRuleTest {
     void hosmerLemeshowOfAFrozenModelUsesGDegreesOfFreedom() {
         // Source: chi-square tail probabilities, R 4.x pchisq(27, 8, lower.tail = FALSE) = 0.000707 and
         // pchisq(27, 10, lower.tail = FALSE) = 0.002604; pchisq(31, 10, lower.tail = FALSE) = 0.000587.
-        CalibrationEstimate at27 = new CalibrationEstimate(2000, 100, 100.0, 1.0, 0.9, 1.1, 0.0, 0.1, 1.0, 0.1, 27.0, 10,
-                0.000707, 0.04, 0.7);
+        CalibrationEstimate at27 = hl(27.0);
         assertEquals(0.002604, CalibrationRule.externalP(at27, 0), 1e-6);
-        CalibrationEstimate at31 = new CalibrationEstimate(2000, 100, 100.0, 1.0, 0.9, 1.1, 0.0, 0.1, 1.0, 0.1, 31.0, 10,
-                0.0001, 0.04, 0.7);
+        CalibrationEstimate at31 = hl(31.0);
         assertEquals(0.000587, CalibrationRule.externalP(at31, 0), 1e-6);
         // without the statistic the estimate's own p-value is used
         CalibrationEstimate noStat = new CalibrationEstimate(2000, 100, 100.0, 1.0, 0.9, 1.1, 0.0, 0.1, 1.0, 0.1, null,
@@ -114,11 +112,9 @@ class CalibrationRuleTest {
         // pchisq(31 / (1 + 2000 / 24000), 10, lower.tail = FALSE) = 0.001437702 and
         // qchisq(1 - 1e-4, 10) * (1 + 2000 / 24000) = 38.52768 (the statistic at which a window of 2,000
         // events against the fixture's baseline of 24,000 reaches p = 1e-4).
-        CalibrationEstimate at27 = new CalibrationEstimate(2000, 100, 100.0, 1.0, 0.9, 1.1, 0.0, 0.1, 1.0, 0.1, 27.0, 10,
-                0.000707, 0.04, 0.7);
+        CalibrationEstimate at27 = hl(27.0);
         assertEquals(0.005493234, CalibrationRule.externalP(at27, 24000), 1e-8);
-        CalibrationEstimate at31 = new CalibrationEstimate(2000, 100, 100.0, 1.0, 0.9, 1.1, 0.0, 0.1, 1.0, 0.1, 31.0, 10,
-                0.0001, 0.04, 0.7);
+        CalibrationEstimate at31 = hl(31.0);
         assertEquals(0.001437702, CalibrationRule.externalP(at31, 24000), 1e-8);
         // through the engine (baseline of 24,000 events, default limit 1e-4): raised just above the
         // divided critical value, not just below it; without the divisor both would raise
@@ -132,6 +128,7 @@ class CalibrationRuleTest {
         assertEquals("-", state(e31, w(0, at31)));
     }
 
+    /** A calibration over 10 groups with this Hosmer–Lemeshow statistic, 2,000 events, fine otherwise. */
     private static CalibrationEstimate hl(double statistic) {
         return new CalibrationEstimate(2000, 100, 100.0, 1.0, 0.9, 1.1, 0.0, 0.1, 1.0, 0.1, statistic, 10, 0.5, 0.04, 0.7);
     }
