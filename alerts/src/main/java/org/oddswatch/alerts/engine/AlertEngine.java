@@ -8,6 +8,8 @@ import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
 import java.util.NavigableMap;
+import java.util.TreeMap;
+import java.util.function.Function;
 import org.oddswatch.alerts.gaps.GapReason;
 import org.oddswatch.alerts.gaps.MonitoringGap;
 import org.oddswatch.alerts.lifecycle.Alert;
@@ -34,8 +36,8 @@ import org.oddswatch.alerts.rules.Zone;
 import org.oddswatch.estimator.calibration.BaselineModel;
 import org.oddswatch.estimator.result.ChartSubject;
 import org.oddswatch.estimator.result.CusumValue;
-import org.oddswatch.estimator.result.StepCusumValue;
 import org.oddswatch.estimator.result.DriftValue;
+import org.oddswatch.estimator.result.StepCusumValue;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.estimator.result.WindowStatus;
 import org.oddswatch.estimator.window.WindowGeometry;
@@ -320,38 +322,39 @@ public final class AlertEngine {
     }
 
     /**
-     * Continues the CUSUM charts after a restart from the values published with this stream's final
-     * windows (read back from the estimates topic): each chart from the earliest window ending at or
-     * after {@code notBeforeMillis} whose entry for it is complete ({@link BernoulliCusumRule#resume},
+     * Continues the CUSUM charts after a restart from the chart state published with this stream's
+     * final estimates (read back from the estimates topic: {@code cusum} for the Bernoulli charts,
+     * {@code stepCusum} for the odds-ratio step charts): each chart from the earliest window ending at
+     * or after {@code notBeforeMillis} whose entry for it is complete ({@link BernoulliCusumRule#resume},
      * {@link OddsRatioCusumRule#resume}). The caller re-feeds every event at or after
      * {@code notBeforeMillis}; the charts then give the uninterrupted run's values, readings and
      * messages for every window after the one they resumed from. Call before any event. A chart
      * without such an entry starts at 0 with the events re-fed, as before.
      *
-     * @param published this stream's published Bernoulli CUSUM values by final window end
-     * @param publishedSteps this stream's published step CUSUM values by final window end
+     * @param published this stream's published final estimates by window end (their chart values are read)
      * @return the charts resumed
      */
-    public int resumeCharts(NavigableMap<Instant, List<CusumValue>> published,
-                            NavigableMap<Instant, List<StepCusumValue>> publishedSteps, long notBeforeMillis) {
+    public int resumeCharts(NavigableMap<Instant, WindowEstimate> published, long notBeforeMillis) {
         int resumed = 0;
         List<Reading> readings = new ArrayList<>();
-        Instant notBefore = Instant.ofEpochMilli(notBeforeMillis);
+        NavigableMap<Instant, WindowEstimate> candidates = published.tailMap(Instant.ofEpochMilli(notBeforeMillis), true);
         if (cusum != null) {
-            for (Map.Entry<Instant, List<CusumValue>> e : published.tailMap(notBefore, true).entrySet()) {
+            NavigableMap<Instant, List<CusumValue>> values = charts(published, WindowEstimate::cusum);
+            for (Map.Entry<Instant, List<CusumValue>> e : charts(candidates, WindowEstimate::cusum).entrySet()) {
                 for (CusumValue value : e.getValue()) {
                     resumed += cusum.resume(e.getKey(), value) ? 1 : 0;
                 }
             }
-            readings.addAll(cusum.publishedReadings(published));
+            readings.addAll(cusum.publishedReadings(values));
         }
         if (scoreCusum != null) {
-            for (Map.Entry<Instant, List<StepCusumValue>> e : publishedSteps.tailMap(notBefore, true).entrySet()) {
+            NavigableMap<Instant, List<StepCusumValue>> values = charts(published, WindowEstimate::stepCusum);
+            for (Map.Entry<Instant, List<StepCusumValue>> e : charts(candidates, WindowEstimate::stepCusum).entrySet()) {
                 for (StepCusumValue value : e.getValue()) {
                     resumed += scoreCusum.resume(e.getKey(), value) ? 1 : 0;
                 }
             }
-            readings.addAll(scoreCusum.publishedReadings(publishedSteps));
+            readings.addAll(scoreCusum.publishedReadings(values));
         }
         // the windows a resumed chart will not read again: their readings after the newest message
         // restored bring the episode runs to where they stood (they publish nothing: any message they
@@ -364,6 +367,18 @@ public final class AlertEngine {
             }
         }
         return resumed;
+    }
+
+    /** One kind of chart value of the estimates, by window end (windows without it left out). */
+    private static <T> NavigableMap<Instant, List<T>> charts(NavigableMap<Instant, WindowEstimate> estimates,
+                                                             Function<WindowEstimate, List<T>> kind) {
+        NavigableMap<Instant, List<T>> out = new TreeMap<>();
+        estimates.forEach((end, e) -> {
+            if (kind.apply(e) != null) {
+                out.put(end, kind.apply(e));
+            }
+        });
+        return out;
     }
 
     private void publishable(Reading reading, List<Alert> out) {

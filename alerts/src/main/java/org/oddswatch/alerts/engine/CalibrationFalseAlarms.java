@@ -72,39 +72,61 @@ final class CalibrationFalseAlarms {
         if (!(windowCases > 0) || !Double.isFinite(windowCases)) {
             return out;
         }
-        double q = errorQuantile(confidence);
-        double sw = 1 / Math.sqrt(windowCases);
-        double sb = 1 / Math.sqrt(baseline.cases());
-        double s = Math.hypot(sw, sb);
-        double oeMax = Math.log(settings.observedExpectedBand().max()) + OE_INTERVAL_Z * sw;
-        double oeMin = Math.log(settings.observedExpectedBand().min()) - OE_INTERVAL_Z * sw;
-        out.add(new Term("O/E above", Math.max(upper(oeMax / s), upper((oeMax - q * sb) / sw))));
-        out.add(new Term("O/E below", Math.max(lower(oeMin / s), lower((oeMin + q * sb) / sw))));
-        double slopeInformation = slopeInformation(baseline);
-        if (slopeInformation > 0 && Double.isFinite(slopeInformation)) {
-            double tw = 1 / Math.sqrt(slopeInformation * windowShare);
-            double tb = 1 / Math.sqrt(slopeInformation);
-            double t = Math.hypot(tw, tb);
-            double slopeMax = settings.slopeBand().max() - 1 + settings.slopeZ() * tw;
-            double slopeMin = settings.slopeBand().min() - 1 - settings.slopeZ() * tw;
-            out.add(new Term("slope above", Math.max(upper(slopeMax / t), upper((slopeMax - q * tb) / tw))));
-            out.add(new Term("slope below", Math.max(lower(slopeMin / t), lower((slopeMin + q * tb) / tw))));
+        Spread oe = Spread.observedExpected(baseline, windowShare, confidence);
+        double oeMax = Math.log(settings.observedExpectedBand().max()) + OE_INTERVAL_Z * oe.window();
+        double oeMin = Math.log(settings.observedExpectedBand().min()) - OE_INTERVAL_Z * oe.window();
+        out.add(new Term("O/E above", oe.above(oeMax)));
+        out.add(new Term("O/E below", oe.below(oeMin)));
+        Spread slope = Spread.slope(baseline, windowShare, confidence);
+        if (slope != null) {
+            out.add(new Term("slope above", slope.above(settings.slopeBand().max() - 1 + settings.slopeZ() * slope.window())));
+            out.add(new Term("slope below", slope.below(settings.slopeBand().min() - 1 - settings.slopeZ() * slope.window())));
         }
         out.add(new Term("Hosmer-Lemeshow", settings.hosmerLemeshowP()));
         return out;
     }
 
-    /** {@code Φ⁻¹(1 − α/2)} for the budget's confidence {@code 1 − α}. */
-    private static double errorQuantile(double confidence) {
-        return STANDARD.inverseCumulativeProbability(1 - (1 - confidence) / 2);
-    }
+    /**
+     * One band test's standard errors: the window's {@code w} ({@code s_w} or {@code t_w}), the
+     * baseline's {@code b} ({@code s_b} or {@code t_b}), and the error quantile {@code q}.
+     */
+    private record Spread(double window, double baseline, double q) {
 
-    private static double upper(double z) {
-        return STANDARD.cumulativeProbability(-z);
-    }
+        /** The log O/E's; {@code q = Φ⁻¹(1 − α/2)} for the budget's confidence {@code 1 − α}. */
+        static Spread observedExpected(BaselineModel model, double windowShare, double confidence) {
+            return new Spread(1 / Math.sqrt(model.cases() * windowShare), 1 / Math.sqrt(model.cases()),
+                    STANDARD.inverseCumulativeProbability(1 - (1 - confidence) / 2));
+        }
 
-    private static double lower(double z) {
-        return STANDARD.cumulativeProbability(z);
+        /** The calibration slope's, or null when the baseline gives no slope information. */
+        static Spread slope(BaselineModel model, double windowShare, double confidence) {
+            double information = slopeInformation(model);
+            return information > 0 && Double.isFinite(information)
+                    ? new Spread(1 / Math.sqrt(information * windowShare), 1 / Math.sqrt(information),
+                            STANDARD.inverseCumulativeProbability(1 - (1 - confidence) / 2))
+                    : null;
+        }
+
+        double both() {
+            return Math.hypot(window, baseline);
+        }
+
+        /** P(a test signals above the band), {@code d} the band end's distance beyond the interval end. */
+        double above(double d) {
+            return Math.max(STANDARD.cumulativeProbability(-d / both()),
+                    STANDARD.cumulativeProbability(-(d - q * baseline) / window));
+        }
+
+        /** P(a test signals below the band), {@code d} (negative) as for {@link #above}. */
+        double below(double d) {
+            return Math.max(STANDARD.cumulativeProbability(d / both()),
+                    STANDARD.cumulativeProbability((d + q * baseline) / window));
+        }
+
+        /** The half-width {@code max(both·z_e, window·z_e + q·baseline)} that keeps a test at {@code Φ(−z_e)}. */
+        double halfWidth(double ze) {
+            return Math.max(both() * ze, window * ze + q * baseline);
+        }
     }
 
     /**
@@ -135,10 +157,10 @@ final class CalibrationFalseAlarms {
         }
         AlertRulesConfig.Band oe = settings.observedExpected();
         AlertRulesConfig.Band slope = settings.slope();
-        double slopeInformation = slopeInformation(baseline);
-        boolean slopeKnown = slopeInformation > 0 && Double.isFinite(slopeInformation);
+        Spread oeSpread = Spread.observedExpected(baseline, windowShare, confidence);
+        Spread slopeSpread = Spread.slope(baseline, windowShare, confidence);
         int leftOut = (oe.min() == null ? 1 : 0) + (oe.max() == null ? 1 : 0)
-                + (slopeKnown ? (slope.min() == null ? 1 : 0) + (slope.max() == null ? 1 : 0) : 0);
+                + (slopeSpread != null ? (slope.min() == null ? 1 : 0) + (slope.max() == null ? 1 : 0) : 0);
         // what the explicit parts cost: perStep of the settings with the left-out ends at "never"
         AlertRulesConfig.Calibration explicitOnly = settings.withBands(new AlertRulesConfig.Band(1e-9, 1e9),
                 new AlertRulesConfig.Band(-1e9, 1e9));
@@ -146,19 +168,12 @@ final class CalibrationFalseAlarms {
                 .mapToDouble(Term::perStep).sum();
         double each = leftOut == 0 ? 0 : Math.max(perStepBudget - explicitCost, 0.1 * perStepBudget) / leftOut;
         double ze = leftOut == 0 ? 0 : STANDARD.inverseCumulativeProbability(1 - each);
-        double q = errorQuantile(confidence);
-        double sw = 1 / Math.sqrt(windowCases);
-        double sb = 1 / Math.sqrt(baseline.cases());
-        double s = Math.hypot(sw, sb);
-        double logOe = Math.max(0.01, Math.max(s * ze, sw * ze + q * sb) - OE_INTERVAL_Z * sw);
+        double logOe = Math.max(0.01, oeSpread.halfWidth(ze) - OE_INTERVAL_Z * oeSpread.window());
         AlertRulesConfig.Band oeBand = new AlertRulesConfig.Band(Math.exp(-logOe), Math.exp(logOe));
         AlertRulesConfig.Band slopeBand = new AlertRulesConfig.Band(AlertRulesConfig.SLOPE_FALLBACK_MIN,
                 AlertRulesConfig.SLOPE_FALLBACK_MAX);
-        if (slopeKnown) {
-            double tw = 1 / Math.sqrt(slopeInformation * windowShare);
-            double tb = 1 / Math.sqrt(slopeInformation);
-            double t = Math.hypot(tw, tb);
-            double half = Math.max(0.01, Math.max(t * ze, tw * ze + q * tb) - settings.slopeZ() * tw);
+        if (slopeSpread != null) {
+            double half = Math.max(0.01, slopeSpread.halfWidth(ze) - settings.slopeZ() * slopeSpread.window());
             slopeBand = new AlertRulesConfig.Band(1 - half, 1 + half);
         }
         return settings.withBands(oeBand, slopeBand);

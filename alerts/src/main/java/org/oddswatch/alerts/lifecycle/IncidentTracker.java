@@ -162,13 +162,11 @@ public final class IncidentTracker {
             if (held != null) {
                 forget(held);
             }
-            if (incident == null) {
-                changed.add(read);
-            } else {
+            if (incident != null) {
                 open.add(incident);
                 incident.episodes.keySet().forEach(episode -> byEpisode.put(episode, incident));
-                changed.add(incident.latest);
             }
+            changed.add(read);
         }
         return changed;
     }
@@ -235,8 +233,6 @@ public final class IncidentTracker {
         int revision;
         /** True when {@link #release} took some of its episodes away. */
         boolean part;
-        /** The message of the latest change. */
-        Incident latest;
 
         OpenIncident(String id, String replayCommand) {
             this.id = id;
@@ -259,10 +255,9 @@ public final class IncidentTracker {
             List<IncidentEvidence> evidence = List.copyOf(episodes.values());
             String reason = cause.state() + " " + cause.rule() + " (" + cause.subject().label() + ") on "
                     + cause.stream() + ", episode " + cause.id();
-            latest = new Incident(id, revision, change, streams, from, to, openEpisodes(), reason, evidence,
+            return new Incident(id, revision, change, streams, from, to, openEpisodes(), reason, evidence,
                     IncidentText.compose(id, change, streams, from, to, evidence, reason, replayCommand),
                     replayCommand);
-            return latest;
         }
     }
 }

@@ -45,17 +45,22 @@ public final class RecentFinals {
      */
     public boolean add(byte[] value) {
         WindowEstimate e = parse(value);
-        if (e == null) {
-            return false;
+        if (e != null) {
+            add(e, value);
         }
+        return e != null;
+    }
+
+    /** Adds one estimate already read from {@code value} (its record value, kept as the text published). */
+    public void add(WindowEstimate e, byte[] value) {
         if (e.status() != WindowStatus.FINAL || !wanted.test(e.stream())) {
-            return true;
+            return;
         }
         TreeMap<Instant, String> windows = byStream.get(e.stream());
         if (windows == null) {
             if (byStream.size() >= LiveHistory.STREAMS) {
                 passedOver++;
-                return true;
+                return;
             }
             windows = new TreeMap<>();
             byStream.put(e.stream(), windows);
@@ -64,7 +69,6 @@ public final class RecentFinals {
         if (windows.size() > LiveHistory.WINDOWS) {
             windows.pollFirstEntry();
         }
-        return true;
     }
 
     /** The kept final estimates of {@code stream}, oldest window first (empty when none). */
@@ -80,8 +84,11 @@ public final class RecentFinals {
         return passedOver;
     }
 
-    /** The estimate, or null when {@code value} is not one (no stream or no window end). */
-    private static WindowEstimate parse(byte[] value) {
+    /**
+     * A record value of an estimates topic read as an estimate (every read-back of estimates uses
+     * this), or null when it is not one (not JSON, or no stream or no window end).
+     */
+    public static WindowEstimate parse(byte[] value) {
         try {
             WindowEstimate e = Json.mapper().readValue(value, WindowEstimate.class);
             return e == null || e.stream() == null || e.windowEnd() == null ? null : e;

@@ -2,7 +2,6 @@ package org.oddswatch.alerts.rules;
 
 import java.time.Instant;
 import java.util.ArrayList;
-import java.util.Comparator;
 import java.util.List;
 import java.util.Locale;
 import java.util.NavigableMap;
@@ -73,6 +72,11 @@ public final class OddsRatioCusumRule {
         long resumedAt = Long.MIN_VALUE;
         final StepScore step = new StepScore();
         StepCusumValue reported;
+
+        /** Whether a published value is this chart's (same watched term and level). */
+        boolean matches(StepCusumValue value) {
+            return subject.term().equals(value.subject().term()) && Objects.equals(subject.level(), value.subject().level());
+        }
 
         Chart(Column column, int index, ChartSettings settings) {
             this.column = column;
@@ -190,8 +194,7 @@ public final class OddsRatioCusumRule {
      */
     public boolean resume(Instant windowEnd, StepCusumValue value) {
         for (Chart chart : charts) {
-            if (chart.resumedAt == Long.MIN_VALUE && chart.subject.term().equals(value.subject().term())
-                    && Objects.equals(chart.subject.level(), value.subject().level()) && value.zone() != null) {
+            if (chart.resumedAt == Long.MIN_VALUE && chart.matches(value) && value.zone() != null) {
                 chart.up.resume(value.upper());
                 chart.down.resume(value.lower());
                 chart.upStart = value.upperStart() == null ? Long.MIN_VALUE : value.upperStart().toEpochMilli();
@@ -205,8 +208,9 @@ public final class OddsRatioCusumRule {
 
     /**
      * The readings the resumed charts gave at published final windows up to the one each was resumed
-     * from, in window order, with the zone and direction the entry names: the episode lifecycle
-     * replays them (publishing nothing) so its runs stand where they stood in the uninterrupted run.
+     * from, chart by chart, each in window order, with the zone and direction the entry names: the
+     * episode lifecycle replays them (publishing nothing; {@code AlertEngine.resumeCharts} puts all
+     * charts' readings in window order) so its runs stand where they stood in the uninterrupted run.
      */
     public List<Reading> publishedReadings(NavigableMap<Instant, List<StepCusumValue>> published) {
         List<Reading> out = new ArrayList<>();
@@ -216,8 +220,7 @@ public final class OddsRatioCusumRule {
             }
             for (var e : published.headMap(Instant.ofEpochMilli(chart.resumedAt), true).entrySet()) {
                 for (StepCusumValue v : e.getValue()) {
-                    if (v.zone() != null && chart.subject.term().equals(v.subject().term())
-                            && Objects.equals(chart.subject.level(), v.subject().level())) {
+                    if (v.zone() != null && chart.matches(v)) {
                         Zone zone = Zone.valueOf(v.zone().toUpperCase(Locale.ROOT));
                         double high = Math.max(v.upper(), v.lower());
                         out.add(new Reading(NAME, chart.subject, zone, v.direction(), 1, clearAfter, e.getKey(),
@@ -227,7 +230,6 @@ public final class OddsRatioCusumRule {
                 }
             }
         }
-        out.sort(Comparator.comparing(Reading::windowEnd));
         return out;
     }
 

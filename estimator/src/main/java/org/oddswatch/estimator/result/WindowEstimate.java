@@ -63,6 +63,16 @@ public record WindowEstimate(String stream, Instant windowStart, Instant windowE
                 coefficients, calibration, notes, driftValues, cusumValues, stepCusumValues);
     }
 
+    /**
+     * This estimate with its chart values ({@code drift}, {@code cusum}, {@code stepCusum}) and counts
+     * only, the figures left out: what a restart keeps of many published estimates to continue its
+     * charts from.
+     */
+    public WindowEstimate chartsOnly() {
+        return new WindowEstimate(stream, windowStart, windowEnd, status, events, cases, null, null, null, null, null,
+                null, drift, cusum, stepCusum);
+    }
+
     /** The coefficient of {@code term} (and {@code level}, which may be null), or null. */
     public CoefficientEstimate coefficient(String term, String level) {
         for (CoefficientEstimate c : coefficients) {

@@ -160,7 +160,7 @@ public final class MonitorPipeline {
             restore(stream, restore);
         }
         if (chartHistory != null) {
-            stream.baseline.resumeCharts(chartHistory.of(name), chartHistory.stepsOf(name), chartsRereadFrom);
+            stream.baseline.resumeCharts(chartHistory.of(name), chartsRereadFrom);
         }
         route.streams.put(splitValue, stream);
         streamsByName.put(name, stream);
@@ -288,7 +288,7 @@ public final class MonitorPipeline {
         chartHistory = published;
         chartsRereadFrom = rereadFromMillis;
         for (StreamState stream : streamsByName.values()) {
-            stream.baseline.resumeCharts(published.of(stream.name), published.stepsOf(stream.name), rereadFromMillis);
+            stream.baseline.resumeCharts(published.of(stream.name), rereadFromMillis);
         }
     }
 

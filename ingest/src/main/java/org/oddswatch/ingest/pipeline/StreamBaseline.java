@@ -14,8 +14,6 @@ import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.rules.CusumReading;
 import org.oddswatch.estimator.WindowEstimator;
 import org.oddswatch.estimator.calibration.BaselineModel;
-import org.oddswatch.estimator.result.CusumValue;
-import org.oddswatch.estimator.result.StepCusumValue;
 import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.estimator.window.WindowGeometry;
 import org.oddswatch.estimator.window.WindowStore;
@@ -163,10 +161,9 @@ final class StreamBaseline {
     }
 
     /** Continues the CUSUM charts from the first window the rebuild re-reads whole (a fixed period is re-read). */
-    void resumeCharts(NavigableMap<Instant, List<CusumValue>> published,
-                      NavigableMap<Instant, List<StepCusumValue>> publishedSteps, long rereadFromMillis) {
+    void resumeCharts(NavigableMap<Instant, WindowEstimate> published, long rereadFromMillis) {
         if (engine != null && rereadFromMillis <= Long.MAX_VALUE - geometry.widthMillis()) {
-            engine.resumeCharts(published, publishedSteps, rereadFromMillis + geometry.widthMillis());
+            engine.resumeCharts(published, rereadFromMillis + geometry.widthMillis());
         }
     }
 

@@ -24,6 +24,7 @@ import org.oddswatch.alerts.json.Json;
 import org.oddswatch.alerts.lifecycle.Alert;
 import org.oddswatch.alerts.live.LiveHistory;
 import org.oddswatch.alerts.live.RecentFinals;
+import org.oddswatch.estimator.result.WindowEstimate;
 import org.oddswatch.ingest.definition.MonitorConfig;
 import org.oddswatch.ingest.definition.MonitorDefinition;
 import org.oddswatch.ingest.kafka.BoundedTopicReader;
@@ -226,7 +227,11 @@ final class RebuildPlanner {
         Set<String> topics = monitors.stream().map(m -> m.outputs().estimatesTopic())
                 .collect(Collectors.toCollection(TreeSet::new));
         readBack(topics, Math.max(0, from), r -> {
-            if (r.value() != null && !(charts.add(r.value()) & finals.add(r.value()))) {
+            WindowEstimate estimate = r.value() == null ? null : RecentFinals.parse(r.value());
+            if (estimate != null) {
+                charts.add(estimate);
+                finals.add(estimate, r.value());
+            } else if (r.value() != null) {
                 LOG.warn("skipping unreadable estimate at {}-{}@{}", r.topic(), r.partition(), r.offset());
             }
         });
