@@ -108,7 +108,7 @@ class CalibrationRuleTest {
 
     @Test
     void hosmerLemeshowAllowsForTheBaselinesError() {
-        // Source: R 4.x pchisq(27 / (1 + 2000 / 24000), 10, lower.tail = FALSE) = 0.005493234,
+        // Source: R 4.2.2 pchisq(27 / (1 + 2000 / 24000), 10, lower.tail = FALSE) = 0.005493234,
         // pchisq(31 / (1 + 2000 / 24000), 10, lower.tail = FALSE) = 0.001437702 and
         // qchisq(1 - 1e-4, 10) * (1 + 2000 / 24000) = 38.52768 (the statistic at which a window of 2,000
         // events against the fixture's baseline of 24,000 reaches p = 1e-4).

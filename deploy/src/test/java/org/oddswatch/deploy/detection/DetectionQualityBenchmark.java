@@ -116,16 +116,21 @@ class DetectionQualityBenchmark {
                 baseline: {from: 2026-01-05T00:00:00Z, to: 2026-03-30T00:00:00Z}
                 rules:
                   calibration: {}
-                  cusum: {}
+                  cusum: %s
             %s""";
 
     /**
      * Rule lines added to every monitor for a measurement away from the defaults (system properties):
      * {@code detection.drift} {@code on} or {@code off} lists the window z-rule explicitly (unset: the
      * defaults decide), {@code detection.falseAlarmsPerYear} sets the budget and {@code detection.budgetConfidence} its
-     * confidence against the baseline's error.
+     * confidence against the baseline's error; {@code detection.cusumUp} (below) the Bernoulli CUSUM's
+     * upper multiplier.
      */
     private static final String EXTRA_RULES = extraRules();
+
+    /** The Bernoulli CUSUM's section: {@code {}}, or {@code {up: R}} with {@code -Ddetection.cusumUp=R}. */
+    private static final String CUSUM = System.getProperty("detection.cusumUp", "").isEmpty() ? "{}"
+            : "{up: " + Double.parseDouble(System.getProperty("detection.cusumUp")) + "}";
 
     private static String extraRules() {
         StringBuilder b = new StringBuilder();
@@ -155,15 +160,17 @@ class DetectionQualityBenchmark {
     }
 
     private static final Setup HOUSE = new Setup("house scenario (1 monitor, weekly windows)",
-            SimulatedProgramme.house(), "monitors:\n" + MONITOR.formatted("respiratory", "", "P7D", EXTRA_RULES), 1,
+            SimulatedProgramme.house(),
+            "monitors:\n" + MONITOR.formatted("respiratory", "", "P7D", CUSUM, EXTRA_RULES), 1,
             Integer.getInteger("detection.years", 50), Integer.getInteger("detection.runs", 100), 7_000_000L, null,
             List.of("respiratory"), List.of("respiratory"));
 
     private static final Setup DISTRICTS = new Setup(
             "sixteen districts (programme monitor + 16 district streams, 28-day windows stepped weekly)",
-            SimulatedProgramme.districts(), "monitors:\n" + MONITOR.formatted("districts", "", "P28D", EXTRA_RULES)
+            SimulatedProgramme.districts(),
+            "monitors:\n" + MONITOR.formatted("districts", "", "P28D", CUSUM, EXTRA_RULES)
                     + MONITOR.formatted("districts-by-site", "    split: {field: /site, maxStreams: 16}", "P28D",
-                            EXTRA_RULES), 4,
+                            CUSUM, EXTRA_RULES), 4,
             Integer.getInteger("detection.districtYears", 16), Integer.getInteger("detection.districtRuns", 30),
             17_000_000L, "d01", List.of("districts-by-site/d01"), List.of("districts", "districts-by-site"));
 
