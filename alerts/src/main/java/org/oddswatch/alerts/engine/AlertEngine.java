@@ -9,6 +9,7 @@ import java.util.List;
 import java.util.Map;
 import java.util.NavigableMap;
 import java.util.TreeMap;
+import java.util.function.BiPredicate;
 import java.util.function.Function;
 import org.oddswatch.alerts.gaps.GapReason;
 import org.oddswatch.alerts.gaps.MonitoringGap;
@@ -337,23 +338,14 @@ public final class AlertEngine {
     public int resumeCharts(NavigableMap<Instant, WindowEstimate> published, long notBeforeMillis) {
         int resumed = 0;
         List<Reading> readings = new ArrayList<>();
-        NavigableMap<Instant, WindowEstimate> candidates = published.tailMap(Instant.ofEpochMilli(notBeforeMillis), true);
         if (cusum != null) {
             NavigableMap<Instant, List<CusumValue>> values = charts(published, WindowEstimate::cusum);
-            for (Map.Entry<Instant, List<CusumValue>> e : charts(candidates, WindowEstimate::cusum).entrySet()) {
-                for (CusumValue value : e.getValue()) {
-                    resumed += cusum.resume(e.getKey(), value) ? 1 : 0;
-                }
-            }
+            resumed += resume(values, notBeforeMillis, cusum::resume);
             readings.addAll(cusum.publishedReadings(values));
         }
         if (scoreCusum != null) {
             NavigableMap<Instant, List<StepCusumValue>> values = charts(published, WindowEstimate::stepCusum);
-            for (Map.Entry<Instant, List<StepCusumValue>> e : charts(candidates, WindowEstimate::stepCusum).entrySet()) {
-                for (StepCusumValue value : e.getValue()) {
-                    resumed += scoreCusum.resume(e.getKey(), value) ? 1 : 0;
-                }
-            }
+            resumed += resume(values, notBeforeMillis, scoreCusum::resume);
             readings.addAll(scoreCusum.publishedReadings(values));
         }
         // the windows a resumed chart will not read again: their readings after the newest message
@@ -364,6 +356,18 @@ public final class AlertEngine {
             Instant upTo = tracker.publishedUpTo(reading.key());
             if (upTo == null || reading.windowEnd().isAfter(upTo)) {
                 tracker.step(reading);
+            }
+        }
+        return resumed;
+    }
+
+    /** Offers a rule each value of the windows ending at or after {@code notBeforeMillis}, in window order; the charts resumed. */
+    private static <T> int resume(NavigableMap<Instant, List<T>> values, long notBeforeMillis,
+                                  BiPredicate<Instant, T> resume) {
+        int resumed = 0;
+        for (Map.Entry<Instant, List<T>> e : values.tailMap(Instant.ofEpochMilli(notBeforeMillis), true).entrySet()) {
+            for (T value : e.getValue()) {
+                resumed += resume.test(e.getKey(), value) ? 1 : 0;
             }
         }
         return resumed;
